@@ -1,0 +1,254 @@
+"""Detailed balance with reciprocity: photocurrent, radiative dark current, diode, maximum power.
+
+Pure functions on numpy arrays; every function broadcasts over leading dimensions, so a
+sweep over thousands of gap pairs is one call. Units: energy [eV], temperature [K],
+current density [A/m²], voltage [V], power [W/m²].
+
+References
+----------
+W. Shockley, H. J. Queisser, J. Appl. Phys. 32 (1961) 510, doi:10.1063/1.1736034.
+A. De Vos, J. Phys. D 13 (1980) 839, doi:10.1088/0022-3727/13/5/018.
+U. Rau, Phys. Rev. B 76 (2007) 085303, doi:10.1103/PhysRevB.76.085303 (reciprocity, ERE).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .units import BB_FLUX_PREFACTOR, K_B_EV, Q
+
+# --------------------------------------------------------------------------------------
+# Integrals over the spectrum
+# --------------------------------------------------------------------------------------
+
+
+def blackbody_photon_flux(energy_eV, temperature_K):
+    """Hemispherical blackbody photon flux per energy [m⁻² s⁻¹ eV⁻¹].
+
+    Φ_bb(E, T) = 2π/(h³c²) · E² / (exp(E/kT) − 1), the emission through one face into a
+    half-space (physics notes; Rau 2007 Eq. 1 with a = 1).
+    """
+    energy = np.asarray(energy_eV, dtype=float)
+    return BB_FLUX_PREFACTOR * energy**2 / np.expm1(energy / (K_B_EV * temperature_K))
+
+
+def photocurrent(energy_eV, flux, absorptance):
+    """Photocurrent density J_L = q ∫ a(E) Φ(E) dE [A/m²].
+
+    Parameters
+    ----------
+    energy_eV : (n,) array
+        Ascending energy grid [eV].
+    flux : (n,) array
+        Incident photon flux per energy [m⁻² s⁻¹ eV⁻¹].
+    absorptance : (..., n) array
+        Absorptance of the subcell at each energy [-]; leading dimensions broadcast.
+    """
+    return Q * np.trapezoid(np.asarray(absorptance) * flux, energy_eV, axis=-1)
+
+
+def radiative_dark_current(energy_eV, absorptance, temperature_K):
+    """Radiative saturation current by reciprocity, J0,rad = q ∫ a(E) Φ_bb(E, T) dE [A/m²].
+
+    The absorptance must be the one the subcell has in its place in the stack (its light
+    comes and goes through the same front), so that emission and absorption agree (Rau 2007).
+    """
+    return Q * np.trapezoid(
+        np.asarray(absorptance) * blackbody_photon_flux(energy_eV, temperature_K),
+        energy_eV,
+        axis=-1,
+    )
+
+
+def cumulative_flux(energy_eV, flux):
+    """Running integral ∫_{E0}^{E_i} Φ dE on the grid (trapezoid rule) [m⁻² s⁻¹].
+
+    Computed once per spectrum; :func:`flux_above` then answers any number of gaps.
+    """
+    steps = 0.5 * (flux[1:] + flux[:-1]) * np.diff(energy_eV)
+    return np.concatenate(([0.0], np.cumsum(steps)))
+
+
+def flux_above(energy_eV, flux, gap_eV, cumulative=None):
+    """Photon flux above each gap, ∫_{Eg}^{E_max} Φ dE [m⁻² s⁻¹], for any array of gaps.
+
+    Exact for the piecewise-linear interpolant of Φ, so a gap between grid points gets
+    its partial interval, and the result agrees with the trapezoid rule at grid points.
+    """
+    energy = np.asarray(energy_eV, dtype=float)
+    if cumulative is None:
+        cumulative = cumulative_flux(energy, flux)
+    gap = np.asarray(gap_eV, dtype=float)
+    i = np.clip(np.searchsorted(energy, gap, side="right") - 1, 0, energy.size - 2)
+    width = energy[i + 1] - energy[i]
+    t = gap - energy[i]
+    slope = (flux[i + 1] - flux[i]) / width
+    partial = t * flux[i] + 0.5 * t**2 * slope  # ∫ from E_i to Eg of the linear interpolant
+    return cumulative[-1] - (cumulative[i] + partial)
+
+
+def step_photocurrent(photon_flux, gap_eV, upper_gap_eV=None, cumulative=None):
+    """Photocurrent [A/m²] of a step absorber (a = 1 above the gap, 0 below).
+
+    With ``upper_gap_eV`` the absorber sees only photons between the two gaps, as the back
+    cell of a stack whose front cell is an ideal step absorber.
+    """
+    e, phi = photon_flux.energy, photon_flux.flux
+    if cumulative is None:
+        cumulative = cumulative_flux(e, phi)
+    current = flux_above(e, phi, gap_eV, cumulative)
+    if upper_gap_eV is not None:
+        current = current - flux_above(e, phi, upper_gap_eV, cumulative)
+    return Q * current
+
+
+def _bose_tail(x, terms=16):
+    """∫_x^∞ t²/(eᵗ − 1) dt by the series Σ_k e^{−kx} (x²/k + 2x/k² + 2/k³); x > 0.
+
+    x = +inf gives 0 (no band above an infinite edge).
+    """
+    x = np.asarray(x, dtype=float)
+    finite = np.where(np.isfinite(x), x, 0.0)
+    total = np.zeros_like(finite)
+    for k in range(1, terms + 1):
+        total += np.exp(-k * finite) * (finite**2 / k + 2 * finite / k**2 + 2 / k**3)
+    return np.where(np.isfinite(x), total, 0.0)
+
+
+def step_radiative_dark_current(gap_eV, temperature_K, upper_gap_eV=None):
+    """J0,rad [A/m²] of a step absorber, from the closed form of the blackbody integral.
+
+    J0,rad = q · 2π/(h³c²) · (kT)³ · ∫_{Eg/kT}^{∞} t²/(eᵗ−1) dt; the series converges
+    geometrically for Eg ≫ kT (16 terms: exact to double precision for Eg/kT > 2.5).
+    With ``upper_gap_eV`` only emission between the two gaps counts (the back cell of a
+    stack whose front cell absorbs everything above its own gap).
+    """
+    kt = K_B_EV * np.asarray(temperature_K, dtype=float)
+    tail = _bose_tail(np.asarray(gap_eV) / kt)
+    if upper_gap_eV is not None:
+        tail = tail - _bose_tail(np.asarray(upper_gap_eV) / kt)
+    return Q * BB_FLUX_PREFACTOR * kt**3 * tail
+
+
+# --------------------------------------------------------------------------------------
+# Diodes and maximum power
+# --------------------------------------------------------------------------------------
+
+
+def thermal_voltage(temperature_K, ideality=1.0):
+    """n·kT/q [V]."""
+    return ideality * K_B_EV * np.asarray(temperature_K, dtype=float)
+
+
+def dark_current(j0_radiative, ere):
+    """Saturation current with non-radiative loss, J0 = J0,rad / ERE [A/m²] (Rau 2007)."""
+    return np.asarray(j0_radiative) / np.asarray(ere)
+
+
+def diode_current(voltage, j_light, j0, temperature_K, ideality=1.0):
+    """J(V) = J_L − J0·(exp(qV/(nkT)) − 1) [A/m²]."""
+    return j_light - j0 * np.expm1(voltage / thermal_voltage(temperature_K, ideality))
+
+
+def diode_voltage(current, j_light, j0, temperature_K, ideality=1.0):
+    """V(J) = (nkT/q)·ln((J_L − J)/J0 + 1) [V], the inverse of :func:`diode_current`.
+
+    Defined for J < J_L + J0; the ideal diode has no reverse breakdown.
+    """
+    return thermal_voltage(temperature_K, ideality) * np.log1p((j_light - current) / j0)
+
+
+def open_circuit_voltage(j_light, j0, temperature_K, ideality=1.0):
+    """Voc = (nkT/q)·ln(J_L/J0 + 1) [V]."""
+    return diode_voltage(0.0, j_light, j0, temperature_K, ideality)
+
+
+def _solve_w_plus_log_w(y):
+    """w with w + ln w = y for y ≥ 1 (i.e. w = W(eʸ), the Lambert W of a huge argument).
+
+    Newton's method from w = y − ln y; works in logarithms so that eʸ never overflows.
+    """
+    w = np.maximum(y - np.log(y), 1.0)
+    for _ in range(8):
+        w = w - (w + np.log(w) - y) / (1.0 + 1.0 / w)
+    return w
+
+
+def single_junction_mpp(j_light, j0, temperature_K, ideality=1.0):
+    """Maximum power point of an ideal diode, in closed form.
+
+    Returns
+    -------
+    j_mp [A/m²], v_mp [V], p_mp [W/m²]
+
+    Notes
+    -----
+    dP/dV = 0 gives e^v (1 + v) = 1 + J_L/J0 with v = qV/(nkT), so
+    1 + v = W(e·(1 + J_L/J0)) and J_mp = (J_L + J0)·v/(1 + v).
+    """
+    j_light = np.asarray(j_light, dtype=float)
+    y = 1.0 + np.log1p(j_light / j0)
+    v = _solve_w_plus_log_w(y) - 1.0
+    vt = thermal_voltage(temperature_K, ideality)
+    v_mp = vt * v
+    j_mp = (j_light + j0) * v / (1.0 + v)
+    return j_mp, v_mp, j_mp * v_mp
+
+
+def series_voltage(current, j_light, j0, temperature_K, ideality=1.0):
+    """Voltage of series-connected ideal diodes carrying one current [V].
+
+    ``j_light`` and ``j0`` have the subcells on their last axis; ``current`` broadcasts
+    against the leading axes.
+    """
+    current = np.asarray(current, dtype=float)[..., None]
+    vt = thermal_voltage(temperature_K, ideality)
+    vt = vt[..., None] if np.ndim(vt) else vt
+    return np.sum(vt * np.log1p((j_light - current) / j0), axis=-1)
+
+
+def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=60):
+    """Maximum power point of series-connected ideal diodes (a two-terminal stack).
+
+    Parameters
+    ----------
+    j_light, j0 : (..., m) arrays
+        Photocurrent and saturation current of each of the m subcells [A/m²].
+
+    Returns
+    -------
+    j_mp [A/m²], v_mp [V], p_mp [W/m²]
+
+    Notes
+    -----
+    P(J) = J·ΣV_i(J) with V_i = (nkT/q)·ln((J_L,i − J)/J0,i + 1) is strictly concave on
+    0 < J < min J_L,i (V_i' < 0 and V_i'' < 0), so P'(J) = ΣV_i − J·Σ nkT/q/(J_L,i − J + J0,i)
+    has one root. It is found by Newton steps kept inside a shrinking bracket (falling back
+    to bisection), all points at once.
+    """
+    j_light = np.asarray(j_light, dtype=float)
+    j0 = np.asarray(j0, dtype=float)
+    vt = thermal_voltage(temperature_K, ideality)
+    vt = vt[..., None] if np.ndim(vt) else vt
+    lo = np.zeros(np.broadcast_shapes(j_light.shape, j0.shape)[:-1])
+    hi = np.min(j_light, axis=-1) + 0.0 * lo
+    # Start near the limiting cell's own maximum power point.
+    j = np.min(single_junction_mpp(j_light, j0, vt / K_B_EV, 1.0)[0], axis=-1) + 0.0 * lo
+    for _ in range(iterations):
+        d = j_light - j[..., None] + j0
+        volt = np.sum(vt * np.log(d / j0), axis=-1)
+        inv = np.sum(vt / d, axis=-1)
+        inv2 = np.sum(vt / d**2, axis=-1)
+        slope = volt - j * inv  # P'(J)
+        curvature = -2.0 * inv - j * inv2  # P''(J) < 0
+        lo = np.where(slope > 0, j, lo)
+        hi = np.where(slope > 0, hi, j)
+        step = j - slope / curvature
+        inside = (step > lo) & (step < hi)
+        new = np.where(inside, step, 0.5 * (lo + hi))
+        if np.all(np.abs(new - j) <= 1e-13 * np.maximum(hi, 1e-300)):
+            j = new
+            break
+        j = new
+    v = series_voltage(j, j_light, j0, vt[..., 0] / K_B_EV if np.ndim(vt) else vt / K_B_EV)
+    return j, v, j * v

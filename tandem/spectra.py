@@ -1,0 +1,319 @@
+"""Incident spectra: ASTM G173-03 through pvlib, blackbody suns, user CSV files.
+
+A :class:`Spectrum` holds spectral irradiance on a wavelength grid [nm, W m⁻² nm⁻¹]; the
+engine works with :class:`PhotonFlux`, the same light as photon flux per energy on an
+ascending energy grid [eV, m⁻² s⁻¹ eV⁻¹].
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .errors import TandemInputError
+from .units import BB_FLUX_PREFACTOR, HC_EV_NM, K_B_EV, Q, SUN_DILUTION
+
+#: Names of the bundled reference spectra and the pvlib column of ASTM G173-03 for each.
+REFERENCE_SPECTRA = {
+    "am1.5g": ("global", "ASTM G173-03 global tilt (AM1.5G)"),
+    "am1.5d": ("direct", "ASTM G173-03 direct + circumsolar (AM1.5D)"),
+    "am0": ("extraterrestrial", "ASTM G173-03 extraterrestrial (AM0)"),
+}
+
+
+@dataclass(frozen=True)
+class Spectrum:
+    """Spectral irradiance on an ascending wavelength grid.
+
+    Attributes
+    ----------
+    name : str
+        Human-readable name, also written to reports.
+    wavelength_nm : ndarray
+        Strictly ascending wavelengths [nm].
+    irradiance : ndarray
+        Spectral irradiance [W m⁻² nm⁻¹], finite and non-negative.
+    notes : tuple of str
+        Every change made to the source data (scaling, concentration), for reports.
+    """
+
+    name: str
+    wavelength_nm: np.ndarray
+    irradiance: np.ndarray
+    notes: tuple[str, ...] = field(default=())
+
+    @property
+    def integrated_irradiance(self) -> float:
+        """Irradiance [W/m²]: trapezoid rule on the spectrum's own wavelength grid."""
+        return float(np.trapezoid(self.irradiance, self.wavelength_nm))
+
+    @property
+    def energy_range_eV(self) -> tuple[float, float]:
+        """Lowest and highest photon energy on the grid [eV]."""
+        return HC_EV_NM / float(self.wavelength_nm[-1]), HC_EV_NM / float(self.wavelength_nm[0])
+
+    def photon_flux(self) -> PhotonFlux:
+        """The same light as photon flux per energy on an ascending energy grid.
+
+        Notes
+        -----
+        Φ(E) = I(λ)·λ/(hc)·|dλ/dE| with |dλ/dE| = hc/E², evaluated at the spectrum's own
+        points (no resampling), so that the photon count is preserved to the accuracy of
+        the trapezoid rule on either grid.
+        """
+        energy = HC_EV_NM / self.wavelength_nm[::-1]
+        irradiance = self.irradiance[::-1]
+        # photons per nm: I / (E q); per eV: times |dλ/dE| = hc/E² [nm/eV]
+        flux = irradiance / (energy * Q) * HC_EV_NM / energy**2
+        return PhotonFlux(
+            name=self.name,
+            energy=energy,
+            flux=flux,
+            irradiance=self.integrated_irradiance,
+            notes=self.notes,
+        )
+
+
+@dataclass(frozen=True)
+class PhotonFlux:
+    """Photon flux per energy on an ascending energy grid.
+
+    Attributes
+    ----------
+    name : str
+        Name of the spectrum it came from.
+    energy : ndarray
+        Ascending photon energies [eV].
+    flux : ndarray
+        Photon flux per energy [m⁻² s⁻¹ eV⁻¹].
+    irradiance : float
+        Incident power used as the efficiency denominator [W/m²].
+    notes : tuple of str
+        Changes made to the source spectrum (scaling, concentration).
+    """
+
+    name: str
+    energy: np.ndarray
+    flux: np.ndarray
+    irradiance: float
+    notes: tuple[str, ...] = field(default=())
+
+    def check_gap(self, gap_eV, what: str = "gap") -> None:
+        """Raise :class:`TandemInputError` unless every gap lies inside the grid."""
+        gaps = np.atleast_1d(np.asarray(gap_eV, dtype=float))
+        lo, hi = float(self.energy[0]), float(self.energy[-1])
+        bad = gaps[~((gaps > lo) & (gaps < hi))]
+        if bad.size:
+            g = float(bad[0])
+            if not g > 0:
+                raise TandemInputError(f"{what} {g:g} eV: a band gap must be a positive energy in eV")
+            raise TandemInputError(
+                f"{what} {g:g} eV lies outside the spectrum '{self.name}' "
+                f"({lo:.3f}–{hi:.3f} eV, {HC_EV_NM / hi:.0f}–{HC_EV_NM / lo:.0f} nm); "
+                "choose a gap inside it or a spectrum that covers it"
+            )
+
+
+@functools.lru_cache(maxsize=1)
+def _astm_g173():
+    import pvlib  # imported lazily: it is slow to import and only needed here
+
+    table = pvlib.spectrum.get_reference_spectra(standard="ASTM G173-03")
+    return table
+
+
+def reference_spectrum(name: str = "am1.5g") -> Spectrum:
+    """One of the ASTM G173-03 reference spectra, read through ``pvlib``.
+
+    Parameters
+    ----------
+    name : {'am1.5g', 'am1.5d', 'am0'}
+        Global tilt (1000.37 W/m²), direct + circumsolar (900.14 W/m²) or
+        extraterrestrial (1347.9 W/m² within 280–4000 nm).
+
+    References
+    ----------
+    ASTM G173-03, Standard Tables for Reference Solar Spectral Irradiances (2003, reapproved 2012).
+    """
+    key = name.lower()
+    if key not in REFERENCE_SPECTRA:
+        choices = ", ".join(REFERENCE_SPECTRA)
+        raise TandemInputError(f"spectrum '{name}' is unknown; choose one of {choices}, "
+                               "'blackbody', or a CSV file path")
+    column, title = REFERENCE_SPECTRA[key]
+    table = _astm_g173()
+    return Spectrum(
+        name=title,
+        wavelength_nm=table.index.to_numpy(dtype=float),
+        irradiance=table[column].to_numpy(dtype=float),
+    )
+
+
+def blackbody_sun(
+    temperature_K: float = 6000.0,
+    concentration: float = 1.0,
+    dilution: float = SUN_DILUTION,
+    energy_step_eV: float = 0.001,
+) -> Spectrum:
+    """A blackbody sun seen from the earth, optionally concentrated.
+
+    Parameters
+    ----------
+    temperature_K : float
+        Sun temperature [K]; 6000 K in De Vos (1980), 5772 K is the effective temperature.
+    concentration : float
+        Concentration ratio X, from 1 up to the maximum 1/dilution (≈ 46,200).
+    dilution : float
+        Geometric factor f = (R_sun/d)² [-], ≈ 2.16e-5.
+    energy_step_eV : float
+        Spacing of the (uniform-in-energy) grid [eV].
+
+    Notes
+    -----
+    Spectral irradiance I(λ) = f·X·2πhc²/λ⁵ / (exp(hc/(λkT)) − 1), i.e. the hemispherical
+    emission of a blackbody diluted by f and concentrated X times.
+
+    References
+    ----------
+    A. De Vos, J. Phys. D 13 (1980) 839, doi:10.1088/0022-3727/13/5/018.
+    """
+    if not temperature_K > 0 or not math.isfinite(temperature_K):
+        raise TandemInputError(f"sun temperature {temperature_K:g} K: give a positive temperature in K")
+    max_x = 1.0 / dilution
+    if not 0 < concentration <= max_x * (1 + 1e-9):
+        raise TandemInputError(
+            f"concentration {concentration:g}: must lie in (0, {max_x:,.0f}] (the thermodynamic "
+            "maximum 1/f); give a smaller --concentration"
+        )
+    kt = K_B_EV * temperature_K
+    # 0.02 eV to 30 kT covers all but ~1e-9 of the sun's power and photons.
+    energy = np.arange(0.02, 30 * kt, energy_step_eV)
+    flux = dilution * concentration * BB_FLUX_PREFACTOR * energy**2 / np.expm1(energy / kt)
+    wavelength = HC_EV_NM / energy[::-1]
+    # back from photons per eV to watts per nm: I = Φ · E q · E²/hc
+    e_rev = energy[::-1]
+    irradiance = flux[::-1] * e_rev * Q * e_rev**2 / HC_EV_NM
+    name = f"blackbody sun {temperature_K:g} K"
+    notes = ()
+    if concentration == 1:
+        name += ", one sun"
+    else:
+        name += f", {concentration:g} suns"
+        notes = (f"blackbody concentrated {concentration:g}× (maximum {max_x:,.0f}×)",)
+    return Spectrum(name=name, wavelength_nm=wavelength, irradiance=irradiance, notes=notes)
+
+
+def read_spectrum_csv(path: str | Path) -> Spectrum:
+    """Read a user's two-column spectrum: wavelength [nm], spectral irradiance [W m⁻² nm⁻¹].
+
+    Columns are separated by a comma, semicolon, tab or spaces; one header line is allowed;
+    lines starting with ``#`` are comments. Wavelengths must rise strictly; irradiance must
+    be finite and non-negative. Any bad row raises :class:`TandemInputError` naming it.
+    """
+    path = Path(path)
+    if not path.is_file():
+        raise TandemInputError(f"spectrum file '{path}' not found; give the path of a CSV file "
+                               "with wavelength [nm] and irradiance [W m^-2 nm^-1] columns")
+    try:
+        lines = path.read_text(encoding="utf-8-sig").splitlines()
+    except (OSError, UnicodeDecodeError) as exc:
+        raise TandemInputError(f"spectrum file '{path}' cannot be read as text ({exc}); "
+                               "save it as a UTF-8 CSV file") from None
+    rows: list[tuple[float, float]] = []
+    header_seen = False
+    for number, raw in enumerate(lines, start=1):
+        line = raw.strip()
+        if not line or line.startswith("#"):
+            continue
+        cells = [c for c in line.replace(";", ",").replace("\t", ",").replace(" ", ",").split(",") if c]
+        where = f"spectrum file '{path}', row {number}"
+        try:
+            values = [float(c) for c in cells]
+        except ValueError:
+            if not rows and not header_seen:
+                header_seen = True
+                continue
+            raise TandemInputError(f"{where}: '{line}' is not two numbers; give wavelength [nm] "
+                                   "and irradiance [W m^-2 nm^-1]") from None
+        if len(values) != 2:
+            raise TandemInputError(f"{where}: has {len(values)} columns; give exactly two, "
+                                   "wavelength [nm] and irradiance [W m^-2 nm^-1]")
+        wl, irr = values
+        if not (math.isfinite(wl) and math.isfinite(irr)):
+            raise TandemInputError(f"{where}: value is not finite; replace it with a number")
+        if wl <= 0:
+            raise TandemInputError(f"{where}: wavelength {wl:g} nm must be positive")
+        if irr < 0:
+            raise TandemInputError(f"{where}: irradiance {irr:g} is negative; spectral "
+                                   "irradiance must be zero or more")
+        if rows and wl <= rows[-1][0]:
+            raise TandemInputError(f"{where}: wavelength {wl:g} nm does not rise above the "
+                                   f"previous row's {rows[-1][0]:g} nm; sort by wavelength and "
+                                   "remove duplicates")
+        rows.append((wl, irr))
+    if len(rows) < 2:
+        raise TandemInputError(f"spectrum file '{path}': needs at least two data rows of "
+                               "wavelength [nm] and irradiance [W m^-2 nm^-1]")
+    data = np.array(rows)
+    spectrum = Spectrum(name=path.name, wavelength_nm=data[:, 0], irradiance=data[:, 1])
+    if not spectrum.integrated_irradiance > 0:
+        raise TandemInputError(f"spectrum file '{path}': irradiance is zero everywhere; "
+                               "check the second column")
+    return spectrum
+
+
+def scaled(spectrum: Spectrum, factor: float, why: str) -> Spectrum:
+    """The spectrum multiplied by ``factor``, with the reason kept in its notes."""
+    if not (factor > 0 and math.isfinite(factor)):
+        raise TandemInputError(f"scaling factor {factor:g}: must be a positive number")
+    return Spectrum(
+        name=spectrum.name,
+        wavelength_nm=spectrum.wavelength_nm,
+        irradiance=spectrum.irradiance * factor,
+        notes=spectrum.notes + (why,),
+    )
+
+
+def scaled_to_irradiance(spectrum: Spectrum, target_W_m2: float) -> Spectrum:
+    """The spectrum scaled so that it integrates to ``target_W_m2``; the scaling is noted."""
+    if not (target_W_m2 > 0 and math.isfinite(target_W_m2)):
+        raise TandemInputError(f"irradiance target {target_W_m2:g} W/m²: give a positive value")
+    before = spectrum.integrated_irradiance
+    return scaled(spectrum, target_W_m2 / before,
+                  f"scaled from {before:.2f} to {target_W_m2:.2f} W/m²")
+
+
+def load_spectrum(
+    source: str = "am1.5g",
+    *,
+    sun_temperature_K: float = 6000.0,
+    concentration: float = 1.0,
+    target_irradiance_W_m2: float | None = None,
+) -> Spectrum:
+    """Resolve a spectrum as the user names it: a reference name, 'blackbody' or a CSV path.
+
+    Concentration multiplies the spectrum (for the blackbody it raises the solid angle of
+    the sun, capped at the thermodynamic maximum). A target irradiance rescales the result;
+    both changes are recorded in ``Spectrum.notes``, never applied silently.
+    """
+    if not (concentration > 0 and math.isfinite(concentration)):
+        raise TandemInputError(f"concentration {concentration:g}: give a positive number of suns")
+    key = str(source).lower()
+    if key == "blackbody":
+        spectrum = blackbody_sun(sun_temperature_K, concentration)
+    else:
+        if key in REFERENCE_SPECTRA:
+            spectrum = reference_spectrum(key)
+        elif key.endswith((".csv", ".txt", ".dat")) or Path(source).exists():
+            spectrum = read_spectrum_csv(source)
+        else:
+            spectrum = reference_spectrum(key)  # raises with the list of valid names
+        if concentration != 1:
+            spectrum = scaled(spectrum, concentration, f"concentrated {concentration:g}×")
+    if target_irradiance_W_m2 is not None:
+        spectrum = scaled_to_irradiance(spectrum, target_irradiance_W_m2)
+    return spectrum

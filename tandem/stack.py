@@ -1,0 +1,235 @@
+"""Single junctions and two-junction stacks: two-terminal (series) and four-terminal.
+
+:func:`evaluate_stack` takes photocurrents and saturation currents of each subcell, so it
+serves step absorbers (:func:`step_stack`) and the optics model alike. Arrays carry the
+subcells on their last axis, front (sunward) first; any leading shape is a sweep.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+
+from . import detailed_balance as db
+from .errors import TandemInputError
+from .spectra import PhotonFlux
+
+SUBCELL_NAMES = ("front", "back")
+
+
+@dataclass(frozen=True)
+class StackPerformance:
+    """Arrays describing a sweep of stacks; subcells on the last axis where it applies.
+
+    Currents [A/m²], voltages [V], powers [W/m²], efficiencies as fractions.
+    """
+
+    j_light: np.ndarray  #: (..., m) photocurrent of each subcell in place
+    j0: np.ndarray  #: (..., m) saturation current of each subcell (J0,rad/ERE)
+    voc: np.ndarray  #: (..., m) open-circuit voltage of each subcell alone
+    p_own: np.ndarray  #: (..., m) each subcell at its own maximum power point
+    j_own: np.ndarray  #: (..., m) current at each subcell's own maximum power point
+    v_own: np.ndarray  #: (..., m) voltage at each subcell's own maximum power point
+    j_2t: np.ndarray  #: (...) current at the series maximum power point
+    v_2t: np.ndarray  #: (...) voltage at the series maximum power point
+    p_2t: np.ndarray  #: (...) series (two-terminal) maximum power
+    v_2t_sub: np.ndarray  #: (..., m) each subcell's voltage at the series maximum power point
+    irradiance: float  #: incident power [W/m²]
+
+    @property
+    def p_4t(self) -> np.ndarray:
+        """Four-terminal power: every subcell at its own maximum power point [W/m²]."""
+        return np.sum(self.p_own, axis=-1)
+
+    @property
+    def efficiency_2t(self) -> np.ndarray:
+        return self.p_2t / self.irradiance
+
+    @property
+    def efficiency_4t(self) -> np.ndarray:
+        return self.p_4t / self.irradiance
+
+    @property
+    def jsc_2t(self) -> np.ndarray:
+        """Short-circuit current of the series stack: the lowest photocurrent (ideal diodes)."""
+        return np.min(self.j_light, axis=-1)
+
+    @property
+    def voc_2t(self) -> np.ndarray:
+        return np.sum(self.voc, axis=-1)
+
+    @property
+    def ff_own(self) -> np.ndarray:
+        return self.p_own / (self.voc * self.j_light)
+
+    @property
+    def ff_2t(self) -> np.ndarray:
+        return self.p_2t / (self.voc_2t * self.jsc_2t)
+
+    @property
+    def limiting_index(self) -> np.ndarray:
+        """Index of the subcell with the lowest photocurrent (0 = front)."""
+        return np.argmin(self.j_light, axis=-1)
+
+    @property
+    def mismatch(self) -> np.ndarray:
+        """Current mismatch (J_L,high − J_L,low)/J_L,low [-]."""
+        low = np.min(self.j_light, axis=-1)
+        return (np.max(self.j_light, axis=-1) - low) / low
+
+
+def evaluate_stack(j_light, j0, temperature_K, irradiance, ideality=1.0) -> StackPerformance:
+    """Two- and four-terminal maximum power of stacks of ideal diodes.
+
+    Parameters
+    ----------
+    j_light, j0 : (..., m) arrays
+        Photocurrent and saturation current of each subcell [A/m²], front first.
+    temperature_K : float
+        Cell temperature [K].
+    irradiance : float
+        Incident power [W/m²], the efficiency denominator.
+    ideality : float
+        Diode ideality factor n [-].
+    """
+    j_light = np.asarray(j_light, dtype=float)
+    j0 = np.asarray(j0, dtype=float)
+    j_own, v_own, p_own = db.single_junction_mpp(j_light, j0, temperature_K, ideality)
+    voc = db.open_circuit_voltage(j_light, j0, temperature_K, ideality)
+    if j_light.shape[-1] == 1:
+        j_2t, v_2t, p_2t = j_own[..., 0], v_own[..., 0], p_own[..., 0]
+        v_2t_sub = v_own
+    else:
+        j_2t, v_2t, p_2t = db.series_mpp(j_light, j0, temperature_K, ideality)
+        v_2t_sub = db.diode_voltage(j_2t[..., None], j_light, j0, temperature_K, ideality)
+    return StackPerformance(j_light, j0, voc, p_own, j_own, v_own, j_2t, v_2t, p_2t,
+                            v_2t_sub, float(irradiance))
+
+
+def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0):
+    """Detailed-balance stacks of step absorbers; ``gaps`` has subcells on its last axis.
+
+    Each subcell absorbs every photon between its own gap and the gap of the cell in front
+    of it, and by reciprocity emits (radiatively) in the same band (De Vos 1980).
+    ``ere`` broadcasts against ``gaps`` (one value, or one per subcell).
+    """
+    gaps = np.asarray(gaps, dtype=float)
+    cumulative = db.cumulative_flux(photon_flux.energy, photon_flux.flux)
+    upper = np.concatenate([np.full(gaps.shape[:-1] + (1,), np.inf), gaps[..., :-1]], axis=-1)
+    upper_finite = np.where(np.isinf(upper), photon_flux.energy[-1], upper)
+    j_light = db.step_photocurrent(photon_flux, gaps, upper_finite, cumulative)
+    j0_rad = db.step_radiative_dark_current(gaps, temperature_K, upper)
+    return evaluate_stack(j_light, db.dark_current(j0_rad, ere), temperature_K,
+                          photon_flux.irradiance, ideality)
+
+
+# --------------------------------------------------------------------------------------
+# One design, checked and described for people
+# --------------------------------------------------------------------------------------
+
+
+def check_temperature(temperature_K: float, what: str = "temperature") -> None:
+    if not (math.isfinite(temperature_K) and 0 < temperature_K < 1000):
+        raise TandemInputError(f"{what} {temperature_K:g} K: give a cell temperature in kelvin "
+                               "between 0 and 1000 (298.15 K is 25 °C)")
+
+
+def check_ere(ere: Sequence[float], n_subcells: int) -> np.ndarray:
+    """ERE values, one per subcell; one value serves all. Each must lie in (0, 1]."""
+    values = [float(x) for x in ere]
+    if len(values) == 1:
+        values = values * n_subcells
+    if len(values) != n_subcells:
+        raise TandemInputError(f"--ere has {len(values)} values for {n_subcells} subcells; "
+                               "give one value, or one per subcell, front first")
+    for v in values:
+        if not (0 < v <= 1):
+            raise TandemInputError(f"ERE {v:g} is outside (0, 1]; the external radiative "
+                                   "efficiency is a fraction, 1 in the radiative limit")
+    return np.array(values)
+
+
+def check_gap_order(gaps: Sequence[float]) -> None:
+    for name, g in zip(("front gap", "back gap"), gaps):
+        if not (math.isfinite(g) and g > 0):
+            raise TandemInputError(f"{name} {g:g} eV: a band gap must be a positive energy in eV")
+
+
+@dataclass(frozen=True)
+class DesignResult:
+    """One stack (or single junction) under one spectrum, ready to report."""
+
+    gaps_eV: tuple[float, ...]
+    terminals: int
+    temperature_K: float
+    ere: tuple[float, ...]
+    spectrum_name: str
+    spectrum_notes: tuple[str, ...]
+    performance: StackPerformance  # shape (m,) arrays for one design
+
+    @property
+    def n_subcells(self) -> int:
+        return len(self.gaps_eV)
+
+    @property
+    def power(self) -> float:
+        perf = self.performance
+        return float(perf.p_2t if self.terminals == 2 else perf.p_4t)
+
+    @property
+    def efficiency(self) -> float:
+        return self.power / self.performance.irradiance
+
+    def subcell_power(self) -> np.ndarray:
+        """Each subcell's share of the stack's power [W/m²] at the stack's operating point."""
+        perf = self.performance
+        if self.terminals == 2:
+            return perf.j_2t * perf.v_2t_sub
+        return perf.p_own
+
+
+def detailed_balance_limit(
+    gaps: Sequence[float],
+    photon_flux: PhotonFlux,
+    terminals: int = 2,
+    temperature_K: float = 298.15,
+    ere: Sequence[float] = (1.0,),
+    ideality: float = 1.0,
+) -> DesignResult:
+    """Validate one design given as band gaps (front first) and compute its limit.
+
+    Raises :class:`TandemInputError` for gaps that are not positive, outside the spectrum
+    or in the wrong order (naming what the swapped order gives), an ERE outside (0, 1],
+    an unknown number of terminals or a temperature out of range.
+    """
+    gaps = tuple(float(g) for g in gaps)
+    if not 1 <= len(gaps) <= 2:
+        raise TandemInputError(f"{len(gaps)} gaps given; give one gap (single junction) or two, "
+                               "front (sunward) first")
+    if terminals not in (2, 4):
+        raise TandemInputError(f"--terminals {terminals}: choose 2 (series) or 4 (independent)")
+    if not (math.isfinite(ideality) and 0.5 <= ideality <= 5):
+        raise TandemInputError(f"ideality {ideality:g}: give a diode ideality factor between 0.5 and 5")
+    check_gap_order(gaps)
+    check_temperature(temperature_K)
+    for name, g in zip(("front gap", "back gap") if len(gaps) == 2 else ("gap",), gaps):
+        photon_flux.check_gap(g, name)
+    ere_values = check_ere(ere, len(gaps))
+    if len(gaps) == 2 and gaps[0] <= gaps[1]:
+        if gaps[0] == gaps[1]:
+            raise TandemInputError(f"front and back gaps are both {gaps[0]:g} eV: the back cell "
+                                   "would get no light; give the front a wider gap")
+        swapped = step_stack(photon_flux, np.array(gaps[::-1]), temperature_K,
+                             ere_values[::-1], ideality)
+        eff = float(swapped.p_2t if terminals == 2 else swapped.p_4t) / swapped.irradiance
+        raise TandemInputError(
+            f"front gap {gaps[0]:g} eV is below back gap {gaps[1]:g} eV: the order looks "
+            f"inverted (the sunward cell needs the wider gap); swapped, {gaps[1]:g}/{gaps[0]:g} eV "
+            f"gives {100 * eff:.2f} % ({terminals}T): run 'tandem limit {gaps[1]:g} {gaps[0]:g}'"
+        )
+    perf = step_stack(photon_flux, np.array(gaps), temperature_K, ere_values, ideality)
+    return DesignResult(gaps, terminals if len(gaps) == 2 else 2, temperature_K,
+                        tuple(ere_values), photon_flux.name, photon_flux.notes, perf)

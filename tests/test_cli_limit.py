@@ -1,0 +1,84 @@
+"""`tandem limit` through typer's runner: output keys, exit codes, one-line errors."""
+
+import json
+
+import pytest
+from typer.testing import CliRunner
+
+from cli import app
+
+runner = CliRunner()
+
+
+def run(*args):
+    return runner.invoke(app, list(args))
+
+
+def test_limit_json_keys_and_values():
+    res = run("limit", "1.73", "1.12", "--temperature", "300", "--json")
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    for key in ("efficiency_pct", "power_W_m2", "voc_V", "jsc_mA_cm2", "ff_pct", "terminals",
+                "limiting_subcell", "mismatch_pct", "temperature_K", "irradiance_W_m2", "subcells"):
+        assert key in data
+    assert [s["gap_eV"] for s in data["subcells"]] == [1.73, 1.12]
+    assert data["terminals"] == 2 and data["limiting_subcell"] == "front"
+    # power / irradiance and the subcell shares agree with the headline efficiency
+    assert data["efficiency_pct"] == pytest.approx(100 * data["power_W_m2"] / data["irradiance_W_m2"],
+                                                   abs=1e-3)
+    assert sum(s["efficiency_pct"] for s in data["subcells"]) == pytest.approx(
+        data["efficiency_pct"], abs=1e-3)
+
+
+def test_single_junction_json():
+    data = json.loads(run("limit", "1.34", "--temperature", "300", "--json").stdout)
+    assert data["limiting_subcell"] is None and data["mismatch_pct"] is None
+    assert data["efficiency_pct"] == pytest.approx(33.7, abs=0.1)  # Rühle 2016
+
+
+def test_four_terminal_at_least_two_terminal():
+    two = json.loads(run("limit", "1.9", "1.0", "--json").stdout)
+    four = json.loads(run("limit", "1.9", "1.0", "-t", "4", "--json").stdout)
+    assert four["efficiency_pct"] > two["efficiency_pct"]
+    assert four["voc_V"] is None
+
+
+def test_table_output_names_limiting_subcell():
+    res = run("limit", "1.73", "1.12")
+    assert res.exit_code == 0
+    assert "limiting subcell: front" in res.stdout
+    assert "not certified measurements" in res.stdout
+
+
+@pytest.mark.parametrize("args, message", [
+    (["limit", "0"], "gap 0 eV: a band gap must be a positive energy"),
+    (["limit", "5.0"], "outside the spectrum"),
+    (["limit", "1.12", "1.73"], "order looks inverted"),
+    (["limit", "1.73", "1.12", "--ere", "0"], "ERE 0 is outside (0, 1]"),
+    (["limit", "1.73", "1.12", "--ere", "1.5"], "ERE 1.5 is outside (0, 1]"),
+    (["limit", "1.73", "1.12", "--ere", "0.1,0.1,0.1"], "--ere has 3 values for 2 subcells"),
+    (["limit", "1.73", "1.12", "--ere", "x"], "--ere 'x'"),
+    (["limit", "1.73", "1.12", "-t", "3"], "--terminals 3"),
+    (["limit", "1.73", "1.12", "-s", "missing.csv"], "not found"),
+    (["limit", "1.3", "-s", "blackbody", "--concentration", "1e6"], "maximum 1/f"),
+    (["limit", "1.3", "--temperature", "-4"], "temperature -4 K"),
+])
+def test_bad_input_one_line_exit_2(args, message):
+    res = run(*args)
+    assert res.exit_code == 2
+    assert message in res.stderr
+    assert len(res.stderr.strip().splitlines()) == 1
+    assert "Traceback" not in res.output
+
+
+def test_bad_csv_names_row(tmp_path):
+    path = tmp_path / "bad.csv"
+    path.write_text("400,1\n500,2\n450,1\n")
+    res = run("limit", "1.73", "1.12", "-s", str(path))
+    assert res.exit_code == 2
+    assert "row 3" in res.stderr
+
+
+def test_version():
+    res = run("--version")
+    assert res.exit_code == 0 and "tandem" in res.stdout

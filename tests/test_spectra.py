@@ -1,0 +1,93 @@
+"""Spectra against ASTM G173-03 and Stefan–Boltzmann; CSV validation."""
+
+import numpy as np
+import pytest
+from scipy import constants
+
+import tandem
+from tandem.units import HC_EV_NM, Q, SUN_DILUTION
+
+
+# ASTM G173-03: the standard's own totals on its grid (trapezoid), as stated in the standard.
+@pytest.mark.parametrize("name, total, tol", [
+    ("am1.5g", 1000.37, 0.01),
+    ("am1.5d", 900.14, 0.01),
+    ("am0", 1347.9, 0.05),
+])
+def test_astm_g173_integrals(name, total, tol):
+    assert tandem.reference_spectrum(name).integrated_irradiance == pytest.approx(total, abs=tol)
+
+
+@pytest.mark.parametrize("edge_nm", [500.0, 925.0, 1100.0, 1700.0])
+def test_photon_count_same_on_energy_and_wavelength_grids(am15g, edge_nm):
+    # Photons above a gap counted on the standard's wavelength grid: ∫ I λ/(hc) dλ.
+    spec = tandem.reference_spectrum("am1.5g")
+    keep = spec.wavelength_nm <= edge_nm
+    wl, irr = spec.wavelength_nm[keep], spec.irradiance[keep]
+    on_wavelength = np.trapezoid(irr * wl / HC_EV_NM / Q, wl)
+    on_energy = tandem.flux_above(am15g.energy, am15g.flux, HC_EV_NM / edge_nm)
+    # the two trapezoid rules differ at second order in the grid step: 1e-4 is ample
+    assert on_energy == pytest.approx(on_wavelength, rel=1e-4)
+
+
+def test_power_same_on_energy_grid(am15g):
+    power = np.trapezoid(am15g.flux * am15g.energy * Q, am15g.energy)
+    assert power == pytest.approx(1000.37, abs=0.01)
+
+
+def test_blackbody_sun_obeys_stefan_boltzmann():
+    # Stefan–Boltzmann law with scipy.constants.sigma (CODATA 2018): P = f σ T⁴.
+    sun = tandem.blackbody_sun(6000.0)
+    assert sun.integrated_irradiance == pytest.approx(
+        SUN_DILUTION * constants.sigma * 6000.0**4, rel=2e-4)
+    # dilution (R_sun/d)² ≈ 2.16e-5 (De Vos 1980 uses 2.16e-5; IAU nominal radius, 1 au)
+    assert SUN_DILUTION == pytest.approx(2.16e-5, rel=2e-3)
+
+
+def test_blackbody_concentration_capped():
+    with pytest.raises(tandem.TandemInputError, match="concentration .* maximum"):
+        tandem.blackbody_sun(6000.0, concentration=1e6)
+
+
+def test_scaling_is_reported_not_silent():
+    spec = tandem.load_spectrum("am1.5g", target_irradiance_W_m2=1000.0)
+    assert spec.integrated_irradiance == pytest.approx(1000.0)
+    assert any("scaled from 1000.37 to 1000.00" in note for note in spec.notes)
+    assert tandem.reference_spectrum("am1.5g").notes == ()
+
+
+def write(tmp_path, text, name="sky.csv"):
+    path = tmp_path / name
+    path.write_text(text)
+    return path
+
+
+def test_csv_round_trip(tmp_path):
+    spec = tandem.reference_spectrum("am1.5g")
+    rows = "\n".join(f"{w},{i}" for w, i in zip(spec.wavelength_nm, spec.irradiance))
+    mine = tandem.read_spectrum_csv(write(tmp_path, "wavelength_nm,irradiance\n" + rows))
+    assert mine.integrated_irradiance == pytest.approx(spec.integrated_irradiance, rel=1e-12)
+
+
+@pytest.mark.parametrize("text, match", [
+    ("400,1\n500,2\n450,1\n", "row 3: wavelength 450 nm does not rise"),
+    ("400,1\n500,-2\n", "row 2: irradiance -2 is negative"),
+    ("400,1\n500,nan\n", "row 2: value is not finite"),
+    ("400,1\n500\n", "row 2: has 1 columns"),
+    ("wl,irr\n400,1\n500,abc\n", "row 3: '500,abc' is not two numbers"),
+    ("400,1\n", "at least two data rows"),
+    ("-5,1\n500,1\n", "row 1: wavelength -5 nm must be positive"),
+])
+def test_csv_errors_name_the_row(tmp_path, text, match):
+    with pytest.raises(tandem.TandemInputError, match=match):
+        tandem.read_spectrum_csv(write(tmp_path, text))
+
+
+def test_missing_csv(tmp_path):
+    with pytest.raises(tandem.TandemInputError, match="not found"):
+        tandem.load_spectrum(str(tmp_path / "nowhere.csv"))
+
+
+def test_unknown_spectrum_lists_choices():
+    with pytest.raises(tandem.TandemInputError, match="am1.5g, am1.5d, am0"):
+        tandem.load_spectrum("am2")
