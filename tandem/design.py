@@ -1,0 +1,267 @@
+"""Current matching of real absorbers: thickness and gap sweeps of a two-junction stack.
+
+The optics-lite model gives each subcell's EQE in place (front filtering back); the
+detailed-balance engine turns EQEs into photocurrents and, by reciprocity, J0. Sweeps are
+vectorised over front thickness; the loop runs over front gaps × back thicknesses.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field, replace
+from typing import Callable, Sequence
+
+import numpy as np
+from scipy import optimize
+
+from . import detailed_balance as db
+from .absorbers import Absorber
+from .errors import TandemInputError
+from .optics import StackOptics, stack_optics
+from .spectra import PhotonFlux
+from .stack import SUBCELL_NAMES, StackPerformance, evaluate_stack
+
+Progress = Callable[[int, int], None]
+
+
+@dataclass(frozen=True)
+class StackDesign:
+    """Two absorbers, front (sunward) first, and the losses around them."""
+
+    front: Absorber
+    back: Absorber
+    reflectance: float | np.ndarray = 0.0  #: front-surface reflectance per energy [-]
+    front_parasitic: float | np.ndarray = 0.0  #: absorbed in the front contact [-]
+    interlayer_parasitic: float | np.ndarray = 0.0  #: absorbed between the subcells [-]
+
+    def swapped(self) -> StackDesign:
+        return replace(self, front=self.back, back=self.front)
+
+
+@dataclass(frozen=True)
+class Conditions:
+    photon_flux: PhotonFlux
+    temperature_K: float = 298.15
+    ideality: float = 1.0
+
+
+def stack_light(design: StackDesign, energy, front_gap, front_thickness_nm, back_thickness_nm,
+                back_gap=None) -> StackOptics:
+    """Optics of the stack on the energy grid; ``front_thickness_nm`` may be an array."""
+    d_front = np.asarray(front_thickness_nm, dtype=float)[..., None]
+    front = design.front.layer(energy, d_front, front_gap)
+    back = design.back.layer(energy, back_thickness_nm, back_gap)
+    return stack_optics(front, back, design.reflectance, design.front_parasitic,
+                        design.interlayer_parasitic)
+
+
+def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_thickness_nm,
+                      back_thickness_nm, back_gap=None) -> StackPerformance:
+    """Two- and four-terminal performance for an array of front thicknesses."""
+    e, phi = cond.photon_flux.energy, cond.photon_flux.flux
+    light = stack_light(design, e, front_gap, front_thickness_nm, back_thickness_nm, back_gap)
+    eqe = np.stack(np.broadcast_arrays(light.front_eqe, light.back_eqe), axis=-2)  # (..., 2, nE)
+    j_light = db.photocurrent(e, phi, eqe)
+    j0_rad = db.radiative_dark_current(e, eqe, cond.temperature_K)
+    ere = np.array([design.front.ere, design.back.ere])
+    return evaluate_stack(j_light, db.dark_current(j0_rad, ere), cond.temperature_K,
+                          cond.photon_flux.irradiance, cond.ideality)
+
+
+@dataclass(frozen=True)
+class Configuration:
+    """One front gap, front thickness and back thickness with its performance."""
+
+    front_gap_eV: float
+    front_composition: float | None
+    front_thickness_nm: float
+    back_thickness_nm: float
+    performance: StackPerformance  # arrays of shape (2,) or scalars
+    matched_front_thickness_nm: float | None
+    match_note: str
+
+    @property
+    def efficiency_2t(self) -> float:
+        return float(self.performance.efficiency_2t)
+
+    @property
+    def efficiency_4t(self) -> float:
+        return float(self.performance.efficiency_4t)
+
+
+@dataclass(frozen=True)
+class ThicknessSweep:
+    """Currents and efficiencies against front thickness for one gap and back thickness."""
+
+    front_gap_eV: float
+    back_thickness_nm: float
+    front_thickness_nm: np.ndarray
+    performance: StackPerformance
+
+
+@dataclass(frozen=True)
+class MatchResult:
+    design: StackDesign
+    conditions: Conditions
+    configurations: list[Configuration]  #: best first
+    best_sweep: ThicknessSweep  #: the sweep behind the best configuration
+    best_4t: Configuration  #: the configuration with the highest four-terminal efficiency
+    terminals: int
+    n_evaluated: int = 0
+    notes: tuple[str, ...] = field(default=())
+
+
+def _match_thickness(design, cond, gap, d_grid, back_d, currents) -> tuple[float | None, str]:
+    """Front thickness where the subcell photocurrents are equal, or None with the reason."""
+    diff = currents[:, 0] - currents[:, 1]  # rises with front thickness
+    lo, hi = d_grid[0], d_grid[-1]
+    if diff[0] > 0:
+        return None, (f"the front already carries more current at its thinnest ({lo:.0f} nm): "
+                      "the back limits at every thickness in range; a thinner front or a wider "
+                      "front gap would match")
+    if diff[-1] < 0:
+        return None, (f"the front carries less current even at its thickest ({hi:.0f} nm): "
+                      "it limits at every thickness in range; a thicker front or a narrower front "
+                      "gap would match")
+    i = int(np.argmax(diff >= 0))
+    if diff[i] == 0:
+        return float(d_grid[i]), "matched"
+
+    def f(d):
+        j = stack_performance(design, cond, gap, d, back_d).j_light
+        return float(j[0] - j[1])
+
+    root = optimize.brentq(f, d_grid[i - 1], d_grid[i], xtol=1e-6 * d_grid[i], rtol=1e-10)
+    return float(root), "matched"
+
+
+def _best_thickness(design, cond, gap, d_grid, back_d, p, terminals) -> float:
+    """Refine the grid maximum of the chosen power by a bounded scalar search."""
+    i = int(np.argmax(p))
+    lo, hi = d_grid[max(i - 1, 0)], d_grid[min(i + 1, d_grid.size - 1)]
+    if lo == hi:
+        return float(d_grid[i])
+
+    def neg(logd):
+        perf = stack_performance(design, cond, gap, math.exp(logd), back_d)
+        return -float(perf.p_2t if terminals == 2 else perf.p_4t)
+
+    res = optimize.minimize_scalar(neg, bounds=(math.log(lo), math.log(hi)), method="bounded",
+                                   options={"xatol": 1e-5})
+    return float(math.exp(res.x)) if -res.fun >= p[i] else float(d_grid[i])
+
+
+def check_design_inputs(design: StackDesign, cond: Conditions, front_gaps, back_thicknesses,
+                        front_thickness_range) -> None:
+    cond.photon_flux.check_gap(np.asarray(front_gaps), "front gap")
+    cond.photon_flux.check_gap(design.back.gap_eV, "back gap")
+    for g in np.atleast_1d(front_gaps):
+        design.front.check_gap(float(g))
+    for d in back_thicknesses:
+        design.back.check_thickness(d, "back thickness")
+    lo, hi = front_thickness_range
+    design.front.check_thickness(lo, "front thickness")
+    if not hi > lo:
+        raise TandemInputError(f"front thickness range {lo:g}-{hi:g} nm is empty or reversed; "
+                               "give thinnest:thickest")
+
+
+def front_gap_grid(front: Absorber, step_eV: float = 0.02) -> np.ndarray:
+    """Gaps to sweep for a front absorber: its tunable range at ``step_eV``, else its gap."""
+    if not front.tunable:
+        return np.array([front.gap_eV])
+    if not step_eV > 0:
+        raise TandemInputError(f"gap step {step_eV:g} eV: give a positive step")
+    lo, hi = front.gap_range_eV
+    n = max(int(round((hi - lo) / step_eV)) + 1, 2)
+    return np.linspace(lo, hi, n)
+
+
+def match_currents(
+    design: StackDesign,
+    cond: Conditions,
+    front_gaps: Sequence[float] | None = None,
+    back_thicknesses_nm: Sequence[float] | None = None,
+    front_thickness_range_nm: tuple[float, float] | None = None,
+    thickness_points: int = 120,
+    terminals: int = 2,
+    progress: Progress | None = None,
+) -> MatchResult:
+    """Sweep front gap, front thickness and back thickness; rank configurations.
+
+    For every front gap and back thickness: the current-matched front thickness (or why
+    there is none), and the front thickness that maximises the chosen (2T or 4T) power.
+    """
+    front, back = design.front, design.back
+    gaps = front_gap_grid(front) if front_gaps is None else np.asarray(front_gaps, dtype=float)
+    backs = [back.thickness_nm] if back_thicknesses_nm is None else list(back_thicknesses_nm)
+    lo, hi = front.thickness_range_nm if front_thickness_range_nm is None else front_thickness_range_nm
+    if not 5 <= thickness_points <= 5000:
+        raise TandemInputError(f"thickness points {thickness_points}: give between 5 and 5000")
+    check_design_inputs(design, cond, gaps, backs, (lo, hi))
+    if terminals not in (2, 4):
+        raise TandemInputError(f"--terminals {terminals}: choose 2 (series) or 4 (independent)")
+    d_grid = np.geomspace(lo, hi, thickness_points)
+    configs: list[Configuration] = []
+    sweeps: list[ThicknessSweep] = []
+    best4: Configuration | None = None
+    total = len(gaps) * len(backs)
+    done = 0
+    for gap in gaps:
+        composition = front.relation.composition_for_gap(float(gap)) if front.tunable else None
+        for back_d in backs:
+            perf = stack_performance(design, cond, gap, d_grid, back_d)
+            sweeps.append(ThicknessSweep(float(gap), float(back_d), d_grid, perf))
+            matched, note = _match_thickness(design, cond, gap, d_grid, back_d, perf.j_light)
+            power = perf.p_2t if terminals == 2 else perf.p_4t
+            d_best = _best_thickness(design, cond, gap, d_grid, back_d, power, terminals)
+            at_best = stack_performance(design, cond, gap, d_best, back_d)
+            configs.append(Configuration(float(gap), composition, d_best, float(back_d), at_best,
+                                         matched, note))
+            i4 = int(np.argmax(perf.p_4t))
+            cand = Configuration(float(gap), composition, float(d_grid[i4]), float(back_d),
+                                 stack_performance(design, cond, gap, d_grid[i4], back_d),
+                                 matched, note)
+            if best4 is None or cand.efficiency_4t > best4.efficiency_4t:
+                best4 = cand
+            done += 1
+            if progress:
+                progress(done, total)
+    key = (lambda c: c.efficiency_2t) if terminals == 2 else (lambda c: c.efficiency_4t)
+    order = sorted(range(len(configs)), key=lambda i: key(configs[i]), reverse=True)
+    return MatchResult(design, cond, [configs[i] for i in order], sweeps[order[0]], best4,
+                       terminals, n_evaluated=total * thickness_points)
+
+
+def subcell_name(index: int) -> str:
+    return SUBCELL_NAMES[index]
+
+
+@dataclass(frozen=True)
+class OrderVerdict:
+    """Which absorber should face the sun, from the best result of each order."""
+
+    recommended_front: str  #: absorber key
+    user_order_is_better: bool
+    reason: str
+
+
+def which_in_front(chosen: MatchResult, swapped: MatchResult) -> OrderVerdict:
+    """Compare both orders by their best efficiency of the chosen kind (2T or 4T)."""
+    def best(r: MatchResult) -> float:
+        c = r.configurations[0]
+        return c.efficiency_2t if r.terminals == 2 else c.efficiency_4t
+
+    a, b = best(chosen), best(swapped)
+    f, k = chosen.design.front, chosen.design.back
+    kind = "two-terminal" if chosen.terminals == 2 else "four-terminal"
+    winner, loser = (f, k) if a >= b else (k, f)
+    gap_w = chosen.configurations[0].front_gap_eV if a >= b else swapped.configurations[0].front_gap_eV
+    gap_l = k.gap_eV if a >= b else f.gap_eV
+    why = ("the wider gap faces the sun, turning blue photons into more voltage and passing "
+           "the red ones on" if gap_w > gap_l else
+           "it gives the higher efficiency in this model despite the narrower gap")
+    reason = (f"{winner.key} goes in front ({gap_w:.3f} eV over {gap_l:.3f} eV): {why}; best "
+              f"{kind} {100 * max(a, b):.2f} % against {100 * min(a, b):.2f} % with "
+              f"{loser.key} in front")
+    return OrderVerdict(winner.key, a >= b, reason)

@@ -1,0 +1,49 @@
+"""Where bundled data lives, and writing outputs whole or not at all."""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+from typing import Callable
+
+from .errors import TandemInputError
+
+_PACKAGE = Path(__file__).resolve().parent
+
+
+def bundled_dir(kind: str) -> Path:
+    """The folder of bundled ``absorbers`` or ``scenarios``.
+
+    Installed, they sit inside the package (``tandem/_bundled/<kind>``, see pyproject.toml);
+    in a checkout, at the top of the repository.
+    """
+    installed = _PACKAGE / "_bundled" / kind
+    return installed if installed.is_dir() else _PACKAGE.parent / kind
+
+
+def check_new_output(path: str | Path, overwrite: bool = False) -> Path:
+    """Refuse to replace an existing file unless ``overwrite``; the folder must exist."""
+    path = Path(path)
+    if path.exists() and not overwrite:
+        raise TandemInputError(f"output '{path}' exists; choose another name or pass --overwrite")
+    if not path.parent.is_dir():
+        raise TandemInputError(f"output folder '{path.parent}' does not exist; create it first")
+    return path
+
+
+def write_whole(path: str | Path, write: Callable[[Path], None], overwrite: bool = False) -> Path:
+    """Call ``write(tmp)`` on a temporary file beside ``path``, then move it into place.
+
+    A failure leaves nothing behind, so an output is either complete or absent.
+    """
+    path = check_new_output(path, overwrite)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=path.suffix, dir=path.parent)
+    os.close(fd)
+    tmp = Path(tmp)
+    try:
+        write(tmp)
+        os.replace(tmp, path)
+    finally:
+        tmp.unlink(missing_ok=True)
+    return path
