@@ -386,7 +386,7 @@ def match(
 def _match_table(title: str, rows: list[dict], tunable: bool) -> Table:
     table = Table(title=title, title_justify="left")
     cols = ["#", "gap eV"] + (["x"] if tunable else []) + [
-        "front nm", "back µm", "Jsc F", "Jsc B", "mism. %", "limits",
+        "front nm", "match nm", "back µm", "Jsc F", "Jsc B", "mism. %", "limits",
         "Voc V", "FF %", "2T %", "4T %"]
     for col in cols:
         table.add_column(col, justify="right")
@@ -395,14 +395,17 @@ def _match_table(title: str, rows: list[dict], tunable: bool) -> Table:
         if tunable:
             x = c["front_composition"]
             cells.append("—" if x is None else f"{x:.3f}")
-        cells += [f"{c['front_thickness_nm']:.0f}", f"{c['back_thickness_um']:g}",
+        m = c["matched_front_thickness_nm"]
+        cells += [f"{c['front_thickness_nm']:.0f}", "none" if m is None else f"{m:.0f}",
+                  f"{c['back_thickness_um']:g}",
                   f"{c['jsc_front_mA_cm2']:.2f}", f"{c['jsc_back_mA_cm2']:.2f}",
                   f"{c['mismatch_pct']:.2f}", c["limiting_subcell"], f"{c['voc_2t_V']:.3f}",
                   f"{c['ff_2t_pct']:.1f}", f"[bold]{c['efficiency_2t_pct']:.2f}[/]",
                   f"{c['efficiency_4t_pct']:.2f}"]
         table.add_row(*cells)
-    table.caption = ("gap and x: front gap and composition; Jsc F/B: front/back photocurrent "
-                     "(mA/cm²); Voc, FF: two-terminal; 2T/4T: efficiency")
+    table.caption = ("gap, x: front gap and composition; front nm: best front thickness; match "
+                     "nm: current-matched thickness; Jsc F/B: front/back photocurrent (mA/cm²); "
+                     "Voc, FF: two-terminal; 2T/4T: efficiency")
     return table
 
 

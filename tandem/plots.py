@@ -5,6 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import matplotlib
+import matplotlib.ticker
 
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
@@ -42,15 +43,20 @@ def match_figure(result: MatchResult, path, overwrite: bool = False) -> Path:
         jm = stack_light_current(result, dm)
         ax1.axvline(dm, color="0.4", ls="--", lw=1)
         ax1.plot([dm], [jm], "ko")
-        ax1.annotate(f"matched: {dm:.0f} nm, {jm:.2f} mA/cm²", (dm, jm), xytext=(8, -18),
-                     textcoords="offset points", fontsize=8)
+        ax1.annotate(f"matched: {dm:.0f} nm\n{jm:.2f} mA/cm²", (dm, jm), xytext=(-8, 14),
+                     textcoords="offset points", fontsize=8, ha="right",
+                     bbox={"boxstyle": "round", "fc": "white", "ec": "0.8"})
     ax1.axvline(best.front_thickness_nm, color="0.6", ls=":", lw=1)
     ax1.set_xscale("log")
+    ax1.xaxis.set_major_locator(matplotlib.ticker.LogLocator(subs=(1.0, 2.0, 5.0)))
+    ax1.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+    ax1.xaxis.set_minor_formatter(matplotlib.ticker.NullFormatter())
     ax1.set_xlabel("front thickness [nm]")
     ax1.set_ylabel("photocurrent [mA/cm²]")
-    ax1.set_title(f"front gap {sweep.front_gap_eV:.3f} eV, back {sweep.back_thickness_nm / 1000:g} µm",
-                  fontsize=10)
-    ax1.legend(fontsize=8, loc="best")
+    back_d = sweep.back_thickness_nm
+    back_text = f"{back_d / 1000:g} µm" if back_d >= 10_000 else f"{back_d:.0f} nm"
+    ax1.set_title(f"front gap {sweep.front_gap_eV:.3f} eV, back {back_text}", fontsize=10)
+    ax1.legend(fontsize=8, loc="lower center", framealpha=0.9)
     ax1.grid(alpha=0.3)
 
     e = cond.photon_flux.energy
