@@ -438,6 +438,125 @@ def _print_match(s: dict, show_swapped: bool, top: int) -> None:
     out.print(f"[dim]{s['caution']}[/]")
 
 
+# --------------------------------------------------------------------------------------
+# map
+# --------------------------------------------------------------------------------------
+
+
+def _gap_option(text: str, option: str, default):
+    from tandem.maps import gap_axis
+
+    if text is None:
+        return gap_axis(*default, option)
+    parts = _parse_range(text, option) if ":" in text else (float(_parse_floats(text, option)[0]),)
+    if len(parts) == 1:
+        return np.array([parts[0]])
+    lo, hi, *step = parts
+    return gap_axis(lo, hi, step[0] if step else 0.01, option)
+
+
+@app.command("map")
+@friendly
+def gap_map(
+    front: Annotated[Optional[str], typer.Option(
+        "--front", help="Front gaps LO:HI:STEP [eV].", show_default="1.4:2.3:0.01")] = None,
+    back: Annotated[Optional[str], typer.Option(
+        "--back", help="Back gaps LO:HI:STEP [eV], or one value for a 1-D scan.",
+        show_default="0.8:1.5:0.01")] = None,
+    terminals: Annotated[int, typer.Option("--terminals", "-t", help="2 or 4.")] = 2,
+    spectrum: SpectrumOpt = "am1.5g",
+    temperature: TemperatureOpt = 298.15,
+    ere: Annotated[str, typer.Option(help="ERE of step absorbers: one value or front,back.")] = "1",
+    front_absorber: Annotated[Optional[str], typer.Option(
+        help="Use this absorber's edge (moved to each gap) instead of a step.")] = None,
+    back_absorber: Annotated[Optional[str], typer.Option(help="Likewise for the back.")] = None,
+    front_thickness: Annotated[Optional[str], typer.Option(
+        help="Front thickness with absorbers (nm or um). Default: the absorber's.")] = None,
+    back_thickness: Annotated[Optional[str], typer.Option(help="Back thickness with absorbers.")] = None,
+    rematch: Annotated[bool, typer.Option(
+        help="With absorbers: re-match the front thickness at every gap pair.")] = False,
+    mark: Annotated[Optional[str], typer.Option(
+        help="Absorbers to mark at their gaps, comma-separated.")] = None,
+    tolerance: Annotated[float, typer.Option(
+        help="Loss [% absolute] that defines the tolerance window.")] = 1.0,
+    output: Annotated[str, typer.Option(
+        "--output", "-o", help="Prefix of the files written (.png .svg .csv .parquet).")] = "gap-map",
+    overwrite: Annotated[bool, typer.Option(help="Replace existing output files.")] = False,
+    concentration: ConcentrationOpt = 1.0,
+    sun_temperature: SunTemperatureOpt = 6000.0,
+    irradiance: IrradianceOpt = None,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="No progress bar.")] = False,
+    json_out: JsonOpt = False,
+):
+    """Efficiency over front × back band gaps: contour map, tolerance window, tidy tables.
+
+    Examples:
+
+      tandem map
+
+      tandem map --back 1.12 --output si-partner
+
+      tandem map --front 1.5:2.0:0.01 --back 1.12 --front-absorber perovskite-wide
+      --back-absorber silicon --rematch
+    """
+    from tandem.maps import DEFAULT_BACK, DEFAULT_FRONT, absorber_gap_map, map_summary, map_table, step_gap_map
+    from tandem.plots import map_figures
+
+    flux = _photon_flux(spectrum, sun_temperature, concentration, irradiance)
+    tandem.stack.check_temperature(temperature)
+    if terminals not in (2, 4):
+        raise TandemInputError(f"--terminals {terminals}: choose 2 (series) or 4 (independent)")
+    fronts = _gap_option(front, "--front", DEFAULT_FRONT)
+    if (front_absorber is None) != (back_absorber is None):
+        raise TandemInputError("give both --front-absorber and --back-absorber, or neither "
+                               "(step absorbers)")
+    thickness = None
+    with _progress(quiet or json_out, "mapping") as bar:
+        if front_absorber is None:
+            backs = _gap_option(back, "--back", DEFAULT_BACK)
+            ere_values = tandem.stack.check_ere(_parse_floats(ere, "--ere"), 2)
+            result = step_gap_map(flux, fronts, backs, temperature, ere_values,
+                                  progress=_callback(bar))
+        else:
+            from tandem.design import Conditions, StackDesign
+
+            design = StackDesign(tandem.load_absorber(front_absorber), tandem.load_absorber(back_absorber))
+            backs = None if back is None else _gap_option(back, "--back", DEFAULT_BACK)
+            result, thickness = absorber_gap_map(
+                design, Conditions(flux, temperature), fronts, backs,
+                None if front_thickness is None else _parse_thickness(front_thickness, "--front-thickness"),
+                None if back_thickness is None else _parse_thickness(back_thickness, "--back-thickness"),
+                rematch, progress=_callback(bar))
+    summary = map_summary(result, terminals, tolerance)
+    marks = []
+    for name in (mark.split(",") if mark else []):
+        a = tandem.load_absorber(name.strip())
+        marks.append((a.key, a.gap_eV))
+    table = map_table(result, thickness)
+    written = map_figures(result, terminals, tolerance, marks, output, overwrite, tables={
+        ".csv": lambda p: table.to_csv(p, index=False, float_format="%.6g"),
+        ".parquet": lambda p: table.to_parquet(p, index=False),
+    })
+    summary["outputs"] = [str(p) for p in written]
+    if json_out:
+        _emit_json(summary)
+        return
+    o, t = summary["optimum"], summary["tolerance"]
+    out.print(f"[bold]optimum ({terminals}T):[/] {o['efficiency_pct']:.2f} % at front "
+              f"{o['front_gap_eV']:.3f} eV / back {o['back_gap_eV']:.3f} eV "
+              f"(2T {o['efficiency_2t_pct']:.2f} %, 4T {o['efficiency_4t_pct']:.2f} %; limiting "
+              f"subcell {o['limiting_subcell']}, mismatch {o['mismatch_pct']:.2f} %)", highlight=False)
+    fw = t["front_gap_window_eV"]
+    out.print(f"within {tolerance:g} % (absolute) of the best: front gap {fw[0]:.3f}–{fw[1]:.3f} eV"
+              + ("" if t["back_gap_window_eV"] is None else
+                 f", back gap {t['back_gap_window_eV'][0]:.3f}–{t['back_gap_window_eV'][1]:.3f} eV"),
+              highlight=False)
+    out.print(f"{summary['grid_points']:,} gap pairs; {summary['spectrum']}, "
+              f"{summary['irradiance_W_m2']:.2f} W/m², cell {summary['temperature_K']:g} K", highlight=False)
+    out.print("wrote " + ", ".join(summary["outputs"]), highlight=False)
+    out.print(f"[dim]{summary['caution']}[/]")
+
+
 def main() -> None:
     """Console entry point (``tandem``)."""
     app()

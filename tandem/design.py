@@ -111,7 +111,8 @@ class MatchResult:
     notes: tuple[str, ...] = field(default=())
 
 
-def _match_thickness(design, cond, gap, d_grid, back_d, currents) -> tuple[float | None, str]:
+def _match_thickness(design, cond, gap, d_grid, back_d, currents,
+                     back_gap=None) -> tuple[float | None, str]:
     """Front thickness where the subcell photocurrents are equal, or None with the reason."""
     diff = currents[:, 0] - currents[:, 1]  # rises with front thickness
     lo, hi = d_grid[0], d_grid[-1]
@@ -128,7 +129,7 @@ def _match_thickness(design, cond, gap, d_grid, back_d, currents) -> tuple[float
         return float(d_grid[i]), "matched"
 
     def f(d):
-        j = stack_performance(design, cond, gap, d, back_d).j_light
+        j = stack_performance(design, cond, gap, d, back_d, back_gap).j_light
         return float(j[0] - j[1])
 
     root = optimize.brentq(f, d_grid[i - 1], d_grid[i], xtol=1e-6 * d_grid[i], rtol=1e-10)

@@ -47,3 +47,25 @@ def write_whole(path: str | Path, write: Callable[[Path], None], overwrite: bool
     finally:
         tmp.unlink(missing_ok=True)
     return path
+
+
+def write_all_whole(writers: dict, overwrite: bool = False) -> list[Path]:
+    """Write several files as one: every file to a temporary name first, then all renamed.
+
+    ``writers`` maps each output path to a function writing that file. If any writer fails,
+    no output appears and the temporary files are removed.
+    """
+    targets = {check_new_output(p, overwrite): w for p, w in writers.items()}
+    temps: dict[Path, Path] = {}
+    try:
+        for path, write in targets.items():
+            fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=path.suffix, dir=path.parent)
+            os.close(fd)
+            temps[path] = Path(tmp)
+            write(temps[path])
+        for path, tmp in temps.items():
+            os.replace(tmp, path)
+    finally:
+        for tmp in temps.values():
+            tmp.unlink(missing_ok=True)
+    return list(targets)

@@ -105,3 +105,84 @@ def absorber_figure(absorber, path, overwrite: bool = False) -> Path:
     ax.legend()
     ax.grid(alpha=0.3, which="both")
     return _save(fig, path, overwrite)
+
+
+def _map_axes_figure(gap_map, terminals, tolerance_pct, marks):
+    from .maps import tolerance_window
+
+    eff = 100 * gap_map.efficiency(terminals)
+    i, j = gap_map.optimum(terminals)
+    fg, bg = gap_map.front_gaps, gap_map.back_gaps
+    if bg.size == 1:  # one-dimensional scan
+        fig, ax = plt.subplots(figsize=(6.5, 4.2))
+        ax.plot(fg, 100 * gap_map.efficiency_2t[:, 0], color=FRONT_COLOUR, label="two-terminal")
+        ax.plot(fg, 100 * gap_map.efficiency_4t[:, 0], color=BACK_COLOUR, ls="--",
+                label="four-terminal")
+        lo, hi = tolerance_window(fg, eff[:, 0], tolerance_pct)
+        ax.axvspan(lo, hi, color="0.9", label=f"within {tolerance_pct:g} % of best: "
+                   f"{lo:.3f}–{hi:.3f} eV")
+        ax.plot([fg[i]], [eff[i, 0]], "ko")
+        ax.annotate(f"{eff[i, 0]:.2f} % at {fg[i]:.3f} eV", (fg[i], eff[i, 0]), xytext=(6, 6),
+                    textcoords="offset points", fontsize=8)
+        for name, gap in marks:
+            ax.axvline(gap, color="0.4", lw=0.8, ls=":")
+            ax.text(gap, ax.get_ylim()[0], f" {name}", rotation=90, va="bottom", fontsize=7)
+        ax.set_xlabel("front gap [eV]")
+        ax.set_ylabel("efficiency [%]")
+        ax.set_title(f"back gap {bg[0]:.3f} eV, {gap_map.spectrum}, {gap_map.temperature_K:g} K",
+                     fontsize=9)
+        ax.legend(fontsize=8)
+        ax.grid(alpha=0.3)
+        return fig
+    fig, ax = plt.subplots(figsize=(7, 5.6))
+    B, F = np.meshgrid(bg, fg)
+    best = np.nanmax(eff)
+    levels = np.arange(np.floor(np.nanmin(eff)), np.ceil(best) + 0.5, 0.5)
+    filled = ax.contourf(B, F, eff, levels=levels, cmap="viridis")
+    # labelled iso-efficiency lines: coarse far from the optimum, finer close to it
+    marks_pct = [v for v in (10, 20, 30, 35, 40, 42, 44, 45, 46, 47, 48) if np.nanmin(eff) < v < best]
+    if marks_pct:
+        lines = ax.contour(B, F, eff, levels=marks_pct, colors="white", linewidths=0.7)
+        ax.clabel(lines, fmt="%g %%", fontsize=7)
+    fig.colorbar(filled, ax=ax, label=f"{terminals}-terminal efficiency [%]")
+    ax.contour(B, F, eff, levels=[best - tolerance_pct], colors="orange", linewidths=1.2,
+               linestyles="--")
+    balance = gap_map.j_front - gap_map.j_back
+    if np.nanmin(balance) < 0 < np.nanmax(balance):
+        ax.contour(B, F, balance, levels=[0], colors="red", linewidths=1.2)
+    ax.plot([bg[j]], [fg[i]], marker="*", color="red", ms=12, mec="white")
+    ax.annotate(f"{eff[i, j]:.2f} %\n{fg[i]:.3f}/{bg[j]:.3f} eV", (bg[j], fg[i]), xytext=(10, -28),
+                textcoords="offset points", fontsize=8,
+                bbox={"boxstyle": "round", "fc": "white", "ec": "0.6", "alpha": 0.9})
+    for name, gap in marks:
+        if bg[0] <= gap <= bg[-1]:
+            ax.axvline(gap, color="white", lw=0.8, ls=":")
+            ax.text(gap, fg[0], f" {name}", rotation=90, va="bottom", fontsize=7, color="white")
+        if fg[0] <= gap <= fg[-1]:
+            ax.axhline(gap, color="white", lw=0.8, ls=":")
+            ax.text(bg[-1], gap, f"{name} ", ha="right", va="bottom", fontsize=7, color="white")
+    ax.set_xlabel("back gap [eV]")
+    ax.set_ylabel("front gap [eV]")
+    ax.set_title(f"{gap_map.spectrum}, cell {gap_map.temperature_K:g} K — red: equal currents; "
+                 f"orange dashed: within {tolerance_pct:g} % of best", fontsize=8)
+    return fig
+
+
+def map_figures(gap_map, terminals, tolerance_pct, marks, prefix: str | Path,
+                overwrite: bool = False, tables: dict | None = None) -> list[Path]:
+    """PNG and SVG of the map, plus any ``tables`` {suffix: writer}, written as one group."""
+    from .files import write_all_whole
+
+    fig = _map_axes_figure(gap_map, terminals, tolerance_pct, marks)
+    fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
+    prefix = Path(prefix)
+    writers = {
+        prefix.with_suffix(".png"): lambda p: fig.savefig(p, dpi=150, bbox_inches="tight", format="png"),
+        prefix.with_suffix(".svg"): lambda p: fig.savefig(p, bbox_inches="tight", format="svg"),
+    }
+    for suffix, writer in (tables or {}).items():
+        writers[prefix.with_suffix(suffix)] = writer
+    try:
+        return write_all_whole(writers, overwrite)
+    finally:
+        plt.close(fig)

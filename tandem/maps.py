@@ -1,0 +1,216 @@
+"""Efficiency over front and back band gaps, and tolerance windows around an optimum."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable
+
+import numpy as np
+
+from .errors import TandemInputError
+from .spectra import PhotonFlux
+from .stack import StackPerformance, step_stack
+
+#: Default map ranges [eV]: wide-gap fronts over the usual back-cell gaps.
+DEFAULT_FRONT = (1.40, 2.30, 0.01)
+DEFAULT_BACK = (0.80, 1.50, 0.01)
+
+
+def gap_axis(lo: float, hi: float, step: float, what: str) -> np.ndarray:
+    """Gaps from lo to hi inclusive at ``step`` [eV]; refuses an impossible grid."""
+    if not (np.isfinite([lo, hi, step]).all() and step > 0 and hi >= lo and lo > 0):
+        raise TandemInputError(f"{what} {lo:g}:{hi:g}:{step:g}: give low:high:step in eV with "
+                               "0 < low ≤ high and a positive step")
+    n = int(round((hi - lo) / step)) + 1
+    if n > 20_001:
+        raise TandemInputError(f"{what} has {n:,} points; give a coarser step (at most 20,001)")
+    return np.linspace(lo, hi, n)
+
+
+@dataclass(frozen=True)
+class GapMap:
+    """A grid of stacks over front × back gaps (NaN where front ≤ back)."""
+
+    front_gaps: np.ndarray  #: (nf,)
+    back_gaps: np.ndarray  #: (nb,)
+    efficiency_2t: np.ndarray  #: (nf, nb) fraction
+    efficiency_4t: np.ndarray  #: (nf, nb)
+    j_front: np.ndarray  #: (nf, nb) A/m²
+    j_back: np.ndarray  #: (nf, nb) A/m²
+    voc_2t: np.ndarray  #: (nf, nb) V
+    temperature_K: float
+    spectrum: str
+    irradiance: float
+
+    def efficiency(self, terminals: int) -> np.ndarray:
+        return self.efficiency_2t if terminals == 2 else self.efficiency_4t
+
+    def optimum(self, terminals: int) -> tuple[int, int]:
+        eff = self.efficiency(terminals)
+        if np.all(np.isnan(eff)):
+            raise TandemInputError("no valid gap pair in the map: every front gap is at or below "
+                                   "every back gap; widen the front range or lower the back range")
+        return np.unravel_index(np.nanargmax(eff), eff.shape)
+
+    @property
+    def grid_points(self) -> int:
+        return int(self.front_gaps.size * self.back_gaps.size)
+
+
+def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=298.15,
+                 ere=(1.0, 1.0), ideality=1.0, chunk: int = 250_000,
+                 progress: Callable[[int, int], None] | None = None) -> GapMap:
+    """Detailed-balance map of step-absorber stacks, computed in chunks of ``chunk`` pairs."""
+    front_gaps = np.asarray(front_gaps, dtype=float)
+    back_gaps = np.asarray(back_gaps, dtype=float)
+    photon_flux.check_gap(front_gaps, "front gap")
+    photon_flux.check_gap(back_gaps, "back gap")
+    f, b = np.meshgrid(front_gaps, back_gaps, indexing="ij")
+    valid = f > b
+    pairs = np.stack([f[valid], b[valid]], axis=-1)
+    fields = {k: np.full(f.shape, np.nan) for k in ("e2", "e4", "jf", "jb", "voc")}
+    out = {k: np.empty(len(pairs)) for k in fields}
+    ere = np.asarray(ere, dtype=float)
+    for start in range(0, len(pairs), chunk):
+        sl = slice(start, start + chunk)
+        perf: StackPerformance = step_stack(photon_flux, pairs[sl], temperature_K, ere, ideality)
+        out["e2"][sl] = perf.efficiency_2t
+        out["e4"][sl] = perf.efficiency_4t
+        out["jf"][sl] = perf.j_light[:, 0]
+        out["jb"][sl] = perf.j_light[:, 1]
+        out["voc"][sl] = perf.voc_2t
+        if progress:
+            progress(min(start + chunk, len(pairs)), len(pairs))
+    for k in fields:
+        fields[k][valid] = out[k]
+    return GapMap(front_gaps, back_gaps, fields["e2"], fields["e4"], fields["jf"], fields["jb"],
+                  fields["voc"], float(temperature_K), photon_flux.name, photon_flux.irradiance)
+
+
+def tolerance_window(x, y, loss: float) -> tuple[float, float]:
+    """The interval of x around the maximum of y where y ≥ max(y) − loss.
+
+    Edges are found by linear interpolation between grid points; an edge of the grid is
+    returned as is (the window may reach further). NaN entries end the window.
+    """
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    if not loss >= 0:
+        raise TandemInputError(f"tolerance {loss:g}: give a non-negative loss in % absolute")
+    i = int(np.nanargmax(y))
+    floor = y[i] - loss
+
+    def edge(step: int) -> float:
+        j = i
+        while 0 <= j + step < x.size and np.isfinite(y[j + step]) and y[j + step] >= floor:
+            j += step
+        k = j + step
+        if not (0 <= k < x.size) or not np.isfinite(y[k]):
+            return float(x[j])
+        t = (y[j] - floor) / (y[j] - y[k])
+        return float(x[j] + t * (x[k] - x[j]))
+
+    return edge(-1), edge(+1)
+
+
+def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thickness_nm=None,
+                     back_thickness_nm=None, rematch: bool = False, thickness_points: int = 60,
+                     progress: Callable[[int, int], None] | None = None):
+    """Map of real-absorber stacks over gaps, their edges moved rigidly to each gap.
+
+    With ``rematch`` the front thickness is re-matched at every gap pair (the current-matched
+    thickness, or the two-terminal best where none in range matches); otherwise it is fixed.
+    Returns the :class:`GapMap` and the front thickness used at each point [nm].
+    """
+    from .design import _match_thickness, check_design_inputs, stack_performance
+
+    front, back = design.front, design.back
+    front_gaps = np.asarray(front_gaps, dtype=float)
+    back_gaps = np.array([back.gap_eV]) if back_gaps is None else np.asarray(back_gaps, dtype=float)
+    for g in back_gaps:
+        back.check_gap(float(g))
+    d_front = front.thickness_nm if front_thickness_nm is None else float(front_thickness_nm)
+    d_back = back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
+    check_design_inputs(design, conditions, front_gaps, [d_back], (d_front, d_front * 1.0001))
+    conditions.photon_flux.check_gap(back_gaps, "back gap")
+    grid = np.geomspace(*front.thickness_range_nm, thickness_points)
+    shape = (front_gaps.size, back_gaps.size)
+    e2, e4, jf, jb, voc, used = (np.full(shape, np.nan) for _ in range(6))
+    total, done = shape[0] * shape[1], 0
+    for j, gb in enumerate(back_gaps):
+        for i, gf in enumerate(front_gaps):
+            done += 1
+            if gf <= gb:
+                continue
+            d = d_front
+            if rematch:
+                sweep = stack_performance(design, conditions, gf, grid, d_back, gb)
+                matched, _ = _match_thickness(design, conditions, gf, grid, d_back, sweep.j_light,
+                                              gb)
+                d = matched if matched is not None else float(grid[np.argmax(sweep.p_2t)])
+            perf = stack_performance(design, conditions, gf, d, d_back, gb)
+            e2[i, j], e4[i, j] = perf.efficiency_2t, perf.efficiency_4t
+            jf[i, j], jb[i, j] = perf.j_light
+            voc[i, j], used[i, j] = perf.voc_2t, d
+            if progress and (done % 10 == 0 or done == total):
+                progress(done, total)
+    cond = conditions
+    return GapMap(front_gaps, back_gaps, e2, e4, jf, jb, voc, cond.temperature_K,
+                  cond.photon_flux.name, cond.photon_flux.irradiance), used
+
+
+def map_table(gap_map: GapMap, front_thickness_nm=None):
+    """The map as a tidy table: one row per valid gap pair (pandas DataFrame)."""
+    import pandas as pd
+
+    f, b = np.meshgrid(gap_map.front_gaps, gap_map.back_gaps, indexing="ij")
+    valid = np.isfinite(gap_map.efficiency_2t)
+    jf, jb = gap_map.j_front[valid], gap_map.j_back[valid]
+    table = {
+        "front_gap_eV": f[valid],
+        "back_gap_eV": b[valid],
+        "efficiency_2t_pct": 100 * gap_map.efficiency_2t[valid],
+        "efficiency_4t_pct": 100 * gap_map.efficiency_4t[valid],
+        "jsc_front_mA_cm2": jf / 10,
+        "jsc_back_mA_cm2": jb / 10,
+        "voc_2t_V": gap_map.voc_2t[valid],
+        "limiting_subcell": np.where(jf <= jb, "front", "back"),
+        "mismatch_pct": 100 * (np.maximum(jf, jb) - np.minimum(jf, jb)) / np.minimum(jf, jb),
+    }
+    if front_thickness_nm is not None:
+        table["front_thickness_nm"] = np.asarray(front_thickness_nm)[valid]
+    return pd.DataFrame(table)
+
+
+def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
+    """Optimum and tolerance windows of a map, in display units."""
+    from .report import CAUTION
+
+    i, j = gap_map.optimum(terminals)
+    eff = 100 * gap_map.efficiency(terminals)
+    front_window = tolerance_window(gap_map.front_gaps, eff[:, j], tolerance_pct)
+    back_window = (tolerance_window(gap_map.back_gaps, eff[i, :], tolerance_pct)
+                   if gap_map.back_gaps.size > 1 else None)
+    jf, jb = gap_map.j_front[i, j], gap_map.j_back[i, j]
+    return {
+        "optimum": {
+            "front_gap_eV": round(float(gap_map.front_gaps[i]), 4),
+            "back_gap_eV": round(float(gap_map.back_gaps[j]), 4),
+            "efficiency_pct": round(float(eff[i, j]), 4),
+            "terminals": terminals,
+            "efficiency_2t_pct": round(float(100 * gap_map.efficiency_2t[i, j]), 4),
+            "efficiency_4t_pct": round(float(100 * gap_map.efficiency_4t[i, j]), 4),
+            "limiting_subcell": "front" if jf <= jb else "back",
+            "mismatch_pct": round(float(100 * abs(jf - jb) / min(jf, jb)), 3),
+        },
+        "tolerance": {
+            "loss_pct_abs": tolerance_pct,
+            "front_gap_window_eV": [round(v, 4) for v in front_window],
+            "back_gap_window_eV": None if back_window is None else [round(v, 4) for v in back_window],
+        },
+        "grid_points": gap_map.grid_points,
+        "spectrum": gap_map.spectrum,
+        "irradiance_W_m2": round(gap_map.irradiance, 3),
+        "temperature_K": gap_map.temperature_K,
+        "caution": CAUTION,
+    }
