@@ -10,6 +10,7 @@ import functools
 import json
 import shutil
 import sys
+from pathlib import Path
 from typing import Annotated, Optional
 
 import numpy as np
@@ -315,6 +316,8 @@ def match(
     interlayer_parasitic: Annotated[str, typer.Option(
         help="Parasitic absorption between the subcells: fraction or CSV.")] = "0",
     top: Annotated[int, typer.Option(help="Configurations to show.")] = 8,
+    tolerance: Annotated[float, typer.Option(
+        help="Loss [% absolute] defining the thickness and gap tolerance windows.")] = 1.0,
     concentration: ConcentrationOpt = 1.0,
     sun_temperature: SunTemperatureOpt = 6000.0,
     irradiance: IrradianceOpt = None,
@@ -371,7 +374,7 @@ def match(
         swapped = match_currents(design.swapped(), cond, None, None, None, points, terminals,
                                  _callback(bar))
     verdict = which_in_front(result, swapped)
-    summary = tandem.match_summary(result, swapped, verdict, top)
+    summary = tandem.match_summary(result, swapped, verdict, top, tolerance)
     if json_out:
         _emit_json(summary)
     else:
@@ -379,7 +382,7 @@ def match(
     if plot:
         from tandem.plots import match_figure
 
-        written = match_figure(result, plot, overwrite)
+        written = match_figure(result, plot, overwrite, summary["tolerance"])
         err.print(f"wrote {written}")
 
 
@@ -425,6 +428,12 @@ def _print_match(s: dict, show_swapped: bool, top: int) -> None:
     b4 = s["best_4t"]
     out.print(f"best four-terminal: {b4['efficiency_4t_pct']:.2f} % at front gap "
               f"{b4['front_gap_eV']:.3f} eV, {b4['front_thickness_nm']:.0f} nm", highlight=False)
+    tol = s["tolerance"]
+    dw, gw = tol["front_thickness_window_nm"], tol["front_gap_window_eV"]
+    out.print(f"within {tol['loss_pct_abs']:g} % (absolute) of the best: front thickness "
+              f"{dw[0]:.0f}–{dw[1]:.0f} nm" + ("" if gw is None else
+                                              f", front gap {gw[0]:.3f}–{gw[1]:.3f} eV"),
+              highlight=False)
     out.print(f"[bold]order:[/] {escape(s['order']['reason'])}", highlight=False)
     if show_swapped:
         sw = s["swapped"]
@@ -555,6 +564,85 @@ def gap_map(
               f"{summary['irradiance_W_m2']:.2f} W/m², cell {summary['temperature_K']:g} K", highlight=False)
     out.print("wrote " + ", ".join(summary["outputs"]), highlight=False)
     out.print(f"[dim]{summary['caution']}[/]")
+
+
+# --------------------------------------------------------------------------------------
+# study
+# --------------------------------------------------------------------------------------
+
+
+@app.command()
+@friendly
+def study(
+    scenario: Annotated[Optional[str], typer.Argument(
+        help="Bundled scenario name, scenario .toml, or an earlier study's manifest.json. "
+        "Default: wide-gap-partner-for-silicon.", show_default=False)] = None,
+    out_dir: Annotated[Optional[str], typer.Option(
+        "--out", help="Study folder to write. Default: study-<scenario name>.")] = None,
+    overwrite: Annotated[bool, typer.Option(help="Replace an existing study folder.")] = False,
+    figures: Annotated[bool, typer.Option(help="Write the figures.")] = True,
+    list_all: Annotated[bool, typer.Option("--list", help="List the bundled scenarios.")] = False,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="No progress bar.")] = False,
+    json_out: JsonOpt = False,
+):
+    """Run a whole design study and write its folder: ranked table (CSV, Markdown, LaTeX),
+    figures and a manifest to reproduce it.
+
+    Examples:
+
+      tandem study
+
+      tandem study low-cost-organic-pair --out organic
+
+      tandem study my-study.toml --overwrite
+
+      tandem study study-wide-gap-partner-for-silicon/manifest.json --out rerun
+    """
+    from tandem.study import bundled_scenarios, load_scenario, run_study, write_study
+
+    if list_all:
+        for name, path in bundled_scenarios().items():
+            out.print(f"[bold]{name}[/]: {escape(load_scenario(name).data['question'])}")
+        return
+    sc = load_scenario(scenario)
+    folder = Path(out_dir or f"study-{sc.key}")
+    if folder.exists() and not overwrite:  # refuse before the work, not after
+        raise TandemInputError(f"study folder '{folder}' exists; choose another --out or pass --overwrite")
+    with _progress(quiet or json_out, f"study {sc.key}") as bar:
+        result = run_study(sc, _callback(bar))
+        written = write_study(result, folder, overwrite, figures)
+    if json_out:
+        _emit_json({"scenario": sc.key, "title": sc.data["title"], "folder": str(written),
+                    "terminals": sc.terminals, "rows": result.rows, "skipped": result.skipped,
+                    "spectrum": result.spectrum_name, "irradiance_W_m2": round(result.irradiance, 3),
+                    "temperature_K": sc.temperature_K, "caution": tandem.CAUTION})
+        return
+    table = Table(title=f"{sc.data['title']} — ranked designs ({sc.terminals}T)", title_justify="left")
+    cols = ["#", "front", "back", "gap eV", "front nm", "match nm", "back µm", "Jsc F", "Jsc B",
+            "limits", "mism. %", "2T %", "4T %", "±%g%% thickness nm" % sc.tolerance_pct]
+    for col in cols:
+        table.add_column(col, justify="left" if col in ("front", "back", "limits") else "right")
+    for r in result.rows[: sc.top]:
+        m = r["matched_front_thickness_nm"]
+        table.add_row(str(r["rank"]), r["front"], r["back"], f"{r['front_gap_eV']:.3f}",
+                      f"{r['front_thickness_nm']:.0f}", "none" if m is None else f"{m:.0f}",
+                      f"{r['back_thickness_um']:g}", f"{r['jsc_front_mA_cm2']:.2f}",
+                      f"{r['jsc_back_mA_cm2']:.2f}", r["limiting_subcell"],
+                      f"{r['mismatch_pct']:.2f}", f"[bold]{r['efficiency_2t_pct']:.2f}[/]",
+                      f"{r['efficiency_4t_pct']:.2f}", r["front_thickness_window_nm"])
+    table.caption = "Jsc F/B: front/back photocurrent (mA/cm²); limits: the limiting subcell"
+    out.print(escape(sc.data["question"]), highlight=False)
+    out.print(table)
+    best = result.rows[0]
+    out.print(f"best: [bold]{best['front']}[/] at {best['front_gap_eV']:.3f} eV over "
+              f"[bold]{best['back']}[/]; the {best['limiting_subcell']} subcell limits the current "
+              f"(mismatch {best['mismatch_pct']:.2f} %)", highlight=False)
+    for note in result.skipped:
+        out.print(f"skipped: {escape(note)}", highlight=False)
+    out.print(f"spectrum: {result.spectrum_name}, {result.irradiance:.2f} W/m²; cell "
+              f"{sc.temperature_K:g} K", highlight=False)
+    out.print(f"wrote {written}/ (design-table.csv/.md/.tex, figures/, manifest.json)", highlight=False)
+    out.print(f"[dim]{tandem.CAUTION}[/]")
 
 
 def main() -> None:

@@ -145,40 +145,50 @@ SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
 
 
 class _Checker:
-    def __init__(self, path: Path, data: dict):
+    """Strict checks of a parsed TOML file against a schema; every failure is one line."""
+
+    def __init__(self, path: Path, data: dict, schema=None, label: str = "absorber file",
+                 required_sections=("gap", "absorption", "optics", "electrical", "thickness",
+                                    "sources"), free_sections=("sources",)):
         self.path = path
         self.data = data
+        self.schema = SCHEMA if schema is None else schema
+        self.label = label
+        self.required_sections = required_sections
+        self.free_sections = free_sections
 
     def fail(self, field_name: str, problem: str, fix: str) -> None:
-        raise TandemInputError(f"absorber file '{self.path}': field '{field_name}' {problem}; {fix}")
+        raise TandemInputError(f"{self.label} '{self.path}': field '{field_name}' {problem}; {fix}")
 
     def check_keys(self) -> None:
+        schema = self.schema
         for key, value in self.data.items():
-            if key in SCHEMA and key:
+            if key in schema and key:
                 if not isinstance(value, dict):
                     self.fail(key, "must be a [section]", f"write it as [{key}] with its keys below")
-                if key == "sources":
+                if key in self.free_sections:
                     continue
                 for sub in value:
-                    if sub not in SCHEMA[key]:
-                        hint = difflib.get_close_matches(sub, SCHEMA[key], n=1)
+                    if sub not in schema[key]:
+                        hint = difflib.get_close_matches(sub, schema[key], n=1)
                         fix = f"did you mean '{hint[0]}'?" if hint else \
-                            f"allowed keys: {', '.join(SCHEMA[key])}"
+                            f"allowed keys: {', '.join(schema[key])}"
                         self.fail(f"{key}.{sub}", "is not a known key", fix)
-            elif key not in SCHEMA[""]:
-                hint = difflib.get_close_matches(key, list(SCHEMA) + list(SCHEMA[""]), n=1)
+            elif key not in schema[""]:
+                hint = difflib.get_close_matches(key, list(schema) + list(schema[""]), n=1)
                 fix = f"did you mean '{hint[0]}'?" if hint else "remove it"
                 self.fail(key, "is not a known key", fix)
-        for section in ("gap", "absorption", "optics", "electrical", "thickness", "sources"):
+        for section in self.required_sections:
             if section not in self.data:
                 self.fail(section, "is missing", f"add a [{section}] section (see the README)")
-        for section, keys in SCHEMA.items():
+        for section, keys in schema.items():
             for key, (kind, required) in keys.items():
                 where = self.data if not section else self.data.get(section, {})
                 name = f"{section}.{key}" if section else key
                 if key not in where:
-                    if required:
-                        self.fail(name, "is missing", "add it (see the README's absorber schema)")
+                    present = not section or section in self.data
+                    if required and present:
+                        self.fail(name, "is missing", "add it (see the README)")
                     continue
                 self.check_kind(name, where[key], kind)
 
@@ -188,6 +198,9 @@ class _Checker:
         if kind == "num":
             if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
                 self.fail(name, f"= {value!r} must be a finite number", "give a number")
+        if kind == "strlist":
+            if not (isinstance(value, list) and value and all(isinstance(v, str) for v in value)):
+                self.fail(name, f"= {value!r} must be a list of names", 'write e.g. ["silicon"]')
         if kind == "numlist":
             if not (isinstance(value, list) and value and all(
                     isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
@@ -204,17 +217,17 @@ class _Checker:
         return value
 
 
-def _read_toml(path: Path) -> dict:
+def _read_toml(path: Path, label: str = "absorber file",
+               hint: str = "or a bundled name (see 'tandem absorbers')") -> dict:
     if not path.is_file():
-        raise TandemInputError(f"absorber file '{path}' not found; give a path to a .toml file "
-                               "or a bundled name (see 'tandem absorbers')")
+        raise TandemInputError(f"{label} '{path}' not found; give a path to a .toml file {hint}")
     try:
         with open(path, "rb") as fh:
             return tomllib.load(fh)
     except tomllib.TOMLDecodeError as exc:
-        raise TandemInputError(f"absorber file '{path}': not valid TOML ({exc}); fix the syntax") from None
+        raise TandemInputError(f"{label} '{path}': not valid TOML ({exc}); fix the syntax") from None
     except (OSError, UnicodeDecodeError) as exc:
-        raise TandemInputError(f"absorber file '{path}' cannot be read ({exc})") from None
+        raise TandemInputError(f"{label} '{path}' cannot be read ({exc})") from None
 
 
 def parse_absorber(path: Path) -> Absorber:

@@ -266,3 +266,32 @@ def which_in_front(chosen: MatchResult, swapped: MatchResult) -> OrderVerdict:
               f"{kind} {100 * max(a, b):.2f} % against {100 * min(a, b):.2f} % with "
               f"{loser.key} in front")
     return OrderVerdict(winner.key, a >= b, reason)
+
+
+def tolerance_windows(result: MatchResult, loss_pct: float = 1.0) -> dict:
+    """Front-thickness and front-gap windows that keep efficiency within ``loss_pct`` % abs.
+
+    The thickness window is read from the best configuration's sweep; the gap window from
+    the best configuration of each gap at the same back thickness (None for one gap).
+    """
+    from .maps import tolerance_window
+
+    sweep = result.best_sweep
+    perf = sweep.performance
+    eff = 100 * (perf.efficiency_2t if result.terminals == 2 else perf.efficiency_4t)
+    d_window = tolerance_window(np.log(sweep.front_thickness_nm), eff, loss_pct)
+    best = result.configurations[0]
+    same_back = sorted((c for c in result.configurations
+                        if c.back_thickness_nm == best.back_thickness_nm),
+                       key=lambda c: c.front_gap_eV)
+    gap_window = None
+    if len(same_back) > 1:
+        gaps = np.array([c.front_gap_eV for c in same_back])
+        effs = 100 * np.array([c.efficiency_2t if result.terminals == 2 else c.efficiency_4t
+                               for c in same_back])
+        gap_window = tolerance_window(gaps, effs, loss_pct)
+    return {
+        "loss_pct_abs": loss_pct,
+        "front_thickness_window_nm": [float(np.exp(d_window[0])), float(np.exp(d_window[1]))],
+        "front_gap_window_eV": None if gap_window is None else [float(g) for g in gap_window],
+    }

@@ -22,6 +22,18 @@ def bundled_dir(kind: str) -> Path:
     return installed if installed.is_dir() else _PACKAGE.parent / kind
 
 
+def _umask_mode(mode: int) -> int:
+    """``mode`` as the user's umask would leave it (temporary files start private)."""
+    mask = os.umask(0)
+    os.umask(mask)
+    return mode & ~mask
+
+
+def publish_mode(path: Path) -> None:
+    """Give a finished temporary file or folder the permissions a plain write would."""
+    os.chmod(path, _umask_mode(0o777 if Path(path).is_dir() else 0o666))
+
+
 def check_new_output(path: str | Path, overwrite: bool = False) -> Path:
     """Refuse to replace an existing file unless ``overwrite``; the folder must exist."""
     path = Path(path)
@@ -43,6 +55,7 @@ def write_whole(path: str | Path, write: Callable[[Path], None], overwrite: bool
     tmp = Path(tmp)
     try:
         write(tmp)
+        publish_mode(tmp)
         os.replace(tmp, path)
     finally:
         tmp.unlink(missing_ok=True)
@@ -63,6 +76,7 @@ def write_all_whole(writers: dict, overwrite: bool = False) -> list[Path]:
             os.close(fd)
             temps[path] = Path(tmp)
             write(temps[path])
+            publish_mode(temps[path])
         for path, tmp in temps.items():
             os.replace(tmp, path)
     finally:

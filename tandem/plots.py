@@ -28,7 +28,7 @@ def _save(fig, path, overwrite):
         plt.close(fig)
 
 
-def match_figure(result: MatchResult, path, overwrite: bool = False) -> Path:
+def match_figure(result: MatchResult, path, overwrite: bool = False, tolerance=None) -> Path:
     """Subcell currents against front thickness, and absorptance against wavelength."""
     sweep = result.best_sweep
     best = result.configurations[0]
@@ -47,6 +47,10 @@ def match_figure(result: MatchResult, path, overwrite: bool = False) -> Path:
                      textcoords="offset points", fontsize=8, ha="right",
                      bbox={"boxstyle": "round", "fc": "white", "ec": "0.8"})
     ax1.axvline(best.front_thickness_nm, color="0.6", ls=":", lw=1)
+    if tolerance is not None:
+        lo, hi = tolerance["front_thickness_window_nm"]
+        ax1.axvspan(lo, hi, color="0.92", zorder=0,
+                    label=f"within {tolerance['loss_pct_abs']:g} % of best: {lo:.0f}–{hi:.0f} nm")
     ax1.set_xscale("log")
     ax1.xaxis.set_major_locator(matplotlib.ticker.LogLocator(subs=(1.0, 2.0, 5.0)))
     ax1.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))

@@ -84,9 +84,12 @@ def _absorber(a) -> dict:
             "ere": a.ere, "ere_origin": a.ere_origin, "file": str(a.path)}
 
 
-def match_summary(result, swapped=None, verdict=None, top: int = 10) -> dict:
+def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_pct: float = 1.0) -> dict:
     """The keys documented for ``tandem match --json``."""
+    from .design import tolerance_windows
+
     best = result.configurations[0]
+    windows = tolerance_windows(result, tolerance_pct)
     cond = result.conditions
     summary = {
         "front": _absorber(result.design.front),
@@ -97,6 +100,12 @@ def match_summary(result, swapped=None, verdict=None, top: int = 10) -> dict:
                                        else _r(best.matched_front_thickness_nm, 1)),
         "note": best.match_note if best.matched_front_thickness_nm is None else None,
         "best_4t": _configuration(result.best_4t),
+        "tolerance": {
+            "loss_pct_abs": tolerance_pct,
+            "front_thickness_window_nm": [_r(v, 1) for v in windows["front_thickness_window_nm"]],
+            "front_gap_window_eV": (None if windows["front_gap_window_eV"] is None
+                                    else [_r(v) for v in windows["front_gap_window_eV"]]),
+        },
         "losses": {
             "reflectance": _loss(result.design.reflectance),
             "front_parasitic": _loss(result.design.front_parasitic),

@@ -1,0 +1,156 @@
+"""Scenario files and study folders: round trip, malformed files, table formats, figures."""
+
+import json
+import re
+
+import pandas as pd
+import pytest
+from typer.testing import CliRunner
+
+import tandem
+from cli import app
+from tandem.study import bundled_scenarios, load_scenario, run_study, study_rows_equal, write_study
+
+runner = CliRunner()
+
+SMALL = """
+# test scenario: two pairs, coarse sweep
+title = "Small test study"
+question = "Which of two fronts suits silicon?"
+
+[spectrum]
+source = "am1.5g"
+temperature_K = 300
+
+[stack]
+reflectance = 0.02
+
+[candidates]
+front = ["perovskite-wide", "gainp"]
+back = ["silicon"]
+
+[sweep]
+front_gap_step_eV = 0.05
+thickness_points = 20
+
+[map]
+front_gaps_eV = [1.5, 2.0, 0.05]
+back_gaps_eV = [0.9, 1.3, 0.05]
+
+[report]
+tolerance_pct = 1.0
+"""
+
+
+@pytest.fixture(scope="module")
+def small(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("scenario")
+    path = folder / "small.toml"
+    path.write_text(SMALL)
+    scenario = load_scenario(path)
+    study = run_study(scenario)
+    out = write_study(study, folder / "out")
+    return scenario, study, out
+
+
+def test_at_least_three_bundled_scenarios_each_say_their_question():
+    names = bundled_scenarios()
+    assert len(names) >= 3
+    for name, path in names.items():
+        text = path.read_text()
+        assert text.lstrip().startswith("# Question:")
+        load_scenario(name)  # resolves every absorber and checks every field
+
+
+def test_round_trip_through_manifest_reproduces_table(small):
+    scenario, study, out = small
+    again = run_study(load_scenario(out / "manifest.json"))
+    assert study_rows_equal(study.rows, again.rows)
+    manifest = json.loads((out / "manifest.json").read_text())
+    assert manifest["spectrum"]["integrated_W_m2"] == pytest.approx(1000.37, abs=0.01)
+    assert set(manifest["absorber_files"]) == {"perovskite-wide", "gainp", "silicon"}
+    assert manifest["packages"]["numpy"] and len(manifest["inputs_sha256"]) == 64
+    # the written CSV is the same table
+    csv = pd.read_csv(out / "design-table.csv")
+    assert list(csv["front"]) == [r["front"] for r in study.rows]
+
+
+def test_markdown_table_parses(small):
+    _, study, out = small
+    lines = [l for l in (out / "design-table.md").read_text().splitlines() if l.startswith("|")]
+    widths = {l.count("|") for l in lines}
+    assert len(widths) == 1 and len(lines) == 2 + len(study.rows)
+    assert re.fullmatch(r"\|(---\|)+", lines[1])
+    assert "not certified measurements" in (out / "design-table.md").read_text()
+
+
+def test_latex_table_rows_balanced(small):
+    _, study, out = small
+    tex = (out / "design-table.tex").read_text()
+    spec = re.search(r"\\begin\{tabular\}\{([lrc]+)\}", tex).group(1)
+    body = tex.split(r"\hline")[2]  # rows between the header rule and the last rule
+    header = tex.split(r"\hline")[1]
+    rows = [r for r in (header + body).split(r"\\") if r.strip()]
+    assert len(rows) == 1 + len(study.rows)
+    for row in rows:
+        assert row.count("&") == len(spec) - 1
+        assert not re.search(r"(?<!\\)[%_#]", row)  # specials escaped
+    assert tex.count(r"\begin{") == tex.count(r"\end{")
+
+
+def test_figures_are_real_images(small):
+    _, study, out = small
+    pngs = sorted((out / "figures").glob("*.png"))
+    assert {p.name for p in pngs} >= {"match-perovskite-wide-over-silicon.png", "gap-map.png"}
+    for p in pngs:
+        data = p.read_bytes()
+        assert data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 30_000
+        width, height = int.from_bytes(data[16:20], "big"), int.from_bytes(data[20:24], "big")
+        assert width > 600 and height > 400
+
+
+def test_refuses_to_overwrite_and_leaves_folder(small, tmp_path):
+    scenario, study, out = small
+    before = (out / "design-table.csv").read_bytes()
+    with pytest.raises(tandem.TandemInputError, match="exists; choose another --out or pass --overwrite"):
+        write_study(study, out)
+    assert (out / "design-table.csv").read_bytes() == before
+    assert write_study(study, out, overwrite=True, figures=False) == out
+    assert not (out / "figures").exists()  # replaced whole, not merged
+
+
+BAD = [
+    ('title = "Small test study"\n', "", "'title' is missing"),
+    ('source = "am1.5g"', 'source = "am9"', "field 'spectrum' cannot be used"),
+    ("temperature_K = 300", "temperature_K = -3", "spectrum.temperature_K -3 K"),
+    ('front = ["perovskite-wide", "gainp"]', 'front = ["perovskite-wide", "unobtainium"]',
+     "'candidates.front' names 'unobtainium'"),
+    ("[stack]\nreflectance = 0.02", "[stack]\nreflectance = 1.5", "'stack.reflectance' = 1.5"),
+    ("[stack]", "[stack]\nterminals = 3", "'stack.terminals' = 3"),
+    ("thickness_points = 20", "thickness_points = 2", "'sweep.thickness_points'"),
+    ("front_gaps_eV = [1.5, 2.0, 0.05]", "front_gaps_eV = [2.0, 1.5, 0.05]", "'map.front_gaps_eV'"),
+    ("[report]", "[report]\ncolour = 1", "'report.colour' is not a known key"),
+    ("[candidates]", "[candidate]", "'candidate' is not a known key"),
+]
+
+
+@pytest.mark.parametrize("old, new, message", BAD)
+def test_malformed_scenario_one_line(tmp_path, old, new, message):
+    assert old in SMALL
+    path = tmp_path / "bad.toml"
+    path.write_text(SMALL.replace(old, new))
+    res = runner.invoke(app, ["study", str(path), "--out", str(tmp_path / "o")])
+    assert res.exit_code == 2, res.output
+    line = res.stderr.strip()
+    assert len(line.splitlines()) == 1 and message in line
+    assert "scenario file" in line or "spectrum" in line
+    assert not (tmp_path / "o").exists()
+
+
+def test_default_study_runs_from_the_cli(tmp_path):
+    res = runner.invoke(app, ["study", "--out", str(tmp_path / "s"), "-q"])
+    assert res.exit_code == 0, res.output
+    assert "limits the current" in res.stdout and "not certified measurements" in res.stdout
+    assert (tmp_path / "s" / "manifest.json").is_file()
+    res = runner.invoke(app, ["study", "--out", str(tmp_path / "s")])
+    assert res.exit_code == 2 and "--overwrite" in res.stderr
