@@ -102,14 +102,17 @@ def step_photocurrent(photon_flux, gap_eV, upper_gap_eV=None, cumulative=None):
     return Q * current
 
 
-def _bose_tail(x, terms=16):
+def _bose_tail(x):
     """∫_x^∞ t²/(eᵗ − 1) dt by the series Σ_k e^{−kx} (x²/k + 2x/k² + 2/k³); x > 0.
 
-    x = +inf gives 0 (no band above an infinite edge).
+    Terms are added until e^{−kx} < 1e-17 for the smallest x (at most 40 terms; the
+    series then has converged to double precision). x = +inf gives 0.
     """
     x = np.asarray(x, dtype=float)
     finite = np.where(np.isfinite(x), x, 0.0)
     total = np.zeros_like(finite)
+    smallest = float(np.min(finite[finite > 0], initial=np.inf)) if finite.size else np.inf
+    terms = 40 if not np.isfinite(smallest) or smallest <= 0 else min(40, int(39.2 / smallest) + 2)
     for k in range(1, terms + 1):
         total += np.exp(-k * finite) * (finite**2 / k + 2 * finite / k**2 + 2 / k**3)
     return np.where(np.isfinite(x), total, 0.0)
@@ -119,7 +122,7 @@ def step_radiative_dark_current(gap_eV, temperature_K, upper_gap_eV=None):
     """J0,rad [A/m²] of a step absorber, from the closed form of the blackbody integral.
 
     J0,rad = q · 2π/(h³c²) · (kT)³ · ∫_{Eg/kT}^{∞} t²/(eᵗ−1) dt; the series converges
-    geometrically for Eg ≫ kT (16 terms: exact to double precision for Eg/kT > 2.5).
+    geometrically for Eg ≫ kT (two or three terms for real gaps at room temperature).
     With ``upper_gap_eV`` only emission between the two gaps counts (the back cell of a
     stack whose front cell absorbs everything above its own gap).
     """
@@ -207,7 +210,7 @@ def series_voltage(current, j_light, j0, temperature_K, ideality=1.0):
     return np.sum(vt * np.log1p((j_light - current) / j0), axis=-1)
 
 
-def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=60):
+def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=50):
     """Maximum power point of series-connected ideal diodes (a two-terminal stack).
 
     Parameters
@@ -222,33 +225,46 @@ def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=60):
     Notes
     -----
     P(J) = J·ΣV_i(J) with V_i = (nkT/q)·ln((J_L,i − J)/J0,i + 1) is strictly concave on
-    0 < J < min J_L,i (V_i' < 0 and V_i'' < 0), so P'(J) = ΣV_i − J·Σ nkT/q/(J_L,i − J + J0,i)
-    has one root. It is found by Newton steps kept inside a shrinking bracket (falling back
-    to bisection), all points at once.
+    0 < J < min J_L,i (V_i' < 0 and V_i'' < 0), so P'(J) has one root. Each term of
+    P'(J) = Σ(V_i + J·V_i') is the derivative of subcell i's own power, so the root lies
+    between min J_mp,i and min J_L,i. Near the limiting photocurrent A = J_L + J0 of the
+    limiting subcell, V_lim ∝ ln(A − J) varies fastest; Newton's method on
+    s = ln(A − J) (the distance to it, on a log scale) converges in about four steps from
+    s₀ = ln(A/(1 + Σ qVoc,i/nkT)) for all points at once. Steps that leave the bracket
+    fall back to bisection in s.
     """
     j_light = np.asarray(j_light, dtype=float)
     j0 = np.asarray(j0, dtype=float)
-    vt = thermal_voltage(temperature_K, ideality)
-    vt = vt[..., None] if np.ndim(vt) else vt
-    lo = np.zeros(np.broadcast_shapes(j_light.shape, j0.shape)[:-1])
-    hi = np.min(j_light, axis=-1) + 0.0 * lo
-    # Start near the limiting cell's own maximum power point.
-    j = np.min(single_junction_mpp(j_light, j0, vt / K_B_EV, 1.0)[0], axis=-1) + 0.0 * lo
+    shape = np.broadcast_shapes(j_light.shape, j0.shape)
+    # subcells first: each subcell's arrays are contiguous, and sums over the (short)
+    # subcell axis become a few whole-array additions
+    jl = np.moveaxis(np.broadcast_to(j_light, shape), -1, 0)
+    j0s = np.moveaxis(np.broadcast_to(j0, shape), -1, 0)
+    m = shape[-1]
+    limiting = np.argmin(jl, axis=0)
+    top = np.take_along_axis(jl + j0s, limiting[None], axis=0)[0]  # A = J_L + J0 of the limiting cell
+    j_low = single_junction_mpp(jl, j0s, temperature_K, ideality)[0].min(axis=0)
+    s_hi = np.log(top - j_low)  # P' ≥ 0 here
+    s_lo = np.log(np.take_along_axis(j0s, limiting[None], axis=0)[0])  # J = J_L,lim: P' < 0
+    reduced_voc = sum(np.log1p(jl[i] / j0s[i]) for i in range(m))
+    s = np.clip(np.log(top / (1.0 + reduced_voc)), s_lo, s_hi)
     for _ in range(iterations):
-        d = j_light - j[..., None] + j0
-        volt = np.sum(vt * np.log(d / j0), axis=-1)
-        inv = np.sum(vt / d, axis=-1)
-        inv2 = np.sum(vt / d**2, axis=-1)
-        slope = volt - j * inv  # P'(J)
-        curvature = -2.0 * inv - j * inv2  # P''(J) < 0
-        lo = np.where(slope > 0, j, lo)
-        hi = np.where(slope > 0, hi, j)
-        step = j - slope / curvature
-        inside = (step > lo) & (step < hi)
-        new = np.where(inside, step, 0.5 * (lo + hi))
-        if np.all(np.abs(new - j) <= 1e-13 * np.maximum(hi, 1e-300)):
-            j = new
+        gap = np.exp(s)
+        j = top - gap
+        d = [jl[i] - j + j0s[i] for i in range(m)]
+        inv = [1.0 / di for di in d]
+        inv_sum = sum(inv)
+        slope = sum(np.log(d[i] / j0s[i]) for i in range(m)) - j * inv_sum  # P'(J)·q/(nkT)
+        d_slope_ds = gap * (2.0 * inv_sum + j * sum(x * x for x in inv))  # dP'/ds > 0
+        s_lo = np.where(slope < 0, s, s_lo)
+        s_hi = np.where(slope < 0, s_hi, s)
+        step = s - slope / d_slope_ds
+        new = np.where((step >= s_lo) & (step <= s_hi), step, 0.5 * (s_lo + s_hi))
+        done = np.max(np.abs(new - s), initial=0.0) < 1e-13
+        s = new
+        if done:
             break
-        j = new
-    v = series_voltage(j, j_light, j0, vt[..., 0] / K_B_EV if np.ndim(vt) else vt / K_B_EV)
+    j = top - np.exp(s)
+    vt = thermal_voltage(temperature_K, ideality)
+    v = vt * sum(np.log1p((jl[i] - j) / j0s[i]) for i in range(m))
     return j, v, j * v

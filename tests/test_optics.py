@@ -137,3 +137,20 @@ def test_collection_efficiency_limits():
     assert collection_efficiency(1e4, 500.0, 1e9) == pytest.approx(1.0, abs=1e-6)
     # weakly absorbed light: uniform generation, mean of exp(−z/L) over the layer
     assert collection_efficiency(1e-6, 100.0, 100.0) == pytest.approx(1 - np.exp(-1.0), rel=1e-6)
+
+
+@pytest.mark.parametrize("front_key", ["perovskite-wide", "organic-wide"])  # without/with L_c
+def test_fast_currents_equal_integrated_eqe(am15g, front_key):
+    # the matrix-product path must equal integrating the full EQE arrays of stack_optics
+    from tandem.design import stack_light, subcell_currents
+
+    e = am15g.energy
+    design = StackDesign(tandem.load_absorber(front_key), tandem.load_absorber("silicon"),
+                         0.03 + 0.02 * np.cos(e), 0.02, 0.01)
+    cond = Conditions(am15g, 298.15)
+    d = np.array([60.0, 250.0, 900.0])
+    j_light, j0 = subcell_currents(design, cond, 1.75, d, 160e3)
+    light = stack_light(design, e, 1.75, d, 160e3)
+    for i, eqe in enumerate((light.front_eqe, light.back_eqe)):
+        assert j_light[:, i] == pytest.approx(tandem.photocurrent(e, am15g.flux, eqe), rel=1e-10)
+        assert j0[:, i] == pytest.approx(tandem.radiative_dark_current(e, eqe, 298.15), rel=1e-8)
