@@ -29,7 +29,8 @@ def blackbody_photon_flux(energy_eV, temperature_K):
     half-space (physics notes; Rau 2007 Eq. 1 with a = 1).
     """
     energy = np.asarray(energy_eV, dtype=float)
-    return BB_FLUX_PREFACTOR * energy**2 / np.expm1(energy / (K_B_EV * temperature_K))
+    with np.errstate(over="ignore"):  # far above kT the flux is zero, as it should be
+        return BB_FLUX_PREFACTOR * energy**2 / np.expm1(energy / (K_B_EV * temperature_K))
 
 
 def photocurrent(energy_eV, flux, absorptance):
@@ -113,8 +114,12 @@ def _bose_tail(x):
     total = np.zeros_like(finite)
     smallest = float(np.min(finite[finite > 0], initial=np.inf)) if finite.size else np.inf
     terms = 40 if not np.isfinite(smallest) or smallest <= 0 else min(40, int(39.2 / smallest) + 2)
+    decay = np.exp(-finite)
+    power = decay.copy()  # e^{−kx}, built by multiplication
+    x2 = finite * finite
     for k in range(1, terms + 1):
-        total += np.exp(-k * finite) * (finite**2 / k + 2 * finite / k**2 + 2 / k**3)
+        total += power * (x2 / k + 2 * finite / k**2 + 2 / k**3)
+        power *= decay
     return np.where(np.isfinite(x), total, 0.0)
 
 
@@ -171,9 +176,13 @@ def _solve_w_plus_log_w(y):
 
     Newton's method from w = y − ln y; works in logarithms so that eʸ never overflows.
     """
-    w = np.maximum(y - np.log(y), 1.0)
-    for _ in range(8):
-        w = w - (w + np.log(w) - y) / (1.0 + 1.0 / w)
+    log_y = np.log(y)
+    w = np.maximum(y - log_y + log_y / y, 1.0)  # asymptotic start, good to ~(ln y / y)²
+    for _ in range(6):
+        step = (w + np.log(w) - y) / (1.0 + 1.0 / w)
+        w = w - step
+        if np.max(np.abs(step) / w, initial=0.0) < 1e-15:
+            break
     return w
 
 
@@ -210,13 +219,15 @@ def series_voltage(current, j_light, j0, temperature_K, ideality=1.0):
     return np.sum(vt * np.log1p((j_light - current) / j0), axis=-1)
 
 
-def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=50):
+def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=50, own_mpp_current=None):
     """Maximum power point of series-connected ideal diodes (a two-terminal stack).
 
     Parameters
     ----------
     j_light, j0 : (..., m) arrays
         Photocurrent and saturation current of each of the m subcells [A/m²].
+    own_mpp_current : (..., m) array, optional
+        Each subcell's own maximum-power current, if already known (saves recomputing it).
 
     Returns
     -------
@@ -243,7 +254,10 @@ def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=50):
     m = shape[-1]
     limiting = np.argmin(jl, axis=0)
     top = np.take_along_axis(jl + j0s, limiting[None], axis=0)[0]  # A = J_L + J0 of the limiting cell
-    j_low = single_junction_mpp(jl, j0s, temperature_K, ideality)[0].min(axis=0)
+    if own_mpp_current is None:
+        j_low = single_junction_mpp(jl, j0s, temperature_K, ideality)[0].min(axis=0)
+    else:
+        j_low = np.min(own_mpp_current, axis=-1)
     s_hi = np.log(top - j_low)  # P' ≥ 0 here
     s_lo = np.log(np.take_along_axis(j0s, limiting[None], axis=0)[0])  # J = J_L,lim: P' < 0
     reduced_voc = sum(np.log1p(jl[i] / j0s[i]) for i in range(m))

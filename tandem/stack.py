@@ -103,7 +103,8 @@ def evaluate_stack(j_light, j0, temperature_K, irradiance, ideality=1.0) -> Stac
         j_2t, v_2t, p_2t = j_own[..., 0], v_own[..., 0], p_own[..., 0]
         v_2t_sub = v_own
     else:
-        j_2t, v_2t, p_2t = db.series_mpp(j_light, j0, temperature_K, ideality)
+        j_2t, v_2t, p_2t = db.series_mpp(j_light, j0, temperature_K, ideality,
+                                         own_mpp_current=j_own)
         v_2t_sub = db.diode_voltage(j_2t[..., None], j_light, j0, temperature_K, ideality)
     return StackPerformance(j_light, j0, voc, p_own, j_own, v_own, j_2t, v_2t, p_2t,
                             v_2t_sub, float(irradiance))

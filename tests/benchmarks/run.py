@@ -1,0 +1,224 @@
+"""Speed benchmark: the tool against a straightforward per-point reference, same inputs.
+
+Run on demand (not part of the test suite):
+
+    python tests/benchmarks/run.py            # all cases
+    python tests/benchmarks/run.py --quick    # smaller reference samples
+
+For each case it prints configurations per second and peak memory at two sizes (to show
+that cost grows linearly), and for cases (a) and (b) the speed ratio against a reference
+implementation contained here (a Python loop over points, numpy.trapezoid integrals on the
+spectrum's own grid, scipy.optimize for each maximum power point) run on a random sample of
+the same grid, with its per-point cost extrapolated and the largest efficiency difference.
+The last line reads ``speedup: <ratio>x, max difference: <value> % abs`` for case (a).
+"""
+
+from __future__ import annotations
+
+import argparse
+import gc
+import os
+import resource
+import sys
+import time
+import tracemalloc
+from pathlib import Path
+
+import numpy as np
+from scipy import optimize
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+
+import tandem  # noqa: E402
+from tandem import detailed_balance as db  # noqa: E402
+from tandem.design import Conditions, StackDesign, stack_performance  # noqa: E402
+from tandem.maps import step_gap_map  # noqa: E402
+from tandem.optics import LayerOptics, stack_optics  # noqa: E402
+from tandem.units import Q  # noqa: E402
+
+T_CELL = 300.0
+
+
+def measure(fn, repeats=3):
+    """Best wall time of ``repeats`` runs, and the peak traced memory of one more run."""
+    best = np.inf
+    for _ in range(repeats):
+        gc.collect()
+        t0 = time.perf_counter()
+        fn()
+        best = min(best, time.perf_counter() - t0)
+    gc.collect()
+    tracemalloc.start()
+    fn()
+    peak = tracemalloc.get_traced_memory()[1]
+    tracemalloc.stop()
+    return best, peak
+
+
+def line(label, n, seconds, peak):
+    print(f"  {label:<34} {n:>9,} configs  {seconds:8.3f} s  {n / seconds:>12,.0f} configs/s"
+          f"  peak {peak / 2**20:7.1f} MiB")
+
+
+# --------------------------------------------------------------------------------------
+# reference implementation: one point at a time, the obvious way
+# --------------------------------------------------------------------------------------
+
+
+def ref_band(energy, flux, lo, hi, temperature):
+    """J_L and J0,rad [A/m²] of photons between lo and hi: numpy.trapezoid on the spectrum's
+    grid, with the two edges inserted as extra points (linear interpolation of the flux)."""
+    inside = (energy > lo) & (energy < hi)
+    x = np.concatenate(([lo], energy[inside], [hi]))
+    sun = np.interp(x, energy, flux)
+    bb = db.blackbody_photon_flux(x, temperature)
+    return Q * np.trapezoid(sun, x), Q * np.trapezoid(bb, x)
+
+
+def ref_series_mpp(jl, j0, temperature):
+    vt = db.thermal_voltage(temperature)
+
+    def minus_power(j):
+        return -j * np.sum(vt * np.log1p((jl - j) / j0))
+
+    top = float(np.min(jl))
+    res = optimize.minimize_scalar(minus_power, bounds=(0.0, top), method="bounded",
+                                   options={"xatol": 1e-10 * top, "maxiter": 500})
+    return -res.fun
+
+
+def ref_step_efficiency(flux, front, back):
+    e, phi = flux.energy, flux.flux
+    jl_f, j0_f = ref_band(e, phi, front, e[-1], T_CELL)
+    jl_b, j0_b = ref_band(e, phi, back, front, T_CELL)
+    return ref_series_mpp(np.array([jl_f, jl_b]), np.array([j0_f, j0_b]), T_CELL) / flux.irradiance
+
+
+def ref_optics_efficiency(design, cond, gap, thickness, back_thickness):
+    e, phi = cond.photon_flux.energy, cond.photon_flux.flux
+    front = LayerOptics(design.front.alpha(e, gap), thickness, "single-pass",
+                        design.front.refractive_index, design.front.collection_length_nm)
+    back = design.back.layer(e, back_thickness)
+    light = stack_optics(front, back, design.reflectance, design.front_parasitic,
+                         design.interlayer_parasitic)
+    bb = db.blackbody_photon_flux(e, cond.temperature_K)
+    jl, j0 = [], []
+    for eqe, ere in ((light.front_eqe, design.front.ere), (light.back_eqe, design.back.ere)):
+        jl.append(Q * np.trapezoid(eqe * phi, e))
+        j0.append(Q * np.trapezoid(eqe * bb, e) / ere)
+    return ref_series_mpp(np.array(jl), np.array(j0), cond.temperature_K) / cond.photon_flux.irradiance
+
+
+def compare(label, tool_seconds, n_total, sample, ref_fn, tool_values):
+    t0 = time.perf_counter()
+    ref = np.array([ref_fn(*point) for point in sample])
+    per_point = (time.perf_counter() - t0) / len(sample)
+    ref_total = per_point * n_total
+    diff = float(np.max(np.abs(100 * (ref - tool_values))))
+    ratio = ref_total / tool_seconds
+    print(f"  reference on {len(sample)} random points: {per_point * 1e3:.2f} ms per point, "
+          f"{ref_total:,.0f} s extrapolated to all {n_total:,}")
+    print(f"  {label}: tool {tool_seconds:.3f} s; speed ratio {ratio:,.0f}x; "
+          f"largest efficiency difference {diff:.2e} % abs")
+    return ratio, diff
+
+
+# --------------------------------------------------------------------------------------
+# cases
+# --------------------------------------------------------------------------------------
+
+
+def case_a(flux, n_sample, rng):
+    print("(a) two-terminal step-absorber map under AM1.5G (front 1.4-2.3 eV x back 0.8-1.5 eV)")
+    result = {}
+    for n in (201, 401):
+        fronts, backs = np.linspace(1.4, 2.3, n), np.linspace(0.8, 1.5, n)
+        seconds, peak = measure(lambda: step_gap_map(flux, fronts, backs, T_CELL))
+        line(f"{n} x {n} gap pairs", n * n, seconds, peak)
+        result[n] = (seconds, fronts, backs)
+    seconds, fronts, backs = result[401]
+    gap_map = step_gap_map(flux, fronts, backs, T_CELL)
+    valid = np.argwhere(np.isfinite(gap_map.efficiency_2t))
+    picks = valid[rng.choice(len(valid), n_sample, replace=False)]
+    sample = [(flux, fronts[i], backs[j]) for i, j in picks]
+    tool = np.array([gap_map.efficiency_2t[i, j] for i, j in picks])
+    return compare("case (a)", seconds, 401 * 401, sample, ref_step_efficiency, tool)
+
+
+def optics_setup():
+    design = StackDesign(tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon"),
+                         0.02, 0.02, 0.01)
+    return design
+
+
+def optics_sweep(design, cond, gaps, thicknesses):
+    out = np.empty((gaps.size, thicknesses.size))
+    for i, gap in enumerate(gaps):
+        out[i] = stack_performance(design, cond, gap, thicknesses, 160e3).efficiency_2t
+    return out
+
+
+def case_b(flux, n_sample, rng):
+    print("(b) optics-lite sweep: perovskite-wide front gaps x thicknesses over 160 um silicon")
+    design = optics_setup()
+    cond = Conditions(flux, T_CELL)
+    thicknesses = np.geomspace(100, 1500, 200)
+    timings = {}
+    for n_gaps in (50, 100):
+        gaps = np.linspace(1.60, 1.92, n_gaps)
+        seconds, peak = measure(lambda: optics_sweep(design, cond, gaps, thicknesses))
+        line(f"{n_gaps} gaps x 200 thicknesses", n_gaps * 200, seconds, peak)
+        timings[n_gaps] = seconds
+    gaps = np.linspace(1.60, 1.92, 100)
+    tool = optics_sweep(design, cond, gaps, thicknesses)
+    picks = [(rng.integers(100), rng.integers(200)) for _ in range(n_sample)]
+    sample = [(design, cond, gaps[i], thicknesses[j], 160e3) for i, j in picks]
+    values = np.array([tool[i, j] for i, j in picks])
+    ratio, diff = compare("case (b)", timings[100], 100 * 200, sample, ref_optics_efficiency, values)
+    return timings[100]
+
+
+def case_c(b_seconds):
+    print("(c) case (b) over 24 spectra: ASTM G173-03 x 3 and 21 blackbody suns")
+    spectra = [tandem.reference_spectrum(n) for n in ("am1.5g", "am1.5d", "am0")]
+    for t_sun in (5000, 5500, 5772, 6000, 6500, 7000, 8000):
+        for x in (0.5, 1.0, 10.0):
+            spectra.append(tandem.blackbody_sun(t_sun, concentration=x))
+    design = optics_setup()
+    thicknesses = np.geomspace(100, 1500, 200)
+    gaps = np.linspace(1.60, 1.92, 100)
+    fluxes = [s.photon_flux() for s in spectra]
+
+    def run(subset):
+        for flux in subset:
+            optics_sweep(design, Conditions(flux, T_CELL), gaps, thicknesses)
+
+    for count in (12, 24):
+        subset = fluxes[:count]
+        seconds, peak = measure(lambda: run(subset), repeats=1)
+        points = sum(f.energy.size for f in subset)
+        line(f"{count} spectra x 100 x 200", count * 20_000, seconds, peak)
+        print(f"    {points:,} spectral points in all; {seconds / count:.3f} s per spectrum "
+              f"(case (b) alone: {b_seconds:.3f} s on 2,002 points)")
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--quick", action="store_true", help="500-point reference samples only")
+    parser.add_argument("--sample", type=int, default=1000, help="reference sample size (>= 500)")
+    args = parser.parse_args()
+    n_sample = 500 if args.quick else max(500, args.sample)
+    rng = np.random.default_rng(2026)
+    print(f"tandem {tandem.__version__}, numpy {np.__version__}, {os.cpu_count()} cores, "
+          f"Python {sys.version.split()[0]}")
+    flux = tandem.reference_spectrum("am1.5g").photon_flux()
+    ratio_a, diff_a = case_a(flux, n_sample, rng)
+    b_seconds = case_b(flux, n_sample, rng)
+    case_c(b_seconds)
+    rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+    print(f"process peak resident memory: {rss:,.0f} MiB")
+    print(f"speedup: {ratio_a:.0f}x, max difference: {diff_a:.2e} % abs")
+
+
+if __name__ == "__main__":
+    main()
