@@ -645,6 +645,238 @@ def study(
     out.print(f"[dim]{tandem.CAUTION}[/]")
 
 
+# --------------------------------------------------------------------------------------
+# yield and scatter
+# --------------------------------------------------------------------------------------
+
+
+def _electrical(coupling, series_resistance, shunt_resistance):
+    from tandem.stack import Electrical
+
+    return Electrical(coupling, series_resistance, shunt_resistance)
+
+
+CouplingOpt = Annotated[float, typer.Option(
+    help="Luminescent coupling: share of the front's radiative recombination reaching the back.")]
+SeriesOpt = Annotated[float, typer.Option(help="Series resistance of the stack [Ω·cm²].")]
+ShuntOpt = Annotated[float, typer.Option(help="Shunt resistance of the stack [Ω·cm²].")]
+
+
+@app.command("yield")
+@friendly
+def energy_yield(
+    front: Annotated[Optional[str], typer.Argument(help="Front absorber (default: the scenario's first).",
+                                                   show_default=False)] = None,
+    back: Annotated[Optional[str], typer.Argument(help="Back absorber.", show_default=False)] = None,
+    scenario: Annotated[Optional[str], typer.Option(
+        help="Take site, weather, losses and absorbers from this scenario (name or file).")] = None,
+    latitude: Annotated[Optional[float], typer.Option(help="Site latitude [° north].")] = None,
+    longitude: Annotated[Optional[float], typer.Option(help="Site longitude [° east].")] = None,
+    altitude: Annotated[float, typer.Option(help="Site altitude [m].")] = 0.0,
+    tilt: Annotated[float, typer.Option(help="Module tilt [°].")] = 30.0,
+    azimuth: Annotated[float, typer.Option(help="Module azimuth [° from north, 180 = south].")] = 180.0,
+    timezone: Annotated[str, typer.Option(help="IANA time zone of the site.")] = "UTC",
+    ambient: Annotated[float, typer.Option(help="Ambient temperature without weather [°C].")] = 20.0,
+    period: Annotated[str, typer.Option(help="day:YYYY-MM-DD, month:YYYY-MM or year:YYYY.")] = "year:2026",
+    step: Annotated[float, typer.Option(help="Time step of clear-sky runs [min].")] = 60.0,
+    weather: Annotated[Optional[str], typer.Option(help="Typical-year weather file (EPW or TMY3 CSV).")] = None,
+    spectra: Annotated[Optional[str], typer.Option(help="Folder of measured spectra, one CSV per time.")] = None,
+    front_gaps: Annotated[Optional[str], typer.Option(help="Front gaps LO:HI:STEP [eV].")] = None,
+    front_thickness: Annotated[Optional[str], typer.Option(help="Front thickness range A:B (nm or um).")] = None,
+    points: Annotated[int, typer.Option(help="Front thicknesses in the sweep.")] = 16,
+    back_thickness: Annotated[Optional[str], typer.Option(help="Back thickness (nm or um).")] = None,
+    coupling: CouplingOpt = 0.0,
+    series_resistance: SeriesOpt = 0.0,
+    shunt_resistance: ShuntOpt = float("inf"),
+    output: Annotated[str, typer.Option("--output", "-o", help="Prefix of the figures.")] = "yield",
+    overwrite: Annotated[bool, typer.Option(help="Replace existing figures.")] = False,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="No progress bar.")] = False,
+    json_out: JsonOpt = False,
+):
+    """Energy over a day, month or year under real skies: 2T vs 4T, energy-optimal design.
+
+    Clear-sky SPECTRL2 spectra for the site (or a weather file, or measured spectra), cell
+    temperature from the SAPM model, gaps shifted with temperature.
+
+    Examples:
+
+      tandem yield --scenario perovskite-silicon-rooftop
+
+      tandem yield perovskite-wide silicon --latitude 40 --longitude -105 --timezone Etc/GMT+7
+
+      tandem yield perovskite-wide silicon --latitude 40 --longitude -105 --period day:2026-06-21
+    """
+    from tandem.design import StackDesign
+    from tandem.maps import gap_axis
+    from tandem.plots import yield_figures
+    from tandem.sky import Site, clear_sky_series, folder_series, parse_period, weather_series
+    from tandem.yields import hourly, yield_sweep, yield_summary
+
+    losses = (0.0, 0.0, 0.0)
+    if scenario is not None:
+        from tandem.study import load_scenario
+
+        sc = load_scenario(scenario)
+        if sc.site() is None:
+            raise TandemInputError(f"scenario '{sc.key}' has no [site]; add one or give --latitude "
+                                   "and --longitude")
+        series = sc.series()
+        a_front = tandem.load_absorber(front) if front else sc.fronts[0]
+        a_back = tandem.load_absorber(back) if back else sc.backs[0]
+        losses = tuple(float(sc.get("stack", k, 0.0)) for k in
+                       ("reflectance", "front_parasitic", "interlayer_parasitic"))
+        electrical = sc.electrical()
+        backs = sc.back_thicknesses_nm()
+        back_d = backs[0] if backs else a_back.thickness_nm
+    else:
+        if front is None or back is None:
+            raise TandemInputError("give FRONT and BACK absorbers, or --scenario")
+        if latitude is None or longitude is None:
+            raise TandemInputError("give --latitude and --longitude of the site (or --scenario)")
+        site = Site("site", latitude, longitude, altitude, tilt, azimuth, timezone,
+                    ambient_temperature_C=ambient)
+        if weather:
+            series = weather_series(site, weather)
+        elif spectra:
+            series = folder_series(site, spectra)
+        else:
+            series = clear_sky_series(site, parse_period(period, timezone, step))
+        a_front, a_back = tandem.load_absorber(front), tandem.load_absorber(back)
+        electrical = _electrical(coupling, series_resistance, shunt_resistance)
+        back_d = a_back.thickness_nm
+    if back_thickness:
+        back_d = _parse_thickness(back_thickness, "--back-thickness")
+    design = StackDesign(a_front, a_back, *losses)
+    if front_gaps:
+        lo, hi, *st = _parse_range(front_gaps, "--front-gaps")
+        gaps = gap_axis(lo, hi, st[0] if st else 0.02, "--front-gaps")
+    elif a_front.tunable:
+        lo, hi = a_front.gap_range_eV
+        gaps = np.linspace(max(lo, a_back.gap_eV + 0.3), hi, 11)
+    else:
+        gaps = np.array([a_front.gap_eV])
+    lo_d, hi_d = (_parse_range(front_thickness, "--front-thickness",
+                               lambda t: _parse_thickness(t, "--front-thickness"))[:2]
+                  if front_thickness else a_front.thickness_range_nm)
+    if not (hi_d > lo_d > 0) or not 2 <= points <= 400:
+        raise TandemInputError("--front-thickness must be thinnest:thickest (positive) and --points 2–400")
+    thicknesses = np.geomspace(lo_d, hi_d, points)
+    reference = tandem.reference_spectrum("am1.5g").photon_flux()
+    with _progress(quiet or json_out, "energy yield") as bar:
+        sweep = yield_sweep(design, series, gaps, thicknesses, back_d, reference,
+                            electrical=electrical, progress=_callback(bar))
+        i, j = sweep.optimum
+        best = hourly(design, series, sweep.gaps[i], sweep.thicknesses[j], back_d,
+                      electrical=electrical)
+    summary = yield_summary(sweep, best)
+    written = yield_figures(sweep, best, output, overwrite)
+    summary["outputs"] = [str(p) for p in written]
+    if json_out:
+        _emit_json(summary)
+        return
+    eo, am = summary["energy_optimum"], summary["am15g_optimum"]
+    table = Table(title=f"Energy yield: {a_front.name} over {a_back.name}", title_justify="left")
+    for col in ("design", "front gap eV", "front nm", "2T kWh/m²", "4T kWh/m²", "2T η_E %",
+                "AM1.5G 2T %"):
+        table.add_column(col, justify="left" if col == "design" else "right")
+    table.add_row("energy-optimal", f"{eo['front_gap_eV']:.3f}", f"{eo['front_thickness_nm']:.0f}",
+                  f"[bold]{eo['energy_2t_kWh_m2']:.1f}[/]", f"{eo['energy_4t_kWh_m2']:.1f}",
+                  f"{eo['energy_weighted_efficiency_2t_pct']:.2f}",
+                  f"{100 * float(sweep.efficiency_am15_2t[i, j]):.2f}")
+    table.add_row("AM1.5G-optimal", f"{am['front_gap_eV']:.3f}", f"{am['front_thickness_nm']:.0f}",
+                  f"{am['energy_2t_kWh_m2']:.1f}", f"{am['energy_4t_kWh_m2']:.1f}",
+                  f"{100 * am['energy_2t_kWh_m2'] / summary['insolation_kWh_m2']:.2f}",
+                  f"{am['efficiency_2t_pct']:.2f}")
+    table.caption = "η_E: energy-weighted efficiency (energy ÷ plane-of-array insolation)"
+    out.print(table)
+    out.print(f"{escape(summary['source'])}: {summary['steps']:,} steps, "
+              f"{summary['insolation_kWh_m2']:.1f} kWh/m² on the module plane", highlight=False)
+    for note in summary["source_notes"]:
+        out.print(f"note: {escape(note)}", highlight=False)
+    out.print(f"two-terminal loss to current mismatch (4T − 2T): {eo['mismatch_loss_kWh_m2']:.1f} "
+              f"kWh/m² ({eo['mismatch_loss_pct']:.2f} %); the front limits for "
+              f"{eo['share_of_light_with_front_limiting_pct']:.0f} % of the light", highlight=False)
+    e4 = summary["energy_optimum_4t"]
+    out.print(f"best four-terminal: {e4['energy_4t_kWh_m2']:.1f} kWh/m² at {e4['front_gap_eV']:.3f} eV, "
+              f"{e4['front_thickness_nm']:.0f} nm", highlight=False)
+    out.print("wrote " + ", ".join(summary["outputs"]), highlight=False)
+    out.print(f"[dim]{tandem.CAUTION} Clear-sky spectra ignore clouds unless a weather file "
+              "is given.[/]")
+
+
+@app.command("scatter")
+@friendly
+def fabrication_scatter(
+    front: Annotated[str, typer.Argument(help="Front absorber.", show_default=False)],
+    back: Annotated[str, typer.Argument(help="Back absorber.", show_default=False)],
+    gap: Annotated[Optional[float], typer.Option(help="Design front gap [eV]. Default: the absorber's.")] = None,
+    thickness: Annotated[Optional[str], typer.Option(help="Design front thickness. Default: the absorber's.")] = None,
+    back_thickness: Annotated[Optional[str], typer.Option(help="Back thickness (nm or um).")] = None,
+    gap_sigma: Annotated[float, typer.Option(help="Standard deviation of the front gap [eV].")] = 0.01,
+    thickness_sigma: Annotated[float, typer.Option(help="Standard deviation of the thickness [%].")] = 5.0,
+    samples: Annotated[int, typer.Option(help="Devices drawn.")] = 2000,
+    seed: Annotated[int, typer.Option(help="Random seed (same seed, same devices).")] = 1,
+    target: Annotated[Optional[float], typer.Option(help="Efficiency target [%]: share of devices reaching it.")] = None,
+    terminals: Annotated[int, typer.Option("--terminals", "-t", help="2 or 4.")] = 2,
+    spectrum: SpectrumOpt = "am1.5g",
+    temperature: TemperatureOpt = 298.15,
+    coupling: CouplingOpt = 0.0,
+    series_resistance: SeriesOpt = 0.0,
+    shunt_resistance: ShuntOpt = float("inf"),
+    plot: Annotated[Optional[str], typer.Option(help="Write a histogram to this PNG/SVG.")] = None,
+    overwrite: Annotated[bool, typer.Option(help="Replace an existing plot.")] = False,
+    json_out: JsonOpt = False,
+):
+    """How fabrication scatter in gap and thickness spreads the efficiency of a design.
+
+    Examples:
+
+      tandem scatter perovskite-wide silicon --gap 1.72 --thickness 1000 --target 37.5 --plot spread.png
+
+      tandem scatter organic-wide organic-narrow --thickness-sigma 10 --json
+    """
+    from tandem.design import Conditions, StackDesign
+    from tandem.scatter import scatter
+
+    flux = _photon_flux(spectrum, 6000.0, 1.0, None)
+    tandem.stack.check_temperature(temperature)
+    if terminals not in (2, 4):
+        raise TandemInputError(f"--terminals {terminals}: choose 2 (series) or 4 (independent)")
+    a_front, a_back = tandem.load_absorber(front), tandem.load_absorber(back)
+    g = a_front.gap_eV if gap is None else gap
+    flux.check_gap(g, "--gap")
+    d = a_front.thickness_nm if thickness is None else _parse_thickness(thickness, "--thickness")
+    bd = a_back.thickness_nm if back_thickness is None else _parse_thickness(back_thickness, "--back-thickness")
+    cond = Conditions(flux, temperature, 1.0, _electrical(coupling, series_resistance, shunt_resistance))
+    result = scatter(StackDesign(a_front, a_back), cond, g, d, bd, gap_sigma, thickness_sigma,
+                     samples, seed)
+    stats = result.stats(terminals, target)
+    stats.update({"front": a_front.key, "back": a_back.key, "front_gap_eV": g,
+                  "front_thickness_nm": d, "gap_sigma_eV": gap_sigma,
+                  "thickness_sigma_pct": thickness_sigma, "seed": seed, "caution": tandem.CAUTION})
+    if plot:
+        from tandem.plots import scatter_figure
+
+        stats["outputs"] = [str(scatter_figure(result, terminals, target, plot, overwrite))]
+    if json_out:
+        _emit_json(stats)
+        return
+    table = Table(title=f"Fabrication scatter: {a_front.key} over {a_back.key}, {samples:,} devices "
+                  f"({terminals}T)", title_justify="left")
+    for col in ("nominal %", "mean %", "std %", "P10 %", "P50 %", "P90 %") + (("≥ target",) if target else ()):
+        table.add_column(col, justify="right")
+    row = [f"{stats[k]:.2f}" for k in ("nominal_pct", "mean_pct", "std_pct", "p10_pct", "p50_pct", "p90_pct")]
+    if target:
+        row.append(f"{stats['share_at_or_above_target_pct']:.1f} %")
+    table.add_row(*row)
+    out.print(table)
+    out.print(f"design: front gap {g:.3f} eV ± {gap_sigma:g} eV, thickness {d:.0f} nm ± "
+              f"{thickness_sigma:g} %; seed {seed}", highlight=False)
+    for p in stats.get("outputs", []):
+        out.print(f"wrote {p}", highlight=False)
+    out.print(f"[dim]{tandem.CAUTION}[/]")
+
+
 def main() -> None:
     """Console entry point (``tandem``)."""
     app()

@@ -78,13 +78,24 @@ class Absorber:
         g = self.relation.gap(np.linspace(lo, hi, 201))
         return float(g.min()), float(g.max())
 
-    def alpha(self, energy_eV, gap_eV: float | None = None):
-        """Absorption coefficient [cm⁻¹] on an energy grid, at ``gap_eV`` (default gap)."""
-        return self.edge.alpha(energy_eV, self.gap_eV if gap_eV is None else gap_eV)
+    def alpha(self, energy_eV, gap_eV: float | None = None, shift_eV=0.0):
+        """Absorption coefficient [cm⁻¹] on an energy grid, at ``gap_eV`` (default gap).
 
-    def layer(self, energy_eV, thickness_nm=None, gap_eV=None) -> LayerOptics:
+        ``shift_eV`` moves the whole edge rigidly (a gap change with temperature): a
+        parametric edge to gap + shift, a tabulated one to α(E − shift).
+        """
+        if isinstance(self.edge, TabulatedEdge):
+            return self.edge.alpha(np.asarray(energy_eV) - shift_eV)
+        return self.edge.alpha(energy_eV, (self.gap_eV if gap_eV is None else gap_eV) + shift_eV)
+
+    def gap_shift_eV(self, temperature_K) -> np.ndarray | float:
+        """Gap change from 298.15 K with the description's temperature coefficient [eV]."""
+        tc = self.gap_temperature_coefficient_eV_K or 0.0
+        return tc * (np.asarray(temperature_K) - 298.15)
+
+    def layer(self, energy_eV, thickness_nm=None, gap_eV=None, shift_eV=0.0) -> LayerOptics:
         return LayerOptics(
-            alpha_per_cm=self.alpha(energy_eV, gap_eV),
+            alpha_per_cm=self.alpha(energy_eV, gap_eV, shift_eV),
             thickness_nm=self.thickness_nm if thickness_nm is None else thickness_nm,
             light_trapping=self.light_trapping,
             refractive_index=self.refractive_index,

@@ -19,7 +19,7 @@ from .absorbers import Absorber
 from .errors import TandemInputError
 from .optics import NM_TO_CM, StackOptics, stack_optics
 from .spectra import PhotonFlux
-from .stack import SUBCELL_NAMES, StackPerformance, evaluate_stack
+from .stack import IDEAL, SUBCELL_NAMES, Electrical, StackPerformance, evaluate_stack
 from .units import Q
 
 Progress = Callable[[int, int], None]
@@ -44,6 +44,7 @@ class Conditions:
     photon_flux: PhotonFlux
     temperature_K: float = 298.15
     ideality: float = 1.0
+    electrical: Electrical = IDEAL
 
 
 def stack_light(design: StackDesign, energy, front_gap, front_thickness_nm, back_thickness_nm,
@@ -66,45 +67,63 @@ def trapezoid_weights(energy_eV) -> np.ndarray:
     return w
 
 
+@dataclass(frozen=True)
+class StackIntegrands:
+    """Energy-resolved pieces of the stack's EQEs that do not depend on front thickness.
+
+    front EQE(E, d) = front_weight(E)·(1 − exp(−(α_f + β)d)), β = 1/L_c (0 without);
+    back EQE(E, d) = back_weight(E)·exp(−α_f d).
+    """
+
+    alpha_nm: np.ndarray  #: front α [1/nm]
+    beta: float  #: 1/L_c of the front [1/nm]
+    front_weight: np.ndarray  #: entering·α/(α + β)
+    back_weight: np.ndarray  #: entering·(1 − p_inter)·a_back·η_back
+
+    def transfer(self, thickness_nm):
+        """(absorbed, transmitted) of the front for thicknesses (...,) → (..., nE)."""
+        d = np.asarray(thickness_nm, dtype=float)
+        depth = np.multiply.outer(-d, self.alpha_nm)  # −α·d
+        if self.beta == 0.0:
+            absorbed = np.negative(np.expm1(depth, out=depth), out=depth)
+            # T = 1 − absorbed: its absolute error (1e-16) is far below every weight that matters
+            return absorbed, np.subtract(1.0, absorbed)
+        transmitted = np.exp(depth)
+        return -np.expm1(depth - self.beta * d[..., None]), transmitted
+
+
+def stack_integrands(design: StackDesign, energy, front_gap, back_thickness_nm, back_gap=None,
+                     front_shift_eV=0.0, back_shift_eV=0.0) -> StackIntegrands:
+    front, back = design.front, design.back
+    e = np.asarray(energy, dtype=float)
+    alpha_nm = front.alpha(e, front_gap, front_shift_eV) * NM_TO_CM
+    beta = 0.0 if front.collection_length_nm is None else 1.0 / front.collection_length_nm
+    entering = (1.0 - np.asarray(design.reflectance)) * (1.0 - np.asarray(design.front_parasitic))
+    entering = np.broadcast_to(entering, e.shape)
+    back_layer = back.layer(e, back_thickness_nm, back_gap, back_shift_eV)
+    behind = (entering * (1.0 - np.asarray(design.interlayer_parasitic))
+              * back_layer.absorptance() * back_layer.collection())
+    # expm1 rather than 1 − T keeps the radiative J0 (weak sub-gap absorption) exact
+    k = np.ones_like(alpha_nm) if beta == 0.0 else alpha_nm / (alpha_nm + beta)
+    return StackIntegrands(alpha_nm, beta, entering * k, behind)
+
+
 def subcell_currents(design: StackDesign, cond: Conditions, front_gap, front_thickness_nm,
                      back_thickness_nm, back_gap=None):
     """Photocurrent and radiative J0 of both subcells for an array of front thicknesses.
 
     Returns (j_light, j0_rad), each (..., 2) [A/m²], identical to integrating the EQEs of
-    :func:`stack_light` (a test checks this) but much faster: every EQE of the stack is
-    a product of a function of energy and either 1 − exp(−(α_f + 1/L_c)·d) (front) or
-    exp(−α_f·d) (back), so the four integrals over energy are two matrix products with
-    weight vectors: no per-thickness EQE arrays are formed.
+    :func:`stack_light` (a test checks this) but much faster: each EQE is a function of
+    energy times 1 − exp(−(α_f + 1/L_c)·d) (front) or exp(−α_f·d) (back), so the four
+    integrals over energy are two matrix products with weight vectors.
     """
     e, phi = cond.photon_flux.energy, cond.photon_flux.flux
-    front, back = design.front, design.back
-    d = np.asarray(front_thickness_nm, dtype=float)
     w = trapezoid_weights(e) * Q
     bb = db.blackbody_photon_flux(e, cond.temperature_K)
-    alpha_f = front.alpha(e, front_gap)
-    entering = (1.0 - np.asarray(design.reflectance)) * (1.0 - np.asarray(design.front_parasitic))
-    entering = np.broadcast_to(entering, e.shape)
-    back_layer = back.layer(e, back_thickness_nm, back_gap)
-    behind = (entering * (1.0 - np.asarray(design.interlayer_parasitic))
-              * back_layer.absorptance() * back_layer.collection())
-    # front EQE = entering·k(E)·(1 − exp(−(α + β)d)), k = α/(α + β), β = 1/L_c (0 without);
-    # computed with expm1, not as 1 − T, so that the radiative J0 (dominated by weakly
-    # absorbed sub-gap light) does not cancel away
-    beta = 0.0 if front.collection_length_nm is None else 1.0 / front.collection_length_nm
-    a_nm = alpha_f * NM_TO_CM
-    k = np.ones_like(a_nm) if beta == 0.0 else a_nm / (a_nm + beta)
-    front_weights = np.stack([w * phi * entering * k, w * bb * entering * k], axis=-1)
-    back_weights = np.stack([w * phi * behind, w * bb * behind], axis=-1)
-    depth = np.multiply.outer(-d, a_nm)  # −α·d, (..., nE)
-    if beta == 0.0:
-        absorbed = np.negative(np.expm1(depth, out=depth), out=depth)
-        # T = 1 − absorbed: its absolute error (1e-16) is far below every weight that matters
-        transmitted = np.subtract(1.0, absorbed)
-    else:
-        transmitted = np.exp(depth)
-        absorbed = -np.expm1(depth - beta * d[..., None])
-    front_int = absorbed @ front_weights  # (..., 2): J_L, J0,rad of the front
-    back_int = transmitted @ back_weights  # (..., 2): of the back
+    parts = stack_integrands(design, e, front_gap, back_thickness_nm, back_gap)
+    absorbed, transmitted = parts.transfer(front_thickness_nm)
+    front_int = absorbed @ np.stack([w * phi * parts.front_weight, w * bb * parts.front_weight], -1)
+    back_int = transmitted @ np.stack([w * phi * parts.back_weight, w * bb * parts.back_weight], -1)
     j_light = np.stack([front_int[..., 0], back_int[..., 0]], axis=-1)
     j0_rad = np.stack([front_int[..., 1], back_int[..., 1]], axis=-1)
     return j_light, j0_rad
@@ -117,7 +136,8 @@ def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_th
                                        back_thickness_nm, back_gap)
     ere = np.array([design.front.ere, design.back.ere])
     return evaluate_stack(j_light, db.dark_current(j0_rad, ere), cond.temperature_K,
-                          cond.photon_flux.irradiance, cond.ideality)
+                          cond.photon_flux.irradiance, cond.ideality, cond.electrical,
+                          design.front.ere)
 
 
 @dataclass(frozen=True)

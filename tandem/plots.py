@@ -190,3 +190,107 @@ def map_figures(gap_map, terminals, tolerance_pct, marks, prefix: str | Path,
         return write_all_whole(writers, overwrite)
     finally:
         plt.close(fig)
+
+
+def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False) -> list[Path]:
+    """Three figures: a day's subcell currents, monthly energy (2T/4T), the yield map."""
+    from .files import write_all_whole
+
+    prefix = Path(prefix)
+    figs = {}
+    # --- a day: the one with the most light, which shows the noon peak and the red mornings
+    days = best.times.normalize()
+    daily = {d: float((best.irradiance * best.step_hours)[days == d].sum()) for d in days.unique()}
+    day = max(daily, key=daily.get)
+    sel = days == day
+    hours = best.times[sel].hour + best.times[sel].minute / 60
+    jf, jb = best.j_front[sel] / 10, best.j_back[sel] / 10
+    fig, (ax, ax2) = plt.subplots(2, 1, figsize=(6.5, 5.5), sharex=True,
+                                  gridspec_kw={"height_ratios": [2, 1]})
+    ax.plot(hours, jf, color=FRONT_COLOUR, marker="o", ms=3, label="front photocurrent")
+    ax.plot(hours, jb, color=BACK_COLOUR, marker="o", ms=3, label="back photocurrent")
+    ax.set_ylabel("photocurrent [mA/cm²]")
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3)
+    balance = 100 * (jf - jb) / np.maximum(np.minimum(jf, jb), 1e-12)
+    ax2.bar(hours, balance, width=0.8 * float(np.median(np.diff(hours))) if hours.size > 1 else 0.5,
+            color=np.where(balance < 0, FRONT_COLOUR, BACK_COLOUR))
+    ax2.axhline(0, color="0.3", lw=0.8)
+    bright = np.minimum(jf, jb) > 0.1 * max(float(np.max(np.minimum(jf, jb))), 1e-12)
+    if bright.any():  # dawn and dusk ratios of tiny currents would hide the day's pattern
+        span = 1.3 * max(float(np.max(np.abs(balance[bright]))), 0.5)
+        ax2.set_ylim(-span, span)
+    ax2.set_ylabel("front − back [%]")
+    ax2.set_title("below zero: the front limits; above: the back limits (dawn and dusk clipped)",
+                  fontsize=8)
+    ax2.set_xlabel(f"time of day [h], {day.date()} ({best.times.tz})")
+    ax2.grid(alpha=0.3)
+    figs["-day"] = fig
+    # --- monthly energy
+    months = best.times.month
+    ms = sorted(set(months))
+    e2 = [float(best.p_2t[months == m] @ best.step_hours[months == m]) / 1000 for m in ms]
+    e4 = [float(best.p_4t[months == m] @ best.step_hours[months == m]) / 1000 for m in ms]
+    fig, ax = plt.subplots(figsize=(6.5, 4))
+    x = np.arange(len(ms))
+    ax.bar(x - 0.2, e2, 0.4, color=FRONT_COLOUR, label="two-terminal")
+    ax.bar(x + 0.2, e4, 0.4, color=BACK_COLOUR, label="four-terminal")
+    ax.set_xticks(x, [["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct",
+                       "Nov", "Dec"][m - 1] for m in ms])
+    ax.set_ylabel("energy [kWh/m²]")
+    ax.set_title(f"front {sweep.gaps[sweep.optimum[0]]:.3f} eV, "
+                 f"{sweep.thicknesses[sweep.optimum[1]]:.0f} nm", fontsize=9)
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3, axis="y")
+    figs["-monthly"] = fig
+    # --- yield map over gap × thickness
+    fig, ax = plt.subplots(figsize=(6.5, 4.6))
+    if sweep.gaps.size > 1 and sweep.thicknesses.size > 1:
+        D, G = np.meshgrid(sweep.thicknesses, sweep.gaps)
+        filled = ax.contourf(D, G, sweep.energy_2t, levels=20, cmap="viridis")
+        fig.colorbar(filled, ax=ax, label="two-terminal energy [kWh/m²]")
+        ax.set_xscale("log")
+        ax.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+    else:
+        ax.plot(sweep.thicknesses if sweep.gaps.size == 1 else sweep.gaps,
+                np.ravel(sweep.energy_2t), color=FRONT_COLOUR)
+    i, j = sweep.optimum
+    a, b = sweep.am15_optimum
+    ax.plot([sweep.thicknesses[j]], [sweep.gaps[i]], "r*", ms=12, label="energy optimum")
+    ax.plot([sweep.thicknesses[b]], [sweep.gaps[a]], "wo", ms=7, mec="k", label="AM1.5G optimum")
+    ax.set_xlabel("front thickness [nm]")
+    ax.set_ylabel("front gap at 25 °C [eV]")
+    ax.legend(fontsize=8, loc="lower right")
+    figs["-map"] = fig
+    for f in figs.values():
+        f.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
+    writers = {}
+    for suffix, f in figs.items():
+        writers[prefix.parent / f"{prefix.name}{suffix}.png"] = (
+            lambda p, f=f: f.savefig(p, dpi=150, bbox_inches="tight", format="png"))
+    try:
+        return write_all_whole(writers, overwrite)
+    finally:
+        for f in figs.values():
+            plt.close(f)
+
+
+def scatter_figure(result, terminals, target_pct, path, overwrite: bool = False) -> Path:
+    eff = 100 * (result.efficiency_2t if terminals == 2 else result.efficiency_4t)
+    nominal = 100 * (result.nominal_2t if terminals == 2 else result.nominal_4t)
+    fig, ax = plt.subplots(figsize=(6.5, 4))
+    ax.hist(eff, bins=60, color=FRONT_COLOUR, alpha=0.8)
+    p10, p50, p90 = np.percentile(eff, [10, 50, 90])
+    for v, name in ((p10, "P10"), (p50, "P50"), (p90, "P90")):
+        ax.axvline(v, color="0.3", ls=":", lw=1)
+        ax.text(v, ax.get_ylim()[1] * 0.95, f" {name}", fontsize=8)
+    ax.axvline(nominal, color="k", lw=1.2, label=f"nominal {nominal:.2f} %")
+    if target_pct is not None:
+        share = 100 * np.mean(eff >= target_pct)
+        ax.axvline(target_pct, color=BACK_COLOUR, lw=1.2,
+                   label=f"target {target_pct:g} %: {share:.1f} % of devices reach it")
+    ax.set_xlabel(f"{terminals}-terminal efficiency [%]")
+    ax.set_ylabel("devices")
+    ax.legend(fontsize=8, loc="upper left")
+    fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
+    return _save(fig, path, overwrite)

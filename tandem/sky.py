@@ -1,0 +1,297 @@
+"""Spectra under real skies: SPECTRL2 clear skies, typical-year weather, measured folders.
+
+Every source gives a :class:`SpectralSeries`: plane-of-array spectral irradiance on one
+common wavelength grid (the ASTM G173-03 points from 300 to 4000 nm, so that absorptances
+are computed once for all time steps) and the cell temperature at each step.
+
+References
+----------
+R. Bird, C. Riordan, SERI/TR-215-2436 (1984) (SPECTRL2), via pvlib.spectrum.spectrl2.
+D. L. King, W. E. Boyson, J. A. Kratochvil, SAND2004-3535 (2004) (SAPM cell temperature),
+via pvlib.temperature.sapm_cell.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from .errors import TandemInputError
+from .spectra import PhotonFlux, _astm_g173, read_spectrum_csv
+from .units import HC_EV_NM, Q
+
+#: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
+G173_AEROSOL_500NM = 0.084  #: aerosol optical depth at 500 nm [-]
+G173_WATER_CM = 1.4164  #: precipitable water [cm]
+G173_OZONE_ATM_CM = 0.3438  #: ozone [atm-cm]
+SAPM_MOUNT = "open_rack_glass_glass"
+
+
+@dataclass(frozen=True)
+class Site:
+    """Where and how the module stands, and the clear-sky atmosphere.
+
+    Angles in degrees; azimuth clockwise from north (180 = facing south); altitude [m].
+    """
+
+    name: str = "site"
+    latitude: float = 40.0
+    longitude: float = -105.0
+    altitude_m: float = 0.0
+    tilt_deg: float = 30.0
+    azimuth_deg: float = 180.0
+    timezone: str = "UTC"
+    albedo: float = 0.2
+    aerosol_turbidity_500nm: float = G173_AEROSOL_500NM
+    precipitable_water_cm: float = G173_WATER_CM
+    ozone_atm_cm: float = G173_OZONE_ATM_CM
+    ambient_temperature_C: float = 20.0  #: used when no weather file gives it
+    wind_speed_m_s: float = 1.0  #: likewise
+
+    def __post_init__(self):
+        checks = [
+            ("latitude", self.latitude, -90, 90, "degrees north, -90 to 90"),
+            ("longitude", self.longitude, -180, 180, "degrees east, -180 to 180"),
+            ("altitude_m", self.altitude_m, -500, 9000, "metres above sea level"),
+            ("tilt_deg", self.tilt_deg, 0, 90, "degrees from horizontal, 0 to 90"),
+            ("azimuth_deg", self.azimuth_deg, 0, 360, "degrees clockwise from north, 0 to 360"),
+            ("albedo", self.albedo, 0, 1, "a fraction"),
+            ("aerosol_turbidity_500nm", self.aerosol_turbidity_500nm, 0, 5, "an optical depth"),
+            ("precipitable_water_cm", self.precipitable_water_cm, 0, 10, "cm of water"),
+            ("ozone_atm_cm", self.ozone_atm_cm, 0, 1, "atm-cm"),
+            ("ambient_temperature_C", self.ambient_temperature_C, -60, 60, "°C"),
+            ("wind_speed_m_s", self.wind_speed_m_s, 0, 60, "m/s"),
+        ]
+        for name, value, lo, hi, unit in checks:
+            if not (isinstance(value, (int, float)) and math.isfinite(value) and lo <= value <= hi):
+                raise TandemInputError(f"site {name} = {value!r} is out of range; give {unit}")
+        try:
+            pd.Timestamp("2026-01-01", tz=self.timezone)
+        except Exception:
+            raise TandemInputError(f"site timezone '{self.timezone}' is unknown; give an IANA name "
+                                   "such as 'Europe/Madrid' or 'Etc/GMT+7', or 'UTC'") from None
+
+
+@dataclass(frozen=True)
+class SpectralSeries:
+    """Plane-of-array spectra over time on one wavelength grid."""
+
+    times: pd.DatetimeIndex  #: middle of each step
+    wavelength_nm: np.ndarray  #: (n_wl,)
+    irradiance: np.ndarray  #: (n_t, n_wl) [W m⁻² nm⁻¹]
+    cell_temperature_K: np.ndarray  #: (n_t,)
+    step_hours: np.ndarray  #: (n_t,) duration each spectrum stands for [h]
+    source: str
+    notes: tuple[str, ...] = field(default=())
+
+    def photon_fluxes(self):
+        """(energy [eV] ascending, flux (n_t, nE) [m⁻² s⁻¹ eV⁻¹], irradiance (n_t,) [W/m²])."""
+        energy = HC_EV_NM / self.wavelength_nm[::-1]
+        irr = self.irradiance[:, ::-1]
+        flux = irr / (energy * Q) * HC_EV_NM / energy**2
+        return energy, flux, np.trapezoid(self.irradiance, self.wavelength_nm, axis=-1)
+
+    def at(self, i: int) -> PhotonFlux:
+        energy, flux, power = self.photon_fluxes()
+        return PhotonFlux(f"{self.source} {self.times[i]}", energy, flux[i], float(power[i]))
+
+    @property
+    def insolation_kWh_m2(self) -> float:
+        return float(np.sum(np.trapezoid(self.irradiance, self.wavelength_nm, axis=-1)
+                            * self.step_hours) / 1000.0)
+
+
+def common_grid() -> np.ndarray:
+    """The ASTM G173-03 wavelengths from 300 to 4000 nm (SPECTRL2's range) [nm]."""
+    wl = _astm_g173().index.to_numpy(dtype=float)
+    return wl[(wl >= 300.0) & (wl <= 4000.0)]
+
+
+def parse_period(period: str, timezone: str, step_minutes: float) -> pd.DatetimeIndex:
+    """'day:2026-06-21', 'month:2026-06', 'year:2026' → the middles of each step."""
+    if not (isinstance(step_minutes, (int, float)) and 1 <= step_minutes <= 180):
+        raise TandemInputError(f"--step {step_minutes:g} min: give 1 to 180 minutes")
+    match = re.fullmatch(r"(day|month|year):(\d{4}(?:-\d{2}(?:-\d{2})?)?)", period.strip())
+    if not match:
+        raise TandemInputError(f"--period '{period}': give day:YYYY-MM-DD, month:YYYY-MM or year:YYYY")
+    kind, text = match.groups()
+    need = {"day": 3, "month": 2, "year": 1}[kind]
+    if len(text.split("-")) != need:
+        raise TandemInputError(f"--period '{period}': a {kind} is written "
+                               f"{ {'day': 'YYYY-MM-DD', 'month': 'YYYY-MM', 'year': 'YYYY'}[kind]}")
+    try:
+        start = pd.Timestamp(text, tz=timezone)
+    except ValueError:
+        raise TandemInputError(f"--period '{period}': not a real date") from None
+    end = start + {"day": pd.DateOffset(days=1), "month": pd.DateOffset(months=1),
+                   "year": pd.DateOffset(years=1)}[kind]
+    step = pd.Timedelta(minutes=step_minutes)
+    return pd.date_range(start + step / 2, end, freq=step, inclusive="left")
+
+
+def _solar(site: Site, times: pd.DatetimeIndex):
+    import pvlib
+
+    pos = pvlib.solarposition.get_solarposition(times, site.latitude, site.longitude,
+                                                altitude=site.altitude_m)
+    aoi = pvlib.irradiance.aoi(site.tilt_deg, site.azimuth_deg, pos["apparent_zenith"],
+                               pos["azimuth"])
+    return pos, aoi
+
+
+def _spectrl2(site: Site, times, pos, aoi):
+    """SPECTRL2 plane-of-array spectra (n_t, 122) and their wavelengths."""
+    import pvlib
+
+    zenith = pos["apparent_zenith"].to_numpy()
+    airmass = pvlib.atmosphere.get_relative_airmass(zenith)
+    spectra = pvlib.spectrum.spectrl2(
+        apparent_zenith=zenith, aoi=aoi.to_numpy(), surface_tilt=site.tilt_deg,
+        ground_albedo=site.albedo, surface_pressure=pvlib.atmosphere.alt2pres(site.altitude_m),
+        relative_airmass=np.asarray(airmass), precipitable_water=site.precipitable_water_cm,
+        ozone=site.ozone_atm_cm, aerosol_turbidity_500nm=site.aerosol_turbidity_500nm,
+        dayofyear=times.dayofyear.to_numpy())
+    poa = np.nan_to_num(np.asarray(spectra["poa_global"], dtype=float).T, nan=0.0)
+    return np.asarray(spectra["wavelength"], dtype=float), np.clip(poa, 0.0, None)
+
+
+def _on_grid(wl, irradiance, grid):
+    """Linear interpolation of each row onto the common grid, zero outside the data."""
+    out = np.empty((irradiance.shape[0], grid.size))
+    for i, row in enumerate(irradiance):
+        out[i] = np.interp(grid, wl, row, left=0.0, right=0.0)
+    return out
+
+
+def cell_temperature_K(poa_W_m2, ambient_C, wind_m_s):
+    """SAPM cell temperature (King et al. 2004), open-rack glass/glass mounting [K]."""
+    import pvlib
+
+    params = pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"][SAPM_MOUNT]
+    return np.asarray(pvlib.temperature.sapm_cell(poa_W_m2, ambient_C, wind_m_s, **params)) + 273.15
+
+
+def clear_sky_series(site: Site, times: pd.DatetimeIndex) -> SpectralSeries:
+    """SPECTRL2 clear-sky spectra at ``times`` (daylight steps only)."""
+    pos, aoi = _solar(site, times)
+    up = (pos["apparent_zenith"] < 90).to_numpy()
+    if not up.any():
+        raise TandemInputError("the sun never rises over this period at this site; choose another "
+                               "period or latitude")
+    times_up = times[up]
+    wl, poa = _spectrl2(site, times_up, pos[up], aoi[up])
+    grid = common_grid()
+    irr = _on_grid(wl, poa, grid)
+    total = np.trapezoid(irr, grid, axis=-1)
+    step_h = np.full(times_up.size, (times[1] - times[0]).total_seconds() / 3600 if times.size > 1 else 1.0)
+    temps = cell_temperature_K(total, site.ambient_temperature_C, site.wind_speed_m_s)
+    return SpectralSeries(times_up, grid, irr, temps, step_h, f"SPECTRL2 clear sky at {site.name}",
+                          (f"aerosol optical depth {site.aerosol_turbidity_500nm:g} at 500 nm, "
+                           f"precipitable water {site.precipitable_water_cm:g} cm, ozone "
+                           f"{site.ozone_atm_cm:g} atm-cm, albedo {site.albedo:g}",
+                           f"ambient {site.ambient_temperature_C:g} °C, wind "
+                           f"{site.wind_speed_m_s:g} m/s, SAPM {SAPM_MOUNT}"))
+
+
+def weather_series(site: Site, path: str | Path) -> SpectralSeries:
+    """Hourly spectra from a typical-year weather file (EPW, or TMY3 CSV) read with pvlib.
+
+    Each daylight hour's spectrum has the SPECTRL2 shape for that sun position, scaled to
+    the plane-of-array irradiance computed from the file's GHI, DNI and DHI (isotropic sky);
+    the cell temperature uses the file's air temperature and wind speed.
+    """
+    import pvlib
+
+    path = Path(path)
+    if not path.is_file():
+        raise TandemInputError(f"weather file '{path}' not found; give an EPW or TMY3 CSV file")
+    try:
+        if path.suffix.lower() == ".epw":
+            data, _ = pvlib.iotools.read_epw(path, coerce_year=2026)
+        else:
+            data, _ = pvlib.iotools.read_tmy3(path, coerce_year=2026, map_variables=True)
+        data = data[["ghi", "dni", "dhi", "temp_air", "wind_speed"]].astype(float)
+    except Exception as exc:  # pvlib raises many types on a malformed file
+        raise TandemInputError(f"weather file '{path}' cannot be read as EPW or TMY3 "
+                               f"({type(exc).__name__}); check the format") from None
+    if data.empty or data.isna().all().any():
+        raise TandemInputError(f"weather file '{path}' has no usable irradiance or temperature "
+                               "columns; check the file")
+    times = data.index - pd.Timedelta(minutes=30)  # typical-year stamps end their hour
+    pos, aoi = _solar(site, times)
+    poa = pvlib.irradiance.get_total_irradiance(
+        site.tilt_deg, site.azimuth_deg, pos["apparent_zenith"], pos["azimuth"],
+        data["dni"].to_numpy(), data["ghi"].to_numpy(), data["dhi"].to_numpy(),
+        albedo=site.albedo)["poa_global"].fillna(0.0).to_numpy()
+    use = (pos["apparent_zenith"].to_numpy() < 89.0) & (poa > 1.0)
+    if not use.any():
+        raise TandemInputError(f"weather file '{path}' has no daylight irradiance on this plane")
+    wl, shape = _spectrl2(site, times[use], pos[use], aoi[use])
+    grid = common_grid()
+    irr = _on_grid(wl, shape, grid)
+    total = np.trapezoid(irr, grid, axis=-1)
+    ok = total > 0
+    scale = np.where(ok, poa[use] / np.where(ok, total, 1.0), 0.0)
+    irr = irr * scale[:, None]
+    temps = cell_temperature_K(poa[use], data["temp_air"].to_numpy()[use],
+                               data["wind_speed"].to_numpy()[use])
+    dropped = int((poa > 1.0).sum() - ok.sum())
+    return SpectralSeries(times[use][ok], grid, irr[ok], temps[ok], np.ones(int(ok.sum())),
+                          f"weather file {path.name} at {site.name}",
+                          (f"{dropped} hours with irradiance but the sun at or below the "
+                           "horizon in SPECTRL2 were left out",) if dropped else ())
+
+
+_STAMP = re.compile(r"(\d{4})-?(\d{2})-?(\d{2})[T_ ]?(\d{2})[-:]?(\d{2})")
+
+
+def folder_series(site: Site, folder: str | Path) -> SpectralSeries:
+    """Measured spectra: one CSV per time stamp in a folder (wavelength nm, W m⁻² nm⁻¹).
+
+    File names carry the time, e.g. ``2026-06-21T12-00.csv`` or ``20260621T1200.csv``
+    (site time zone). All files must use the same units: a file whose wavelengths look like
+    micrometres among files in nanometres is refused.
+    """
+    folder = Path(folder)
+    if not folder.is_dir():
+        raise TandemInputError(f"spectrum folder '{folder}' not found; give a folder of CSV files")
+    files = sorted(folder.glob("*.csv"))
+    if not files:
+        raise TandemInputError(f"spectrum folder '{folder}' has no .csv files")
+    stamps, spectra = [], []
+    for f in files:
+        m = _STAMP.search(f.stem)
+        if not m:
+            raise TandemInputError(f"spectrum folder '{folder}': file '{f.name}' has no time stamp "
+                                   "in its name; name files like 2026-06-21T12-00.csv")
+        stamps.append(pd.Timestamp("{}-{}-{}T{}:{}".format(*m.groups()), tz=site.timezone))
+        spectra.append(read_spectrum_csv(f))
+    units = ["µm" if s.wavelength_nm[-1] < 50 else "nm" for s in spectra]
+    if len(set(units)) > 1:
+        odd = files[units.index("µm" if units.count("µm") < units.count("nm") else "nm")]
+        raise TandemInputError(f"spectrum folder '{folder}' mixes units: '{odd.name}' has "
+                               "wavelengths in a different range from the others; give every file "
+                               "in nm and W m^-2 nm^-1")
+    if units[0] == "µm":
+        raise TandemInputError(f"spectrum folder '{folder}': wavelengths look like µm; give them in nm")
+    order = np.argsort(stamps)
+    times = pd.DatetimeIndex([stamps[i] for i in order])
+    if times.has_duplicates:
+        raise TandemInputError(f"spectrum folder '{folder}': two files share a time stamp")
+    grid = common_grid()
+    irr = np.array([np.interp(grid, spectra[i].wavelength_nm, spectra[i].irradiance,
+                              left=0.0, right=0.0) for i in order])
+    if times.size > 1:
+        gaps_h = np.diff(times.asi8) / 3.6e12
+        step = np.append(gaps_h, np.median(gaps_h))
+    else:
+        step = np.ones(1)
+    total = np.trapezoid(irr, grid, axis=-1)
+    temps = cell_temperature_K(total, site.ambient_temperature_C, site.wind_speed_m_s)
+    return SpectralSeries(times, grid, irr, temps, step, f"measured spectra in {folder.name}",
+                          ("each spectrum stands for the time until the next one",))

@@ -1,0 +1,190 @@
+"""Energy yield over a period: which front gap and thickness give the most kWh.
+
+For every front gap × front thickness the stack is evaluated at every time step of a
+:class:`~tandem.sky.SpectralSeries`, at that step's cell temperature (gaps shifted by each
+absorber's temperature coefficient). Steps are grouped into cell-temperature bins so that
+optics and J0 are computed once per bin; photocurrents for all steps of a bin are one
+matrix product.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable
+
+import numpy as np
+
+from . import detailed_balance as db
+from .design import (Conditions, StackDesign, stack_integrands, stack_performance,
+                     trapezoid_weights)
+from .errors import TandemInputError
+from .sky import SpectralSeries
+from .spectra import PhotonFlux
+from .stack import IDEAL, Electrical, evaluate_stack
+from .units import Q
+
+
+@dataclass(frozen=True)
+class HourlyDesign:
+    """One design step by step: power and photocurrents at each time step."""
+
+    times: object  #: DatetimeIndex
+    p_2t: np.ndarray  #: [W/m²]
+    p_4t: np.ndarray
+    j_front: np.ndarray  #: [A/m²]
+    j_back: np.ndarray
+    irradiance: np.ndarray  #: [W/m²]
+    cell_temperature_K: np.ndarray
+    step_hours: np.ndarray
+
+
+@dataclass(frozen=True)
+class YieldSweep:
+    gaps: np.ndarray  #: (n_g,) front gaps at 298.15 K [eV]
+    thicknesses: np.ndarray  #: (n_d,) front thicknesses [nm]
+    energy_2t: np.ndarray  #: (n_g, n_d) [kWh/m²]
+    energy_4t: np.ndarray
+    insolation: float  #: [kWh/m²]
+    series: SpectralSeries
+    design: StackDesign
+    back_thickness_nm: float
+    efficiency_am15_2t: np.ndarray  #: (n_g, n_d) under AM1.5G at 298.15 K, fraction
+
+    @property
+    def optimum(self) -> tuple[int, int]:
+        return np.unravel_index(int(np.nanargmax(self.energy_2t)), self.energy_2t.shape)
+
+    @property
+    def optimum_4t(self) -> tuple[int, int]:
+        return np.unravel_index(int(np.nanargmax(self.energy_4t)), self.energy_4t.shape)
+
+    @property
+    def am15_optimum(self) -> tuple[int, int]:
+        return np.unravel_index(int(np.nanargmax(self.efficiency_am15_2t)), self.energy_2t.shape)
+
+
+def _bins(temperatures_K, width_K):
+    centres = np.round(np.asarray(temperatures_K) / width_K) * width_K
+    return [(t, np.flatnonzero(centres == t)) for t in np.unique(centres)]
+
+
+def _currents(design, energy, weights_e, fluxes, bb, gap, thickness, back_d, t_cell):
+    """J_L (n_d, n_h, 2) and J0,rad (n_d, 1, 2) for one gap at one cell temperature."""
+    parts = stack_integrands(design, energy, gap, back_d, None,
+                             design.front.gap_shift_eV(t_cell), design.back.gap_shift_eV(t_cell))
+    absorbed, transmitted = parts.transfer(thickness)
+    fw, bw = weights_e * parts.front_weight, weights_e * parts.back_weight
+    jl = np.stack([absorbed @ (fluxes * fw).T, transmitted @ (fluxes * bw).T], axis=-1)
+    j0 = np.stack([absorbed @ (bb * fw), transmitted @ (bb * bw)], axis=-1)[:, None, :]
+    return jl, j0
+
+
+def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
+                back_thickness_nm: float, reference: PhotonFlux, ideality: float = 1.0,
+                electrical: Electrical = IDEAL, bin_K: float = 2.0,
+                progress: Callable[[int, int], None] | None = None) -> YieldSweep:
+    """Energy over the series for every front gap × front thickness, 2T and 4T [kWh/m²]."""
+    gaps = np.atleast_1d(np.asarray(gaps, dtype=float))
+    thicknesses = np.atleast_1d(np.asarray(thicknesses, dtype=float))
+    if not np.all(thicknesses > 0):
+        raise TandemInputError("front thicknesses must be positive")
+    for g in gaps:
+        design.front.check_gap(float(g))
+    energy, fluxes, _ = series.photon_fluxes()
+    w = trapezoid_weights(energy) * Q
+    ere = np.array([design.front.ere, design.back.ere])
+    e2 = np.zeros((gaps.size, thicknesses.size))
+    e4 = np.zeros_like(e2)
+    bins = _bins(series.cell_temperature_K, bin_K)
+    total, done = len(bins) * gaps.size, 0
+    for t_cell, idx in bins:
+        bb = db.blackbody_photon_flux(energy, t_cell)
+        hours = series.step_hours[idx]
+        for i, gap in enumerate(gaps):
+            jl, j0 = _currents(design, energy, w, fluxes[idx], bb, gap, thicknesses,
+                               back_thickness_nm, t_cell)
+            perf = evaluate_stack(jl, j0 / ere, t_cell, 1.0, ideality, electrical, design.front.ere)
+            e2[i] += perf.p_2t @ hours / 1000.0
+            e4[i] += perf.p_4t @ hours / 1000.0
+            done += 1
+            if progress:
+                progress(done, total)
+    cond = Conditions(reference, 298.15, ideality, electrical)
+    am15 = np.array([stack_performance(design, cond, g, thicknesses, back_thickness_nm).efficiency_2t
+                     for g in gaps])
+    return YieldSweep(gaps, thicknesses, e2, e4, series.insolation_kWh_m2, series, design,
+                      float(back_thickness_nm), am15)
+
+
+def hourly(design: StackDesign, series: SpectralSeries, gap: float, thickness: float,
+           back_thickness_nm: float, ideality: float = 1.0, electrical: Electrical = IDEAL,
+           bin_K: float = 2.0) -> HourlyDesign:
+    """One design at every time step of the series."""
+    energy, fluxes, power = series.photon_fluxes()
+    w = trapezoid_weights(energy) * Q
+    ere = np.array([design.front.ere, design.back.ere])
+    n = series.times.size
+    out = {k: np.zeros(n) for k in ("p2", "p4", "jf", "jb")}
+    for t_cell, idx in _bins(series.cell_temperature_K, bin_K):
+        bb = db.blackbody_photon_flux(energy, t_cell)
+        jl, j0 = _currents(design, energy, w, fluxes[idx], bb, gap, np.array([thickness]),
+                           back_thickness_nm, t_cell)
+        perf = evaluate_stack(jl, j0 / ere, t_cell, 1.0, ideality, electrical, design.front.ere)
+        out["p2"][idx], out["p4"][idx] = perf.p_2t[0], perf.p_4t[0]
+        out["jf"][idx], out["jb"][idx] = jl[0, :, 0], jl[0, :, 1]
+    return HourlyDesign(series.times, out["p2"], out["p4"], out["jf"], out["jb"], power,
+                        series.cell_temperature_K, series.step_hours)
+
+
+def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
+    """Totals and optima in display units (the `tandem yield --json` keys)."""
+    from .report import CAUTION
+
+    i, j = sweep.optimum
+    a, b = sweep.am15_optimum
+    i4, j4 = sweep.optimum_4t
+    e2, e4 = float(sweep.energy_2t[i, j]), float(sweep.energy_4t[i, j])
+    months = best.times.month
+    monthly = {}
+    for m in sorted(set(months)):
+        sel = months == m
+        monthly[int(m)] = {"energy_2t_kWh_m2": round(float(best.p_2t[sel] @ best.step_hours[sel]) / 1000, 3),
+                           "energy_4t_kWh_m2": round(float(best.p_4t[sel] @ best.step_hours[sel]) / 1000, 3),
+                           "insolation_kWh_m2": round(float(best.irradiance[sel] @ best.step_hours[sel]) / 1000, 3)}
+    front_limits = float(np.sum(best.step_hours[best.j_front < best.j_back] * best.irradiance[best.j_front < best.j_back])
+                         / max(np.sum(best.step_hours * best.irradiance), 1e-300))
+    return {
+        "front": sweep.design.front.key,
+        "back": sweep.design.back.key,
+        "source": sweep.series.source,
+        "source_notes": list(sweep.series.notes),
+        "steps": int(sweep.series.times.size),
+        "insolation_kWh_m2": round(sweep.insolation, 3),
+        "energy_optimum": {
+            "front_gap_eV": round(float(sweep.gaps[i]), 4),
+            "front_thickness_nm": round(float(sweep.thicknesses[j]), 1),
+            "energy_2t_kWh_m2": round(e2, 3),
+            "energy_4t_kWh_m2": round(e4, 3),
+            "energy_weighted_efficiency_2t_pct": round(100 * e2 / sweep.insolation, 3),
+            "energy_weighted_efficiency_4t_pct": round(100 * e4 / sweep.insolation, 3),
+            "mismatch_loss_kWh_m2": round(e4 - e2, 3),
+            "mismatch_loss_pct": round(100 * (e4 - e2) / e4, 3),
+            "share_of_light_with_front_limiting_pct": round(100 * front_limits, 2),
+        },
+        "energy_optimum_4t": {
+            "front_gap_eV": round(float(sweep.gaps[i4]), 4),
+            "front_thickness_nm": round(float(sweep.thicknesses[j4]), 1),
+            "energy_4t_kWh_m2": round(float(sweep.energy_4t[i4, j4]), 3),
+        },
+        "am15g_optimum": {
+            "front_gap_eV": round(float(sweep.gaps[a]), 4),
+            "front_thickness_nm": round(float(sweep.thicknesses[b]), 1),
+            "efficiency_2t_pct": round(100 * float(sweep.efficiency_am15_2t[a, b]), 3),
+            "energy_2t_kWh_m2": round(float(sweep.energy_2t[a, b]), 3),
+            "energy_4t_kWh_m2": round(float(sweep.energy_4t[a, b]), 3),
+        },
+        "back_thickness_nm": sweep.back_thickness_nm,
+        "monthly": monthly,
+        "grid": {"front_gaps": int(sweep.gaps.size), "front_thicknesses": int(sweep.thicknesses.size)},
+        "caution": CAUTION,
+    }
