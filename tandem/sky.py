@@ -144,20 +144,29 @@ def _solar(site: Site, times: pd.DatetimeIndex):
     return pos, aoi
 
 
-def _spectrl2(site: Site, times, pos, aoi):
-    """SPECTRL2 plane-of-array spectra (n_t, 122) and their wavelengths."""
+def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear):
+    """SPECTRL2 plane-of-array global spectra: (wavelengths (122,) [nm], (n, 122) [W m⁻² nm⁻¹]).
+
+    Air mass from the apparent zenith (Kasten & Young 1989), pressure from the site altitude.
+    """
     import pvlib
 
-    zenith = pos["apparent_zenith"].to_numpy()
+    zenith = np.atleast_1d(np.asarray(apparent_zenith, dtype=float))
     airmass = pvlib.atmosphere.get_relative_airmass(zenith)
     spectra = pvlib.spectrum.spectrl2(
-        apparent_zenith=zenith, aoi=aoi.to_numpy(), surface_tilt=site.tilt_deg,
-        ground_albedo=site.albedo, surface_pressure=pvlib.atmosphere.alt2pres(site.altitude_m),
+        apparent_zenith=zenith, aoi=np.atleast_1d(np.asarray(aoi, dtype=float)),
+        surface_tilt=site.tilt_deg, ground_albedo=site.albedo,
+        surface_pressure=pvlib.atmosphere.alt2pres(site.altitude_m),
         relative_airmass=np.asarray(airmass), precipitable_water=site.precipitable_water_cm,
         ozone=site.ozone_atm_cm, aerosol_turbidity_500nm=site.aerosol_turbidity_500nm,
-        dayofyear=times.dayofyear.to_numpy())
+        dayofyear=np.atleast_1d(dayofyear))
     poa = np.nan_to_num(np.asarray(spectra["poa_global"], dtype=float).T, nan=0.0)
     return np.asarray(spectra["wavelength"], dtype=float), np.clip(poa, 0.0, None)
+
+
+def _spectrl2(site: Site, times, pos, aoi):
+    return spectrl2_poa(site, pos["apparent_zenith"].to_numpy(), aoi.to_numpy(),
+                        times.day_of_year.to_numpy())
 
 
 def _on_grid(wl, irradiance, grid):

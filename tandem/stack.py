@@ -145,13 +145,17 @@ def evaluate_stack(j_light, j0, temperature_K, irradiance, ideality=1.0,
     j_light = np.asarray(j_light, dtype=float)
     j0 = np.asarray(j0, dtype=float)
     m = j_light.shape[-1]
+    # a temperature per point broadcasts against the leading axes; per-subcell quantities
+    # need it with a trailing axis
+    t_sub = np.asarray(temperature_K, dtype=float)
+    t_sub = t_sub[..., None] if t_sub.ndim else t_sub
     c = electrical.coupling * front_ere if m == 2 else 0.0
-    j_own, v_own, p_own = _own_mpp(j_light, j0, temperature_K, ideality, electrical)
+    j_own, v_own, p_own = _own_mpp(j_light, j0, t_sub, ideality, electrical)
     if c > 0:  # four terminals: the back gains the front's radiative recombination at its MPP
         jl4 = j_light.copy()
         jl4[..., 1] += c * (j_light[..., 0] - j_own[..., 0])
-        j_own, v_own, p_own = _own_mpp(jl4, j0, temperature_K, ideality, electrical)
-    voc = db.open_circuit_voltage(j_light, j0, temperature_K, ideality)
+        j_own, v_own, p_own = _own_mpp(jl4, j0, t_sub, ideality, electrical)
+    voc = db.open_circuit_voltage(j_light, j0, t_sub, ideality)
     if m == 1:
         j_2t, v_2t, p_2t = j_own[..., 0], v_own[..., 0], p_own[..., 0]
         v_2t_sub = v_own
@@ -166,17 +170,20 @@ def evaluate_stack(j_light, j0, temperature_K, irradiance, ideality=1.0,
         else:
             j_2t, v_2t, p_2t = db.series_mpp(jl_s, j0_s, temperature_K, ideality,
                                              own_mpp_current=None if c > 0 else j_own)
-        v_2t_sub = db.diode_voltage(j_2t[..., None], jl_s, j0_s, temperature_K, ideality)
+        v_2t_sub = db.diode_voltage(j_2t[..., None], jl_s, j0_s, t_sub, ideality)
     return StackPerformance(j_light, j0, voc, p_own, j_own, v_own, j_2t, v_2t, p_2t,
                             v_2t_sub, float(irradiance))
 
 
-def _own_mpp(j_light, j0, temperature_K, ideality, electrical):
-    """Each subcell at its own maximum power point (with the resistances, if any)."""
+def _own_mpp(j_light, j0, t_sub, ideality, electrical):
+    """Each subcell at its own maximum power point (with the resistances, if any).
+
+    ``t_sub`` is the temperature shaped to broadcast against (..., m).
+    """
     if not electrical.resistive:
-        return db.single_junction_mpp(j_light, j0, temperature_K, ideality)
+        return db.single_junction_mpp(j_light, j0, t_sub, ideality)
     j0 = np.broadcast_to(j0, j_light.shape)
-    return resistive_mpp(j_light[..., None], j0[..., None], temperature_K, ideality, electrical)
+    return resistive_mpp(j_light[..., None], j0[..., None], t_sub, ideality, electrical)
 
 
 def resistive_mpp(j_light, j0, temperature_K, ideality, electrical: Electrical, iterations=90):

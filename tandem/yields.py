@@ -64,18 +64,28 @@ class YieldSweep:
 
 
 def _bins(temperatures_K, width_K):
-    centres = np.round(np.asarray(temperatures_K) / width_K) * width_K
-    return [(t, np.flatnonzero(centres == t)) for t in np.unique(centres)]
+    """(mean temperature, step indices) of each ``width_K`` bin of cell temperature."""
+    t = np.asarray(temperatures_K)
+    labels = np.round(t / width_K)
+    out = []
+    for label in np.unique(labels):
+        idx = np.flatnonzero(labels == label)
+        out.append((float(t[idx].mean()), idx))
+    return out
 
 
-def _currents(design, energy, weights_e, fluxes, bb, gap, thickness, back_d, t_cell):
-    """J_L (n_d, n_h, 2) and J0,rad (n_d, 1, 2) for one gap at one cell temperature."""
+def _currents(design, energy, weights_e, fluxes, bb, gap, thickness, back_d, t_bin):
+    """J_L and J0,rad, each (n_d, n_h, 2), for one gap over the steps of one bin.
+
+    The gaps are shifted to the bin's temperature; the blackbody rows ``bb`` (n_h, nE) are
+    at each step's own cell temperature.
+    """
     parts = stack_integrands(design, energy, gap, back_d, None,
-                             design.front.gap_shift_eV(t_cell), design.back.gap_shift_eV(t_cell))
+                             design.front.gap_shift_eV(t_bin), design.back.gap_shift_eV(t_bin))
     absorbed, transmitted = parts.transfer(thickness)
     fw, bw = weights_e * parts.front_weight, weights_e * parts.back_weight
     jl = np.stack([absorbed @ (fluxes * fw).T, transmitted @ (fluxes * bw).T], axis=-1)
-    j0 = np.stack([absorbed @ (bb * fw), transmitted @ (bb * bw)], axis=-1)[:, None, :]
+    j0 = np.stack([absorbed @ (bb * fw).T, transmitted @ (bb * bw).T], axis=-1)
     return jl, j0
 
 
@@ -97,12 +107,13 @@ def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
     e4 = np.zeros_like(e2)
     bins = _bins(series.cell_temperature_K, bin_K)
     total, done = len(bins) * gaps.size, 0
-    for t_cell, idx in bins:
-        bb = db.blackbody_photon_flux(energy, t_cell)
+    for t_bin, idx in bins:
+        t_cell = series.cell_temperature_K[idx]
+        bb = db.blackbody_photon_flux(energy, t_cell[:, None])
         hours = series.step_hours[idx]
         for i, gap in enumerate(gaps):
             jl, j0 = _currents(design, energy, w, fluxes[idx], bb, gap, thicknesses,
-                               back_thickness_nm, t_cell)
+                               back_thickness_nm, t_bin)
             perf = evaluate_stack(jl, j0 / ere, t_cell, 1.0, ideality, electrical, design.front.ere)
             e2[i] += perf.p_2t @ hours / 1000.0
             e4[i] += perf.p_4t @ hours / 1000.0
@@ -125,10 +136,11 @@ def hourly(design: StackDesign, series: SpectralSeries, gap: float, thickness: f
     ere = np.array([design.front.ere, design.back.ere])
     n = series.times.size
     out = {k: np.zeros(n) for k in ("p2", "p4", "jf", "jb")}
-    for t_cell, idx in _bins(series.cell_temperature_K, bin_K):
-        bb = db.blackbody_photon_flux(energy, t_cell)
+    for t_bin, idx in _bins(series.cell_temperature_K, bin_K):
+        t_cell = series.cell_temperature_K[idx]
+        bb = db.blackbody_photon_flux(energy, t_cell[:, None])
         jl, j0 = _currents(design, energy, w, fluxes[idx], bb, gap, np.array([thickness]),
-                           back_thickness_nm, t_cell)
+                           back_thickness_nm, t_bin)
         perf = evaluate_stack(jl, j0 / ere, t_cell, 1.0, ideality, electrical, design.front.ere)
         out["p2"][idx], out["p4"][idx] = perf.p_2t[0], perf.p_4t[0]
         out["jf"][idx], out["jb"][idx] = jl[0, :, 0], jl[0, :, 1]

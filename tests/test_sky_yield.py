@@ -1,0 +1,196 @@
+"""Real-sky spectra, energy yield and fabrication scatter."""
+
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+from typer.testing import CliRunner
+
+import tandem
+from cli import app
+from tandem.design import Conditions, StackDesign, stack_performance
+from tandem.scatter import scatter
+from tandem.sky import (G173_AEROSOL_500NM, G173_OZONE_ATM_CM, G173_WATER_CM, Site, SpectralSeries,
+                        clear_sky_series, common_grid, parse_period, spectrl2_poa, weather_series)
+from tandem.spectra import Spectrum
+from tandem.yields import hourly, yield_sweep
+
+runner = CliRunner()
+
+
+def test_spectrl2_under_g173_conditions_matches_the_standard(am15g):
+    # ASTM G173-03 conditions: air mass 1.5 (apparent zenith 48.236° with Kasten-Young),
+    # a surface tilted 37° towards the sun, sea level, aerosol optical depth 0.084 at
+    # 500 nm, 1.4164 cm of water, 0.3438 atm-cm of ozone (the standard's SMARTS inputs).
+    site = Site("G173", 0.0, 0.0, 0.0, 37.0, 180.0, "UTC", 0.2, G173_AEROSOL_500NM,
+                G173_WATER_CM, G173_OZONE_ATM_CM)
+    zenith = 48.236
+    wl, poa = spectrl2_poa(site, zenith, zenith - 37.0, 81)
+    total = np.trapezoid(poa[0], wl)
+    assert total == pytest.approx(1000.37, rel=0.05)  # within 5 % of ASTM G173-03
+    grid = common_grid()
+    flux = Spectrum("spectrl2", grid, np.interp(grid, wl, poa[0])).photon_flux()
+    j_sky = tandem.step_photocurrent(flux, 1.12)
+    j_ref = tandem.step_photocurrent(am15g, 1.12)
+    assert j_sky == pytest.approx(j_ref, rel=0.05)
+
+
+def constant_series(hours=24, temperature=298.15):
+    ref = tandem.reference_spectrum("am1.5g")
+    grid = common_grid()
+    irr = np.interp(grid, ref.wavelength_nm, ref.irradiance)
+    times = pd.date_range("2026-06-01 00:30", periods=hours, freq="h", tz="UTC")
+    return SpectralSeries(times, grid, np.tile(irr, (hours, 1)), np.full(hours, temperature),
+                          np.ones(hours), "constant AM1.5G"), Spectrum("g", grid, irr).photon_flux()
+
+
+@pytest.fixture(scope="module")
+def pvk_si():
+    return StackDesign(tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon"),
+                       0.02, 0.02, 0.01)
+
+
+def test_constant_spectrum_energy_is_efficiency_times_insolation(pvk_si):
+    series, flux = constant_series()
+    gaps, thick = np.array([1.68, 1.75]), np.array([400.0, 900.0])
+    sweep = yield_sweep(pvk_si, series, gaps, thick, 160e3, flux)
+    for i, g in enumerate(gaps):
+        perf = stack_performance(pvk_si, Conditions(flux, 298.15), g, thick, 160e3)
+        assert sweep.energy_2t[i] == pytest.approx(perf.efficiency_2t * series.insolation_kWh_m2, rel=1e-12)
+        assert sweep.energy_4t[i] == pytest.approx(perf.efficiency_4t * series.insolation_kWh_m2, rel=1e-12)
+
+
+@pytest.fixture(scope="module")
+def summer_day():
+    site = Site("invented field", 38.0, -4.0, 600.0, 30.0, 180.0, "Etc/GMT-1")
+    return clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 30))
+
+
+def test_four_terminal_energy_never_below_two_terminal(pvk_si, summer_day, am15g):
+    sweep = yield_sweep(pvk_si, summer_day, np.linspace(1.62, 1.9, 8), np.geomspace(150, 1500, 8),
+                        160e3, am15g)
+    assert np.all(sweep.energy_4t >= sweep.energy_2t - 1e-12)
+    assert 0 < sweep.energy_2t.max() < sweep.insolation
+
+
+def test_hourly_design_adds_up_to_the_sweep(pvk_si, summer_day, am15g):
+    sweep = yield_sweep(pvk_si, summer_day, [1.72], [800.0], 160e3, am15g)
+    h = hourly(pvk_si, summer_day, 1.72, 800.0, 160e3)
+    assert float(h.p_2t @ h.step_hours) / 1000 == pytest.approx(sweep.energy_2t[0, 0], rel=1e-12)
+
+
+def test_gap_temperature_coefficients_follow_their_sources():
+    si = tandem.load_absorber("silicon")
+    # Varshni fit of Thurmond, J. Electrochem. Soc. 122 (1975) 1133 (recalled from memory):
+    # Eg(T) = 1.17 − 4.73e-4·T²/(T + 636) eV, so dEg/dT at 298 K ≈ −0.255 meV/K.
+    t = 298.15
+    varshni = -4.73e-4 * (t**2 + 2 * 636 * t) / (t + 636) ** 2
+    assert si.gap_shift_eV(t + 1.0) == pytest.approx(varshni, rel=0.1)
+    assert si.gap_shift_eV(350.0) < 0  # silicon's gap narrows as it warms
+    e = tandem.units.HC_EV_NM / 1100.0
+    assert si.alpha(e, shift_eV=si.gap_shift_eV(350.0)) > si.alpha(e)  # so it absorbs more red
+    # lead-halide perovskite gaps widen on warming (recalled, see the absorber's sources)
+    assert tandem.load_absorber("perovskite-wide").gap_shift_eV(330.0) > 0
+
+
+def test_scatter_zero_spread_is_deterministic(pvk_si, am15g):
+    cond = Conditions(am15g, 298.15)
+    r = scatter(pvk_si, cond, 1.72, 900.0, 160e3, 0.0, 0.0, 50, 3)
+    assert np.all(r.efficiency_2t == pytest.approx(r.nominal_2t, rel=1e-12))
+    assert r.stats()["std_pct"] == 0
+
+
+def test_scatter_is_reproducible_and_its_mean_converges(pvk_si, am15g):
+    cond = Conditions(am15g, 298.15)
+    a = scatter(pvk_si, cond, 1.72, 900.0, 160e3, 0.02, 8.0, 300, seed=11)
+    b = scatter(pvk_si, cond, 1.72, 900.0, 160e3, 0.02, 8.0, 300, seed=11)
+    assert np.array_equal(a.efficiency_2t, b.efficiency_2t)
+    big = scatter(pvk_si, cond, 1.72, 900.0, 160e3, 0.02, 8.0, 8000, seed=5)
+    truth, sd = big.efficiency_2t.mean(), big.efficiency_2t.std()
+    errors = []
+    for n, seed in ((100, 1), (400, 2), (1600, 3)):
+        r = scatter(pvk_si, cond, 1.72, 900.0, 160e3, 0.02, 8.0, n, seed=seed)
+        err = abs(r.efficiency_2t.mean() - truth)
+        assert err < 4 * sd / np.sqrt(n)  # the standard error shrinks as 1/√n
+        errors.append(err)
+    assert errors[-1] < 4 * sd / np.sqrt(1600) < 4 * sd / np.sqrt(100)
+
+
+def test_weather_file_is_scaled_to_plane_of_array():
+    # pvlib ships a typical-year TMY3 file; used here only as a well-formed input.
+    import os
+
+    import pvlib
+
+    path = os.path.join(os.path.dirname(pvlib.__file__), "data", "723170TYA.CSV")
+    site = Site("weather test", 36.1, -79.9, 270.0, 30.0, 180.0, "Etc/GMT+5")
+    series = weather_series(site, path)
+    data, _ = pvlib.iotools.read_tmy3(path, coerce_year=2026, map_variables=True)
+    times = data.index - pd.Timedelta(minutes=30)
+    pos = pvlib.solarposition.get_solarposition(times, site.latitude, site.longitude, site.altitude_m)
+    poa = pvlib.irradiance.get_total_irradiance(30.0, 180.0, pos["apparent_zenith"], pos["azimuth"],
+                                                data["dni"].to_numpy(), data["ghi"].to_numpy(),
+                                                data["dhi"].to_numpy(), albedo=0.2)
+    g = poa["poa_global"].fillna(0).to_numpy()
+    expected = g[(pos["apparent_zenith"].to_numpy() < 89) & (g > 1)].sum() / 1000
+    assert series.insolation_kWh_m2 == pytest.approx(expected, rel=0.02)
+    assert 250 < series.cell_temperature_K.mean() < 330
+
+
+@pytest.mark.parametrize("args, message", [
+    (["--latitude", "95", "--longitude", "0"], "site latitude = 95.0 is out of range"),
+    (["--latitude", "40", "--longitude", "0", "--timezone", "Mars/Olympus"], "timezone 'Mars/Olympus'"),
+    (["--latitude", "40", "--longitude", "0", "--period", "week:2026"], "--period 'week:2026'"),
+])
+def test_bad_site_input(tmp_path, args, message):
+    res = runner.invoke(app, ["yield", "perovskite-wide", "silicon", *args, "-o", str(tmp_path / "y")])
+    assert res.exit_code == 2, res.output
+    assert message in res.stderr and len(res.stderr.strip().splitlines()) == 1
+
+
+def test_unreadable_weather_file(tmp_path):
+    bad = tmp_path / "weather.epw"
+    bad.write_text("this is not a weather file\n1,2,3\n")
+    res = runner.invoke(app, ["yield", "perovskite-wide", "silicon", "--latitude", "40",
+                              "--longitude", "0", "--weather", str(bad)])
+    assert res.exit_code == 2
+    assert "weather file" in res.stderr and "cannot be read" in res.stderr
+
+
+def test_spectrum_folder_with_mixed_units(tmp_path):
+    folder = tmp_path / "spectra"
+    folder.mkdir()
+    (folder / "2026-06-21T11-00.csv").write_text("wavelength_nm,irradiance\n400,1.0\n800,1.2\n1200,0.6\n")
+    (folder / "2026-06-21T12-00.csv").write_text("wavelength_um,irradiance\n0.4,1.0\n0.8,1.2\n1.2,0.6\n")
+    res = runner.invoke(app, ["yield", "perovskite-wide", "silicon", "--latitude", "40",
+                              "--longitude", "0", "--spectra", str(folder)])
+    assert res.exit_code == 2
+    assert "mixes units" in res.stderr and "give every file in nm" in res.stderr
+
+
+def test_yield_cli_json_and_figures(tmp_path):
+    res = runner.invoke(app, ["yield", "perovskite-wide", "silicon", "--latitude", "38",
+                              "--longitude", "-4", "--timezone", "Etc/GMT-1", "--period",
+                              "day:2026-06-21", "--front-gaps", "1.66:1.78:0.04", "--points", "5",
+                              "-o", str(tmp_path / "y"), "--json", "-q"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    eo = data["energy_optimum"]
+    assert eo["energy_4t_kWh_m2"] >= eo["energy_2t_kWh_m2"] > 0
+    assert {"front_gap_eV", "front_thickness_nm"} <= set(data["am15g_optimum"])
+    for name in ("y-day.png", "y-monthly.png", "y-map.png"):
+        assert (tmp_path / name).stat().st_size > 20_000
+
+
+def test_scatter_cli(tmp_path):
+    res = runner.invoke(app, ["scatter", "perovskite-wide", "silicon", "--gap", "1.72",
+                              "--thickness", "900", "--samples", "300", "--target", "36",
+                              "--plot", str(tmp_path / "s.png"), "--json"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    assert data["p10_pct"] <= data["p50_pct"] <= data["p90_pct"]
+    assert 0 <= data["share_at_or_above_target_pct"] <= 100
+    assert (tmp_path / "s.png").stat().st_size > 10_000
+    res = runner.invoke(app, ["scatter", "perovskite-wide", "silicon", "--gap-sigma", "-1"])
+    assert res.exit_code == 2 and "spreads must be zero or positive" in res.stderr
