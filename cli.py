@@ -620,6 +620,10 @@ def study(
     table = Table(title=f"{sc.data['title']} — ranked designs ({sc.terminals}T)", title_justify="left")
     cols = ["#", "front", "back", "gap eV", "front nm", "match nm", "back µm", "Jsc F", "Jsc B",
             "limits", "mism. %", "2T %", "4T %", "±%g%% thickness nm" % sc.tolerance_pct]
+    extra = [(k, label) for k, label in (("energy_2t_kWh_m2", "2T kWh/m²"), ("energy_4t_kWh_m2", "4T kWh/m²"),
+                                         ("p10_pct", "P10 %"), ("p90_pct", "P90 %"))
+             if k in result.rows[0]]
+    cols += [label for _, label in extra]
     for col in cols:
         table.add_column(col, justify="left" if col in ("front", "back", "limits") else "right")
     for r in result.rows[: sc.top]:
@@ -629,7 +633,8 @@ def study(
                       f"{r['back_thickness_um']:g}", f"{r['jsc_front_mA_cm2']:.2f}",
                       f"{r['jsc_back_mA_cm2']:.2f}", r["limiting_subcell"],
                       f"{r['mismatch_pct']:.2f}", f"[bold]{r['efficiency_2t_pct']:.2f}[/]",
-                      f"{r['efficiency_4t_pct']:.2f}", r["front_thickness_window_nm"])
+                      f"{r['efficiency_4t_pct']:.2f}", r["front_thickness_window_nm"],
+                      *[f"{r[k]:.1f}" if "kWh" in k else f"{r[k]:.2f}" for k, _ in extra])
     table.caption = "Jsc F/B: front/back photocurrent (mA/cm²); limits: the limiting subcell"
     out.print(escape(sc.data["question"]), highlight=False)
     out.print(table)
