@@ -585,8 +585,10 @@ def study(
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="No progress bar.")] = False,
     json_out: JsonOpt = False,
 ):
-    """Run a whole design study and write its folder: ranked table (CSV, Markdown, LaTeX),
-    figures and a manifest to reproduce it.
+    """Run a whole design study and write its folder (tables, figures, manifest).
+
+    The folder holds the ranked design table as CSV, Markdown and LaTeX, the figures, and a
+    manifest from which the same study can be run again.
 
     Examples:
 
@@ -884,7 +886,7 @@ def fabrication_scatter(
 
 def main() -> None:
     """Console entry point (``tandem``)."""
-    app()
+    app(prog_name="tandem")
 
 
 if __name__ == "__main__":
