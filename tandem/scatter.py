@@ -11,11 +11,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import detailed_balance as db
-from .design import Conditions, StackDesign, stack_integrands, trapezoid_weights
+from .design import Conditions, StackDesign, stack_performance, subcell_currents
 from .errors import TandemInputError
 from .stack import evaluate_stack
-from .units import Q
 
 
 @dataclass(frozen=True)
@@ -56,26 +54,19 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
     gaps = front_gap + gap_sigma_eV * rng.standard_normal(samples)
     thick = front_thickness_nm * (1 + thickness_sigma_pct / 100 * rng.standard_normal(samples))
     thick = np.maximum(thick, 1e-3 * front_thickness_nm)  # a film cannot be thinner than nothing
-    e, phi = cond.photon_flux.energy, cond.photon_flux.flux
-    w = trapezoid_weights(e) * Q
-    bb = db.blackbody_photon_flux(e, cond.temperature_K)
     ere = np.array([design.front.ere, design.back.ere])
     e2, e4 = np.empty(samples), np.empty(samples)
     for start in range(0, samples, chunk):
         sl = slice(start, start + chunk)
-        jl, j0 = [], []
-        for g, d in zip(gaps[sl], thick[sl]):  # per-sample optics: one (nE,) pass each
-            parts = stack_integrands(design, e, g, back_thickness_nm)
-            absorbed, transmitted = parts.transfer(d)
-            fw, bw = w * parts.front_weight, w * parts.back_weight
-            jl.append((absorbed @ (phi * fw), transmitted @ (phi * bw)))
-            j0.append((absorbed @ (bb * fw), transmitted @ (bb * bw)))
-        perf = evaluate_stack(np.array(jl), np.array(j0) / ere, cond.temperature_K,
+        # optics per sample (each has its own gap), the engine once per chunk
+        currents = [subcell_currents(design, cond, g, d, back_thickness_nm)
+                    for g, d in zip(gaps[sl], thick[sl])]
+        jl = np.array([c[0] for c in currents])
+        j0 = np.array([c[1] for c in currents])
+        perf = evaluate_stack(jl, j0 / ere, cond.temperature_K,
                               cond.photon_flux.irradiance, cond.ideality, cond.electrical,
                               design.front.ere)
         e2[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_4t
-    from .design import stack_performance
-
     nominal = stack_performance(design, cond, front_gap, front_thickness_nm, back_thickness_nm)
     return ScatterResult(gaps, thick, e2, e4, float(nominal.efficiency_2t),
                          float(nominal.efficiency_4t))

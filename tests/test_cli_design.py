@@ -1,7 +1,6 @@
 """`tandem absorbers` and `tandem match` through typer's runner."""
 
 import json
-from pathlib import Path
 
 import pytest
 from typer.testing import CliRunner

@@ -7,7 +7,7 @@ import pytest
 from scipy import optimize
 
 import tandem
-from tandem.stack import Electrical, evaluate_stack
+from tandem.stack import Electrical
 
 T = 300.0
 
