@@ -88,6 +88,18 @@ IrradianceOpt = Annotated[Optional[float], typer.Option(
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print one JSON object on stdout only.")]
 
 
+def _electrical(coupling, series_resistance, shunt_resistance):
+    from tandem.stack import Electrical
+
+    return Electrical(coupling, series_resistance, shunt_resistance)
+
+
+CouplingOpt = Annotated[float, typer.Option(
+    help="Luminescent coupling: share of the front's radiative recombination reaching the back.")]
+SeriesOpt = Annotated[float, typer.Option(help="Series resistance of the stack [Ω·cm²].")]
+ShuntOpt = Annotated[float, typer.Option(help="Shunt resistance of the stack [Ω·cm²].")]
+
+
 def _photon_flux(spectrum, sun_temperature, concentration, irradiance):
     return tandem.load_spectrum(spectrum, sun_temperature_K=sun_temperature,
                                 concentration=concentration,
@@ -111,6 +123,9 @@ def limit(
     concentration: ConcentrationOpt = 1.0,
     sun_temperature: SunTemperatureOpt = 6000.0,
     irradiance: IrradianceOpt = None,
+    coupling: CouplingOpt = 0.0,
+    series_resistance: SeriesOpt = 0.0,
+    shunt_resistance: ShuntOpt = float("inf"),
     json_out: JsonOpt = False,
 ):
     """Detailed-balance limit of a single junction or a two-junction stack of step absorbers.
@@ -125,7 +140,8 @@ def limit(
     """
     flux = _photon_flux(spectrum, sun_temperature, concentration, irradiance)
     result = tandem.detailed_balance_limit(gaps, flux, terminals, temperature,
-                                           _parse_floats(ere, "--ere"), ideality)
+                                           _parse_floats(ere, "--ere"), ideality,
+                                           _electrical(coupling, series_resistance, shunt_resistance))
     summary = tandem.design_summary(result)
     if json_out:
         _emit_json(summary)
@@ -318,6 +334,9 @@ def match(
     top: Annotated[int, typer.Option(help="Configurations to show.")] = 8,
     tolerance: Annotated[float, typer.Option(
         help="Loss [% absolute] defining the thickness and gap tolerance windows.")] = 1.0,
+    coupling: CouplingOpt = 0.0,
+    series_resistance: SeriesOpt = 0.0,
+    shunt_resistance: ShuntOpt = float("inf"),
     concentration: ConcentrationOpt = 1.0,
     sun_temperature: SunTemperatureOpt = 6000.0,
     irradiance: IrradianceOpt = None,
@@ -352,7 +371,8 @@ def match(
                          loss_on_grid(reflectance, e, "--reflectance"),
                          loss_on_grid(front_parasitic, e, "--front-parasitic"),
                          loss_on_grid(interlayer_parasitic, e, "--interlayer-parasitic"))
-    cond = Conditions(flux, temperature)
+    cond = Conditions(flux, temperature, 1.0,
+                      _electrical(coupling, series_resistance, shunt_resistance))
     gaps = None
     if front_gaps:
         lo, hi, *step = _parse_range(front_gaps, "--front-gaps")
@@ -655,18 +675,6 @@ def study(
 # --------------------------------------------------------------------------------------
 # yield and scatter
 # --------------------------------------------------------------------------------------
-
-
-def _electrical(coupling, series_resistance, shunt_resistance):
-    from tandem.stack import Electrical
-
-    return Electrical(coupling, series_resistance, shunt_resistance)
-
-
-CouplingOpt = Annotated[float, typer.Option(
-    help="Luminescent coupling: share of the front's radiative recombination reaching the back.")]
-SeriesOpt = Annotated[float, typer.Option(help="Series resistance of the stack [Ω·cm²].")]
-ShuntOpt = Annotated[float, typer.Option(help="Shunt resistance of the stack [Ω·cm²].")]
 
 
 @app.command("yield")

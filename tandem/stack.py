@@ -315,6 +315,7 @@ def detailed_balance_limit(
     temperature_K: float = 298.15,
     ere: Sequence[float] = (1.0,),
     ideality: float = 1.0,
+    electrical: Electrical = IDEAL,
 ) -> DesignResult:
     """Validate one design given as band gaps (front first) and compute its limit.
 
@@ -340,13 +341,13 @@ def detailed_balance_limit(
             raise TandemInputError(f"front and back gaps are both {gaps[0]:g} eV: the back cell "
                                    "would get no light; give the front a wider gap")
         swapped = step_stack(photon_flux, np.array(gaps[::-1]), temperature_K,
-                             ere_values[::-1], ideality)
+                             ere_values[::-1], ideality, electrical)
         eff = float(swapped.p_2t if terminals == 2 else swapped.p_4t) / swapped.irradiance
         raise TandemInputError(
             f"front gap {gaps[0]:g} eV is below back gap {gaps[1]:g} eV: the order looks "
             f"inverted (the sunward cell needs the wider gap); swapped, {gaps[1]:g}/{gaps[0]:g} eV "
             f"gives {100 * eff:.2f} % ({terminals}T): run 'tandem limit {gaps[1]:g} {gaps[0]:g}'"
         )
-    perf = step_stack(photon_flux, np.array(gaps), temperature_K, ere_values, ideality)
+    perf = step_stack(photon_flux, np.array(gaps), temperature_K, ere_values, ideality, electrical)
     return DesignResult(gaps, terminals if len(gaps) == 2 else 2, temperature_K,
                         tuple(ere_values), photon_flux.name, photon_flux.notes, perf)

@@ -82,3 +82,15 @@ def test_bad_csv_names_row(tmp_path):
 def test_version():
     res = run("--version")
     assert res.exit_code == 0 and "tandem" in res.stdout
+
+
+def test_electrical_options_move_the_result_the_right_way():
+    base = json.loads(run("limit", "1.6", "1.12", "--temperature", "300", "--json").stdout)
+    coupled = json.loads(run("limit", "1.6", "1.12", "--temperature", "300", "--coupling", "1",
+                             "--json").stdout)
+    resistive = json.loads(run("limit", "1.6", "1.12", "--temperature", "300",
+                               "--series-resistance", "2", "--json").stdout)
+    assert base["limiting_subcell"] == "back"  # the front has excess current to pass on
+    assert coupled["efficiency_pct"] > base["efficiency_pct"] > resistive["efficiency_pct"]
+    res = run("limit", "1.34", "--shunt-resistance", "0")
+    assert res.exit_code == 2 and "shunt resistance 0" in res.stderr
