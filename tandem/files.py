@@ -49,17 +49,7 @@ def write_whole(path: str | Path, write: Callable[[Path], None], overwrite: bool
 
     A failure leaves nothing behind, so an output is either complete or absent.
     """
-    path = check_new_output(path, overwrite)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=path.suffix, dir=path.parent)
-    os.close(fd)
-    tmp = Path(tmp)
-    try:
-        write(tmp)
-        publish_mode(tmp)
-        os.replace(tmp, path)
-    finally:
-        tmp.unlink(missing_ok=True)
-    return path
+    return write_all_whole({path: write}, overwrite)[0]
 
 
 def write_all_whole(writers: dict, overwrite: bool = False) -> list[Path]:

@@ -22,7 +22,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import TandemInputError
-from .spectra import PhotonFlux, _astm_g173, read_spectrum_csv
+from .spectra import _astm_g173, read_spectrum_csv
 from .units import HC_EV_NM, Q
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
@@ -95,10 +95,6 @@ class SpectralSeries:
         irr = self.irradiance[:, ::-1]
         flux = irr / (energy * Q) * HC_EV_NM / energy**2
         return energy, flux, np.trapezoid(self.irradiance, self.wavelength_nm, axis=-1)
-
-    def at(self, i: int) -> PhotonFlux:
-        energy, flux, power = self.photon_fluxes()
-        return PhotonFlux(f"{self.source} {self.times[i]}", energy, flux[i], float(power[i]))
 
     @property
     def insolation_kWh_m2(self) -> float:

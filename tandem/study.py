@@ -542,8 +542,7 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
     folder.mkdir()
     for (front, back), result in study.results.items():
         match_figure(result, folder / f"match-{front}-over-{back}.png",
-                     tolerance=tolerance_windows(result, study.scenario.tolerance_pct) | {
-                         "loss_pct_abs": study.scenario.tolerance_pct})
+                     tolerance=tolerance_windows(result, study.scenario.tolerance_pct))
     if "map" in study.scenario.data:
         fg = gap_axis(*study.scenario.get("map", "front_gaps_eV"), "map.front_gaps_eV")
         bg = gap_axis(*study.scenario.get("map", "back_gaps_eV"), "map.back_gaps_eV")

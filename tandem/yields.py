@@ -63,30 +63,37 @@ class YieldSweep:
         return np.unravel_index(int(np.nanargmax(self.efficiency_am15_2t)), self.energy_2t.shape)
 
 
-def _bins(temperatures_K, width_K):
-    """(mean temperature, step indices) of each ``width_K`` bin of cell temperature."""
-    t = np.asarray(temperatures_K)
+def _bins(series: SpectralSeries, energy, width_K):
+    """Steps grouped in ``width_K`` bins of cell temperature.
+
+    Yields (mean temperature, step indices, each step's temperature, blackbody rows (n_h, nE)
+    at each step's own temperature).
+    """
+    t = np.asarray(series.cell_temperature_K)
     labels = np.round(t / width_K)
-    out = []
     for label in np.unique(labels):
         idx = np.flatnonzero(labels == label)
-        out.append((float(t[idx].mean()), idx))
-    return out
+        yield float(t[idx].mean()), idx, t[idx], db.blackbody_photon_flux(energy, t[idx][:, None])
 
 
-def _currents(design, energy, weights_e, fluxes, bb, gap, thickness, back_d, t_bin):
-    """J_L and J0,rad, each (n_d, n_h, 2), for one gap over the steps of one bin.
+def _bin_performance(design, energy, weights_e, fluxes, step_bin, gap, thickness, back_d,
+                     ideality, electrical):
+    """The stack over the steps of one temperature bin, for one gap and thicknesses (n_d,).
 
-    The gaps are shifted to the bin's temperature; the blackbody rows ``bb`` (n_h, nE) are
-    at each step's own cell temperature.
+    The gaps are shifted to the bin's mean temperature; J0 and the diodes use each step's
+    own temperature. Returns (performance with arrays (n_d, n_h), J_L (n_d, n_h, 2)).
     """
+    t_bin, idx, t_cell, bb = step_bin
     parts = stack_integrands(design, energy, gap, back_d, None,
                              design.front.gap_shift_eV(t_bin), design.back.gap_shift_eV(t_bin))
     absorbed, transmitted = parts.transfer(thickness)
     fw, bw = weights_e * parts.front_weight, weights_e * parts.back_weight
-    jl = np.stack([absorbed @ (fluxes * fw).T, transmitted @ (fluxes * bw).T], axis=-1)
+    rows = fluxes[idx]
+    jl = np.stack([absorbed @ (rows * fw).T, transmitted @ (rows * bw).T], axis=-1)
     j0 = np.stack([absorbed @ (bb * fw).T, transmitted @ (bb * bw).T], axis=-1)
-    return jl, j0
+    ere = np.array([design.front.ere, design.back.ere])
+    perf = evaluate_stack(jl, j0 / ere, t_cell, 1.0, ideality, electrical, design.front.ere)
+    return perf, jl
 
 
 def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
@@ -102,19 +109,15 @@ def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
         design.front.check_gap(float(g))
     energy, fluxes, _ = series.photon_fluxes()
     w = trapezoid_weights(energy) * Q
-    ere = np.array([design.front.ere, design.back.ere])
     e2 = np.zeros((gaps.size, thicknesses.size))
     e4 = np.zeros_like(e2)
-    bins = _bins(series.cell_temperature_K, bin_K)
+    bins = list(_bins(series, energy, bin_K))
     total, done = len(bins) * gaps.size, 0
-    for t_bin, idx in bins:
-        t_cell = series.cell_temperature_K[idx]
-        bb = db.blackbody_photon_flux(energy, t_cell[:, None])
-        hours = series.step_hours[idx]
+    for step_bin in bins:
+        hours = series.step_hours[step_bin[1]]
         for i, gap in enumerate(gaps):
-            jl, j0 = _currents(design, energy, w, fluxes[idx], bb, gap, thicknesses,
-                               back_thickness_nm, t_bin)
-            perf = evaluate_stack(jl, j0 / ere, t_cell, 1.0, ideality, electrical, design.front.ere)
+            perf, _ = _bin_performance(design, energy, w, fluxes, step_bin, gap, thicknesses,
+                                       back_thickness_nm, ideality, electrical)
             e2[i] += perf.p_2t @ hours / 1000.0
             e4[i] += perf.p_4t @ hours / 1000.0
             done += 1
@@ -133,15 +136,12 @@ def hourly(design: StackDesign, series: SpectralSeries, gap: float, thickness: f
     """One design at every time step of the series."""
     energy, fluxes, power = series.photon_fluxes()
     w = trapezoid_weights(energy) * Q
-    ere = np.array([design.front.ere, design.back.ere])
     n = series.times.size
     out = {k: np.zeros(n) for k in ("p2", "p4", "jf", "jb")}
-    for t_bin, idx in _bins(series.cell_temperature_K, bin_K):
-        t_cell = series.cell_temperature_K[idx]
-        bb = db.blackbody_photon_flux(energy, t_cell[:, None])
-        jl, j0 = _currents(design, energy, w, fluxes[idx], bb, gap, np.array([thickness]),
-                           back_thickness_nm, t_bin)
-        perf = evaluate_stack(jl, j0 / ere, t_cell, 1.0, ideality, electrical, design.front.ere)
+    for step_bin in _bins(series, energy, bin_K):
+        idx = step_bin[1]
+        perf, jl = _bin_performance(design, energy, w, fluxes, step_bin, gap,
+                                    np.array([thickness]), back_thickness_nm, ideality, electrical)
         out["p2"][idx], out["p4"][idx] = perf.p_2t[0], perf.p_4t[0]
         out["jf"][idx], out["jb"][idx] = jl[0, :, 0], jl[0, :, 1]
     return HourlyDesign(series.times, out["p2"], out["p4"], out["jf"], out["jb"], power,
