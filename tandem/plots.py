@@ -40,7 +40,7 @@ def match_figure(result: MatchResult, path, overwrite: bool = False, tolerance=N
     ax1.plot(d, j[:, 1], color=BACK_COLOUR, label=f"back: {design.back.name}")
     if best.matched_front_thickness_nm is not None:
         dm = best.matched_front_thickness_nm
-        jm = stack_light_current(result, dm)
+        jm = _front_current_at(result, dm)
         ax1.axvline(dm, color="0.4", ls="--", lw=1)
         ax1.plot([dm], [jm], "ko")
         ax1.annotate(f"matched: {dm:.0f} nm\n{jm:.2f} mA/cm²", (dm, jm), xytext=(-8, 14),
@@ -86,7 +86,7 @@ def match_figure(result: MatchResult, path, overwrite: bool = False, tolerance=N
     return _save(fig, path, overwrite)
 
 
-def stack_light_current(result: MatchResult, thickness_nm: float) -> float:
+def _front_current_at(result: MatchResult, thickness_nm: float) -> float:
     from .design import stack_performance
 
     best = result.configurations[0]
