@@ -20,7 +20,7 @@ from .errors import TandemInputError
 from .optics import NM_TO_CM, StackOptics, stack_optics
 from .spectra import PhotonFlux
 from .stack import IDEAL, SUBCELL_NAMES, Electrical, StackPerformance, evaluate_stack
-from .units import Q
+from .units import Q, T_STC
 
 Progress = Callable[[int, int], None]
 
@@ -48,11 +48,16 @@ class Conditions:
 
 
 def stack_light(design: StackDesign, energy, front_gap, front_thickness_nm, back_thickness_nm,
-                back_gap=None) -> StackOptics:
-    """Optics of the stack on the energy grid; ``front_thickness_nm`` may be an array."""
+                back_gap=None, temperature_K=T_STC) -> StackOptics:
+    """Optics of the stack on the energy grid; ``front_thickness_nm`` may be an array.
+
+    Gaps are given at 298.15 K and moved to ``temperature_K`` with each absorber's
+    temperature coefficient (:meth:`~tandem.absorbers.Absorber.gap_shift_eV`).
+    """
     d_front = np.asarray(front_thickness_nm, dtype=float)[..., None]
-    front = design.front.layer(energy, d_front, front_gap)
-    back = design.back.layer(energy, back_thickness_nm, back_gap)
+    front = design.front.layer(energy, d_front, front_gap, design.front.gap_shift_eV(temperature_K))
+    back = design.back.layer(energy, back_thickness_nm, back_gap,
+                             design.back.gap_shift_eV(temperature_K))
     return stack_optics(front, back, design.reflectance, design.front_parasitic,
                         design.interlayer_parasitic)
 
@@ -93,8 +98,16 @@ class StackIntegrands:
 
 
 def stack_integrands(design: StackDesign, energy, front_gap, back_thickness_nm, back_gap=None,
-                     front_shift_eV=0.0, back_shift_eV=0.0) -> StackIntegrands:
+                     temperature_K=T_STC) -> StackIntegrands:
+    """The thickness-independent factors of both EQEs at a cell temperature.
+
+    This is the one place where cell temperature moves the absorbers' edges: gaps are
+    given at 298.15 K and shifted by each absorber's temperature coefficient, so every
+    command (match, map, study, spread, yield) sees the same temperature dependence.
+    """
     front, back = design.front, design.back
+    front_shift_eV = front.gap_shift_eV(temperature_K)
+    back_shift_eV = back.gap_shift_eV(temperature_K)
     e = np.asarray(energy, dtype=float)
     alpha_nm = front.alpha(e, front_gap, front_shift_eV) * NM_TO_CM
     beta = 0.0 if front.collection_length_nm is None else 1.0 / front.collection_length_nm
@@ -120,7 +133,7 @@ def subcell_currents(design: StackDesign, cond: Conditions, front_gap, front_thi
     e, phi = cond.photon_flux.energy, cond.photon_flux.flux
     w = trapezoid_weights(e) * Q
     bb = db.blackbody_photon_flux(e, cond.temperature_K)
-    parts = stack_integrands(design, e, front_gap, back_thickness_nm, back_gap)
+    parts = stack_integrands(design, e, front_gap, back_thickness_nm, back_gap, cond.temperature_K)
     absorbed, transmitted = parts.transfer(front_thickness_nm)
     front_int = absorbed @ np.stack([w * phi * parts.front_weight, w * bb * parts.front_weight], -1)
     back_int = transmitted @ np.stack([w * phi * parts.back_weight, w * bb * parts.back_weight], -1)
@@ -134,10 +147,17 @@ def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_th
     """Two- and four-terminal performance for an array of front thicknesses."""
     j_light, j0_rad = subcell_currents(design, cond, front_gap, front_thickness_nm,
                                        back_thickness_nm, back_gap)
+    return evaluate_design(design, cond, j_light, j0_rad, cond.temperature_K,
+                           cond.photon_flux.irradiance)
+
+
+def evaluate_design(design: StackDesign, cond: Conditions, j_light, j0_rad, temperature_K,
+                    irradiance) -> StackPerformance:
+    """The stack's electrical result from its subcells' currents: the absorbers' EREs, the
+    front's refractive index (rear emission) and the conditions' electrical options."""
     ere = np.array([design.front.ere, design.back.ere])
-    return evaluate_stack(j_light, db.dark_current(j0_rad, ere), cond.temperature_K,
-                          cond.photon_flux.irradiance, cond.ideality, cond.electrical,
-                          design.front.ere)
+    return evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere, cond.ideality,
+                          cond.electrical, design.front.refractive_index)
 
 
 @dataclass(frozen=True)
@@ -224,10 +244,29 @@ def _best_thickness(design, cond, gap, d_grid, back_d, p, terminals) -> float:
     return float(math.exp(res.x)) if -res.fun >= p[i] else float(d_grid[i])
 
 
+def operating_gaps(design: StackDesign, front_gap_eV: float, temperature_K: float) -> dict:
+    """Each absorber's gap as given (at 298.15 K) and at the cell temperature [eV]."""
+    front, back = design.front, design.back
+    return {
+        "front": (front.key, float(front_gap_eV),
+                  float(front_gap_eV + front.gap_shift_eV(temperature_K))),
+        "back": (back.key, back.gap_eV, float(back.gap_eV + back.gap_shift_eV(temperature_K))),
+    }
+
+
+def temperature_note(design: StackDesign, front_gap_eV: float, temperature_K: float) -> str:
+    """'cell 338.15 K: silicon 1.110 eV, …' — what the cell temperature did to the gaps."""
+    parts = [f"{key} {hot:.3f} eV" + ("" if abs(hot - cold) < 5e-5 else f" ({cold:.3f} eV at 298.15 K)")
+             for key, cold, hot in operating_gaps(design, front_gap_eV, temperature_K).values()]
+    return (f"cell {temperature_K:g} K: " + ", ".join(parts)
+            + " (gaps moved by each absorber's temperature coefficient)")
+
+
 def check_design_inputs(design: StackDesign, cond: Conditions, front_gaps, back_thicknesses,
                         front_thickness_range) -> None:
-    cond.photon_flux.check_gap(np.asarray(front_gaps), "front gap")
-    cond.photon_flux.check_gap(design.back.gap_eV, "back gap")
+    t = cond.temperature_K
+    cond.photon_flux.check_gap(np.asarray(front_gaps) + design.front.gap_shift_eV(t), "front gap")
+    cond.photon_flux.check_gap(design.back.gap_eV + design.back.gap_shift_eV(t), "back gap")
     for g in np.atleast_1d(front_gaps):
         design.front.check_gap(float(g))
     for d in back_thicknesses:

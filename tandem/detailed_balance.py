@@ -143,9 +143,9 @@ def step_radiative_dark_current(gap_eV, temperature_K, upper_gap_eV=None):
 # --------------------------------------------------------------------------------------
 
 
-def thermal_voltage(temperature_K, ideality=1.0):
-    """n·kT/q [V]."""
-    return ideality * K_B_EV * np.asarray(temperature_K, dtype=float)
+def thermal_voltage(temperature_K):
+    """kT/q [V]."""
+    return K_B_EV * np.asarray(temperature_K, dtype=float)
 
 
 def dark_current(j0_radiative, ere):
@@ -153,22 +153,22 @@ def dark_current(j0_radiative, ere):
     return np.asarray(j0_radiative) / np.asarray(ere)
 
 
-def diode_current(voltage, j_light, j0, temperature_K, ideality=1.0):
-    """J(V) = J_L − J0·(exp(qV/(nkT)) − 1) [A/m²]."""
-    return j_light - j0 * np.expm1(voltage / thermal_voltage(temperature_K, ideality))
+def diode_current(voltage, j_light, j0, temperature_K):
+    """J(V) = J_L − J0·(exp(qV/kT) − 1) [A/m²], the ideal (n = 1) diode of reciprocity."""
+    return j_light - j0 * np.expm1(voltage / thermal_voltage(temperature_K))
 
 
-def diode_voltage(current, j_light, j0, temperature_K, ideality=1.0):
-    """V(J) = (nkT/q)·ln((J_L − J)/J0 + 1) [V], the inverse of :func:`diode_current`.
+def diode_voltage(current, j_light, j0, temperature_K):
+    """V(J) = (kT/q)·ln((J_L − J)/J0 + 1) [V], the inverse of :func:`diode_current`.
 
     Defined for J < J_L + J0; the ideal diode has no reverse breakdown.
     """
-    return thermal_voltage(temperature_K, ideality) * np.log1p((j_light - current) / j0)
+    return thermal_voltage(temperature_K) * np.log1p((j_light - current) / j0)
 
 
-def open_circuit_voltage(j_light, j0, temperature_K, ideality=1.0):
-    """Voc = (nkT/q)·ln(J_L/J0 + 1) [V]."""
-    return diode_voltage(0.0, j_light, j0, temperature_K, ideality)
+def open_circuit_voltage(j_light, j0, temperature_K):
+    """Voc = (kT/q)·ln(J_L/J0 + 1) [V]."""
+    return diode_voltage(0.0, j_light, j0, temperature_K)
 
 
 def _solve_w_plus_log_w(y):
@@ -186,7 +186,7 @@ def _solve_w_plus_log_w(y):
     return w
 
 
-def single_junction_mpp(j_light, j0, temperature_K, ideality=1.0):
+def single_junction_mpp(j_light, j0, temperature_K):
     """Maximum power point of an ideal diode, in closed form.
 
     Returns
@@ -196,30 +196,30 @@ def single_junction_mpp(j_light, j0, temperature_K, ideality=1.0):
     Notes
     -----
     dP/dV = 0 gives e^v (1 + v) = 1 + J_L/J0 with v = qV/(nkT), so
-    1 + v = W(e·(1 + J_L/J0)) and J_mp = (J_L + J0)·v/(1 + v).
+    1 + v = W(e·(1 + J_L/J0)) and J_mp = (J_L + J0)·v/(1 + v), with v = qV/kT.
     """
     j_light = np.asarray(j_light, dtype=float)
     y = 1.0 + np.log1p(j_light / j0)
     v = _solve_w_plus_log_w(y) - 1.0
-    vt = thermal_voltage(temperature_K, ideality)
+    vt = thermal_voltage(temperature_K)
     v_mp = vt * v
     j_mp = (j_light + j0) * v / (1.0 + v)
     return j_mp, v_mp, j_mp * v_mp
 
 
-def series_voltage(current, j_light, j0, temperature_K, ideality=1.0):
+def series_voltage(current, j_light, j0, temperature_K):
     """Voltage of series-connected ideal diodes carrying one current [V].
 
     ``j_light`` and ``j0`` have the subcells on their last axis; ``current`` broadcasts
     against the leading axes.
     """
     current = np.asarray(current, dtype=float)[..., None]
-    vt = thermal_voltage(temperature_K, ideality)
+    vt = thermal_voltage(temperature_K)
     vt = vt[..., None] if np.ndim(vt) else vt
     return np.sum(vt * np.log1p((j_light - current) / j0), axis=-1)
 
 
-def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=50, own_mpp_current=None):
+def series_mpp(j_light, j0, temperature_K, iterations=50, own_mpp_current=None):
     """Maximum power point of series-connected ideal diodes (a two-terminal stack).
 
     Parameters
@@ -235,13 +235,13 @@ def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=50, own_mpp_
 
     Notes
     -----
-    P(J) = J·ΣV_i(J) with V_i = (nkT/q)·ln((J_L,i − J)/J0,i + 1) is strictly concave on
+    P(J) = J·ΣV_i(J) with V_i = (kT/q)·ln((J_L,i − J)/J0,i + 1) is strictly concave on
     0 < J < min J_L,i (V_i' < 0 and V_i'' < 0), so P'(J) has one root. Each term of
     P'(J) = Σ(V_i + J·V_i') is the derivative of subcell i's own power, so the root lies
     between min J_mp,i and min J_L,i. Near the limiting photocurrent A = J_L + J0 of the
     limiting subcell, V_lim ∝ ln(A − J) varies fastest; Newton's method on
     s = ln(A − J) (the distance to it, on a log scale) converges in about four steps from
-    s₀ = ln(A/(1 + Σ qVoc,i/nkT)) for all points at once. Steps that leave the bracket
+    s₀ = ln(A/(1 + Σ qVoc,i/kT)) for all points at once. Steps that leave the bracket
     fall back to bisection in s.
     """
     j_light = np.asarray(j_light, dtype=float)
@@ -255,7 +255,7 @@ def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=50, own_mpp_
     limiting = np.argmin(jl, axis=0)
     top = np.take_along_axis(jl + j0s, limiting[None], axis=0)[0]  # A = J_L + J0 of the limiting cell
     if own_mpp_current is None:
-        j_low = single_junction_mpp(jl, j0s, temperature_K, ideality)[0].min(axis=0)
+        j_low = single_junction_mpp(jl, j0s, temperature_K)[0].min(axis=0)
     else:
         j_low = np.min(own_mpp_current, axis=-1)
     s_hi = np.log(top - j_low)  # P' ≥ 0 here
@@ -268,7 +268,7 @@ def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=50, own_mpp_
         d = [jl[i] - j + j0s[i] for i in range(m)]
         inv = [1.0 / di for di in d]
         inv_sum = sum(inv)
-        slope = sum(np.log(d[i] / j0s[i]) for i in range(m)) - j * inv_sum  # P'(J)·q/(nkT)
+        slope = sum(np.log(d[i] / j0s[i]) for i in range(m)) - j * inv_sum  # P'(J)·q/kT
         d_slope_ds = gap * (2.0 * inv_sum + j * sum(x * x for x in inv))  # dP'/ds > 0
         s_lo = np.where(slope < 0, s, s_lo)
         s_hi = np.where(slope < 0, s_hi, s)
@@ -279,6 +279,110 @@ def series_mpp(j_light, j0, temperature_K, ideality=1.0, iterations=50, own_mpp_
         if done:
             break
     j = top - np.exp(s)
-    vt = thermal_voltage(temperature_K, ideality)
+    vt = thermal_voltage(temperature_K)
     v = vt * sum(np.log1p((jl[i] - j) / j0s[i]) for i in range(m))
     return j, v, j * v
+
+
+# --------------------------------------------------------------------------------------
+# The non-ideal cell: a radiative diode (n = 1) and a non-radiative diode (n)
+# --------------------------------------------------------------------------------------
+
+
+def nonradiative_saturation_current(j_light, j0_rad, ere, ideality):
+    """J0,nr [A/m²] of the non-radiative diode, set so that the ERE at open circuit is ``ere``.
+
+    Parameters
+    ----------
+    j_light : array
+        Photocurrent of the subcell [A/m²].
+    j0_rad : array
+        Radiative saturation current through the front face, by reciprocity [A/m²].
+    ere : array
+        External radiative efficiency at open circuit, in (0, 1] [-].
+    ideality : float
+        Ideality factor n of the non-radiative diode [-].
+
+    Notes
+    -----
+    The cell is J(V) = J_L − J0,rad·(e^{qV/kT} − 1) − J0,nr·(e^{qV/nkT} − 1). The ERE is the
+    share of the recombination at open circuit that leaves as front-face emission (Rau 2007),
+    so J0,rad·(e^{qVoc/kT} − 1) = ERE·J_L, i.e. qVoc = kT·ln(1 + ERE·J_L/J0,rad), and
+
+        J0,nr = J_L·(1 − ERE) / (e^{qVoc/nkT} − 1).
+
+    For n = 1 this is J0,rad·(1/ERE − 1): the total J0,rad/ERE of the one-diode ERE model.
+    Any n keeps the radiative diode at n = 1, so Voc stays below its radiative value (and
+    the gap) whatever n is; only the shape of the J–V curve below Voc changes.
+
+    References
+    ----------
+    U. Rau, Phys. Rev. B 76 (2007) 085303, doi:10.1103/PhysRevB.76.085303.
+    """
+    j_light = np.asarray(j_light, dtype=float)
+    ere = np.asarray(ere, dtype=float)
+    x_oc = np.log1p(ere * j_light / j0_rad)  # qVoc/kT at the given ERE
+    with np.errstate(divide="ignore", invalid="ignore"):
+        j0_nr = j_light * (1.0 - ere) / np.expm1(x_oc / ideality)
+    return np.where(ere >= 1.0, 0.0, j0_nr)
+
+
+def two_diode_voltage(current, j_light, j0_rad, j0_nr, ideality, temperature_K):
+    """V(J) [V] of a radiative (n = 1) plus a non-radiative (n) diode carrying ``current``.
+
+    Solves J0,rad·(e^x − 1) + J0,nr·(e^{x/n} − 1) = J_L − J for x = qV/kT by Newton's method
+    on ln(J0,rad·e^x + J0,nr·e^{x/n}) = ln(J_L − J + J0,rad + J0,nr), a convex function of x,
+    started from its smaller upper bound so that it converges monotonically. For
+    J ≥ J_L the voltage continues linearly through zero (a reverse-biased cell), which
+    keeps the series power unimodal for the searches that use it.
+    """
+    y = np.asarray(j_light, dtype=float) - current
+    a = np.asarray(j0_rad, dtype=float)
+    b = np.asarray(j0_nr, dtype=float)
+    n = float(ideality)
+    vt = thermal_voltage(temperature_K)
+    total = np.maximum(y, 0.0) + a + b
+    log_a = np.log(a)
+    with np.errstate(divide="ignore"):
+        log_b = np.log(b)
+        x = np.minimum(np.log(total) - log_a, n * (np.log(total) - log_b))
+    target = np.log(total)
+    for _ in range(60):
+        u, w = log_a + x, log_b + x / n
+        f = np.logaddexp(u, w) - target
+        share = np.exp(u - np.logaddexp(u, w))  # radiative share of the recombination
+        step = f / (share + (1.0 - share) / n)
+        x = x - step
+        if np.max(np.abs(step), initial=0.0) < 1e-12:
+            break
+    slope = a + b / n  # dJ/dx at V = 0
+    return vt * np.where(y > 0, x, y / slope)
+
+
+def two_diode_current(voltage, j_light, j0_rad, j0_nr, ideality, temperature_K):
+    """J(V) = J_L − J0,rad·(e^{qV/kT} − 1) − J0,nr·(e^{qV/nkT} − 1) [A/m²]."""
+    x = np.asarray(voltage, dtype=float) / thermal_voltage(temperature_K)
+    return j_light - j0_rad * np.expm1(x) - j0_nr * np.expm1(x / ideality)
+
+
+def golden_maximum(power, lo, hi, iterations=80):
+    """Argument of the maximum of a unimodal function on [lo, hi], elementwise.
+
+    A vectorised golden-section search: ``power`` maps an array of arguments (shaped like
+    ``lo``) to an array of values; each step keeps the part of every bracket holding the
+    maximum. 80 steps shrink the bracket by 0.618⁸⁰ ≈ 2e-17 (to rounding).
+    """
+    lo = np.array(lo, dtype=float)
+    hi = np.array(hi, dtype=float) + 0.0 * lo
+    ratio = (5.0**0.5 - 1.0) / 2.0
+    x1, x2 = hi - ratio * (hi - lo), lo + ratio * (hi - lo)
+    p1, p2 = power(x1), power(x2)
+    for _ in range(iterations):
+        left = p1 >= p2  # the maximum lies in [lo, x2]
+        hi = np.where(left, x2, hi)
+        lo = np.where(left, lo, x1)
+        new = np.where(left, hi - ratio * (hi - lo), lo + ratio * (hi - lo))
+        p_new = power(new)
+        x1, x2, p1, p2 = (np.where(left, new, x2), np.where(left, x1, new),
+                          np.where(left, p_new, p2), np.where(left, p1, p_new))
+    return 0.5 * (lo + hi)

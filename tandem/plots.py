@@ -65,7 +65,7 @@ def match_figure(result: MatchResult, path, overwrite: bool = False, tolerance=N
 
     e = cond.photon_flux.energy
     light = stack_light(design, e, best.front_gap_eV, best.front_thickness_nm,
-                        best.back_thickness_nm)
+                        best.back_thickness_nm, temperature_K=cond.temperature_K)
     wl = HC_EV_NM / e
     keep = (wl >= 300) & (wl <= 1400)
     flux_per_nm = cond.photon_flux.flux * e**2 / HC_EV_NM  # Φ_λ = Φ_E·|dE/dλ|

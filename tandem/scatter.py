@@ -11,9 +11,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .design import Conditions, StackDesign, stack_performance, subcell_currents
+from .design import Conditions, StackDesign, evaluate_design, stack_performance, subcell_currents
 from .errors import TandemInputError
-from .stack import evaluate_stack
 
 
 @dataclass(frozen=True)
@@ -54,7 +53,6 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
     gaps = front_gap + gap_sigma_eV * rng.standard_normal(samples)
     thick = front_thickness_nm * (1 + thickness_sigma_pct / 100 * rng.standard_normal(samples))
     thick = np.maximum(thick, 1e-3 * front_thickness_nm)  # a film cannot be thinner than nothing
-    ere = np.array([design.front.ere, design.back.ere])
     e2, e4 = np.empty(samples), np.empty(samples)
     for start in range(0, samples, chunk):
         sl = slice(start, start + chunk)
@@ -63,9 +61,8 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
                     for g, d in zip(gaps[sl], thick[sl])]
         jl = np.array([c[0] for c in currents])
         j0 = np.array([c[1] for c in currents])
-        perf = evaluate_stack(jl, j0 / ere, cond.temperature_K,
-                              cond.photon_flux.irradiance, cond.ideality, cond.electrical,
-                              design.front.ere)
+        perf = evaluate_design(design, cond, jl, j0, cond.temperature_K,
+                               cond.photon_flux.irradiance)
         e2[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_4t
     nominal = stack_performance(design, cond, front_gap, front_thickness_nm, back_thickness_nm)
     return ScatterResult(gaps, thick, e2, e4, float(nominal.efficiency_2t),

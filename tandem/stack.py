@@ -16,31 +16,40 @@ import numpy as np
 from . import detailed_balance as db
 from .errors import TandemInputError
 from .spectra import PhotonFlux
+from .units import K_B_EV
 
 SUBCELL_NAMES = ("front", "back")
 OHM_CM2 = 1e-4  #: 1 Ω·cm² in Ω·m²
+#: Refractive index of a step-absorber front cell when rear emission is counted [-]: typical
+#: of III-V semiconductors and silicon (≈ 3.5 near their gaps; handbook values, common practice).
+DEFAULT_FRONT_INDEX = 3.5
 
 
 @dataclass(frozen=True)
 class Electrical:
-    """Optional electrical effects, all off by default.
+    """Emission conventions and electrical effects; all off by default.
 
-    coupling : fraction of the front subcell's radiative recombination that reaches the back
-        subcell as extra photocurrent (luminescent coupling), in [0, 1].
+    coupling : fraction of the front subcell's rear emission that the back subcell collects
+        (luminescent coupling), in [0, 1]. Coupling implies ``rear_emission``.
     series_resistance_ohm_cm2, shunt_resistance_ohm_cm2 : per stack (per subcell circuit for
         four terminals) [Ω·cm²]; 0 and infinity switch them off.
+    rear_emission : count the front subcell's emission towards the back cell (about n² times
+        its front-face emission for index n) as a loss. Off: the published convention of
+        emission through the front only (a perfect selective reflector between the subcells,
+        De Vos 1980).
     """
 
     coupling: float = 0.0
     series_resistance_ohm_cm2: float = 0.0
     shunt_resistance_ohm_cm2: float = math.inf
+    rear_emission: bool = False
 
     def __post_init__(self):
         if not 0.0 <= self.coupling <= 1.0:
             raise TandemInputError(f"luminescent coupling {self.coupling:g}: give a fraction in [0, 1]")
-        if not self.series_resistance_ohm_cm2 >= 0:
+        if not (self.series_resistance_ohm_cm2 >= 0 and math.isfinite(self.series_resistance_ohm_cm2)):
             raise TandemInputError(f"series resistance {self.series_resistance_ohm_cm2:g} Ω·cm²: "
-                                   "give a value ≥ 0")
+                                   "give a finite value ≥ 0")
         if not self.shunt_resistance_ohm_cm2 > 0:
             raise TandemInputError(f"shunt resistance {self.shunt_resistance_ohm_cm2:g} Ω·cm²: "
                                    "give a positive value (inf for none)")
@@ -48,6 +57,11 @@ class Electrical:
     @property
     def resistive(self) -> bool:
         return self.series_resistance_ohm_cm2 > 0 or math.isfinite(self.shunt_resistance_ohm_cm2)
+
+    @property
+    def emits_rear(self) -> bool:
+        """Whether the front subcell loses emission towards the back (always with coupling)."""
+        return self.rear_emission or self.coupling > 0
 
 
 IDEAL = Electrical()
@@ -61,16 +75,23 @@ class StackPerformance:
     """
 
     j_light: np.ndarray  #: (..., m) photocurrent of each subcell in place
-    j0: np.ndarray  #: (..., m) saturation current of each subcell (J0,rad/ERE)
+    j0_radiative: np.ndarray  #: (..., m) radiative saturation current (front face, + rear emission)
+    j0_nonradiative: np.ndarray  #: (..., m) saturation current of the non-radiative diode
+    ideality: float  #: ideality factor of the non-radiative diode
     voc: np.ndarray  #: (..., m) open-circuit voltage of each subcell alone
-    p_own: np.ndarray  #: (..., m) each subcell at its own maximum power point
-    j_own: np.ndarray  #: (..., m) current at each subcell's own maximum power point
-    v_own: np.ndarray  #: (..., m) voltage at each subcell's own maximum power point
+    p_own: np.ndarray  #: (..., m) each subcell at its four-terminal maximum power point
+    j_own: np.ndarray  #: (..., m) current at each subcell's four-terminal maximum power point
+    v_own: np.ndarray  #: (..., m) voltage at each subcell's four-terminal maximum power point
     j_2t: np.ndarray  #: (...) current at the series maximum power point
     v_2t: np.ndarray  #: (...) voltage at the series maximum power point
     p_2t: np.ndarray  #: (...) series (two-terminal) maximum power
     v_2t_sub: np.ndarray  #: (..., m) each subcell's voltage at the series maximum power point
     irradiance: float  #: incident power [W/m²]
+
+    @property
+    def j0(self) -> np.ndarray:
+        """Total saturation current J0,rad/ERE (+ rear emission) of an n = 1 cell [A/m²]."""
+        return self.j0_radiative + self.j0_nonradiative
 
     @property
     def p_4t(self) -> np.ndarray:
@@ -114,118 +135,227 @@ class StackPerformance:
         return (np.max(self.j_light, axis=-1) - low) / low
 
 
-def evaluate_stack(j_light, j0, temperature_K, irradiance, ideality=1.0,
-                   electrical: Electrical = IDEAL, front_ere: float = 1.0) -> StackPerformance:
-    """Two- and four-terminal maximum power of stacks of ideal diodes.
+@dataclass(frozen=True)
+class _Cells:
+    """Diode parameters of the subcells, (..., m); the back gains gain·(e^{qV_f/kT} − 1)."""
+
+    j_light: np.ndarray
+    a: np.ndarray  #: n = 1 saturation current (radiative + rear; + non-radiative when ideal)
+    b: np.ndarray  #: non-radiative saturation current at ``n`` (zero when ideal)
+    n: float
+    vt: np.ndarray  #: kT/q over the leading axes (...)
+    gain: np.ndarray  #: (...) c·J0,rear of the front; zero without coupling
+    ideal: bool  #: every subcell is one n = 1 diode
+
+    @property
+    def coupled(self) -> bool:
+        return self.j_light.shape[-1] == 2 and bool(np.any(self.gain > 0))
+
+    def voltage(self, i: int, current, extra=0.0):
+        """Voltage of subcell i carrying ``current`` with ``extra`` photocurrent [V]."""
+        jl = self.j_light[..., i] + extra
+        if self.ideal:
+            y = jl - current
+            a = self.a[..., i]
+            with np.errstate(invalid="ignore"):
+                return self.vt * np.where(y > 0, np.log1p(np.maximum(y, 0.0) / a), y / a)
+        return db.two_diode_voltage(current, jl, self.a[..., i], self.b[..., i], self.n,
+                                    self.vt / K_B_EV)
+
+    def back_gain(self, v_front):
+        return self.gain * np.expm1(v_front / self.vt)
+
+    def series_voltages(self, current):
+        """Each subcell's voltage when ``current`` flows through all of them (..., m) [V]."""
+        v = [self.voltage(0, current)]
+        for i in range(1, self.j_light.shape[-1]):
+            v.append(self.voltage(i, current, self.back_gain(v[0]) if i == 1 else 0.0))
+        return np.stack(v, axis=-1)
+
+
+def _terminal(j_diode, v_diode, electrical: Electrical):
+    """Terminal current and voltage of a diode chain behind R_s with R_sh across it."""
+    if not electrical.resistive:
+        return j_diode, v_diode
+    j = j_diode - v_diode / (electrical.shunt_resistance_ohm_cm2 * OHM_CM2)
+    return j, v_diode - j * electrical.series_resistance_ohm_cm2 * OHM_CM2
+
+
+def _own_mpp(cells: _Cells, j_light, electrical: Electrical):
+    """Every subcell alone at its maximum power point, elementwise over (..., m)."""
+    vt = cells.vt[..., None] if np.ndim(cells.vt) else cells.vt
+    if cells.ideal and not electrical.resistive:
+        return db.single_junction_mpp(j_light, cells.a, vt / K_B_EV)
+
+    def voltage(jd):
+        if cells.ideal:
+            y = j_light - jd
+            return vt * np.where(y > 0, np.log1p(np.maximum(y, 0.0) / cells.a), y / cells.a)
+        return db.two_diode_voltage(jd, j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
+
+    def power(jd):
+        j, v = _terminal(jd, voltage(jd), electrical)
+        return j * v
+
+    jd = db.golden_maximum(power, np.zeros_like(j_light), j_light)
+    j, v = _terminal(jd, voltage(jd), electrical)
+    return j, v, j * v
+
+
+def _coupled_four_terminal(cells: _Cells, electrical: Electrical):
+    """Four terminals with coupling: the front's operating point is chosen with the back's.
+
+    The front at diode current J_f gives P_f(J_f) and hands the back c·J0,rear·(e^{qV_f/kT} − 1);
+    the back sits at its own maximum power point for that photocurrent. The sum is maximised
+    over J_f, so the four-terminal result is never below the two-terminal one.
+    """
+    jl = cells.j_light
+    front = _Cells(jl[..., :1], cells.a[..., :1], cells.b[..., :1], cells.n, cells.vt,
+                   0.0 * cells.gain, cells.ideal)
+    back = _Cells(jl[..., 1:], cells.a[..., 1:], cells.b[..., 1:], cells.n, cells.vt,
+                  0.0 * cells.gain, cells.ideal)
+
+    def parts(jf):
+        vf = front.voltage(0, jf)
+        j, v = _terminal(jf, vf, electrical)
+        back_light = jl[..., 1:] + cells.back_gain(vf)[..., None]
+        jb, vb, pb = _own_mpp(back, back_light, electrical)
+        return j, v, jb[..., 0], vb[..., 0], pb[..., 0]
+
+    def total(jf):
+        j, v, _, _, pb = parts(jf)
+        return j * v + pb
+
+    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jl[..., 0])
+    j, v, jb, vb, pb = parts(jf)
+    return np.stack([j, jb], -1), np.stack([v, vb], -1), np.stack([j * v, pb], -1)
+
+
+def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality=1.0,
+                   electrical: Electrical = IDEAL,
+                   front_index: float = DEFAULT_FRONT_INDEX) -> StackPerformance:
+    """Two- and four-terminal maximum power of stacks of subcells (or single junctions).
 
     Parameters
     ----------
-    j_light, j0 : (..., m) arrays
-        Photocurrent and saturation current of each subcell [A/m²], front first.
-    temperature_K : float
+    j_light : (..., m) array
+        Photocurrent of each subcell in place [A/m²], front first.
+    j0_rad : (..., m) array
+        Radiative saturation current of each subcell through its front face, by reciprocity
+        from the same absorptance [A/m²].
+    temperature_K : float or (...) array
         Cell temperature [K].
     irradiance : float
         Incident power [W/m²], the efficiency denominator.
+    ere : float or (..., m) array
+        External radiative efficiency at open circuit, in (0, 1] [-].
     ideality : float
-        Diode ideality factor n [-].
+        Ideality factor of the non-radiative diode [-]; the radiative diode is always n = 1.
     electrical : Electrical
-        Luminescent coupling and resistances (off by default).
-    front_ere : float
-        ERE of the front subcell: the radiative share of its recombination, which is what
-        luminescent coupling passes on.
+        Rear emission, luminescent coupling and resistances (off by default).
+    front_index : float
+        Refractive index of the front subcell [-], for its rear emission (n² × front face).
 
     Notes
     -----
-    Luminescent coupling adds c·(J_L,f − J) to the back photocurrent, with c = coupling ×
-    front ERE, since the front's radiative recombination current is ERE·J0·(e^{qV/nkT} − 1)
-    = ERE·(J_L,f − J). In series this is exactly an ideal back diode with
-    J_L' = (J_L,b + c·J_L,f)/(1 + c) and J0' = J0,b/(1 + c); with four terminals the front
-    sits at its own maximum power point and the back gains c·(J_L,f − J_mp,f).
+    Each subcell is J = J_L − J0,rad·(e^{qV/kT} − 1) − J0,nr·(e^{qV/nkT} − 1), with J0,nr from
+    :func:`~tandem.detailed_balance.nonradiative_saturation_current` (for n = 1 the one diode
+    J0,rad/ERE). With rear emission the front's radiative term gains n²·J0,rad (the emission
+    into a medium of index n, Yablonovitch 1982); luminescent coupling passes the fraction c
+    of exactly that emission to the back, whose photocurrent becomes
+    J_L,b + c·n²·J0,rad,f·(e^{qV_f/kT} − 1): the photons appear once as the front's loss and
+    once as the back's gain. For n = 1 cells this is an ideal back diode with
+    J_L' = (J_L,b + c'·J_L,f)/(1 + c') and J0' = J0,b/(1 + c'), c' = c·n²·J0,rad,f/J0,f.
     """
     j_light = np.asarray(j_light, dtype=float)
-    j0 = np.asarray(j0, dtype=float)
-    m = j_light.shape[-1]
-    # a temperature per point broadcasts against the leading axes; per-subcell quantities
-    # need it with a trailing axis
-    t_sub = np.asarray(temperature_K, dtype=float)
-    t_sub = t_sub[..., None] if t_sub.ndim else t_sub
-    c = electrical.coupling * front_ere if m == 2 else 0.0
-    j_own, v_own, p_own = _own_mpp(j_light, j0, t_sub, ideality, electrical)
-    if c > 0:  # four terminals: the back gains the front's radiative recombination at its MPP
-        jl4 = j_light.copy()
-        jl4[..., 1] += c * (j_light[..., 0] - j_own[..., 0])
-        j_own, v_own, p_own = _own_mpp(jl4, j0, t_sub, ideality, electrical)
-    voc = db.open_circuit_voltage(j_light, j0, t_sub, ideality)
+    shape = j_light.shape
+    m = shape[-1]
+    j0_rad = np.broadcast_to(np.asarray(j0_rad, dtype=float), shape)
+    ere = np.broadcast_to(np.asarray(ere, dtype=float), shape)
+    t = np.asarray(temperature_K, dtype=float)
+    vt = K_B_EV * np.broadcast_to(t, shape[:-1]) if t.ndim else K_B_EV * float(t)
+    t_sub = t[..., None] if t.ndim else t
+    rear = np.zeros(m)
+    if m == 2 and electrical.emits_rear:
+        rear[0] = front_index**2
+    j0_rear = j0_rad * rear
+    gain = electrical.coupling * j0_rear[..., 0] if m == 2 else np.zeros(shape[:-1])
+    if ideality == 1.0:
+        j0_nr = j0_rad / ere - j0_rad  # reported only; the diode uses J0,rad/ERE exactly
+        cells = _Cells(j_light, j0_rad / ere + j0_rear, np.zeros(shape), 1.0, vt, gain, True)
+    else:
+        j0_nr = db.nonradiative_saturation_current(j_light, j0_rad, ere, ideality)
+        ideal = not np.any(j0_nr > 0)  # ERE = 1: no non-radiative diode at all
+        cells = _Cells(j_light, j0_rad + j0_rear, j0_nr, float(ideality), vt, gain, ideal)
+    if cells.ideal:
+        voc = db.open_circuit_voltage(j_light, cells.a, t_sub)
+    else:
+        voc = db.two_diode_voltage(0.0, j_light, cells.a, cells.b, cells.n, t_sub)
+    if cells.coupled:
+        j_own, v_own, p_own = _coupled_four_terminal(cells, electrical)
+    else:
+        j_own, v_own, p_own = _own_mpp(cells, j_light, electrical)
     if m == 1:
         j_2t, v_2t, p_2t = j_own[..., 0], v_own[..., 0], p_own[..., 0]
         v_2t_sub = v_own
-    else:
-        jl_s, j0_s = j_light, j0
-        if c > 0:
-            jl_s, j0_s = j_light.copy(), np.broadcast_to(j0, j_light.shape).copy()
+    elif cells.ideal and not electrical.resistive:
+        jl_s, j0_s = j_light, cells.a
+        if cells.coupled:  # the coupled back is an ideal diode with shifted J_L and J0
+            c = gain / cells.a[..., 0]
+            jl_s, j0_s = j_light.copy(), cells.a.copy()
             jl_s[..., 1] = (j_light[..., 1] + c * j_light[..., 0]) / (1 + c)
-            j0_s[..., 1] = j0_s[..., 1] / (1 + c)
-        if electrical.resistive:
-            j_2t, v_2t, p_2t = resistive_mpp(jl_s, j0_s, temperature_K, ideality, electrical)
-        else:
-            j_2t, v_2t, p_2t = db.series_mpp(jl_s, j0_s, temperature_K, ideality,
-                                             own_mpp_current=None if c > 0 else j_own)
-        v_2t_sub = db.diode_voltage(j_2t[..., None], jl_s, j0_s, t_sub, ideality)
-    return StackPerformance(j_light, j0, voc, p_own, j_own, v_own, j_2t, v_2t, p_2t,
-                            v_2t_sub, float(irradiance))
+            j0_s[..., 1] = cells.a[..., 1] / (1 + c)
+        j_2t, v_2t, p_2t = db.series_mpp(jl_s, j0_s, t,
+                                         own_mpp_current=None if cells.coupled else j_own)
+        v_2t_sub = db.diode_voltage(j_2t[..., None], jl_s, j0_s, t_sub)
+    else:
+        j_2t, v_2t, p_2t, v_2t_sub = _series_general(cells, electrical)
+    return StackPerformance(j_light, j0_rad + j0_rear, j0_nr, float(ideality), voc, p_own,
+                            j_own, v_own, j_2t, v_2t, p_2t, v_2t_sub, float(irradiance))
 
 
-def _own_mpp(j_light, j0, t_sub, ideality, electrical):
-    """Each subcell at its own maximum power point (with the resistances, if any).
+def _series_general(cells: _Cells, electrical: Electrical):
+    """Series maximum power of any subcells (two diodes, coupling, resistances).
 
-    ``t_sub`` is the temperature shaped to broadcast against (..., m).
+    P(J) = J·ΣV_i(J) is unimodal in the diode current (each V_i is concave and falling), so a
+    golden-section search over 0 < J < J_max finds it; J_max is the front's photocurrent or
+    the back's with the most the coupling can give (the front at open circuit).
     """
-    if not electrical.resistive:
-        return db.single_junction_mpp(j_light, j0, t_sub, ideality)
-    j0 = np.broadcast_to(j0, j_light.shape)
-    return resistive_mpp(j_light[..., None], j0[..., None], t_sub, ideality, electrical)
+    jl = cells.j_light
+    hi = jl[..., 0]
+    if jl.shape[-1] == 2:
+        v_oc_front = cells.voltage(0, 0.0)
+        hi = np.minimum(hi, jl[..., 1] + cells.back_gain(v_oc_front))
+
+    def power(jd):
+        j, v = _terminal(jd, np.sum(cells.series_voltages(jd), axis=-1), electrical)
+        return j * v
+
+    jd = db.golden_maximum(power, np.zeros_like(hi), hi)
+    v_sub = cells.series_voltages(jd)
+    j, v = _terminal(jd, np.sum(v_sub, axis=-1), electrical)
+    return j, v, j * v, v_sub
 
 
-def resistive_mpp(j_light, j0, temperature_K, ideality, electrical: Electrical, iterations=90):
-    """Maximum power of series diodes with a series and a shunt resistance [A/m², V, W/m²].
+def resistive_mpp(j_light, j0, temperature_K, electrical: Electrical):
+    """Maximum power of series n = 1 diodes with a series and a shunt resistance [A/m², V, W/m²].
 
     The diode chain carries J_d and has voltage V_d(J_d) = Σ V_i(J_d); the shunt across it
     takes V_d/R_sh and the series resistance drops J·R_s, so the terminal current and voltage
     are J = J_d − V_d/R_sh and V = V_d − J·R_s: the power is explicit in J_d, and a
     vectorised golden-section search over 0 < J_d < min J_L finds its maximum.
     """
-    rs = electrical.series_resistance_ohm_cm2 * OHM_CM2
-    rsh = electrical.shunt_resistance_ohm_cm2 * OHM_CM2
-
-    def terminal(jd):
-        vd = db.series_voltage(jd, j_light, j0, temperature_K, ideality)
-        j = jd - vd / rsh
-        return j, vd - j * rs
-
-    def power(jd):
-        j, v = terminal(jd)
-        return j * v
-
-    lo = np.zeros(j_light.shape[:-1])
-    hi = np.min(j_light, axis=-1) + lo
-    ratio = (math.sqrt(5.0) - 1.0) / 2.0
-    x1, x2 = hi - ratio * (hi - lo), lo + ratio * (hi - lo)
-    p1, p2 = power(x1), power(x2)
-    for _ in range(iterations):
-        left = p1 >= p2  # the maximum lies in [lo, x2]
-        hi = np.where(left, x2, hi)
-        lo = np.where(left, lo, x1)
-        new = np.where(left, hi - ratio * (hi - lo), lo + ratio * (hi - lo))
-        p_new = power(new)
-        x1, x2, p1, p2 = (np.where(left, new, x2), np.where(left, x1, new),
-                          np.where(left, p_new, p2), np.where(left, p1, p_new))
-    jd = 0.5 * (lo + hi)
-    j, v = terminal(jd)
-    return j, v, j * v
+    j_light = np.asarray(j_light, dtype=float)
+    t = np.asarray(temperature_K, dtype=float)
+    vt = K_B_EV * np.broadcast_to(t, j_light.shape[:-1]) if t.ndim else K_B_EV * float(t)
+    cells = _Cells(j_light, np.broadcast_to(j0, j_light.shape), np.zeros(j_light.shape), 1.0,
+                   vt, np.zeros(j_light.shape[:-1]), True)
+    j, v, p, _ = _series_general(cells, electrical)
+    return j, v, p
 
 
 def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0,
-               electrical: Electrical = IDEAL):
+               electrical: Electrical = IDEAL, front_index: float = DEFAULT_FRONT_INDEX):
     """Detailed-balance stacks of step absorbers; ``gaps`` has subcells on its last axis.
 
     Each subcell absorbs every photon between its own gap and the gap of the cell in front
@@ -238,9 +368,8 @@ def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1
     upper_finite = np.where(np.isinf(upper), photon_flux.energy[-1], upper)
     j_light = db.step_photocurrent(photon_flux, gaps, upper_finite, cumulative)
     j0_rad = db.step_radiative_dark_current(gaps, temperature_K, upper)
-    front_ere = float(np.ravel(np.broadcast_to(ere, gaps.shape)[..., 0])[0])
-    return evaluate_stack(j_light, db.dark_current(j0_rad, ere), temperature_K,
-                          photon_flux.irradiance, ideality, electrical, front_ere)
+    return evaluate_stack(j_light, j0_rad, temperature_K, photon_flux.irradiance, ere, ideality,
+                          electrical, front_index)
 
 
 # --------------------------------------------------------------------------------------
@@ -269,6 +398,41 @@ def check_ere(ere: Sequence[float], n_subcells: int) -> np.ndarray:
     return np.array(values)
 
 
+def check_ideality(ideality: float) -> None:
+    """The non-radiative diode's ideality factor: 2/3 (Auger) to 5, finite."""
+    if not (math.isfinite(ideality) and 0.5 <= ideality <= 5):
+        raise TandemInputError(f"ideality {ideality:g}: give the non-radiative diode's ideality "
+                               "factor between 0.5 and 5 (1 = the ERE model alone)")
+
+
+def check_front_index(index: float) -> None:
+    if not (math.isfinite(index) and 1.0 <= index <= 6.0):
+        raise TandemInputError(f"front refractive index {index:g}: give a value between 1 and 6 "
+                               "(about 2.5 for perovskites, 3.5 for III-V and silicon)")
+
+
+def electrical_notes(electrical: Electrical, front_index: float, ideality: float,
+                     radiative: bool, n_subcells: int = 2) -> tuple[str, ...]:
+    """Plain-language notes on the emission convention and the diode model used."""
+    notes = []
+    if n_subcells == 2:
+        if electrical.coupling > 0:
+            notes.append(f"the front emits towards the back ({front_index:g}² × its front-face "
+                         f"emission, counted as its loss); {100 * electrical.coupling:g} % of "
+                         "that emission is collected by the back (luminescent coupling)")
+        elif electrical.rear_emission:
+            notes.append(f"the front emits towards the back ({front_index:g}² × its front-face "
+                         "emission), a loss with no coupling")
+        else:
+            notes.append("each subcell emits through its front only (perfect selective "
+                         "reflector between them, the published convention)")
+    if ideality != 1.0:
+        notes.append(f"non-radiative diode with ideality {ideality:g}, set by the ERE at open "
+                     "circuit" + ("; with ERE 1 there is no non-radiative recombination, so "
+                                  "the ideality changes nothing" if radiative else ""))
+    return tuple(notes)
+
+
 def check_gap_order(gaps: Sequence[float]) -> None:
     for name, g in zip(("front gap", "back gap"), gaps):
         if not (math.isfinite(g) and g > 0):
@@ -286,6 +450,15 @@ class DesignResult:
     spectrum_name: str
     spectrum_notes: tuple[str, ...]
     performance: StackPerformance  # shape (m,) arrays for one design
+    ideality: float = 1.0
+    electrical: Electrical = IDEAL
+    front_index: float = DEFAULT_FRONT_INDEX
+
+    @property
+    def model_notes(self) -> tuple[str, ...]:
+        """The emission and diode conventions of this result, in words."""
+        return electrical_notes(self.electrical, self.front_index, self.ideality,
+                                all(e >= 1 for e in self.ere), self.n_subcells)
 
     @property
     def n_subcells(self) -> int:
@@ -316,6 +489,7 @@ def detailed_balance_limit(
     ere: Sequence[float] = (1.0,),
     ideality: float = 1.0,
     electrical: Electrical = IDEAL,
+    front_index: float = DEFAULT_FRONT_INDEX,
 ) -> DesignResult:
     """Validate one design given as band gaps (front first) and compute its limit.
 
@@ -329,8 +503,8 @@ def detailed_balance_limit(
                                "front (sunward) first")
     if terminals not in (2, 4):
         raise TandemInputError(f"--terminals {terminals}: choose 2 (series) or 4 (independent)")
-    if not (math.isfinite(ideality) and 0.5 <= ideality <= 5):
-        raise TandemInputError(f"ideality {ideality:g}: give a diode ideality factor between 0.5 and 5")
+    check_ideality(ideality)
+    check_front_index(front_index)
     check_gap_order(gaps)
     check_temperature(temperature_K)
     for name, g in zip(("front gap", "back gap") if len(gaps) == 2 else ("gap",), gaps):
@@ -341,13 +515,15 @@ def detailed_balance_limit(
             raise TandemInputError(f"front and back gaps are both {gaps[0]:g} eV: the back cell "
                                    "would get no light; give the front a wider gap")
         swapped = step_stack(photon_flux, np.array(gaps[::-1]), temperature_K,
-                             ere_values[::-1], ideality, electrical)
+                             ere_values[::-1], ideality, electrical, front_index)
         eff = float(swapped.p_2t if terminals == 2 else swapped.p_4t) / swapped.irradiance
         raise TandemInputError(
             f"front gap {gaps[0]:g} eV is below back gap {gaps[1]:g} eV: the order looks "
             f"inverted (the sunward cell needs the wider gap); swapped, {gaps[1]:g}/{gaps[0]:g} eV "
             f"gives {100 * eff:.2f} % ({terminals}T): run 'tandem limit {gaps[1]:g} {gaps[0]:g}'"
         )
-    perf = step_stack(photon_flux, np.array(gaps), temperature_K, ere_values, ideality, electrical)
+    perf = step_stack(photon_flux, np.array(gaps), temperature_K, ere_values, ideality, electrical,
+                      front_index)
     return DesignResult(gaps, terminals if len(gaps) == 2 else 2, temperature_K,
-                        tuple(ere_values), photon_flux.name, photon_flux.notes, perf)
+                        tuple(float(e) for e in ere_values), photon_flux.name, photon_flux.notes,
+                        perf, float(ideality), electrical, float(front_index))

@@ -15,12 +15,12 @@ from typing import Callable
 import numpy as np
 
 from . import detailed_balance as db
-from .design import (Conditions, StackDesign, stack_integrands, stack_performance,
-                     trapezoid_weights)
+from .design import (Conditions, StackDesign, evaluate_design, stack_integrands,
+                     stack_performance, trapezoid_weights)
 from .errors import TandemInputError
 from .sky import SpectralSeries
 from .spectra import PhotonFlux
-from .stack import IDEAL, Electrical, evaluate_stack
+from .stack import IDEAL, Electrical
 from .units import Q
 
 
@@ -84,16 +84,14 @@ def _bin_performance(design, energy, weights_e, fluxes, step_bin, gap, thickness
     own temperature. Returns (performance with arrays (n_d, n_h), J_L (n_d, n_h, 2)).
     """
     t_bin, idx, t_cell, bb = step_bin
-    parts = stack_integrands(design, energy, gap, back_d, None,
-                             design.front.gap_shift_eV(t_bin), design.back.gap_shift_eV(t_bin))
+    parts = stack_integrands(design, energy, gap, back_d, None, t_bin)
     absorbed, transmitted = parts.transfer(thickness)
     fw, bw = weights_e * parts.front_weight, weights_e * parts.back_weight
     rows = fluxes[idx]
     jl = np.stack([absorbed @ (rows * fw).T, transmitted @ (rows * bw).T], axis=-1)
     j0 = np.stack([absorbed @ (bb * fw).T, transmitted @ (bb * bw).T], axis=-1)
-    ere = np.array([design.front.ere, design.back.ere])
-    perf = evaluate_stack(jl, j0 / ere, t_cell, 1.0, ideality, electrical, design.front.ere)
-    return perf, jl
+    cond = Conditions(None, float(t_bin), ideality, electrical)
+    return evaluate_design(design, cond, jl, j0, t_cell, 1.0), jl
 
 
 def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
