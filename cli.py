@@ -88,14 +88,18 @@ IrradianceOpt = Annotated[Optional[float], typer.Option(
 JsonOpt = Annotated[bool, typer.Option("--json", help="Print one JSON object on stdout only.")]
 
 
-def _electrical(coupling, series_resistance, shunt_resistance):
+def _electrical(coupling, series_resistance, shunt_resistance, rear_emission=False):
     from tandem.stack import Electrical
 
-    return Electrical(coupling, series_resistance, shunt_resistance)
+    return Electrical(coupling, series_resistance, shunt_resistance, rear_emission)
 
 
 CouplingOpt = Annotated[float, typer.Option(
-    help="Luminescent coupling: share of the front's radiative recombination reaching the back.")]
+    help="Luminescent coupling: share of the front's emission towards the back that the back "
+    "collects (implies --rear-emission).")]
+RearEmissionOpt = Annotated[bool, typer.Option(
+    "--rear-emission", help="Count the front's emission towards the back (n² × its front-face "
+    "emission) as a loss; default: emission through the front only.")]
 SeriesOpt = Annotated[float, typer.Option(help="Series resistance of the stack [Ω·cm²].")]
 ShuntOpt = Annotated[float, typer.Option(help="Shunt resistance of the stack [Ω·cm²].")]
 
@@ -124,6 +128,9 @@ def limit(
     sun_temperature: SunTemperatureOpt = 6000.0,
     irradiance: IrradianceOpt = None,
     coupling: CouplingOpt = 0.0,
+    rear_emission: RearEmissionOpt = False,
+    front_index: Annotated[float, typer.Option(
+        help="Refractive index of the front subcell, for its rear emission.")] = 3.5,
     series_resistance: SeriesOpt = 0.0,
     shunt_resistance: ShuntOpt = float("inf"),
     json_out: JsonOpt = False,
@@ -139,9 +146,9 @@ def limit(
       tandem limit 1.1 -s blackbody --concentration 46238 --json
     """
     flux = _photon_flux(spectrum, sun_temperature, concentration, irradiance)
-    result = tandem.detailed_balance_limit(gaps, flux, terminals, temperature,
-                                           _parse_floats(ere, "--ere"), ideality,
-                                           _electrical(coupling, series_resistance, shunt_resistance))
+    result = tandem.detailed_balance_limit(
+        gaps, flux, terminals, temperature, _parse_floats(ere, "--ere"), ideality,
+        _electrical(coupling, series_resistance, shunt_resistance, rear_emission), front_index)
     summary = tandem.design_summary(result)
     if json_out:
         _emit_json(summary)
@@ -174,7 +181,7 @@ def _print_design(s: dict) -> None:
                   highlight=False)
     out.print(f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; "
               f"cell {s['temperature_K']:g} K", highlight=False)
-    for note in s["spectrum_notes"]:
+    for note in s["spectrum_notes"] + s["model_notes"]:
         out.print(f"note: {escape(note)}", highlight=False)
     out.print(f"[dim]{s['caution']}[/]")
 
@@ -335,6 +342,7 @@ def match(
     tolerance: Annotated[float, typer.Option(
         help="Loss [% absolute] defining the thickness and gap tolerance windows.")] = 1.0,
     coupling: CouplingOpt = 0.0,
+    rear_emission: RearEmissionOpt = False,
     series_resistance: SeriesOpt = 0.0,
     shunt_resistance: ShuntOpt = float("inf"),
     concentration: ConcentrationOpt = 1.0,
@@ -372,7 +380,7 @@ def match(
                          loss_on_grid(front_parasitic, e, "--front-parasitic"),
                          loss_on_grid(interlayer_parasitic, e, "--interlayer-parasitic"))
     cond = Conditions(flux, temperature, 1.0,
-                      _electrical(coupling, series_resistance, shunt_resistance))
+                      _electrical(coupling, series_resistance, shunt_resistance, rear_emission))
     gaps = None
     if front_gaps:
         lo, hi, *step = _parse_range(front_gaps, "--front-gaps")
@@ -459,8 +467,9 @@ def _print_match(s: dict, show_swapped: bool, top: int) -> None:
         sw = s["swapped"]
         out.print(_match_table(f"the better order: {sw['front']} in front",
                                sw["configurations"][:top], False))
-    for note in s["spectrum_notes"]:
+    for note in s["spectrum_notes"] + s["model_notes"]:
         out.print(f"note: {escape(note)}", highlight=False)
+    out.print(escape(s["temperature_note"]), highlight=False)
     out.print(f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell "
               f"{s['temperature_K']:g} K; {s['configurations_evaluated']:,} configurations",
               highlight=False)
@@ -701,6 +710,7 @@ def energy_yield(
     points: Annotated[int, typer.Option(help="Front thicknesses in the sweep.")] = 16,
     back_thickness: Annotated[Optional[str], typer.Option(help="Back thickness (nm or um).")] = None,
     coupling: CouplingOpt = 0.0,
+    rear_emission: RearEmissionOpt = False,
     series_resistance: SeriesOpt = 0.0,
     shunt_resistance: ShuntOpt = float("inf"),
     output: Annotated[str, typer.Option("--output", "-o", help="Prefix of the figures.")] = "yield",
@@ -757,7 +767,7 @@ def energy_yield(
         else:
             series = clear_sky_series(site, parse_period(period, timezone, step))
         a_front, a_back = tandem.load_absorber(front), tandem.load_absorber(back)
-        electrical = _electrical(coupling, series_resistance, shunt_resistance)
+        electrical = _electrical(coupling, series_resistance, shunt_resistance, rear_emission)
         back_d = a_back.thickness_nm
     if back_thickness:
         back_d = _parse_thickness(back_thickness, "--back-thickness")
@@ -836,6 +846,7 @@ def fabrication_scatter(
     spectrum: SpectrumOpt = "am1.5g",
     temperature: TemperatureOpt = 298.15,
     coupling: CouplingOpt = 0.0,
+    rear_emission: RearEmissionOpt = False,
     series_resistance: SeriesOpt = 0.0,
     shunt_resistance: ShuntOpt = float("inf"),
     plot: Annotated[Optional[str], typer.Option(help="Write a histogram to this PNG/SVG.")] = None,
@@ -862,7 +873,8 @@ def fabrication_scatter(
     flux.check_gap(g, "--gap")
     d = a_front.thickness_nm if thickness is None else _parse_thickness(thickness, "--thickness")
     bd = a_back.thickness_nm if back_thickness is None else _parse_thickness(back_thickness, "--back-thickness")
-    cond = Conditions(flux, temperature, 1.0, _electrical(coupling, series_resistance, shunt_resistance))
+    cond = Conditions(flux, temperature, 1.0,
+                      _electrical(coupling, series_resistance, shunt_resistance, rear_emission))
     result = scatter(StackDesign(a_front, a_back), cond, g, d, bd, gap_sigma, thickness_sigma,
                      samples, seed)
     stats = result.stats(terminals, target)

@@ -209,6 +209,8 @@ class _Checker:
         if kind == "num":
             if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
                 self.fail(name, f"= {value!r} must be a finite number", "give a number")
+        if kind == "bool" and not isinstance(value, bool):
+            self.fail(name, f"= {value!r} must be true or false", "write true or false")
         if kind == "strlist":
             if not (isinstance(value, list) and value and all(isinstance(v, str) for v in value)):
                 self.fail(name, f"= {value!r} must be a list of names", 'write e.g. ["silicon"]')

@@ -19,7 +19,8 @@ from .absorbers import Absorber
 from .errors import TandemInputError
 from .optics import NM_TO_CM, StackOptics, stack_optics
 from .spectra import PhotonFlux
-from .stack import IDEAL, SUBCELL_NAMES, Electrical, StackPerformance, evaluate_stack
+from .stack import (IDEAL, SUBCELL_NAMES, Electrical, StackPerformance, check_receives_light,
+                    evaluate_stack)
 from .units import Q, T_STC
 
 Progress = Callable[[int, int], None]
@@ -278,6 +279,21 @@ def check_design_inputs(design: StackDesign, cond: Conditions, front_gaps, back_
                                "give thinnest:thickest")
 
 
+def _check_light(design: StackDesign, cond: Conditions, gap, j_light, lo, hi) -> None:
+    """Refuse a design whose subcell gets no light; an inverted order is reported, not refused
+    (the command then shows the better order), unless its back gets nothing at all."""
+    front, back = design.front, design.back
+    inverted = back.gap_eV >= gap
+    if inverted and not np.max(j_light[..., 1]) > 0:
+        raise TandemInputError(f"back subcell {back.key} ({back.gap_eV:.3f} eV) gets no light "
+                               f"behind {front.key} ({gap:.3f} eV): the order looks inverted; put "
+                               f"{back.key} in front")
+    check_receives_light(j_light if not inverted else j_light[..., :1], cond.photon_flux, [
+        f"front subcell {front.key} at {gap:.3f} eV (even at {hi:g} nm)",
+        f"back subcell {back.key} behind {front.key} at {gap:.3f} eV (even at {lo:g} nm)",
+    ][: 1 if inverted else 2])
+
+
 def front_gap_grid(front: Absorber, step_eV: float = 0.02) -> np.ndarray:
     """Gaps to sweep for a front absorber: its tunable range at ``step_eV``, else its gap."""
     if not front.tunable:
@@ -323,6 +339,7 @@ def match_currents(
         composition = front.relation.composition_for_gap(float(gap)) if front.tunable else None
         for back_d in backs:
             perf = stack_performance(design, cond, gap, d_grid, back_d)
+            _check_light(design, cond, gap, perf.j_light, lo, hi)
             sweeps.append(ThicknessSweep(float(gap), float(back_d), d_grid, perf))
             matched, note = _match_thickness(design, cond, gap, d_grid, back_d, perf.j_light)
             power = perf.p_2t if terminals == 2 else perf.p_4t

@@ -5,6 +5,8 @@ Keys carry their unit (``_pct``, ``_V``, ``_mA_cm2``, ``_W_m2``, ``_eV``, ``_K``
 
 from __future__ import annotations
 
+import math
+
 from .stack import SUBCELL_NAMES, DesignResult
 from .units import MA_CM2_PER_A_M2
 
@@ -13,7 +15,12 @@ CAUTION = ("Modelling limits from detailed balance, not certified measurements; 
 
 
 def _r(x, digits=4):
-    return None if x is None else round(float(x), digits)
+    """Rounded for display; a quantity that is undefined (e.g. the fill factor of a cell
+    without light) is None, never NaN, so JSON stays valid."""
+    if x is None:
+        return None
+    x = float(x)
+    return round(x, digits) if math.isfinite(x) else None
 
 
 def design_summary(result: DesignResult) -> dict:
@@ -50,6 +57,7 @@ def design_summary(result: DesignResult) -> dict:
         "irradiance_W_m2": _r(irr, 3),
         "spectrum": result.spectrum_name,
         "spectrum_notes": list(result.spectrum_notes),
+        "model_notes": list(result.model_notes),
         "subcells": subcells,
         "caution": CAUTION,
     }
@@ -86,7 +94,8 @@ def _absorber(a) -> dict:
 
 def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_pct: float = 1.0) -> dict:
     """The keys documented for ``tandem match --json``."""
-    from .design import tolerance_windows
+    from .design import temperature_note, tolerance_windows
+    from .stack import electrical_notes
 
     best = result.configurations[0]
     windows = tolerance_windows(result, tolerance_pct)
@@ -115,6 +124,9 @@ def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_p
         "spectrum_notes": list(cond.photon_flux.notes),
         "irradiance_W_m2": _r(cond.photon_flux.irradiance, 3),
         "temperature_K": cond.temperature_K,
+        "temperature_note": temperature_note(result.design, best.front_gap_eV, cond.temperature_K),
+        "model_notes": list(electrical_notes(cond.electrical, result.design.front.refractive_index,
+                                             cond.ideality, False)),
         "configurations_evaluated": result.n_evaluated,
         "caution": CAUTION,
     }

@@ -13,6 +13,7 @@ via pvlib.temperature.sapm_cell.
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 from dataclasses import dataclass, field
@@ -22,7 +23,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import TandemInputError
-from .spectra import _astm_g173, read_spectrum_csv
+from .spectra import _astm_g173, _to_energy, conserving_grid, read_spectrum_csv
 from .units import HC_EV_NM, Q
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
@@ -90,10 +91,16 @@ class SpectralSeries:
     notes: tuple[str, ...] = field(default=())
 
     def photon_fluxes(self):
-        """(energy [eV] ascending, flux (n_t, nE) [m⁻² s⁻¹ eV⁻¹], irradiance (n_t,) [W/m²])."""
-        energy = HC_EV_NM / self.wavelength_nm[::-1]
-        irr = self.irradiance[:, ::-1]
-        flux = irr / (energy * Q) * HC_EV_NM / energy**2
+        """(energy [eV] ascending, flux (n_t, nE) [m⁻² s⁻¹ eV⁻¹], irradiance (n_t,) [W/m²]).
+
+        One energy grid for all steps, refined (:func:`~tandem.spectra.conserving_grid`) so
+        that the energy-weighted mean spectrum keeps its photons and power.
+        """
+        weights = self.step_hours / max(float(np.sum(self.step_hours)), 1e-300)
+        grid = conserving_grid(self.wavelength_nm, weights @ self.irradiance)
+        rows = np.stack([np.interp(grid, self.wavelength_nm, r) for r in self.irradiance]) \
+            if grid.size != self.wavelength_nm.size else self.irradiance
+        energy, flux = _to_energy(grid, rows)
         return energy, flux, np.trapezoid(self.irradiance, self.wavelength_nm, axis=-1)
 
     @property
@@ -140,15 +147,17 @@ def _solar(site: Site, times: pd.DatetimeIndex):
     return pos, aoi
 
 
-def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear):
+def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=None):
     """SPECTRL2 plane-of-array global spectra: (wavelengths (122,) [nm], (n, 122) [W m⁻² nm⁻¹]).
 
-    Air mass from the apparent zenith (Kasten & Young 1989), pressure from the site altitude.
+    Air mass from the apparent zenith (Kasten & Young 1989) unless given, pressure from the
+    site altitude.
     """
     import pvlib
 
     zenith = np.atleast_1d(np.asarray(apparent_zenith, dtype=float))
-    airmass = pvlib.atmosphere.get_relative_airmass(zenith)
+    airmass = (pvlib.atmosphere.get_relative_airmass(zenith) if relative_airmass is None
+               else np.broadcast_to(np.asarray(relative_airmass, dtype=float), zenith.shape))
     spectra = pvlib.spectrum.spectrl2(
         apparent_zenith=zenith, aoi=np.atleast_1d(np.asarray(aoi, dtype=float)),
         surface_tilt=site.tilt_deg, ground_albedo=site.albedo,
@@ -160,8 +169,68 @@ def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear):
     return np.asarray(spectra["wavelength"], dtype=float), np.clip(poa, 0.0, None)
 
 
+#: The standard's own conditions (ASTM G173-03): relative air mass 1.5, a surface tilted 37°
+#: towards the sun, sea level, its atmosphere, and a ground albedo of 0.2 (the standard uses a
+#: light soil; 0.2 is the usual broadband stand-in, common practice).
+G173_TILT_DEG = 37.0
+STANDARD_SITE = Site(name="ASTM G173-03 conditions", latitude=0.0, longitude=0.0,
+                     altitude_m=0.0, tilt_deg=G173_TILT_DEG, azimuth_deg=180.0, albedo=0.2)
+
+
+def _mean_distance_factor(dayofyear):
+    """SPECTRL2's extraterrestrial scaling for the Earth–Sun distance (Spencer 1971, in pvlib)."""
+    import pvlib
+
+    return np.asarray(pvlib.irradiance.get_extra_radiation(np.asarray(dayofyear),
+                                                           method="spencer", solar_constant=1.0))
+
+
+@functools.lru_cache(maxsize=1)
+def standard_zenith_deg() -> float:
+    """Apparent solar zenith [°] where the Kasten–Young air mass (used for every step) is 1.5."""
+    import pvlib
+    from scipy.optimize import brentq
+
+    return float(brentq(lambda z: float(pvlib.atmosphere.get_relative_airmass(z)) - 1.5,
+                        40.0, 55.0, xtol=1e-12))
+
+
+@functools.lru_cache(maxsize=1)
+def _spectrl2_at_standard():
+    """SPECTRL2 at the standard's conditions, at the mean Earth–Sun distance (122 points)."""
+    zenith = standard_zenith_deg()
+    wl, poa = spectrl2_poa(STANDARD_SITE, zenith, zenith - G173_TILT_DEG, 81)
+    return wl, poa[0] / float(_mean_distance_factor(81))
+
+
+def anchored_poa(site: Site, apparent_zenith, aoi, dayofyear):
+    """Plane-of-array spectra anchored to the standard, on the common grid [nm, W m⁻² nm⁻¹].
+
+    G173(λ) · S(λ; step)/S(λ; standard): SPECTRL2 (S) supplies the change from the
+    standard's conditions (air mass, atmosphere, angle of incidence, Earth–Sun distance),
+    the ASTM G173-03 table the reference itself. SPECTRL2 alone gives 1032 W/m² and another
+    red/blue balance at the standard's own conditions; anchored, the spectrum there is G173.
+
+    Returns (grid (n_wl,), irradiance (n, n_wl)).
+    """
+    wl, poa = spectrl2_poa(site, apparent_zenith, aoi, dayofyear)
+    ref_wl, ref = _spectrl2_at_standard()
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.where(ref > 0, poa / np.where(ref > 0, ref, 1.0), 0.0)
+    grid = common_grid()
+    g173 = np.interp(grid, *_g173_global())
+    return grid, g173 * _on_grid(wl, ratio, grid)
+
+
+@functools.lru_cache(maxsize=1)
+def _g173_global():
+    table = _astm_g173()
+    return table.index.to_numpy(dtype=float), table["global"].to_numpy(dtype=float)
+
+
 def _spectrl2(site: Site, times, pos, aoi):
-    return spectrl2_poa(site, pos["apparent_zenith"].to_numpy(), aoi.to_numpy(),
+    """Anchored plane-of-array spectra at ``times`` on the common grid."""
+    return anchored_poa(site, pos["apparent_zenith"].to_numpy(), aoi.to_numpy(),
                         times.day_of_year.to_numpy())
 
 
@@ -189,13 +258,12 @@ def clear_sky_series(site: Site, times: pd.DatetimeIndex) -> SpectralSeries:
         raise TandemInputError("the sun never rises over this period at this site; choose another "
                                "period or latitude")
     times_up = times[up]
-    wl, poa = _spectrl2(site, times_up, pos[up], aoi[up])
-    grid = common_grid()
-    irr = _on_grid(wl, poa, grid)
+    grid, irr = _spectrl2(site, times_up, pos[up], aoi[up])
     total = np.trapezoid(irr, grid, axis=-1)
     step_h = np.full(times_up.size, (times[1] - times[0]).total_seconds() / 3600 if times.size > 1 else 1.0)
     temps = cell_temperature_K(total, site.ambient_temperature_C, site.wind_speed_m_s)
-    return SpectralSeries(times_up, grid, irr, temps, step_h, f"SPECTRL2 clear sky at {site.name}",
+    return SpectralSeries(times_up, grid, irr, temps, step_h,
+                          f"clear sky at {site.name} (ASTM G173-03 × SPECTRL2 change)",
                           (f"aerosol optical depth {site.aerosol_turbidity_500nm:g} at 500 nm, "
                            f"precipitable water {site.precipitable_water_cm:g} cm, ozone "
                            f"{site.ozone_atm_cm:g} atm-cm, albedo {site.albedo:g}",
@@ -236,9 +304,7 @@ def weather_series(site: Site, path: str | Path) -> SpectralSeries:
     use = (pos["apparent_zenith"].to_numpy() < 89.0) & (poa > 1.0)
     if not use.any():
         raise TandemInputError(f"weather file '{path}' has no daylight irradiance on this plane")
-    wl, shape = _spectrl2(site, times[use], pos[use], aoi[use])
-    grid = common_grid()
-    irr = _on_grid(wl, shape, grid)
+    grid, irr = _spectrl2(site, times[use], pos[use], aoi[use])
     total = np.trapezoid(irr, grid, axis=-1)
     ok = total > 0
     scale = np.where(ok, poa[use] / np.where(ok, total, 1.0), 0.0)

@@ -56,19 +56,35 @@ class Spectrum:
         """Lowest and highest photon energy on the grid [eV]."""
         return HC_EV_NM / float(self.wavelength_nm[-1]), HC_EV_NM / float(self.wavelength_nm[0])
 
-    def photon_flux(self) -> PhotonFlux:
+    @property
+    def photon_count(self) -> float:
+        """Photon flux [m⁻² s⁻¹], exact for the piecewise-linear spectrum.
+
+        ∫ I(λ)·λ/(hc) dλ: the integrand is quadratic on each interval, so Simpson's rule
+        is exact there.
+        """
+        wl, irr = self.wavelength_nm, self.irradiance
+        mid = 0.5 * (wl[1:] + wl[:-1])
+        f0, f1, fm = irr[:-1] * wl[:-1], irr[1:] * wl[1:], 0.5 * (irr[1:] + irr[:-1]) * mid
+        return float(np.sum(np.diff(wl) / 6.0 * (f0 + 4.0 * fm + f1)) / (HC_EV_NM * Q))
+
+    def photon_flux(self, tolerance: float = 5e-7) -> PhotonFlux:
         """The same light as photon flux per energy on an ascending energy grid.
+
+        Parameters
+        ----------
+        tolerance : float
+            Largest relative difference allowed between the trapezoid integrals of photons
+            and power on the energy grid and the exact integrals of the piecewise-linear
+            spectrum on its wavelength grid [-] (see :func:`conserving_grid`).
 
         Notes
         -----
-        Φ(E) = I(λ)·λ/(hc)·|dλ/dE| with |dλ/dE| = hc/E², evaluated at the spectrum's own
-        points (no resampling), so that the photon count is preserved to the accuracy of
-        the trapezoid rule on either grid.
+        Φ(E) = I(λ)·λ/(hc)·|dλ/dE| with |dλ/dE| = hc/E².
         """
-        energy = HC_EV_NM / self.wavelength_nm[::-1]
-        irradiance = self.irradiance[::-1]
-        # photons per nm: I / (E q); per eV: times |dλ/dE| = hc/E² [nm/eV]
-        flux = irradiance / (energy * Q) * HC_EV_NM / energy**2
+        wavelength = conserving_grid(self.wavelength_nm, self.irradiance, tolerance)
+        energy, flux = _to_energy(wavelength, np.interp(wavelength, self.wavelength_nm,
+                                                        self.irradiance))
         return PhotonFlux(
             name=self.name,
             energy=energy,
@@ -76,6 +92,55 @@ class Spectrum:
             irradiance=self.integrated_irradiance,
             notes=self.notes,
         )
+
+
+def _to_energy(wavelength_nm, irradiance):
+    """(ascending energy [eV], Φ(E) [m⁻² s⁻¹ eV⁻¹]) from I(λ); rows on the last axis."""
+    energy = HC_EV_NM / wavelength_nm[::-1]
+    # photons per nm: I / (E q); per eV: times |dλ/dE| = hc/E² [nm/eV]
+    return energy, irradiance[..., ::-1] / (energy * Q) * HC_EV_NM / energy**2
+
+
+def conserving_grid(wavelength_nm, irradiance, tolerance: float = 5e-7) -> np.ndarray:
+    """A wavelength grid [nm] on which the energy-side integrals conserve photons and power.
+
+    On a coarse wavelength grid the trapezoid rule in energy misses the photon count (two
+    rows at 300 and 1000 nm overcount it 2.6-fold). Intervals wider than a relative step δ
+    are split at points of the same piecewise-linear spectrum (so the wavelength-side
+    integrals do not change), halving δ until the trapezoid integrals of Φ(E) and E·Φ(E)
+    agree with the exact ones within ``tolerance``. ASTM G173-03 needs 259 extra points.
+    """
+    spectrum = Spectrum("", np.asarray(wavelength_nm, float), np.asarray(irradiance, float))
+    photons, power = spectrum.photon_count, spectrum.integrated_irradiance
+    delta = math.inf
+    for _ in range(40):
+        grid = _refined(spectrum.wavelength_nm, delta)
+        energy, flux = _to_energy(grid, np.interp(grid, spectrum.wavelength_nm,
+                                                  spectrum.irradiance))
+        n_e = np.trapezoid(flux, energy)
+        p_e = np.trapezoid(flux * energy * Q, energy)
+        if abs(n_e / photons - 1) <= tolerance and abs(p_e / power - 1) <= tolerance:
+            return grid
+        delta = 4e-3 if math.isinf(delta) else delta / 2
+        if grid.size > 2_000_000:
+            break
+    raise TandemInputError("spectrum: cannot be put on an energy grid that conserves its "
+                           "photons; check its wavelengths")
+
+
+def _refined(wavelength_nm, delta):
+    """The grid with every interval split into ⌈ΔE/(E·δ)⌉ equal parts (in wavelength)."""
+    if math.isinf(delta):
+        return wavelength_nm
+    wl = wavelength_nm
+    relative = np.diff(wl) / wl[:-1]  # = ΔE/E at the interval's upper energy, to first order
+    parts = np.maximum(np.ceil(relative / delta).astype(int), 1)
+    if np.all(parts == 1):
+        return wl
+    interval = np.repeat(np.arange(parts.size), parts)
+    first = np.repeat(np.cumsum(parts) - parts, parts)
+    fraction = (np.arange(interval.size) - first) / parts[interval]
+    return np.append(wl[interval] + fraction * np.diff(wl)[interval], wl[-1])
 
 
 @dataclass(frozen=True)

@@ -181,11 +181,49 @@ def _terminal(j_diode, v_diode, electrical: Electrical):
     return j, v_diode - j * electrical.series_resistance_ohm_cm2 * OHM_CM2
 
 
+def _delivered(j, v):
+    """(J, V) where the chain delivers power, (0, 0) where a shunt or R_s leaves it none."""
+    dead = ~(j * v > 0)
+    return np.where(dead, 0.0, j), np.where(dead, 0.0, v)
+
+
+def _resistive_maximum(chain_voltage, lo, hi, electrical: Electrical):
+    """Diode current of the maximum power point of a chain with resistances, and its power.
+
+    The terminal current J rises and the terminal voltage V falls with the diode current, so
+    power is positive only between J = 0 and V = 0; both edges are found by bisection first
+    (a strong shunt leaves a sliver next to J_L), then a golden-section search runs inside.
+    A chain that cannot deliver power at all sits at J = 0.
+    """
+    def terminal(jd):
+        return _terminal(jd, chain_voltage(jd), electrical)
+
+    def bisect(lo, hi, positive_below):
+        for _ in range(64):
+            mid = 0.5 * (lo + hi)
+            below = positive_below(mid)
+            lo, hi = np.where(below, mid, lo), np.where(below, hi, mid)
+        return 0.5 * (lo + hi)
+
+    start = np.where(terminal(lo)[0] >= 0, lo, bisect(lo, hi, lambda x: terminal(x)[0] < 0))
+    end = np.where(terminal(hi)[1] >= 0, hi, bisect(lo, hi, lambda x: terminal(x)[1] >= 0))
+    end = np.maximum(start, end)
+
+    def power(jd):
+        j, v = terminal(jd)
+        return j * v
+
+    jd = db.golden_maximum(power, start, end)
+    return np.where(power(jd) > 0, jd, start)
+
+
 def _own_mpp(cells: _Cells, j_light, electrical: Electrical):
     """Every subcell alone at its maximum power point, elementwise over (..., m)."""
     vt = cells.vt[..., None] if np.ndim(cells.vt) else cells.vt
     if cells.ideal and not electrical.resistive:
         return db.single_junction_mpp(j_light, cells.a, vt / K_B_EV)
+    if not electrical.resistive:
+        return db.two_diode_mpp(j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
 
     def voltage(jd):
         if cells.ideal:
@@ -193,12 +231,8 @@ def _own_mpp(cells: _Cells, j_light, electrical: Electrical):
             return vt * np.where(y > 0, np.log1p(np.maximum(y, 0.0) / cells.a), y / cells.a)
         return db.two_diode_voltage(jd, j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
 
-    def power(jd):
-        j, v = _terminal(jd, voltage(jd), electrical)
-        return j * v
-
-    jd = db.golden_maximum(power, np.zeros_like(j_light), j_light)
-    j, v = _terminal(jd, voltage(jd), electrical)
+    jd = _resistive_maximum(voltage, np.zeros_like(j_light), j_light, electrical)
+    j, v = _delivered(*_terminal(jd, voltage(jd), electrical))
     return j, v, j * v
 
 
@@ -217,7 +251,7 @@ def _coupled_four_terminal(cells: _Cells, electrical: Electrical):
 
     def parts(jf):
         vf = front.voltage(0, jf)
-        j, v = _terminal(jf, vf, electrical)
+        j, v = _delivered(*_terminal(jf, vf, electrical))
         back_light = jl[..., 1:] + cells.back_gain(vf)[..., None]
         jb, vb, pb = _own_mpp(back, back_light, electrical)
         return j, v, jb[..., 0], vb[..., 0], pb[..., 0]
@@ -327,13 +361,12 @@ def _series_general(cells: _Cells, electrical: Electrical):
         v_oc_front = cells.voltage(0, 0.0)
         hi = np.minimum(hi, jl[..., 1] + cells.back_gain(v_oc_front))
 
-    def power(jd):
-        j, v = _terminal(jd, np.sum(cells.series_voltages(jd), axis=-1), electrical)
-        return j * v
+    def chain_voltage(jd):
+        return np.sum(cells.series_voltages(jd), axis=-1)
 
-    jd = db.golden_maximum(power, np.zeros_like(hi), hi)
+    jd = _resistive_maximum(chain_voltage, np.zeros_like(hi), hi, electrical)
     v_sub = cells.series_voltages(jd)
-    j, v = _terminal(jd, np.sum(v_sub, axis=-1), electrical)
+    j, v = _delivered(*_terminal(jd, np.sum(v_sub, axis=-1), electrical))
     return j, v, j * v, v_sub
 
 
@@ -433,6 +466,27 @@ def electrical_notes(electrical: Electrical, front_index: float, ideality: float
     return tuple(notes)
 
 
+#: A subcell that collects less than this share of the spectrum's photons "receives no light".
+DARK_SHARE = 1e-3
+
+
+def check_receives_light(j_light, photon_flux: PhotonFlux, what: Sequence[str]) -> None:
+    """Refuse a design whose subcell collects (almost) none of the spectrum's photons.
+
+    ``j_light`` holds the best photocurrent each subcell reaches [A/m²] (subcells on the last
+    axis), ``what`` a description of each subcell for the message.
+    """
+    total = db.Q * float(db.cumulative_flux(photon_flux.energy, photon_flux.flux)[-1])
+    best = np.max(np.reshape(j_light, (-1, len(what))), axis=0)
+    for j, name in zip(best, what):
+        if not j > DARK_SHARE * total:
+            raise TandemInputError(
+                f"{name} receives almost no light ({j / 10:.3g} mA/cm², under "
+                f"{100 * DARK_SHARE:g} % of the {total / 10:.1f} mA/cm² of photons in "
+                f"'{photon_flux.name}', which reaches up to {photon_flux.energy[-1]:.2f} eV); "
+                "choose a lower gap, a thicker layer or a spectrum that covers it")
+
+
 def check_gap_order(gaps: Sequence[float]) -> None:
     for name, g in zip(("front gap", "back gap"), gaps):
         if not (math.isfinite(g) and g > 0):
@@ -524,6 +578,9 @@ def detailed_balance_limit(
         )
     perf = step_stack(photon_flux, np.array(gaps), temperature_K, ere_values, ideality, electrical,
                       front_index)
+    names = ([f"front subcell ({gaps[0]:g} eV)", f"back subcell ({gaps[1]:g} eV, behind the front)"]
+             if len(gaps) == 2 else [f"the cell ({gaps[0]:g} eV)"])
+    check_receives_light(perf.j_light, photon_flux, names)
     return DesignResult(gaps, terminals if len(gaps) == 2 else 2, temperature_K,
                         tuple(float(e) for e in ere_values), photon_flux.name, photon_flux.notes,
                         perf, float(ideality), electrical, float(front_index))

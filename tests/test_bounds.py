@@ -1,0 +1,156 @@
+"""Physical bounds as properties: no option or combination may break thermodynamics.
+
+Consistency tests (hypothesis): over random gaps, EREs, ideality factors, temperatures,
+concentrations, rear emission, luminescent coupling, resistances and absorber thicknesses:
+(a) no efficiency exceeds the four-terminal detailed-balance limit of the same gaps under the
+same spectrum and temperature (Shockley & Queisser 1961; De Vos 1980: the radiative,
+front-only-emission limit is the upper bound); (b) each subcell's Voc is below its gap;
+(c) without resistances 2T ≤ 4T; (d) no subcell current exceeds the incident photon current
+above its gap; (e) every photon is accounted for once.
+"""
+
+import functools
+
+import numpy as np
+import pytest
+from hypothesis import assume, given
+from hypothesis import strategies as st
+
+import tandem
+from tandem import detailed_balance as db
+from tandem.design import Conditions, StackDesign, stack_light, stack_performance
+from tandem.stack import Electrical
+from tandem.units import Q
+
+RTOL = 1e-9
+
+gap_pairs = st.tuples(st.floats(0.9, 3.0), st.floats(0.5, 2.9)).filter(lambda g: g[0] > g[1] + 0.05)
+eres = st.floats(-8, 0).map(lambda x: 10.0**x)
+idealities = st.sampled_from([1.0]) | st.floats(0.5, 5.0)
+temperatures = st.floats(250.0, 400.0)
+electricals = st.builds(
+    Electrical,
+    coupling=st.sampled_from([0.0]) | st.floats(0.0, 1.0),
+    series_resistance_ohm_cm2=st.sampled_from([0.0]) | st.floats(0.0, 5.0),
+    shunt_resistance_ohm_cm2=st.sampled_from([np.inf]) | st.floats(10.0, 1e5),
+    rear_emission=st.booleans(),
+)
+
+
+@functools.lru_cache(maxsize=8)
+def spectrum(kind: str, concentration: float):
+    if kind == "blackbody":
+        return tandem.blackbody_sun(6000.0, concentration).photon_flux()
+    return tandem.load_spectrum(kind, concentration=concentration).photon_flux()
+
+
+spectra = st.sampled_from([("am1.5g", 1.0), ("am1.5g", 100.0), ("am1.5d", 1.0), ("am0", 1.0),
+                           ("blackbody", 1.0), ("blackbody", 1000.0)])
+
+
+def photon_current_between(flux, lo, hi=np.inf):
+    return Q * (db.flux_above(flux.energy, flux.flux, lo)
+                - (0.0 if np.isinf(hi) else db.flux_above(flux.energy, flux.flux, hi)))
+
+
+@given(gaps=gap_pairs, ere_f=eres, ere_b=eres, ideality=idealities, temperature=temperatures,
+       light=spectra, electrical=electricals, front_index=st.floats(1.0, 4.0))
+def test_step_stacks_stay_inside_the_radiative_limit(gaps, ere_f, ere_b, ideality, temperature,
+                                                    light, electrical, front_index):
+    flux = spectrum(*light)
+    perf = tandem.step_stack(flux, np.array(gaps), temperature, np.array([ere_f, ere_b]),
+                             ideality, electrical, front_index)
+    limit = tandem.step_stack(flux, np.array(gaps), temperature)
+    assume(np.all(limit.j_light > 0))
+    # (a) below the four-terminal radiative limit of the same gaps
+    assert perf.p_2t <= limit.p_4t * (1 + RTOL)
+    assert perf.p_4t <= limit.p_4t * (1 + RTOL)
+    # (b) each subcell's Voc below its gap
+    assert np.all(perf.voc < np.array(gaps))
+    assert np.all(perf.v_2t_sub < np.array(gaps))
+    # (c) without resistances, series never beats independent operation
+    if not electrical.resistive:
+        assert perf.p_2t <= perf.p_4t * (1 + RTOL)
+    # (d) no subcell collects more than the photons above its gap (between the gaps for the
+    # back), and the series current never exceeds the front's photocurrent
+    assert perf.j_light[0] <= photon_current_between(flux, gaps[0]) * (1 + RTOL)
+    assert perf.j_light[1] <= photon_current_between(flux, gaps[1], gaps[0]) * (1 + RTOL)
+    assert perf.j_2t <= perf.j_light[0] * (1 + RTOL)
+    # (e) the coupled back gains at most what the front lost: the two currents together never
+    # exceed the photons above the back gap
+    assert perf.j_2t <= photon_current_between(flux, gaps[1]) * (1 + RTOL)
+    assert np.all(perf.p_own >= 0) and perf.p_2t >= 0
+
+
+@functools.lru_cache(maxsize=4)
+def global_4t_limit(temperature: float) -> float:
+    """The highest four-terminal radiative efficiency over all step-gap pairs (AM1.5G)."""
+    flux = spectrum("am1.5g", 1.0)
+    f, b = np.meshgrid(np.arange(1.2, 2.41, 0.01), np.arange(0.6, 1.61, 0.01), indexing="ij")
+    ok = f > b
+    perf = tandem.step_stack(flux, np.stack([f[ok], b[ok]], -1), temperature)
+    # refine around the grid optimum with a finer local grid
+    i = int(np.argmax(perf.p_4t))
+    f0, b0 = f[ok][i], b[ok][i]
+    f, b = np.meshgrid(np.linspace(f0 - 0.02, f0 + 0.02, 41), np.linspace(b0 - 0.02, b0 + 0.02, 41),
+                       indexing="ij")
+    fine = tandem.step_stack(flux, np.stack([f.ravel(), b.ravel()], -1), temperature)
+    return float(max(perf.p_4t.max(), fine.p_4t.max()) / flux.irradiance)
+
+
+ABSORBER_PAIRS = [("perovskite-wide", "silicon"), ("gainp", "gaas"), ("perovskite-wide", "cigs"),
+                  ("organic-wide", "organic-narrow"), ("cdte", "silicon"),
+                  ("perovskite-wide", "perovskite-snpb")]
+
+
+@functools.lru_cache(maxsize=16)
+def absorber(name):
+    return tandem.load_absorber(name)
+
+
+@given(pair=st.sampled_from(ABSORBER_PAIRS), front_d=st.floats(20.0, 5000.0),
+       back_d=st.floats(500.0, 300e3), temperature=st.floats(280.0, 360.0),
+       ideality=idealities, electrical=electricals, reflectance=st.floats(0.0, 0.3),
+       parasitic=st.floats(0.0, 0.2))
+def test_absorber_stacks_stay_inside_the_radiative_limit(pair, front_d, back_d, temperature,
+                                                        ideality, electrical, reflectance,
+                                                        parasitic):
+    flux = spectrum("am1.5g", 1.0)
+    design = StackDesign(absorber(pair[0]), absorber(pair[1]), reflectance, parasitic, parasitic)
+    cond = Conditions(flux, temperature, ideality, electrical)
+    gap = design.front.gap_eV
+    perf = stack_performance(design, cond, gap, front_d, back_d)
+    bound = global_4t_limit(280.0)  # the radiative limit falls as the cell warms
+    # (a) below the best radiative two-junction stack of any gaps (tails and trapping included)
+    assert perf.efficiency_4t <= bound * (1 + RTOL)
+    assert perf.efficiency_2t <= bound * (1 + RTOL)
+    if not electrical.resistive:
+        assert perf.efficiency_2t <= perf.efficiency_4t * (1 + RTOL)  # (c)
+    # (b) Voc below the gap at the cell temperature
+    shifted = np.array([gap + design.front.gap_shift_eV(temperature),
+                        design.back.gap_eV + design.back.gap_shift_eV(temperature)])
+    assert np.all(perf.voc < shifted)
+    # (d, e) every photon once: the optics' shares add to one, and the two photocurrents
+    # together never exceed the photons entering the stack
+    light = stack_light(design, flux.energy, gap, front_d, back_d, temperature_K=temperature)
+    total = (light.front_absorbed + light.back_absorbed + light.reflected + light.parasitic
+             + light.transmitted)
+    np.testing.assert_allclose(total, 1.0, rtol=0, atol=1e-12)
+    entering = Q * np.trapezoid((1 - reflectance) * flux.flux, flux.energy)
+    assert np.sum(perf.j_light) <= entering * (1 + RTOL)
+    assert perf.j_2t <= entering * (1 + RTOL)
+
+
+@given(rows=st.lists(st.tuples(st.floats(250.0, 4000.0), st.floats(0.0, 3.0)), min_size=2,
+                     max_size=25, unique_by=lambda r: round(r[0], 3)))
+def test_any_spectrum_grid_conserves_photons_and_power(rows):
+    rows = sorted(rows)
+    wl = np.array([r[0] for r in rows])
+    irr = np.array([r[1] for r in rows])
+    assume(np.all(np.diff(wl) > 1e-3) and np.trapezoid(irr, wl) > 1e-6)
+    spec = tandem.Spectrum("random", wl, irr)
+    flux = spec.photon_flux()
+    # wavelength side, exact for the piecewise-linear spectrum; energy side, the engine's grid
+    assert np.trapezoid(flux.flux, flux.energy) == pytest.approx(spec.photon_count, rel=1e-6)
+    assert np.trapezoid(Q * flux.energy * flux.flux, flux.energy) == pytest.approx(
+        spec.integrated_irradiance, rel=1e-6)
