@@ -46,6 +46,14 @@ def friendly(command):
         except TandemInputError as exc:
             err.print(f"[bold red]error:[/] {escape(str(exc))}", highlight=False, soft_wrap=True)
             raise typer.Exit(2) from None
+        except OSError as exc:  # a full disk, a read-only place, a file-size limit, a closed pipe
+            where = f" '{exc.filename}'" if getattr(exc, "filename", None) else ""
+            try:
+                err.print(f"[bold red]error:[/] cannot write{escape(where)}: "
+                          f"{escape(exc.strerror or str(exc))}", highlight=False, soft_wrap=True)
+            except OSError:
+                pass
+            raise typer.Exit(2) from None
 
     return wrapper
 
@@ -608,7 +616,10 @@ def study(
         "Default: wide-gap-partner-for-silicon.", show_default=False)] = None,
     out_dir: Annotated[Optional[str], typer.Option(
         "--out", help="Study folder to write. Default: study-<scenario name>.")] = None,
-    overwrite: Annotated[bool, typer.Option(help="Replace an existing study folder.")] = False,
+    overwrite: Annotated[bool, typer.Option(
+        help="Replace an existing study folder (only one written by 'tandem study').")] = False,
+    accept_edited: Annotated[bool, typer.Option(
+        help="Re-run a manifest whose checksum no longer matches (it was edited).")] = False,
     figures: Annotated[bool, typer.Option(help="Write the figures.")] = True,
     list_all: Annotated[bool, typer.Option("--list", help="List the bundled scenarios.")] = False,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="No progress bar.")] = False,
@@ -629,16 +640,16 @@ def study(
 
       tandem study study-wide-gap-partner-for-silicon/manifest.json --out rerun
     """
-    from tandem.study import bundled_scenarios, load_scenario, run_study, write_study
+    from tandem.study import (bundled_scenarios, check_study_target, load_scenario, run_study,
+                              write_study)
 
     if list_all:
         for name, path in bundled_scenarios().items():
             out.print(f"[bold]{name}[/]: {escape(load_scenario(name).data['question'])}")
         return
-    sc = load_scenario(scenario)
+    sc = load_scenario(scenario, accept_edited)
     folder = Path(out_dir or f"study-{sc.key}")
-    if folder.exists() and not overwrite:  # refuse before the work, not after
-        raise TandemInputError(f"study folder '{folder}' exists; choose another --out or pass --overwrite")
+    check_study_target(folder, overwrite, sc.input_paths)  # refuse before the work, not after
     with _progress(quiet or json_out, f"study {sc.key}") as bar:
         result = run_study(sc, _callback(bar))
         written = write_study(result, folder, overwrite, figures)

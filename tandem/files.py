@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import shutil
 import tempfile
 from pathlib import Path
 from typing import Callable
@@ -73,3 +74,215 @@ def write_all_whole(writers: dict, overwrite: bool = False) -> list[Path]:
         for tmp in temps.values():
             tmp.unlink(missing_ok=True)
     return list(targets)
+
+
+# --------------------------------------------------------------------------------------
+# Output folders placed atomically: the old one or the new one, never neither
+# --------------------------------------------------------------------------------------
+
+_TMP_TAG = ".tandem-tmp-"
+_LOCK_TAG = ".tandem-lock"
+_RENAME_NOREPLACE, _RENAME_EXCHANGE = 1, 2
+
+
+def _renameat2(src: Path, dst: Path, flags: int) -> bool:
+    """Linux renameat2(2) with ``flags``; False where the system or file system lacks it."""
+    import ctypes
+    import errno
+
+    try:
+        libc = ctypes.CDLL(None, use_errno=True)
+        call = libc.renameat2
+    except (OSError, AttributeError):
+        return False
+    call.argtypes = [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p, ctypes.c_uint]
+    at_fdcwd = -100
+    if call(at_fdcwd, os.fsencode(src), at_fdcwd, os.fsencode(dst), flags) == 0:
+        return True
+    code = ctypes.get_errno()
+    if code in (errno.ENOSYS, errno.EINVAL, errno.ENOTSUP):
+        return False
+    raise OSError(code, os.strerror(code), str(dst))
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
+
+
+def _owner_pid(name: str) -> int | None:
+    """The process id written into a temporary or lock name by :func:`place_folder`."""
+    tail = name.split(_TMP_TAG, 1)[-1] if _TMP_TAG in name else ""
+    try:
+        return int(tail.split("-", 1)[0])
+    except ValueError:
+        return None
+
+
+def clean_stale(target: Path) -> list[Path]:
+    """Remove hidden temporary folders of ``target`` left by runs that were killed.
+
+    Only folders named by :func:`place_folder` for this target and whose process is gone
+    are removed; returns what was removed.
+    """
+    removed = []
+    prefix = f".{target.name}{_TMP_TAG}"
+    for entry in target.parent.glob(f"{prefix}*"):
+        pid = _owner_pid(entry.name)
+        if pid is not None and not _alive(pid) and entry.is_dir() and not entry.is_symlink():
+            shutil.rmtree(entry, ignore_errors=True)
+            removed.append(entry)
+    return removed
+
+
+class _FolderLock:
+    """An exclusive lock beside the target (O_CREAT | O_EXCL), released on exit.
+
+    A lock left by a killed run (its process is gone) is taken over.
+    """
+
+    def __init__(self, target: Path):
+        self.path = target.parent / f".{target.name}{_LOCK_TAG}"
+        self.target = target
+
+    def __enter__(self):
+        for _ in range(2):
+            try:
+                fd = os.open(self.path, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o600)
+            except FileExistsError:
+                try:
+                    pid = int(self.path.read_text().strip() or "0")
+                except (OSError, ValueError):
+                    pid = 0
+                if pid and _alive(pid):
+                    raise TandemInputError(
+                        f"another tandem run (process {pid}) is writing '{self.target}'; wait for "
+                        "it to finish or choose another --out") from None
+                self.path.unlink(missing_ok=True)
+                continue
+            with os.fdopen(fd, "w") as fh:
+                fh.write(str(os.getpid()))
+            return self
+        raise TandemInputError(f"cannot lock '{self.target}' for writing; try again")
+
+    def __exit__(self, *exc):
+        self.path.unlink(missing_ok=True)
+
+
+class _SignalsHeld:
+    """Hold SIGINT, SIGTERM and SIGHUP during a few renames; they are delivered afterwards."""
+
+    SIGNALS = ("SIGINT", "SIGTERM", "SIGHUP")
+
+    def __enter__(self):
+        import signal
+        import threading
+
+        self.held = None
+        if threading.current_thread() is threading.main_thread() and hasattr(signal, "pthread_sigmask"):
+            wanted = {getattr(signal, s) for s in self.SIGNALS if hasattr(signal, s)}
+            self.held = signal.pthread_sigmask(signal.SIG_BLOCK, wanted)
+        return self
+
+    def __exit__(self, *exc):
+        import signal
+
+        if self.held is not None:
+            signal.pthread_sigmask(signal.SIG_SETMASK, self.held)
+
+
+def check_output_folder(target: str | Path) -> Path:
+    """The target as an absolute path, once its parent is known to exist and take files.
+
+    Called before any computation, so that an unwritable place costs nothing.
+    """
+    target = Path(os.path.abspath(target))
+    if len(target.name.encode()) > 200:
+        raise TandemInputError(f"output name '{target.name[:40]}…' is {len(target.name)} characters "
+                               "long; give a name under 200 characters")
+    parent = target.parent
+    if not parent.is_dir():
+        raise TandemInputError(f"folder '{parent}' does not exist; create it first or choose "
+                               "another --out")
+    try:
+        probe = tempfile.mkdtemp(prefix=f".{target.name[:40]}.probe-", dir=parent)
+        os.rmdir(probe)
+    except OSError as exc:
+        raise TandemInputError(f"cannot write in '{parent}' ({exc.strerror or exc}); choose "
+                               "another --out") from None
+    return target
+
+
+def place_folder(target: str | Path, build: Callable[[Path], None], overwrite: bool = False,
+                 replaceable: Callable[[Path], str | None] | None = None) -> Path:
+    """Build a folder with ``build(tmp)`` beside ``target``, then put it in place atomically.
+
+    Parameters
+    ----------
+    target : path
+        Where the folder goes.
+    build : callable
+        Writes the folder's contents into the (empty, private) temporary folder it is given.
+    overwrite : bool
+        Replace an existing target, if ``replaceable`` accepts it.
+    replaceable : callable
+        Returns None for a target that may be replaced, else the one-line reason it may not.
+
+    Notes
+    -----
+    The existence check is made at the moment of placement, under a lock beside the target
+    and with interrupts held back: a second writer, or a folder that appeared during the
+    work, is refused with a clear error and loses nothing. A new target is placed with
+    rename(2) that refuses an existing name (RENAME_NOREPLACE); an old one is swapped out
+    in one step (RENAME_EXCHANGE) and deleted afterwards, so an interrupt at any moment
+    leaves either the old or the new folder at ``target``. Hidden temporary folders of
+    killed runs are removed by the next run on the same target.
+    """
+    target = check_output_folder(target)
+    clean_stale(target)
+    tmp = target.parent / f".{target.name}{_TMP_TAG}{os.getpid()}-{os.urandom(4).hex()}"
+    tmp.mkdir(mode=0o700)
+    try:
+        build(tmp)
+        for item in [tmp, *tmp.rglob("*")]:
+            publish_mode(item)
+        with _FolderLock(target), _SignalsHeld():
+            if os.path.lexists(target):
+                if not overwrite:
+                    raise TandemInputError(f"'{target}' exists (it may have appeared while this "
+                                           "run worked); choose another --out or pass --overwrite")
+                reason = replaceable(target) if replaceable else "it is not a tandem output"
+                if reason:
+                    raise TandemInputError(reason)
+                if not _renameat2(tmp, target, _RENAME_EXCHANGE):
+                    _swap_by_two_renames(tmp, target)
+            elif not _renameat2(tmp, target, _RENAME_NOREPLACE):
+                if os.path.lexists(target):
+                    raise TandemInputError(f"'{target}' appeared while this run worked; choose "
+                                           "another --out")
+                os.rename(tmp, target)
+    finally:
+        shutil.rmtree(tmp, ignore_errors=True)  # the old folder after a swap, or a failed build
+    return target
+
+
+def _swap_by_two_renames(new: Path, target: Path) -> None:
+    """Fallback where renameat2 is missing: old → aside, new → target, aside → new's name.
+
+    Signals are held by the caller; only a kill -9 between the renames can leave the old
+    folder aside (under the temporary name, where the next run's cleanup finds it).
+    """
+    aside = new.parent / f"{new.name}-old"
+    os.rename(target, aside)
+    try:
+        os.rename(new, target)
+    except OSError:
+        os.rename(aside, target)
+        raise
+    shutil.rmtree(new, ignore_errors=True)
+    os.rename(aside, new)

@@ -285,10 +285,18 @@ def read_spectrum_csv(path: str | Path) -> Spectrum:
         raise TandemInputError(f"spectrum file '{path}' not found; give the path of a CSV file "
                                "with wavelength [nm] and irradiance [W m^-2 nm^-1] columns")
     try:
-        lines = path.read_text(encoding="utf-8-sig").splitlines()
+        text = path.read_text(encoding="utf-8-sig")
     except (OSError, UnicodeDecodeError) as exc:
         raise TandemInputError(f"spectrum file '{path}' cannot be read as text ({exc}); "
                                "save it as a UTF-8 CSV file") from None
+    return parse_spectrum_text(text, str(path), path.name)
+
+
+def parse_spectrum_text(text: str, where_label: str, name: str) -> Spectrum:
+    """The two-column spectrum in ``text`` (see :func:`read_spectrum_csv`); ``where_label``
+    names its origin in messages, ``name`` becomes the spectrum's name."""
+    path = where_label
+    lines = text.lstrip("\ufeff").splitlines()
     rows: list[tuple[float, float]] = []
     header_seen = False
     for number, raw in enumerate(lines, start=1):
@@ -325,7 +333,7 @@ def read_spectrum_csv(path: str | Path) -> Spectrum:
         raise TandemInputError(f"spectrum file '{path}': needs at least two data rows of "
                                "wavelength [nm] and irradiance [W m^-2 nm^-1]")
     data = np.array(rows)
-    spectrum = Spectrum(name=path.name, wavelength_nm=data[:, 0], irradiance=data[:, 1])
+    spectrum = Spectrum(name=name, wavelength_nm=data[:, 0], irradiance=data[:, 1])
     if not spectrum.integrated_irradiance > 0:
         raise TandemInputError(f"spectrum file '{path}': irradiance is zero everywhere; "
                                "check the second column")

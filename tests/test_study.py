@@ -67,9 +67,10 @@ def test_round_trip_through_manifest_reproduces_table(small):
     again = run_study(load_scenario(out / "manifest.json"))
     assert study_rows_equal(study.rows, again.rows)
     manifest = json.loads((out / "manifest.json").read_text())
-    assert manifest["spectrum"]["integrated_W_m2"] == pytest.approx(1000.37, abs=0.01)
-    assert set(manifest["absorber_files"]) == {"perovskite-wide", "gainp", "silicon"}
-    assert manifest["packages"]["numpy"] and len(manifest["inputs_sha256"]) == 64
+    assert manifest["record"]["spectrum"]["integrated_W_m2"] == pytest.approx(1000.37, abs=0.01)
+    assert set(manifest["inputs"]["absorbers"]) == {"perovskite-wide", "gainp", "silicon"}
+    assert manifest["record"]["packages"]["numpy"]
+    assert len(manifest["integrity"]["inputs_sha256"]) == 64
     # the written CSV is the same table
     csv = pd.read_csv(out / "design-table.csv")
     assert list(csv["front"]) == [r["front"] for r in study.rows]
@@ -110,7 +111,9 @@ def test_figures_are_real_images(small):
 
 
 def test_refuses_to_overwrite_and_leaves_folder(small, tmp_path):
-    scenario, study, out = small
+    # its own folder: the module's shared study folder stays as the other tests expect it
+    scenario, study, _ = small
+    out = write_study(study, tmp_path / "own", figures=False)
     before = (out / "design-table.csv").read_bytes()
     with pytest.raises(tandem.TandemInputError, match="exists; choose another --out or pass --overwrite"):
         write_study(study, out)
