@@ -151,7 +151,7 @@ def limit(
 
       tandem limit 1.73 1.12 --terminals 4 --ere 0.01
 
-      tandem limit 1.1 -s blackbody --concentration 46238 --json
+      tandem limit 1.1 -s blackbody --concentration 1000 --json
     """
     flux = _photon_flux(spectrum, sun_temperature, concentration, irradiance)
     result = tandem.detailed_balance_limit(

@@ -31,7 +31,7 @@ from .spectra import (
     reference_spectrum,
     scaled_to_irradiance,
 )
-from . import stack
+from . import maps, stack
 from .stack import DesignResult, StackPerformance, detailed_balance_limit, evaluate_stack, step_stack
 
 __version__ = "0.1.0"

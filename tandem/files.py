@@ -175,7 +175,13 @@ class _FolderLock:
 
 
 class _SignalsHeld:
-    """Hold SIGINT, SIGTERM and SIGHUP during a few renames; they are delivered afterwards."""
+    """Hold SIGINT, SIGTERM and SIGHUP back during a few renames, then deliver them.
+
+    A Python-level handler that only records the signal (a mask set in one thread would not
+    do: any thread, e.g. a BLAS worker, may receive a process-wide signal); on exit the old
+    handlers return and each recorded signal is raised again, so an interrupt is never lost
+    and never lands between two renames.
+    """
 
     SIGNALS = ("SIGINT", "SIGTERM", "SIGHUP")
 
@@ -183,17 +189,22 @@ class _SignalsHeld:
         import signal
         import threading
 
-        self.held = None
-        if threading.current_thread() is threading.main_thread() and hasattr(signal, "pthread_sigmask"):
-            wanted = {getattr(signal, s) for s in self.SIGNALS if hasattr(signal, s)}
-            self.held = signal.pthread_sigmask(signal.SIG_BLOCK, wanted)
+        self.caught: list[int] = []
+        self.previous: dict[int, object] = {}
+        if threading.current_thread() is threading.main_thread():
+            for name in self.SIGNALS:
+                sig = getattr(signal, name, None)
+                if sig is not None:
+                    self.previous[sig] = signal.signal(sig, lambda s, _f: self.caught.append(s))
         return self
 
     def __exit__(self, *exc):
         import signal
 
-        if self.held is not None:
-            signal.pthread_sigmask(signal.SIG_SETMASK, self.held)
+        for sig, handler in self.previous.items():
+            signal.signal(sig, handler)
+        for sig in dict.fromkeys(self.caught):
+            signal.raise_signal(sig)
 
 
 def check_output_folder(target: str | Path) -> Path:

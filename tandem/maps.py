@@ -10,6 +10,7 @@ import numpy as np
 from .errors import TandemInputError
 from .spectra import PhotonFlux
 from .stack import StackPerformance, step_stack
+from .units import K_B_EV
 
 #: Default map ranges [eV]: wide-gap fronts over the usual back-cell gaps.
 DEFAULT_FRONT = (1.40, 2.30, 0.01)
@@ -49,7 +50,8 @@ class GapMap:
         eff = self.efficiency(terminals)
         if np.all(np.isnan(eff)):
             raise TandemInputError("no valid gap pair in the map: every front gap is at or below "
-                                   "every back gap; widen the front range or lower the back range")
+                                   "every back gap, or every pair is too close to degeneracy "
+                                   "(concentration); widen the front range or lower the back range")
         return np.unravel_index(np.nanargmax(eff), eff.shape)
 
     @property
@@ -74,11 +76,15 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
     for start in range(0, len(pairs), chunk):
         sl = slice(start, start + chunk)
         perf: StackPerformance = step_stack(photon_flux, pairs[sl], temperature_K, ere, ideality)
-        out["e2"][sl] = perf.efficiency_2t
-        out["e4"][sl] = perf.efficiency_4t
+        # points whose subcell would sit within kT of its gap are outside the Boltzmann diode
+        # (see stack.check_boltzmann_regime): left blank, never printed
+        kt = K_B_EV * float(temperature_K)
+        degenerate = np.any(np.maximum(perf.voc, perf.v_2t_sub) > pairs[sl] - kt, axis=-1)
+        out["e2"][sl] = np.where(degenerate, np.nan, perf.efficiency_2t)
+        out["e4"][sl] = np.where(degenerate, np.nan, perf.efficiency_4t)
         out["jf"][sl] = perf.j_light[:, 0]
         out["jb"][sl] = perf.j_light[:, 1]
-        out["voc"][sl] = perf.voc_2t
+        out["voc"][sl] = np.where(degenerate, np.nan, perf.voc_2t)
         if progress:
             progress(min(start + chunk, len(pairs)), len(pairs))
     for k in fields:

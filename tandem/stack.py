@@ -487,6 +487,23 @@ def check_receives_light(j_light, photon_flux: PhotonFlux, what: Sequence[str]) 
                 "choose a lower gap, a thicker layer or a spectrum that covers it")
 
 
+def check_boltzmann_regime(perf: StackPerformance, gaps_eV, temperature_K, what) -> None:
+    """Refuse a result whose subcell operates within kT of its gap.
+
+    The diodes use Boltzmann statistics (J0·e^{qV/kT}); they hold while Eg − qV ≫ kT. A back
+    cell pumped by a strongly coupled front under extreme concentration can be driven past
+    that, where only the full Bose–Einstein emission (not modelled) would keep qV below Eg.
+    """
+    kt = K_B_EV * float(np.max(temperature_K))
+    voltages = np.maximum(perf.voc, perf.v_2t_sub)
+    close = voltages > np.asarray(gaps_eV) - kt
+    if np.any(close):
+        i = int(np.argmax(close))
+        raise TandemInputError(
+            f"{what[i]} would operate at {float(voltages[i]):.4f} V, within kT of its gap, where "
+            "this model's Boltzmann diode does not hold; lower the concentration or the coupling")
+
+
 def check_gap_order(gaps: Sequence[float]) -> None:
     for name, g in zip(("front gap", "back gap"), gaps):
         if not (math.isfinite(g) and g > 0):
@@ -581,6 +598,7 @@ def detailed_balance_limit(
     names = ([f"front subcell ({gaps[0]:g} eV)", f"back subcell ({gaps[1]:g} eV, behind the front)"]
              if len(gaps) == 2 else [f"the cell ({gaps[0]:g} eV)"])
     check_receives_light(perf.j_light, photon_flux, names)
+    check_boltzmann_regime(perf, np.array(gaps), temperature_K, names)
     return DesignResult(gaps, terminals if len(gaps) == 2 else 2, temperature_K,
                         tuple(float(e) for e in ere_values), photon_flux.name, photon_flux.notes,
                         perf, float(ideality), electrical, float(front_index))

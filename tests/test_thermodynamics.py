@@ -168,3 +168,20 @@ def test_a_subcell_without_light_is_refused(tmp_path, am15g):
     res = runner.invoke(app, ["match", str(path), "silicon", "--json", "-q"])
     assert res.exit_code == 2 and res.stdout == ""
     assert "front subcell uv at 4.300 eV" in res.stderr and "Traceback" not in res.stderr
+
+
+def test_a_back_cell_pumped_to_its_gap_is_refused():
+    # a 0.5 eV back under a fully coupled 3 eV front at 1000 blackbody suns would be driven
+    # into degeneracy; the Boltzmann diode cannot describe it, so the limit says so
+    flux = tandem.blackbody_sun(6000.0, 1000.0).photon_flux()
+    from tandem.stack import Electrical
+    with pytest.raises(tandem.TandemInputError, match="within kT of its gap"):
+        tandem.detailed_balance_limit([3.0, 0.5], flux, 2, 250.0,
+                                      electrical=Electrical(1.0, 1.0), front_index=2.0)
+    # at full concentration even a single junction's Boltzmann Voc passes its gap (1.145 V at
+    # 1.1 eV): refused, never printed
+    full = tandem.blackbody_sun(6000.0, 1 / tandem.units.SUN_DILUTION).photon_flux()
+    with pytest.raises(tandem.TandemInputError, match="within kT of its gap"):
+        tandem.detailed_balance_limit([1.1], full, temperature_K=300.0)
+    gap_map = tandem.maps.step_gap_map(full, np.array([1.8, 2.0]), np.array([1.0, 1.1]), 300.0)
+    assert np.all(np.isnan(gap_map.voc_2t) | (gap_map.voc_2t < 2.8))
