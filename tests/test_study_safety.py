@@ -271,6 +271,8 @@ def test_a_relative_spectrum_is_embedded_and_reruns_elsewhere(tmp_path):
 def test_an_interrupt_during_placement_leaves_a_whole_study(study_folder, monkeypatch, exchange):
     path, out = study_folder  # the old study was written without figures
     assert not (out / "figures").exists()
+    # a background job (CI) may start with SIGINT ignored: give it Python's usual Ctrl-C handler
+    previous = signal.signal(signal.SIGINT, signal.default_int_handler)
     real = files._renameat2
 
     def interrupted(src, dst, flags):
@@ -286,8 +288,11 @@ def test_an_interrupt_during_placement_leaves_a_whole_study(study_folder, monkey
             return real_rename(a, b)
 
         monkeypatch.setattr(files.os, "rename", slow_rename)
-    with pytest.raises(KeyboardInterrupt):  # delivered after placement, never swallowed
-        write_study(run_study(load_scenario(path)), out, overwrite=True)
+    try:
+        with pytest.raises(KeyboardInterrupt):  # delivered after placement, never swallowed
+            write_study(run_study(load_scenario(path)), out, overwrite=True)
+    finally:
+        signal.signal(signal.SIGINT, previous)
     assert (out / "figures").is_dir() and (out / "manifest.json").is_file()  # the new one, whole
     assert not list(out.parent.glob(".study.tandem-*"))
 
