@@ -34,6 +34,6 @@ from .spectra import (
 from . import maps, stack
 from .stack import DesignResult, StackPerformance, detailed_balance_limit, evaluate_stack, step_stack
 
-__version__ = "0.1.0"
+__version__ = "0.2.0"
 
 __all__ = [name for name in dir() if not name.startswith("_")]

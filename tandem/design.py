@@ -402,8 +402,6 @@ def tolerance_windows(result: MatchResult, loss_pct: float = 1.0) -> dict:
     The thickness window is read from the best configuration's sweep; the gap window from
     the best configuration of each gap at the same back thickness (None for one gap).
     """
-    from .maps import tolerance_window
-
     sweep = result.best_sweep
     perf = sweep.performance
     eff = 100 * (perf.efficiency_2t if result.terminals == 2 else perf.efficiency_4t)
@@ -423,3 +421,29 @@ def tolerance_windows(result: MatchResult, loss_pct: float = 1.0) -> dict:
         "front_thickness_window_nm": [float(np.exp(d_window[0])), float(np.exp(d_window[1]))],
         "front_gap_window_eV": None if gap_window is None else [float(g) for g in gap_window],
     }
+
+
+def tolerance_window(x, y, loss: float) -> tuple[float, float]:
+    """The interval of x around the maximum of y where y ≥ max(y) − loss.
+
+    Edges are found by linear interpolation between grid points; an edge of the grid is
+    returned as is (the window may reach further). NaN entries end the window.
+    """
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    if not loss >= 0:
+        raise TandemInputError(f"tolerance {loss:g}: give a non-negative loss in % absolute")
+    i = int(np.nanargmax(y))
+    floor = y[i] - loss
+
+    def edge(step: int) -> float:
+        j = i
+        while 0 <= j + step < x.size and np.isfinite(y[j + step]) and y[j + step] >= floor:
+            j += step
+        k = j + step
+        if not (0 <= k < x.size) or not np.isfinite(y[k]):
+            return float(x[j])
+        t = (y[j] - floor) / (y[j] - y[k])
+        return float(x[j] + t * (x[k] - x[j]))
+
+    return edge(-1), edge(+1)

@@ -7,6 +7,7 @@ from typing import Callable
 
 import numpy as np
 
+from .design import _match_thickness, check_design_inputs, stack_performance, tolerance_window  # noqa: F401
 from .errors import TandemInputError
 from .spectra import PhotonFlux
 from .stack import StackPerformance, step_stack
@@ -93,32 +94,6 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
                   fields["voc"], float(temperature_K), photon_flux.name, photon_flux.irradiance)
 
 
-def tolerance_window(x, y, loss: float) -> tuple[float, float]:
-    """The interval of x around the maximum of y where y ≥ max(y) − loss.
-
-    Edges are found by linear interpolation between grid points; an edge of the grid is
-    returned as is (the window may reach further). NaN entries end the window.
-    """
-    x = np.asarray(x, dtype=float)
-    y = np.asarray(y, dtype=float)
-    if not loss >= 0:
-        raise TandemInputError(f"tolerance {loss:g}: give a non-negative loss in % absolute")
-    i = int(np.nanargmax(y))
-    floor = y[i] - loss
-
-    def edge(step: int) -> float:
-        j = i
-        while 0 <= j + step < x.size and np.isfinite(y[j + step]) and y[j + step] >= floor:
-            j += step
-        k = j + step
-        if not (0 <= k < x.size) or not np.isfinite(y[k]):
-            return float(x[j])
-        t = (y[j] - floor) / (y[j] - y[k])
-        return float(x[j] + t * (x[k] - x[j]))
-
-    return edge(-1), edge(+1)
-
-
 def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thickness_nm=None,
                      back_thickness_nm=None, rematch: bool = False, thickness_points: int = 60,
                      progress: Callable[[int, int], None] | None = None):
@@ -128,7 +103,6 @@ def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thick
     thickness, or the two-terminal best where none in range matches); otherwise it is fixed.
     Returns the :class:`GapMap` and the front thickness used at each point [nm].
     """
-    from .design import _match_thickness, check_design_inputs, stack_performance
 
     front, back = design.front, design.back
     front_gaps = np.asarray(front_gaps, dtype=float)
@@ -186,37 +160,3 @@ def map_table(gap_map: GapMap, front_thickness_nm=None):
     if front_thickness_nm is not None:
         table["front_thickness_nm"] = np.asarray(front_thickness_nm)[valid]
     return pd.DataFrame(table)
-
-
-def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
-    """Optimum and tolerance windows of a map, in display units."""
-    from .report import CAUTION
-
-    i, j = gap_map.optimum(terminals)
-    eff = 100 * gap_map.efficiency(terminals)
-    front_window = tolerance_window(gap_map.front_gaps, eff[:, j], tolerance_pct)
-    back_window = (tolerance_window(gap_map.back_gaps, eff[i, :], tolerance_pct)
-                   if gap_map.back_gaps.size > 1 else None)
-    jf, jb = gap_map.j_front[i, j], gap_map.j_back[i, j]
-    return {
-        "optimum": {
-            "front_gap_eV": round(float(gap_map.front_gaps[i]), 4),
-            "back_gap_eV": round(float(gap_map.back_gaps[j]), 4),
-            "efficiency_pct": round(float(eff[i, j]), 4),
-            "terminals": terminals,
-            "efficiency_2t_pct": round(float(100 * gap_map.efficiency_2t[i, j]), 4),
-            "efficiency_4t_pct": round(float(100 * gap_map.efficiency_4t[i, j]), 4),
-            "limiting_subcell": "front" if jf <= jb else "back",
-            "mismatch_pct": round(float(100 * abs(jf - jb) / min(jf, jb)), 3),
-        },
-        "tolerance": {
-            "loss_pct_abs": tolerance_pct,
-            "front_gap_window_eV": [round(v, 4) for v in front_window],
-            "back_gap_window_eV": None if back_window is None else [round(v, 4) for v in back_window],
-        },
-        "grid_points": gap_map.grid_points,
-        "spectrum": gap_map.spectrum,
-        "irradiance_W_m2": round(gap_map.irradiance, 3),
-        "temperature_K": gap_map.temperature_K,
-        "caution": CAUTION,
-    }

@@ -1,19 +1,38 @@
-"""Figures people read: matplotlib (Agg), written whole or not at all."""
+"""Figures people read, written whole or not at all.
+
+Figures are built with matplotlib's object interface (``matplotlib.figure.Figure``), never
+through pyplot: importing this module or drawing a figure never changes a notebook's backend
+or its list of open figures. ``draw_*`` functions return the Figure; ``*_figure`` functions
+also write it.
+"""
 
 from __future__ import annotations
 
 from pathlib import Path
 
-import matplotlib
 import matplotlib.ticker
+import numpy as np
+from matplotlib.figure import Figure
 
-matplotlib.use("Agg")
-import matplotlib.pyplot as plt  # noqa: E402
-import numpy as np  # noqa: E402
+from .design import MatchResult, stack_light
+from .files import write_whole
+from .units import HC_EV_NM, MA_CM2_PER_A_M2
 
-from .design import MatchResult, stack_light  # noqa: E402
-from .files import write_whole  # noqa: E402
-from .units import HC_EV_NM, MA_CM2_PER_A_M2  # noqa: E402
+
+class _Pyplotless:
+    """The two pyplot calls this module used, on bare Figures (no backend, no registry)."""
+
+    @staticmethod
+    def subplots(*args, figsize=None, **kwargs):
+        fig = Figure(figsize=figsize)
+        return fig, fig.subplots(*args, **kwargs)
+
+    @staticmethod
+    def close(fig):
+        pass
+
+
+plt = _Pyplotless()
 
 FRONT_COLOUR, BACK_COLOUR, SUN_COLOUR = "#1f77b4", "#d62728", "0.85"
 

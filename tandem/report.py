@@ -5,10 +5,19 @@ Keys carry their unit (``_pct``, ``_V``, ``_mA_cm2``, ``_W_m2``, ``_eV``, ``_K``
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import math
 
+import numpy as np
+
+from .design import tolerance_window
 from .stack import SUBCELL_NAMES, DesignResult
 from .units import MA_CM2_PER_A_M2
+
+if TYPE_CHECKING:
+    from .maps import GapMap
+    from .yields import HourlyDesign, YieldSweep
 
 CAUTION = ("Modelling limits from detailed balance, not certified measurements; "
            "real devices fall short of them.")
@@ -186,3 +195,87 @@ def absorber_summary(a) -> dict:
         "sources": a.sources,
     }
     return out
+
+
+def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
+    """Optimum and tolerance windows of a map, in display units."""
+    i, j = gap_map.optimum(terminals)
+    eff = 100 * gap_map.efficiency(terminals)
+    front_window = tolerance_window(gap_map.front_gaps, eff[:, j], tolerance_pct)
+    back_window = (tolerance_window(gap_map.back_gaps, eff[i, :], tolerance_pct)
+                   if gap_map.back_gaps.size > 1 else None)
+    jf, jb = gap_map.j_front[i, j], gap_map.j_back[i, j]
+    return {
+        "optimum": {
+            "front_gap_eV": round(float(gap_map.front_gaps[i]), 4),
+            "back_gap_eV": round(float(gap_map.back_gaps[j]), 4),
+            "efficiency_pct": round(float(eff[i, j]), 4),
+            "terminals": terminals,
+            "efficiency_2t_pct": round(float(100 * gap_map.efficiency_2t[i, j]), 4),
+            "efficiency_4t_pct": round(float(100 * gap_map.efficiency_4t[i, j]), 4),
+            "limiting_subcell": "front" if jf <= jb else "back",
+            "mismatch_pct": round(float(100 * abs(jf - jb) / min(jf, jb)), 3),
+        },
+        "tolerance": {
+            "loss_pct_abs": tolerance_pct,
+            "front_gap_window_eV": [round(v, 4) for v in front_window],
+            "back_gap_window_eV": None if back_window is None else [round(v, 4) for v in back_window],
+        },
+        "grid_points": gap_map.grid_points,
+        "spectrum": gap_map.spectrum,
+        "irradiance_W_m2": round(gap_map.irradiance, 3),
+        "temperature_K": gap_map.temperature_K,
+        "caution": CAUTION,
+    }
+
+
+def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
+    """Totals and optima in display units (the `tandem yield --json` keys)."""
+    i, j = sweep.optimum
+    a, b = sweep.am15_optimum
+    i4, j4 = sweep.optimum_4t
+    e2, e4 = float(sweep.energy_2t[i, j]), float(sweep.energy_4t[i, j])
+    months = best.times.month
+    monthly = {}
+    for m in sorted(set(months)):
+        sel = months == m
+        monthly[int(m)] = {"energy_2t_kWh_m2": round(float(best.p_2t[sel] @ best.step_hours[sel]) / 1000, 3),
+                           "energy_4t_kWh_m2": round(float(best.p_4t[sel] @ best.step_hours[sel]) / 1000, 3),
+                           "insolation_kWh_m2": round(float(best.irradiance[sel] @ best.step_hours[sel]) / 1000, 3)}
+    front_limits = float(np.sum(best.step_hours[best.j_front < best.j_back] * best.irradiance[best.j_front < best.j_back])
+                         / max(np.sum(best.step_hours * best.irradiance), 1e-300))
+    return {
+        "front": sweep.design.front.key,
+        "back": sweep.design.back.key,
+        "source": sweep.series.source,
+        "source_notes": list(sweep.series.notes),
+        "steps": int(sweep.series.times.size),
+        "insolation_kWh_m2": round(sweep.insolation, 3),
+        "energy_optimum": {
+            "front_gap_eV": round(float(sweep.gaps[i]), 4),
+            "front_thickness_nm": round(float(sweep.thicknesses[j]), 1),
+            "energy_2t_kWh_m2": round(e2, 3),
+            "energy_4t_kWh_m2": round(e4, 3),
+            "energy_weighted_efficiency_2t_pct": round(100 * e2 / sweep.insolation, 3),
+            "energy_weighted_efficiency_4t_pct": round(100 * e4 / sweep.insolation, 3),
+            "mismatch_loss_kWh_m2": round(e4 - e2, 3),
+            "mismatch_loss_pct": round(100 * (e4 - e2) / e4, 3),
+            "share_of_light_with_front_limiting_pct": round(100 * front_limits, 2),
+        },
+        "energy_optimum_4t": {
+            "front_gap_eV": round(float(sweep.gaps[i4]), 4),
+            "front_thickness_nm": round(float(sweep.thicknesses[j4]), 1),
+            "energy_4t_kWh_m2": round(float(sweep.energy_4t[i4, j4]), 3),
+        },
+        "am15g_optimum": {
+            "front_gap_eV": round(float(sweep.gaps[a]), 4),
+            "front_thickness_nm": round(float(sweep.thicknesses[b]), 1),
+            "efficiency_2t_pct": round(100 * float(sweep.efficiency_am15_2t[a, b]), 3),
+            "energy_2t_kWh_m2": round(float(sweep.energy_2t[a, b]), 3),
+            "energy_4t_kWh_m2": round(float(sweep.energy_4t[a, b]), 3),
+        },
+        "back_thickness_nm": sweep.back_thickness_nm,
+        "monthly": monthly,
+        "grid": {"front_gaps": int(sweep.gaps.size), "front_thicknesses": int(sweep.thicknesses.size)},
+        "caution": CAUTION,
+    }

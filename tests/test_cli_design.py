@@ -6,7 +6,7 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from cli import app
+from tandem.cli import app
 
 runner = CliRunner()
 CDTE = (tandem.files.bundled_dir("absorbers") / "cdte.toml").read_text()

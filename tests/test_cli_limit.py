@@ -5,7 +5,7 @@ import json
 import pytest
 from typer.testing import CliRunner
 
-from cli import app
+from tandem.cli import app
 
 runner = CliRunner()
 

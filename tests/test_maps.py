@@ -7,7 +7,7 @@ import pandas as pd
 import pytest
 from typer.testing import CliRunner
 
-from cli import app
+from tandem.cli import app
 from tandem.maps import gap_axis, step_gap_map, tolerance_window
 
 

@@ -8,7 +8,7 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from cli import app
+from tandem.cli import app
 from tandem.design import Conditions, StackDesign, stack_performance
 from tandem.scatter import scatter
 from tandem.sky import (G173_AEROSOL_500NM, G173_OZONE_ATM_CM, G173_WATER_CM, Site, SpectralSeries,

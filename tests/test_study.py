@@ -8,7 +8,7 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from cli import app
+from tandem.cli import app
 from tandem.study import bundled_scenarios, load_scenario, run_study, study_rows_equal, write_study
 
 runner = CliRunner()

@@ -15,7 +15,7 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from cli import app
+from tandem.cli import app
 from tandem import files
 from tandem.study import (load_scenario, manifest_checksum, run_study, study_rows_equal,
                           write_study)

@@ -11,7 +11,7 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from cli import app
+from tandem.cli import app
 from tandem import detailed_balance as db
 from tandem.design import Conditions, StackDesign, operating_gaps, stack_performance
 from tandem.sky import STANDARD_SITE, _g173_global, _mean_distance_factor, anchored_poa, standard_zenith_deg
