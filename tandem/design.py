@@ -202,6 +202,7 @@ class MatchResult:
     terminals: int
     n_evaluated: int = 0
     notes: tuple[str, ...] = field(default=())
+    sweeps: tuple = ()  #: every (front gap, back thickness) sweep, in evaluation order
 
 
 def _match_thickness(design, cond, gap, d_grid, back_d, currents,
@@ -359,7 +360,7 @@ def match_currents(
     key = (lambda c: c.efficiency_2t) if terminals == 2 else (lambda c: c.efficiency_4t)
     order = sorted(range(len(configs)), key=lambda i: key(configs[i]), reverse=True)
     return MatchResult(design, cond, [configs[i] for i in order], sweeps[order[0]], best4,
-                       terminals, n_evaluated=total * thickness_points)
+                       terminals, n_evaluated=total * thickness_points, sweeps=tuple(sweeps))
 
 
 def subcell_name(index: int) -> str:

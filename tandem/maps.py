@@ -10,7 +10,7 @@ import numpy as np
 from .design import _match_thickness, check_design_inputs, stack_performance, tolerance_window  # noqa: F401
 from .errors import TandemInputError
 from .spectra import PhotonFlux
-from .stack import StackPerformance, step_stack
+from .stack import IDEAL, StackPerformance, step_stack
 from .units import K_B_EV
 
 #: Default map ranges [eV]: wide-gap fronts over the usual back-cell gaps.
@@ -62,7 +62,8 @@ class GapMap:
 
 def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=298.15,
                  ere=(1.0, 1.0), ideality=1.0, chunk: int = 250_000,
-                 progress: Callable[[int, int], None] | None = None) -> GapMap:
+                 progress: Callable[[int, int], None] | None = None, electrical=None,
+                 front_index: float = 3.5, absorbed_share=(1.0, 1.0)) -> GapMap:
     """Detailed-balance map of step-absorber stacks, computed in chunks of ``chunk`` pairs."""
     front_gaps = np.asarray(front_gaps, dtype=float)
     back_gaps = np.asarray(back_gaps, dtype=float)
@@ -76,7 +77,8 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
     ere = np.asarray(ere, dtype=float)
     for start in range(0, len(pairs), chunk):
         sl = slice(start, start + chunk)
-        perf: StackPerformance = step_stack(photon_flux, pairs[sl], temperature_K, ere, ideality)
+        perf: StackPerformance = step_stack(photon_flux, pairs[sl], temperature_K, ere, ideality,
+                                            electrical or IDEAL, front_index, absorbed_share)
         # points whose subcell would sit within kT of its gap are outside the Boltzmann diode
         # (see stack.check_boltzmann_regime): left blank, never printed
         kt = K_B_EV * float(temperature_K)

@@ -48,11 +48,22 @@ def _save(fig, path, overwrite):
 
 
 def match_figure(result: MatchResult, path, overwrite: bool = False, tolerance=None) -> Path:
-    """Subcell currents against front thickness, and absorptance against wavelength."""
+    """Write :func:`draw_match` to ``path`` (PNG or SVG), whole or not at all."""
+    return _save(draw_match(result, tolerance), path, overwrite)
+
+
+def draw_match(result: MatchResult, tolerance=None, ax=None) -> Figure:
+    """Subcell currents against front thickness, and absorptance against wavelength.
+
+    With ``ax``, only the currents are drawn, into that axes; its Figure is returned.
+    """
     sweep = result.best_sweep
     best = result.configurations[0]
     design, cond = result.design, result.conditions
-    fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(11, 4.2))
+    if ax is None:
+        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(11, 4.2))
+    else:
+        fig, ax1, ax2 = ax.figure, ax, None
     d = sweep.front_thickness_nm
     j = sweep.performance.j_light * MA_CM2_PER_A_M2
     ax1.plot(d, j[:, 0], color=FRONT_COLOUR, label=f"front: {design.front.name}")
@@ -81,6 +92,8 @@ def match_figure(result: MatchResult, path, overwrite: bool = False, tolerance=N
     ax1.set_title(f"front gap {sweep.front_gap_eV:.3f} eV, back {back_text}", fontsize=10)
     ax1.legend(fontsize=8, loc="lower center", framealpha=0.9)
     ax1.grid(alpha=0.3)
+    if ax2 is None:
+        return fig
 
     e = cond.photon_flux.energy
     light = stack_light(design, e, best.front_gap_eV, best.front_thickness_nm,
@@ -102,7 +115,7 @@ def match_figure(result: MatchResult, path, overwrite: bool = False, tolerance=N
     ax2.legend(fontsize=8, loc="upper right", framealpha=0.9)
     ax2.grid(alpha=0.3)
     fig.suptitle("Modelling limits, not measurements", fontsize=8, x=0.99, ha="right", color="0.4")
-    return _save(fig, path, overwrite)
+    return fig
 
 
 def _front_current_at(result: MatchResult, thickness_nm: float) -> float:
@@ -130,14 +143,19 @@ def absorber_figure(absorber, path, overwrite: bool = False) -> Path:
     return _save(fig, path, overwrite)
 
 
-def _map_axes_figure(gap_map, terminals, tolerance_pct, marks):
-    from .maps import tolerance_window
+def draw_map(gap_map, terminals, tolerance_pct=1.0, marks=(), ax=None) -> Figure:
+    """Efficiency over front × back gaps (or a line for one back gap), optimum and window."""
+    return _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax)
+
+
+def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None):
+    from .design import tolerance_window
 
     eff = 100 * gap_map.efficiency(terminals)
     i, j = gap_map.optimum(terminals)
     fg, bg = gap_map.front_gaps, gap_map.back_gaps
     if bg.size == 1:  # one-dimensional scan
-        fig, ax = plt.subplots(figsize=(6.5, 4.2))
+        fig, ax = plt.subplots(figsize=(6.5, 4.2)) if ax is None else (ax.figure, ax)
         ax.plot(fg, 100 * gap_map.efficiency_2t[:, 0], color=FRONT_COLOUR, label="two-terminal")
         ax.plot(fg, 100 * gap_map.efficiency_4t[:, 0], color=BACK_COLOUR, ls="--",
                 label="four-terminal")
@@ -157,7 +175,7 @@ def _map_axes_figure(gap_map, terminals, tolerance_pct, marks):
         ax.legend(fontsize=8)
         ax.grid(alpha=0.3)
         return fig
-    fig, ax = plt.subplots(figsize=(7, 5.6))
+    fig, ax = plt.subplots(figsize=(7, 5.6)) if ax is None else (ax.figure, ax)
     B, F = np.meshgrid(bg, fg)
     best = np.nanmax(eff)
     levels = np.arange(np.floor(np.nanmin(eff)), np.ceil(best) + 0.5, 0.5)
@@ -262,8 +280,19 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False) -> l
     ax.legend(fontsize=8)
     ax.grid(alpha=0.3, axis="y")
     figs["-monthly"] = fig
-    # --- yield map over gap × thickness
-    fig, ax = plt.subplots(figsize=(6.5, 4.6))
+    figs["-map"] = draw_yield_map(sweep)
+    for f in figs.values():
+        f.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
+    writers = {}
+    for suffix, f in figs.items():
+        writers[prefix.parent / f"{prefix.name}{suffix}.png"] = (
+            lambda p, f=f: f.savefig(p, dpi=150, bbox_inches="tight", format="png"))
+    return write_all_whole(writers, overwrite)
+
+
+def draw_yield_map(sweep, ax=None) -> Figure:
+    """Two-terminal energy over front gap × thickness, with both optima marked."""
+    fig, ax = plt.subplots(figsize=(6.5, 4.6)) if ax is None else (ax.figure, ax)
     if sweep.gaps.size > 1 and sweep.thicknesses.size > 1:
         D, G = np.meshgrid(sweep.thicknesses, sweep.gaps)
         filled = ax.contourf(D, G, sweep.energy_2t, levels=20, cmap="viridis")
@@ -280,24 +309,19 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False) -> l
     ax.set_xlabel("front thickness [nm]")
     ax.set_ylabel("front gap at 25 °C [eV]")
     ax.legend(fontsize=8, loc="lower right")
-    figs["-map"] = fig
-    for f in figs.values():
-        f.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
-    writers = {}
-    for suffix, f in figs.items():
-        writers[prefix.parent / f"{prefix.name}{suffix}.png"] = (
-            lambda p, f=f: f.savefig(p, dpi=150, bbox_inches="tight", format="png"))
-    try:
-        return write_all_whole(writers, overwrite)
-    finally:
-        for f in figs.values():
-            plt.close(f)
+    return fig
 
 
 def scatter_figure(result, terminals, target_pct, path, overwrite: bool = False) -> Path:
+    """Write :func:`draw_spread` to ``path``."""
+    return _save(draw_spread(result, terminals, target_pct), path, overwrite)
+
+
+def draw_spread(result, terminals=2, target_pct=None, ax=None) -> Figure:
+    """Histogram of the fabrication spread with its percentiles, the nominal and a target."""
     eff = 100 * (result.efficiency_2t if terminals == 2 else result.efficiency_4t)
     nominal = 100 * (result.nominal_2t if terminals == 2 else result.nominal_4t)
-    fig, ax = plt.subplots(figsize=(6.5, 4))
+    fig, ax = plt.subplots(figsize=(6.5, 4)) if ax is None else (ax.figure, ax)
     ax.hist(eff, bins=60, color=FRONT_COLOUR, alpha=0.8)
     p10, p50, p90 = np.percentile(eff, [10, 50, 90])
     for v, name in ((p10, "P10"), (p50, "P50"), (p90, "P90")):
@@ -312,4 +336,34 @@ def scatter_figure(result, terminals, target_pct, path, overwrite: bool = False)
     ax.set_ylabel("devices")
     ax.legend(fontsize=8, loc="upper left")
     fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
-    return _save(fig, path, overwrite)
+    return fig
+
+
+def draw_limit(result, ax=None) -> Figure:
+    """Current–voltage curves of each subcell (and the series stack) with maximum power points.
+
+    ``result`` is a :class:`~tandem.stack.DesignResult`.
+    """
+    from .detailed_balance import two_diode_current
+
+    perf = result.performance
+    fig, ax = plt.subplots(figsize=(6.5, 4.2)) if ax is None else (ax.figure, ax)
+    names = ("front", "back") if result.n_subcells == 2 else ("cell",)
+    colours = (FRONT_COLOUR, BACK_COLOUR)
+    for i, name in enumerate(names):
+        v = np.linspace(0.0, float(perf.voc[i]), 400)
+        j = two_diode_current(v, perf.j_light[i], perf.j0_radiative[i], perf.j0_nonradiative[i],
+                              perf.ideality, result.temperature_K)
+        ax.plot(v, j * MA_CM2_PER_A_M2, color=colours[i], label=f"{name} {result.gaps_eV[i]:.3f} eV")
+        ax.plot([perf.v_own[i]], [perf.j_own[i] * MA_CM2_PER_A_M2], "o", color=colours[i])
+    if result.n_subcells == 2:
+        ax.plot([float(perf.v_2t)], [float(perf.j_2t) * MA_CM2_PER_A_M2], "k*", ms=11,
+                label=f"series maximum power: {100 * float(perf.efficiency_2t):.2f} %")
+    ax.set_xlabel("voltage [V]")
+    ax.set_ylabel("current density [mA/cm²]")
+    ax.set_ylim(0, None)
+    ax.set_xlim(0, None)
+    ax.set_title(f"{result.spectrum_name}, cell {result.temperature_K:g} K", fontsize=9)
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3)
+    return fig

@@ -24,7 +24,6 @@ import pandas as pd
 
 from .errors import TandemInputError
 from .spectra import _astm_g173, _to_energy, conserving_grid, read_spectrum_csv
-from .units import HC_EV_NM, Q
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
 G173_AEROSOL_500NM = 0.084  #: aerosol optical depth at 500 nm [-]

@@ -388,19 +388,23 @@ def resistive_mpp(j_light, j0, temperature_K, electrical: Electrical):
 
 
 def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0,
-               electrical: Electrical = IDEAL, front_index: float = DEFAULT_FRONT_INDEX):
+               electrical: Electrical = IDEAL, front_index: float = DEFAULT_FRONT_INDEX,
+               absorbed_share=1.0):
     """Detailed-balance stacks of step absorbers; ``gaps`` has subcells on its last axis.
 
     Each subcell absorbs every photon between its own gap and the gap of the cell in front
     of it, and by reciprocity emits (radiatively) in the same band (De Vos 1980).
-    ``ere`` broadcasts against ``gaps`` (one value, or one per subcell).
+    ``ere`` broadcasts against ``gaps`` (one value, or one per subcell). ``absorbed_share``
+    (per subcell) scales each subcell's absorptance for flat optical losses; by reciprocity it
+    scales its photocurrent and its radiative J0 alike.
     """
     gaps = np.asarray(gaps, dtype=float)
     cumulative = db.cumulative_flux(photon_flux.energy, photon_flux.flux)
     upper = np.concatenate([np.full(gaps.shape[:-1] + (1,), np.inf), gaps[..., :-1]], axis=-1)
     upper_finite = np.where(np.isinf(upper), photon_flux.energy[-1], upper)
-    j_light = db.step_photocurrent(photon_flux, gaps, upper_finite, cumulative)
-    j0_rad = db.step_radiative_dark_current(gaps, temperature_K, upper)
+    share = np.asarray(absorbed_share, dtype=float)
+    j_light = db.step_photocurrent(photon_flux, gaps, upper_finite, cumulative) * share
+    j0_rad = db.step_radiative_dark_current(gaps, temperature_K, upper) * share
     return evaluate_stack(j_light, j0_rad, temperature_K, photon_flux.irradiance, ere, ideality,
                           electrical, front_index)
 
@@ -561,6 +565,7 @@ def detailed_balance_limit(
     ideality: float = 1.0,
     electrical: Electrical = IDEAL,
     front_index: float = DEFAULT_FRONT_INDEX,
+    absorbed_share=1.0,
 ) -> DesignResult:
     """Validate one design given as band gaps (front first) and compute its limit.
 
@@ -586,7 +591,7 @@ def detailed_balance_limit(
             raise TandemInputError(f"front and back gaps are both {gaps[0]:g} eV: the back cell "
                                    "would get no light; give the front a wider gap")
         swapped = step_stack(photon_flux, np.array(gaps[::-1]), temperature_K,
-                             ere_values[::-1], ideality, electrical, front_index)
+                             ere_values[::-1], ideality, electrical, front_index, absorbed_share)
         eff = float(swapped.p_2t if terminals == 2 else swapped.p_4t) / swapped.irradiance
         raise TandemInputError(
             f"front gap {gaps[0]:g} eV is below back gap {gaps[1]:g} eV: the order looks "
@@ -594,7 +599,7 @@ def detailed_balance_limit(
             f"gives {100 * eff:.2f} % ({terminals}T): run 'tandem limit {gaps[1]:g} {gaps[0]:g}'"
         )
     perf = step_stack(photon_flux, np.array(gaps), temperature_K, ere_values, ideality, electrical,
-                      front_index)
+                      front_index, np.broadcast_to(absorbed_share, (len(gaps),)))
     names = ([f"front subcell ({gaps[0]:g} eV)", f"back subcell ({gaps[1]:g} eV, behind the front)"]
              if len(gaps) == 2 else [f"the cell ({gaps[0]:g} eV)"])
     check_receives_light(perf.j_light, photon_flux, names)

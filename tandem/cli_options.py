@@ -1,0 +1,215 @@
+"""The command line's shared options, declared once, and the helpers that map them to inputs.
+
+Every computing command takes the same light and operating options (:func:`shared` adds them);
+the builders turn them into :class:`~tandem.inputs.Light` and
+:class:`~tandem.inputs.OperatingPoint`, where they are validated.
+"""
+
+from __future__ import annotations
+
+import functools
+import json
+import math
+import sys
+from typing import Annotated, Optional
+
+import shutil
+
+import typer
+from rich.console import Console
+from rich.markup import escape
+from rich.table import Table
+
+import tandem
+from tandem.errors import TandemInputError
+
+# Piped output is not cut to 80 columns: tables stay readable in files and logs.
+_WIDTH = shutil.get_terminal_size((150, 24)).columns
+out = Console(width=_WIDTH)
+err = Console(stderr=True, width=_WIDTH)
+
+# --------------------------------------------------------------------------------------
+# Options declared once
+# --------------------------------------------------------------------------------------
+
+def _opt(*names, **kw):
+    return typer.Option(*names, **kw)
+
+
+Spectrum = Annotated[str, _opt("--spectrum", "-s", help="am1.5g, am1.5d, am0, blackbody, or a CSV "
+                               "file (wavelength nm, W m^-2 nm^-1).")]
+Concentration = Annotated[float, _opt(help="Suns of concentration (blackbody: up to about 46,200).")]
+SunTemperature = Annotated[float, _opt(help="Blackbody sun temperature in K.")]
+Irradiance = Annotated[Optional[float], _opt(help="Rescale the spectrum to this many W/m^2 "
+                                             "(reported).")]
+Temperature = Annotated[Optional[float], _opt(help="Cell temperature in K (default 298.15; yield: "
+                                              "the SAPM model per step).")]
+Terminals = Annotated[int, _opt("--terminals", "-t", help="2 (series, one current) or 4 "
+                                "(independent); ranks designs.")]
+Ere = Annotated[Optional[str], _opt(help="External radiative efficiency in (0, 1]: one value or "
+                                    "front,back; overrides the absorbers' own.")]
+Ideality = Annotated[float, _opt(help="Ideality of the non-radiative diode (radiative is n = 1).")]
+Coupling = Annotated[float, _opt(help="Luminescent coupling: share of the front's emission towards "
+                                 "the back that the back collects (implies --rear-emission).")]
+RearEmission = Annotated[bool, _opt("--rear-emission", help="Count the front's emission towards "
+                                    "the back (n^2 x front face) as a loss.")]
+FrontIndex = Annotated[float, _opt(help="Refractive index of a step-absorber front (rear emission).")]
+Series = Annotated[float, _opt(help="Series resistance in ohm cm^2.")]
+Shunt = Annotated[float, _opt(help="Shunt resistance in ohm cm^2 (inf: none).")]
+Reflectance = Annotated[str, _opt(help="Front reflectance: a fraction, or a CSV of wavelength nm, "
+                                  "fraction.")]
+FrontParasitic = Annotated[str, _opt(help="Absorbed in the front contact: fraction or CSV.")]
+InterParasitic = Annotated[str, _opt(help="Absorbed between the subcells: fraction or CSV.")]
+Json = Annotated[bool, _opt("--json", help="Print one JSON object on stdout only.")]
+Quiet = Annotated[bool, _opt("--quiet", "-q", help="No progress bar.")]
+Overwrite = Annotated[bool, _opt(help="Replace outputs this command wrote before.")]
+Plot = Annotated[Optional[str], _opt(help="Write the figure to this PNG or SVG file.")]
+
+#: the shared option names (a test checks every computing command takes all of them)
+SHARED = ("spectrum", "concentration", "sun_temperature", "irradiance", "temperature",
+          "terminals", "ere", "ideality", "coupling", "rear_emission", "front_index",
+          "series_resistance", "shunt_resistance", "reflectance", "front_parasitic",
+          "interlayer_parasitic")
+
+
+def _light(o: dict) -> tandem.Light:
+    return tandem.Light(source=o["spectrum"], concentration=o["concentration"],
+                        sun_temperature_K=o["sun_temperature"], irradiance_W_m2=o["irradiance"])
+
+
+def _operating(o: dict, temperature_default: float = 298.15) -> tandem.OperatingPoint:
+    from tandem.stack import Electrical
+
+    t = temperature_default if o["temperature"] is None else o["temperature"]
+    return tandem.OperatingPoint(
+        temperature_K=t, terminals=o["terminals"], ideality=o["ideality"],
+        ere=None if o["ere"] is None else _floats(o["ere"], "--ere"),
+        electrical=Electrical(o["coupling"], o["series_resistance"], o["shunt_resistance"],
+                              o["rear_emission"]),
+        front_index=o["front_index"], reflectance=o["reflectance"],
+        front_parasitic=o["front_parasitic"], interlayer_parasitic=o["interlayer_parasitic"])
+
+
+def shared(command):
+    """Give ``command`` the shared light and operating options (declared once, above)."""
+    import inspect
+
+    defaults = {"spectrum": (Spectrum, "am1.5g"), "concentration": (Concentration, 1.0),
+                "sun_temperature": (SunTemperature, 6000.0), "irradiance": (Irradiance, None),
+                "temperature": (Temperature, None), "terminals": (Terminals, 2),
+                "ere": (Ere, None), "ideality": (Ideality, 1.0), "coupling": (Coupling, 0.0),
+                "rear_emission": (RearEmission, False), "front_index": (FrontIndex, 3.5),
+                "series_resistance": (Series, 0.0), "shunt_resistance": (Shunt, math.inf),
+                "reflectance": (Reflectance, "0"), "front_parasitic": (FrontParasitic, "0"),
+                "interlayer_parasitic": (InterParasitic, "0")}
+    sig = inspect.signature(command, eval_str=True)  # typer reads __signature__ as it stands
+    own = [p for p in sig.parameters.values() if p.name != "o"]
+    extra = [inspect.Parameter(k, inspect.Parameter.KEYWORD_ONLY, annotation=a, default=d)
+             for k, (a, d) in defaults.items()]
+
+    @functools.wraps(command)
+    def wrapper(*args, **kwargs):
+        o = {k: kwargs.pop(k) for k in SHARED}
+        return command(*args, o=o, **kwargs)
+
+    wrapper.__signature__ = sig.replace(parameters=[
+        p.replace(kind=inspect.Parameter.KEYWORD_ONLY) for p in own] + extra)
+    return wrapper
+
+
+def _floats(text: str, option: str) -> tuple[float, ...]:
+    try:
+        return tuple(float(x) for x in str(text).split(",") if x.strip())
+    except ValueError:
+        raise TandemInputError(f"{option} '{text}': give numbers separated by commas, e.g. "
+                               "0.01,0.001") from None
+
+
+def _thickness(text: str, option: str) -> float:
+    """'500', '500nm', '160um' or '160µm' → nm."""
+    t, scale = text.strip().lower().replace("µ", "u"), 1.0
+    if t.endswith("um"):
+        t, scale = t[:-2], 1000.0
+    elif t.endswith("nm"):
+        t = t[:-2]
+    try:
+        value = float(t) * scale
+    except ValueError:
+        raise TandemInputError(f"{option} '{text}': give a thickness such as 500nm or 160um") from None
+    if not (value > 0 and math.isfinite(value)):
+        raise TandemInputError(f"{option} '{text}': a thickness must be positive")
+    return value
+
+
+def _range(text: str, option: str, parse=float) -> tuple:
+    parts = text.split(":")
+    if len(parts) not in (2, 3):
+        raise TandemInputError(f"{option} '{text}': give low:high or low:high:step")
+    try:
+        return tuple(parse(p) for p in parts)
+    except ValueError:
+        raise TandemInputError(f"{option} '{text}': give numbers as low:high or low:high:step") from None
+
+
+def _gaps(text, option, default_step=0.02):
+    if text is None:
+        return None
+    if ":" not in text:
+        g = _floats(text, option)[0]
+        return (g, g, 1.0)
+    lo, hi, *step = _range(text, option)
+    return (lo, hi, step[0] if step else default_step)
+
+
+
+def _progress(quiet: bool, label: str):
+    from contextlib import nullcontext
+
+    if quiet:
+        return nullcontext(None)
+    from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
+
+    return Progress(TextColumn(label), BarColumn(), TextColumn("{task.completed}/{task.total}"),
+                    TimeRemainingColumn(), console=err, transient=True)
+
+
+def _callback(bar):
+    if bar is None:
+        return None
+    task = bar.add_task("sweep", total=None)
+    return lambda done, total: bar.update(task, completed=done, total=total)
+
+
+def _table(title, columns, rows, caption=None) -> Table:
+    """A rich table from (heading, function of a row) pairs; text is never markup."""
+    table = Table(title=escape(title), title_justify="left", caption=caption)
+    for heading, _ in columns:
+        table.add_column(heading, justify="right")
+    for row in rows:
+        table.add_row(*[escape(str(fn(row))) for _, fn in columns])
+    return table
+
+
+
+def _f(key, fmt="{:.2f}", none="—"):
+    return lambda r: none if r.get(key) is None else fmt.format(r[key])
+
+
+def _emit_json(payload: dict) -> None:
+    try:
+        text = json.dumps(payload, indent=2, allow_nan=False, ensure_ascii=False)
+    except ValueError:
+        raise TandemInputError("the result holds a number that is not finite; please report "
+                               "the command that produced it") from None
+    sys.stdout.write(text + "\n")
+
+
+def _say(*lines) -> None:
+    for line in lines:
+        out.print(escape(line), highlight=False, soft_wrap=True)
+
+
+def _write_plot(result, path, overwrite):
+    from tandem.plots import _save
+
+    err.print(f"wrote {escape(str(_save(result.plot(), path, overwrite)))}")

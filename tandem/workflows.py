@@ -1,0 +1,533 @@
+"""One function per job, on typed inputs, returning result objects.
+
+Every front end (the command line, scenario studies, a notebook) calls these; each result has
+``summary()`` (the plain dict ``--json`` prints), ``to_frame()`` (a pandas DataFrame, units in
+the column names), ``to_dataset()`` where the result is gridded (an xarray Dataset, the swept
+quantities as dimensions with their units, the conditions as attributes) and ``plot(ax=None)``
+(a matplotlib Figure; the backend is never changed).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable, Sequence
+
+import numpy as np
+
+from .absorbers import Absorber, load_absorber
+from .design import (Conditions, MatchResult, OrderVerdict, StackDesign, match_currents,
+                     tolerance_windows, which_in_front)
+from .inputs import Light, OperatingPoint, Sweep
+from .maps import DEFAULT_BACK, DEFAULT_FRONT, GapMap, absorber_gap_map, gap_axis, map_table, step_gap_map
+from .report import (absorber_summary, design_summary, map_summary, match_summary,
+                     yield_summary, _configuration)
+from .stack import DesignResult, detailed_balance_limit
+
+Progress = Callable[[int, int], None]
+
+
+def _frame(rows):
+    import pandas as pd
+
+    return pd.DataFrame(rows)
+
+
+def _conditions_attrs(light_name: str, temperature_K: float, terminals: int, **extra) -> dict:
+    attrs = {"spectrum": light_name, "temperature_K": float(temperature_K),
+             "terminals": int(terminals)}
+    attrs.update({k: v for k, v in extra.items() if v is not None})
+    return attrs
+
+
+def _absorber(a: Absorber | str) -> Absorber:
+    return a if isinstance(a, Absorber) else load_absorber(a)
+
+
+def _pair(front, back, operating: OperatingPoint) -> tuple[Absorber, Absorber]:
+    """The two absorbers, with the operating point's ERE in place of theirs if it gives one."""
+    from dataclasses import replace
+
+    a_front, a_back = _absorber(front), _absorber(back)
+    if operating.ere is not None:
+        ere = operating.ere * 2 if len(operating.ere) == 1 else operating.ere
+        a_front = replace(a_front, ere=ere[0], ere_origin="given on the command line")
+        a_back = replace(a_back, ere=ere[1], ere_origin="given on the command line")
+    return a_front, a_back
+
+
+# --------------------------------------------------------------------------------------
+# limit
+# --------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class LimitResult:
+    """The detailed-balance limit of one design (:func:`limit`)."""
+
+    design: DesignResult
+
+    @property
+    def efficiency(self) -> float:
+        """Efficiency of the chosen connection (2T or 4T) [-]."""
+        return self.design.efficiency
+
+    def summary(self) -> dict:
+        return design_summary(self.design)
+
+    def to_frame(self):
+        """One row per subcell: gap [eV], Jsc [mA/cm²], Voc [V], FF [%], power share [%]."""
+        return _frame([{k: v for k, v in sub.items()} for sub in self.summary()["subcells"]])
+
+    def plot(self, ax=None):
+        from .plots import draw_limit
+
+        return draw_limit(self.design, ax)
+
+
+def limit(gaps: Sequence[float], light: Light = Light(),
+          operating: OperatingPoint = OperatingPoint()) -> LimitResult:
+    """Detailed-balance limit of a single junction or a two-junction stack of step absorbers.
+
+    Parameters
+    ----------
+    gaps : sequence of float
+        Band gaps [eV], front (sunward) first; one gap for a single junction.
+    light : Light
+        The spectrum.
+    operating : OperatingPoint
+        Cell temperature, terminals, ERE, ideality and electrical options.
+
+    Returns
+    -------
+    LimitResult
+
+    References
+    ----------
+    W. Shockley, H. J. Queisser, J. Appl. Phys. 32 (1961) 510; A. De Vos, J. Phys. D 13 (1980) 839.
+
+    Examples
+    --------
+    >>> from tandem import OperatingPoint, limit
+    >>> round(100 * limit([1.34], operating=OperatingPoint(temperature_K=300)).efficiency, 1)
+    33.7
+    """
+    flux = light.photon_flux()
+    share = operating.step_shares()
+    return LimitResult(detailed_balance_limit(
+        gaps, flux, operating.terminals, operating.temperature_K, operating.ere or (1.0,),
+        operating.ideality, operating.electrical, operating.front_index,
+        share[: len(gaps)] if len(gaps) == 2 else share[:1]))
+
+
+# --------------------------------------------------------------------------------------
+# match
+# --------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class MatchStudy:
+    """Current matching of two absorbers in both orders (:func:`match`)."""
+
+    result: MatchResult
+    swapped: MatchResult
+    verdict: OrderVerdict
+    tolerance_pct: float = 1.0
+    top: int = 8
+
+    def summary(self) -> dict:
+        return match_summary(self.result, self.swapped, self.verdict, self.top, self.tolerance_pct)
+
+    def to_frame(self):
+        """Every configuration, best first (the design-table columns)."""
+        return _frame([_configuration(c) for c in self.result.configurations])
+
+    def to_dataset(self):
+        """Photocurrents and efficiencies over front gap × back thickness × front thickness."""
+        import xarray as xr
+
+        sweeps = self.result.sweeps
+        gaps = sorted({s.front_gap_eV for s in sweeps})
+        backs = sorted({s.back_thickness_nm for s in sweeps})
+        d = sweeps[0].front_thickness_nm
+        shape = (len(gaps), len(backs), d.size)
+        data = {k: np.full(shape, np.nan) for k in ("jf", "jb", "e2", "e4")}
+        for s in sweeps:
+            i, j = gaps.index(s.front_gap_eV), backs.index(s.back_thickness_nm)
+            p = s.performance
+            data["jf"][i, j], data["jb"][i, j] = p.j_light[:, 0] / 10, p.j_light[:, 1] / 10
+            data["e2"][i, j], data["e4"][i, j] = 100 * p.efficiency_2t, 100 * p.efficiency_4t
+        dims = ("front_gap", "back_thickness", "front_thickness")
+        cond = self.result.conditions
+        ds = xr.Dataset(
+            {"jsc_front": (dims, data["jf"], {"units": "mA/cm2"}),
+             "jsc_back": (dims, data["jb"], {"units": "mA/cm2"}),
+             "efficiency_2t": (dims, data["e2"], {"units": "%"}),
+             "efficiency_4t": (dims, data["e4"], {"units": "%"})},
+            coords={"front_gap": ("front_gap", gaps, {"units": "eV", "note": "at 298.15 K"}),
+                    "back_thickness": ("back_thickness", backs, {"units": "nm"}),
+                    "front_thickness": ("front_thickness", d, {"units": "nm"})},
+            attrs=_conditions_attrs(cond.photon_flux.name, cond.temperature_K,
+                                    self.result.terminals, front=self.result.design.front.key,
+                                    back=self.result.design.back.key,
+                                    ere_front=self.result.design.front.ere,
+                                    ere_back=self.result.design.back.ere))
+        return ds
+
+    def plot(self, ax=None):
+        from .plots import draw_match
+
+        return draw_match(self.result, tolerance_windows(self.result, self.tolerance_pct), ax)
+
+
+def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
+          operating: OperatingPoint = OperatingPoint(), sweep: Sweep = Sweep(), *,
+          tolerance_pct: float = 1.0, top: int = 8,
+          progress: Progress | None = None) -> MatchStudy:
+    """Current-match a two-junction stack of real absorbers, and check the other order.
+
+    Parameters
+    ----------
+    front, back : Absorber or str
+        Absorber descriptions, or bundled names / .toml paths.
+    light, operating, sweep : Light, OperatingPoint, Sweep
+        The spectrum; temperature, terminals (the ranking), losses and electrical options;
+        what to sweep.
+    tolerance_pct : float
+        Loss [% absolute] that defines the thickness and gap windows.
+    top : int
+        Configurations in the summary.
+    progress : callable(done, total), optional
+
+    Returns
+    -------
+    MatchStudy
+
+    Examples
+    --------
+    >>> from tandem import Sweep, match
+    >>> study = match("perovskite-wide", "silicon", sweep=Sweep(front_gaps_eV=(1.7, 1.7, 0.01),
+    ...               thickness_points=20))
+    >>> study.summary()["order"]["recommended_front"]
+    'perovskite-wide'
+    """
+    a_front, a_back = _pair(front, back, operating)
+    flux = light.photon_flux()
+    design = StackDesign(a_front, a_back, *operating.losses_on(flux.energy))
+    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical)
+    result = match_currents(design, cond, sweep.gaps(), sweep.back_thicknesses_nm,
+                            sweep.front_thickness_nm, sweep.thickness_points, operating.terminals,
+                            progress)
+    swapped = match_currents(design.swapped(), cond, None, None, None, sweep.thickness_points,
+                             operating.terminals, progress)
+    return MatchStudy(result, swapped, which_in_front(result, swapped), tolerance_pct, top)
+
+
+# --------------------------------------------------------------------------------------
+# gap map
+# --------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class MapResult:
+    """Efficiency over front × back gaps (:func:`gap_map`)."""
+
+    gap_map: GapMap
+    terminals: int
+    tolerance_pct: float = 1.0
+    marks: tuple = ()
+    front_thickness_nm: np.ndarray | None = None
+    ere: tuple | None = None
+
+    def summary(self) -> dict:
+        return map_summary(self.gap_map, self.terminals, self.tolerance_pct)
+
+    def to_frame(self):
+        """One row per valid gap pair."""
+        return map_table(self.gap_map, self.front_thickness_nm)
+
+    def to_dataset(self):
+        import xarray as xr
+
+        m = self.gap_map
+        dims = ("front_gap", "back_gap")
+        return xr.Dataset(
+            {"efficiency_2t": (dims, 100 * m.efficiency_2t, {"units": "%"}),
+             "efficiency_4t": (dims, 100 * m.efficiency_4t, {"units": "%"}),
+             "jsc_front": (dims, m.j_front / 10, {"units": "mA/cm2"}),
+             "jsc_back": (dims, m.j_back / 10, {"units": "mA/cm2"}),
+             "voc_2t": (dims, m.voc_2t, {"units": "V"})},
+            coords={"front_gap": ("front_gap", m.front_gaps, {"units": "eV"}),
+                    "back_gap": ("back_gap", m.back_gaps, {"units": "eV"})},
+            attrs=_conditions_attrs(m.spectrum, m.temperature_K, self.terminals,
+                                    irradiance_W_m2=m.irradiance,
+                                    ere=None if self.ere is None else list(self.ere)))
+
+    def plot(self, ax=None):
+        from .plots import draw_map
+
+        return draw_map(self.gap_map, self.terminals, self.tolerance_pct, self.marks, ax)
+
+
+def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint(),
+            front_gaps_eV: tuple[float, float, float] = DEFAULT_FRONT,
+            back_gaps_eV: tuple[float, float, float] | None = DEFAULT_BACK, *,
+            front_absorber: Absorber | str | None = None,
+            back_absorber: Absorber | str | None = None,
+            front_thickness_nm: float | None = None, back_thickness_nm: float | None = None,
+            rematch: bool = False, tolerance_pct: float = 1.0, marks: Sequence = (),
+            progress: Progress | None = None) -> MapResult:
+    """Efficiency over front × back band gaps: step absorbers, or real absorbers' edges.
+
+    Parameters
+    ----------
+    front_gaps_eV, back_gaps_eV : (low, high, step)
+        Gap axes [eV]; ``back_gaps_eV`` None (absorbers only) keeps the back absorber's gap.
+    front_absorber, back_absorber : optional
+        Move these absorbers' edges to each gap instead of using step absorbers.
+    marks : sequence of (name, gap)
+        Gaps to mark on the figure.
+
+    Examples
+    --------
+    >>> from tandem import gap_map
+    >>> m = gap_map(front_gaps_eV=(1.6, 1.8, 0.05), back_gaps_eV=(1.12, 1.12, 0.01))
+    >>> m.summary()["optimum"]["front_gap_eV"]
+    1.75
+    """
+    flux = light.photon_flux()
+    fronts = gap_axis(*front_gaps_eV, "front gaps")
+    marks = tuple(marks)
+    if (front_absorber is None) != (back_absorber is None):
+        from .errors import TandemInputError
+
+        raise TandemInputError("give both a front and a back absorber, or neither (step absorbers)")
+    if front_absorber is None:
+        backs = gap_axis(*(back_gaps_eV or DEFAULT_BACK), "back gaps")
+        ere = np.asarray(operating.ere or (1.0,), dtype=float)
+        ere = np.broadcast_to(ere, (2,)) if ere.size == 1 else ere
+        result = step_gap_map(flux, fronts, backs, operating.temperature_K, ere,
+                              operating.ideality, progress=progress,
+                              electrical=operating.electrical, front_index=operating.front_index,
+                              absorbed_share=operating.step_shares())
+        return MapResult(result, operating.terminals, tolerance_pct, marks, None,
+                         tuple(float(e) for e in ere))
+    design = StackDesign(*_pair(front_absorber, back_absorber, operating),
+                         *operating.losses_on(flux.energy))
+    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical)
+    backs = None if back_gaps_eV is None else gap_axis(*back_gaps_eV, "back gaps")
+    result, used = absorber_gap_map(design, cond, fronts, backs, front_thickness_nm,
+                                    back_thickness_nm, rematch, progress=progress)
+    return MapResult(result, operating.terminals, tolerance_pct, marks, used)
+
+
+# --------------------------------------------------------------------------------------
+# energy yield
+# --------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class YieldResult:
+    """Energy over a period for front gap × thickness, and the best design hour by hour."""
+
+    sweep: object  #: yields.YieldSweep
+    best: object  #: yields.HourlyDesign
+
+    def summary(self) -> dict:
+        return yield_summary(self.sweep, self.best)
+
+    def to_frame(self):
+        """The energy-optimal design step by step: powers [W/m²], photocurrents [mA/cm²]."""
+        import pandas as pd
+
+        b = self.best
+        return pd.DataFrame({"p_2t_W_m2": b.p_2t, "p_4t_W_m2": b.p_4t,
+                             "jsc_front_mA_cm2": b.j_front / 10, "jsc_back_mA_cm2": b.j_back / 10,
+                             "irradiance_W_m2": b.irradiance,
+                             "cell_temperature_K": b.cell_temperature_K,
+                             "step_hours": b.step_hours}, index=b.times)
+
+    def to_dataset(self):
+        import xarray as xr
+
+        s = self.sweep
+        dims = ("front_gap", "front_thickness")
+        return xr.Dataset(
+            {"energy_2t": (dims, s.energy_2t, {"units": "kWh/m2"}),
+             "energy_4t": (dims, s.energy_4t, {"units": "kWh/m2"}),
+             "efficiency_am15g_2t": (dims, 100 * s.efficiency_am15_2t, {"units": "%"})},
+            coords={"front_gap": ("front_gap", s.gaps, {"units": "eV", "note": "at 298.15 K"}),
+                    "front_thickness": ("front_thickness", s.thicknesses, {"units": "nm"})},
+            attrs={"source": s.series.source, "insolation_kWh_m2": float(s.insolation),
+                   "front": s.design.front.key, "back": s.design.back.key,
+                   "back_thickness_nm": float(s.back_thickness_nm)})
+
+    def plot(self, ax=None):
+        from .plots import draw_yield_map
+
+        return draw_yield_map(self.sweep, ax)
+
+    def design_rows(self) -> list[dict]:
+        """The energy-optimal and the AM1.5G-optimal design, side by side (display units)."""
+        s = self.summary()
+        eo, am = s["energy_optimum"], s["am15g_optimum"]
+        i, j = self.sweep.optimum
+        return [dict(eo, design="energy-optimal",
+                     efficiency_am15g_2t_pct=100 * float(self.sweep.efficiency_am15_2t[i, j])),
+                dict(am, design="AM1.5G-optimal", efficiency_am15g_2t_pct=am["efficiency_2t_pct"],
+                     energy_weighted_efficiency_2t_pct=100 * am["energy_2t_kWh_m2"]
+                     / s["insolation_kWh_m2"])]
+
+
+def site_series(site, *, weather=None, spectra=None, period: str = "year:2026",
+                step_minutes: float = 60.0, cell_temperature_K: float | None = None):
+    """The plane-of-array spectra of a site: a weather file, a folder of measured spectra, or
+    clear skies over a period; optionally at a fixed cell temperature instead of SAPM [K]."""
+    from .sky import clear_sky_series, folder_series, parse_period, weather_series
+
+    series = (weather_series(site, weather) if weather else folder_series(site, spectra)
+              if spectra else clear_sky_series(site, parse_period(period, site.timezone,
+                                                                  step_minutes)))
+    return series if cell_temperature_K is None else at_cell_temperature(series, cell_temperature_K)
+
+
+def at_cell_temperature(series, cell_temperature_K: float):
+    """The series with every step at one cell temperature [K] instead of the SAPM model's."""
+    import dataclasses
+
+    from .stack import check_temperature
+
+    check_temperature(float(cell_temperature_K), "cell temperature")
+    return dataclasses.replace(series, cell_temperature_K=np.full(series.times.size,
+                                                                  float(cell_temperature_K)))
+
+
+def scenario_yield_inputs(scenario, operating: OperatingPoint):
+    """What a scenario says for a yield run: (series, front, back, operating, back thickness).
+
+    The same resolver as ``tandem study`` (its [site], [weather], [stack] losses and
+    [electrical] section); the operating point keeps its temperature and terminals.
+    """
+    import dataclasses
+
+    from .errors import TandemInputError
+
+    if scenario.site() is None:
+        raise TandemInputError(f"scenario '{scenario.key}' has no [site]; add one or give a "
+                               "latitude and longitude")
+    operating = dataclasses.replace(operating, electrical=scenario.electrical(), **{
+        k: float(scenario.get("stack", k, 0.0))
+        for k in ("reflectance", "front_parasitic", "interlayer_parasitic")})
+    backs = scenario.back_thicknesses_nm()
+    return (scenario.series(), scenario.fronts[0], scenario.backs[0], operating,
+            backs[0] if backs else None)
+
+
+def energy_yield(front: Absorber | str, back: Absorber | str, series,
+                 operating: OperatingPoint = OperatingPoint(), *, front_gaps_eV=None,
+                 front_thicknesses_nm=None, back_thickness_nm: float | None = None,
+                 reference: Light = Light(), progress: Progress | None = None) -> YieldResult:
+    """Energy over a spectral series (a day, month or year) for front gap × thickness.
+
+    Parameters
+    ----------
+    series : tandem.sky.SpectralSeries
+        Plane-of-array spectra and cell temperatures (``tandem.sky.clear_sky_series``,
+        ``weather_series`` or ``folder_series``).
+    front_gaps_eV : array, optional
+        Front gaps at 298.15 K [eV]; default: 11 across the front's tunable range.
+    front_thicknesses_nm : array, optional
+        Default: 16 log-spaced across the front's range.
+    """
+    from .yields import hourly, yield_sweep
+
+    a_front, a_back = _pair(front, back, operating)
+    energy = series.photon_fluxes()[0]
+    design = StackDesign(a_front, a_back, *operating.losses_on(energy))
+    if front_gaps_eV is None:
+        lo, hi = a_front.gap_range_eV
+        gaps = np.linspace(max(lo, a_back.gap_eV + 0.3), hi, 11) if a_front.tunable else \
+            np.array([a_front.gap_eV])
+    else:
+        gaps = np.asarray(front_gaps_eV, dtype=float)
+    thick = (np.geomspace(*a_front.thickness_range_nm, 16) if front_thicknesses_nm is None
+             else np.asarray(front_thicknesses_nm, dtype=float))
+    back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
+    sweep = yield_sweep(design, series, gaps, thick, back_d, reference.photon_flux(),
+                        operating.ideality, operating.electrical, progress=progress)
+    i, j = sweep.optimum
+    best = hourly(design, series, sweep.gaps[i], sweep.thicknesses[j], back_d,
+                  operating.ideality, operating.electrical)
+    return YieldResult(sweep, best)
+
+
+# --------------------------------------------------------------------------------------
+# fabrication spread
+# --------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class SpreadResult:
+    """Efficiency distribution of a design under fabrication spread."""
+
+    spread: object  #: scatter.ScatterResult
+    terminals: int
+    target_pct: float | None
+    settings: dict
+
+    def summary(self) -> dict:
+        from .report import CAUTION
+
+        out = self.spread.stats(self.terminals, self.target_pct)
+        out.update(self.settings)
+        out["caution"] = CAUTION
+        return out
+
+    def to_frame(self):
+        """One row per device drawn: front gap [eV], thickness [nm], efficiencies [%]."""
+        s = self.spread
+        return _frame({"front_gap_eV": s.front_gap_eV, "front_thickness_nm": s.front_thickness_nm,
+                       "efficiency_2t_pct": 100 * s.efficiency_2t,
+                       "efficiency_4t_pct": 100 * s.efficiency_4t})
+
+    def plot(self, ax=None):
+        from .plots import draw_spread
+
+        return draw_spread(self.spread, self.terminals, self.target_pct, ax)
+
+
+def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light = Light(),
+                       operating: OperatingPoint = OperatingPoint(), *,
+                       front_gap_eV: float | None = None, front_thickness_nm: float | None = None,
+                       back_thickness_nm: float | None = None, gap_sigma_eV: float = 0.01,
+                       thickness_sigma_pct: float = 5.0, samples: int = 2000, seed: int = 1,
+                       target_pct: float | None = None) -> SpreadResult:
+    """How a spread in front gap and thickness spreads the efficiency of a design (seeded).
+
+    Examples
+    --------
+    >>> from tandem import fabrication_spread
+    >>> s = fabrication_spread("perovskite-wide", "silicon", samples=50, gap_sigma_eV=0.0,
+    ...                        thickness_sigma_pct=0.0)
+    >>> s.summary()["std_pct"]
+    0.0
+    """
+    from .scatter import scatter
+
+    a_front, a_back = _pair(front, back, operating)
+    flux = light.photon_flux()
+    g = a_front.gap_eV if front_gap_eV is None else float(front_gap_eV)
+    flux.check_gap(g, "front gap")
+    d = a_front.thickness_nm if front_thickness_nm is None else float(front_thickness_nm)
+    bd = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
+    design = StackDesign(a_front, a_back, *operating.losses_on(flux.energy))
+    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical)
+    result = scatter(design, cond, g, d, bd, gap_sigma_eV, thickness_sigma_pct, samples, seed)
+    settings = {"front": a_front.key, "back": a_back.key, "front_gap_eV": g,
+                "front_thickness_nm": d, "gap_sigma_eV": gap_sigma_eV,
+                "thickness_sigma_pct": thickness_sigma_pct, "seed": seed}
+    return SpreadResult(result, operating.terminals, target_pct, settings)
+
+
+__all__ = ["LimitResult", "MapResult", "MatchStudy", "SpreadResult", "YieldResult",
+           "absorber_summary", "energy_yield", "fabrication_spread", "gap_map", "limit", "match",
+           "at_cell_temperature", "scenario_yield_inputs", "site_series"]
