@@ -16,6 +16,7 @@ import typer
 from rich.markup import escape
 
 import tandem
+from tandem.report import DESIGN_COLUMNS
 from tandem.cli_options import (SHARED, Json, _emit_json, _say, _write_plot, err, out, Overwrite, Plot, Quiet, _callback, _f, _floats,  # noqa: F401
                                 _gaps, _light, _operating, _opt, _progress, _range, _table,
                                 _thickness, shared)
@@ -148,14 +149,10 @@ def absorbers(name: Annotated[Optional[str], typer.Argument(
         err.print(f"wrote {escape(str(absorber_figure(a, plot, overwrite)))}")
 
 
-CONFIG_COLUMNS = [
-    ("gap eV", _f("front_gap_eV", "{:.3f}")), ("front nm", _f("front_thickness_nm", "{:.0f}")),
-    ("match nm", _f("matched_front_thickness_nm", "{:.0f}", "none")),
-    ("back µm", _f("back_thickness_um", "{:g}")), ("Jsc F", _f("jsc_front_mA_cm2")),
-    ("Jsc B", _f("jsc_back_mA_cm2")), ("mism. %", _f("mismatch_pct")),
-    ("limits", lambda r: r["limiting_subcell"]), ("Voc V", _f("voc_2t_V", "{:.3f}")),
-    ("FF %", _f("ff_2t_pct", "{:.1f}")), ("2T %", _f("efficiency_2t_pct")),
-    ("4T %", _f("efficiency_4t_pct"))]
+def _columns(columns):
+    """Terminal (heading, cell) pairs of the design-table columns shown in the terminal."""
+    return [(c.short, _f(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"))
+            for c in columns if c.terminal]
 
 
 @app.command()
@@ -201,7 +198,7 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
         return _emit_json(s)
     f, b, best = s["front"], s["back"], s["configurations"][0]
     out.print(_table(f"{f['name']} over {b['name']}: best configurations ({s['terminals']}T ranking)",
-                     [("#", lambda r: r["rank"])] + CONFIG_COLUMNS,
+                     [("#", lambda r: r["rank"])] + _columns(DESIGN_COLUMNS),
                      [dict(c, rank=i) for i, c in enumerate(s["configurations"], 1)],
                      "Jsc F/B: front/back photocurrent (mA/cm²); Voc, FF: two-terminal"))
     m = s["matched_front_thickness_nm"]
@@ -218,7 +215,7 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
          f"order: {s['order']['reason']}")
     if not s["order"]["given_order_is_better"]:
         sw = s["swapped"]
-        out.print(_table(f"the better order: {sw['front']} in front", CONFIG_COLUMNS,
+        out.print(_table(f"the better order: {sw['front']} in front", _columns(DESIGN_COLUMNS),
                          sw["configurations"][:top]))
     _say(*[f"note: {n}" for n in s["spectrum_notes"] + s["model_notes"]], s["temperature_note"],
          f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K; "
@@ -314,7 +311,7 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
 
       tandem study study-wide-gap-partner-for-silicon/manifest.json --out rerun
     """
-    from tandem.study import (TABLE_COLUMNS, bundled_scenarios, check_study_target, load_scenario,
+    from tandem.study import (bundled_scenarios, check_study_target, columns, load_scenario,
                               run_study, write_study)
 
     if list_all:
@@ -330,11 +327,7 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
                            "terminals": sc.terminals, "rows": result.rows, "skipped": result.skipped,
                            "spectrum": result.spectrum_name, "temperature_K": sc.temperature_K,
                            "irradiance_W_m2": round(result.irradiance, 3), "caution": tandem.CAUTION})
-    shown = ("rank", "front", "back", "front_gap_eV", "front_thickness_nm",
-             "matched_front_thickness_nm", "back_thickness_um", "jsc_front_mA_cm2",
-             "jsc_back_mA_cm2", "limiting_subcell", "mismatch_pct", "efficiency_2t_pct",
-             "efficiency_4t_pct", "front_thickness_window_nm")
-    cols = [(label, _f(k, fmt)) for k, label, fmt in TABLE_COLUMNS if k in shown]
+    cols = _columns(columns(result))
     _say(sc.data["question"])
     out.print(_table(f"{sc.data['title']} — ranked designs ({sc.terminals}T)", cols,
                      result.rows[: sc.top], "limiting: the subcell with the lower photocurrent"))

@@ -183,8 +183,8 @@ def _callback(bar):
 def _table(title, columns, rows, caption=None) -> Table:
     """A rich table from (heading, function of a row) pairs; text is never markup."""
     table = Table(title=escape(title), title_justify="left", caption=caption)
-    for heading, _ in columns:
-        table.add_column(heading, justify="right")
+    for heading, _ in columns:  # fold, never cut: a number or a name is printed whole
+        table.add_column(heading, justify="right", overflow="fold")
     for row in rows:
         table.add_row(*[escape(str(fn(row))) for _, fn in columns])
     return table

@@ -5,7 +5,8 @@ Keys carry their unit (``_pct``, ``_V``, ``_mA_cm2``, ``_W_m2``, ``_eV``, ``_K``
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Callable
 
 import math
 
@@ -73,26 +74,55 @@ def design_summary(result: DesignResult) -> dict:
     return summary
 
 
-def _configuration(c) -> dict:
+@dataclass(frozen=True)
+class Column:
+    """One column of the design tables: its key, its headings, its format and where it comes
+    from. Adding a design-table column is one line in :data:`DESIGN_COLUMNS`: the JSON,
+    the terminal tables, CSV, Markdown and LaTeX all read this list."""
+
+    key: str  #: key in rows and JSON (unit in the name)
+    label: str  #: heading in files ("front gap [eV]")
+    short: str  #: heading in the terminal ("gap eV")
+    fmt: str  #: format of one value
+    value: Callable | None = None  #: configuration -> value (None: the study fills it)
+    terminal: bool = True  #: shown in the compact terminal tables
+
+
+def _limiting(c):
     from .design import subcell_name
 
-    p = c.performance
-    return {
-        "front_gap_eV": _r(c.front_gap_eV),
-        "front_composition": _r(c.front_composition) if c.front_composition is not None else None,
-        "front_thickness_nm": _r(c.front_thickness_nm, 1),
-        "back_thickness_um": _r(c.back_thickness_nm / 1000.0, 4),
-        "efficiency_2t_pct": _r(100 * p.efficiency_2t),
-        "efficiency_4t_pct": _r(100 * p.efficiency_4t),
-        "jsc_front_mA_cm2": _r(p.j_light[0] * MA_CM2_PER_A_M2),
-        "jsc_back_mA_cm2": _r(p.j_light[1] * MA_CM2_PER_A_M2),
-        "mismatch_pct": _r(100 * p.mismatch, 3),
-        "limiting_subcell": subcell_name(int(p.limiting_index)),
-        "voc_2t_V": _r(p.voc_2t),
-        "ff_2t_pct": _r(100 * p.ff_2t, 3),
-        "matched_front_thickness_nm": (None if c.matched_front_thickness_nm is None
-                                       else _r(c.matched_front_thickness_nm, 1)),
-    }
+    return subcell_name(int(c.performance.limiting_index))
+
+
+DESIGN_COLUMNS = [
+    Column("front_gap_eV", "front gap [eV]", "gap eV", "{:.3f}", lambda c: _r(c.front_gap_eV)),
+    Column("front_composition", "front composition", "x", "{:.3f}",
+           lambda c: _r(c.front_composition), terminal=False),
+    Column("front_thickness_nm", "front [nm]", "front nm", "{:.0f}",
+           lambda c: _r(c.front_thickness_nm, 1)),
+    Column("matched_front_thickness_nm", "matched [nm]", "match nm", "{:.0f}",
+           lambda c: _r(c.matched_front_thickness_nm, 1)),
+    Column("back_thickness_um", "back [µm]", "back µm", "{:g}",
+           lambda c: _r(c.back_thickness_nm / 1000.0, 4)),
+    Column("jsc_front_mA_cm2", "Jsc front [mA/cm²]", "Jsc F", "{:.2f}",
+           lambda c: _r(c.performance.j_light[0] * MA_CM2_PER_A_M2)),
+    Column("jsc_back_mA_cm2", "Jsc back [mA/cm²]", "Jsc B", "{:.2f}",
+           lambda c: _r(c.performance.j_light[1] * MA_CM2_PER_A_M2)),
+    Column("mismatch_pct", "mismatch [%]", "mism. %", "{:.2f}",
+           lambda c: _r(100 * c.performance.mismatch, 3)),
+    Column("limiting_subcell", "limiting", "limits", "{}", _limiting),
+    Column("voc_2t_V", "Voc 2T [V]", "Voc V", "{:.3f}", lambda c: _r(c.performance.voc_2t)),
+    Column("ff_2t_pct", "FF 2T [%]", "FF %", "{:.1f}", lambda c: _r(100 * c.performance.ff_2t, 3)),
+    Column("efficiency_2t_pct", "2T [%]", "2T %", "{:.2f}",
+           lambda c: _r(100 * c.performance.efficiency_2t)),
+    Column("efficiency_4t_pct", "4T [%]", "4T %", "{:.2f}",
+           lambda c: _r(100 * c.performance.efficiency_4t)),
+]
+
+
+def _configuration(c) -> dict:
+    """One configuration as a row of :data:`DESIGN_COLUMNS` (display units)."""
+    return {col.key: col.value(c) for col in DESIGN_COLUMNS}
 
 
 def _absorber(a) -> dict:

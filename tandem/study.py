@@ -28,7 +28,7 @@ from .design import Conditions, MatchResult, StackDesign, match_currents, tolera
 from .errors import TandemInputError
 from .files import bundled_dir, check_output_folder, place_folder
 from .losses import loss_on_grid
-from .report import CAUTION, _configuration
+from .report import CAUTION, DESIGN_COLUMNS, Column, _configuration
 from .spectra import load_spectrum, parse_spectrum_text
 from .stack import check_temperature
 
@@ -603,35 +603,27 @@ def _row(result: MatchResult, tolerance_pct: float) -> dict:
     return row
 
 
-TABLE_COLUMNS = [
-    ("rank", "rank", "{}"), ("front", "front", "{}"), ("back", "back", "{}"),
-    ("front_gap_eV", "front gap [eV]", "{:.3f}"),
-    ("front_thickness_nm", "front [nm]", "{:.0f}"),
-    ("matched_front_thickness_nm", "matched [nm]", "{:.0f}"),
-    ("back_thickness_um", "back [µm]", "{:g}"),
-    ("jsc_front_mA_cm2", "Jsc front [mA/cm²]", "{:.2f}"),
-    ("jsc_back_mA_cm2", "Jsc back [mA/cm²]", "{:.2f}"),
-    ("mismatch_pct", "mismatch [%]", "{:.2f}"),
-    ("limiting_subcell", "limiting", "{}"),
-    ("voc_2t_V", "Voc 2T [V]", "{:.3f}"),
-    ("ff_2t_pct", "FF 2T [%]", "{:.1f}"),
-    ("efficiency_2t_pct", "2T [%]", "{:.2f}"),
-    ("efficiency_4t_pct", "4T [%]", "{:.2f}"),
-    ("front_thickness_window_nm", "thickness window [nm]", "{}"),
-    ("front_gap_window_eV", "gap window [eV]", "{}"),
-    ("front_file", "front file", "{}"), ("back_file", "back file", "{}"),
-]
+TABLE_COLUMNS = ([Column("rank", "rank", "#", "{}"), Column("front", "front", "front", "{}"),
+                  Column("back", "back", "back", "{}")]
+                 + [c for c in DESIGN_COLUMNS if c.key != "front_composition"]
+                 + [Column("front_thickness_window_nm", "thickness window [nm]",
+                           "window nm", "{}"),
+                    Column("front_gap_window_eV", "gap window [eV]", "gap window", "{}",
+                           terminal=False),
+                    Column("front_file", "front file", "front file", "{}", terminal=False),
+                    Column("back_file", "back file", "back file", "{}", terminal=False)])
 OPTIONAL_COLUMNS = [
-    ("energy_2t_kWh_m2", "energy 2T [kWh/m²]", "{:.1f}"),
-    ("energy_4t_kWh_m2", "energy 4T [kWh/m²]", "{:.1f}"),
-    ("p10_pct", "P10 [%]", "{:.2f}"), ("p50_pct", "P50 [%]", "{:.2f}"), ("p90_pct", "P90 [%]", "{:.2f}"),
-    ("share_at_target_pct", "at target [%]", "{:.1f}"),
+    Column("energy_2t_kWh_m2", "energy 2T [kWh/m²]", "2T kWh/m²", "{:.1f}"),
+    Column("energy_4t_kWh_m2", "energy 4T [kWh/m²]", "4T kWh/m²", "{:.1f}"),
+    Column("p10_pct", "P10 [%]", "P10 %", "{:.2f}"), Column("p50_pct", "P50 [%]", "P50 %", "{:.2f}"),
+    Column("p90_pct", "P90 [%]", "P90 %", "{:.2f}"),
+    Column("share_at_target_pct", "at target [%]", "at target %", "{:.1f}"),
 ]
 
 
 def columns(study) -> list:
     """The table's columns: the fixed ones and those the scenario's options produced."""
-    return TABLE_COLUMNS + [c for c in OPTIONAL_COLUMNS if c[0] in study.rows[0]]
+    return TABLE_COLUMNS + [c for c in OPTIONAL_COLUMNS if c.key in study.rows[0]]
 
 
 def _cell(row, key, fmt):
@@ -641,12 +633,12 @@ def _cell(row, key, fmt):
 
 def markdown_table(study: StudyResult) -> str:
     cols = columns(study)
-    head = [c[1] for c in cols]
+    head = [c.label for c in cols]
     lines = [f"# {study.scenario.data['title']}", "",
              study.scenario.data["question"], "",
              "| " + " | ".join(head) + " |", "|" + "---|" * len(head)]
     for row in study.rows:
-        lines.append("| " + " | ".join(_cell(row, k, f) for k, _, f in cols) + " |")
+        lines.append("| " + " | ".join(_cell(row, c.key, c.fmt) for c in cols) + " |")
     tol = study.scenario.tolerance_pct
     lines += ["", f"Windows: front thickness and front gap keeping efficiency within {tol:g} % "
               "(absolute) of the best.", f"Spectrum: {study.spectrum_name}, "
@@ -671,12 +663,12 @@ def _latex_escape(text: str) -> str:
 
 
 def latex_table(study: StudyResult) -> str:
-    cols = TABLE_COLUMNS[:15]  # windows go in the CSV and Markdown; keeps the page width sane
+    cols = [c for c in TABLE_COLUMNS if not c.key.endswith(("_file", "_window_eV", "_window_nm"))]
     lines = [r"\begin{table}", r"\centering", r"\small",
              r"\begin{tabular}{" + "l" * 3 + "r" * (len(cols) - 3) + "}", r"\hline",
-             " & ".join(_latex_escape(c[1]) for c in cols) + r" \\", r"\hline"]
+             " & ".join(_latex_escape(c.label) for c in cols) + r" \\", r"\hline"]
     for row in study.rows:
-        lines.append(" & ".join(_latex_escape(_cell(row, k, f)) for k, _, f in cols) + r" \\")
+        lines.append(" & ".join(_latex_escape(_cell(row, c.key, c.fmt)) for c in cols) + r" \\")
     lines += [r"\hline", r"\end{tabular}",
               r"\caption{" + _latex_escape(f"{study.scenario.data['title']}. {CAUTION}") + "}",
               r"\end{table}", ""]
@@ -805,7 +797,7 @@ def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
     check_study_target(folder, overwrite, protected)
 
     def build(tmp: Path) -> None:
-        table = pd.DataFrame(study.rows)[[c[0] for c in columns(study)]]
+        table = pd.DataFrame(study.rows)[[c.key for c in columns(study)]]
         table.to_csv(tmp / "design-table.csv", index=False, float_format="%.6g")
         (tmp / "design-table.md").write_text(markdown_table(study), encoding="utf-8")
         (tmp / "design-table.tex").write_text(latex_table(study), encoding="utf-8")
