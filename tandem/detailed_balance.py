@@ -93,6 +93,13 @@ def step_photocurrent(photon_flux, gap_eV, upper_gap_eV=None, cumulative=None):
 
     With ``upper_gap_eV`` the absorber sees only photons between the two gaps, as the back
     cell of a stack whose front cell is an ideal step absorber.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum("am1.5g").photon_flux()
+    >>> round(float(tandem.step_photocurrent(flux, 1.12)) / 10, 1)  # mA/cm²
+    43.8
     """
     e, phi = photon_flux.energy, photon_flux.flux
     if cumulative is None:
@@ -195,8 +202,18 @@ def single_junction_mpp(j_light, j0, temperature_K):
 
     Notes
     -----
-    dP/dV = 0 gives e^v (1 + v) = 1 + J_L/J0 with v = qV/(nkT), so
-    1 + v = W(e·(1 + J_L/J0)) and J_mp = (J_L + J0)·v/(1 + v), with v = qV/kT.
+    dP/dV = 0 gives e^v (1 + v) = 1 + J_L/J0 with v = qV/kT, so
+    1 + v = W(e·(1 + J_L/J0)) and J_mp = (J_L + J0)·v/(1 + v).
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum("am1.5g").photon_flux()
+    >>> jl = tandem.step_photocurrent(flux, 1.34)
+    >>> j0 = tandem.step_radiative_dark_current(1.34, 300.0)
+    >>> j, v, p = tandem.single_junction_mpp(jl, j0, 300.0)
+    >>> round(100 * float(p) / flux.irradiance, 1)  # Rühle 2016: 33.7 %
+    33.7
     """
     j_light = np.asarray(j_light, dtype=float)
     y = 1.0 + np.log1p(j_light / j0)

@@ -203,6 +203,12 @@ def reference_spectrum(name: str = "am1.5g") -> Spectrum:
     References
     ----------
     ASTM G173-03, Standard Tables for Reference Solar Spectral Irradiances (2003, reapproved 2012).
+
+    Examples
+    --------
+    >>> from tandem import reference_spectrum
+    >>> round(reference_spectrum("am1.5g").integrated_irradiance, 2)
+    1000.37
     """
     key = name.lower()
     if key not in REFERENCE_SPECTRA:

@@ -572,6 +572,14 @@ def detailed_balance_limit(
     Raises :class:`TandemInputError` for gaps that are not positive, outside the spectrum
     or in the wrong order (naming what the swapped order gives), an ERE outside (0, 1],
     an unknown number of terminals or a temperature out of range.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum("am1.5g").photon_flux()
+    >>> r = tandem.detailed_balance_limit([1.73, 1.12], flux, temperature_K=300.0)
+    >>> round(100 * r.efficiency, 2), tandem.design_summary(r)["limiting_subcell"]
+    (45.04, 'front')
     """
     gaps = tuple(float(g) for g in gaps)
     if not 1 <= len(gaps) <= 2:

@@ -1,0 +1,136 @@
+"""The Python API is the command line's own: same numbers, same options, notebook-safe figures,
+runnable examples and docstrings (consistency tests)."""
+
+import doctest
+import importlib
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+from typer.testing import CliRunner
+
+import tandem
+from tandem.cli import app
+from tandem.cli_options import SHARED
+
+runner = CliRunner()
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def cli_json(*args):
+    res = runner.invoke(app, [str(a) for a in args] + ["--json"])
+    assert res.exit_code == 0, res.output
+    return json.loads(res.stdout)
+
+
+JOBS = {
+    "limit": (lambda: tandem.limit([1.73, 1.12], operating=tandem.OperatingPoint(
+        temperature_K=300, ere=(0.01,), ideality=1.5)),
+        ["limit", "1.73", "1.12", "--temperature", "300", "--ere", "0.01", "--ideality", "1.5"]),
+    "match": (lambda: tandem.match("perovskite-wide", "silicon", operating=tandem.OperatingPoint(
+        reflectance=0.03, temperature_K=310), sweep=tandem.Sweep(front_gaps_eV=(1.68, 1.74, 0.03),
+                                                                 thickness_points=30)),
+        ["match", "perovskite-wide", "silicon", "--reflectance", "0.03", "--temperature", "310",
+         "--front-gaps", "1.68:1.74:0.03", "--points", "30", "-q"]),
+    "map": (lambda: tandem.gap_map(operating=tandem.OperatingPoint(terminals=4),
+                                   front_gaps_eV=(1.5, 2.0, 0.05), back_gaps_eV=(0.9, 1.3, 0.05)),
+            ["map", "--front", "1.5:2.0:0.05", "--back", "0.9:1.3:0.05", "-t", "4", "-q"]),
+    "scatter": (lambda: tandem.fabrication_spread("gainp", "gaas", samples=200, seed=3,
+                                                  target_pct=30.0),
+                ["scatter", "gainp", "gaas", "--samples", "200", "--seed", "3", "--target", "30"]),
+}
+
+
+@pytest.mark.parametrize("job", sorted(JOBS))
+def test_command_and_function_give_identical_numbers(job, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)  # map writes its files here
+    python, args = JOBS[job]
+    ours = json.loads(json.dumps(python().summary()))
+    theirs = cli_json(*args)
+    theirs.pop("outputs", None)
+    assert ours == theirs
+
+
+def test_yield_command_and_function_agree(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    site = tandem.Site("site", 40.0, -105.0, 0.0, 30.0, 180.0, "Etc/GMT+7")
+    from tandem.workflows import site_series
+
+    series = site_series(site, period="day:2026-06-21", step_minutes=60)
+    ours = tandem.energy_yield("perovskite-wide", "silicon", series,
+                               front_thicknesses_nm=np.geomspace(100, 1500, 4)).summary()
+    theirs = cli_json("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude",
+                      "-105", "--timezone", "Etc/GMT+7", "--period", "day:2026-06-21",
+                      "--points", "4", "-q")
+    assert theirs["energy_optimum"] == json.loads(json.dumps(ours["energy_optimum"]))
+
+
+def test_every_computing_command_takes_the_shared_options():
+    import typer.main
+
+    click_app = typer.main.get_command(app)
+    for name in ("limit", "match", "map", "yield", "scatter"):
+        params = {p.name for p in click_app.commands[name].params}
+        assert set(SHARED) <= params, (name, set(SHARED) - params)
+
+
+def test_plots_return_figures_and_leave_the_backend_alone():
+    import matplotlib
+    import matplotlib.pyplot as plt
+    from matplotlib.figure import Figure
+
+    before, open_figures = matplotlib.get_backend(), plt.get_fignums()
+    results = [tandem.limit([1.73, 1.12]),
+               tandem.match("organic-wide", "organic-narrow", sweep=tandem.Sweep(thickness_points=10)),
+               tandem.gap_map(front_gaps_eV=(1.6, 1.9, 0.1), back_gaps_eV=(0.9, 1.2, 0.1)),
+               tandem.fabrication_spread("gainp", "gaas", samples=50)]
+    for r in results:
+        fig = r.plot()
+        assert isinstance(fig, Figure)
+        fig2, ax = plt.subplots()  # into a notebook's own axes
+        assert r.plot(ax=ax) is fig2
+        plt.close(fig2)
+    assert matplotlib.get_backend() == before and plt.get_fignums() == open_figures
+
+
+def test_datasets_carry_units_and_conditions():
+    ds = tandem.gap_map(front_gaps_eV=(1.6, 1.9, 0.1), back_gaps_eV=(0.9, 1.2, 0.1)).to_dataset()
+    assert ds["front_gap"].attrs["units"] == "eV" and ds["efficiency_2t"].attrs["units"] == "%"
+    assert ds.attrs["temperature_K"] == 298.15 and ds.attrs["terminals"] == 2
+    assert "AM1.5G" in ds.attrs["spectrum"]
+
+
+def test_public_api_is_written_out():
+    text = (ROOT / "tandem" / "__init__.py").read_text()
+    assert "dir()" not in text.split("__all__ =")[1].splitlines()[0]
+    for name in tandem.__all__:
+        assert getattr(tandem, name) is not None
+
+
+@pytest.mark.parametrize("module", ["tandem.inputs", "tandem.workflows", "tandem.detailed_balance",
+                                    "tandem.spectra", "tandem.stack"])
+def test_docstring_examples_run(module):
+    result = doctest.testmod(importlib.import_module(module),
+                             optionflags=doctest.ELLIPSIS | doctest.NORMALIZE_WHITESPACE)
+    assert result.attempted > 0 and result.failed == 0
+
+
+@pytest.mark.parametrize("script", sorted(p.name for p in (ROOT / "examples").glob("*.py")))
+def test_examples_run(script, tmp_path):
+    out = subprocess.run([sys.executable, str(ROOT / "examples" / script), str(tmp_path / "f.png")],
+                         capture_output=True, text=True, timeout=300, cwd=tmp_path)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.strip() and (tmp_path / "f.png").stat().st_size > 10_000
+
+
+def test_readme_python_api_runs_as_printed(tmp_path, monkeypatch):
+    text = (ROOT / "README.md").read_text()
+    block = text.split("## Python API", 1)[1].split("```python\n", 1)[1].split("```", 1)[0]
+    monkeypatch.chdir(tmp_path)
+    namespace: dict = {}
+    exec(compile(block, "README.md (Python API)", "exec"), namespace)
+    assert round(namespace["r"].summary()["efficiency_pct"], 2) == 45.04
+    assert (tmp_path / "gap-map.nc").stat().st_size > 10_000
