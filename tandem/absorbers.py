@@ -18,6 +18,7 @@ import numpy as np
 
 from .errors import TandemInputError
 from .files import bundled_dir
+from .spectra import read_two_columns
 from .optics import LIGHT_TRAPPING, LayerOptics, ParametricEdge, TabulatedEdge
 from .units import HC_EV_NM, K_B_EV, T_STC
 
@@ -93,11 +94,19 @@ class Absorber:
         tc = self.gap_temperature_coefficient_eV_K or 0.0
         return tc * (np.asarray(temperature_K) - 298.15)
 
-    def layer(self, energy_eV, thickness_nm=None, gap_eV=None, shift_eV=0.0) -> LayerOptics:
+    def layer(self, energy_eV, thickness_nm=None, gap_eV=None, shift_eV=0.0,
+              position: str = "back") -> LayerOptics:
+        """The absorber's optics on an energy grid, in the ``position`` it has in a stack.
+
+        In front, light passes once whatever the file says (the back cell must receive what
+        the front does not absorb); behind, the file's light-trapping mode applies.
+        """
+        if position not in ("front", "back", "alone"):
+            raise TandemInputError(f"position '{position}': use 'front', 'back' or 'alone'")
         return LayerOptics(
             alpha_per_cm=self.alpha(energy_eV, gap_eV, shift_eV),
             thickness_nm=self.thickness_nm if thickness_nm is None else thickness_nm,
-            light_trapping=self.light_trapping,
+            light_trapping="single-pass" if position == "front" else self.light_trapping,
             refractive_index=self.refractive_index,
             collection_length_nm=self.collection_length_nm,
         )
@@ -385,19 +394,10 @@ def _read_alpha_table(c: _Checker, path: Path, axis: str):
     if not path.is_file():
         c.fail("absorption.table", f"= '{path.name}' not found next to the absorber file",
                "put the CSV beside the .toml or fix the path")
-    try:
-        data = np.loadtxt(path, delimiter=",", comments="#", ndmin=2,
-                          skiprows=1 if not path.read_text().lstrip()[:1].isdigit() else 0)
-    except ValueError as exc:
-        c.fail("absorption.table", f"'{path.name}' is not two numeric columns ({exc})",
-               f"write {axis} and alpha_per_cm separated by commas")
-    if data.shape[1] != 2 or data.shape[0] < 2:
-        c.fail("absorption.table", f"'{path.name}' needs two columns and two rows or more",
-               f"write {axis}, alpha_per_cm")
+    x_name = "wavelength [nm]" if axis == "wavelength_nm" else "energy [eV]"
+    data = read_two_columns(path, "absorption table", x_name, "alpha [cm^-1]", rising=False,
+                            positive=True)
     x, alpha = data[:, 0], data[:, 1]
-    if not (np.all(np.isfinite(data)) and np.all(x > 0) and np.all(alpha > 0)):
-        c.fail("absorption.table", f"'{path.name}' has values that are not positive and finite",
-               "α and the axis must be positive numbers")
     energy = HC_EV_NM / x if axis == "wavelength_nm" else x
     order = np.argsort(energy)
     if np.any(np.diff(energy[order]) <= 0):

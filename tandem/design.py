@@ -56,7 +56,8 @@ def stack_light(design: StackDesign, energy, front_gap, front_thickness_nm, back
     temperature coefficient (:meth:`~tandem.absorbers.Absorber.gap_shift_eV`).
     """
     d_front = np.asarray(front_thickness_nm, dtype=float)[..., None]
-    front = design.front.layer(energy, d_front, front_gap, design.front.gap_shift_eV(temperature_K))
+    front = design.front.layer(energy, d_front, front_gap, design.front.gap_shift_eV(temperature_K),
+                               position="front")
     back = design.back.layer(energy, back_thickness_nm, back_gap,
                              design.back.gap_shift_eV(temperature_K))
     return stack_optics(front, back, design.reflectance, design.front_parasitic,
@@ -329,7 +330,7 @@ def match_currents(
         raise TandemInputError(f"thickness points {thickness_points}: give between 5 and 5000")
     check_design_inputs(design, cond, gaps, backs, (lo, hi))
     if terminals not in (2, 4):
-        raise TandemInputError(f"--terminals {terminals}: choose 2 (series) or 4 (independent)")
+        raise TandemInputError(f"terminals {terminals}: choose 2 (series) or 4 (independent)")
     d_grid = np.geomspace(lo, hi, thickness_points)
     configs: list[Configuration] = []
     sweeps: list[ThicknessSweep] = []

@@ -43,10 +43,10 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
             samples: int = 2000, seed: int = 1, chunk: int = 500) -> ScatterResult:
     """Draw front gap ~ N(gap, σ_g) and thickness ~ N(d, σ_d·d), evaluate every sample."""
     if not (gap_sigma_eV >= 0 and thickness_sigma_pct >= 0):
-        raise TandemInputError("scatter spreads must be zero or positive (--gap-sigma in eV, "
-                               "--thickness-sigma in %)")
+        raise TandemInputError("fabrication spreads must be zero or positive (gap σ in eV, "
+                               "thickness σ in %)")
     if not 1 <= samples <= 1_000_000:
-        raise TandemInputError(f"--samples {samples}: give 1 to 1,000,000")
+        raise TandemInputError(f"samples {samples}: give 1 to 1,000,000 devices")
     if gap_sigma_eV > 0:
         design.front.check_gap(front_gap + 1e-3)  # a tabulated edge cannot move
     rng = np.random.default_rng(seed)

@@ -117,19 +117,19 @@ def common_grid() -> np.ndarray:
 def parse_period(period: str, timezone: str, step_minutes: float) -> pd.DatetimeIndex:
     """'day:2026-06-21', 'month:2026-06', 'year:2026' → the middles of each step."""
     if not (isinstance(step_minutes, (int, float)) and 1 <= step_minutes <= 180):
-        raise TandemInputError(f"--step {step_minutes:g} min: give 1 to 180 minutes")
+        raise TandemInputError(f"time step {step_minutes:g} min: give 1 to 180 minutes")
     match = re.fullmatch(r"(day|month|year):(\d{4}(?:-\d{2}(?:-\d{2})?)?)", period.strip())
     if not match:
-        raise TandemInputError(f"--period '{period}': give day:YYYY-MM-DD, month:YYYY-MM or year:YYYY")
+        raise TandemInputError(f"period '{period}': give day:YYYY-MM-DD, month:YYYY-MM or year:YYYY")
     kind, text = match.groups()
     need = {"day": 3, "month": 2, "year": 1}[kind]
     if len(text.split("-")) != need:
-        raise TandemInputError(f"--period '{period}': a {kind} is written "
+        raise TandemInputError(f"period '{period}': a {kind} is written "
                                f"{ {'day': 'YYYY-MM-DD', 'month': 'YYYY-MM', 'year': 'YYYY'}[kind]}")
     try:
         start = pd.Timestamp(text, tz=timezone)
     except ValueError:
-        raise TandemInputError(f"--period '{period}': not a real date") from None
+        raise TandemInputError(f"period '{period}': not a real date") from None
     end = start + {"day": pd.DateOffset(days=1), "month": pd.DateOffset(months=1),
                    "year": pd.DateOffset(years=1)}[kind]
     step = pd.Timedelta(minutes=step_minutes)

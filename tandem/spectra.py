@@ -259,7 +259,7 @@ def blackbody_sun(
     if not 0 < concentration <= max_x * (1 + 1e-9):
         raise TandemInputError(
             f"concentration {concentration:g}: must lie in (0, {max_x:,.0f}] (the thermodynamic "
-            "maximum 1/f); give a smaller --concentration"
+            "maximum 1/f); give a smaller concentration"
         )
     kt = K_B_EV * temperature_K
     # 0.02 eV to 30 kT covers all but ~1e-9 of the sun's power and photons.
@@ -301,49 +301,83 @@ def read_spectrum_csv(path: str | Path) -> Spectrum:
 def parse_spectrum_text(text: str, where_label: str, name: str) -> Spectrum:
     """The two-column spectrum in ``text`` (see :func:`read_spectrum_csv`); ``where_label``
     names its origin in messages, ``name`` becomes the spectrum's name."""
-    path = where_label
-    lines = text.lstrip("\ufeff").splitlines()
+    data = parse_two_columns(text, f"spectrum file '{where_label}'", "wavelength [nm]",
+                             "irradiance [W m^-2 nm^-1]", rising=True, y_min=0.0)
+    spectrum = Spectrum(name=name, wavelength_nm=data[:, 0], irradiance=data[:, 1])
+    if not spectrum.integrated_irradiance > 0:
+        raise TandemInputError(f"spectrum file '{where_label}': irradiance is zero everywhere; "
+                               "check the second column")
+    return spectrum
+
+
+def read_two_columns(path, label: str, x_name: str, y_name: str, **checks) -> np.ndarray:
+    """Read a two-column file with :func:`parse_two_columns`; a missing or non-UTF-8 file is
+    one line naming ``label``."""
+    path = Path(path)
+    if not path.is_file():
+        raise TandemInputError(f"{label} '{path}' not found; give a CSV file of {x_name}, {y_name}")
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise TandemInputError(f"{label} '{path}' cannot be read as text ({exc}); save it as a "
+                               "UTF-8 CSV file") from None
+    return parse_two_columns(text, f"{label} '{path}'", x_name, y_name, **checks)
+
+
+def parse_two_columns(text: str, where: str, x_name: str, y_name: str, rising: bool = True,
+                      y_min: float | None = None, y_below: float | None = None,
+                      positive: bool = False) -> np.ndarray:
+    """The one reader of two-column data files (spectra, loss fractions, absorption tables).
+
+    Columns are separated by a comma, semicolon, tab or spaces; one header line is allowed;
+    lines starting with ``#`` are comments. Every value must be finite; the first column
+    positive (and strictly rising with ``rising``); the second at least ``y_min``, below
+    ``y_below``, or positive. Any bad row raises :class:`TandemInputError` naming it.
+    Returns an (n, 2) array.
+    """
+    def named(column: str, value: float) -> str:  # "wavelength [nm]", 450 -> "wavelength 450 nm"
+        word, _, unit = column.partition(" [")
+        unit = unit.rstrip("]")
+        return f"{word} {value:g}" + (f" {unit}" if unit and "^" not in unit else "")
+
     rows: list[tuple[float, float]] = []
     header_seen = False
-    for number, raw in enumerate(lines, start=1):
+    for number, raw in enumerate(text.lstrip("\ufeff").splitlines(), start=1):
         line = raw.strip()
         if not line or line.startswith("#"):
             continue
         cells = [c for c in line.replace(";", ",").replace("\t", ",").replace(" ", ",").split(",") if c]
-        where = f"spectrum file '{path}', row {number}"
+        at = f"{where}, row {number}"
         try:
             values = [float(c) for c in cells]
         except ValueError:
             if not rows and not header_seen:
                 header_seen = True
                 continue
-            raise TandemInputError(f"{where}: '{line}' is not two numbers; give wavelength [nm] "
-                                   "and irradiance [W m^-2 nm^-1]") from None
+            raise TandemInputError(f"{at}: '{line[:60]}' is not two numbers; give {x_name} and "
+                                   f"{y_name}") from None
         if len(values) != 2:
-            raise TandemInputError(f"{where}: has {len(values)} columns; give exactly two, "
-                                   "wavelength [nm] and irradiance [W m^-2 nm^-1]")
-        wl, irr = values
-        if not (math.isfinite(wl) and math.isfinite(irr)):
-            raise TandemInputError(f"{where}: value is not finite; replace it with a number")
-        if wl <= 0:
-            raise TandemInputError(f"{where}: wavelength {wl:g} nm must be positive")
-        if irr < 0:
-            raise TandemInputError(f"{where}: irradiance {irr:g} is negative; spectral "
-                                   "irradiance must be zero or more")
-        if rows and wl <= rows[-1][0]:
-            raise TandemInputError(f"{where}: wavelength {wl:g} nm does not rise above the "
-                                   f"previous row's {rows[-1][0]:g} nm; sort by wavelength and "
-                                   "remove duplicates")
-        rows.append((wl, irr))
+            raise TandemInputError(f"{at}: has {len(values)} columns; give exactly two, {x_name} "
+                                   f"and {y_name}")
+        x, y = values
+        if not (math.isfinite(x) and math.isfinite(y)):
+            raise TandemInputError(f"{at}: value is not finite; replace it with a number")
+        if x <= 0:
+            raise TandemInputError(f"{at}: {named(x_name, x)} must be positive")
+        if y_min is not None and y < y_min:
+            raise TandemInputError(f"{at}: {named(y_name, y)} is "
+                                   + ("negative" if y_min == 0 else f"below {y_min:g}"))
+        if y_below is not None and not y < y_below:
+            raise TandemInputError(f"{at}: {named(y_name, y)} must be below {y_below:g}")
+        if positive and not y > 0:
+            raise TandemInputError(f"{at}: {named(y_name, y)} must be positive")
+        if rising and rows and x <= rows[-1][0]:
+            raise TandemInputError(f"{at}: {named(x_name, x)} does not rise above the previous "
+                                   f"row's {rows[-1][0]:g}; sort the rows and remove duplicates")
+        rows.append((x, y))
     if len(rows) < 2:
-        raise TandemInputError(f"spectrum file '{path}': needs at least two data rows of "
-                               "wavelength [nm] and irradiance [W m^-2 nm^-1]")
-    data = np.array(rows)
-    spectrum = Spectrum(name=name, wavelength_nm=data[:, 0], irradiance=data[:, 1])
-    if not spectrum.integrated_irradiance > 0:
-        raise TandemInputError(f"spectrum file '{path}': irradiance is zero everywhere; "
-                               "check the second column")
-    return spectrum
+        raise TandemInputError(f"{where}: needs at least two data rows of {x_name} and {y_name}")
+    return np.array(rows)
 
 
 def scaled(spectrum: Spectrum, factor: float, why: str) -> Spectrum:

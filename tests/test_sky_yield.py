@@ -141,7 +141,7 @@ def test_weather_file_is_scaled_to_plane_of_array():
 @pytest.mark.parametrize("args, message", [
     (["--latitude", "95", "--longitude", "0"], "site latitude = 95.0 is out of range"),
     (["--latitude", "40", "--longitude", "0", "--timezone", "Mars/Olympus"], "timezone 'Mars/Olympus'"),
-    (["--latitude", "40", "--longitude", "0", "--period", "week:2026"], "--period 'week:2026'"),
+    (["--latitude", "40", "--longitude", "0", "--period", "week:2026"], "period 'week:2026'"),
 ])
 def test_bad_site_input(tmp_path, args, message):
     res = runner.invoke(app, ["yield", "perovskite-wide", "silicon", *args, "-o", str(tmp_path / "y")])
