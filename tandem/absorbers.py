@@ -47,7 +47,15 @@ class GapRelation:
 
 @dataclass(frozen=True)
 class Absorber:
-    """One absorber description, resolved and checked."""
+    """One absorber description, resolved and checked.
+
+    Examples
+    --------
+    >>> from tandem import load_absorber
+    >>> si = load_absorber('silicon')
+    >>> si.gap_eV, si.thickness_nm, round(float(si.alpha(1.23984198)), 1)  # α at 1000 nm [cm⁻¹]
+    (1.12, 160000.0, 64.0)
+    """
 
     key: str  #: file stem, the name users type
     path: Path
@@ -253,7 +261,14 @@ def _read_toml(path: Path, label: str = "absorber file",
 
 
 def parse_absorber(path: Path) -> Absorber:
-    """Read and validate one absorber file."""
+    """Read and validate one absorber file.
+
+    Examples
+    --------
+    >>> from tandem import bundled_absorbers, parse_absorber
+    >>> parse_absorber(bundled_absorbers()['gaas']).gap_eV
+    1.424
+    """
     path = Path(path)
     c = _Checker(path, _read_toml(path))
     c.check_keys()
@@ -437,12 +452,26 @@ def database_alpha(entry: str):
 
 
 def bundled_absorbers() -> dict[str, Path]:
-    """Bundled absorber names (file stems) and their files."""
+    """Bundled absorber names (file stems) and their files.
+
+    Examples
+    --------
+    >>> from tandem import bundled_absorbers
+    >>> 'silicon' in bundled_absorbers()
+    True
+    """
     return {p.stem: p for p in sorted(bundled_dir("absorbers").glob("*.toml"))}
 
 
 def load_absorber(name_or_path: str | Path) -> Absorber:
-    """A bundled absorber by name, or a user's file by path."""
+    """A bundled absorber by name, or a user's file by path.
+
+    Examples
+    --------
+    >>> from tandem import load_absorber
+    >>> load_absorber('perovskite-wide').tunable
+    True
+    """
     text = str(name_or_path)
     path = Path(text)
     if text.endswith(".toml") or path.is_file():

@@ -27,6 +27,12 @@ def blackbody_photon_flux(energy_eV, temperature_K):
 
     Φ_bb(E, T) = 2π/(h³c²) · E² / (exp(E/kT) − 1), the emission through one face into a
     half-space (physics notes; Rau 2007 Eq. 1 with a = 1).
+
+    Examples
+    --------
+    >>> from tandem import blackbody_photon_flux
+    >>> f'{float(blackbody_photon_flux(1.0, 300.0)):.4g}'  # m⁻² s⁻¹ eV⁻¹ at 1 eV
+    '1.569e+10'
     """
     energy = np.asarray(energy_eV, dtype=float)
     with np.errstate(over="ignore"):  # far above kT the flux is zero, as it should be
@@ -44,6 +50,14 @@ def photocurrent(energy_eV, flux, absorptance):
         Incident photon flux per energy [m⁻² s⁻¹ eV⁻¹].
     absorptance : (..., n) array
         Absorptance of the subcell at each energy [-]; leading dimensions broadcast.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> step = (flux.energy >= 1.12).astype(float)
+    >>> round(float(tandem.photocurrent(flux.energy, flux.flux, step)) / 10, 1)  # mA/cm²
+    43.8
     """
     return Q * np.trapezoid(np.asarray(absorptance) * flux, energy_eV, axis=-1)
 
@@ -53,6 +67,14 @@ def radiative_dark_current(energy_eV, absorptance, temperature_K):
 
     The absorptance must be the one the subcell has in its place in the stack (its light
     comes and goes through the same front), so that emission and absorption agree (Rau 2007).
+
+    Examples
+    --------
+    >>> import numpy as np, tandem
+    >>> e = np.linspace(1.12, 4.0, 200_001)
+    >>> j0 = tandem.radiative_dark_current(e, np.ones_like(e), 300.0)
+    >>> bool(abs(j0 / tandem.step_radiative_dark_current(1.12, 300.0) - 1) < 1e-6)
+    True
     """
     return Q * np.trapezoid(
         np.asarray(absorptance) * blackbody_photon_flux(energy_eV, temperature_K),
@@ -65,6 +87,13 @@ def cumulative_flux(energy_eV, flux):
     """Running integral ∫_{E0}^{E_i} Φ dE on the grid (trapezoid rule) [m⁻² s⁻¹].
 
     Computed once per spectrum; :func:`flux_above` then answers any number of gaps.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> f'{float(tandem.cumulative_flux(flux.energy, flux.flux)[-1]):.4g}'  # photons m⁻² s⁻¹
+    '4.306e+21'
     """
     steps = 0.5 * (flux[1:] + flux[:-1]) * np.diff(energy_eV)
     return np.concatenate(([0.0], np.cumsum(steps)))
@@ -75,6 +104,13 @@ def flux_above(energy_eV, flux, gap_eV, cumulative=None):
 
     Exact for the piecewise-linear interpolant of Φ, so a gap between grid points gets
     its partial interval, and the result agrees with the trapezoid rule at grid points.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> f'{float(tandem.flux_above(flux.energy, flux.flux, 1.12)):.4g}'
+    '2.734e+21'
     """
     energy = np.asarray(energy_eV, dtype=float)
     if cumulative is None:
@@ -137,6 +173,12 @@ def step_radiative_dark_current(gap_eV, temperature_K, upper_gap_eV=None):
     geometrically for Eg ≫ kT (two or three terms for real gaps at room temperature).
     With ``upper_gap_eV`` only emission between the two gaps counts (the back cell of a
     stack whose front cell absorbs everything above its own gap).
+
+    Examples
+    --------
+    >>> from tandem import step_radiative_dark_current
+    >>> f'{float(step_radiative_dark_current(1.12, 300.0)):.3g}'  # A/m²
+    '8.23e-13'
     """
     kt = K_B_EV * np.asarray(temperature_K, dtype=float)
     tail = _bose_tail(np.asarray(gap_eV) / kt)
@@ -156,12 +198,29 @@ def thermal_voltage(temperature_K):
 
 
 def dark_current(j0_radiative, ere):
-    """Saturation current with non-radiative loss, J0 = J0,rad / ERE [A/m²] (Rau 2007)."""
+    """Saturation current with non-radiative loss, J0 = J0,rad / ERE [A/m²] (Rau 2007).
+
+    Examples
+    --------
+    >>> from tandem import dark_current
+    >>> f'{float(dark_current(1e-20, 0.01)):.3g}'  # ERE 1 % → 100 × J0,rad
+    '1e-18'
+    """
     return np.asarray(j0_radiative) / np.asarray(ere)
 
 
 def diode_current(voltage, j_light, j0, temperature_K):
-    """J(V) = J_L − J0·(exp(qV/kT) − 1) [A/m²], the ideal (n = 1) diode of reciprocity."""
+    """J(V) = J_L − J0·(exp(qV/kT) − 1) [A/m²], the ideal (n = 1) diode of reciprocity.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> jl = tandem.step_photocurrent(flux, 1.34)
+    >>> j0 = tandem.step_radiative_dark_current(1.34, 300.0)
+    >>> round(float(tandem.diode_current(0.0, jl, j0, 300.0)) / 10, 2)  # Jsc, mA/cm²
+    35.03
+    """
     return j_light - j0 * np.expm1(voltage / thermal_voltage(temperature_K))
 
 
@@ -169,12 +228,31 @@ def diode_voltage(current, j_light, j0, temperature_K):
     """V(J) = (kT/q)·ln((J_L − J)/J0 + 1) [V], the inverse of :func:`diode_current`.
 
     Defined for J < J_L + J0; the ideal diode has no reverse breakdown.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> jl = tandem.step_photocurrent(flux, 1.34)
+    >>> j0 = tandem.step_radiative_dark_current(1.34, 300.0)
+    >>> round(float(tandem.diode_voltage(0.0, jl, j0, 300.0)), 4)  # Voc [V]
+    1.0817
     """
     return thermal_voltage(temperature_K) * np.log1p((j_light - current) / j0)
 
 
 def open_circuit_voltage(j_light, j0, temperature_K):
-    """Voc = (kT/q)·ln(J_L/J0 + 1) [V]."""
+    """Voc = (kT/q)·ln(J_L/J0 + 1) [V].
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> jl = tandem.step_photocurrent(flux, 1.34)
+    >>> j0 = tandem.step_radiative_dark_current(1.34, 300.0)
+    >>> round(float(tandem.open_circuit_voltage(jl, j0, 300.0)), 4)
+    1.0817
+    """
     return diode_voltage(0.0, j_light, j0, temperature_K)
 
 
@@ -229,6 +307,14 @@ def series_voltage(current, j_light, j0, temperature_K):
 
     ``j_light`` and ``j0`` have the subcells on their last axis; ``current`` broadcasts
     against the leading axes.
+
+    Examples
+    --------
+    >>> import numpy as np, tandem
+    >>> j0 = [tandem.step_radiative_dark_current(1.73, 300.0),
+    ...       tandem.step_radiative_dark_current(1.12, 300.0, 1.73)]
+    >>> round(float(tandem.series_voltage(0.0, np.array([216.7, 221.4]), np.array(j0), 300.0)), 3)
+    2.305
     """
     current = np.asarray(current, dtype=float)[..., None]
     vt = thermal_voltage(temperature_K)
@@ -260,6 +346,15 @@ def series_mpp(j_light, j0, temperature_K, iterations=50, own_mpp_current=None):
     s = ln(A − J) (the distance to it, on a log scale) converges in about four steps from
     s₀ = ln(A/(1 + Σ qVoc,i/kT)) for all points at once. Steps that leave the bracket
     fall back to bisection in s.
+
+    Examples
+    --------
+    >>> import numpy as np, tandem
+    >>> j0 = [tandem.step_radiative_dark_current(1.73, 300.0),
+    ...       tandem.step_radiative_dark_current(1.12, 300.0, 1.73)]
+    >>> j, v, p = tandem.series_mpp(np.array([216.7, 221.4]), np.array(j0), 300.0)
+    >>> round(float(p), 1)  # W/m²
+    450.6
     """
     j_light = np.asarray(j_light, dtype=float)
     j0 = np.asarray(j0, dtype=float)
@@ -335,6 +430,12 @@ def nonradiative_saturation_current(j_light, j0_rad, ere, ideality):
     References
     ----------
     U. Rau, Phys. Rev. B 76 (2007) 085303, doi:10.1103/PhysRevB.76.085303.
+
+    Examples
+    --------
+    >>> from tandem import nonradiative_saturation_current
+    >>> round(float(nonradiative_saturation_current(350.0, 1e-20, 0.01, 1.0) / 1e-20), 6)  # n = 1: 1/ERE − 1
+    99.0
     """
     j_light = np.asarray(j_light, dtype=float)
     ere = np.asarray(ere, dtype=float)
@@ -352,6 +453,15 @@ def two_diode_voltage(current, j_light, j0_rad, j0_nr, ideality, temperature_K):
     started from its smaller upper bound so that it converges monotonically. For
     J ≥ J_L the voltage continues linearly through zero (a reverse-biased cell), which
     keeps the series power unimodal for the searches that use it.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> jl = tandem.step_photocurrent(flux, 1.34)
+    >>> j0 = tandem.step_radiative_dark_current(1.34, 300.0)
+    >>> round(float(tandem.two_diode_voltage(0.0, jl, j0, 99 * j0, 1.0, 300.0)), 4)  # ERE 1 %
+    0.9627
     """
     y = np.asarray(j_light, dtype=float) - current
     a = np.asarray(j0_rad, dtype=float)
@@ -394,6 +504,16 @@ def two_diode_mpp(j_light, j0_rad, j0_nr, ideality, temperature_K, iterations=60
     P(V) = V·J(V) with J(V) concave and falling, so P″ = 2J′ + V·J″ < 0 and P′ has one
     root in (0, Voc): safeguarded Newton on P′(V) = J + V·J′, bisection when a step leaves
     the bracket. Converges in a handful of steps for all points at once.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> jl = tandem.step_photocurrent(flux, 1.34)
+    >>> j0 = tandem.step_radiative_dark_current(1.34, 300.0)
+    >>> j, v, p = tandem.two_diode_mpp(jl, j0, 99 * j0, 1.0, 300.0)
+    >>> round(float(p) / 10, 2)  # mW/cm², the ERE 1 % cell
+    29.63
     """
     j_light = np.asarray(j_light, dtype=float)
     a = np.asarray(j0_rad, dtype=float)

@@ -34,7 +34,16 @@ def _r(x, digits=4):
 
 
 def design_summary(result: DesignResult) -> dict:
-    """The keys documented for ``tandem limit --json``."""
+    """The keys documented for ``tandem limit --json``.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> s = tandem.design_summary(tandem.detailed_balance_limit([1.34], flux, temperature_K=300.0))
+    >>> s['efficiency_pct'], s['limiting_subcell']
+    (33.6789, None)
+    """
     perf = result.performance
     irr = perf.irradiance
     share = result.subcell_power()
@@ -132,7 +141,16 @@ def _absorber(a) -> dict:
 
 
 def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_pct: float = 1.0) -> dict:
-    """The keys documented for ``tandem match --json``."""
+    """The keys documented for ``tandem match --json``.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> study = tandem.match('gainp', 'gaas', sweep=tandem.Sweep(thickness_points=10))
+    >>> s = tandem.match_summary(study.result)
+    >>> s['front']['key'], s['terminals']
+    ('gainp', 2)
+    """
     from .design import temperature_note, tolerance_windows
     from .stack import electrical_notes
 
@@ -192,7 +210,14 @@ def _loss(value):
 
 
 def absorber_summary(a) -> dict:
-    """One absorber's resolved parameters, for `tandem absorbers NAME` and manifests."""
+    """One absorber's resolved parameters, for `tandem absorbers NAME` and manifests.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> tandem.absorber_summary(tandem.load_absorber('silicon'))['gap_eV']
+    1.12
+    """
     from .units import HC_EV_NM
 
     edge = a.edge

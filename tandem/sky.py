@@ -37,6 +37,12 @@ class Site:
     """Where and how the module stands, and the clear-sky atmosphere.
 
     Angles in degrees; azimuth clockwise from north (180 = facing south); altitude [m].
+
+    Examples
+    --------
+    >>> from tandem import Site
+    >>> Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1').tilt_deg
+    30.0
     """
 
     name: str = "site"
@@ -79,7 +85,16 @@ class Site:
 
 @dataclass(frozen=True)
 class SpectralSeries:
-    """Plane-of-array spectra over time on one wavelength grid."""
+    """Plane-of-array spectra over time on one wavelength grid.
+
+    Examples
+    --------
+    >>> from tandem import Site, clear_sky_series, parse_period
+    >>> site = Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1')
+    >>> series = clear_sky_series(site, parse_period('day:2026-06-21', site.timezone, 60))
+    >>> 5 < series.insolation_kWh_m2 < 10
+    True
+    """
 
     times: pd.DatetimeIndex  #: middle of each step
     wavelength_nm: np.ndarray  #: (n_wl,)
@@ -115,7 +130,14 @@ def common_grid() -> np.ndarray:
 
 
 def parse_period(period: str, timezone: str, step_minutes: float) -> pd.DatetimeIndex:
-    """'day:2026-06-21', 'month:2026-06', 'year:2026' → the middles of each step."""
+    """'day:2026-06-21', 'month:2026-06', 'year:2026' → the middles of each step.
+
+    Examples
+    --------
+    >>> from tandem import parse_period
+    >>> parse_period('day:2026-06-21', 'UTC', 60).size  # hourly steps
+    24
+    """
     if not (isinstance(step_minutes, (int, float)) and 1 <= step_minutes <= 180):
         raise TandemInputError(f"time step {step_minutes:g} min: give 1 to 180 minutes")
     match = re.fullmatch(r"(day|month|year):(\d{4}(?:-\d{2}(?:-\d{2})?)?)", period.strip())
@@ -250,7 +272,16 @@ def cell_temperature_K(poa_W_m2, ambient_C, wind_m_s):
 
 
 def clear_sky_series(site: Site, times: pd.DatetimeIndex) -> SpectralSeries:
-    """SPECTRL2 clear-sky spectra at ``times`` (daylight steps only)."""
+    """SPECTRL2 clear-sky spectra at ``times`` (daylight steps only).
+
+    Examples
+    --------
+    >>> from tandem import Site, clear_sky_series, parse_period
+    >>> site = Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1')
+    >>> series = clear_sky_series(site, parse_period('day:2026-06-21', site.timezone, 60))
+    >>> 12 < series.times.size < 18  # daylight hours only
+    True
+    """
     pos, aoi = _solar(site, times)
     up = (pos["apparent_zenith"] < 90).to_numpy()
     if not up.any():
@@ -276,6 +307,14 @@ def weather_series(site: Site, path: str | Path) -> SpectralSeries:
     Each daylight hour's spectrum has the SPECTRL2 shape for that sun position, scaled to
     the plane-of-array irradiance computed from the file's GHI, DNI and DHI (isotropic sky);
     the cell temperature uses the file's air temperature and wind speed.
+
+    Examples
+    --------
+    >>> from tandem import Site, weather_series
+    >>> weather_series(Site(), 'no-such-file.epw')
+    Traceback (most recent call last):
+    ...
+    tandem.errors.TandemInputError: weather file 'no-such-file.epw' not found; give an EPW or TMY3 CSV file
     """
     import pvlib
 
@@ -326,6 +365,14 @@ def folder_series(site: Site, folder: str | Path) -> SpectralSeries:
     File names carry the time, e.g. ``2026-06-21T12-00.csv`` or ``20260621T1200.csv``
     (site time zone). All files must use the same units: a file whose wavelengths look like
     micrometres among files in nanometres is refused.
+
+    Examples
+    --------
+    >>> from tandem import Site, folder_series
+    >>> folder_series(Site(), 'no-such-folder')
+    Traceback (most recent call last):
+    ...
+    tandem.errors.TandemInputError: spectrum folder 'no-such-folder' not found; give a folder of CSV files
     """
     folder = Path(folder)
     if not folder.is_dir():

@@ -37,6 +37,12 @@ class Electrical:
         its front-face emission for index n) as a loss. Off: the published convention of
         emission through the front only (a perfect selective reflector between the subcells,
         De Vos 1980).
+
+    Examples
+    --------
+    >>> from tandem import Electrical
+    >>> Electrical(coupling=0.5).emits_rear  # coupling passes on the rear emission
+    True
     """
 
     coupling: float = 0.0
@@ -72,6 +78,15 @@ class StackPerformance:
     """Arrays describing a sweep of stacks; subcells on the last axis where it applies.
 
     Currents [A/m²], voltages [V], powers [W/m²], efficiencies as fractions.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> import numpy as np
+    >>> perf = tandem.step_stack(flux, np.array([1.73, 1.12]), 300.0)
+    >>> int(perf.limiting_index), round(100 * float(perf.mismatch), 2)  # front limits
+    (0, 2.19)
     """
 
     j_light: np.ndarray  #: (..., m) photocurrent of each subcell in place
@@ -300,6 +315,16 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
     J_L,b + c·n²·J0,rad,f·(e^{qV_f/kT} − 1): the photons appear once as the front's loss and
     once as the back's gain. For n = 1 cells this is an ideal back diode with
     J_L' = (J_L,b + c'·J_L,f)/(1 + c') and J0' = J0,b/(1 + c'), c' = c·n²·J0,rad,f/J0,f.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> import numpy as np
+    >>> perf = tandem.step_stack(flux, np.array([1.73, 1.12]), 300.0)
+    >>> again = tandem.evaluate_stack(perf.j_light, perf.j0_radiative, 300.0, flux.irradiance)
+    >>> bool(again.p_2t == perf.p_2t)
+    True
     """
     j_light = np.asarray(j_light, dtype=float)
     shape = j_light.shape
@@ -397,6 +422,15 @@ def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1
     ``ere`` broadcasts against ``gaps`` (one value, or one per subcell). ``absorbed_share``
     (per subcell) scales each subcell's absorptance for flat optical losses; by reciprocity it
     scales its photocurrent and its radiative J0 alike.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> import numpy as np
+    >>> perf = tandem.step_stack(flux, np.array([1.73, 1.12]), 300.0)
+    >>> round(100 * float(perf.efficiency_2t), 2), round(100 * float(perf.efficiency_4t), 2)
+    (45.04, 45.05)
     """
     gaps = np.asarray(gaps, dtype=float)
     cumulative = db.cumulative_flux(photon_flux.energy, photon_flux.flux)
@@ -509,14 +543,23 @@ def check_boltzmann_regime(perf: StackPerformance, gaps_eV, temperature_K, what)
 
 
 def check_gap_order(gaps: Sequence[float]) -> None:
-    for name, g in zip(("front gap", "back gap"), gaps):
+    for name, g in zip(("front gap", "back gap") if len(gaps) == 2 else ("gap",), gaps):
         if not (math.isfinite(g) and g > 0):
             raise TandemInputError(f"{name} {g:g} eV: a band gap must be a positive energy in eV")
 
 
 @dataclass(frozen=True)
 class DesignResult:
-    """One stack (or single junction) under one spectrum, ready to report."""
+    """One stack (or single junction) under one spectrum, ready to report.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> r = tandem.detailed_balance_limit([1.34], flux, temperature_K=300.0)
+    >>> r.n_subcells, round(100 * r.efficiency, 1)
+    (1, 33.7)
+    """
 
     gaps_eV: tuple[float, ...]
     terminals: int

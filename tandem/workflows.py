@@ -62,7 +62,14 @@ def _pair(front, back, operating: OperatingPoint) -> tuple[Absorber, Absorber]:
 
 @dataclass(frozen=True)
 class LimitResult:
-    """The detailed-balance limit of one design (:func:`limit`)."""
+    """The detailed-balance limit of one design (:func:`limit`).
+
+    Examples
+    --------
+    >>> import tandem
+    >>> tandem.limit([1.73, 1.12]).to_frame()['position'].tolist()
+    ['front', 'back']
+    """
 
     design: DesignResult
 
@@ -126,7 +133,15 @@ def limit(gaps: Sequence[float], light: Light = Light(),
 
 @dataclass(frozen=True)
 class MatchStudy:
-    """Current matching of two absorbers in both orders (:func:`match`)."""
+    """Current matching of two absorbers in both orders (:func:`match`).
+
+    Examples
+    --------
+    >>> import tandem
+    >>> study = tandem.match('gainp', 'gaas', sweep=tandem.Sweep(thickness_points=10))
+    >>> sorted(study.to_dataset().dims)
+    ['back_thickness', 'front_gap', 'front_thickness']
+    """
 
     result: MatchResult
     swapped: MatchResult
@@ -229,7 +244,15 @@ def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
 
 @dataclass(frozen=True)
 class MapResult:
-    """Efficiency over front × back gaps (:func:`gap_map`)."""
+    """Efficiency over front × back gaps (:func:`gap_map`).
+
+    Examples
+    --------
+    >>> import tandem
+    >>> m = tandem.gap_map(front_gaps_eV=(1.6, 1.8, 0.1), back_gaps_eV=(0.9, 1.1, 0.1))
+    >>> m.to_dataset()['front_gap'].attrs['units']
+    'eV'
+    """
 
     gap_map: GapMap
     terminals: int
@@ -327,7 +350,18 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
 
 @dataclass(frozen=True)
 class YieldResult:
-    """Energy over a period for front gap × thickness, and the best design hour by hour."""
+    """Energy over a period for front gap × thickness, and the best design hour by hour.
+
+    Examples
+    --------
+    >>> import numpy as np, tandem
+    >>> from tandem.workflows import site_series
+    >>> site = tandem.Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1')
+    >>> y = tandem.energy_yield('perovskite-wide', 'silicon', site_series(site, period='day:2026-06-21'),
+    ...                         front_gaps_eV=[1.72], front_thicknesses_nm=[500.0, 1000.0])
+    >>> sorted(y.to_dataset().dims)
+    ['front_gap', 'front_thickness']
+    """
 
     sweep: object  #: yields.YieldSweep
     best: object  #: yields.HourlyDesign
@@ -437,6 +471,16 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
         Front gaps at 298.15 K [eV]; default: 11 across the front's tunable range.
     front_thicknesses_nm : array, optional
         Default: 16 log-spaced across the front's range.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> from tandem.workflows import site_series
+    >>> site = tandem.Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1')
+    >>> y = tandem.energy_yield('perovskite-wide', 'silicon', site_series(site, period='day:2026-06-21'),
+    ...                         front_gaps_eV=[1.72], front_thicknesses_nm=[800.0])
+    >>> y.summary()['energy_optimum']['energy_4t_kWh_m2'] >= y.summary()['energy_optimum']['energy_2t_kWh_m2']
+    True
     """
     from .yields import hourly, yield_sweep
 
@@ -467,7 +511,15 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
 
 @dataclass(frozen=True)
 class SpreadResult:
-    """Efficiency distribution of a design under fabrication spread."""
+    """Efficiency distribution of a design under fabrication spread.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> s = tandem.fabrication_spread('gainp', 'gaas', samples=20)
+    >>> len(s.to_frame())
+    20
+    """
 
     spread: object  #: scatter.ScatterResult
     terminals: int

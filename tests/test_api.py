@@ -111,7 +111,8 @@ def test_public_api_is_written_out():
 
 
 @pytest.mark.parametrize("module", ["tandem.inputs", "tandem.workflows", "tandem.detailed_balance",
-                                    "tandem.spectra", "tandem.stack"])
+                                    "tandem.spectra", "tandem.stack", "tandem.absorbers",
+                                    "tandem.sky", "tandem.report", "tandem.errors"])
 def test_docstring_examples_run(module):
     result = doctest.testmod(importlib.import_module(module),
                              optionflags=doctest.ELLIPSIS | doctest.NORMALIZE_WHITESPACE)
@@ -157,3 +158,13 @@ def test_a_front_layer_passes_light_once():
     back = pvk.layer(e, 300.0).absorptance()
     assert np.all(front < back)
     np.testing.assert_allclose(front, -np.expm1(-pvk.alpha(e) * 300e-7))
+
+
+def test_every_public_name_has_a_docstring_with_an_example():
+    import inspect
+
+    for name in tandem.__all__:
+        obj = getattr(tandem, name)
+        if inspect.isfunction(obj) or inspect.isclass(obj):
+            doc = inspect.getdoc(obj) or ""
+            assert "Examples" in doc and ">>>" in doc, name
