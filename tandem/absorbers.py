@@ -119,16 +119,40 @@ class Absorber:
             collection_length_nm=self.collection_length_nm,
         )
 
-    def check_thickness(self, thickness_nm: float, what: str = "thickness") -> None:
+    def check_thickness(self, thickness_nm: float, what: str = "thickness",
+                        allow_outside: bool = False) -> None:
+        """Refuse a thickness that is not positive, or outside the declared range [nm].
+
+        A bare number is read as nm; when it would fit the range in µm, the message says so
+        ("did you mean 160um?"). ``allow_outside`` lifts the range (the caller reports it).
+        """
         if not (math.isfinite(thickness_nm) and thickness_nm > 0):
             raise TandemInputError(f"{what} {thickness_nm:g} nm for {self.key}: give a positive "
-                                   "thickness in nm")
+                                   "thickness, e.g. 500nm or 160um")
+        lo, hi = self.thickness_range_nm
+        if allow_outside or lo * (1 - 1e-9) <= thickness_nm <= hi * (1 + 1e-9):
+            return
+        wafer = lo >= 10_000
+        shown = (f"{thickness_nm / 1000:g} µm" if wafer else f"{thickness_nm:g} nm")
+        span = f"{lo / 1000:g}–{hi / 1000:g} µm" if wafer else f"{lo:g}–{hi:g} nm"
+        hint = (f"did you mean {thickness_nm:g}um? " if lo <= thickness_nm * 1000 <= hi else "")
+        raise TandemInputError(f"{what} {shown} for {self.key} is outside its declared range "
+                               f"{span}; {hint}give a thickness inside it (or allow it with "
+                               "--outside-range)")
 
-    def check_gap(self, gap_eV: float) -> None:
+    def check_gap(self, gap_eV: float, allow_outside: bool = False) -> None:
+        """Refuse a gap a tabulated edge cannot have, or one outside the declared range [eV]."""
         if isinstance(self.edge, TabulatedEdge) and abs(gap_eV - self.gap_eV) > 1e-9:
             raise TandemInputError(f"{self.key}: its gap is fixed by tabulated data at "
                                    f"{self.gap_eV:g} eV; only direct/indirect edge models can "
                                    "be moved to another gap")
+        lo, hi = self.gap_range_eV
+        if allow_outside or lo - 1e-9 <= gap_eV <= hi + 1e-9:
+            return
+        what = (f"its tunable range {lo:.3f}–{hi:.3f} eV" if self.tunable
+                else f"its fixed gap {self.gap_eV:.3f} eV")
+        raise TandemInputError(f"gap {gap_eV:g} eV for {self.key} is outside {what}; choose a gap "
+                               "inside it (or allow it with --outside-range)")
 
 
 # --------------------------------------------------------------------------------------

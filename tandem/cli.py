@@ -8,7 +8,6 @@ and shared by every computing command.
 
 from __future__ import annotations
 
-import functools
 from pathlib import Path
 from typing import Annotated, Optional
 
@@ -17,9 +16,10 @@ from rich.markup import escape
 
 import tandem
 from tandem.report import DESIGN_COLUMNS
-from tandem.cli_options import (SHARED, Json, _emit_json, _say, _write_plot, err, out, Overwrite, Plot, Quiet, _callback, _f, _floats,  # noqa: F401
-                                _gaps, _light, _operating, _opt, _progress, _range, _table,
-                                _thickness, shared)
+from tandem.cli_options import (SHARED, Json, Overwrite, Plot, Quiet, _callback,  # noqa: F401
+                                _emit_json, _f, _floats, _gaps, _light, _operating, _opt,
+                                _progress, _range, _say, _table, _thickness, _write_plot,
+                                check_outputs, energy_text, err, friendly, out, run_app, shared)
 from tandem.errors import TandemInputError
 
 app = typer.Typer(
@@ -27,27 +27,6 @@ app = typer.Typer(
     help="Design two-junction (tandem) solar cells: detailed-balance limits, current "
     "matching, band-gap maps. Results are modelling limits, not certified measurements.",
     no_args_is_help=True, pretty_exceptions_enable=False, add_completion=False)
-
-
-def friendly(command):
-    """Library input errors and file-system faults: one line on stderr, exit code 2."""
-
-    @functools.wraps(command)
-    def wrapper(*args, **kwargs):
-        try:
-            return command(*args, **kwargs)
-        except TandemInputError as exc:
-            err.print(f"[bold red]error:[/] {escape(str(exc))}", highlight=False, soft_wrap=True)
-        except OSError as exc:  # a full disk, a read-only place, a file-size limit, a closed pipe
-            where = f" '{exc.filename}'" if getattr(exc, "filename", None) else ""
-            try:
-                err.print(f"[bold red]error:[/] cannot write{escape(where)}: "
-                          f"{escape(exc.strerror or str(exc))}", highlight=False, soft_wrap=True)
-            except OSError:
-                pass
-        raise typer.Exit(2)
-
-    return wrapper
 
 
 def _version(value: bool):
@@ -83,6 +62,7 @@ def limit(gaps: Annotated[list[float], typer.Argument(
 
       tandem limit 1.1 -s blackbody --concentration 1000 --json
     """
+    check_outputs([plot], overwrite, plot=True)
     result = tandem.limit(gaps, _light(o), _operating(o))
     s = result.summary()
     if plot:
@@ -133,6 +113,7 @@ def absorbers(name: Annotated[Optional[str], typer.Argument(
              else f"{a.thickness_nm:g} nm"),
             ("trapping", lambda a: a.light_trapping), ("ERE", lambda a: f"{a.ere:.1e}")], found))
         return _say("Add your own: pass the path of a .toml file written to the schema in the README.")
+    check_outputs([plot], overwrite, plot=True)
     a = tandem.load_absorber(name)
     s = tandem.absorber_summary(a)
     if json_out:
@@ -188,6 +169,7 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
             front_thickness, "--front-thickness", lambda t: _thickness(t, "--front-thickness"))[:2],
         back_thicknesses_nm=None if not back_thickness else tuple(
             _thickness(t, "--back-thickness") for t in back_thickness.split(",")))
+    check_outputs([plot], overwrite, plot=True)
     with _progress(quiet or json_out, "sweeping") as bar:
         result = tandem.match(front, back, _light(o), _operating(o), sweep,
                               tolerance_pct=tolerance, top=top, progress=_callback(bar))
@@ -256,6 +238,8 @@ def gap_map(front: Annotated[Optional[str], _opt("--front", help="Front gaps LO:
     from tandem.maps import DEFAULT_BACK, DEFAULT_FRONT
     from tandem.plots import map_figures
 
+    check_outputs([Path(output).with_suffix(x) for x in (".png", ".svg", ".csv", ".parquet")],
+                  overwrite)
     backs = _gaps(back, "--back", 0.01)
     marks = [(a.key, a.gap_eV) for a in (tandem.load_absorber(n.strip())
                                          for n in (mark.split(",") if mark else []))]
@@ -354,8 +338,10 @@ def energy_yield(
         altitude: Annotated[float, _opt(help="Site altitude in m.")] = 0.0,
         tilt: Annotated[float, _opt(help="Module tilt in °.")] = 30.0,
         azimuth: Annotated[float, _opt(help="Module azimuth in ° from north (180 = south).")] = 180.0,
-        timezone: Annotated[str, _opt(help="IANA time zone of the site.")] = "UTC",
-        ambient: Annotated[float, _opt(help="Ambient temperature in °C without weather.")] = 20.0,
+        timezone: Annotated[Optional[str], _opt(help="IANA time zone of the site (default: the "
+                                                "standard time of its longitude).")] = None,
+        ambient: Annotated[str, _opt(help="Ambient temperature without weather, e.g. 20C.",
+                                     metavar="TEMP")] = "20C",
         period: Annotated[str, _opt(help="day:YYYY-MM-DD, month:YYYY-MM or year:YYYY.")] = "year:2026",
         step: Annotated[float, _opt(help="Time step of clear-sky runs in minutes.")] = 60.0,
         weather: Annotated[Optional[str], _opt(help="Typical-year weather file (EPW or TMY3).")] = None,
@@ -379,6 +365,10 @@ def energy_yield(
     from tandem.plots import yield_figures
     from tandem.workflows import at_cell_temperature, scenario_yield_inputs, site_series
 
+    from tandem.inputs import parse_temperature
+
+    check_outputs([Path(output).parent / f"{Path(output).name}{x}.png"
+                   for x in ("-day", "-monthly", "-map")], overwrite)
     operating, back_d = _operating(o), back_thickness and _thickness(back_thickness, "--back-thickness")
     if scenario is not None:
         from tandem.study import load_scenario
@@ -390,8 +380,11 @@ def energy_yield(
         raise TandemInputError("give FRONT and BACK absorbers with --latitude and --longitude, "
                                "or --scenario")
     else:
+        if timezone is None:  # the site's own standard time, never UTC by default
+            timezone = f"Etc/GMT{-round(longitude / 15):+d}" if round(longitude / 15) else "UTC"
         site = tandem.Site("site", latitude, longitude, altitude, tilt, azimuth, timezone,
-                           ambient_temperature_C=ambient)
+                           ambient_temperature_C=parse_temperature(ambient, "ambient temperature")
+                           - 273.15)
         series, a_front, a_back = site_series(site, weather=weather, spectra=spectra, period=period,
                                               step_minutes=step), front, back
     if o["temperature"] is not None:  # a fixed cell temperature instead of the SAPM model
@@ -416,27 +409,28 @@ def energy_yield(
     eo = s["energy_optimum"]
     out.print(_table(f"Energy yield: {s['front']} over {s['back']}", [
         ("design", lambda r: r["design"]), ("front gap eV", _f("front_gap_eV", "{:.3f}")),
-        ("front nm", _f("front_thickness_nm", "{:.0f}")), ("2T kWh/m²", _f("energy_2t_kWh_m2", "{:.1f}")),
-        ("4T kWh/m²", _f("energy_4t_kWh_m2", "{:.1f}")),
+        ("front nm", _f("front_thickness_nm", "{:.0f}")),
+        ("2T energy", lambda r: energy_text(r["energy_2t_kWh_m2"])),
+        ("4T energy", lambda r: energy_text(r["energy_4t_kWh_m2"])),
         ("2T η_E %", _f("energy_weighted_efficiency_2t_pct")),
         ("AM1.5G 2T %", _f("efficiency_am15g_2t_pct"))], result.design_rows(),
         "η_E: energy-weighted efficiency (energy ÷ plane-of-array insolation)"))
     e4 = s["energy_optimum_4t"]
-    _say(f"{s['source']}: {s['steps']:,} steps, {s['insolation_kWh_m2']:.1f} kWh/m² on the module plane",
+    _say(f"{s['source']}: {s['steps']:,} steps, {energy_text(s['insolation_kWh_m2'])} on the module plane",
          *[f"note: {n}" for n in s["source_notes"]],
-         f"two-terminal loss to current mismatch (4T − 2T): {eo['mismatch_loss_kWh_m2']:.1f} kWh/m² "
+         f"two-terminal loss to current mismatch (4T − 2T): {energy_text(eo['mismatch_loss_kWh_m2'])} "
          f"({eo['mismatch_loss_pct']:.2f} %); the front limits for "
          f"{eo['share_of_light_with_front_limiting_pct']:.0f} % of the light",
-         f"best four-terminal: {e4['energy_4t_kWh_m2']:.1f} kWh/m² at {e4['front_gap_eV']:.3f} eV, "
+         f"best four-terminal: {energy_text(e4['energy_4t_kWh_m2'])} at {e4['front_gap_eV']:.3f} eV, "
          f"{e4['front_thickness_nm']:.0f} nm", "wrote " + ", ".join(s["outputs"]))
     out.print(f"[dim]{escape(tandem.CAUTION)} Clear-sky spectra ignore clouds unless a weather "
               "file is given.[/]")
 
 
-@app.command("scatter")
+@app.command("spread")
 @friendly
 @shared
-def fabrication_scatter(
+def fabrication_spread(
         front: Annotated[str, typer.Argument(help="Front absorber.", show_default=False)],
         back: Annotated[str, typer.Argument(help="Back absorber.", show_default=False)],
         gap: Annotated[Optional[float], _opt(help="Design front gap in eV.")] = None,
@@ -452,10 +446,11 @@ def fabrication_scatter(
 
     Examples:
 
-      tandem scatter perovskite-wide silicon --gap 1.72 --thickness 1000 --target 37.5
+      tandem spread perovskite-wide silicon --gap 1.72 --thickness 1000nm --target 37.5
 
-      tandem scatter organic-wide organic-narrow --thickness-sigma 10 --json
+      tandem spread organic-wide organic-narrow --thickness-sigma 10 --json
     """
+    check_outputs([plot], overwrite, plot=True)
     result = tandem.fabrication_spread(
         front, back, _light(o), _operating(o), front_gap_eV=gap,
         front_thickness_nm=thickness and _thickness(thickness, "--thickness"),
@@ -469,12 +464,13 @@ def fabrication_scatter(
         s["outputs"] = [str(_save(result.plot(), plot, overwrite))]
     if json_out:
         return _emit_json(s)
-    cols = [(label, _f(k)) for k, label in (("nominal_pct", "nominal %"), ("mean_pct", "mean %"),
-                                            ("std_pct", "std %"), ("p10_pct", "P10 %"),
-                                            ("p50_pct", "P50 %"), ("p90_pct", "P90 %"))]
+    cols = [(label, _f(k)) for k, label in (
+        ("nominal_pct", "nominal %"), ("mean_pct", "mean %"), ("std_pct", "std %"),
+        ("percentile_10_pct", "10th percentile %"), ("median_pct", "median %"),
+        ("percentile_90_pct", "90th percentile %"))]
     if target is not None:
         cols.append(("≥ target", _f("share_at_or_above_target_pct", "{:.1f} %")))
-    out.print(_table(f"Fabrication scatter: {s['front']} over {s['back']}, {samples:,} devices "
+    out.print(_table(f"Fabrication spread: {s['front']} over {s['back']}, {samples:,} devices "
                      f"({o['terminals']}T)", cols, [s]))
     _say(f"design: front gap {s['front_gap_eV']:.3f} eV ± {gap_sigma:g} eV, thickness "
          f"{s['front_thickness_nm']:.0f} nm ± {thickness_sigma:g} %; seed {seed}",
@@ -483,8 +479,8 @@ def fabrication_scatter(
 
 
 def main() -> None:
-    """Console entry point (``tandem``)."""
-    app(prog_name="tandem")
+    """Console entry point (``tandem``): framework errors, too, are one line and exit 2."""
+    run_app(app)
 
 
 if __name__ == "__main__":

@@ -42,8 +42,11 @@ Concentration = Annotated[float, _opt(help="Suns of concentration (blackbody: up
 SunTemperature = Annotated[float, _opt(help="Blackbody sun temperature in K.")]
 Irradiance = Annotated[Optional[float], _opt(help="Rescale the spectrum to this many W/m^2 "
                                              "(reported).")]
-Temperature = Annotated[Optional[float], _opt(help="Cell temperature in K (default 298.15; yield: "
-                                              "the SAPM model per step).")]
+Temperature = Annotated[Optional[str], _opt(help="Cell temperature with its unit, e.g. 298.15K or "
+                                            "25C (default 25C; yield: the SAPM model per step).",
+                                            metavar="TEMP")]
+OutsideRange = Annotated[bool, _opt("--outside-range", help="Accept gaps and thicknesses outside the "
+                                    "absorbers' declared ranges (reported).")]
 Terminals = Annotated[int, _opt("--terminals", "-t", help="2 (series, one current) or 4 "
                                 "(independent); ranks designs.")]
 Ere = Annotated[Optional[str], _opt(help="External radiative efficiency in (0, 1]: one value or "
@@ -69,7 +72,7 @@ Plot = Annotated[Optional[str], _opt(help="Write the figure to this PNG or SVG f
 SHARED = ("spectrum", "concentration", "sun_temperature", "irradiance", "temperature",
           "terminals", "ere", "ideality", "coupling", "rear_emission", "front_index",
           "series_resistance", "shunt_resistance", "reflectance", "front_parasitic",
-          "interlayer_parasitic")
+          "interlayer_parasitic", "outside_range")
 
 
 def _light(o: dict) -> tandem.Light:
@@ -80,14 +83,17 @@ def _light(o: dict) -> tandem.Light:
 def _operating(o: dict, temperature_default: float = 298.15) -> tandem.OperatingPoint:
     from tandem.stack import Electrical
 
-    t = temperature_default if o["temperature"] is None else o["temperature"]
+    from tandem.inputs import parse_temperature
+
+    t = temperature_default if o["temperature"] is None else parse_temperature(o["temperature"])
     return tandem.OperatingPoint(
         temperature_K=t, terminals=o["terminals"], ideality=o["ideality"],
         ere=None if o["ere"] is None else _floats(o["ere"], "--ere"),
         electrical=Electrical(o["coupling"], o["series_resistance"], o["shunt_resistance"],
                               o["rear_emission"]),
         front_index=o["front_index"], reflectance=o["reflectance"],
-        front_parasitic=o["front_parasitic"], interlayer_parasitic=o["interlayer_parasitic"])
+        front_parasitic=o["front_parasitic"], interlayer_parasitic=o["interlayer_parasitic"],
+        allow_outside_range=o["outside_range"])
 
 
 def shared(command):
@@ -101,7 +107,8 @@ def shared(command):
                 "rear_emission": (RearEmission, False), "front_index": (FrontIndex, 3.5),
                 "series_resistance": (Series, 0.0), "shunt_resistance": (Shunt, math.inf),
                 "reflectance": (Reflectance, "0"), "front_parasitic": (FrontParasitic, "0"),
-                "interlayer_parasitic": (InterParasitic, "0")}
+                "interlayer_parasitic": (InterParasitic, "0"),
+                "outside_range": (OutsideRange, False)}
     sig = inspect.signature(command, eval_str=True)  # typer reads __signature__ as it stands
     own = [p for p in sig.parameters.values() if p.name != "o"]
     extra = [inspect.Parameter(k, inspect.Parameter.KEYWORD_ONLY, annotation=a, default=d)
@@ -213,3 +220,71 @@ def _write_plot(result, path, overwrite):
     from tandem.plots import _save
 
     err.print(f"wrote {escape(str(_save(result.plot(), path, overwrite)))}")
+
+
+PLOT_SUFFIXES = (".png", ".svg", ".pdf")
+
+
+def check_outputs(paths, overwrite: bool, plot: bool = False) -> None:
+    """Every output checked before any computation: its folder exists and takes files, it
+    does not exist yet (or --overwrite), its name is not too long, a figure has a known type."""
+    from pathlib import Path
+
+    from tandem.files import check_new_output, check_output_folder
+
+    for p in paths:
+        if p is None:
+            continue
+        path = Path(p)
+        if not path.name or path.name in (".", ".."):
+            raise TandemInputError(f"output '{p}': give a file name")
+        if plot and path.suffix.lower() not in PLOT_SUFFIXES:
+            raise TandemInputError(f"figure '{p}': give a .png, .svg or .pdf file name")
+        check_output_folder(path)
+        check_new_output(path, overwrite)
+
+
+def energy_text(kwh: float) -> str:
+    """An energy with digits enough for the period: Wh/m² below 10 kWh/m²."""
+    return f"{1000 * kwh:.0f} Wh/m²" if abs(kwh) < 10 else f"{kwh:.1f} kWh/m²"
+
+
+def friendly(command):
+    """Library input errors and file-system faults: one line on stderr, exit code 2."""
+
+    @functools.wraps(command)
+    def wrapper(*args, **kwargs):
+        try:
+            return command(*args, **kwargs)
+        except TandemInputError as exc:
+            err.print(f"[bold red]error:[/] {escape(str(exc))}", highlight=False, soft_wrap=True)
+        except OSError as exc:  # a full disk, a read-only place, a file-size limit, a closed pipe
+            where = f" '{exc.filename}'" if getattr(exc, "filename", None) else ""
+            try:
+                err.print(f"[bold red]error:[/] cannot write{escape(where)}: "
+                          f"{escape(exc.strerror or str(exc))}", highlight=False, soft_wrap=True)
+            except OSError:
+                pass
+        raise typer.Exit(2)
+
+    return wrapper
+
+
+def run_app(app) -> None:
+    """Run the typer app so that usage errors are one line (exit 2) and Ctrl-C is exit 130."""
+    try:
+        import click
+    except ImportError:  # typer ≥ 0.24 carries its own copy
+        from typer import _click as click
+
+    try:
+        code = typer.main.get_command(app).main(prog_name="tandem", standalone_mode=False)
+    except click.exceptions.UsageError as exc:
+        hint = f" (see 'tandem {exc.ctx.info_name} --help')" if exc.ctx and exc.ctx.parent else ""
+        err.print(f"[bold red]error:[/] {escape(exc.format_message())}{hint}", highlight=False,
+                  soft_wrap=True)
+        sys.exit(2)
+    except click.exceptions.Abort:
+        err.print("interrupted")
+        sys.exit(130)
+    sys.exit(code if isinstance(code, int) else 0)

@@ -46,6 +46,7 @@ class Conditions:
     temperature_K: float = 298.15
     ideality: float = 1.0
     electrical: Electrical = IDEAL
+    allow_outside_range: bool = False  #: accept gaps and thicknesses outside declared ranges
 
 
 def stack_light(design: StackDesign, energy, front_gap, front_thickness_nm, back_thickness_nm,
@@ -270,12 +271,14 @@ def check_design_inputs(design: StackDesign, cond: Conditions, front_gaps, back_
     t = cond.temperature_K
     cond.photon_flux.check_gap(np.asarray(front_gaps) + design.front.gap_shift_eV(t), "front gap")
     cond.photon_flux.check_gap(design.back.gap_eV + design.back.gap_shift_eV(t), "back gap")
+    free = cond.allow_outside_range
     for g in np.atleast_1d(front_gaps):
-        design.front.check_gap(float(g))
+        design.front.check_gap(float(g), free)
     for d in back_thicknesses:
-        design.back.check_thickness(d, "back thickness")
+        design.back.check_thickness(d, "back thickness", free)
     lo, hi = front_thickness_range
-    design.front.check_thickness(lo, "front thickness")
+    design.front.check_thickness(lo, "front thickness", free)
+    design.front.check_thickness(hi, "front thickness", free)
     if not hi > lo:
         raise TandemInputError(f"front thickness range {lo:g}-{hi:g} nm is empty or reversed; "
                                "give thinnest:thickest")

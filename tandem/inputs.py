@@ -17,6 +17,29 @@ from .stack import (DEFAULT_FRONT_INDEX, IDEAL, Electrical, check_front_index, c
                     check_temperature)
 
 
+def parse_temperature(value, what: str = "cell temperature") -> float:
+    """A temperature as people write it, in K: 298.15, '298.15K', '25C', '25 °C'.
+
+    A bare number is kelvin (never guessed to be Celsius); one outside 150–500 K is refused
+    with the hint 'did you mean 25C?'.
+    """
+    from .stack import check_temperature
+
+    text = str(value).strip().replace("°", "").replace(" ", "")
+    unit = text[-1:].upper() if text[-1:].isalpha() else ""
+    number = text[:-1] if unit else text
+    try:
+        t = float(number)
+    except ValueError:
+        raise TandemInputError(f"{what} '{value}': give a number with K or C, e.g. 298.15K or "
+                               "25C") from None
+    if unit not in ("", "K", "C"):
+        raise TandemInputError(f"{what} '{value}': the unit must be K or C")
+    kelvin = t + 273.15 if unit == "C" else t
+    check_temperature(kelvin, what)
+    return kelvin
+
+
 def _finite(value, what: str, lo: float, hi: float, unit: str, hint: str = "") -> float:
     try:
         value = float(value)
@@ -106,6 +129,8 @@ class OperatingPoint:
         Rear emission, luminescent coupling, series and shunt resistance.
     front_index : float
         Refractive index of a step-absorber front, for its rear emission [-].
+    allow_outside_range : bool
+        Accept gaps and thicknesses outside the ranges the absorber files declare (reported).
     reflectance, front_parasitic, interlayer_parasitic : float or str
         Optical losses: a fraction in [0, 1) or a CSV of wavelength [nm], fraction.
 
@@ -125,6 +150,7 @@ class OperatingPoint:
     reflectance: float | str = 0.0
     front_parasitic: float | str = 0.0
     interlayer_parasitic: float | str = 0.0
+    allow_outside_range: bool = False  #: accept gaps and thicknesses outside absorbers' ranges
 
     def __post_init__(self):
         check_temperature(float(self.temperature_K), "cell temperature")

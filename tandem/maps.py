@@ -110,10 +110,15 @@ def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thick
     front_gaps = np.asarray(front_gaps, dtype=float)
     back_gaps = np.array([back.gap_eV]) if back_gaps is None else np.asarray(back_gaps, dtype=float)
     for g in back_gaps:
-        back.check_gap(float(g))
+        back.check_gap(float(g), allow_outside=True)  # a map moves edges on purpose
     d_front = front.thickness_nm if front_thickness_nm is None else float(front_thickness_nm)
     d_back = back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
-    check_design_inputs(design, conditions, front_gaps, [d_back], (d_front, d_front * 1.0001))
+    import dataclasses
+
+    check_design_inputs(design, dataclasses.replace(conditions, allow_outside_range=True),
+                        front_gaps, [d_back], (d_front, d_front * 1.0001))
+    design.front.check_thickness(d_front, "front thickness", conditions.allow_outside_range)
+    design.back.check_thickness(d_back, "back thickness", conditions.allow_outside_range)
     conditions.photon_flux.check_gap(back_gaps, "back gap")
     grid = np.geomspace(*front.thickness_range_nm, thickness_points)
     shape = (front_gaps.size, back_gaps.size)

@@ -324,7 +324,7 @@ def draw_spread(result, terminals=2, target_pct=None, ax=None) -> Figure:
     fig, ax = plt.subplots(figsize=(6.5, 4)) if ax is None else (ax.figure, ax)
     ax.hist(eff, bins=60, color=FRONT_COLOUR, alpha=0.8)
     p10, p50, p90 = np.percentile(eff, [10, 50, 90])
-    for v, name in ((p10, "P10"), (p50, "P50"), (p90, "P90")):
+    for v, name in ((p10, "10th pct"), (p50, "median"), (p90, "90th pct")):
         ax.axvline(v, color="0.3", ls=":", lw=1)
         ax.text(v, ax.get_ylim()[1] * 0.95, f" {name}", fontsize=8)
     ax.axvline(nominal, color="k", lw=1.2, label=f"nominal {nominal:.2f} %")

@@ -26,12 +26,14 @@ class ScatterResult:
 
     def stats(self, terminals: int = 2, target_pct: float | None = None) -> dict:
         eff = 100 * (self.efficiency_2t if terminals == 2 else self.efficiency_4t)
+        # statistical percentiles (10 % of devices fall below percentile_10); not the
+        # exceedance "P90" of energy-yield reports, hence the explicit names
         p10, p50, p90 = np.percentile(eff, [10, 50, 90])
         out = {"samples": int(eff.size), "terminals": terminals,
                "nominal_pct": round(100 * (self.nominal_2t if terminals == 2 else self.nominal_4t), 4),
                "mean_pct": round(float(eff.mean()), 4), "std_pct": round(float(eff.std()), 4),
-               "p10_pct": round(float(p10), 4), "p50_pct": round(float(p50), 4),
-               "p90_pct": round(float(p90), 4)}
+               "percentile_10_pct": round(float(p10), 4), "median_pct": round(float(p50), 4),
+               "percentile_90_pct": round(float(p90), 4)}
         if target_pct is not None:
             out["target_pct"] = target_pct
             out["share_at_or_above_target_pct"] = round(100 * float(np.mean(eff >= target_pct)), 3)
@@ -47,8 +49,17 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
                                "thickness σ in %)")
     if not 1 <= samples <= 1_000_000:
         raise TandemInputError(f"samples {samples}: give 1 to 1,000,000 devices")
+    if not (np.isfinite(gap_sigma_eV) and np.isfinite(thickness_sigma_pct)
+            and gap_sigma_eV <= 0.5 and thickness_sigma_pct <= 100):
+        raise TandemInputError(f"fabrication spreads gap σ {gap_sigma_eV:g} eV, thickness σ "
+                               f"{thickness_sigma_pct:g} %: give at most 0.5 eV and 100 %")
+    design.front.check_gap(front_gap, cond.allow_outside_range)
+    design.front.check_thickness(front_thickness_nm, "front thickness", cond.allow_outside_range)
+    design.back.check_thickness(back_thickness_nm, "back thickness", cond.allow_outside_range)
+    if not (isinstance(seed, (int, np.integer)) and 0 <= seed < 2**63):
+        raise TandemInputError(f"seed {seed}: give a whole number from 0 up")
     if gap_sigma_eV > 0:
-        design.front.check_gap(front_gap + 1e-3)  # a tabulated edge cannot move
+        design.front.check_gap(front_gap + 1e-3, True)  # a tabulated edge cannot move
     rng = np.random.default_rng(seed)
     gaps = front_gap + gap_sigma_eV * rng.standard_normal(samples)
     thick = front_thickness_nm * (1 + thickness_sigma_pct / 100 * rng.standard_normal(samples))

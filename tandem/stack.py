@@ -448,10 +448,19 @@ def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1
 # --------------------------------------------------------------------------------------
 
 
-def check_temperature(temperature_K: float, what: str = "temperature") -> None:
-    if not (math.isfinite(temperature_K) and 0 < temperature_K < 1000):
-        raise TandemInputError(f"{what} {temperature_K:g} K: give a cell temperature in kelvin "
-                               "between 0 and 1000 (298.15 K is 25 °C)")
+#: Cell temperatures the model accepts [K]: far beyond any solar cell's operating range.
+CELL_TEMPERATURE_RANGE_K = (150.0, 500.0)
+
+
+def check_temperature(temperature_K: float, what: str = "cell temperature") -> None:
+    """Refuse a cell temperature outside 150–500 K; a value that looks like °C says so."""
+    lo, hi = CELL_TEMPERATURE_RANGE_K
+    if math.isfinite(temperature_K) and lo <= temperature_K <= hi:
+        return
+    hint = (f"did you mean {temperature_K:g}C ({temperature_K + 273.15:g} K)? "
+            if math.isfinite(temperature_K) and -100 <= temperature_K < lo else "")
+    raise TandemInputError(f"{what} {temperature_K:g} K is outside {lo:g}–{hi:g} K; {hint}give kelvin "
+                           "(298.15K) or Celsius with its unit (25C)")
 
 
 def check_ere(ere: Sequence[float], n_subcells: int) -> np.ndarray:

@@ -574,7 +574,7 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
                              float(sc.get("thickness_sigma_pct", 5.0)), int(sc.get("samples", 1000)),
                              int(sc.get("seed", 1)))
             st = spread.stats(scenario.terminals, sc.get("target_pct"))
-            row.update({"p10_pct": st["p10_pct"], "p50_pct": st["p50_pct"], "p90_pct": st["p90_pct"]})
+            row.update({k: st[k] for k in ("percentile_10_pct", "median_pct", "percentile_90_pct")})
             if "share_at_or_above_target_pct" in st:
                 row["share_at_target_pct"] = st["share_at_or_above_target_pct"]
         rows.append(row)
@@ -618,8 +618,9 @@ TABLE_COLUMNS = ([Column("rank", "rank", "#", "{}"), Column("front", "front", "f
 OPTIONAL_COLUMNS = [
     Column("energy_2t_kWh_m2", "energy 2T [kWh/m²]", "2T kWh/m²", "{:.1f}"),
     Column("energy_4t_kWh_m2", "energy 4T [kWh/m²]", "4T kWh/m²", "{:.1f}"),
-    Column("p10_pct", "P10 [%]", "P10 %", "{:.2f}"), Column("p50_pct", "P50 [%]", "P50 %", "{:.2f}"),
-    Column("p90_pct", "P90 [%]", "P90 %", "{:.2f}"),
+    Column("percentile_10_pct", "10th percentile [%]", "10th pct %", "{:.2f}"),
+    Column("median_pct", "median [%]", "median %", "{:.2f}"),
+    Column("percentile_90_pct", "90th percentile [%]", "90th pct %", "{:.2f}"),
     Column("share_at_target_pct", "at target [%]", "at target %", "{:.1f}"),
 ]
 

@@ -228,7 +228,8 @@ def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
     a_front, a_back = _pair(front, back, operating)
     flux = light.photon_flux()
     design = StackDesign(a_front, a_back, *operating.losses_on(flux.energy))
-    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical)
+    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical,
+                      operating.allow_outside_range)
     result = match_currents(design, cond, sweep.gaps(), sweep.back_thicknesses_nm,
                             sweep.front_thickness_nm, sweep.thickness_points, operating.terminals,
                             progress)
@@ -336,7 +337,8 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
                          tuple(float(e) for e in ere))
     design = StackDesign(*_pair(front_absorber, back_absorber, operating),
                          *operating.losses_on(flux.energy))
-    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical)
+    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical,
+                      operating.allow_outside_range)
     backs = None if back_gaps_eV is None else gap_axis(*back_gaps_eV, "back gaps")
     result, used = absorber_gap_map(design, cond, fronts, backs, front_thickness_nm,
                                     back_thickness_nm, rematch, progress=progress)
@@ -497,7 +499,8 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
              else np.asarray(front_thicknesses_nm, dtype=float))
     back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
     sweep = yield_sweep(design, series, gaps, thick, back_d, reference.photon_flux(),
-                        operating.ideality, operating.electrical, progress=progress)
+                        operating.ideality, operating.electrical, progress=progress,
+                        allow_outside=operating.allow_outside_range)
     i, j = sweep.optimum
     best = hourly(design, series, sweep.gaps[i], sweep.thicknesses[j], back_d,
                   operating.ideality, operating.electrical)
@@ -572,7 +575,8 @@ def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light
     d = a_front.thickness_nm if front_thickness_nm is None else float(front_thickness_nm)
     bd = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
     design = StackDesign(a_front, a_back, *operating.losses_on(flux.energy))
-    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical)
+    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical,
+                      operating.allow_outside_range)
     result = scatter(design, cond, g, d, bd, gap_sigma_eV, thickness_sigma_pct, samples, seed)
     settings = {"front": a_front.key, "back": a_back.key, "front_gap_eV": g,
                 "front_thickness_nm": d, "gap_sigma_eV": gap_sigma_eV,

@@ -97,14 +97,18 @@ def _bin_performance(design, energy, weights_e, fluxes, step_bin, gap, thickness
 def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
                 back_thickness_nm: float, reference: PhotonFlux, ideality: float = 1.0,
                 electrical: Electrical = IDEAL, bin_K: float = 2.0,
-                progress: Callable[[int, int], None] | None = None) -> YieldSweep:
+                progress: Callable[[int, int], None] | None = None,
+                allow_outside: bool = False) -> YieldSweep:
     """Energy over the series for every front gap × front thickness, 2T and 4T [kWh/m²]."""
     gaps = np.atleast_1d(np.asarray(gaps, dtype=float))
     thicknesses = np.atleast_1d(np.asarray(thicknesses, dtype=float))
     if not np.all(thicknesses > 0):
         raise TandemInputError("front thicknesses must be positive")
     for g in gaps:
-        design.front.check_gap(float(g))
+        design.front.check_gap(float(g), allow_outside)
+    for d in thicknesses:
+        design.front.check_thickness(float(d), "front thickness", allow_outside)
+    design.back.check_thickness(float(back_thickness_nm), "back thickness", allow_outside)
     energy, fluxes, _ = series.photon_fluxes()
     w = trapezoid_weights(energy) * Q
     e2 = np.zeros((gaps.size, thicknesses.size))

@@ -38,9 +38,9 @@ JOBS = {
     "map": (lambda: tandem.gap_map(operating=tandem.OperatingPoint(terminals=4),
                                    front_gaps_eV=(1.5, 2.0, 0.05), back_gaps_eV=(0.9, 1.3, 0.05)),
             ["map", "--front", "1.5:2.0:0.05", "--back", "0.9:1.3:0.05", "-t", "4", "-q"]),
-    "scatter": (lambda: tandem.fabrication_spread("gainp", "gaas", samples=200, seed=3,
+    "spread": (lambda: tandem.fabrication_spread("gainp", "gaas", samples=200, seed=3,
                                                   target_pct=30.0),
-                ["scatter", "gainp", "gaas", "--samples", "200", "--seed", "3", "--target", "30"]),
+                ["spread", "gainp", "gaas", "--samples", "200", "--seed", "3", "--target", "30"]),
 }
 
 
@@ -72,7 +72,7 @@ def test_every_computing_command_takes_the_shared_options():
     import typer.main
 
     click_app = typer.main.get_command(app)
-    for name in ("limit", "match", "map", "yield", "scatter"):
+    for name in ("limit", "match", "map", "yield", "spread"):
         params = {p.name for p in click_app.commands[name].params}
         assert set(SHARED) <= params, (name, set(SHARED) - params)
 

@@ -184,13 +184,13 @@ def test_yield_cli_json_and_figures(tmp_path):
 
 
 def test_scatter_cli(tmp_path):
-    res = runner.invoke(app, ["scatter", "perovskite-wide", "silicon", "--gap", "1.72",
+    res = runner.invoke(app, ["spread", "perovskite-wide", "silicon", "--gap", "1.72",
                               "--thickness", "900", "--samples", "300", "--target", "36",
                               "--plot", str(tmp_path / "s.png"), "--json"])
     assert res.exit_code == 0, res.output
     data = json.loads(res.stdout)
-    assert data["p10_pct"] <= data["p50_pct"] <= data["p90_pct"]
+    assert data["percentile_10_pct"] <= data["median_pct"] <= data["percentile_90_pct"]
     assert 0 <= data["share_at_or_above_target_pct"] <= 100
     assert (tmp_path / "s.png").stat().st_size > 10_000
-    res = runner.invoke(app, ["scatter", "perovskite-wide", "silicon", "--gap-sigma", "-1"])
+    res = runner.invoke(app, ["spread", "perovskite-wide", "silicon", "--gap-sigma", "-1"])
     assert res.exit_code == 2 and "spreads must be zero or positive" in res.stderr
