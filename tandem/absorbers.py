@@ -264,10 +264,15 @@ class _Checker:
     def get(self, section: str, key: str, default=None):
         return self.data.get(section, {}).get(key, default)
 
-    def positive(self, section: str, key: str, unit: str, default=None):
+    def positive(self, section: str, key: str, unit: str, default=None, low=None, high=None):
+        """A positive value, inside [low, high] where the physics bounds it."""
         value = self.get(section, key, default)
         if value is not None and not value > 0:
             self.fail(f"{section}.{key}", f"= {value:g} must be positive", f"give it in {unit}")
+        if value is not None and ((low is not None and value < low)
+                                  or (high is not None and value > high)):
+            span = f"{low:g}–{high:g}" if low is not None else f"up to {high:g}"
+            self.fail(f"{section}.{key}", f"= {value:g} is outside {span}", f"give it in {unit}")
         return value
 
 
@@ -280,6 +285,9 @@ def _read_toml(path: Path, label: str = "absorber file",
             return tomllib.load(fh)
     except tomllib.TOMLDecodeError as exc:
         raise TandemInputError(f"{label} '{path}': not valid TOML ({exc}); fix the syntax") from None
+    except RecursionError:
+        raise TandemInputError(f"{label} '{path}': nested too deeply to be a description; "
+                               "flatten it") from None
     except (OSError, UnicodeDecodeError) as exc:
         raise TandemInputError(f"{label} '{path}' cannot be read ({exc})") from None
 
@@ -336,13 +344,14 @@ def parse_absorber(path: Path) -> Absorber:
     model = c.get("absorption", "model")
     if model not in EDGE_MODELS:
         c.fail("absorption.model", f"= {model!r} is not known", f"use one of {', '.join(EDGE_MODELS)}")
-    eu = c.positive("absorption", "urbach_energy_meV", "meV (typically 5–50)") / 1000.0
+    eu = c.positive("absorption", "urbach_energy_meV", "meV (typically 5–50)", low=1.0,
+                    high=300.0) / 1000.0
     if model in ("direct", "indirect"):
         for key in ("alpha_at_gap_per_cm", "strength_per_cm"):
             if c.get("absorption", key) is None:
                 c.fail(f"absorption.{key}", "is missing",
                        f"a {model} edge needs alpha_at_gap_per_cm and strength_per_cm (cm^-1)")
-            c.positive("absorption", key, "cm^-1")
+            c.positive("absorption", key, "cm^-1", low=1e-3, high=1e8)
         edge = ParametricEdge(model, eu, float(c.get("absorption", "alpha_at_gap_per_cm")),
                               float(c.get("absorption", "strength_per_cm")))
     else:
@@ -352,7 +361,7 @@ def parse_absorber(path: Path) -> Absorber:
         edge = _tabulated_edge(c, model, eu)
 
     # --- optics, electrical, thickness -------------------------------------------------
-    n = c.positive("optics", "refractive_index", "as a number (e.g. 3.6 for silicon)")
+    n = c.positive("optics", "refractive_index", "as a number (e.g. 3.6 for silicon)", high=10.0)
     if n < 1:
         c.fail("optics.refractive_index", f"= {n:g} is below 1", "give the real part of the index (≥ 1)")
     trapping = c.get("optics", "light_trapping")
@@ -367,12 +376,13 @@ def parse_absorber(path: Path) -> Absorber:
             c.fail("electrical.ere", f"= {ere:g} is outside (0, 1]", "give a fraction, 1 = radiative limit")
         origin = "given"
     else:
-        if not deficit >= 0:
-            c.fail("electrical.voc_deficit_V", f"= {deficit:g} is negative", "give a loss ≥ 0 V")
+        if not 0 <= deficit < 0.8 * value:
+            c.fail("electrical.voc_deficit_V", f"= {deficit:g} V is outside 0 to {0.8 * value:.2f} V",
+                   "give the non-radiative loss in V, well below the gap")
         # Rau 2007: ΔVoc,nr = −(kT/q) ln ERE, at the standard 298.15 K
         ere = math.exp(-deficit / (K_B_EV * T_STC))
         origin = f"from a non-radiative Voc deficit of {deficit:g} V at 298.15 K"
-    lc = c.positive("electrical", "collection_length_nm", "nm")
+    lc = c.positive("electrical", "collection_length_nm", "nm", low=1.0, high=1e8)
 
     default, rng = c.get("thickness", "default_nm"), c.get("thickness", "range_nm")
     if default is None and c.get("thickness", "default_um") is not None:
@@ -386,6 +396,9 @@ def parse_absorber(path: Path) -> Absorber:
         c.fail("thickness.range_nm", f"= {rng} must have two values", "write [thinnest, thickest]")
     if not rng[0] > 0:
         c.fail("thickness.range_nm", f"starts at {rng[0]:g}", "thicknesses must be positive")
+    if not (0.1 <= rng[0] and rng[1] <= 1e7):
+        c.fail("thickness.range_nm", f"= {rng} goes beyond 0.1 nm – 10 mm",
+               "give thicknesses a device can have")
     if rng[0] >= rng[1]:
         c.fail("thickness.range_nm", f"= {rng} is reversed or empty", "write [thinnest, thickest]")
     if not rng[0] <= default <= rng[1]:

@@ -16,7 +16,7 @@ from rich.markup import escape
 
 import tandem
 from tandem.report import DESIGN_COLUMNS
-from tandem.cli_options import (SHARED, Json, Overwrite, Plot, Quiet, _callback,  # noqa: F401
+from tandem.cli_options import (SHARED, Json, Large, Overwrite, Plot, Quiet, _callback,  # noqa: F401
                                 _emit_json, _f, _floats, _gaps, _light, _operating, _opt,
                                 _progress, _range, _say, _table, _thickness, _write_plot,
                                 check_outputs, energy_text, err, friendly, out, run_app, shared)
@@ -152,7 +152,7 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
           top: Annotated[int, _opt(help="Configurations to show.")] = 8,
           tolerance: Annotated[float, _opt(help="Loss in % absolute defining the windows.")] = 1.0,
           plot: Plot = None, overwrite: Overwrite = False, quiet: Quiet = False,
-          json_out: Json = False, *, o):
+          large: Large = False, json_out: Json = False, *, o):
     """Current-match a two-junction stack of real absorbers: gap, thicknesses, limiting cell.
 
     Examples:
@@ -172,7 +172,8 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
     check_outputs([plot], overwrite, plot=True)
     with _progress(quiet or json_out, "sweeping") as bar:
         result = tandem.match(front, back, _light(o), _operating(o), sweep,
-                              tolerance_pct=tolerance, top=top, progress=_callback(bar))
+                              tolerance_pct=tolerance, top=top, progress=_callback(bar),
+                              allow_large=large)
     s = result.summary()
     if plot:
         _write_plot(result, plot, overwrite)
@@ -182,7 +183,7 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
     out.print(_table(f"{f['name']} over {b['name']}: best configurations ({s['terminals']}T ranking)",
                      [("#", lambda r: r["rank"])] + _columns(DESIGN_COLUMNS),
                      [dict(c, rank=i) for i, c in enumerate(s["configurations"], 1)],
-                     "Jsc F/B: front/back photocurrent (mA/cm²); Voc, FF: two-terminal"))
+                     "Jsc in mA/cm²; Voc, FF: two-terminal"))
     m = s["matched_front_thickness_nm"]
     b4, tol = s["best_4t"], s["tolerance"]
     dw, gw = tol["front_thickness_window_nm"], tol["front_gap_window_eV"]
@@ -223,7 +224,8 @@ def gap_map(front: Annotated[Optional[str], _opt("--front", help="Front gaps LO:
             tolerance: Annotated[float, _opt(help="Loss in % absolute defining the window.")] = 1.0,
             output: Annotated[str, _opt("--output", "-o", help="Prefix of the files written "
                                         "(.png .svg .csv .parquet).")] = "gap-map",
-            overwrite: Overwrite = False, quiet: Quiet = False, json_out: Json = False, *, o):
+            overwrite: Overwrite = False, quiet: Quiet = False, large: Large = False,
+            json_out: Json = False, *, o):
     """Efficiency over front × back band gaps: contour map, tolerance window, tidy tables.
 
     Examples:
@@ -238,6 +240,8 @@ def gap_map(front: Annotated[Optional[str], _opt("--front", help="Front gaps LO:
     from tandem.maps import DEFAULT_BACK, DEFAULT_FRONT
     from tandem.plots import map_figures
 
+    if not Path(output).name.strip(". "):
+        raise TandemInputError(f"--output '{output}': give a file name prefix, e.g. gap-map")
     check_outputs([Path(output).with_suffix(x) for x in (".png", ".svg", ".csv", ".parquet")],
                   overwrite)
     backs = _gaps(back, "--back", 0.01)
@@ -250,7 +254,8 @@ def gap_map(front: Annotated[Optional[str], _opt("--front", help="Front gaps LO:
             front_absorber=front_absorber, back_absorber=back_absorber,
             front_thickness_nm=front_thickness and _thickness(front_thickness, "--front-thickness"),
             back_thickness_nm=back_thickness and _thickness(back_thickness, "--back-thickness"),
-            rematch=rematch, tolerance_pct=tolerance, marks=marks, progress=_callback(bar))
+            rematch=rematch, tolerance_pct=tolerance, marks=marks, progress=_callback(bar),
+            allow_large=large)
     s, table = result.summary(), result.to_frame()
     written = map_figures(result.gap_map, o["terminals"], tolerance, marks, output, overwrite, {
         ".csv": lambda p: table.to_csv(p, index=False, float_format="%.6g"),
@@ -351,7 +356,8 @@ def energy_yield(
         points: Annotated[int, _opt(help="Front thicknesses in the sweep.")] = 16,
         back_thickness: Annotated[Optional[str], _opt(help="Back thickness, e.g. 160um.")] = None,
         output: Annotated[str, _opt("--output", "-o", help="Prefix of the figures.")] = "yield",
-        overwrite: Overwrite = False, quiet: Quiet = False, json_out: Json = False, *, o):
+        overwrite: Overwrite = False, quiet: Quiet = False, large: Large = False,
+        json_out: Json = False, *, o):
     """Energy over a day, month or year under real skies: 2T vs 4T, energy-optimal design.
 
     Examples:
@@ -367,6 +373,8 @@ def energy_yield(
 
     from tandem.inputs import parse_temperature
 
+    if not Path(output).name.strip(". "):
+        raise TandemInputError(f"--output '{output}': give a file name prefix, e.g. yield")
     check_outputs([Path(output).parent / f"{Path(output).name}{x}.png"
                    for x in ("-day", "-monthly", "-map")], overwrite)
     operating, back_d = _operating(o), back_thickness and _thickness(back_thickness, "--back-thickness")
@@ -386,7 +394,7 @@ def energy_yield(
                            ambient_temperature_C=parse_temperature(ambient, "ambient temperature")
                            - 273.15)
         series, a_front, a_back = site_series(site, weather=weather, spectra=spectra, period=period,
-                                              step_minutes=step), front, back
+                                              step_minutes=step, allow_large=large), front, back
     if o["temperature"] is not None:  # a fixed cell temperature instead of the SAPM model
         series = at_cell_temperature(series, o["temperature"])
     a_front = tandem.load_absorber(a_front) if isinstance(a_front, str) else a_front
@@ -401,7 +409,8 @@ def energy_yield(
             a_front, a_back, series, operating, back_thickness_nm=back_d, reference=_light(o),
             front_gaps_eV=None if lo is None else tandem.maps.gap_axis(
                 lo, hi, st[0] if st else 0.02, "--front-gaps"),
-            front_thicknesses_nm=np.geomspace(thick[0], thick[1], points), progress=_callback(bar))
+            front_thicknesses_nm=np.geomspace(thick[0], thick[1], points), progress=_callback(bar),
+            allow_large=large)
     s = result.summary()
     s["outputs"] = [str(p) for p in yield_figures(result.sweep, result.best, output, overwrite)]
     if json_out:
@@ -441,7 +450,8 @@ def fabrication_spread(
         samples: Annotated[int, _opt(help="Devices drawn.")] = 2000,
         seed: Annotated[int, _opt(help="Random seed (same seed, same devices).")] = 1,
         target: Annotated[Optional[float], _opt(help="Efficiency target in %.")] = None,
-        plot: Plot = None, overwrite: Overwrite = False, json_out: Json = False, *, o):
+        plot: Plot = None, overwrite: Overwrite = False, large: Large = False,
+        json_out: Json = False, *, o):
     """How fabrication spread in gap and thickness spreads the efficiency of a design.
 
     Examples:
@@ -456,7 +466,7 @@ def fabrication_spread(
         front_thickness_nm=thickness and _thickness(thickness, "--thickness"),
         back_thickness_nm=back_thickness and _thickness(back_thickness, "--back-thickness"),
         gap_sigma_eV=gap_sigma, thickness_sigma_pct=thickness_sigma, samples=samples, seed=seed,
-        target_pct=target)
+        target_pct=target, allow_large=large)
     s = result.summary()
     if plot:
         from tandem.plots import _save

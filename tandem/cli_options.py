@@ -66,6 +66,7 @@ InterParasitic = Annotated[str, _opt(help="Absorbed between the subcells: fracti
 Json = Annotated[bool, _opt("--json", help="Print one JSON object on stdout only.")]
 Quiet = Annotated[bool, _opt("--quiet", "-q", help="No progress bar.")]
 Overwrite = Annotated[bool, _opt(help="Replace outputs this command wrote before.")]
+Large = Annotated[bool, _opt("--large", help="Run even if the estimate is over 10 minutes or 2 GiB.")]
 Plot = Annotated[Optional[str], _opt(help="Write the figure to this PNG or SVG file.")]
 
 #: the shared option names (a test checks every computing command takes all of them)

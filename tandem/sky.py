@@ -144,6 +144,8 @@ def parse_period(period: str, timezone: str, step_minutes: float) -> pd.Datetime
     if not match:
         raise TandemInputError(f"period '{period}': give day:YYYY-MM-DD, month:YYYY-MM or year:YYYY")
     kind, text = match.groups()
+    if not 1900 <= int(text[:4]) <= 2200:
+        raise TandemInputError(f"period '{period}': give a year from 1900 to 2200")
     need = {"day": 3, "month": 2, "year": 1}[kind]
     if len(text.split("-")) != need:
         raise TandemInputError(f"period '{period}': a {kind} is written "
@@ -333,6 +335,14 @@ def weather_series(site: Site, path: str | Path) -> SpectralSeries:
     if data.empty or data.isna().all().any():
         raise TandemInputError(f"weather file '{path}' has no usable irradiance or temperature "
                                "columns; check the file")
+    for column, lo, hi, unit in (("ghi", 0, 1500, "W/m²"), ("dni", 0, 1500, "W/m²"),
+                                 ("dhi", 0, 1000, "W/m²"), ("temp_air", -90, 70, "°C"),
+                                 ("wind_speed", 0, 120, "m/s")):
+        values = data[column].dropna()
+        bad = values[(values < lo) | (values > hi)]
+        if not bad.empty:
+            raise TandemInputError(f"weather file '{path}': {column} {bad.iloc[0]:g} {unit} at "
+                                   f"{bad.index[0]} is outside {lo}–{hi} {unit}; check the file")
     times = data.index - pd.Timedelta(minutes=30)  # typical-year stamps end their hour
     pos, aoi = _solar(site, times)
     poa = pvlib.irradiance.get_total_irradiance(

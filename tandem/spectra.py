@@ -354,6 +354,9 @@ def read_two_columns(path, label: str, x_name: str, y_name: str, **checks) -> np
     return parse_two_columns(text, f"{label} '{path}'", x_name, y_name, **checks)
 
 
+MAX_ROWS = 1_000_000  #: rows a two-column data file may have
+
+
 def parse_two_columns(text: str, where: str, x_name: str, y_name: str, rising: bool = True,
                       y_min: float | None = None, y_below: float | None = None,
                       positive: bool = False) -> np.ndarray:
@@ -372,7 +375,11 @@ def parse_two_columns(text: str, where: str, x_name: str, y_name: str, rising: b
 
     rows: list[tuple[float, float]] = []
     header_seen = False
-    for number, raw in enumerate(text.lstrip("\ufeff").splitlines(), start=1):
+    lines = text.lstrip("\ufeff").splitlines()
+    if len(lines) > MAX_ROWS:
+        raise TandemInputError(f"{where}: {len(lines):,} lines; give at most {MAX_ROWS:,} rows "
+                               "(resample it: the model needs no finer grid than about 1 nm)")
+    for number, raw in enumerate(lines, start=1):
         line = raw.strip()
         if not line or line.startswith("#"):
             continue

@@ -25,6 +25,30 @@ from .stack import DesignResult, detailed_balance_limit
 
 Progress = Callable[[int, int], None]
 
+#: Measured throughput on the 2-core reference machine (tests/benchmarks/run.py; rounded down):
+#: configurations per second for each job, and the limits beyond which a run must be asked for.
+RATES = {"map": 3.0e5, "match": 1.0e4, "spread": 8.0e3, "yield": 1.2e5}
+LIMIT_SECONDS, LIMIT_BYTES = 600.0, 2 * 2**30
+
+
+def check_work(job: str, count: float, bytes_needed: float = 0.0, allow_large: bool = False,
+               what: str = "configurations") -> None:
+    """Refuse, with the estimate, a run predicted to take over 10 minutes or 2 GiB.
+
+    ``count`` is the number of configurations (gap pairs, devices, step × design), ``bytes``
+    the largest array the run holds. ``allow_large`` (``--large``) lifts the limit.
+    """
+    from .errors import TandemInputError
+
+    seconds = count / RATES[job]
+    if allow_large or (seconds <= LIMIT_SECONDS and bytes_needed <= LIMIT_BYTES):
+        return
+    raise TandemInputError(
+        f"this {job} has {count:,.0f} {what}: about {seconds:,.0f} s and "
+        f"{bytes_needed / 2**20:,.0f} MiB on a 2-core laptop, over the limit of "
+        f"{LIMIT_SECONDS / 60:.0f} min and {LIMIT_BYTES / 2**30:.0f} GiB; narrow it, or pass "
+        "--large to run it anyway")
+
 
 def _frame(rows):
     import pandas as pd
@@ -196,8 +220,8 @@ class MatchStudy:
 
 def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
           operating: OperatingPoint = OperatingPoint(), sweep: Sweep = Sweep(), *,
-          tolerance_pct: float = 1.0, top: int = 8,
-          progress: Progress | None = None) -> MatchStudy:
+          tolerance_pct: float = 1.0, top: int = 8, progress: Progress | None = None,
+          allow_large: bool = False) -> MatchStudy:
     """Current-match a two-junction stack of real absorbers, and check the other order.
 
     Parameters
@@ -210,7 +234,7 @@ def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
     tolerance_pct : float
         Loss [% absolute] that defines the thickness and gap windows.
     top : int
-        Configurations in the summary.
+        Configurations in the summary (1 or more).
     progress : callable(done, total), optional
 
     Returns
@@ -226,11 +250,20 @@ def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
     'perovskite-wide'
     """
     a_front, a_back = _pair(front, back, operating)
+    gaps = sweep.gaps()
+    n_gaps = len(gaps) if gaps is not None else (
+        int(round(np.ptp(a_front.gap_range_eV) / 0.02)) + 1 if a_front.tunable else 1)
+    n_backs = len(sweep.back_thicknesses_nm or (1,))
+    check_work("match", 2 * n_gaps * n_backs * sweep.thickness_points, allow_large=allow_large)
     flux = light.photon_flux()
     design = StackDesign(a_front, a_back, *operating.losses_on(flux.energy))
     cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical,
                       operating.allow_outside_range)
-    result = match_currents(design, cond, sweep.gaps(), sweep.back_thicknesses_nm,
+    if not (isinstance(top, int) and top >= 1):
+        from .errors import TandemInputError
+
+        raise TandemInputError(f"top {top!r}: show at least one configuration")
+    result = match_currents(design, cond, gaps, sweep.back_thicknesses_nm,
                             sweep.front_thickness_nm, sweep.thickness_points, operating.terminals,
                             progress)
     swapped = match_currents(design.swapped(), cond, None, None, None, sweep.thickness_points,
@@ -299,7 +332,7 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
             back_absorber: Absorber | str | None = None,
             front_thickness_nm: float | None = None, back_thickness_nm: float | None = None,
             rematch: bool = False, tolerance_pct: float = 1.0, marks: Sequence = (),
-            progress: Progress | None = None) -> MapResult:
+            progress: Progress | None = None, allow_large: bool = False) -> MapResult:
     """Efficiency over front × back band gaps: step absorbers, or real absorbers' edges.
 
     Parameters
@@ -318,8 +351,13 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
     >>> m.summary()["optimum"]["front_gap_eV"]
     1.75
     """
-    flux = light.photon_flux()
     fronts = gap_axis(*front_gaps_eV, "front gaps")
+    n_backs = 1 if back_gaps_eV is None else gap_axis(*back_gaps_eV, "back gaps").size
+    per_pair = 60 * 30 if (front_absorber is not None and rematch) else (
+        30 if front_absorber is not None else 1)  # optics per pair cost about this many steps
+    check_work("map", fronts.size * n_backs * per_pair, allow_large=allow_large,
+               what="gap-pair evaluations")
+    flux = light.photon_flux()
     marks = tuple(marks)
     if (front_absorber is None) != (back_absorber is None):
         from .errors import TandemInputError
@@ -415,14 +453,19 @@ class YieldResult:
 
 
 def site_series(site, *, weather=None, spectra=None, period: str = "year:2026",
-                step_minutes: float = 60.0, cell_temperature_K: float | None = None):
+                step_minutes: float = 60.0, cell_temperature_K: float | None = None,
+                allow_large: bool = False):
     """The plane-of-array spectra of a site: a weather file, a folder of measured spectra, or
     clear skies over a period; optionally at a fixed cell temperature instead of SAPM [K]."""
-    from .sky import clear_sky_series, folder_series, parse_period, weather_series
+    from .sky import clear_sky_series, common_grid, folder_series, parse_period, weather_series
 
+    if not (weather or spectra):
+        times = parse_period(period, site.timezone, step_minutes)
+        # daylight is about half the steps; spectra, fluxes and a working copy are held at once
+        check_work("yield", 0.5 * times.size, 0.5 * times.size * common_grid().size * 8 * 4,
+                   allow_large=allow_large, what="daylight spectra (about)")
     series = (weather_series(site, weather) if weather else folder_series(site, spectra)
-              if spectra else clear_sky_series(site, parse_period(period, site.timezone,
-                                                                  step_minutes)))
+              if spectra else clear_sky_series(site, times))
     return series if cell_temperature_K is None else at_cell_temperature(series, cell_temperature_K)
 
 
@@ -461,7 +504,8 @@ def scenario_yield_inputs(scenario, operating: OperatingPoint):
 def energy_yield(front: Absorber | str, back: Absorber | str, series,
                  operating: OperatingPoint = OperatingPoint(), *, front_gaps_eV=None,
                  front_thicknesses_nm=None, back_thickness_nm: float | None = None,
-                 reference: Light = Light(), progress: Progress | None = None) -> YieldResult:
+                 reference: Light = Light(), progress: Progress | None = None,
+                 allow_large: bool = False) -> YieldResult:
     """Energy over a spectral series (a day, month or year) for front gap × thickness.
 
     Parameters
@@ -498,6 +542,8 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     thick = (np.geomspace(*a_front.thickness_range_nm, 16) if front_thicknesses_nm is None
              else np.asarray(front_thicknesses_nm, dtype=float))
     back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
+    check_work("yield", series.times.size * gaps.size * thick.size, allow_large=allow_large,
+               what="step × design evaluations")
     sweep = yield_sweep(design, series, gaps, thick, back_d, reference.photon_flux(),
                         operating.ideality, operating.electrical, progress=progress,
                         allow_outside=operating.allow_outside_range)
@@ -555,7 +601,7 @@ def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light
                        front_gap_eV: float | None = None, front_thickness_nm: float | None = None,
                        back_thickness_nm: float | None = None, gap_sigma_eV: float = 0.01,
                        thickness_sigma_pct: float = 5.0, samples: int = 2000, seed: int = 1,
-                       target_pct: float | None = None) -> SpreadResult:
+                       target_pct: float | None = None, allow_large: bool = False) -> SpreadResult:
     """How a spread in front gap and thickness spreads the efficiency of a design (seeded).
 
     Examples
@@ -569,6 +615,11 @@ def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light
     from .scatter import scatter
 
     a_front, a_back = _pair(front, back, operating)
+    check_work("spread", samples, allow_large=allow_large, what="devices")
+    if target_pct is not None and not (np.isfinite(target_pct) and 0 < target_pct < 100):
+        from .errors import TandemInputError
+
+        raise TandemInputError(f"target {target_pct:g} %: give an efficiency between 0 and 100 %")
     flux = light.photon_flux()
     g = a_front.gap_eV if front_gap_eV is None else float(front_gap_eV)
     flux.check_gap(g, "front gap")

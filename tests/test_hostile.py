@@ -1,0 +1,189 @@
+"""Hostile inputs across every command: one clear line, exit code 2, no traceback, nothing
+written (consistency tests of the door; each case is a finding or a neighbour of one)."""
+
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from typer.testing import CliRunner
+
+from tandem.cli import app
+
+runner = CliRunner()
+ROOT = Path(__file__).resolve().parents[1]
+SILICON = (ROOT / "absorbers" / "silicon.toml").read_text()
+PVK = (ROOT / "absorbers" / "perovskite-wide.toml").read_text()
+G = ["--front-gaps", "1.7:1.7:0.01", "--points", "10"]
+
+CASES = [
+    # limit: gaps, spectra, electrical options, light
+    ("limit", "-1"), ("limit", "0"), ("limit", "nan"), ("limit", "inf"), ("limit", "1e300"),
+    ("limit", "1.7", "1.7"), ("limit", "1.1", "1.7"), ("limit", "1", "2", "3"), ("limit", "5"),
+    ("limit", "4.42"), ("limit", "0.2"), ("limit", "1.34", "--ere", "0"),
+    ("limit", "1.34", "--ere", "1.5"), ("limit", "1.34", "--ere", "1e-320"),
+    ("limit", "1.34", "--ere", "abc"), ("limit", "1.73", "1.12", "--ere", "0.1,0.1,0.1"),
+    ("limit", "1.34", "--ideality", "0"), ("limit", "1.34", "--ideality", "1e300"),
+    ("limit", "1.34", "--ideality", "nan"), ("limit", "1.34", "--temperature", "25"),
+    ("limit", "1.34", "--temperature", "-3"), ("limit", "1.34", "--temperature", "1e9"),
+    ("limit", "1.34", "--temperature", "300F"), ("limit", "1.34", "--temperature", "warm"),
+    ("limit", "1.34", "--temperature", "nanK"), ("limit", "1.34", "-t", "3"),
+    ("limit", "1.34", "-s", "am9"), ("limit", "1.34", "-s", "nowhere.csv"),
+    ("limit", "1.34", "--concentration", "0"), ("limit", "1.34", "--concentration", "1e308"),
+    ("limit", "1.34", "--concentration", "-5"), ("limit", "1.34", "--irradiance", "1e308"),
+    ("limit", "1.34", "--irradiance", "1e-320"), ("limit", "1.34", "--irradiance", "0"),
+    ("limit", "1.34", "-s", "blackbody", "--sun-temperature", "1"),
+    ("limit", "1.34", "-s", "blackbody", "--sun-temperature", "1e300"),
+    ("limit", "1.34", "-s", "blackbody", "--concentration", "1e6"),
+    ("limit", "1.1", "-s", "blackbody", "--concentration", "46238"),
+    ("limit", "1.34", "--coupling", "2"), ("limit", "1.34", "--coupling", "-1"),
+    ("limit", "1.34", "--series-resistance", "-1"), ("limit", "1.34", "--series-resistance", "inf"),
+    ("limit", "1.34", "--shunt-resistance", "0"), ("limit", "1.34", "--front-index", "0.5"),
+    ("limit", "1.34", "--front-index", "100"), ("limit", "1.34", "--reflectance", "1"),
+    ("limit", "1.34", "--reflectance", "-0.1"), ("limit", "1.34", "--reflectance", "r.csv"),
+    ("limit", "1.34", "--plot", "out.xyz"), ("limit", "1.34", "--plot", "nodir/out.png"),
+    # absorbers
+    ("absorbers", "unobtainium"), ("absorbers", "nowhere.toml"), ("absorbers", "x" * 300),
+    ("absorbers", "silicon", "--plot", "a.bmp"),
+    # match: thicknesses, gaps, ranges, losses, options
+    ("match", "perovskite-wide", "silicon", "--back-thickness", "160", *G),
+    ("match", "perovskite-wide", "silicon", "--back-thickness", "5000um", *G),
+    ("match", "perovskite-wide", "silicon", "--back-thickness", "-1um", *G),
+    ("match", "perovskite-wide", "silicon", "--back-thickness", "abc", *G),
+    ("match", "perovskite-wide", "silicon", "--front-thickness", "5um:20um", "--front-gaps", "1.7"),
+    ("match", "perovskite-wide", "silicon", "--front-thickness", "500:100", "--front-gaps", "1.7"),
+    ("match", "perovskite-wide", "silicon", "--front-thickness", "1e-300:1e300"),
+    ("match", "perovskite-wide", "silicon", "--front-gaps", "1.55:1.55:0.01"),
+    ("match", "perovskite-wide", "silicon", "--front-gaps", "1.6:2.3:1e-9"),
+    ("match", "perovskite-wide", "silicon", "--front-gaps", "1.6:inf:0.01"),
+    ("match", "perovskite-wide", "silicon", "--front-gaps", "a:b:c"),
+    ("match", "perovskite-wide", "silicon", "--points", "2", "--front-gaps", "1.7"),
+    ("match", "perovskite-wide", "silicon", "--points", "10000000", "--front-gaps", "1.7"),
+    ("match", "perovskite-wide", "silicon", "--top", "0", *G),
+    ("match", "perovskite-wide", "silicon", "--reflectance", "1.5", *G),
+    ("match", "perovskite-wide", "silicon", "--reflectance", "nowhere.csv", *G),
+    ("match", "perovskite-wide", "silicon", "--temperature", "25", *G),
+    ("match", "perovskite-wide", "silicon", "--ere", "2", *G),
+    ("match", "perovskite-wide", "silicon", "--plot", "x.txt", *G),
+    ("match", "unobtainium", "silicon"), ("match", "silicon"),
+    ("match", "bad-alpha.toml", "silicon", *G), ("match", "bad-deficit.toml", "silicon", *G),
+    ("match", "bad-urbach.toml", "silicon", *G), ("match", "bad-index.toml", "silicon", *G),
+    ("match", "bad-range.toml", "silicon", *G), ("match", "nested.toml", "silicon", *G),
+    ("match", "latin1.toml", "silicon", *G),
+    # map
+    ("map", "--front", "1.4:1.0:0.01"), ("map", "--front", "1.4:2.3:0"), ("map", "--front", "x"),
+    ("map", "--front", "1:3:0.0001", "--back", "0.5:1.5:0.0001"), ("map", "--back", "-1"),
+    ("map", "--front", "1.4:inf:0.01"), ("map", "-t", "5"), ("map", "--ere", "0"),
+    ("map", "-o", ""), ("map", "-o", "nodir/m"), ("map", "--front-absorber", "silicon"),
+    ("map", "--tolerance", "-1", "--front", "1.6:1.8:0.1", "--back", "1.1:1.2:0.1"),
+    ("map", "--mark", "unobtainium", "--front", "1.6:1.8:0.1", "--back", "1.1:1.2:0.1"),
+    ("map", "--reflectance", "r.csv", "--front", "1.6:1.8:0.1", "--back", "1.1:1.2:0.1"),
+    # study
+    ("study", "unobtainium"), ("study", "nowhere.toml"), ("study", "latin1.toml"),
+    ("study", "nested.toml"), ("study", "nowhere/manifest.json"), ("study", "notjson.json"),
+    ("study", "--out", "/proc/x"), ("study", "--out", "no/such/dir"),
+    ("study", "markup.toml", "--out", "o"),
+    # yield
+    ("yield", "perovskite-wide", "silicon"), ("yield", "--latitude", "40"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "100", "--longitude", "0"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--period", "week:2026"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--period", "year:9999"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--period", "day:0000-01-01"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--period", "day:2026-02-30"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0", "--step", "0"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0", "--step", "1"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--ambient", "20"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--timezone", "Mars/Olympus"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--weather", "nowhere.epw"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--weather", "huge.epw", "--period", "day:2026-06-21"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--spectra", "nowhere"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--points", "1"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0",
+     "--front-gaps", "1.6:1.9:0.00001"),
+    ("yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "0", "-o", ""),
+    ("yield", "--scenario", "unobtainium"),
+    # spread
+    ("spread", "perovskite-wide", "silicon", "--gap", "1.2"),
+    ("spread", "perovskite-wide", "silicon", "--gap-sigma", "inf"),
+    ("spread", "perovskite-wide", "silicon", "--gap-sigma", "-1"),
+    ("spread", "perovskite-wide", "silicon", "--thickness-sigma", "1e9"),
+    ("spread", "perovskite-wide", "silicon", "--samples", "0"),
+    ("spread", "perovskite-wide", "silicon", "--samples", "100000000"),
+    ("spread", "perovskite-wide", "silicon", "--seed", "-1"),
+    ("spread", "perovskite-wide", "silicon", "--thickness", "0"),
+    ("spread", "perovskite-wide", "silicon", "--thickness", "16000"),
+    ("spread", "perovskite-wide", "silicon", "--plot", "s.gif"),
+    ("spread", "perovskite-wide", "silicon", "--target", "nan"),
+    # the framework itself
+    ("nosuchcommand",), ("limit",), ("limit", "abc"), ("match", "--nosuchoption"),
+]
+
+
+def inputs(folder: Path) -> None:
+    """Hostile input files, written before each case."""
+    (folder / "bad-alpha.toml").write_text(PVK.replace("strength_per_cm = 8.0e4", "strength_per_cm = 1e308"))
+    (folder / "bad-deficit.toml").write_text(PVK.replace("voc_deficit_V = 0.15", "voc_deficit_V = 1e6"))
+    (folder / "bad-urbach.toml").write_text(PVK.replace("urbach_energy_meV = 15", "urbach_energy_meV = 1e-300"))
+    (folder / "bad-index.toml").write_text(PVK.replace("refractive_index = 2.5", "refractive_index = 1e300"))
+    (folder / "bad-range.toml").write_text(PVK.replace("range_nm = [100, 1500]", "range_nm = [1e-300, 1e300]"))
+    (folder / "nested.toml").write_text("a = " + "[" * 5000 + "]" * 5000 + "\n")
+    (folder / "latin1.toml").write_bytes(PVK.replace("halide", "halide caf\u00e9").encode("latin-1"))
+    (folder / "markup[x].toml").write_text(PVK.replace('name = "wide-gap halide perovskite"',
+                                                      'name = "[/x] [bold]oops"'))
+    (folder / "markup.toml").write_text('title = "[/x]"\nquestion = "[bold]?"\n[spectrum]\n'
+                                        'source = "am1.5g"\n[candidates]\nfront = ["gainp"]\n'
+                                        'back = ["nowhere"]\n')
+    (folder / "notjson.json").write_text("{not json")
+    (folder / "r.csv").write_text("300,0.1\n1000,0.1\n")
+    epw = ["LOCATION,Test,,,,0,40,0,0,0"] + ["X"] * 7
+    epw += [f"2026,1,1,{h},0,?,0,0,0,0,0,0,0,0,1e300,1e300,1e300,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0"
+            for h in range(1, 25)]
+    (folder / "huge.epw").write_text("\n".join(epw) + "\n")
+
+
+@pytest.mark.parametrize("args", CASES, ids=[" ".join(c)[:60] for c in CASES])
+def test_hostile_input_is_one_line_and_exit_2(args, tmp_path, monkeypatch):
+    inputs(tmp_path)
+    monkeypatch.chdir(tmp_path)
+    before = set(tmp_path.iterdir())
+    res = runner.invoke(app, list(args))
+    if res.exit_code != 2 and res.exception is not None and not isinstance(res.exception, SystemExit):
+        raise res.exception
+    assert res.exit_code == 2, (res.exit_code, res.output[-600:])
+    if "Usage:" not in res.stderr:  # framework errors: checked through the real entry point below
+        lines = [l for l in res.stderr.strip().splitlines() if l.strip()]
+        assert len(lines) == 1 and lines[0].startswith("error:"), res.stderr
+    assert "Traceback" not in res.output
+    assert set(tmp_path.iterdir()) == before, "something was written"
+
+
+def test_case_count():
+    assert len(CASES) >= 100
+
+
+@pytest.mark.parametrize("args", [("nosuchcommand",), ("limit",), ("limit", "abc"),
+                                  ("match", "--nosuchoption"), ("yield", "--points", "x")])
+def test_framework_errors_are_one_line_too(args, tmp_path):
+    out = subprocess.run([sys.executable, "-m", "tandem", *args], capture_output=True, text=True,
+                         cwd=tmp_path, timeout=120)
+    assert out.returncode == 2
+    lines = [l for l in out.stderr.strip().splitlines() if l.strip()]
+    assert len(lines) == 1 and lines[0].startswith("error:"), out.stderr
+
+
+def test_names_are_printed_as_text_never_as_markup(tmp_path, monkeypatch):
+    inputs(tmp_path)
+    monkeypatch.chdir(tmp_path)
+    res = runner.invoke(app, ["match", "markup[x].toml", "silicon", *G])
+    assert res.exit_code == 0, res.output
+    assert "[/x] [bold]oops" in res.stdout
