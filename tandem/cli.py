@@ -16,7 +16,7 @@ from rich.markup import escape
 
 import tandem
 from tandem.report import DESIGN_COLUMNS
-from tandem.cli_options import (SHARED, Json, Large, Overwrite, Plot, Quiet, _callback,  # noqa: F401
+from tandem.cli_options import (SHARED, Json, Large, Wide, Overwrite, Plot, Quiet, _callback,  # noqa: F401
                                 _emit_json, _f, _floats, _gaps, _light, _operating, _opt,
                                 _progress, _range, _say, _table, _thickness, _write_plot,
                                 check_outputs, energy_text, err, friendly, out, run_app, shared)
@@ -132,27 +132,29 @@ def absorbers(name: Annotated[Optional[str], typer.Argument(
 
 def _columns(columns):
     """Terminal (heading, cell) pairs of the design-table columns shown in the terminal."""
-    return [(c.short, _f(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"))
-            for c in columns if c.terminal]
+    return [(c.short, _f(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"),
+             not c.compact) for c in columns if c.terminal]
 
 
 @app.command()
 @friendly
 @shared
 def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: bundled name or "
-                                               ".toml.", show_default=False)],
-          back: Annotated[str, typer.Argument(help="Back absorber.", show_default=False)],
+                                               ".toml.", show_default=False, metavar="FRONT")],
+          back: Annotated[str, typer.Argument(help="Back absorber.", show_default=False,
+                                              metavar="BACK")],
           front_gaps: Annotated[Optional[str], _opt(
-              help="Front gaps LO:HI:STEP in eV at 25 °C (default: the tunable range).")] = None,
+              help="Front gaps LO:HI:STEP in eV at 25 °C (default: the tunable range).",
+              metavar="LO:HI:STEP")] = None,
           front_thickness: Annotated[Optional[str], _opt(
-              help="Front thickness range THIN:THICK, e.g. 100nm:2um.")] = None,
+              help="Front thickness range THIN:THICK, e.g. 100nm:2um.", metavar="THIN:THICK")] = None,
           back_thickness: Annotated[Optional[str], _opt(
-              help="Back thickness(es), e.g. 160um or 100um,160um.")] = None,
+              help="Back thickness(es), e.g. 160um or 100um,160um.", metavar="LIST")] = None,
           points: Annotated[int, _opt(help="Front thicknesses per sweep (log-spaced).")] = 120,
           top: Annotated[int, _opt(help="Configurations to show.")] = 8,
           tolerance: Annotated[float, _opt(help="Loss in % absolute defining the windows.")] = 1.0,
           plot: Plot = None, overwrite: Overwrite = False, quiet: Quiet = False,
-          large: Large = False, json_out: Json = False, *, o):
+          large: Large = False, wide: Wide = False, json_out: Json = False, *, o):
     """Current-match a two-junction stack of real absorbers: gap, thicknesses, limiting cell.
 
     Examples:
@@ -183,7 +185,7 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
     out.print(_table(f"{f['name']} over {b['name']}: best configurations ({s['terminals']}T ranking)",
                      [("#", lambda r: r["rank"])] + _columns(DESIGN_COLUMNS),
                      [dict(c, rank=i) for i, c in enumerate(s["configurations"], 1)],
-                     "Jsc in mA/cm²; Voc, FF: two-terminal"))
+                     "Jsc in mA/cm²; Voc, FF: two-terminal", wide))
     m = s["matched_front_thickness_nm"]
     b4, tol = s["best_4t"], s["tolerance"]
     dw, gw = tol["front_thickness_window_nm"], tol["front_gap_window_eV"]
@@ -193,13 +195,13 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
          f"{best['mismatch_pct']:.2f} %)",
          f"best four-terminal: {b4['efficiency_4t_pct']:.2f} % at front gap {b4['front_gap_eV']:.3f} "
          f"eV, {b4['front_thickness_nm']:.0f} nm",
-         f"within {tol['loss_pct_abs']:g} % (absolute) of the best: front thickness "
+         f"within {tol['loss_pct_abs']:g} % abs of best: front thickness "
          f"{dw[0]:.0f}–{dw[1]:.0f} nm" + ("" if gw is None else f", front gap {gw[0]:.3f}–{gw[1]:.3f} eV"),
          f"order: {s['order']['reason']}")
     if not s["order"]["given_order_is_better"]:
         sw = s["swapped"]
         out.print(_table(f"the better order: {sw['front']} in front", _columns(DESIGN_COLUMNS),
-                         sw["configurations"][:top]))
+                         sw["configurations"][:top], wide=wide))
     _say(*[f"note: {n}" for n in s["spectrum_notes"] + s["model_notes"]], s["temperature_note"],
          f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K; "
          f"{s['configurations_evaluated']:,} configurations")
@@ -269,9 +271,9 @@ def gap_map(front: Annotated[Optional[str], _opt("--front", help="Front gaps LO:
          f"eV / back {opt['back_gap_eV']:.3f} eV (2T {opt['efficiency_2t_pct']:.2f} %, 4T "
          f"{opt['efficiency_4t_pct']:.2f} %; limiting subcell {opt['limiting_subcell']}, mismatch "
          f"{opt['mismatch_pct']:.2f} %)",
-         f"within {tolerance:g} % (absolute) of the best: front gap {fw[0]:.3f}–{fw[1]:.3f} eV"
+         f"within {tolerance:g} % abs of best: front gap {fw[0]:.3f}–{fw[1]:.3f} eV"
          + ("" if bw is None else f", back gap {bw[0]:.3f}–{bw[1]:.3f} eV"),
-         f"{s['grid_points']:,} gap pairs; {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m², cell "
+         f"{s['valid_pairs']:,} gap pairs computed (front above back, below degeneracy); {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m², cell "
          f"{s['temperature_K']:g} K", "wrote " + ", ".join(s["outputs"]))
     out.print(f"[dim]{escape(s['caution'])}[/]")
 
@@ -289,7 +291,7 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
                                             "matches (it was edited).")] = False,
         figures: Annotated[bool, _opt(help="Write the figures.")] = True,
         list_all: Annotated[bool, _opt("--list", help="List the bundled scenarios.")] = False,
-        quiet: Quiet = False, json_out: Json = False):
+        quiet: Quiet = False, wide: Wide = False, json_out: Json = False):
     """Run a whole design study and write its folder (tables, figures, manifest).
 
     The scenario file sets the light and operating point. Examples:
@@ -319,7 +321,7 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
     cols = _columns(columns(result))
     _say(sc.data["question"])
     out.print(_table(f"{sc.data['title']} — ranked designs ({sc.terminals}T)", cols,
-                     result.rows[: sc.top], "limiting: the subcell with the lower photocurrent"))
+                     result.rows[: sc.top], "limiting: the subcell with the lower photocurrent", wide))
     best = result.rows[0]
     _say(f"best: {best['front']} at {best['front_gap_eV']:.3f} eV over {best['back']}; the "
          f"{best['limiting_subcell']} subcell limits the current (mismatch {best['mismatch_pct']:.2f} %)",

@@ -33,6 +33,8 @@ err = Console(stderr=True, width=_WIDTH)
 # --------------------------------------------------------------------------------------
 
 def _opt(*names, **kw):
+    """An option whose metavar is a plain word (never '<str>' or 'list[float]')."""
+    kw.setdefault("metavar", "VALUE")
     return typer.Option(*names, **kw)
 
 
@@ -66,6 +68,7 @@ InterParasitic = Annotated[str, _opt(help="Absorbed between the subcells: fracti
 Json = Annotated[bool, _opt("--json", help="Print one JSON object on stdout only.")]
 Quiet = Annotated[bool, _opt("--quiet", "-q", help="No progress bar.")]
 Overwrite = Annotated[bool, _opt(help="Replace outputs this command wrote before.")]
+Wide = Annotated[bool, _opt("--wide", help="Show every column, however wide the table.")]
 Large = Annotated[bool, _opt("--large", help="Run even if the estimate is over 10 minutes or 2 GiB.")]
 Plot = Annotated[Optional[str], _opt(help="Write the figure to this PNG or SVG file.")]
 
@@ -188,13 +191,40 @@ def _callback(bar):
     return lambda done, total: bar.update(task, completed=done, total=total)
 
 
-def _table(title, columns, rows, caption=None) -> Table:
-    """A rich table from (heading, function of a row) pairs; text is never markup."""
-    table = Table(title=escape(title), title_justify="left", caption=caption)
-    for heading, _ in columns:  # fold, never cut: a number or a name is printed whole
-        table.add_column(heading, justify="right", overflow="fold")
-    for row in rows:
-        table.add_row(*[escape(str(fn(row))) for _, fn in columns])
+def _table(title, columns, rows, caption=None, wide: bool = False) -> Table:
+    """A rich table from (heading, function of a row[, optional]) columns; text is never markup.
+
+    Optional columns are dropped, last first, and headings broken onto two lines, until the
+    table fits the terminal, unless ``wide`` or the output is not a terminal (piped output
+    keeps every column); cells are never cut (they fold if nothing else helps).
+    """
+    cells = [[escape(str(c[1](row))) for c in columns] for row in rows]
+    headings = [c[0] for c in columns]
+    keep = list(range(len(columns)))
+
+    def need(i, heads):
+        return max([max(len(x) for x in heads[i].split("\n"))] + [len(r[i]) for r in cells])
+
+    def width(idx, heads):
+        return sum(need(i, heads) + 3 for i in idx) + 1
+
+    fits = True
+    if not (wide or not out.is_terminal):
+        optional = [i for i, c in enumerate(columns) if len(c) > 2 and c[2]]
+        while width(keep, headings) > out.width and optional:
+            keep.remove(optional.pop())
+        if width(keep, headings) > out.width:
+            headings = [h.replace(" ", "\n", 1) for h in headings]
+        fits = width(keep, headings) <= out.width
+    dropped = len(columns) - len(keep)
+    note = f"{dropped} more column{'s' if dropped > 1 else ''} with --wide" if dropped else None
+    table = Table(title=escape(title), title_justify="left",
+                  caption="; ".join(x for x in (caption, note) if x) or None)
+    for i in keep:  # fold, never cut: a number or a name is printed whole
+        table.add_column(headings[i], justify="right", overflow="fold",
+                         min_width=need(i, headings) if fits else None)
+    for r in cells:
+        table.add_row(*[r[i] for i in keep])
     return table
 
 
@@ -213,8 +243,8 @@ def _emit_json(payload: dict) -> None:
 
 
 def _say(*lines) -> None:
-    for line in lines:
-        out.print(escape(line), highlight=False, soft_wrap=True)
+    for line in lines:  # a terminal wraps at words; piped output keeps each line whole
+        out.print(escape(line), highlight=False, soft_wrap=not out.is_terminal)
 
 
 def _write_plot(result, path, overwrite):
@@ -285,7 +315,7 @@ def run_app(app) -> None:
         err.print(f"[bold red]error:[/] {escape(exc.format_message())}{hint}", highlight=False,
                   soft_wrap=True)
         sys.exit(2)
-    except click.exceptions.Abort:
+    except (KeyboardInterrupt, getattr(click.exceptions, "Abort", KeyboardInterrupt)):
         err.print("interrupted")
         sys.exit(130)
     sys.exit(code if isinstance(code, int) else 0)

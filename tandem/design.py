@@ -352,10 +352,10 @@ def match_currents(
             at_best = stack_performance(design, cond, gap, d_best, back_d)
             configs.append(Configuration(float(gap), composition, d_best, float(back_d), at_best,
                                          matched, note))
-            i4 = int(np.argmax(perf.p_4t))
-            cand = Configuration(float(gap), composition, float(d_grid[i4]), float(back_d),
-                                 stack_performance(design, cond, gap, d_grid[i4], back_d),
-                                 matched, note)
+            # refined like the table's rows, so the best-4T line and the table agree
+            d4 = _best_thickness(design, cond, gap, d_grid, back_d, perf.p_4t, 4)
+            cand = Configuration(float(gap), composition, d4, float(back_d),
+                                 stack_performance(design, cond, gap, d4, back_d), matched, note)
             if best4 is None or cand.efficiency_4t > best4.efficiency_4t:
                 best4 = cand
             done += 1

@@ -37,9 +37,21 @@ plt = _Pyplotless()
 FRONT_COLOUR, BACK_COLOUR, SUN_COLOUR = "#1f77b4", "#d62728", "0.85"
 
 
+DPI = 300  #: print resolution of PNG figures
+
+
+def _savefig(fig, target, fmt: str) -> None:
+    """Save at print resolution; SVG keeps its text as text (editable), not as paths."""
+    import matplotlib
+
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        fig.savefig(target, dpi=DPI, bbox_inches="tight", format=fmt,
+                    metadata={"Creator": "tandem"} if fmt in ("svg", "pdf") else {"Software": "tandem"})
+
+
 def _save(fig, path, overwrite):
     def write(tmp: Path):
-        fig.savefig(tmp, dpi=150, bbox_inches="tight", format=Path(path).suffix.lstrip(".") or "png")
+        _savefig(fig, tmp, Path(path).suffix.lstrip(".") or "png")
 
     try:
         return write_whole(path, write, overwrite)
@@ -165,7 +177,9 @@ def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None):
         ax.plot([fg[i]], [eff[i, 0]], "ko")
         ax.annotate(f"{eff[i, 0]:.2f} % at {fg[i]:.3f} eV", (fg[i], eff[i, 0]), xytext=(6, 6),
                     textcoords="offset points", fontsize=8)
-        for name, gap in marks:
+        for name, gap, *role in marks:
+            if role and role[0] == "back":
+                continue
             ax.axvline(gap, color="0.4", lw=0.8, ls=":")
             ax.text(gap, ax.get_ylim()[0], f" {name}", rotation=90, va="bottom", fontsize=7)
         ax.set_xlabel("front gap [eV]")
@@ -195,11 +209,12 @@ def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None):
     ax.annotate(f"{eff[i, j]:.2f} %\n{fg[i]:.3f}/{bg[j]:.3f} eV", (bg[j], fg[i]), xytext=(10, -28),
                 textcoords="offset points", fontsize=8,
                 bbox={"boxstyle": "round", "fc": "white", "ec": "0.6", "alpha": 0.9})
-    for name, gap in marks:
-        if bg[0] <= gap <= bg[-1]:
+    for name, gap, *role in marks:  # a candidate is marked on the axis of its position
+        role = role[0] if role else None
+        if role != "front" and bg[0] <= gap <= bg[-1]:
             ax.axvline(gap, color="white", lw=0.8, ls=":")
             ax.text(gap, fg[0], f" {name}", rotation=90, va="bottom", fontsize=7, color="white")
-        if fg[0] <= gap <= fg[-1]:
+        if role != "back" and fg[0] <= gap <= fg[-1]:
             ax.axhline(gap, color="white", lw=0.8, ls=":")
             ax.text(bg[-1], gap, f"{name} ", ha="right", va="bottom", fontsize=7, color="white")
     ax.set_xlabel("back gap [eV]")
@@ -218,8 +233,8 @@ def map_figures(gap_map, terminals, tolerance_pct, marks, prefix: str | Path,
     fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
     prefix = Path(prefix)
     writers = {
-        prefix.with_suffix(".png"): lambda p: fig.savefig(p, dpi=150, bbox_inches="tight", format="png"),
-        prefix.with_suffix(".svg"): lambda p: fig.savefig(p, bbox_inches="tight", format="svg"),
+        prefix.with_suffix(".png"): lambda p: _savefig(fig, p, "png"),
+        prefix.with_suffix(".svg"): lambda p: _savefig(fig, p, "svg"),
     }
     for suffix, writer in (tables or {}).items():
         writers[prefix.with_suffix(suffix)] = writer
@@ -286,7 +301,7 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False) -> l
     writers = {}
     for suffix, f in figs.items():
         writers[prefix.parent / f"{prefix.name}{suffix}.png"] = (
-            lambda p, f=f: f.savefig(p, dpi=150, bbox_inches="tight", format="png"))
+            lambda p, f=f: _savefig(f, p, "png"))
     return write_all_whole(writers, overwrite)
 
 

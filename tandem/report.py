@@ -94,7 +94,8 @@ class Column:
     short: str  #: heading in the terminal ("gap eV")
     fmt: str  #: format of one value
     value: Callable | None = None  #: configuration -> value (None: the study fills it)
-    terminal: bool = True  #: shown in the compact terminal tables
+    terminal: bool = True  #: shown in terminal tables
+    compact: bool = True  #: kept when the terminal is narrow (the others need --wide or room)
 
 
 def _limiting(c):
@@ -112,16 +113,16 @@ DESIGN_COLUMNS = [
     Column("matched_front_thickness_nm", "matched [nm]", "match nm", "{:.0f}",
            lambda c: _r(c.matched_front_thickness_nm, 1)),
     Column("back_thickness_um", "back [µm]", "back µm", "{:g}",
-           lambda c: _r(c.back_thickness_nm / 1000.0, 4)),
+           lambda c: _r(c.back_thickness_nm / 1000.0, 4), compact=False),
     Column("jsc_front_mA_cm2", "Jsc front [mA/cm²]", "Jsc front", "{:.2f}",
            lambda c: _r(c.performance.j_light[0] * MA_CM2_PER_A_M2)),
     Column("jsc_back_mA_cm2", "Jsc back [mA/cm²]", "Jsc back", "{:.2f}",
            lambda c: _r(c.performance.j_light[1] * MA_CM2_PER_A_M2)),
     Column("mismatch_pct", "mismatch [%]", "mismatch %", "{:.2f}",
-           lambda c: _r(100 * c.performance.mismatch, 3)),
+           lambda c: _r(100 * c.performance.mismatch, 3), compact=False),
     Column("limiting_subcell", "limiting", "limiting", "{}", _limiting),
-    Column("voc_2t_V", "Voc 2T [V]", "Voc V", "{:.3f}", lambda c: _r(c.performance.voc_2t)),
-    Column("ff_2t_pct", "FF 2T [%]", "FF %", "{:.1f}", lambda c: _r(100 * c.performance.ff_2t, 3)),
+    Column("voc_2t_V", "Voc 2T [V]", "Voc V", "{:.3f}", lambda c: _r(c.performance.voc_2t), compact=False),
+    Column("ff_2t_pct", "FF 2T [%]", "FF %", "{:.1f}", lambda c: _r(100 * c.performance.ff_2t, 3), compact=False),
     Column("efficiency_2t_pct", "2T [%]", "2T %", "{:.2f}",
            lambda c: _r(100 * c.performance.efficiency_2t)),
     Column("efficiency_4t_pct", "4T [%]", "4T %", "{:.2f}",
@@ -277,6 +278,7 @@ def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
             "back_gap_window_eV": None if back_window is None else [round(v, 4) for v in back_window],
         },
         "grid_points": gap_map.grid_points,
+        "valid_pairs": int(np.isfinite(gap_map.efficiency_2t).sum()),
         "spectrum": gap_map.spectrum,
         "irradiance_W_m2": round(gap_map.irradiance, 3),
         "temperature_K": gap_map.temperature_K,
@@ -291,12 +293,12 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
     i4, j4 = sweep.optimum_4t
     e2, e4 = float(sweep.energy_2t[i, j]), float(sweep.energy_4t[i, j])
     months = best.times.month
-    monthly = {}
+    monthly = []
     for m in sorted(set(months)):
         sel = months == m
-        monthly[int(m)] = {"energy_2t_kWh_m2": round(float(best.p_2t[sel] @ best.step_hours[sel]) / 1000, 3),
+        monthly.append({"month": int(m), "energy_2t_kWh_m2": round(float(best.p_2t[sel] @ best.step_hours[sel]) / 1000, 3),
                            "energy_4t_kWh_m2": round(float(best.p_4t[sel] @ best.step_hours[sel]) / 1000, 3),
-                           "insolation_kWh_m2": round(float(best.irradiance[sel] @ best.step_hours[sel]) / 1000, 3)}
+                           "insolation_kWh_m2": round(float(best.irradiance[sel] @ best.step_hours[sel]) / 1000, 3)})
     front_limits = float(np.sum(best.step_hours[best.j_front < best.j_back] * best.irradiance[best.j_front < best.j_back])
                          / max(np.sum(best.step_hours * best.irradiance), 1e-300))
     return {
@@ -329,7 +331,7 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
             "energy_2t_kWh_m2": round(float(sweep.energy_2t[a, b]), 3),
             "energy_4t_kWh_m2": round(float(sweep.energy_4t[a, b]), 3),
         },
-        "back_thickness_nm": sweep.back_thickness_nm,
+        "back_thickness_um": round(sweep.back_thickness_nm / 1000.0, 4),
         "monthly": monthly,
         "grid": {"front_gaps": int(sweep.gaps.size), "front_thicknesses": int(sweep.thicknesses.size)},
         "caution": CAUTION,

@@ -600,18 +600,24 @@ def _row(result: MatchResult, tolerance_pct: float) -> dict:
     windows = tolerance_windows(result, tolerance_pct)
     row = {"rank": 0, "front": result.design.front.key, "back": result.design.back.key}
     row.update(_configuration(best))
-    row["front_thickness_window_nm"] = "–".join(f"{v:.0f}" for v in windows["front_thickness_window_nm"])
-    gw = windows["front_gap_window_eV"]
-    row["front_gap_window_eV"] = "" if gw is None else "–".join(f"{v:.3f}" for v in gw)
+    lo, hi = windows["front_thickness_window_nm"]
+    row["front_thickness_window_lo_nm"], row["front_thickness_window_hi_nm"] = round(lo, 1), round(hi, 1)
+    gw = windows["front_gap_window_eV"] or (None, None)
+    row["front_gap_window_lo_eV"], row["front_gap_window_hi_eV"] = (
+        None if gw[0] is None else round(gw[0], 4), None if gw[1] is None else round(gw[1], 4))
     return row
 
 
 TABLE_COLUMNS = ([Column("rank", "rank", "#", "{}"), Column("front", "front", "front", "{}"),
                   Column("back", "back", "back", "{}")]
                  + [c for c in DESIGN_COLUMNS if c.key != "front_composition"]
-                 + [Column("front_thickness_window_nm", "thickness window [nm]",
-                           "window nm", "{}"),
-                    Column("front_gap_window_eV", "gap window [eV]", "gap window", "{}",
+                 + [Column("front_thickness_window_lo_nm", "1 % window from [nm]", "window from nm",
+                           "{:.0f}", compact=False),
+                    Column("front_thickness_window_hi_nm", "1 % window to [nm]", "window to nm",
+                           "{:.0f}", compact=False),
+                    Column("front_gap_window_lo_eV", "gap window from [eV]", "gap from eV", "{:.3f}",
+                           terminal=False),
+                    Column("front_gap_window_hi_eV", "gap window to [eV]", "gap to eV", "{:.3f}",
                            terminal=False),
                     Column("front_file", "front file", "front file", "{}", terminal=False),
                     Column("back_file", "back file", "back file", "{}", terminal=False)])
@@ -645,7 +651,7 @@ def markdown_table(study: StudyResult) -> str:
         lines.append("| " + " | ".join(_cell(row, c.key, c.fmt) for c in cols) + " |")
     tol = study.scenario.tolerance_pct
     lines += ["", f"Windows: front thickness and front gap keeping efficiency within {tol:g} % "
-              "(absolute) of the best.", f"Spectrum: {study.spectrum_name}, "
+              "abs of best.", f"Spectrum: {study.spectrum_name}, "
               f"{study.irradiance:.2f} W/m²; cell {study.scenario.temperature_K:g} K."]
     if study.sky:
         lines += [f"Energy: {study.sky['source']}, {study.sky['steps']} steps, "
@@ -667,15 +673,27 @@ def _latex_escape(text: str) -> str:
 
 
 def latex_table(study: StudyResult) -> str:
-    cols = [c for c in TABLE_COLUMNS if not c.key.endswith(("_file", "_window_eV", "_window_nm"))]
-    lines = [r"\begin{table}", r"\centering", r"\small",
-             r"\begin{tabular}{" + "l" * 3 + "r" * (len(cols) - 3) + "}", r"\hline",
-             " & ".join(_latex_escape(c.label) for c in cols) + r" \\", r"\hline"]
-    for row in study.rows:
-        lines.append(" & ".join(_latex_escape(_cell(row, c.key, c.fmt)) for c in cols) + r" \\")
-    lines += [r"\hline", r"\end{tabular}",
-              r"\caption{" + _latex_escape(f"{study.scenario.data['title']}. {CAUTION}") + "}",
-              r"\end{table}", ""]
+    """The design table for a LaTeX document: booktabs rules, in two parts that each fit a
+    portrait page (needs ``\\usepackage{booktabs}``), windows included."""
+    cols = [c for c in columns(study) if not c.key.endswith("_file")]
+    key = cols[:1]  # the rank ties the two parts together
+    half = (len(cols) + 1) // 2
+    parts = [cols[:half], key + cols[half:]]
+    lines = [r"\begin{table}", r"\centering", r"\small"]
+    for i, part in enumerate(parts):
+        lines += [r"\begin{tabular}{" + "".join("l" if c.fmt == "{}" else "r" for c in part) + "}",
+                  r"\toprule", " & ".join(_latex_escape(c.label) for c in part) + r" \\",
+                  r"\midrule"]
+        for row in study.rows:
+            lines.append(" & ".join(_latex_escape(_cell(row, c.key, c.fmt)) for c in part)
+                         + r" \\")
+        lines += [r"\bottomrule", r"\end{tabular}"]
+        if i == 0:
+            lines += [r"\par\medskip"]
+    windows = (f"Windows: front thickness and gap keeping efficiency within "
+               f"{study.scenario.tolerance_pct:g} % abs of best.")
+    lines += [r"\caption{" + _latex_escape(f"{study.scenario.data['title']}. {windows} {CAUTION}")
+              + "}", r"\end{table}", ""]
     return "\n".join(lines)
 
 
@@ -826,7 +844,8 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
         bg = gap_axis(*study.scenario.get("map", "back_gaps_eV"), "map.back_gaps_eV")
         flux = study.scenario.spectrum().photon_flux()
         gap_map = step_gap_map(flux, fg, bg, study.scenario.temperature_K)
-        marks = [(a.key, a.gap_eV) for a in study.scenario.fronts + study.scenario.backs]
+        marks = ([(a.key, a.gap_eV, "front") for a in study.scenario.fronts]
+                 + [(a.key, a.gap_eV, "back") for a in study.scenario.backs])
         map_figures(gap_map, study.scenario.terminals, study.scenario.tolerance_pct, marks,
                     folder / "gap-map")
 

@@ -88,15 +88,17 @@ def test_markdown_table_parses(small):
 def test_latex_table_rows_balanced(small):
     _, study, out = small
     tex = (out / "design-table.tex").read_text()
-    spec = re.search(r"\\begin\{tabular\}\{([lrc]+)\}", tex).group(1)
-    body = tex.split(r"\hline")[2]  # rows between the header rule and the last rule
-    header = tex.split(r"\hline")[1]
-    rows = [r for r in (header + body).split(r"\\") if r.strip()]
-    assert len(rows) == 1 + len(study.rows)
-    for row in rows:
-        assert row.count("&") == len(spec) - 1
-        assert not re.search(r"(?<!\\)[%_#]", row)  # specials escaped
-    assert tex.count(r"\begin{") == tex.count(r"\end{")
+    tabulars = re.findall(r"\\begin\{tabular\}\{([lrc]+)\}(.*?)\\end\{tabular\}", tex, re.S)
+    assert len(tabulars) == 2  # two parts, each fitting a portrait page
+    for spec, body in tabulars:
+        assert len(spec) <= 11 and "\\toprule" in body and "\\bottomrule" in body  # booktabs
+        rows = [r for r in body.split("\\midrule")[1].split("\\bottomrule")[0].split(r"\\")
+                if r.strip()]
+        assert len(rows) == len(study.rows)
+        for row in rows + [body.split("\\toprule")[1].split("\\midrule")[0]]:
+            assert row.count("&") == len(spec) - 1
+            assert not re.search(r"(?<!\\)[%_#]", row)  # specials escaped
+    assert "window from" in tex and tex.count(r"\begin{") == tex.count(r"\end{")
 
 
 def test_figures_are_real_images(small):
