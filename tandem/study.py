@@ -66,7 +66,7 @@ SCENARIO_SCHEMA = {
     },
     "weather": {"file": ("str", False), "spectra_folder": ("str", False), "period": ("str", False),
                 "step_minutes": ("num", False)},
-    "scatter": {"gap_sigma_eV": ("num", False), "thickness_sigma_pct": ("num", False),
+    "spread": {"gap_sigma_eV": ("num", False), "thickness_sigma_pct": ("num", False),
                 "samples": ("num", False), "seed": ("num", False), "target_pct": ("num", False)},
     "electrical": {"coupling": ("num", False), "series_resistance_ohm_cm2": ("num", False),
                    "shunt_resistance_ohm_cm2": ("num", False), "rear_emission": ("bool", False),
@@ -564,10 +564,10 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
                        best.back_thickness_nm, 1.0, cond.electrical)
             row["energy_2t_kWh_m2"] = round(float(h.p_2t @ h.step_hours) / 1000, 3)
             row["energy_4t_kWh_m2"] = round(float(h.p_4t @ h.step_hours) / 1000, 3)
-        if "scatter" in scenario.data:
+        if "spread" in scenario.data:
             from .scatter import scatter
 
-            sc = scenario.data["scatter"]
+            sc = scenario.data["spread"]
             spread = scatter(design, cond, best.front_gap_eV, best.front_thickness_nm,
                              best.back_thickness_nm,
                              float(sc.get("gap_sigma_eV", 0.01)) if front.tunable or front.edge_model in ("direct", "indirect") else 0.0,
@@ -656,9 +656,9 @@ def markdown_table(study: StudyResult) -> str:
     if study.sky:
         lines += [f"Energy: {study.sky['source']}, {study.sky['steps']} steps, "
                   f"{study.sky['insolation_kWh_m2']:.1f} kWh/m² on the module plane."]
-    if "scatter" in study.scenario.data:
-        sc = study.scenario.data["scatter"]
-        lines += [f"Scatter: front gap σ = {sc.get('gap_sigma_eV', 0.01):g} eV, thickness σ = "
+    if "spread" in study.scenario.data:
+        sc = study.scenario.data["spread"]
+        lines += [f"Fabrication spread: front gap σ = {sc.get('gap_sigma_eV', 0.01):g} eV, thickness σ = "
                   f"{sc.get('thickness_sigma_pct', 5.0):g} %, {sc.get('samples', 1000)} samples."]
     lines += ["",
               f"*{CAUTION}*", ""]

@@ -168,3 +168,24 @@ def test_every_public_name_has_a_docstring_with_an_example():
         if inspect.isfunction(obj) or inspect.isclass(obj):
             doc = inspect.getdoc(obj) or ""
             assert "Examples" in doc and ">>>" in doc, name
+
+
+SCHEMA_RUNS = {
+    "limit": ["limit", "1.73", "1.12", "--ideality", "2", "--ere", "0.1"],
+    "match": ["match", "gainp", "gaas", "--points", "10", "-q"],
+    "map": ["map", "--front", "1.6:1.9:0.1", "--back", "0.9:1.2:0.1", "-q"],
+    "yield": ["yield", "perovskite-wide", "silicon", "--latitude", "40", "--longitude", "-105",
+              "--period", "day:2026-06-21", "--points", "3", "-q"],
+    "spread": ["spread", "gainp", "gaas", "--samples", "30"],
+    "study": ["study", "--out", "s", "-q", "--no-figures"],
+}
+
+
+@pytest.mark.parametrize("command", sorted(SCHEMA_RUNS))
+def test_json_output_follows_its_schema(command, tmp_path, monkeypatch):
+    # one unit per key name across commands, ranges as numbers, integer months
+    import jsonschema
+
+    monkeypatch.chdir(tmp_path)
+    schema = json.loads((ROOT / "tandem" / "schemas" / f"{command}.json").read_text())
+    jsonschema.validate(cli_json(*SCHEMA_RUNS[command]), schema)
