@@ -1,9 +1,8 @@
 """tandem: design two-junction solar cells from the command line.
 
 A thin layer: map options to the library's typed inputs, call one workflow function, render
-its result with rich. No physics here. Machine output (``--json``) goes alone to stdout;
-errors, notes and progress go to stderr. The light and operating options are declared once
-and shared by every computing command.
+its result with rich. No physics here. ``--json`` goes alone to stdout; errors, notes and
+progress to stderr. The light and operating options are declared once (``cli_options``).
 """
 
 from __future__ import annotations
@@ -77,7 +76,8 @@ def limit(gaps: Annotated[list[float], typer.Argument(
     out.print(_table(f"Detailed-balance limit, {kind}", [
         ("", lambda r: r["position"]), ("gap eV", _f("gap_eV", "{:.3f}", "")),
         ("Jsc mA/cm²", _f("jsc_mA_cm2")), ("Voc V", _f("voc_V", "{:.3f}")),
-        ("FF %", _f("ff_pct", "{:.1f}")), ("efficiency %", _f("efficiency_pct"))], rows))
+        ("FF %", _f("ff_pct", "{:.1f}")), ("efficiency %", _f("efficiency_pct"))], rows,
+        "subcell rows: each subcell's share of the stack's power" if two else None))
     if two:
         verb = "limits the current" if s["terminals"] == 2 else "would limit in series"
         _say(f"limiting subcell: {s['limiting_subcell']} {verb} (mismatch {s['mismatch_pct']:.2f} %); "

@@ -187,3 +187,12 @@ def test_names_are_printed_as_text_never_as_markup(tmp_path, monkeypatch):
     res = runner.invoke(app, ["match", "markup[x].toml", "silicon", *G])
     assert res.exit_code == 0, res.output
     assert "[/x] [bold]oops" in res.stdout
+
+
+def test_a_spectrum_of_millions_of_rows_is_refused_before_parsing(tmp_path):
+    import tandem
+
+    path = tmp_path / "huge.csv"
+    path.write_text("".join(f"{300 + i * 1e-4:.4f},1\n" for i in range(1_000_001)))
+    with pytest.raises(tandem.TandemInputError, match="1,000,001 lines; give at most 1,000,000"):
+        tandem.read_spectrum_csv(path)
