@@ -13,8 +13,6 @@ import math
 import sys
 from typing import Annotated, Optional
 
-import shutil
-
 import typer
 from rich.console import Console
 from rich.markup import escape
@@ -23,10 +21,9 @@ from rich.table import Table
 import tandem
 from tandem.errors import TandemInputError
 
-# Piped output is not cut to 80 columns: tables stay readable in files and logs.
-_WIDTH = shutil.get_terminal_size((150, 24)).columns
-out = Console(width=_WIDTH)
-err = Console(stderr=True, width=_WIDTH)
+# A terminal gets tables that fit its width; piped output is never cut (no width limit).
+out = Console(width=None if sys.stdout.isatty() else 100_000)
+err = Console(stderr=True, width=None if sys.stderr.isatty() else 100_000)
 
 # --------------------------------------------------------------------------------------
 # Options declared once
