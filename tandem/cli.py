@@ -14,7 +14,6 @@ import typer
 from rich.markup import escape
 
 import tandem
-from tandem.report import DESIGN_COLUMNS
 from tandem.cli_options import (SHARED, Json, Large, Wide, Overwrite, Plot, Quiet, _callback,  # noqa: F401
                                 _emit_json, _f, _floats, _gaps, _light, _operating, _opt,
                                 _progress, _range, _say, _table, _thickness, _write_plot,
@@ -130,8 +129,9 @@ def absorbers(name: Annotated[Optional[str], typer.Argument(
         err.print(f"wrote {escape(str(absorber_figure(a, plot, overwrite)))}")
 
 
-def _columns(columns):
-    """Terminal (heading, cell) pairs of the design-table columns shown in the terminal."""
+def _columns(columns=None):  # the design-table columns shown in the terminal
+    if columns is None:
+        from tandem.report import DESIGN_COLUMNS as columns
     return [(c.short, _f(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"),
              not c.compact) for c in columns if c.terminal]
 
@@ -183,7 +183,7 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
         return _emit_json(s)
     f, b, best = s["front"], s["back"], s["configurations"][0]
     out.print(_table(f"{f['name']} over {b['name']}: best configurations ({s['terminals']}T ranking)",
-                     [("#", lambda r: r["rank"])] + _columns(DESIGN_COLUMNS),
+                     [("#", lambda r: r["rank"])] + _columns(),
                      [dict(c, rank=i) for i, c in enumerate(s["configurations"], 1)],
                      "Jsc in mA/cm²; Voc, FF: two-terminal", wide))
     m = s["matched_front_thickness_nm"]
@@ -200,7 +200,7 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
          f"order: {s['order']['reason']}")
     if not s["order"]["given_order_is_better"]:
         sw = s["swapped"]
-        out.print(_table(f"the better order: {sw['front']} in front", _columns(DESIGN_COLUMNS),
+        out.print(_table(f"the better order: {sw['front']} in front", _columns(),
                          sw["configurations"][:top], wide=wide))
     _say(*[f"note: {n}" for n in s["spectrum_notes"] + s["model_notes"]], s["temperature_note"],
          f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K; "

@@ -12,7 +12,6 @@ from dataclasses import dataclass, field, replace
 from typing import Callable, Sequence
 
 import numpy as np
-from scipy import optimize
 
 from . import detailed_balance as db
 from .absorbers import Absorber
@@ -228,6 +227,8 @@ def _match_thickness(design, cond, gap, d_grid, back_d, currents,
         j = stack_performance(design, cond, gap, d, back_d, back_gap).j_light
         return float(j[0] - j[1])
 
+    from scipy import optimize  # imported where used: a quick command must start fast
+
     root = optimize.brentq(f, d_grid[i - 1], d_grid[i], xtol=1e-6 * d_grid[i], rtol=1e-10)
     return float(root), "matched"
 
@@ -242,6 +243,8 @@ def _best_thickness(design, cond, gap, d_grid, back_d, p, terminals) -> float:
     def neg(logd):
         perf = stack_performance(design, cond, gap, math.exp(logd), back_d)
         return -float(perf.p_2t if terminals == 2 else perf.p_4t)
+
+    from scipy import optimize
 
     res = optimize.minimize_scalar(neg, bounds=(math.log(lo), math.log(hi)), method="bounded",
                                    options={"xatol": 1e-5})

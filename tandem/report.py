@@ -12,7 +12,6 @@ import math
 
 import numpy as np
 
-from .design import tolerance_window
 from .stack import SUBCELL_NAMES, DesignResult
 from .units import MA_CM2_PER_A_M2
 
@@ -255,6 +254,8 @@ def absorber_summary(a) -> dict:
 
 def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
     """Optimum and tolerance windows of a map, in display units."""
+    from .design import tolerance_window
+
     i, j = gap_map.optimum(terminals)
     eff = 100 * gap_map.efficiency(terminals)
     front_window = tolerance_window(gap_map.front_gaps, eff[:, j], tolerance_pct)

@@ -125,7 +125,7 @@ class SpectralSeries:
 
 def common_grid() -> np.ndarray:
     """The ASTM G173-03 wavelengths from 300 to 4000 nm (SPECTRL2's range) [nm]."""
-    wl = _astm_g173().index.to_numpy(dtype=float)
+    wl = _astm_g173()["wavelength"]
     return wl[(wl >= 300.0) & (wl <= 4000.0)]
 
 
@@ -248,7 +248,7 @@ def anchored_poa(site: Site, apparent_zenith, aoi, dayofyear):
 @functools.lru_cache(maxsize=1)
 def _g173_global():
     table = _astm_g173()
-    return table.index.to_numpy(dtype=float), table["global"].to_numpy(dtype=float)
+    return table["wavelength"], table["global"]
 
 
 def _spectrl2(site: Site, times, pos, aoi):

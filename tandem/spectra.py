@@ -199,11 +199,22 @@ class PhotonFlux:
 
 
 @functools.lru_cache(maxsize=1)
-def _astm_g173():
-    import pvlib  # imported lazily: it is slow to import and only needed here
+def _astm_g173() -> dict:
+    """The ASTM G173-03 table shipped with pvlib, read without importing pvlib (which is slow):
+    {'wavelength', 'extraterrestrial', 'global', 'direct'} arrays [nm, W m⁻² nm⁻¹].
 
-    table = pvlib.spectrum.get_reference_spectra(standard="ASTM G173-03")
-    return table
+    ``tests/test_spectra.py`` checks it equals ``pvlib.spectrum.get_reference_spectra``.
+    """
+    import importlib.util
+
+    spec = importlib.util.find_spec("pvlib")
+    if spec is None or not spec.submodule_search_locations:
+        raise TandemInputError("the ASTM G173-03 table comes with pvlib, which is not installed; "
+                               "install tandem's dependencies")
+    path = Path(spec.submodule_search_locations[0]) / "data" / "ASTMG173.csv"
+    data = np.loadtxt(path, delimiter=",", skiprows=2)
+    return {"wavelength": data[:, 0], "extraterrestrial": data[:, 1], "global": data[:, 2],
+            "direct": data[:, 3]}
 
 
 def reference_spectrum(name: str = "am1.5g") -> Spectrum:
@@ -232,11 +243,8 @@ def reference_spectrum(name: str = "am1.5g") -> Spectrum:
                                "'blackbody', or a CSV file path")
     column, title = REFERENCE_SPECTRA[key]
     table = _astm_g173()
-    return Spectrum(
-        name=title,
-        wavelength_nm=table.index.to_numpy(dtype=float),
-        irradiance=table[column].to_numpy(dtype=float),
-    )
+    return Spectrum(name=title, wavelength_nm=table["wavelength"].copy(),
+                    irradiance=table[column].copy())
 
 
 def blackbody_sun(

@@ -1,0 +1,29 @@
+"""The constants written out in tandem.units are scipy's CODATA 2018 values (validation against
+a general-purpose library), and the ASTM G173-03 table read directly is pvlib's."""
+
+import numpy as np
+import pytest
+from scipy import constants
+
+from tandem import units
+from tandem.spectra import _astm_g173
+
+
+def test_constants_are_codata_2018():
+    assert units.Q == constants.e
+    assert units.K_B_EV == pytest.approx(constants.k / constants.e, rel=1e-15)
+    assert units.HC_EV_NM == pytest.approx(constants.h * constants.c / constants.e * 1e9, rel=1e-15)
+    assert units.BB_FLUX_PREFACTOR == pytest.approx(
+        2 * constants.pi * constants.e**3 / (constants.h**3 * constants.c**2), rel=1e-14)
+    assert units.SUN_DILUTION == pytest.approx((6.957e8 / constants.au) ** 2, rel=1e-15)
+
+
+def test_g173_read_directly_equals_pvlib():
+    # ASTM G173-03 as pvlib reads it (pandas), against the direct read tandem uses
+    import pvlib
+
+    ref = pvlib.spectrum.get_reference_spectra(standard="ASTM G173-03")
+    ours = _astm_g173()
+    np.testing.assert_array_equal(ours["wavelength"], ref.index.to_numpy(dtype=float))
+    for column in ("extraterrestrial", "global", "direct"):
+        np.testing.assert_array_equal(ours[column], ref[column].to_numpy(dtype=float))
