@@ -14,7 +14,7 @@ import typer
 from rich.markup import escape
 
 import tandem
-from tandem.cli_options import (SHARED, Json, Large, Wide, Overwrite, Plot, Quiet, _callback,  # noqa: F401
+from tandem.cli_options import (SHARED, Json, Large, Wide, _columns, Overwrite, Plot, Quiet, _callback,  # noqa: F401
                                 _emit_json, _f, _floats, _gaps, _light, _operating, _opt,
                                 _progress, _range, _say, _table, _thickness, _write_plot,
                                 check_outputs, energy_text, err, friendly, out, run_app, shared)
@@ -129,13 +129,6 @@ def absorbers(name: Annotated[Optional[str], typer.Argument(
         err.print(f"wrote {escape(str(absorber_figure(a, plot, overwrite)))}")
 
 
-def _columns(columns=None):  # the design-table columns shown in the terminal
-    if columns is None:
-        from tandem.report import DESIGN_COLUMNS as columns
-    return [(c.short, _f(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"),
-             not c.compact) for c in columns if c.terminal]
-
-
 @app.command()
 @friendly
 @shared
@@ -240,6 +233,7 @@ def gap_map(front: Annotated[Optional[str], _opt("--front", help="Front gaps LO:
       --back-absorber silicon --rematch
     """
     from tandem.maps import DEFAULT_BACK, DEFAULT_FRONT
+    from tandem.files import write_csv
     from tandem.plots import map_figures
 
     if not Path(output).name.strip(". "):
@@ -260,7 +254,7 @@ def gap_map(front: Annotated[Optional[str], _opt("--front", help="Front gaps LO:
             allow_large=large)
     s, table = result.summary(), result.to_frame()
     written = map_figures(result.gap_map, o["terminals"], tolerance, marks, output, overwrite, {
-        ".csv": lambda p: table.to_csv(p, index=False, float_format="%.6g"),
+        ".csv": lambda p: write_csv(table, p),
         ".parquet": lambda p: table.to_parquet(p, index=False)})
     s["outputs"] = [str(p) for p in written]
     if json_out:

@@ -316,3 +316,11 @@ def run_app(app) -> None:
         err.print("interrupted")
         sys.exit(130)
     sys.exit(code if isinstance(code, int) else 0)
+
+
+def _columns(columns=None):
+    """Terminal (heading, cell, optional) triples of the design-table columns shown."""
+    if columns is None:
+        from tandem.report import DESIGN_COLUMNS as columns
+    return [(c.short, _f(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"),
+             not c.compact) for c in columns if c.terminal]

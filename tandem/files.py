@@ -297,3 +297,12 @@ def _swap_by_two_renames(new: Path, target: Path) -> None:
         raise
     shutil.rmtree(new, ignore_errors=True)
     os.rename(aside, new)
+
+
+def write_csv(frame, path) -> None:
+    """A DataFrame as CSV through pyarrow's writer (about 10× faster than pandas on large
+    grids), numbers at full precision."""
+    import pyarrow as pa
+    from pyarrow import csv
+
+    csv.write_csv(pa.Table.from_pandas(frame, preserve_index=False), str(path))

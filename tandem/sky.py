@@ -110,17 +110,30 @@ class SpectralSeries:
         One energy grid for all steps, refined (:func:`~tandem.spectra.conserving_grid`) so
         that the energy-weighted mean spectrum keeps its photons and power.
         """
+        cached = self.__dict__.get("_photon_fluxes")  # computed once: the series is frozen
+        if cached is not None:
+            return cached
         weights = self.step_hours / max(float(np.sum(self.step_hours)), 1e-300)
         grid = conserving_grid(self.wavelength_nm, weights @ self.irradiance)
         rows = np.stack([np.interp(grid, self.wavelength_nm, r) for r in self.irradiance]) \
             if grid.size != self.wavelength_nm.size else self.irradiance
         energy, flux = _to_energy(grid, rows)
-        return energy, flux, np.trapezoid(self.irradiance, self.wavelength_nm, axis=-1)
+        cached = (energy, flux, self.step_irradiance)
+        object.__setattr__(self, "_photon_fluxes", cached)
+        return cached
+
+    @property
+    def step_irradiance(self) -> np.ndarray:
+        """Plane-of-array irradiance of each step [W/m²] (computed once)."""
+        cached = self.__dict__.get("_step_irradiance")
+        if cached is None:
+            cached = np.trapezoid(self.irradiance, self.wavelength_nm, axis=-1)
+            object.__setattr__(self, "_step_irradiance", cached)
+        return cached
 
     @property
     def insolation_kWh_m2(self) -> float:
-        return float(np.sum(np.trapezoid(self.irradiance, self.wavelength_nm, axis=-1)
-                            * self.step_hours) / 1000.0)
+        return float(np.sum(self.step_irradiance * self.step_hours) / 1000.0)
 
 
 def common_grid() -> np.ndarray:

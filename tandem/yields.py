@@ -109,6 +109,21 @@ def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
     for d in thicknesses:
         design.front.check_thickness(float(d), "front thickness", allow_outside)
     design.back.check_thickness(float(back_thickness_nm), "back thickness", allow_outside)
+    with _one_blas_thread():
+        return _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference,
+                            ideality, electrical, bin_K, progress)
+
+
+def _one_blas_thread():
+    """The yield's many small matrix products (steps × energies) run fastest on one BLAS
+    thread: two threads contend on two busy cores (measured: see DEVELOPERS.md)."""
+    from threadpoolctl import threadpool_limits
+
+    return threadpool_limits(limits=1, user_api="blas")
+
+
+def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference, ideality,
+                 electrical, bin_K, progress) -> YieldSweep:
     energy, fluxes, _ = series.photon_fluxes()
     w = trapezoid_weights(energy) * Q
     e2 = np.zeros((gaps.size, thicknesses.size))
@@ -136,6 +151,13 @@ def hourly(design: StackDesign, series: SpectralSeries, gap: float, thickness: f
            back_thickness_nm: float, ideality: float = 1.0, electrical: Electrical = IDEAL,
            bin_K: float = 2.0) -> HourlyDesign:
     """One design at every time step of the series."""
+    with _one_blas_thread():
+        return _hourly(design, series, gap, thickness, back_thickness_nm, ideality, electrical,
+                       bin_K)
+
+
+def _hourly(design, series, gap, thickness, back_thickness_nm, ideality, electrical,
+            bin_K) -> HourlyDesign:
     energy, fluxes, power = series.photon_fluxes()
     w = trapezoid_weights(energy) * Q
     n = series.times.size
