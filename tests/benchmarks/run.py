@@ -96,9 +96,11 @@ def ref_step_efficiency(flux, front, back):
 
 def ref_optics_efficiency(design, cond, gap, thickness, back_thickness):
     e, phi = cond.photon_flux.energy, cond.photon_flux.flux
-    front = LayerOptics(design.front.alpha(e, gap), thickness, "single-pass",
-                        design.front.refractive_index, design.front.collection_length_nm)
-    back = design.back.layer(e, back_thickness)
+    t = cond.temperature_K  # the model moves each edge by its temperature coefficient
+    front = LayerOptics(design.front.alpha(e, gap, design.front.gap_shift_eV(t)), thickness,
+                        "single-pass", design.front.refractive_index,
+                        design.front.collection_length_nm)
+    back = design.back.layer(e, back_thickness, shift_eV=design.back.gap_shift_eV(t))
     light = stack_optics(front, back, design.reflectance, design.front_parasitic,
                          design.interlayer_parasitic)
     bb = db.blackbody_photon_flux(e, cond.temperature_K)
@@ -199,7 +201,36 @@ def case_c(b_seconds):
         points = sum(f.energy.size for f in subset)
         line(f"{count} spectra x 100 x 200", count * 20_000, seconds, peak)
         print(f"    {points:,} spectral points in all; {seconds / count:.3f} s per spectrum "
-              f"(case (b) alone: {b_seconds:.3f} s on 2,002 points)")
+              f"(case (b) alone: {b_seconds:.3f} s on {fluxes[0].energy.size:,} points)")
+
+
+def whole_process(label: str, args: list[str]) -> None:
+    """Run ``tandem ARGS`` as a user would, in a scratch folder: wall time, CPU and peak memory
+    (through /usr/bin/time, so the memory is the command's own, not this script's)."""
+    import shutil
+    import subprocess
+    import tempfile
+
+    timer = shutil.which("time") or "/usr/bin/time"
+    with tempfile.TemporaryDirectory() as folder:
+        report = Path(folder) / "time.txt"
+        t0 = time.perf_counter()
+        subprocess.run([timer, "-f", "%U %S %M", "-o", str(report), sys.executable, "-m", "tandem",
+                        *args], cwd=folder, check=True, stdout=subprocess.DEVNULL,
+                       stderr=subprocess.DEVNULL)
+        wall = time.perf_counter() - t0
+        user, system, kib = report.read_text().split()[-3:]
+    print(f"  {label:<54} {wall:6.2f} s wall {float(user) + float(system):6.2f} s CPU  "
+          f"peak {int(kib) / 1024:5.0f} MiB")
+
+
+def case_d():
+    print("(d) whole commands, as a user runs them")
+    whole_process("tandem limit 1.73 1.12", ["limit", "1.73", "1.12"])
+    whole_process("tandem map, 801 x 801, with .png .svg .csv .parquet",
+                  ["map", "--front", "1.4:2.2:0.001", "--back", "0.8:1.6:0.001", "-q"])
+    whole_process("tandem yield, rooftop scenario (clear-sky year, 1 h)",
+                  ["yield", "--scenario", "perovskite-silicon-rooftop", "-q"])
 
 
 def main():
@@ -209,12 +240,16 @@ def main():
     args = parser.parse_args()
     n_sample = 500 if args.quick else max(500, args.sample)
     rng = np.random.default_rng(2026)
+    from threadpoolctl import threadpool_info
+
+    blas = ", ".join(f"{i['internal_api']} {i['num_threads']} threads" for i in threadpool_info())
     print(f"tandem {tandem.__version__}, numpy {np.__version__}, {os.cpu_count()} cores, "
-          f"Python {sys.version.split()[0]}")
+          f"Python {sys.version.split()[0]}; BLAS: {blas or 'none found'}")
     flux = tandem.reference_spectrum("am1.5g").photon_flux()
     ratio_a, diff_a = case_a(flux, n_sample, rng)
     b_seconds = case_b(flux, n_sample, rng)
     case_c(b_seconds)
+    case_d()
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(f"process peak resident memory: {rss:,.0f} MiB")
     print(f"speedup: {ratio_a:.0f}x, max difference: {diff_a:.2e} % abs")
