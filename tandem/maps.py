@@ -10,7 +10,8 @@ import numpy as np
 from .design import _match_thickness, check_design_inputs, stack_performance, tolerance_window  # noqa: F401
 from .errors import TandemInputError
 from .spectra import PhotonFlux
-from .stack import IDEAL, StackPerformance, step_stack
+from . import detailed_balance as db
+from .stack import IDEAL, StackPerformance, evaluate_stack
 from .units import K_B_EV
 
 #: Default map ranges [eV]: wide-gap fronts over the usual back-cell gaps.
@@ -72,13 +73,28 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
     f, b = np.meshgrid(front_gaps, back_gaps, indexing="ij")
     valid = f > b
     pairs = np.stack([f[valid], b[valid]], axis=-1)
+    i_front, i_back = np.nonzero(valid)
     fields = {k: np.full(f.shape, np.nan) for k in ("e2", "e4", "jf", "jb", "voc")}
     out = {k: np.empty(len(pairs)) for k in fields}
     ere = np.asarray(ere, dtype=float)
+    # Photons above a gap and the Bose integral from a gap depend on one gap only: computed once
+    # per axis, and each pair's band (front: above its gap; back: between the two) is a
+    # difference of them, exactly as step_stack forms it pair by pair.
+    energy, flux = photon_flux.energy, photon_flux.flux
+    cumulative = db.cumulative_flux(energy, flux)
+    above_f = db.flux_above(energy, flux, front_gaps, cumulative)
+    above_b = db.flux_above(energy, flux, back_gaps, cumulative)
+    j0_f = db.step_radiative_dark_current(front_gaps, temperature_K)
+    j0_b = db.step_radiative_dark_current(back_gaps, temperature_K)
+    share = np.broadcast_to(np.asarray(absorbed_share, dtype=float), (2,))
     for start in range(0, len(pairs), chunk):
         sl = slice(start, start + chunk)
-        perf: StackPerformance = step_stack(photon_flux, pairs[sl], temperature_K, ere, ideality,
-                                            electrical or IDEAL, front_index, absorbed_share)
+        fi, bi = i_front[sl], i_back[sl]
+        j_light = db.Q * np.stack([above_f[fi], above_b[bi] - above_f[fi]], axis=-1) * share
+        j0_rad = np.stack([j0_f[fi], j0_b[bi] - j0_f[fi]], axis=-1) * share
+        perf: StackPerformance = evaluate_stack(j_light, j0_rad, temperature_K,
+                                                photon_flux.irradiance, ere, ideality,
+                                                electrical or IDEAL, front_index)
         # points whose subcell would sit within kT of its gap are outside the Boltzmann diode
         # (see stack.check_boltzmann_regime): left blank, never printed
         kt = K_B_EV * float(temperature_K)
