@@ -5,6 +5,8 @@ import json
 import numpy as np
 import pandas as pd
 import pytest
+
+import tandem
 from typer.testing import CliRunner
 
 from tandem.cli import app
