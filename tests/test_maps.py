@@ -5,10 +5,9 @@ import json
 import numpy as np
 import pandas as pd
 import pytest
-
-import tandem
 from typer.testing import CliRunner
 
+import tandem
 from tandem.cli import app
 from tandem.maps import gap_axis, step_gap_map, tolerance_window
 
