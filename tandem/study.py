@@ -611,9 +611,9 @@ def _row(result: MatchResult, tolerance_pct: float) -> dict:
 TABLE_COLUMNS = ([Column("rank", "rank", "#", "{}"), Column("front", "front", "front", "{}"),
                   Column("back", "back", "back", "{}")]
                  + [c for c in DESIGN_COLUMNS if c.key != "front_composition"]
-                 + [Column("front_thickness_window_lo_nm", "1 % window from [nm]", "window from nm",
+                 + [Column("front_thickness_window_lo_nm", "thickness window from [nm]", "window from nm",
                            "{:.0f}", compact=False),
-                    Column("front_thickness_window_hi_nm", "1 % window to [nm]", "window to nm",
+                    Column("front_thickness_window_hi_nm", "thickness window to [nm]", "window to nm",
                            "{:.0f}", compact=False),
                     Column("front_gap_window_lo_eV", "gap window from [eV]", "gap from eV", "{:.3f}",
                            terminal=False),
