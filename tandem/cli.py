@@ -233,7 +233,7 @@ def gap_map(front: Annotated[Optional[str], _opt("--front", help="Front gaps LO:
       --back-absorber silicon --rematch
     """
     from tandem.maps import DEFAULT_BACK, DEFAULT_FRONT
-    from tandem.files import write_csv
+    from tandem.files import write_csv, write_parquet
     from tandem.plots import map_figures
 
     if not Path(output).name.strip(". "):
@@ -255,7 +255,7 @@ def gap_map(front: Annotated[Optional[str], _opt("--front", help="Front gaps LO:
     s, table = result.summary(), result.to_frame()
     written = map_figures(result.gap_map, o["terminals"], tolerance, marks, output, overwrite, {
         ".csv": lambda p: write_csv(table, p),
-        ".parquet": lambda p: table.to_parquet(p, index=False)})
+        ".parquet": lambda p: write_parquet(table, p)})
     s["outputs"] = [str(p) for p in written]
     if json_out:
         return _emit_json(s)

@@ -35,11 +35,47 @@ def publish_mode(path: Path) -> None:
     os.chmod(path, _umask_mode(0o777 if Path(path).is_dir() else 0o666))
 
 
+#: The stamp every file tandem writes carries (figure metadata, Parquet schema metadata).
+STAMP = "tandem"
+
+
+def written_by_tandem(path: Path) -> bool:
+    """Whether an existing file is recognisably one tandem wrote (so --overwrite may replace it).
+
+    Figures carry the stamp in their metadata (PNG 'Software', SVG and PDF 'Creator'), Parquet
+    in its schema metadata; a CSV is recognised by tandem's own header.
+    """
+    path = Path(path)
+    if not path.is_file() or path.is_symlink():
+        return False
+    suffix = path.suffix.lower()
+    try:
+        if suffix == ".parquet":
+            import pyarrow.parquet as pq
+
+            meta = pq.read_schema(path).metadata or {}
+            return meta.get(b"written_by") == STAMP.encode()
+        head = path.read_bytes()[: 1 << 20]
+    except (OSError, ValueError, Exception):  # an unreadable file is not ours
+        return False
+    if suffix == ".png":
+        return b"Software\x00" + STAMP.encode() in head
+    if suffix in (".svg", ".pdf"):
+        return STAMP.encode() in head and (b"<svg" in head or head.startswith(b"%PDF"))
+    if suffix == ".csv":
+        return head.startswith(b'"front_gap_eV","back_gap_eV"')
+    return False
+
+
 def check_new_output(path: str | Path, overwrite: bool = False) -> Path:
-    """Refuse to replace an existing file unless ``overwrite``; the folder must exist."""
+    """Refuse to replace an existing file unless ``overwrite`` and tandem wrote it; the
+    folder must exist."""
     path = Path(path)
     if path.exists() and not overwrite:
         raise TandemInputError(f"output '{path}' exists; choose another name or pass --overwrite")
+    if os.path.lexists(path) and not written_by_tandem(path):
+        raise TandemInputError(f"'{path}' was not written by tandem; --overwrite replaces only "
+                               "tandem's own outputs: move it or choose another name")
     if not path.parent.is_dir():
         raise TandemInputError(f"output folder '{path.parent}' does not exist; create it first")
     return path
@@ -297,6 +333,17 @@ def _swap_by_two_renames(new: Path, target: Path) -> None:
         raise
     shutil.rmtree(new, ignore_errors=True)
     os.rename(aside, new)
+
+
+def write_parquet(frame, path) -> None:
+    """A DataFrame as Parquet, stamped as tandem's own in its schema metadata."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    table = pa.Table.from_pandas(frame, preserve_index=False)
+    meta = dict(table.schema.metadata or {})
+    meta[b"written_by"] = STAMP.encode()
+    pq.write_table(table.replace_schema_metadata(meta), str(path))
 
 
 def write_csv(frame, path) -> None:

@@ -196,3 +196,22 @@ def test_a_spectrum_of_millions_of_rows_is_refused_before_parsing(tmp_path):
     path.write_text("".join(f"{300 + i * 1e-4:.4f},1\n" for i in range(1_000_001)))
     with pytest.raises(tandem.TandemInputError, match="1,000,001 lines; give at most 1,000,000"):
         tandem.read_spectrum_csv(path)
+
+
+@pytest.mark.parametrize("name", ["photo.png", "drawing.svg", "gap-map.csv", "gap-map.parquet"])
+def test_overwrite_replaces_only_what_tandem_wrote(name, tmp_path, monkeypatch):
+    # house rule: --overwrite only ever replaces what the tool itself wrote
+    monkeypatch.chdir(tmp_path)
+    user_file = tmp_path / name
+    user_file.write_bytes(b"the user's own bytes")
+    if name.endswith((".png", ".svg")):
+        args = ["limit", "1.34", "--plot", name, "--overwrite"]
+    else:
+        args = ["map", "--front", "1.6:1.8:0.1", "--back", "1.0:1.2:0.1", "-q", "--overwrite"]
+    res = runner.invoke(app, args)
+    assert res.exit_code == 2 and "was not written by tandem" in res.stderr
+    assert user_file.read_bytes() == b"the user's own bytes"
+    # the tool's own outputs are replaced
+    user_file.unlink()
+    assert runner.invoke(app, args).exit_code == 0
+    assert runner.invoke(app, args).exit_code == 0
