@@ -395,23 +395,6 @@ def _series_general(cells: _Cells, electrical: Electrical):
     return j, v, j * v, v_sub
 
 
-def resistive_mpp(j_light, j0, temperature_K, electrical: Electrical):
-    """Maximum power of series n = 1 diodes with a series and a shunt resistance [A/m², V, W/m²].
-
-    The diode chain carries J_d and has voltage V_d(J_d) = Σ V_i(J_d); the shunt across it
-    takes V_d/R_sh and the series resistance drops J·R_s, so the terminal current and voltage
-    are J = J_d − V_d/R_sh and V = V_d − J·R_s: the power is explicit in J_d, and a
-    vectorised golden-section search over 0 < J_d < min J_L finds its maximum.
-    """
-    j_light = np.asarray(j_light, dtype=float)
-    t = np.asarray(temperature_K, dtype=float)
-    vt = K_B_EV * np.broadcast_to(t, j_light.shape[:-1]) if t.ndim else K_B_EV * float(t)
-    cells = _Cells(j_light, np.broadcast_to(j0, j_light.shape), np.zeros(j_light.shape), 1.0,
-                   vt, np.zeros(j_light.shape[:-1]), True)
-    j, v, p, _ = _series_general(cells, electrical)
-    return j, v, p
-
-
 def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0,
                electrical: Electrical = IDEAL, front_index: float = DEFAULT_FRONT_INDEX,
                absorbed_share=1.0):
