@@ -168,14 +168,8 @@ class _Cells:
 
     def voltage(self, i: int, current, extra=0.0):
         """Voltage of subcell i carrying ``current`` with ``extra`` photocurrent [V]."""
-        jl = self.j_light[..., i] + extra
-        if self.ideal:
-            y = jl - current
-            a = self.a[..., i]
-            with np.errstate(invalid="ignore"):
-                return self.vt * np.where(y > 0, np.log1p(np.maximum(y, 0.0) / a), y / a)
-        return db.two_diode_voltage(current, jl, self.a[..., i], self.b[..., i], self.n,
-                                    self.vt / K_B_EV)
+        return _cell_voltage(current, self.j_light[..., i] + extra, self.a[..., i],
+                             self.b[..., i], self.n, self.vt, self.ideal)
 
     def back_gain(self, v_front):
         return self.gain * np.expm1(v_front / self.vt)
@@ -186,6 +180,16 @@ class _Cells:
         for i in range(1, self.j_light.shape[-1]):
             v.append(self.voltage(i, current, self.back_gain(v[0]) if i == 1 else 0.0))
         return np.stack(v, axis=-1)
+
+
+def _cell_voltage(current, j_light, a, b, n, vt, ideal: bool):
+    """Voltage of a cell carrying ``current`` [V]: one n = 1 diode (``ideal``, continued
+    linearly through zero in reverse bias) or the radiative plus non-radiative pair."""
+    if ideal:
+        y = j_light - current
+        with np.errstate(invalid="ignore"):
+            return vt * np.where(y > 0, np.log1p(np.maximum(y, 0.0) / a), y / a)
+    return db.two_diode_voltage(current, j_light, a, b, n, vt / K_B_EV)
 
 
 def _terminal(j_diode, v_diode, electrical: Electrical):
@@ -241,10 +245,7 @@ def _own_mpp(cells: _Cells, j_light, electrical: Electrical):
         return db.two_diode_mpp(j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
 
     def voltage(jd):
-        if cells.ideal:
-            y = j_light - jd
-            return vt * np.where(y > 0, np.log1p(np.maximum(y, 0.0) / cells.a), y / cells.a)
-        return db.two_diode_voltage(jd, j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
+        return _cell_voltage(jd, j_light, cells.a, cells.b, cells.n, vt, cells.ideal)
 
     jd = _resistive_maximum(voltage, np.zeros_like(j_light), j_light, electrical)
     j, v = _delivered(*_terminal(jd, voltage(jd), electrical))
