@@ -324,15 +324,8 @@ def read_spectrum_csv(path: str | Path) -> Spectrum:
     >>> read_spectrum_csv(path).integrated_irradiance
     700.0
     """
-    path = Path(path)
-    if not path.is_file():
-        raise TandemInputError(f"spectrum file '{path}' not found; give the path of a CSV file "
-                               "with wavelength [nm] and irradiance [W m^-2 nm^-1] columns")
-    try:
-        text = path.read_text(encoding="utf-8-sig")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise TandemInputError(f"spectrum file '{path}' cannot be read as text ({exc}); "
-                               "save it as a UTF-8 CSV file") from None
+    path, text = _read_data_text(path, "spectrum file",
+                                 "wavelength [nm] and irradiance [W m^-2 nm^-1]")
     return parse_spectrum_text(text, str(path), path.name)
 
 
@@ -351,15 +344,20 @@ def parse_spectrum_text(text: str, where_label: str, name: str) -> Spectrum:
 def read_two_columns(path, label: str, x_name: str, y_name: str, **checks) -> np.ndarray:
     """Read a two-column file with :func:`parse_two_columns`; a missing or non-UTF-8 file is
     one line naming ``label``."""
+    path, text = _read_data_text(path, label, f"{x_name}, {y_name}")
+    return parse_two_columns(text, f"{label} '{path}'", x_name, y_name, **checks)
+
+
+def _read_data_text(path, label: str, columns: str) -> tuple[Path, str]:
+    """The text of a data file; a missing or non-UTF-8 file is one line naming ``label``."""
     path = Path(path)
     if not path.is_file():
-        raise TandemInputError(f"{label} '{path}' not found; give a CSV file of {x_name}, {y_name}")
+        raise TandemInputError(f"{label} '{path}' not found; give a CSV file of {columns}")
     try:
-        text = path.read_text(encoding="utf-8-sig")
+        return path, path.read_text(encoding="utf-8-sig")
     except (OSError, UnicodeDecodeError) as exc:
         raise TandemInputError(f"{label} '{path}' cannot be read as text ({exc}); save it as a "
                                "UTF-8 CSV file") from None
-    return parse_two_columns(text, f"{label} '{path}'", x_name, y_name, **checks)
 
 
 MAX_ROWS = 1_000_000  #: rows a two-column data file may have
