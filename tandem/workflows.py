@@ -352,7 +352,8 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
     1.75
     """
     fronts = gap_axis(*front_gaps_eV, "front gaps")
-    n_backs = 1 if back_gaps_eV is None else gap_axis(*back_gaps_eV, "back gaps").size
+    backs = None if back_gaps_eV is None else gap_axis(*back_gaps_eV, "back gaps")
+    n_backs = 1 if backs is None else backs.size
     per_pair = 60 * 30 if (front_absorber is not None and rematch) else (
         30 if front_absorber is not None else 1)  # optics per pair cost about this many steps
     check_work("map", fronts.size * n_backs * per_pair, allow_large=allow_large,
@@ -364,7 +365,7 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
 
         raise TandemInputError("give both a front and a back absorber, or neither (step absorbers)")
     if front_absorber is None:
-        backs = gap_axis(*(back_gaps_eV or DEFAULT_BACK), "back gaps")
+        backs = gap_axis(*DEFAULT_BACK, "back gaps") if backs is None else backs
         ere = np.asarray(operating.ere or (1.0,), dtype=float)
         ere = np.broadcast_to(ere, (2,)) if ere.size == 1 else ere
         result = step_gap_map(flux, fronts, backs, operating.temperature_K, ere,
@@ -377,7 +378,6 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
                          *operating.losses_on(flux.energy))
     cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical,
                       operating.allow_outside_range)
-    backs = None if back_gaps_eV is None else gap_axis(*back_gaps_eV, "back gaps")
     result, used = absorber_gap_map(design, cond, fronts, backs, front_thickness_nm,
                                     back_thickness_nm, rematch, progress=progress)
     return MapResult(result, operating.terminals, tolerance_pct, marks, used)
