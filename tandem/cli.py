@@ -421,7 +421,9 @@ def energy_yield(
         ("AM1.5G 2T %", _f("efficiency_am15g_2t_pct"))], result.design_rows(),
         "η_E: energy-weighted efficiency (energy ÷ plane-of-array insolation)"))
     e4 = s["energy_optimum_4t"]
-    _say(f"{s['source']}: {s['steps']:,} steps, {energy_text(s['insolation_kWh_m2'])} on the module plane",
+    _say(f"{s['source']}: {s['steps']:,} steps, {energy_text(s['insolation_kWh_m2'])} on the module plane; "
+         f"spectra in a rank-{s['spectral_basis']['rank']} basis (photocurrents within "
+         f"{s['spectral_basis']['photocurrent_error_bound']:.0e} of the full spectra)",
          *[f"note: {n}" for n in s["source_notes"]],
          f"two-terminal loss to current mismatch (4T − 2T): {energy_text(eo['mismatch_loss_kWh_m2'])} "
          f"({eo['mismatch_loss_pct']:.2f} %); the front limits for "

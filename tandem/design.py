@@ -17,7 +17,7 @@ from . import detailed_balance as db
 from .absorbers import Absorber
 from .errors import TandemInputError
 from .optics import NM_TO_CM, StackOptics, stack_optics
-from .spectra import PhotonFlux
+from .spectra import PhotonFlux, trapezoid_weights
 from .stack import (IDEAL, SUBCELL_NAMES, Electrical, StackPerformance, check_receives_light,
                     evaluate_stack)
 from .units import Q, T_STC
@@ -62,16 +62,6 @@ def stack_light(design: StackDesign, energy, front_gap, front_thickness_nm, back
                              design.back.gap_shift_eV(temperature_K))
     return stack_optics(front, back, design.reflectance, design.front_parasitic,
                         design.interlayer_parasitic)
-
-
-def trapezoid_weights(energy_eV) -> np.ndarray:
-    """w with Σ w_i y_i = numpy.trapezoid(y, energy) for any y on this grid [eV]."""
-    e = np.asarray(energy_eV, dtype=float)
-    w = np.zeros_like(e)
-    step = np.diff(e)
-    w[:-1] += 0.5 * step
-    w[1:] += 0.5 * step
-    return w
 
 
 @dataclass(frozen=True)

@@ -335,5 +335,7 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
         "back_thickness_um": round(sweep.back_thickness_nm / 1000.0, 4),
         "monthly": monthly,
         "grid": {"front_gaps": int(sweep.gaps.size), "front_thicknesses": int(sweep.thicknesses.size)},
+        "spectral_basis": {"rank": sweep.basis_rank,
+                           "photocurrent_error_bound": float(f"{sweep.basis_bound:.2e}")},
         "caution": CAUTION,
     }

@@ -23,7 +23,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import TandemInputError
-from .spectra import _astm_g173, _to_energy, conserving_grid, read_spectrum_csv
+from .spectra import _astm_g173, _to_energy, conserving_grid, read_spectrum_csv, trapezoid_weights
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
 G173_AEROSOL_500NM = 0.084  #: aerosol optical depth at 500 nm [-]
@@ -84,8 +84,74 @@ class Site:
 
 
 @dataclass(frozen=True)
+class FluxBasis:
+    """Photon fluxes of a series in a reduced basis: Φ(t, E) ≈ coefficients(t) · basis.
+
+    The basis is orthonormal in the trapezoid-weighted inner product on ``energy``, so the
+    dropped part of each step is measured in the norm that photocurrents see. For any
+    absorptance 0 ≤ a(E) ≤ 1, Cauchy–Schwarz bounds the photocurrent error of a step by
+    ``bound`` times the step's whole photocurrent on the grid:
+    |ΔJ_t| ≤ q · (Σ w)^½ · ‖ΔΦ_t‖_w  (w: trapezoid weights).
+
+    The coefficients are not stored: each step's are its series factors times
+    ``projection``, formed for the steps in use (about 1 kB per step stays held).
+    """
+
+    energy: np.ndarray  #: (nE,) ascending [eV]
+    factors: np.ndarray  #: (n_t, k) the series' own coefficients
+    projection: np.ndarray  #: (k, r)
+    basis: np.ndarray  #: (r, nE) [m⁻² s⁻¹ eV⁻¹ per unit coefficient]
+    bound: float  #: the largest relative photocurrent error bound over the steps
+
+    @property
+    def rank(self) -> int:
+        return int(self.basis.shape[0])
+
+    def coefficients(self, idx=slice(None)) -> np.ndarray:
+        """(n, r) coordinates of steps ``idx`` in the basis."""
+        return self.factors[idx] @ self.projection
+
+    def rows(self, idx=slice(None)) -> np.ndarray:
+        """Dense fluxes of steps ``idx`` (n, nE) [m⁻² s⁻¹ eV⁻¹]: for small selections only."""
+        return self.coefficients(idx) @ self.basis
+
+
+#: Default photocurrent error bound of the reduced basis (relative, per step).
+BASIS_TOLERANCE = 1e-9
+
+
+def reduced_basis(energy, coefficients, basis, tolerance: float = BASIS_TOLERANCE) -> FluxBasis:
+    """The smallest orthonormal basis whose per-step photocurrent bound is ≤ ``tolerance``.
+
+    ``coefficients @ basis`` (n_t × k, k × nE) are the fluxes; k is small (SPECTRL2's 122
+    wavelengths), so the dense matrix is never formed: a QR factorisation of the
+    coefficients and an SVD of the k × nE core give the truncated SVD exactly (Golub & Van
+    Loan, Matrix Computations, 4th ed., §2.4 and §5.2).
+    """
+    sw = np.sqrt(trapezoid_weights(energy))
+    weighted = basis * sw
+    q, r = np.linalg.qr(np.asarray(coefficients, dtype=float))
+    u, s, vt = np.linalg.svd(r @ weighted, full_matrices=False)
+    coeff = q @ (u * s)  # (n_t, k): rows' coordinates in the orthonormal basis vt
+    total = coeff @ (vt @ sw)  # Σ w Φ_t: each step's photons on the grid
+    # tail[:, m] = ‖Φ_t − first m terms‖_w, as a share of the step's photocurrent
+    tail = np.sqrt(np.cumsum((coeff**2)[:, ::-1], axis=1)[:, ::-1])
+    tail = np.append(tail, np.zeros((tail.shape[0], 1)), axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        worst = np.max(np.where(total[:, None] > 0, np.linalg.norm(sw) * tail / total[:, None],
+                                0.0), axis=0)
+    rank = max(int(np.argmax(worst <= tolerance)), 1)
+    return FluxBasis(energy, coefficients, weighted @ vt[:rank].T, vt[:rank] / sw,
+                     float(worst[rank]))
+
+
+@dataclass(frozen=True)
 class SpectralSeries:
-    """Plane-of-array spectra over time on one wavelength grid.
+    """Plane-of-array spectra over time on one wavelength grid, held as factors.
+
+    The spectra are ``coefficients @ basis`` (n_t × k, k × n_wl): SPECTRL2 skies are linear
+    in its 122 wavelengths, so a year at 15-minute steps needs about 1 kB per step instead of
+    16 kB. :meth:`from_spectra` factorises dense spectra (measured folders, tests).
 
     Examples
     --------
@@ -98,36 +164,56 @@ class SpectralSeries:
 
     times: pd.DatetimeIndex  #: middle of each step
     wavelength_nm: np.ndarray  #: (n_wl,)
-    irradiance: np.ndarray  #: (n_t, n_wl) [W m⁻² nm⁻¹]
+    coefficients: np.ndarray  #: (n_t, k)
+    basis: np.ndarray  #: (k, n_wl) [W m⁻² nm⁻¹ per unit coefficient]
     cell_temperature_K: np.ndarray  #: (n_t,)
     step_hours: np.ndarray  #: (n_t,) duration each spectrum stands for [h]
     source: str
     notes: tuple[str, ...] = field(default=())
 
-    def photon_fluxes(self):
-        """(energy [eV] ascending, flux (n_t, nE) [m⁻² s⁻¹ eV⁻¹], irradiance (n_t,) [W/m²]).
+    @classmethod
+    def from_spectra(cls, times, wavelength_nm, irradiance, cell_temperature_K, step_hours,
+                     source: str, notes: tuple[str, ...] = ()) -> "SpectralSeries":
+        """A series from dense spectra (n_t, n_wl) [W m⁻² nm⁻¹], factorised exactly (SVD)."""
+        irradiance = np.asarray(irradiance, dtype=float)
+        u, s, vt = np.linalg.svd(irradiance, full_matrices=False)
+        keep = max(int(np.sum(s > s[0] * 1e-15)), 1) if s.size and s[0] > 0 else 1
+        return cls(times, np.asarray(wavelength_nm, float), u[:, :keep] * s[:keep], vt[:keep],
+                   np.asarray(cell_temperature_K, float), np.asarray(step_hours, float),
+                   source, tuple(notes))
 
-        One energy grid for all steps, refined (:func:`~tandem.spectra.conserving_grid`) so
-        that the energy-weighted mean spectrum keeps its photons and power.
+    @property
+    def irradiance(self) -> np.ndarray:
+        """Dense spectra (n_t, n_wl) [W m⁻² nm⁻¹], formed on demand (16 kB per step)."""
+        return self.coefficients @ self.basis
+
+    def photon_basis(self, tolerance: float = BASIS_TOLERANCE) -> FluxBasis:
+        """Photon fluxes on one energy grid in a reduced basis (:func:`reduced_basis`).
+
+        The grid is refined (:func:`~tandem.spectra.conserving_grid`) so that the
+        time-weighted mean spectrum keeps its photons and power.
         """
-        cached = self.__dict__.get("_photon_fluxes")  # computed once: the series is frozen
-        if cached is not None:
-            return cached
-        weights = self.step_hours / max(float(np.sum(self.step_hours)), 1e-300)
-        grid = conserving_grid(self.wavelength_nm, weights @ self.irradiance)
-        rows = np.stack([np.interp(grid, self.wavelength_nm, r) for r in self.irradiance]) \
-            if grid.size != self.wavelength_nm.size else self.irradiance
-        energy, flux = _to_energy(grid, rows)
-        cached = (energy, flux, self.step_irradiance)
-        object.__setattr__(self, "_photon_fluxes", cached)
-        return cached
+        cache = self.__dict__.setdefault("_bases", {})  # the series is frozen: compute once
+        if tolerance not in cache:
+            weights = self.step_hours / max(float(np.sum(self.step_hours)), 1e-300)
+            grid = conserving_grid(self.wavelength_nm, (weights @ self.coefficients) @ self.basis)
+            rows = self.basis if grid.size == self.wavelength_nm.size else \
+                np.stack([np.interp(grid, self.wavelength_nm, b) for b in self.basis])
+            energy, flux_basis = _to_energy(grid, rows)
+            cache[tolerance] = reduced_basis(energy, self.coefficients, flux_basis, tolerance)
+        return cache[tolerance]
+
+    @property
+    def energy(self) -> np.ndarray:
+        """The photon-energy grid of :meth:`photon_basis` [eV]."""
+        return self.photon_basis().energy
 
     @property
     def step_irradiance(self) -> np.ndarray:
         """Plane-of-array irradiance of each step [W/m²] (computed once)."""
         cached = self.__dict__.get("_step_irradiance")
         if cached is None:
-            cached = np.trapezoid(self.irradiance, self.wavelength_nm, axis=-1)
+            cached = self.coefficients @ np.trapezoid(self.basis, self.wavelength_nm, axis=-1)
             object.__setattr__(self, "_step_irradiance", cached)
         return cached
 
@@ -249,13 +335,34 @@ def anchored_poa(site: Site, apparent_zenith, aoi, dayofyear):
 
     Returns (grid (n_wl,), irradiance (n, n_wl)).
     """
-    wl, poa = spectrl2_poa(site, apparent_zenith, aoi, dayofyear)
+    grid, ratio, basis = anchored_factors(site, apparent_zenith, aoi, dayofyear)
+    return grid, ratio @ basis
+
+
+def anchored_factors(site: Site, apparent_zenith, aoi, dayofyear):
+    """:func:`anchored_poa` as factors: (grid (n_wl,), ratios (n, 122), basis (122, n_wl)).
+
+    The spectra are ratios @ basis: linear interpolation is linear in the ratios, so each
+    basis row is G173 times the interpolant of one SPECTRL2 wavelength (a hat function).
+    """
+    zenith, aoi, day = np.broadcast_arrays(np.atleast_1d(np.asarray(apparent_zenith, float)),
+                                           np.atleast_1d(np.asarray(aoi, float)),
+                                           np.atleast_1d(dayofyear))
+    # SPECTRL2 holds a few dozen (122 × n) intermediates: chunks keep a 15-minute year small
+    parts = [spectrl2_poa(site, zenith[i:i + 1024], aoi[i:i + 1024], day[i:i + 1024])
+             for i in range(0, zenith.size, 1024)]
+    wl, poa = parts[0][0], np.concatenate([p for _, p in parts])
     ref_wl, ref = _spectrl2_at_standard()
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(ref > 0, poa / np.where(ref > 0, ref, 1.0), 0.0)
     grid = common_grid()
-    g173 = np.interp(grid, *_g173_global())
-    return grid, g173 * _on_grid(wl, ratio, grid)
+    return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
+
+
+def _hat_basis(wl, grid):
+    """(len(wl), len(grid)): row i interpolates a unit value at wl[i] onto the grid, zero
+    outside the data (numpy.interp of each unit vector)."""
+    return np.stack([np.interp(grid, wl, row, left=0.0, right=0.0) for row in np.eye(wl.size)])
 
 
 @functools.lru_cache(maxsize=1)
@@ -265,17 +372,9 @@ def _g173_global():
 
 
 def _spectrl2(site: Site, times, pos, aoi):
-    """Anchored plane-of-array spectra at ``times`` on the common grid."""
-    return anchored_poa(site, pos["apparent_zenith"].to_numpy(), aoi.to_numpy(),
-                        times.day_of_year.to_numpy())
-
-
-def _on_grid(wl, irradiance, grid):
-    """Linear interpolation of each row onto the common grid, zero outside the data."""
-    out = np.empty((irradiance.shape[0], grid.size))
-    for i, row in enumerate(irradiance):
-        out[i] = np.interp(grid, wl, row, left=0.0, right=0.0)
-    return out
+    """Anchored plane-of-array spectra at ``times`` as factors (:func:`anchored_factors`)."""
+    return anchored_factors(site, pos["apparent_zenith"].to_numpy(), aoi.to_numpy(),
+                            times.day_of_year.to_numpy())
 
 
 def cell_temperature_K(poa_W_m2, ambient_C, wind_m_s):
@@ -303,11 +402,11 @@ def clear_sky_series(site: Site, times: pd.DatetimeIndex) -> SpectralSeries:
         raise TandemInputError("the sun never rises over this period at this site; choose another "
                                "period or latitude")
     times_up = times[up]
-    grid, irr = _spectrl2(site, times_up, pos[up], aoi[up])
-    total = np.trapezoid(irr, grid, axis=-1)
+    grid, ratio, basis = _spectrl2(site, times_up, pos[up], aoi[up])
+    total = ratio @ np.trapezoid(basis, grid, axis=-1)
     step_h = np.full(times_up.size, (times[1] - times[0]).total_seconds() / 3600 if times.size > 1 else 1.0)
     temps = cell_temperature_K(total, site.ambient_temperature_C, site.wind_speed_m_s)
-    return SpectralSeries(times_up, grid, irr, temps, step_h,
+    return SpectralSeries(times_up, grid, ratio, basis, temps, step_h,
                           f"clear sky at {site.name} (ASTM G173-03 × SPECTRL2 change)",
                           (f"aerosol optical depth {site.aerosol_turbidity_500nm:g} at 500 nm, "
                            f"precipitable water {site.precipitable_water_cm:g} cm, ozone "
@@ -365,15 +464,15 @@ def weather_series(site: Site, path: str | Path) -> SpectralSeries:
     use = (pos["apparent_zenith"].to_numpy() < 89.0) & (poa > 1.0)
     if not use.any():
         raise TandemInputError(f"weather file '{path}' has no daylight irradiance on this plane")
-    grid, irr = _spectrl2(site, times[use], pos[use], aoi[use])
-    total = np.trapezoid(irr, grid, axis=-1)
+    grid, ratio, basis = _spectrl2(site, times[use], pos[use], aoi[use])
+    total = ratio @ np.trapezoid(basis, grid, axis=-1)
     ok = total > 0
     scale = np.where(ok, poa[use] / np.where(ok, total, 1.0), 0.0)
-    irr = irr * scale[:, None]
+    ratio = ratio * scale[:, None]
     temps = cell_temperature_K(poa[use], data["temp_air"].to_numpy()[use],
                                data["wind_speed"].to_numpy()[use])
     dropped = int((poa > 1.0).sum() - ok.sum())
-    return SpectralSeries(times[use][ok], grid, irr[ok], temps[ok], np.ones(int(ok.sum())),
+    return SpectralSeries(times[use][ok], grid, ratio[ok], basis, temps[ok], np.ones(int(ok.sum())),
                           f"weather file {path.name} at {site.name}",
                           (f"{dropped} hours with irradiance but the sun at or below the "
                            "horizon in SPECTRL2 were left out",) if dropped else ())
@@ -433,5 +532,6 @@ def folder_series(site: Site, folder: str | Path) -> SpectralSeries:
         step = np.ones(1)
     total = np.trapezoid(irr, grid, axis=-1)
     temps = cell_temperature_K(total, site.ambient_temperature_C, site.wind_speed_m_s)
-    return SpectralSeries(times, grid, irr, temps, step, f"measured spectra in {folder.name}",
-                          ("each spectrum stands for the time until the next one",))
+    return SpectralSeries.from_spectra(times, grid, irr, temps, step,
+                                       f"measured spectra in {folder.name}",
+                                       ("each spectrum stands for the time until the next one",))

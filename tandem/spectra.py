@@ -102,6 +102,16 @@ class Spectrum:
         )
 
 
+def trapezoid_weights(energy_eV) -> np.ndarray:
+    """w with Σ w_i y_i = numpy.trapezoid(y, energy) for any y on this grid [eV]."""
+    e = np.asarray(energy_eV, dtype=float)
+    w = np.zeros_like(e)
+    step = np.diff(e)
+    w[:-1] += 0.5 * step
+    w[1:] += 0.5 * step
+    return w
+
+
 def _to_energy(wavelength_nm, irradiance):
     """(ascending energy [eV], Φ(E) [m⁻² s⁻¹ eV⁻¹]) from I(λ); rows on the last axis."""
     energy = HC_EV_NM / wavelength_nm[::-1]

@@ -531,7 +531,7 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     from .yields import hourly, yield_sweep
 
     a_front, a_back = _pair(front, back, operating)
-    energy = series.photon_fluxes()[0]
+    energy = series.energy
     design = StackDesign(a_front, a_back, *operating.losses_on(energy))
     if front_gaps_eV is None:
         lo, hi = a_front.gap_range_eV

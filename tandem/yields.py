@@ -3,8 +3,10 @@
 For every front gap × front thickness the stack is evaluated at every time step of a
 :class:`~tandem.sky.SpectralSeries`, at that step's cell temperature (gaps shifted by each
 absorber's temperature coefficient). Steps are grouped into cell-temperature bins so that
-optics and J0 are computed once per bin; photocurrents for all steps of a bin are one
-matrix product.
+optics are computed once per bin and J0 at three temperatures per bin (interpolated to
+each step); the spectra are held in a reduced basis (:meth:`~tandem.sky.SpectralSeries.
+photon_basis`) whose rank is set by a photocurrent error bound, so photocurrents for all
+steps of a bin are two small matrix products.
 """
 
 from __future__ import annotations
@@ -15,11 +17,10 @@ from typing import Callable
 import numpy as np
 
 from . import detailed_balance as db
-from .design import (Conditions, StackDesign, evaluate_design, stack_integrands,
-                     stack_performance, trapezoid_weights)
+from .design import Conditions, StackDesign, evaluate_design, stack_integrands, stack_performance
 from .errors import TandemInputError
-from .sky import SpectralSeries
-from .spectra import PhotonFlux
+from .sky import FluxBasis, SpectralSeries
+from .spectra import PhotonFlux, trapezoid_weights
 from .stack import IDEAL, Electrical
 from .units import Q
 
@@ -49,6 +50,8 @@ class YieldSweep:
     design: StackDesign
     back_thickness_nm: float
     efficiency_am15_2t: np.ndarray  #: (n_g, n_d) under AM1.5G at 298.15 K, fraction
+    basis_rank: int = 0  #: rank of the spectra's reduced basis (:class:`~tandem.sky.FluxBasis`)
+    basis_bound: float = 0.0  #: its largest relative photocurrent error bound per step
 
     @property
     def optimum(self) -> tuple[int, int]:
@@ -63,33 +66,71 @@ class YieldSweep:
         return np.unravel_index(int(np.nanargmax(self.efficiency_am15_2t)), self.energy_2t.shape)
 
 
-def _bins(series: SpectralSeries, energy, width_K):
+#: Cell temperatures per bin at which J0 is computed; it is interpolated between them.
+J0_NODES = 3
+
+
+def _bins(series: SpectralSeries, width_K):
     """Steps grouped in ``width_K`` bins of cell temperature.
 
-    Yields (mean temperature, step indices, each step's temperature, blackbody rows (n_h, nE)
-    at each step's own temperature).
+    Yields (mean temperature, step indices, each step's temperature).
     """
     t = np.asarray(series.cell_temperature_K)
     labels = np.round(t / width_K)
     for label in np.unique(labels):
         idx = np.flatnonzero(labels == label)
-        yield float(t[idx].mean()), idx, t[idx], db.blackbody_photon_flux(energy, t[idx][:, None])
+        yield float(t[idx].mean()), idx, t[idx]
 
 
-def _bin_performance(design, energy, weights_e, fluxes, step_bin, gap, thickness, back_d,
+def _j0_nodes(t_cell):
+    """Chebyshev temperatures spanning the bin's steps, and the Lagrange weights (n_h, m)
+    that interpolate a function of 1/T at each step from them.
+
+    ln J0 is nearly linear in 1/T (J0 ∝ T³·e^(−Eg/kT) for a step absorber), so three nodes
+    over a 2 K bin interpolate it to ~1e-12 (tested against J0 at each step's temperature).
+    """
+    lo, hi = float(t_cell.min()), float(t_cell.max())
+    if hi - lo < 1e-9:
+        return np.array([lo]), np.ones((t_cell.size, 1))
+    k = np.arange(J0_NODES)
+    nodes = 0.5 * (lo + hi) + 0.5 * (hi - lo) * np.cos((2 * k + 1) * np.pi / (2 * J0_NODES))
+    x, xn = 1.0 / t_cell, 1.0 / nodes
+    weights = np.ones((t_cell.size, J0_NODES))
+    for j in range(J0_NODES):
+        for m in range(J0_NODES):
+            if m != j:
+                weights[:, j] *= (x - xn[m]) / (xn[j] - xn[m])
+    return nodes, weights
+
+
+def _interpolate_j0(j0_nodes, weights):
+    """J0 at each step (..., n_h) from J0 at the nodes (..., m): ln J0 interpolated where
+    positive (J0 is zero only where a subcell absorbs nothing; kept zero there)."""
+    positive = np.all(j0_nodes > 0, axis=-1, keepdims=True)
+    logs = np.log(np.where(positive, j0_nodes, 1.0))
+    return np.where(positive, np.exp(logs @ weights.T), 0.0)
+
+
+def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thickness, back_d,
                      ideality, electrical):
     """The stack over the steps of one temperature bin, for one gap and thicknesses (n_d,).
 
     The gaps are shifted to the bin's mean temperature; J0 and the diodes use each step's
-    own temperature. Returns (performance with arrays (n_d, n_h), J_L (n_d, n_h, 2)).
+    own temperature. Photocurrents are two small products through the reduced basis:
+    (n_d × nE)·(nE × r), then (n_d × r)·(r × n_h). Returns (performance with arrays
+    (n_d, n_h), J_L (n_d, n_h, 2)).
     """
-    t_bin, idx, t_cell, bb = step_bin
-    parts = stack_integrands(design, energy, gap, back_d, None, t_bin)
+    t_bin, idx, t_cell = step_bin
+    parts = stack_integrands(design, flux.energy, gap, back_d, None, t_bin)
     absorbed, transmitted = parts.transfer(thickness)
     fw, bw = weights_e * parts.front_weight, weights_e * parts.back_weight
-    rows = fluxes[idx]
-    jl = np.stack([absorbed @ (rows * fw).T, transmitted @ (rows * bw).T], axis=-1)
-    j0 = np.stack([absorbed @ (bb * fw).T, transmitted @ (bb * bw).T], axis=-1)
+    coeff = flux.coefficients(idx).T  # (r, n_h)
+    jl = np.stack([(absorbed @ (flux.basis * fw).T) @ coeff,
+                   (transmitted @ (flux.basis * bw).T) @ coeff], axis=-1)
+    nodes, lagrange = _j0_nodes(t_cell)
+    bb = db.blackbody_photon_flux(flux.energy, nodes[:, None])  # (m, nE)
+    j0 = np.stack([_interpolate_j0(absorbed @ (bb * fw).T, lagrange),
+                   _interpolate_j0(transmitted @ (bb * bw).T, lagrange)], axis=-1)
     cond = Conditions(None, float(t_bin), ideality, electrical)
     return evaluate_design(design, cond, jl, j0, t_cell, 1.0), jl
 
@@ -124,16 +165,16 @@ def _one_blas_thread():
 
 def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference, ideality,
                  electrical, bin_K, progress) -> YieldSweep:
-    energy, fluxes, _ = series.photon_fluxes()
-    w = trapezoid_weights(energy) * Q
+    flux = series.photon_basis()
+    w = trapezoid_weights(flux.energy) * Q
     e2 = np.zeros((gaps.size, thicknesses.size))
     e4 = np.zeros_like(e2)
-    bins = list(_bins(series, energy, bin_K))
+    bins = list(_bins(series, bin_K))
     total, done = len(bins) * gaps.size, 0
     for step_bin in bins:
         hours = series.step_hours[step_bin[1]]
         for i, gap in enumerate(gaps):
-            perf, _ = _bin_performance(design, energy, w, fluxes, step_bin, gap, thicknesses,
+            perf, _ = _bin_performance(design, flux, w, step_bin, gap, thicknesses,
                                        back_thickness_nm, ideality, electrical)
             e2[i] += perf.p_2t @ hours / 1000.0
             e4[i] += perf.p_4t @ hours / 1000.0
@@ -144,7 +185,7 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
     am15 = np.array([stack_performance(design, cond, g, thicknesses, back_thickness_nm).efficiency_2t
                      for g in gaps])
     return YieldSweep(gaps, thicknesses, e2, e4, series.insolation_kWh_m2, series, design,
-                      float(back_thickness_nm), am15)
+                      float(back_thickness_nm), am15, flux.rank, flux.bound)
 
 
 def hourly(design: StackDesign, series: SpectralSeries, gap: float, thickness: float,
@@ -158,15 +199,16 @@ def hourly(design: StackDesign, series: SpectralSeries, gap: float, thickness: f
 
 def _hourly(design, series, gap, thickness, back_thickness_nm, ideality, electrical,
             bin_K) -> HourlyDesign:
-    energy, fluxes, power = series.photon_fluxes()
-    w = trapezoid_weights(energy) * Q
+    flux = series.photon_basis()
+    w = trapezoid_weights(flux.energy) * Q
     n = series.times.size
     out = {k: np.zeros(n) for k in ("p2", "p4", "jf", "jb")}
-    for step_bin in _bins(series, energy, bin_K):
+    for step_bin in _bins(series, bin_K):
         idx = step_bin[1]
-        perf, jl = _bin_performance(design, energy, w, fluxes, step_bin, gap,
+        perf, jl = _bin_performance(design, flux, w, step_bin, gap,
                                     np.array([thickness]), back_thickness_nm, ideality, electrical)
         out["p2"][idx], out["p4"][idx] = perf.p_2t[0], perf.p_4t[0]
         out["jf"][idx], out["jb"][idx] = jl[0, :, 0], jl[0, :, 1]
-    return HourlyDesign(series.times, out["p2"], out["p4"], out["jf"], out["jb"], power,
+    return HourlyDesign(series.times, out["p2"], out["p4"], out["jf"], out["jb"],
+                        series.step_irradiance,
                         series.cell_temperature_K, series.step_hours)

@@ -41,7 +41,7 @@ def constant_series(hours=24, temperature=298.15):
     grid = common_grid()
     irr = np.interp(grid, ref.wavelength_nm, ref.irradiance)
     times = pd.date_range("2026-06-01 00:30", periods=hours, freq="h", tz="UTC")
-    return SpectralSeries(times, grid, np.tile(irr, (hours, 1)), np.full(hours, temperature),
+    return SpectralSeries.from_spectra(times, grid, np.tile(irr, (hours, 1)), np.full(hours, temperature),
                           np.ones(hours), "constant AM1.5G"), Spectrum("g", grid, irr).photon_flux()
 
 
@@ -194,3 +194,82 @@ def test_scatter_cli(tmp_path):
     assert (tmp_path / "s.png").stat().st_size > 10_000
     res = runner.invoke(app, ["spread", "perovskite-wide", "silicon", "--gap-sigma", "-1"])
     assert res.exit_code == 2 and "spreads must be zero or positive" in res.stderr
+
+
+# --------------------------------------------------------------------------------------
+# reduced spectral basis (issue: a year of yield in seconds)
+# --------------------------------------------------------------------------------------
+
+
+def test_reduced_basis_bound_holds_for_any_absorptance(summer_day):
+    """The Cauchy–Schwarz bound |ΔJ| ≤ q (Σw)^½ ‖ΔΦ‖_w (any inner-product space) holds
+    for random absorptances at a deliberately loose tolerance, and is tight enough to matter."""
+    from tandem.sky import reduced_basis
+    from tandem.spectra import trapezoid_weights
+
+    full = summer_day.photon_basis(0.0)
+    dense = full.rows()
+    w = trapezoid_weights(full.energy)
+    loose = reduced_basis(full.energy, summer_day.coefficients, _flux_factors(summer_day), 1e-4)
+    assert loose.rank < full.rank
+    rng = np.random.default_rng(3)
+    total = dense @ w
+    for a in rng.uniform(0, 1, (20, full.energy.size)):
+        error = np.abs((loose.rows() - dense) @ (w * a))
+        assert np.all(error <= loose.bound * total * (1 + 1e-9))
+    assert np.allclose(dense, _dense_fluxes(summer_day), rtol=1e-9, atol=1e-9 * dense.max())
+
+
+def _flux_factors(series):
+    """The series' factors on its photon-energy grid: (k, nE) flux basis."""
+    from tandem.spectra import _to_energy
+
+    energy = series.energy
+    grid = np.sort(tandem.units.HC_EV_NM / energy)
+    rows = np.stack([np.interp(grid, series.wavelength_nm, b) for b in series.basis])
+    return _to_energy(grid, rows)[1]
+
+
+def _dense_fluxes(series):
+    """Every step's photon flux formed directly from its dense spectrum, on the same grid."""
+    from tandem.spectra import _to_energy
+
+    grid = np.sort(tandem.units.HC_EV_NM / series.energy)
+    rows = np.stack([np.interp(grid, series.wavelength_nm, r) for r in series.irradiance])
+    return _to_energy(grid, rows)[1]
+
+
+def test_yield_in_the_basis_equals_the_full_per_step_calculation(pvk_si, summer_day, am15g):
+    """Target of the speed issue: energy within 1e-6 (relative) of the full calculation
+    (dense spectra, J0 at each step's own temperature), same optimum."""
+    from tandem import detailed_balance as db
+    from tandem.design import evaluate_design, stack_integrands
+    from tandem.spectra import trapezoid_weights
+    from tandem.units import Q
+    from tandem.yields import _bins
+
+    gaps, thick = np.linspace(1.62, 1.9, 5), np.geomspace(150, 1500, 6)
+    sweep = yield_sweep(pvk_si, summer_day, gaps, thick, 160e3, am15g)
+    energy, dense = summer_day.energy, _dense_fluxes(summer_day)
+    w = trapezoid_weights(energy) * Q
+    e2 = np.zeros((gaps.size, thick.size))
+    for t_bin, idx, t_cell in _bins(summer_day, 2.0):
+        bb = db.blackbody_photon_flux(energy, t_cell[:, None])  # each step's own temperature
+        for i, g in enumerate(gaps):
+            parts = stack_integrands(pvk_si, energy, g, 160e3, None, t_bin)
+            a, t = parts.transfer(thick)
+            fw, bw = w * parts.front_weight, w * parts.back_weight
+            jl = np.stack([a @ (dense[idx] * fw).T, t @ (dense[idx] * bw).T], -1)
+            j0 = np.stack([a @ (bb * fw).T, t @ (bb * bw).T], -1)
+            perf = evaluate_design(pvk_si, Conditions(None, t_bin), jl, j0, t_cell, 1.0)
+            e2[i] += perf.p_2t @ summer_day.step_hours[idx] / 1000
+    assert np.max(np.abs(sweep.energy_2t / e2 - 1)) < 1e-6
+    assert np.unravel_index(np.argmax(e2), e2.shape) == sweep.optimum
+    assert sweep.basis_bound <= 1e-9 and 1 <= sweep.basis_rank <= 122
+
+
+def test_a_series_holds_about_a_kilobyte_per_step(summer_day):
+    flux = summer_day.photon_basis()
+    held = summer_day.coefficients.nbytes / summer_day.times.size
+    assert held <= 1024  # SPECTRL2's 122 wavelengths × 8 bytes
+    assert flux.factors is summer_day.coefficients  # the basis keeps no per-step copy
