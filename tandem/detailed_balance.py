@@ -356,6 +356,17 @@ def series_mpp(j_light, j0, temperature_K, iterations=50, own_mpp_current=None):
     >>> round(float(p), 1)  # W/m²
     450.6
     """
+    j, v_sub = series_mpp_subcells(j_light, j0, temperature_K, iterations, own_mpp_current)
+    v = v_sub.sum(axis=-1)
+    return j, v, j * v
+
+
+def series_mpp_subcells(j_light, j0, temperature_K, iterations=50, own_mpp_current=None,
+                        reduced_voc=None):
+    """:func:`series_mpp`'s current and each subcell's voltage (..., m) [A/m², V].
+
+    ``reduced_voc`` (Σ ln(1 + J_L,i/J0,i), shape (...)) may be passed when already known.
+    """
     j_light = np.asarray(j_light, dtype=float)
     j0 = np.asarray(j0, dtype=float)
     shape = np.broadcast_shapes(j_light.shape, j0.shape)
@@ -372,28 +383,36 @@ def series_mpp(j_light, j0, temperature_K, iterations=50, own_mpp_current=None):
         j_low = np.min(own_mpp_current, axis=-1)
     s_hi = np.log(top - j_low)  # P' ≥ 0 here
     s_lo = np.log(np.take_along_axis(j0s, limiting[None], axis=0)[0])  # J = J_L,lim: P' < 0
-    reduced_voc = sum(np.log1p(jl[i] / j0s[i]) for i in range(m))
+    if reduced_voc is None:
+        reduced_voc = sum(np.log1p(jl[i] / j0s[i]) for i in range(m))
     s = np.clip(np.log(top / (1.0 + reduced_voc)), s_lo, s_hi)
+    plus = [jl[i] + j0s[i] for i in range(m)]
+    inv_j0 = [1.0 / j0s[i] for i in range(m)]
     for _ in range(iterations):
         gap = np.exp(s)
         j = top - gap
-        d = [jl[i] - j + j0s[i] for i in range(m)]
+        d = [plus[i] - j for i in range(m)]
         inv = [1.0 / di for di in d]
         inv_sum = sum(inv)
-        slope = sum(np.log(d[i] / j0s[i]) for i in range(m)) - j * inv_sum  # P'(J)·q/kT
+        # Σ ln(d_i/J0_i) as the log of a product: one logarithm for a pair (the product of
+        # two ratios ≤ ~1e130 for any gap in a spectrum; more subcells keep one log each)
+        logs = (np.log(d[0] * inv_j0[0] * d[1] * inv_j0[1]) if m == 2
+                else sum(np.log(d[i] * inv_j0[i]) for i in range(m)))
+        slope = logs - j * inv_sum  # P'(J)·q/kT
         d_slope_ds = gap * (2.0 * inv_sum + j * sum(x * x for x in inv))  # dP'/ds > 0
         s_lo = np.where(slope < 0, s, s_lo)
         s_hi = np.where(slope < 0, s_hi, s)
         step = s - slope / d_slope_ds
         new = np.where((step >= s_lo) & (step <= s_hi), step, 0.5 * (s_lo + s_hi))
-        done = np.max(np.abs(new - s), initial=0.0) < 1e-13
+        # Newton converges quadratically: after a step below 1e-8 the error is ~1e-16
+        done = np.max(np.abs(new - s), initial=0.0) < 1e-8
         s = new
         if done:
             break
     j = top - np.exp(s)
     vt = thermal_voltage(temperature_K)
-    v = vt * sum(np.log1p((jl[i] - j) / j0s[i]) for i in range(m))
-    return j, v, j * v
+    vt = vt[..., None] if np.ndim(vt) else vt
+    return j, vt * np.moveaxis(np.log1p((jl - j) / j0s), 0, -1)
 
 
 # --------------------------------------------------------------------------------------

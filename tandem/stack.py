@@ -365,9 +365,11 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
             jl_s, j0_s = j_light.copy(), cells.a.copy()
             jl_s[..., 1] = (j_light[..., 1] + c * j_light[..., 0]) / (1 + c)
             j0_s[..., 1] = cells.a[..., 1] / (1 + c)
-        j_2t, v_2t, p_2t = db.series_mpp(jl_s, j0_s, t,
-                                         own_mpp_current=None if cells.coupled else j_own)
-        v_2t_sub = db.diode_voltage(j_2t[..., None], jl_s, j0_s, t_sub)
+        j_2t, v_2t_sub = db.series_mpp_subcells(
+            jl_s, j0_s, t, own_mpp_current=None if cells.coupled else j_own,
+            reduced_voc=None if cells.coupled else np.sum(voc, axis=-1) / vt)
+        v_2t = v_2t_sub.sum(axis=-1)
+        p_2t = j_2t * v_2t
     else:
         j_2t, v_2t, p_2t, v_2t_sub = _series_general(cells, electrical)
     return StackPerformance(j_light, j0_rad + j0_rear, j0_nr, float(ideality), voc, p_own,
