@@ -697,7 +697,7 @@ def latex_table(study: StudyResult) -> str:
     return "\n".join(lines)
 
 
-def manifest(study: StudyResult) -> dict:
+def manifest(study: StudyResult, figures: bool = True) -> dict:
     """The study's manifest: every input as data, a record of the result, and checksums.
 
     ``inputs`` holds everything that changes a number (scenario text, absorber files and their
@@ -740,6 +740,7 @@ def manifest(study: StudyResult) -> dict:
             "terminals": sc.terminals,
             "skipped_pairs": study.skipped,
             "sky": study.sky,
+            "figures_written": bool(figures),
             "python": platform.python_version(),
             "packages": versions,
         },
@@ -825,7 +826,7 @@ def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
         (tmp / "design-table.tex").write_text(latex_table(study), encoding="utf-8")
         if figures:
             _write_figures(study, tmp / "figures")
-        (tmp / "manifest.json").write_text(json.dumps(manifest(study), indent=2,
+        (tmp / "manifest.json").write_text(json.dumps(manifest(study, figures), indent=2,
                                                       ensure_ascii=False) + "\n", encoding="utf-8")
 
     return place_folder(folder, build, overwrite, lambda t: study_replace_reason(t, protected))

@@ -124,6 +124,14 @@ def test_refuses_to_overwrite_and_leaves_folder(small, tmp_path):
     assert not (out / "figures").exists()  # replaced whole, not merged
 
 
+def test_manifest_records_whether_figures_were_written(small, tmp_path):
+    _, study, with_figures = small
+    without = write_study(study, tmp_path / "bare", figures=False)
+    read = [json.loads((f / "manifest.json").read_text())["record"]["figures_written"]
+            for f in (with_figures, without)]
+    assert read == [True, False]
+
+
 BAD = [
     ('title = "Small test study"\n', "", "'title' is missing"),
     ('source = "am1.5g"', 'source = "am9"', "field 'spectrum' cannot be used"),

@@ -25,7 +25,7 @@ import tracemalloc
 from pathlib import Path
 
 import numpy as np
-from scipy import optimize
+from scipy import integrate, optimize
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
@@ -66,13 +66,19 @@ def line(label, n, seconds, peak):
 
 
 def ref_band(energy, flux, lo, hi, temperature):
-    """J_L and J0,rad [A/m²] of photons between lo and hi: numpy.trapezoid on the spectrum's
-    grid, with the two edges inserted as extra points (linear interpolation of the flux)."""
+    """J_L and J0,rad [A/m²] of photons between lo and hi.
+
+    J_L: numpy.trapezoid on the spectrum's grid with the two edges inserted as extra points
+    (linear interpolation of the flux: exact for the piecewise-linear spectrum). J0,rad: the
+    blackbody integral by adaptive quadrature (scipy.integrate.quad) to a relative 1e-10,
+    independent of any grid.
+    """
     inside = (energy > lo) & (energy < hi)
     x = np.concatenate(([lo], energy[inside], [hi]))
     sun = np.interp(x, energy, flux)
-    bb = db.blackbody_photon_flux(x, temperature)
-    return Q * np.trapezoid(sun, x), Q * np.trapezoid(bb, x)
+    bb, _ = integrate.quad(lambda e: float(db.blackbody_photon_flux(e, temperature)), lo, hi,
+                           epsabs=0.0, epsrel=1e-10, limit=200)
+    return Q * np.trapezoid(sun, x), Q * bb
 
 
 def ref_series_mpp(jl, j0, temperature):
@@ -89,7 +95,8 @@ def ref_series_mpp(jl, j0, temperature):
 
 def ref_step_efficiency(flux, front, back):
     e, phi = flux.energy, flux.flux
-    jl_f, j0_f = ref_band(e, phi, front, e[-1], T_CELL)
+    jl_f, _ = ref_band(e, phi, front, e[-1], T_CELL)
+    _, j0_f = ref_band(e, phi, front, np.inf, T_CELL)  # emission has no upper edge
     jl_b, j0_b = ref_band(e, phi, back, front, T_CELL)
     return ref_series_mpp(np.array([jl_f, jl_b]), np.array([j0_f, j0_b]), T_CELL) / flux.irradiance
 
@@ -132,19 +139,37 @@ def compare(label, tool_seconds, n_total, sample, ref_fn, tool_values):
 
 def case_a(flux, n_sample, rng):
     print("(a) two-terminal step-absorber map under AM1.5G (front 1.4-2.3 eV x back 0.8-1.5 eV)")
-    result = {}
     for n in (201, 401):
         fronts, backs = np.linspace(1.4, 2.3, n), np.linspace(0.8, 1.5, n)
         seconds, peak = measure(lambda: step_gap_map(flux, fronts, backs, T_CELL))
         line(f"{n} x {n} gap pairs", n * n, seconds, peak)
-        result[n] = (seconds, fronts, backs)
-    seconds, fronts, backs = result[401]
+    fronts, backs = np.linspace(1.4, 2.3, 401), np.linspace(0.8, 1.5, 401)
     gap_map = step_gap_map(flux, fronts, backs, T_CELL)
     valid = np.argwhere(np.isfinite(gap_map.efficiency_2t))
     picks = valid[rng.choice(len(valid), n_sample, replace=False)]
-    sample = [(flux, fronts[i], backs[j]) for i, j in picks]
+    # tool and reference interleaved: each round times one whole map and a slice of the
+    # reference sample, so that a change of load on the machine touches both alike
+    rounds = 10
+    tool_seconds, ref_seconds, ref_values = 0.0, 0.0, []
+    for part in np.array_split(picks, rounds):
+        gc.collect()
+        t0 = time.perf_counter()
+        step_gap_map(flux, fronts, backs, T_CELL)
+        tool_seconds += time.perf_counter() - t0
+        t0 = time.perf_counter()
+        ref_values += [ref_step_efficiency(flux, fronts[i], backs[j]) for i, j in part]
+        ref_seconds += time.perf_counter() - t0
     tool = np.array([gap_map.efficiency_2t[i, j] for i, j in picks])
-    return compare("case (a)", seconds, 401 * 401, sample, ref_step_efficiency, tool)
+    per_point = ref_seconds / n_sample
+    ref_total = per_point * len(valid)
+    tool_mean = tool_seconds / rounds
+    diff = float(np.max(np.abs(100 * (np.array(ref_values) - tool))))
+    ratio = ref_total / tool_mean
+    print(f"  interleaved, {rounds} rounds: tool {tool_mean:.4f} s per map; reference "
+          f"{per_point * 1e3:.2f} ms per point on {n_sample} random points "
+          f"({ref_total:,.0f} s extrapolated to all {len(valid):,} valid pairs)")
+    print(f"  case (a): speed ratio {ratio:,.0f}x; largest efficiency difference {diff:.2e} % abs")
+    return ratio, diff
 
 
 def optics_setup():
@@ -204,6 +229,85 @@ def case_c(b_seconds):
               f"(case (b) alone: {b_seconds:.3f} s on {fluxes[0].energy.size:,} points)")
 
 
+MESA = dict(name="Mesa Verdeja test field", latitude=35.2, longitude=-106.4, altitude_m=1650.0,
+            timezone="Etc/GMT+7", aerosol_turbidity_500nm=0.07, precipitable_water_cm=1.0,
+            ambient_temperature_C=17.0)  # the invented site of the rooftop scenario
+
+
+def full_yield(design, series, gaps, thicknesses, back_d):
+    """The yield the direct way: dense spectra of every step, J0 at each step's own
+    temperature (the tool's bins and optics, no basis, no J0 interpolation) [kWh/m²]."""
+    from tandem.design import evaluate_design, stack_integrands
+    from tandem.spectra import _to_energy, trapezoid_weights
+    from tandem.yields import _bins
+
+    energy = series.energy
+    grid = np.sort(tandem.units.HC_EV_NM / energy)
+    dense = _to_energy(grid, np.stack([np.interp(grid, series.wavelength_nm, r)
+                                       for r in series.irradiance]))[1]
+    w = trapezoid_weights(energy) * Q
+    e2 = np.zeros((gaps.size, thicknesses.size))
+    for t_bin, idx, t_cell in _bins(series, 2.0):
+        bb = db.blackbody_photon_flux(energy, t_cell[:, None])
+        for i, g in enumerate(gaps):
+            parts = stack_integrands(design, energy, g, back_d, None, t_bin)
+            a, t = parts.transfer(thicknesses)
+            fw, bw = w * parts.front_weight, w * parts.back_weight
+            jl = np.stack([a @ (dense[idx] * fw).T, t @ (dense[idx] * bw).T], -1)
+            j0 = np.stack([a @ (bb * fw).T, t @ (bb * bw).T], -1)
+            perf = evaluate_design(design, Conditions(None, t_bin), jl, j0, t_cell, 1.0)
+            e2[i] += perf.p_2t @ series.step_hours[idx] / 1000
+    return e2
+
+
+def busy(seconds):
+    """Keep one core busy (a second process) for ``seconds``: load for the threads test."""
+    end = time.perf_counter() + seconds
+    while time.perf_counter() < end:
+        pass
+
+
+def case_e():
+    print("(e) energy yield over a clear-sky year: 11 front gaps x 16 thicknesses, perovskite "
+          "on 160 um silicon")
+    import multiprocessing
+
+    from tandem.workflows import site_series
+    from tandem.yields import yield_sweep
+
+    design = optics_setup()
+    reference = tandem.reference_spectrum("am1.5g").photon_flux()
+    gaps = np.linspace(1.60, 1.92, 11)
+    thick = np.geomspace(*design.front.thickness_range_nm, 16)
+    for minutes in (60, 15):
+        t0 = time.perf_counter()
+        series = site_series(tandem.Site(**MESA), period="year:2026", step_minutes=minutes)
+        basis = series.photon_basis()
+        build = time.perf_counter() - t0
+        seconds, peak = measure(lambda: yield_sweep(design, series, gaps, thick, 160e3, reference),
+                                repeats=2)
+        n = series.times.size * gaps.size * thick.size
+        line(f"{minutes}-min year, {series.times.size:,} steps", n, seconds, peak)
+        print(f"    spectra {build:.2f} s; basis rank {basis.rank}, photocurrent bound "
+              f"{basis.bound:.1e}; {series.coefficients.nbytes / series.times.size:.0f} bytes "
+              "of spectra per step")
+        if minutes == 60:
+            sweep = yield_sweep(design, series, gaps, thick, 160e3, reference)
+            with multiprocessing.get_context("fork").Pool(1) as pool:
+                load = pool.map_async(busy, [seconds * 4 + 2])
+                t0 = time.perf_counter()
+                yield_sweep(design, series, gaps, thick, 160e3, reference)
+                loaded = time.perf_counter() - t0
+                load.wait()
+            print(f"    with the other core busy (the tool pins BLAS to one thread): {loaded:.3f} s")
+            t0 = time.perf_counter()
+            full = full_yield(design, series, gaps, thick, 160e3)
+            print(f"    full calculation (dense spectra, J0 per step) {time.perf_counter() - t0:.2f} s;"
+                  f" largest relative energy difference {np.max(np.abs(sweep.energy_2t / full - 1)):.1e}; "
+                  "same optimum: " + ("yes" if np.unravel_index(np.argmax(full), full.shape)
+                                      == sweep.optimum else "NO"))
+
+
 def whole_process(label: str, args: list[str]) -> None:
     """Run ``tandem ARGS`` as a user would, in a scratch folder: wall time, CPU and peak memory
     (through /usr/bin/time, so the memory is the command's own, not this script's)."""
@@ -231,6 +335,10 @@ def case_d():
                   ["map", "--front", "1.4:2.2:0.001", "--back", "0.8:1.6:0.001", "-q"])
     whole_process("tandem yield, rooftop scenario (clear-sky year, 1 h)",
                   ["yield", "--scenario", "perovskite-silicon-rooftop", "-q"])
+    site = ["--latitude", "35.2", "--longitude", "-106.4", "--altitude", "1650",
+            "--timezone", "Etc/GMT+7", "--front-gaps", "1.60:1.92:0.032"]
+    whole_process("tandem yield, the same site at 15 min (11 x 16 designs)",
+                  ["yield", "perovskite-wide", "silicon", *site, "--step", "15", "-q"])
 
 
 def main():
@@ -249,6 +357,7 @@ def main():
     ratio_a, diff_a = case_a(flux, n_sample, rng)
     b_seconds = case_b(flux, n_sample, rng)
     case_c(b_seconds)
+    case_e()
     case_d()
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(f"process peak resident memory: {rss:,.0f} MiB")
