@@ -21,6 +21,8 @@ _WHERE = {
     "energy_yield": "workflows", "fabrication_spread": "workflows",
     "LimitResult": "workflows", "MatchStudy": "workflows", "MapResult": "workflows",
     "YieldResult": "workflows", "SpreadResult": "workflows",
+    "match_stack": "workflows", "StackMatchResult": "workflows",
+    "LayerStack": "layerstack", "load_stack": "layerstack", "bundled_stacks": "layerstack",
     # absorbers, sites and spectra
     "Absorber": "absorbers", "bundled_absorbers": "absorbers", "load_absorber": "absorbers",
     "parse_absorber": "absorbers",

@@ -92,7 +92,7 @@ def absorbers(name: Annotated[Optional[str], typer.Argument(
         help="A bundled absorber name or a .toml file; omit to list the bundled ones.",
         show_default=False)] = None, plot: Plot = None, overwrite: Overwrite = False,
         json_out: Json = False):
-    """List the bundled absorber descriptions, or show one.
+    """List the bundled absorber descriptions and layer stacks, or show one absorber.
 
     Examples:
 
@@ -101,17 +101,9 @@ def absorbers(name: Annotated[Optional[str], typer.Argument(
       tandem absorbers perovskite-wide --plot alpha.png
     """
     if name is None:
-        found = [tandem.load_absorber(k) for k in tandem.bundled_absorbers()]
-        if json_out:
-            return _emit_json({"absorbers": [tandem.absorber_summary(a) for a in found]})
-        out.print(_table("Bundled absorbers", [
-            ("name", lambda a: a.key), ("description", lambda a: a.name),
-            ("gap eV", lambda a: "{:.2f}–{:.2f}".format(*a.gap_range_eV) if a.tunable
-             else f"{a.gap_eV:.3f}"), ("edge", lambda a: a.edge_model),
-            ("thickness", lambda a: f"{a.thickness_nm / 1000:g} µm" if a.thickness_nm >= 10_000
-             else f"{a.thickness_nm:g} nm"),
-            ("trapping", lambda a: a.light_trapping), ("ERE", lambda a: f"{a.ere:.1e}")], found))
-        return _say("Add your own: pass the path of a .toml file written to the schema in the README.")
+        from tandem.cli_render import list_bundled
+
+        return list_bundled(json_out)
     check_outputs([plot], overwrite, plot=True)
     a = tandem.load_absorber(name)
     s = tandem.absorber_summary(a)
@@ -132,10 +124,12 @@ def absorbers(name: Annotated[Optional[str], typer.Argument(
 @app.command()
 @friendly
 @shared
-def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: bundled name or "
-                                               ".toml.", show_default=False, metavar="FRONT")],
-          back: Annotated[str, typer.Argument(help="Back absorber.", show_default=False,
-                                              metavar="BACK")],
+def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) absorber: bundled "
+                                               "name or .toml.", show_default=False, metavar="FRONT")] = None,
+          back: Annotated[Optional[str], typer.Argument(help="Back absorber.", show_default=False,
+                                              metavar="BACK")] = None,
+          stack: Annotated[Optional[str], _opt(help="A layer stack (bundled name or .toml) instead "
+                           "of FRONT BACK: thin-film interference and every layer's loss.")] = None,
           front_gaps: Annotated[Optional[str], _opt(
               help="Front gaps LO:HI:STEP in eV at 25 °C (default: the tunable range).",
               metavar="LO:HI:STEP")] = None,
@@ -157,7 +151,17 @@ def match(front: Annotated[str, typer.Argument(help="Front (sunward) absorber: b
       tandem match organic-wide organic-narrow --reflectance 0.04 --json
 
       tandem match gainp gaas --back-thickness 1um,2um,3um -t 4
+
+      tandem match --stack wide-gap-on-silicon-wafer
     """
+    if stack or not (front and back):
+        from tandem.cli_render import stack_match
+
+        if not stack or front or back:
+            raise TandemInputError("give FRONT and BACK absorbers, or --stack FILE (not both)")
+        return stack_match(stack, o, points, plot, overwrite, quiet, json_out, wide, {
+            "--front-gaps": front_gaps, "--front-thickness": front_thickness,
+            "--back-thickness": back_thickness})
     sweep = tandem.Sweep(
         front_gaps_eV=_gaps(front_gaps, "--front-gaps"), thickness_points=points,
         front_thickness_nm=None if not front_thickness else _range(

@@ -35,6 +35,9 @@ class _Pyplotless:
 plt = _Pyplotless()
 
 FRONT_COLOUR, BACK_COLOUR, SUN_COLOUR = "#1f77b4", "#d62728", "0.85"
+#: Parasitic layers in photon budgets: neither the front's blue nor the back's red.
+LAYER_COLOURS = ("#ff7f0e", "#2ca02c", "#9467bd", "#8c564b", "#e377c2", "#bcbd22", "#17becf",
+                 "#7f7f7f")
 
 
 DPI = 300  #: print resolution of PNG figures
@@ -382,3 +385,77 @@ def draw_limit(result, ax=None) -> Figure:
     ax.legend(fontsize=8)
     ax.grid(alpha=0.3)
     return fig
+
+
+def stack_figure(result, path, overwrite: bool = False) -> Path:
+    """Write :func:`draw_photon_budget` to ``path`` (PNG or SVG), whole or not at all."""
+    return _save(draw_photon_budget(result), path, overwrite)
+
+
+def draw_photon_budget(result, ax=None) -> Figure:
+    """Where every incident photon goes in the best design of a layer stack, over wavelength
+    (stacked), and the subcells' photocurrents against the front thickness.
+
+    With ``ax``, only the photon budget is drawn, into that axes.
+    """
+    from .layerstack import photon_budget, usable_from_eV
+
+    m = result.match
+    best = m.best
+    if ax is None:
+        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(12, 4.4), width_ratios=(1, 1.5))
+    else:
+        fig, ax1, ax2 = ax.figure, None, ax
+    if ax1 is not None:
+        for others, j, _, _ in m.grids:
+            bold = others == best.others
+            kw = {"lw": 1.8 if bold else 0.7, "alpha": 1.0 if bold else 0.35}
+            ax1.plot(m.thicknesses_nm, j[:, 0] * MA_CM2_PER_A_M2, color=FRONT_COLOUR, **kw,
+                     label=f"front: {m.stack.front.name}" if bold else None)
+            ax1.plot(m.thicknesses_nm, j[:, 1] * MA_CM2_PER_A_M2, color=BACK_COLOUR, **kw,
+                     label=f"back: {m.stack.back.name}" if bold else None)
+        for p in m.crossings:
+            ax1.plot([p.front_thickness_nm], [p.j_light[0] * MA_CM2_PER_A_M2], "o",
+                     color="k" if p is best else "0.6", ms=5 if p is best else 3)
+        ax1.set_xscale("log")
+        ax1.xaxis.set_major_locator(matplotlib.ticker.LogLocator(subs=(1.0, 2.0, 5.0)))
+        ax1.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+        ax1.xaxis.set_minor_formatter(matplotlib.ticker.NullFormatter())
+        ax1.set_xlabel(f"{m.stack.front.name} thickness [nm]")
+        ax1.set_ylabel("photocurrent [mA/cm²]")
+        swept = ", ".join(f"{k} {v:.0f} nm" for k, v in best.others.items())
+        ax1.set_title("current matches (dots); bold: " + (swept or "the stack as given"),
+                      fontsize=9)
+        ax1.legend(fontsize=8, loc="lower right")
+        ax1.grid(alpha=0.3)
+    e = m.energy
+    budget = photon_budget(m.stack, e, [best.front_thickness_nm], best.others, m.temperature_K)
+    wl = HC_EV_NM / e
+    edge = HC_EV_NM / usable_from_eV(m.stack, m.temperature_K)
+    keep = (wl >= 300) & (wl <= edge + 100)
+    order = np.argsort(wl[keep])
+    x = wl[keep][order]
+    parts = [(f"front: {m.stack.front.name}", budget.front[0], FRONT_COLOUR),
+             (f"back: {m.stack.back.name}", budget.back[0], BACK_COLOUR)]
+    for k, (name, a) in enumerate(budget.parasitic.items()):
+        if np.max(a[0][keep]) > 1e-3:  # layers that absorb nothing visible stay out of the key
+            parts.append((name, a[0], LAYER_COLOURS[k % len(LAYER_COLOURS)]))
+    parts.append(("reflected or escaped", budget.reflected[0], "0.88"))
+    if np.max(budget.transmitted[0][keep]) > 1e-3:
+        parts.append(("transmitted", budget.transmitted[0], "0.97"))
+    ax2.stackplot(x, *[np.clip(p[1][keep][order], 0, 1) for p in parts],
+                  labels=[p[0] for p in parts], colors=[p[2] for p in parts], lw=0)
+    ax2.axvline(edge, color="0.3", ls=":", lw=1)
+    ax2.set_xlim(x[0], x[-1])
+    ax2.set_ylim(0, 1)
+    ax2.set_xlabel("wavelength [nm]")
+    ax2.set_ylabel("share of incident photons [-]")
+    ax2.set_title(f"{m.stack.title}: front {best.front_thickness_nm:.0f} nm, "
+                  f"2T {100 * best.efficiency_2t:.1f} %", fontsize=9)
+    ax2.legend(fontsize=7, loc="center left", bbox_to_anchor=(1.01, 0.5), frameon=False)
+    if ax is None:
+        fig.suptitle("Modelling limits, not measurements", fontsize=8, x=0.99, ha="right",
+                     color="0.4")
+        fig.tight_layout()
+    return fig
+

@@ -339,3 +339,41 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
                            "photocurrent_error_bound": float(f"{sweep.basis_bound:.2e}")},
         "caution": CAUTION,
     }
+
+
+def stack_summary(result) -> dict:
+    """A layer-stack match in display units (the `tandem match --stack --json` keys)."""
+    m = result.match
+
+    def point(p) -> dict:
+        return {**{f"{k} [nm]": round(v, 1) for k, v in p.others.items()},
+                "front_thickness_nm": round(p.front_thickness_nm, 1),
+                "jsc_front_mA_cm2": round(float(p.j_light[0]) / 10, 3),
+                "jsc_back_mA_cm2": round(float(p.j_light[1]) / 10, 3),
+                "efficiency_2t_pct": round(100 * p.efficiency_2t, 3),
+                "efficiency_4t_pct": round(100 * p.efficiency_4t, 3),
+                "voc_2t_V": round(p.voc_2t, 4),
+                "current_matched": p.matched}
+
+    best = m.best
+    losses = {k: round(v / 10, 3) for k, v in best.parasitic.items()}
+    from .layerstack import usable_from_eV
+
+    return {
+        "stack": m.stack.key, "title": m.stack.title,
+        "front": m.stack.front.absorber.key, "back": m.stack.back.absorber.key,
+        "layers": [{"name": x.name, "role": x.role, "thickness_nm": (list(x.sweep_nm) if x.sweep_nm
+                    else x.thickness_nm), "coherent": x.coherent, "optical_constants": x.source}
+                   for x in m.stack.layers],
+        "best": point(best),
+        "matches": [point(p) for p in m.crossings],
+        "parasitic_loss_mA_cm2": losses,
+        "reflected_or_escaped_mA_cm2": round(best.reflected / 10, 3),
+        "losses_counted_above_eV": round(usable_from_eV(m.stack, m.temperature_K), 4),
+        "optics_lite_matched_front_thickness_nm": (None if result.optics_lite_matched_nm is None
+                                                   else round(result.optics_lite_matched_nm, 1)),
+        "notes": list(m.notes),
+        "spectrum": result.spectrum, "irradiance_W_m2": round(m.irradiance, 3),
+        "temperature_K": m.temperature_K,
+        "caution": CAUTION,
+    }

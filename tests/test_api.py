@@ -112,7 +112,8 @@ def test_public_api_is_written_out():
 
 @pytest.mark.parametrize("module", ["tandem.inputs", "tandem.workflows", "tandem.detailed_balance",
                                     "tandem.spectra", "tandem.stack", "tandem.absorbers",
-                                    "tandem.sky", "tandem.report", "tandem.errors"])
+                                    "tandem.sky", "tandem.report", "tandem.errors",
+                                    "tandem.layerstack"])
 def test_docstring_examples_run(module):
     result = doctest.testmod(importlib.import_module(module),
                              optionflags=doctest.ELLIPSIS | doctest.NORMALIZE_WHITESPACE)
@@ -178,6 +179,7 @@ SCHEMA_RUNS = {
               "--period", "day:2026-06-21", "--points", "3", "-q"],
     "spread": ["spread", "gainp", "gaas", "--samples", "30"],
     "study": ["study", "--out", "s", "-q", "--no-figures"],
+    "match-stack": ["match", "--stack", "all-thin-film-pair", "--points", "20", "-q"],
 }
 
 

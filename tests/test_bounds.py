@@ -22,6 +22,8 @@ from tandem.design import Conditions, StackDesign, stack_light, stack_performanc
 from tandem.stack import Electrical
 from tandem.units import Q
 
+from limits import global_4t_limit
+
 RTOL = 1e-9
 
 gap_pairs = st.tuples(st.floats(0.9, 3.0), st.floats(0.5, 2.9)).filter(lambda g: g[0] > g[1] + 0.05)
@@ -87,22 +89,6 @@ def test_step_stacks_stay_inside_the_radiative_limit(gaps, ere_f, ere_b, idealit
     # exceed the photons above the back gap
     assert perf.j_2t <= photon_current_between(flux, gaps[1]) * (1 + RTOL)
     assert np.all(perf.p_own >= 0) and perf.p_2t >= 0
-
-
-@functools.lru_cache(maxsize=4)
-def global_4t_limit(temperature: float) -> float:
-    """The highest four-terminal radiative efficiency over all step-gap pairs (AM1.5G)."""
-    flux = spectrum("am1.5g", 1.0)
-    f, b = np.meshgrid(np.arange(1.2, 2.41, 0.01), np.arange(0.6, 1.61, 0.01), indexing="ij")
-    ok = f > b
-    perf = tandem.step_stack(flux, np.stack([f[ok], b[ok]], -1), temperature)
-    # refine around the grid optimum with a finer local grid
-    i = int(np.argmax(perf.p_4t))
-    f0, b0 = f[ok][i], b[ok][i]
-    f, b = np.meshgrid(np.linspace(f0 - 0.02, f0 + 0.02, 41), np.linspace(b0 - 0.02, b0 + 0.02, 41),
-                       indexing="ij")
-    fine = tandem.step_stack(flux, np.stack([f.ravel(), b.ravel()], -1), temperature)
-    return float(max(perf.p_4t.max(), fine.p_4t.max()) / flux.irradiance)
 
 
 ABSORBER_PAIRS = [("perovskite-wide", "silicon"), ("gainp", "gaas"), ("perovskite-wide", "cigs"),

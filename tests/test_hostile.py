@@ -16,6 +16,26 @@ SILICON = (ROOT / "absorbers" / "silicon.toml").read_text()
 PVK = (ROOT / "absorbers" / "perovskite-wide.toml").read_text()
 G = ["--front-gaps", "1.7:1.7:0.01", "--points", "10"]
 
+STACK = (ROOT / "stacks" / "all-thin-film-pair.toml").read_text()
+#: Broken stack files: each one field wrong (name → (old, new) in the bundled pair).
+STACK_FAULTS = {
+    "two-fronts": ('role = "back"', 'role = "front"'),
+    "no-back": ('role = "back"', 'role = "parasitic"'),
+    "coherent-glass": ("coherent = false", "coherent = true"),
+    "negative": ("thickness_nm = 120", "thickness_nm = -120"),
+    "reversed-range": ("thickness_nm = [150, 1200]", "thickness_nm = [1200, 150]"),
+    "outside-absorber": ("thickness_nm = [150, 1200]", "thickness_nm = [150, 12000]"),
+    "typo-key": ("coherent = false", "coherant = false"),
+    "unknown-db": ('"database:main/Ag/Johnson"', '"database:main/Ag/Nobody"'),
+    "missing-csv": ('"database:main/Ag/Johnson"', '"ag.csv"'),
+    "bad-csv": ('"database:main/Ag/Johnson"', '"bad.csv"'),
+    "negative-k": ("nk = [2.0, 0.05]", "nk = [2.0, -0.05]"),
+    "nk-and-absorber": ('absorber = "perovskite-snpb"', 'absorber = "perovskite-snpb"\nnk = 2.0'),
+    "gap-outside": ('absorber = "perovskite-wide"', 'absorber = "perovskite-wide"\ngap_eV = 2.5'),
+    "no-title": ("title = ", "heading = "),
+    "wafer-trapping-front": ('role = "front"', 'role = "front"\nlight_trapping = "lambertian"'),
+}
+
 CASES = [
     # limit: gaps, spectra, electrical options, light
     ("limit", "-1"), ("limit", "0"), ("limit", "nan"), ("limit", "inf"), ("limit", "1e300"),
@@ -124,6 +144,15 @@ CASES = [
     ("spread", "perovskite-wide", "silicon", "--thickness", "16000"),
     ("spread", "perovskite-wide", "silicon", "--plot", "s.gif"),
     ("spread", "perovskite-wide", "silicon", "--target", "nan"),
+    # layer stacks
+    ("match", "--stack", "unobtainium"), ("match", "--stack", "nowhere.toml"),
+    ("match", "--stack", "organic-pair", "organic-wide", "organic-narrow"),
+    ("match", "--stack", "organic-pair", "--front-gaps", "1.7"),
+    ("match", "--stack", "organic-pair", "--reflectance", "0.02"),
+    ("match", "--stack", "organic-pair", "--points", "3"),
+    ("match", "--stack", "organic-pair", "--plot", "p.gif"),
+    ("match", "perovskite-wide"),
+    *[("match", "--stack", f"{name}.toml") for name in STACK_FAULTS],
     # the framework itself
     ("nosuchcommand",), ("limit",), ("limit", "abc"), ("match", "--nosuchoption"),
 ]
@@ -144,6 +173,10 @@ def inputs(folder: Path) -> None:
                                         'source = "am1.5g"\n[candidates]\nfront = ["gainp"]\n'
                                         'back = ["nowhere"]\n')
     (folder / "notjson.json").write_text("{not json")
+    for name, (old, new) in STACK_FAULTS.items():
+        assert old in STACK, name
+        (folder / f"{name}.toml").write_text(STACK.replace(old, new, 1))
+    (folder / "bad.csv").write_text("wavelength,n,k\n400,0.1,abc\n")
     (folder / "r.csv").write_text("300,0.1\n1000,0.1\n")
     epw = ["LOCATION,Test,,,,0,40,0,0,0"] + ["X"] * 7
     epw += [f"2026,1,1,{h},0,?,0,0,0,0,0,0,0,0,1e300,1e300,1e300,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0"

@@ -1,0 +1,88 @@
+"""Longer renderings kept out of cli.py: the bundled catalogue and `tandem match --stack`.
+
+Parse, call the library, render; no physics here.
+"""
+
+from __future__ import annotations
+
+from rich.markup import escape
+
+import tandem
+from tandem.cli_options import (_callback, _emit_json, _light, _operating, _progress, _say,
+                                _table, check_outputs, err, out)
+from tandem.errors import TandemInputError
+
+
+def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: bool, quiet: bool,
+                json_out: bool, wide: bool, unused: dict) -> None:
+    """Match the front absorber of a layer stack and report where the photons go."""
+    given = [name for name, value in unused.items() if value]
+    if given:
+        raise TandemInputError(f"--stack takes the absorbers and their thicknesses from the stack "
+                               f"file; drop {', '.join(given)} (sweep a layer with "
+                               "thickness_nm = [thin, thick] in the file)")
+    if any(str(o[k]).strip() not in ("0", "0.0", "0%") for k in
+           ("reflectance", "front_parasitic", "interlayer_parasitic")):
+        raise TandemInputError("--stack computes reflection and parasitic absorption layer by "
+                               "layer; drop --reflectance, --front-parasitic and "
+                               "--interlayer-parasitic")
+    loaded = tandem.load_stack(stack)
+    figure = plot or f"photons-{loaded.key}.png"
+    check_outputs([figure], overwrite, plot=True)
+    with _progress(quiet or json_out, "matching") as bar:
+        result = tandem.match_stack(loaded, _light(o), _operating(o), points=points,
+                                    progress=_callback(bar))
+    from tandem.plots import stack_figure
+
+    s = result.summary()
+    s["outputs"] = [str(stack_figure(result, figure, overwrite))]
+    if json_out:
+        return _emit_json(s)
+    swept = [k for k in s["best"] if k.endswith("[nm]")]
+    columns = [(k.replace(" [nm]", " nm"), lambda r, k=k: f"{r[k]:.0f}") for k in swept] + [
+        ("front nm", lambda r: f"{r['front_thickness_nm']:.0f}"),
+        ("Jsc front", lambda r: f"{r['jsc_front_mA_cm2']:.2f}"),
+        ("Jsc back", lambda r: f"{r['jsc_back_mA_cm2']:.2f}"),
+        ("2T %", lambda r: f"{r['efficiency_2t_pct']:.2f}"),
+        ("4T %", lambda r: f"{r['efficiency_4t_pct']:.2f}")]
+    rows = s["matches"] or [s["best"]]
+    out.print(_table(f"{s['title']}: current matches of {s['front']} (best 2T first)", columns,
+                     rows, "Jsc in mA/cm²; every crossing of the two photocurrents is listed",
+                     wide))
+    losses = [{"where": k, "lost": v} for k, v in s["parasitic_loss_mA_cm2"].items()]
+    losses.append({"where": "reflected or escaped", "lost": s["reflected_or_escaped_mA_cm2"]})
+    out.print(_table(f"usable photons lost (above {s['losses_counted_above_eV']:.3f} eV)",
+                     [("layer", lambda r: r["where"]), ("mA/cm²", lambda r: f"{r['lost']:.2f}")],
+                     losses, wide=wide))
+    b, lite = s["best"], s["optics_lite_matched_front_thickness_nm"]
+    _say((f"current-matched {s['front']} thickness: {b['front_thickness_nm']:.0f} nm"
+          if b["current_matched"] else "no current match in the swept range")
+         + "".join(f", {k.replace(' [nm]', '')} {b[k]:.0f} nm" for k in swept)
+         + f"; 2T {b['efficiency_2t_pct']:.2f} %, 4T {b['efficiency_4t_pct']:.2f} %",
+         "optics-lite (no interference, no layer losses) matches at "
+         + (f"{lite:.0f} nm" if lite else "no thickness in range"),
+         *[f"note: {n}" for n in s["notes"]],
+         f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K")
+    err.print(f"wrote {escape(s['outputs'][0])}")
+    out.print(f"[dim]{escape(s['caution'])}[/]")
+
+
+def list_bundled(json_out: bool) -> None:
+    """The bundled absorber descriptions and layer stacks."""
+    found = [tandem.load_absorber(k) for k in tandem.bundled_absorbers()]
+    stacks = [tandem.load_stack(k) for k in tandem.bundled_stacks()]
+    if json_out:
+        return _emit_json({"absorbers": [tandem.absorber_summary(a) for a in found],
+                           "stacks": [{"name": s.key, "title": s.title,
+                                       "layers": [x.name for x in s.layers]} for s in stacks]})
+    out.print(_table("Bundled absorbers", [
+        ("name", lambda a: a.key), ("description", lambda a: a.name),
+        ("gap eV", lambda a: "{:.2f}–{:.2f}".format(*a.gap_range_eV) if a.tunable
+         else f"{a.gap_eV:.3f}"), ("edge", lambda a: a.edge_model),
+        ("thickness", lambda a: f"{a.thickness_nm / 1000:g} µm" if a.thickness_nm >= 10_000
+         else f"{a.thickness_nm:g} nm"),
+        ("trapping", lambda a: a.light_trapping), ("ERE", lambda a: f"{a.ere:.1e}")], found))
+    out.print(_table("Bundled layer stacks (tandem match --stack NAME)", [
+        ("name", lambda s: s.key), ("title", lambda s: s.title),
+        ("layers", lambda s: str(len(s.layers)))], stacks))
+    _say("Add your own: pass the path of a .toml file written to the schemas in the README.")

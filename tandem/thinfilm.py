@@ -1,0 +1,215 @@
+"""Thin-film optics at normal incidence: coherent layers and thick incoherent ones.
+
+Every function works on whole arrays: a layer's complex index ñ = n + ik and its thickness
+broadcast against each other (typically thickness sweep × photon energy), so a stack is
+solved for every wavelength and thickness at once, with no loop over either.
+
+Conventions follow the published generalised matrix method for partly coherent stacks
+(S. J. Byrnes, "Multilayer optical calculations", arXiv:1603.02720 (2016); C. C. Katsidis and
+D. I. Siapkas, Appl. Opt. 41 (2002) 3978; E. Centurioni, Appl. Opt. 44 (2005) 7532):
+
+- Coherent layers: the 2×2 characteristic-matrix product of Fresnel interfaces and phase
+  δ = 2πñd/λ (Born & Wolf, Principles of Optics, §1.6); the field's forward and backward
+  amplitudes at each layer give the normal Poynting flux, and a layer absorbs the flux
+  that enters it minus the flux that leaves it.
+- Incoherent layers (glass, wafers): intensities, not amplitudes, pass through them,
+  attenuated by P = exp(−4πkd/λ) per pass; the coherent groups between them enter as their
+  intensity reflectances and transmittances from either side.
+- R + T + Σ A = 1 at every energy (tested); the incident medium must be lossless.
+
+A single opaque pass (Im δ > 35, or P < 1e-30) is clipped there, as in Byrnes's
+reference implementation, to keep the matrices finite.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+#: Largest single-pass attenuation kept in a coherent layer (|e^{iδ}| ≥ e^{−35}).
+MAX_IMAG_PHASE = 35.0
+#: Smallest single-pass intensity transmittance kept in an incoherent layer.
+MIN_PASS = 1e-30
+
+
+@dataclass(frozen=True)
+class Layer:
+    """One layer: complex index (…, nE), thickness [nm] (scalar or broadcastable), coherence."""
+
+    index: np.ndarray
+    thickness_nm: object
+    coherent: bool = True
+
+
+@dataclass(frozen=True)
+class Optics:
+    """Fractions of the incident power [-], each broadcast to the stack's shape (…, nE)."""
+
+    reflectance: np.ndarray
+    transmittance: np.ndarray  #: into the exit medium
+    absorptance: tuple[np.ndarray, ...]  #: one per layer, in order from the sun
+
+
+def fresnel(n1, n2):
+    """Amplitude reflection and transmission at normal incidence from n1 into n2:
+    r = (n1 − n2)/(n1 + n2), t = 2n1/(n1 + n2) (Hecht, Optics, §4.6)."""
+    return (n1 - n2) / (n1 + n2), 2 * n1 / (n1 + n2)
+
+
+def _poynting(n, n0, v, w):
+    """Normal Poynting flux of forward/backward amplitudes v, w in a medium of index n,
+    as a fraction of the incident flux in a lossless medium n0."""
+    return np.real(n * np.conj(v + w) * (v - w)) / np.real(n0)
+
+
+def coherent(indices, thicknesses_nm, wavelength_nm):
+    """A coherent stack between two semi-infinite media.
+
+    Parameters
+    ----------
+    indices : sequence of L + 2 complex arrays
+        ñ of the incident medium, the L layers and the exit medium, broadcastable.
+    thicknesses_nm : sequence of L arrays or floats
+    wavelength_nm : array (nE,)
+
+    Returns
+    -------
+    dict with R, T, the flux entering from the front (``entering``; 1 − R for a lossless
+    incident medium) and ``A``, a list of the L layers' absorptances.
+    """
+    n = [np.asarray(x, dtype=complex) for x in indices]
+    lam = np.asarray(wavelength_nm, dtype=float)
+    layers = len(n) - 2
+    # characteristic matrices M_j = (1/t_j,j+1)·diag(e^{−iδ}, e^{iδ})·[[1, r], [r, 1]]
+    r01, t01 = fresnel(n[0], n[1])
+    m00, m01, m10, m11 = 1 / t01, r01 / t01, r01 / t01, 1 / t01
+    mats = []
+    for j in range(1, layers + 1):
+        delta = 2 * np.pi * n[j] * np.asarray(thicknesses_nm[j - 1], dtype=float) / lam
+        delta = np.where(delta.imag > MAX_IMAG_PHASE, delta.real + 1j * MAX_IMAG_PHASE, delta)
+        r, t = fresnel(n[j], n[j + 1])
+        back, fwd = np.exp(-1j * delta) / t, np.exp(1j * delta) / t
+        mat = (back, back * r, fwd * r, fwd)
+        mats.append(mat)
+        m00, m01, m10, m11 = (m00 * mat[0] + m01 * mat[2], m00 * mat[1] + m01 * mat[3],
+                              m10 * mat[0] + m11 * mat[2], m10 * mat[1] + m11 * mat[3])
+    r = m10 / m00
+    t = 1 / m00
+    transmittance = np.abs(t) ** 2 * np.real(n[-1]) / np.real(n[0])
+    entering = np.real(n[0] * (1 + np.conj(r)) * (1 - r)) / np.real(n[0])
+    # amplitudes at the start of each layer, from the exit backwards: vw_j = M_j · vw_{j+1}
+    absorbed = []
+    v, w = t, np.zeros_like(t)
+    for j in range(layers, 0, -1):
+        a, b, c, d = mats[j - 1]
+        v, w = a * v + b * w, c * v + d * w
+        absorbed.append(_absorbed_in_layer(n[j], n[0], v, w, thicknesses_nm[j - 1], lam))
+    return {"R": np.abs(r) ** 2, "T": transmittance, "entering": entering, "A": absorbed[::-1]}
+
+
+def _absorbed_in_layer(n, n0, v, w, thickness_nm, wavelength_nm):
+    """∫ n·α·|E(z)|²/n0 dz over the layer, E = v·e^{ikz} + w·e^{−ikz} (k = k' + ik'').
+
+    The integral in closed form, with expm1 so that a weakly absorbing layer keeps its full
+    relative precision (its absorptance, not 1 minus the rest, feeds the radiative J0):
+    |v|²(1 − e^{−2k''d})/2k'' + |w|²(e^{2k''d} − 1)/2k'' + 2Re(v w̄ (e^{2ik'd} − 1)/2ik').
+    The absorbed density n·α·|E|²/n0 is the divergence of the Poynting flux (Byrnes,
+    arXiv:1603.02720, eq. for the absorbed energy), so the layers add up to 1 − R − T.
+    """
+    kz = 2 * np.pi * n / wavelength_nm
+    k1, k2 = np.real(kz), np.imag(kz)
+    d = np.asarray(thickness_nm, dtype=float)
+    two_k2d = np.minimum(2 * k2 * d, 2 * MAX_IMAG_PHASE)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        safe = np.where(k2 > 0, 2 * k2, 1.0)
+        forward = np.where(k2 > 0, -np.expm1(-two_k2d) / safe, d)
+        backward = np.where(k2 > 0, np.expm1(two_k2d) / safe, d)
+    cross = 2 * np.real(v * np.conj(w) * np.expm1(2j * k1 * d) / (2j * k1))
+    # the opaque cap: beyond e^{-35} the backward wave's growth is the cap's, as in δ
+    integral = np.abs(v) ** 2 * forward + np.abs(w) ** 2 * backward + cross
+    return np.real(n) * 2 * k2 * integral / np.real(n0)
+
+
+def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm) -> Optics:
+    """Reflectance, transmittance and each layer's absorptance of a partly coherent stack.
+
+    Incoherent layers split the stack into coherent groups; each group is solved from the
+    front and from the back (:func:`coherent`), then intensities are chained through the
+    incoherent layers with the 2×2 intensity matrices of Byrnes (arXiv:1603.02720, §5).
+    """
+    lam = np.asarray(wavelength_nm, dtype=float)
+    media = [Layer(np.asarray(ambient_index, dtype=complex), np.inf, False)]
+    groups: list[list[int]] = [[]]  # coherent layer numbers between incoherent media
+    incoherent_at = [-1]  # layer number of each incoherent medium (−1: ambient)
+    for i, layer in enumerate(layers):
+        if layer.coherent:
+            groups[-1].append(i)
+        else:
+            media.append(layer)
+            incoherent_at.append(i)
+            groups.append([])
+    media.append(Layer(np.asarray(exit_index, dtype=complex), np.inf, False))
+    incoherent_at.append(len(layers))
+    count = len(media)
+
+    fwd, bwd = [], []
+    for g, members in enumerate(groups):
+        n_in, n_out = media[g].index, media[g + 1].index
+        ns = [layers[i].index for i in members]
+        ds = [layers[i].thickness_nm for i in members]
+        fwd.append(coherent([n_in, *ns, n_out], ds, lam))
+        bwd.append(coherent([n_out, *ns[::-1], n_in], ds[::-1], lam))
+    passes = [None] + [np.maximum(np.exp(-4 * np.pi * np.asarray(m.thickness_nm, float)
+                                         * np.imag(m.index) / lam), MIN_PASS)
+                       for m in media[1:-1]] + [None]
+
+    def l_matrix(g):  # intensity matrix of group g (between media g and g + 1)
+        rf, tf, rb, tb = fwd[g]["R"], fwd[g]["T"], bwd[g]["R"], bwd[g]["T"]
+        return (1 / tf, -rb / tf, rf / tf, (tb * tf - rb * rf) / tf)
+
+    total = l_matrix(0)
+    chain = [None]
+    for i in range(1, count - 1):
+        a, b, c, d = l_matrix(i)
+        p = passes[i]
+        mat = (a / p, b / p, c * p, d * p)
+        chain.append(mat)
+        total = (total[0] * mat[0] + total[1] * mat[2], total[0] * mat[1] + total[1] * mat[3],
+                 total[2] * mat[0] + total[3] * mat[2], total[2] * mat[1] + total[3] * mat[3])
+    transmittance = 1 / total[0]
+    reflectance = total[2] / total[0]
+    # forward (V) and backward (W) intensities at the start of each incoherent medium
+    vw = [None] * count
+    v, w = transmittance, np.zeros_like(transmittance)
+    vw[-1] = (v, w)
+    for i in range(count - 2, 0, -1):
+        a, b, c, d = chain[i]
+        v, w = a * v + b * w, c * v + d * w
+        vw[i] = (v, w)
+    # light arriving at group g from the front (F) and from the back (B)
+    arriving = [(1.0 if g == 0 else vw[g][0] * passes[g], vw[g + 1][1]) for g in range(count - 1)]
+    # flux entering each incoherent medium across the interface before it
+    entering = [None]
+    for i in range(1, count):
+        f, b = arriving[i - 1]
+        back = bwd[i - 1]["entering"] if groups[i - 1] else bwd[i - 1]["T"]
+        entering.append(f * fwd[i - 1]["T"] - b * back)
+    absorbed = [None] * len(layers)
+    for i in range(1, count - 1):
+        f, b = arriving[i]
+        front_side = fwd[i]["entering"] if groups[i] else fwd[i]["T"]
+        leaving = f * front_side - b * bwd[i]["T"]
+        absorbed[incoherent_at[i]] = entering[i] - leaving
+    for g, members in enumerate(groups):
+        f, b = arriving[g]
+        for k, i in enumerate(members):
+            absorbed[i] = f * fwd[g]["A"][k] + b * bwd[g]["A"][len(members) - 1 - k]
+    shape = np.broadcast(reflectance, lam, *absorbed).shape
+    return Optics(np.broadcast_to(reflectance, shape), np.broadcast_to(transmittance, shape),
+                  tuple(np.broadcast_to(a, shape) for a in absorbed))
+
+
+def index_from_alpha(alpha_per_cm, wavelength_nm, n_real):
+    """ñ = n + ik with k = αλ/(4π) (α in cm⁻¹, λ in nm)."""
+    return n_real + 1j * np.asarray(alpha_per_cm) * np.asarray(wavelength_nm) * 1e-7 / (4 * np.pi)

@@ -1,0 +1,218 @@
+"""Thin-film optics and layer stacks, checked against textbook formulas and the general-purpose
+``tmm`` package (S. J. Byrnes), a test dependency only."""
+
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+import tandem
+from tandem.design import Conditions, StackDesign, subcell_currents
+from tandem.layerstack import (LayerStack, StackLayer, budget_currents, database_index,
+                               load_stack, match_in_stack, photon_budget)
+from tandem.thinfilm import Layer, stack_optics
+from tandem.units import HC_EV_NM
+
+from limits import global_4t_limit
+
+tmm = pytest.importorskip("tmm")
+
+
+def solve(layers, n0, n_exit, wavelength):
+    return stack_optics([Layer(np.asarray(n, complex), d, c) for n, d, c in layers], n0, n_exit,
+                        np.atleast_1d(np.asarray(wavelength, float)))
+
+
+@pytest.mark.parametrize("n1, n2", [(1.0, 1.5), (1.0, 3.5), (1.5, 1.0), (1.33, 2.4)])
+def test_single_interface_is_fresnel(n1, n2):
+    # any optics textbook (Hecht, Optics, §4.6): R = ((n1 − n2)/(n1 + n2))² at normal incidence
+    out = solve([], n1, n2, 600.0)
+    assert out.reflectance[0] == pytest.approx(((n1 - n2) / (n1 + n2)) ** 2, abs=1e-15)
+    assert out.reflectance[0] + out.transmittance[0] == pytest.approx(1.0, abs=1e-15)
+
+
+@pytest.mark.parametrize("n0, n1, n2", [(1.0, 1.38, 1.52), (1.0, 1.9, 3.6), (1.0, 1.2247449, 1.5),
+                                        (1.52, 2.0, 3.5)])
+def test_quarter_wave_layer(n0, n1, n2):
+    # Macleod, Thin-Film Optical Filters, §3: a quarter-wave layer gives
+    # R = ((n0·n2 − n1²)/(n0·n2 + n1²))², zero when n1 = √(n0·n2)
+    lam = 550.0
+    out = solve([(n1, lam / (4 * n1), True)], n0, n2, lam)
+    expected = ((n0 * n2 - n1**2) / (n0 * n2 + n1**2)) ** 2
+    assert out.reflectance[0] == pytest.approx(expected, abs=1e-14)
+    zero = solve([(np.sqrt(n0 * n2), lam / (4 * np.sqrt(n0 * n2)), True)], n0, n2, lam)
+    assert zero.reflectance[0] < 1e-28
+
+
+def random_stack(rng, coherent_only=False):
+    count = int(rng.integers(1, 7))
+    layers = []
+    for _ in range(count):
+        coherent = coherent_only or rng.random() < 0.6
+        n = rng.uniform(1.2, 4.0) + 1j * (rng.uniform(0, 0.8) if rng.random() < 0.7 else 0.0)
+        d = rng.uniform(2, 500)
+        if not coherent:  # thick and weakly absorbing, as glass and wafers are
+            n, d = n.real + 1j * rng.uniform(0, 2e-3), rng.uniform(1e3, 3e5)
+        layers.append((n, d, coherent))
+    return layers, rng.uniform(1.0, 1.6), rng.uniform(1.0, 4.0) + 1j * rng.uniform(0, 0.2)
+
+
+@pytest.mark.parametrize("coherent_only", [True, False])
+def test_random_stacks_agree_with_tmm(coherent_only):
+    """R, T and every layer's absorptance within 1e-9 of tmm's coh_tmm / inc_tmm."""
+    rng = np.random.default_rng(2026 + coherent_only)
+    wavelengths = np.linspace(300, 1300, 23)
+    for _ in range(40):
+        layers, n0, n_exit = random_stack(rng, coherent_only)
+        ours = solve(layers, n0, n_exit, wavelengths)
+        flags = ["i"] + ["c" if c else "i" for _, _, c in layers] + ["i"]
+        for k, lam in enumerate(wavelengths):
+            ref = tmm.inc_tmm("s", [n0, *[n for n, _, _ in layers], n_exit],
+                              [np.inf, *[d for _, d, _ in layers], np.inf], flags, 0, lam)
+            absorbed = tmm.inc_absorp_in_each_layer(ref)[1:-1]
+            assert ours.reflectance[k] == pytest.approx(ref["R"], abs=1e-9)
+            assert ours.transmittance[k] == pytest.approx(ref["T"], abs=1e-9)
+            for i, a in enumerate(absorbed):
+                assert ours.absorptance[i][k] == pytest.approx(a, abs=1e-9)
+
+
+def test_every_photon_once_and_lossless_stacks_absorb_nothing():
+    rng = np.random.default_rng(7)
+    wavelengths = np.linspace(300, 2000, 301)
+    for _ in range(30):
+        layers, n0, n_exit = random_stack(rng)
+        out = solve(layers, n0, n_exit, wavelengths)
+        total = out.reflectance + out.transmittance + sum(out.absorptance)
+        np.testing.assert_allclose(total, 1.0, rtol=0, atol=1e-12)
+        clear = solve([(n.real, d, c) for n, d, c in layers], n0, n_exit.real, wavelengths)
+        assert max(np.max(np.abs(a)) for a in clear.absorptance) < 1e-15
+        np.testing.assert_allclose(clear.reflectance + clear.transmittance, 1.0, atol=1e-12)
+
+
+def test_thickness_sweep_is_vectorised_and_equals_one_at_a_time():
+    lam = np.linspace(350, 1100, 50)
+    d = np.array([100.0, 250.0, 400.0])[:, None]
+    swept = solve([(1.9 + 0.01j, 80.0, True), (2.5 + 0.3j, d, True), (3.6 + 0.001j, 1e5, False)],
+                  1.0, 1.0, lam)
+    for i, di in enumerate(d[:, 0]):
+        one = solve([(1.9 + 0.01j, 80.0, True), (2.5 + 0.3j, di, True), (3.6 + 0.001j, 1e5, False)],
+                    1.0, 1.0, lam)
+        np.testing.assert_allclose(swept.absorptance[1][i], one.absorptance[1], rtol=1e-13, atol=0)
+
+
+def test_silicon_constants_from_the_database_match_the_absorber():
+    # Green, Sol. Energy Mater. Sol. Cells 92 (2008) 1305 via the offline database: k gives the
+    # same α as the bundled silicon absorber, and n(1000 nm) = 3.572 (Green 2008, recalled)
+    wl, index = database_index("main/Si/Green-2008")
+    si = tandem.load_absorber("silicon")
+    for lam in (800, 900, 1000):
+        k = np.interp(lam, wl, index.imag)
+        alpha = 4 * np.pi * k / (lam * 1e-7)
+        assert alpha == pytest.approx(float(si.alpha(HC_EV_NM / lam)), rel=0.02)
+    assert np.interp(1000, wl, index.real) == pytest.approx(3.572, abs=0.01)
+
+
+# --------------------------------------------------------------------------------------
+# stacks of absorbers
+# --------------------------------------------------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def am15g():
+    return tandem.reference_spectrum("am1.5g").photon_flux()
+
+
+def index_matched(front="perovskite-wide", back="silicon", n=3.0):
+    """A stack with no reflecting interface: one real index everywhere, thick layers."""
+    f = replace(tandem.load_absorber(front), refractive_index=n)
+    b = replace(tandem.load_absorber(back), refractive_index=n)
+    layers = (StackLayer("front", 800.0, None, 7, True, "front", "absorber", absorber=f),
+              StackLayer("back", 160e3, None, 7, False, "back", "absorber", absorber=b))
+    return LayerStack("matched", Path("matched.toml"), "index-matched", "", layers, n, n), f, b
+
+
+def test_index_matched_stack_reproduces_optics_lite(am15g):
+    """Without interfaces the stack is the optics-lite model (single pass in front, the
+    back's own trapping). Stated tolerance: photocurrents and J0 within 0.5 %. The residue
+    is the reflection that the absorbers' own k still causes, |ik/(2n + ik)|²: up to 1.1 % in
+    the blue for the perovskite (k ≈ 0.64 at 3 eV); near the gaps, where J0 is made, the
+    amplitudes ~k/2n reflected at the film's two faces interfere (0.3 % at 200 nm)."""
+    stack, f, b = index_matched()
+    d = np.array([200.0, 500.0, 1200.0])
+    budget = photon_budget(stack, am15g.energy, d)
+    j_light, j0, _, reflected = budget_currents(budget, am15g, 298.15)
+    design = StackDesign(f, b, 0.0, 0.0, 0.0)
+    lite_j, lite_j0 = subcell_currents(design, Conditions(am15g, 298.15), f.gap_eV, d, 160e3)
+    np.testing.assert_allclose(j_light, lite_j, rtol=5e-3)
+    np.testing.assert_allclose(j0, lite_j0, rtol=5e-3)
+    assert np.all(j_light[:, 0] < lite_j[:, 0])  # the residual reflection only takes light
+
+
+@pytest.mark.parametrize("name", ["wide-gap-on-silicon-wafer", "all-thin-film-pair", "organic-pair"])
+def test_bundled_stacks_count_every_photon_once(name, am15g):
+    stack = load_stack(name)
+    budget = photon_budget(stack, am15g.energy, np.geomspace(*stack.front.sweep_nm, 9))
+    total = budget.front + budget.back + budget.reflected + budget.transmitted + sum(
+        budget.parasitic.values())
+    np.testing.assert_allclose(total, 1.0, rtol=0, atol=1e-12)
+    for share in (budget.front, budget.back, budget.reflected, *budget.parasitic.values()):
+        assert share.min() > -1e-12
+
+
+def test_every_crossing_is_found_and_matched(am15g):
+    stack = load_stack("wide-gap-on-silicon-wafer")
+    result = match_in_stack(stack, am15g, points=60)
+    assert len(result.crossings) >= len(result.grids)  # at least one per electrode thickness
+    for p in result.crossings:
+        assert p.j_light[0] == pytest.approx(p.j_light[1], rel=1e-6)
+    for others, j, _, _ in result.grids:  # one crossing per sign change of J_f − J_b
+        changes = int(np.sum(np.diff(np.sign(j[:, 0] - j[:, 1])) != 0))
+        assert changes == sum(p.others == others for p in result.crossings)
+    assert result.best.efficiency_2t == max(p.efficiency_2t for p in result.crossings)
+
+
+def test_interference_fringes_give_several_crossings(am15g):
+    """Where the front saturates near the back's fringing current (a 1.78 eV front over the
+    flat-front wafer), J_front − J_back changes sign several times: every crossing is
+    reported, the best two-terminal one first."""
+    stack = load_stack("wide-gap-on-silicon-wafer")
+    layers = tuple(replace(x, gap_eV=1.78, sweep_nm=(300.0, 1500.0)) if x.role == "front" else
+                   replace(x, sweep_nm=None, thickness_nm=60.0) if x.sweep_nm else x
+                   for x in stack.layers)
+    result = match_in_stack(replace(stack, layers=layers), am15g, points=300)
+    _, j, _, _ = result.grids[0]
+    changes = int(np.sum(np.diff(np.sign(j[:, 0] - j[:, 1])) != 0))
+    assert changes >= 2 and len(result.crossings) == changes
+    assert [p.efficiency_2t for p in result.crossings] == sorted(
+        (p.efficiency_2t for p in result.crossings), reverse=True)
+    for p in result.crossings:
+        assert p.matched and p.j_light[0] == pytest.approx(p.j_light[1], rel=1e-6)
+
+
+@settings(max_examples=25, deadline=None)
+@given(extra_n=st.floats(1.2, 3.5), extra_k=st.floats(0.0, 0.5), extra_d=st.floats(1.0, 300.0),
+       front_d=st.floats(150.0, 1500.0), temperature=st.floats(280.0, 350.0))
+def test_stack_results_stay_inside_physics(extra_n, extra_k, extra_d, front_d, temperature):
+    """Any extra layer in front: every photon counted once, 2T ≤ 4T, Voc below each gap, and
+    the efficiency below the two-junction radiative limit of any gaps (De Vos 1980)."""
+    flux = tandem.reference_spectrum("am1.5g").photon_flux()
+    stack = load_stack("wide-gap-on-silicon-wafer")
+    extra = StackLayer("extra", extra_d, None, 7, True, "parasitic", "random",
+                       constant=complex(extra_n, extra_k))
+    stack = replace(stack, layers=(stack.layers[0], extra) + stack.layers[1:])
+    budget = photon_budget(stack, flux.energy, [front_d], temperature_K=temperature)
+    total = budget.front + budget.back + budget.reflected + budget.transmitted + sum(
+        budget.parasitic.values())
+    np.testing.assert_allclose(total, 1.0, rtol=0, atol=1e-12)
+    from tandem.layerstack import _evaluate
+    from tandem.stack import IDEAL
+
+    perf, _, _ = _evaluate(stack, budget, flux, temperature, 1.0, IDEAL)
+    assert perf.efficiency_2t[0] <= perf.efficiency_4t[0] * (1 + 1e-9)
+    assert perf.efficiency_4t[0] <= global_4t_limit(280.0) * (1 + 1e-9)
+    gaps = [stack.front.absorber.gap_eV + stack.front.absorber.gap_shift_eV(temperature),
+            stack.back.absorber.gap_eV + stack.back.absorber.gap_shift_eV(temperature)]
+    assert np.all(perf.voc[0] < np.array(gaps))
