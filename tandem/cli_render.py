@@ -46,14 +46,14 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: b
         ("2T %", lambda r: f"{r['efficiency_2t_pct']:.2f}"),
         ("4T %", lambda r: f"{r['efficiency_4t_pct']:.2f}")]
     rows = s["matches"] or [s["best"]]
-    out.print(_table(f"{s['title']}: current matches of {s['front']} (best 2T first)", columns,
-                     rows, "Jsc in mA/cm²; every crossing of the two photocurrents is listed",
-                     wide))
+    out.print(_table(s["title"], columns, rows, f"current matches of {s['front']}, best 2T first; "
+                     "Jsc in mA/cm²", wide))
     losses = [{"where": k, "lost": v} for k, v in s["parasitic_loss_mA_cm2"].items()]
     losses.append({"where": "reflected or escaped", "lost": s["reflected_or_escaped_mA_cm2"]})
-    out.print(_table(f"usable photons lost (above {s['losses_counted_above_eV']:.3f} eV)",
+    out.print(_table("usable photons lost",
                      [("layer", lambda r: r["where"]), ("mA/cm²", lambda r: f"{r['lost']:.2f}")],
-                     losses, wide=wide))
+                     losses, f"above {s['losses_counted_above_eV']:.3f} eV",
+                     wide=wide))
     b, lite = s["best"], s["optics_lite_matched_front_thickness_nm"]
     _say((f"current-matched {s['front']} thickness: {b['front_thickness_nm']:.0f} nm"
           if b["current_matched"] else "no current match in the swept range")

@@ -308,6 +308,49 @@ def case_e():
                                       == sweep.optimum else "NO"))
 
 
+def case_f(rng):
+    print("(f) thin-film stack: the bundled wide-gap film on a silicon wafer (6 layers in the "
+          "matrix method, the wafer behind), 200 perovskite thicknesses")
+    from threadpoolctl import threadpool_limits
+
+    from tandem.layerstack import load_stack, photon_budget
+
+    stack = load_stack("wide-gap-on-silicon-wafer")
+    energy = tandem.reference_spectrum("am1.5g").photon_flux().energy
+    thick = np.geomspace(150, 1500, 200)
+    with threadpool_limits(limits=1):
+        seconds, peak = measure(lambda: photon_budget(stack, energy, thick))
+    line(f"{energy.size:,} energies x 200 thicknesses, 1 core", energy.size * 200, seconds, peak)
+    try:
+        import tmm
+    except ImportError:
+        print("  (tmm not installed: no reference comparison)")
+        return
+    from tandem.thinfilm import Layer, stack_optics
+
+    wl = tandem.units.HC_EV_NM / energy
+    films = [x for x in stack.layers if not x.ends_stack]
+    idx = [x.index(energy) for x in films]
+    exit_index = stack.back.index(energy)
+    mine = stack_optics([Layer(n, x.thickness_nm if x.role != "front" else thick[:, None],
+                               x.coherent) for n, x in zip(idx, films)],
+                        stack.ambient_index, exit_index, wl)
+    picks = [(int(rng.integers(200)), int(rng.integers(energy.size))) for _ in range(300)]
+    worst, t0 = 0.0, time.perf_counter()
+    for i, k in picks:
+        d = [thick[i] if x.role == "front" else x.thickness_nm for x in films]
+        ref = tmm.inc_tmm("s", [stack.ambient_index, *[n[k] for n in idx], exit_index[k]],
+                          [np.inf, *d, np.inf], ["i"] + ["c" if x.coherent else "i" for x in films]
+                          + ["i"], 0, wl[k])
+        a = tmm.inc_absorp_in_each_layer(ref)[1:-1]
+        worst = max(worst, abs(mine.reflectance[i, k] - ref["R"]),
+                    *[abs(mine.absorptance[j][i, k] - a[j]) for j in range(len(films))])
+    per = (time.perf_counter() - t0) / len(picks)
+    print(f"  tmm package, one point at a time: {per * 1e3:.2f} ms per point, "
+          f"{per * energy.size * 200:,.0f} s extrapolated; speed ratio {per * energy.size * 200 / seconds:,.0f}x;"
+          f" largest difference in R or a layer's absorptance {worst:.1e}")
+
+
 def whole_process(label: str, args: list[str]) -> None:
     """Run ``tandem ARGS`` as a user would, in a scratch folder: wall time, CPU and peak memory
     (through /usr/bin/time, so the memory is the command's own, not this script's)."""
@@ -358,6 +401,7 @@ def main():
     b_seconds = case_b(flux, n_sample, rng)
     case_c(b_seconds)
     case_e()
+    case_f(rng)
     case_d()
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(f"process peak resident memory: {rss:,.0f} MiB")
