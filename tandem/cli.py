@@ -355,7 +355,7 @@ def energy_yield(
         front_thickness: Annotated[Optional[str], _opt(help="Front thickness range THIN:THICK.")] = None,
         points: Annotated[int, _opt(help="Front thicknesses in the sweep.")] = 16,
         back_thickness: Annotated[Optional[str], _opt(help="Back thickness, e.g. 160um.")] = None,
-        output: Annotated[str, _opt("--output", "-o", help="Prefix of the figures.")] = "yield",
+        output: Annotated[str, _opt("--output", "-o", help="Prefix of the figures and data files.")] = "yield",
         overwrite: Overwrite = False, quiet: Quiet = False, large: Large = False,
         json_out: Json = False, *, o):
     """Energy over a day, month or year under real skies: 2T vs 4T, energy-optimal design.
@@ -368,15 +368,14 @@ def energy_yield(
     """
     import numpy as np
 
-    from tandem.plots import yield_figures
-    from tandem.workflows import at_cell_temperature, scenario_yield_inputs, site_series
-
     from tandem.inputs import parse_temperature
+    from tandem.workflows import at_cell_temperature, scenario_yield_inputs, site_series
 
     if not Path(output).name.strip(". "):
         raise TandemInputError(f"--output '{output}': give a file name prefix, e.g. yield")
-    check_outputs([Path(output).parent / f"{Path(output).name}{x}.png"
-                   for x in ("-day", "-monthly", "-map")], overwrite)
+    check_outputs([Path(output).parent / f"{Path(output).name}{x}"
+                   for x in ("-day.png", "-monthly.png", "-map.png", "-energy.nc",
+                             "-series.parquet")], overwrite)
     operating, back_d = _operating(o), back_thickness and _thickness(back_thickness, "--back-thickness")
     if scenario is not None:
         from tandem.study import load_scenario
@@ -412,7 +411,7 @@ def energy_yield(
             front_thicknesses_nm=np.geomspace(thick[0], thick[1], points), progress=_callback(bar),
             allow_large=large)
     s = result.summary()
-    s["outputs"] = [str(p) for p in yield_figures(result.sweep, result.best, output, overwrite)]
+    s["outputs"] = [str(p) for p in result.write(output, overwrite)]
     if json_out:
         return _emit_json(s)
     eo = s["energy_optimum"]
@@ -490,10 +489,11 @@ def fabrication_spread(
     out.print(f"[dim]{escape(tandem.CAUTION)}[/]")
 
 
+from tandem.cli_region import region  # noqa: E402  (its own module: cli.py stays short)
+
+app.command("region")(friendly(shared(region)))
+
+
 def main() -> None:
     """Console entry point (``tandem``): framework errors, too, are one line and exit 2."""
     run_app(app)
-
-
-if __name__ == "__main__":
-    main()

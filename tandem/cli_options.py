@@ -300,10 +300,10 @@ def friendly(command):
 
 def run_app(app) -> None:
     """Run the typer app so that usage errors are one line (exit 2) and Ctrl-C is exit 130."""
-    try:
-        import click
-    except ImportError:  # typer ≥ 0.24 carries its own copy
+    try:  # typer ≥ 0.24 carries its own copy of click, whether or not click is installed
         from typer import _click as click
+    except ImportError:
+        import click
 
     try:
         code = typer.main.get_command(app).main(prog_name="tandem", standalone_mode=False)

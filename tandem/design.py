@@ -113,6 +113,20 @@ def stack_integrands(design: StackDesign, energy, front_gap, back_thickness_nm, 
     return StackIntegrands(alpha_nm, beta, entering * k, behind)
 
 
+def rear_absorptance(design: StackDesign, energy, back_thickness_nm, temperature_K=T_STC,
+                     back_gap=None) -> np.ndarray:
+    """What the back subcell absorbs and collects of light reaching it from the rear (nE,).
+
+    A bifacial module's rear light meets the back subcell first, with its own light
+    trapping; the front subcell is not in its way. By reciprocity the same absorptance sets
+    the back subcell's emission through its rear face (its extra J0).
+    """
+    back = design.back
+    layer = back.layer(np.asarray(energy, dtype=float), back_thickness_nm, back_gap,
+                       back.gap_shift_eV(temperature_K))
+    return layer.absorptance() * layer.collection()
+
+
 def subcell_currents(design: StackDesign, cond: Conditions, front_gap, front_thickness_nm,
                      back_thickness_nm, back_gap=None):
     """Photocurrent and radiative J0 of both subcells for an array of front thicknesses.

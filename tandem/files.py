@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import os
 import shutil
 import tempfile
@@ -43,7 +44,8 @@ def written_by_tandem(path: Path) -> bool:
     """Whether an existing file is recognisably one tandem wrote (so --overwrite may replace it).
 
     Figures carry the stamp in their metadata (PNG 'Software', SVG and PDF 'Creator'), Parquet
-    in its schema metadata; a CSV is recognised by tandem's own header.
+    in its schema metadata, JSON in a ``written_by`` key, NetCDF in a ``written_by``
+    attribute; a CSV is recognised by tandem's own header line.
     """
     path = Path(path)
     if not path.is_file() or path.is_symlink():
@@ -63,7 +65,14 @@ def written_by_tandem(path: Path) -> bool:
     if suffix in (".svg", ".pdf"):
         return STAMP.encode() in head and (b"<svg" in head or head.startswith(b"%PDF"))
     if suffix == ".csv":
-        return head.startswith(b'"front_gap_eV","back_gap_eV"')
+        return head.startswith((b'"front_gap_eV","back_gap_eV"', b'"name","latitude","longitude"'))
+    if suffix == ".json":
+        try:
+            return json.loads(head).get("written_by") == STAMP
+        except (ValueError, AttributeError):
+            return False
+    if suffix == ".nc":  # NetCDF-3: attributes sit in the header
+        return head.startswith(b"CDF") and b"written_by" in head and STAMP.encode() in head
     return False
 
 

@@ -247,8 +247,12 @@ def map_figures(gap_map, terminals, tolerance_pct, marks, prefix: str | Path,
         plt.close(fig)
 
 
-def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False) -> list[Path]:
-    """Three figures: a day's subcell currents, monthly energy (2T/4T), the yield map."""
+def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False,
+                  data: dict | None = None) -> list[Path]:
+    """Three figures: a day's subcell currents, monthly energy (2T/4T), the yield map.
+
+    ``data`` maps further output paths to writers; all are written as one (whole or none).
+    """
     from .files import write_all_whole
 
     prefix = Path(prefix)
@@ -305,7 +309,7 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False) -> l
     for suffix, f in figs.items():
         writers[prefix.parent / f"{prefix.name}{suffix}.png"] = (
             lambda p, f=f: _savefig(f, p, "png"))
-    return write_all_whole(writers, overwrite)
+    return write_all_whole({**writers, **(data or {})}, overwrite)
 
 
 def draw_yield_map(sweep, ax=None) -> Figure:
@@ -459,3 +463,42 @@ def draw_photon_budget(result, ax=None) -> Figure:
         fig.tight_layout()
     return fig
 
+
+
+def draw_region(result, ax=None) -> Figure:
+    """The energy-optimal front gap at every site: against latitude (with the bifacial
+    optimum beside the monofacial one), and on a longitude/latitude map.
+
+    With ``ax``, only the gap-against-latitude panel is drawn, into that axes.
+    """
+    frame = result.to_frame()
+    if ax is None:
+        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(12, 4.6))
+    else:
+        fig, ax1, ax2 = ax.figure, ax, None
+    ax1.scatter(frame["latitude"], frame["front_gap_eV"], color=FRONT_COLOUR, s=28,
+                label="monofacial", zorder=3)
+    if "bifacial_front_gap_eV" in frame:
+        ax1.scatter(frame["latitude"], frame["bifacial_front_gap_eV"], facecolor="none",
+                    edgecolor=BACK_COLOUR, s=40, label="bifacial", zorder=3)
+    ax1.axhline(frame["am15g_front_gap_eV"].iloc[0], color="0.5", ls="--", lw=1,
+                label="AM1.5G optimum")
+    ax1.set_xlabel("latitude [°]")
+    ax1.set_ylabel("energy-optimal front gap [eV]")
+    ax1.grid(alpha=0.3)
+    ax1.legend(fontsize=8)
+    if ax2 is not None:
+        points = ax2.scatter(frame["longitude"], frame["latitude"], c=frame["front_gap_eV"],
+                             cmap="viridis", s=60, edgecolor="k", lw=0.4)
+        fig.colorbar(points, ax=ax2, label="energy-optimal front gap [eV]")
+        for _, row in frame.iterrows() if len(frame) <= 30 else ():
+            ax2.annotate(str(row["name"]), (row["longitude"], row["latitude"]), fontsize=7,
+                         xytext=(4, 3), textcoords="offset points")
+        ax2.set_xlabel("longitude [°]")
+        ax2.set_ylabel("latitude [°]")
+        ax2.grid(alpha=0.3)
+        ax2.set_title("2T energy-optimal front gap by site", fontsize=10)
+        fig.suptitle("Modelling limits, not measurements", fontsize=8, x=0.99, ha="right",
+                     color="0.4")
+        fig.tight_layout()
+    return fig

@@ -84,6 +84,58 @@ class Site:
 
 
 @dataclass(frozen=True)
+class Rows:
+    """Rows of bifacial modules for the rear light (pvlib's infinite-sheds view-factor model).
+
+    Examples
+    --------
+    >>> from tandem.sky import Rows
+    >>> Rows(gcr=0.4, height_m=1.5, pitch_m=5.0).bifaciality
+    1.0
+    """
+
+    gcr: float = 0.4  #: ground coverage ratio: module slant length / row pitch [-]
+    height_m: float = 1.5  #: height of the module centre above the ground [m]
+    pitch_m: float = 5.0  #: distance between rows [m]
+    bifaciality: float = 1.0  #: share of the rear light reaching the cells (rear grid, frame)
+
+    def __post_init__(self):
+        for name, value, lo, hi in (("gcr", self.gcr, 0.01, 0.99), ("height_m", self.height_m, 0.0, 50.0),
+                                    ("pitch_m", self.pitch_m, 0.1, 100.0),
+                                    ("bifaciality", self.bifaciality, 0.0, 1.0)):
+            if not (isinstance(value, (int, float)) and math.isfinite(value) and lo <= value <= hi):
+                raise TandemInputError(f"bifacial rows: {name} = {value!r} is out of range; give "
+                                       f"{lo:g} to {hi:g}")
+
+
+def rear_ratio(site: Site, rows: Rows, pos, ghi, dni, dhi) -> np.ndarray:
+    """Rear-to-front plane-of-array irradiance of each step (pvlib.bifacial.infinite_sheds,
+    isotropic sky; Mikofski et al., IEEE PVSC 2019), times the rows' bifaciality.
+
+    The rear light takes the front spectrum's shape (an approximation: ground-reflected light
+    is the global spectrum times the ground's spectral albedo, taken as flat).
+    """
+    from pvlib.bifacial import infinite_sheds
+
+    out = infinite_sheds.get_irradiance(
+        surface_tilt=site.tilt_deg, surface_azimuth=site.azimuth_deg,
+        solar_zenith=pos["apparent_zenith"].to_numpy(), solar_azimuth=pos["azimuth"].to_numpy(),
+        gcr=rows.gcr, height=rows.height_m, pitch=rows.pitch_m, ghi=np.asarray(ghi, float),
+        dhi=np.asarray(dhi, float), dni=np.asarray(dni, float), albedo=site.albedo)
+    front, back = (np.nan_to_num(np.asarray(out[k], float)) for k in ("poa_front", "poa_back"))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return rows.bifaciality * np.where(front > 0, back / np.where(front > 0, front, 1.0), 0.0)
+
+
+def site_from_location(location, **settings) -> Site:
+    """Our :class:`Site` from a ``pvlib.location.Location`` (name, latitude, longitude,
+    altitude, time zone), with any other site settings as keywords."""
+    return Site(name=location.name or "site", latitude=float(location.latitude),
+                longitude=float(location.longitude), altitude_m=float(location.altitude or 0.0),
+                timezone=str(location.tz), **settings)
+
+
+@dataclass(frozen=True)
 class FluxBasis:
     """Photon fluxes of a series in a reduced basis: Φ(t, E) ≈ coefficients(t) · basis.
 
@@ -170,6 +222,10 @@ class SpectralSeries:
     step_hours: np.ndarray  #: (n_t,) duration each spectrum stands for [h]
     source: str
     notes: tuple[str, ...] = field(default=())
+    #: rear-to-front plane-of-array irradiance of each step (bifacial rows), or None
+    rear_ratio: np.ndarray | None = None
+    #: share of the rear face open to light (and so to emission): the rows' bifaciality
+    bifaciality: float = 0.0
 
     @classmethod
     def from_spectra(cls, times, wavelength_nm, irradiance, cell_temperature_K, step_hours,
@@ -221,6 +277,13 @@ class SpectralSeries:
     def insolation_kWh_m2(self) -> float:
         return float(np.sum(self.step_irradiance * self.step_hours) / 1000.0)
 
+    @property
+    def rear_insolation_kWh_m2(self) -> float:
+        """Light on the module's rear over the period [kWh/m²] (0 for monofacial)."""
+        if self.rear_ratio is None:
+            return 0.0
+        return float(np.sum(self.rear_ratio * self.step_irradiance * self.step_hours) / 1000.0)
+
 
 def common_grid() -> np.ndarray:
     """The ASTM G173-03 wavelengths from 300 to 4000 nm (SPECTRL2's range) [nm]."""
@@ -269,11 +332,13 @@ def _solar(site: Site, times: pd.DatetimeIndex):
     return pos, aoi
 
 
-def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=None):
+def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=None,
+                 broadband: bool = False):
     """SPECTRL2 plane-of-array global spectra: (wavelengths (122,) [nm], (n, 122) [W m⁻² nm⁻¹]).
 
     Air mass from the apparent zenith (Kasten & Young 1989) unless given, pressure from the
-    site altitude.
+    site altitude. With ``broadband`` a third item gives SPECTRL2's own direct normal and
+    diffuse horizontal irradiance of each step, {'dni', 'dhi'} [W/m²].
     """
     import pvlib
 
@@ -288,7 +353,12 @@ def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=N
         ozone=site.ozone_atm_cm, aerosol_turbidity_500nm=site.aerosol_turbidity_500nm,
         dayofyear=np.atleast_1d(dayofyear))
     poa = np.nan_to_num(np.asarray(spectra["poa_global"], dtype=float).T, nan=0.0)
-    return np.asarray(spectra["wavelength"], dtype=float), np.clip(poa, 0.0, None)
+    wl = np.asarray(spectra["wavelength"], dtype=float)
+    if not broadband:
+        return wl, np.clip(poa, 0.0, None)
+    totals = {k: np.trapezoid(np.nan_to_num(np.asarray(spectra[k], dtype=float).T), wl, axis=-1)
+              for k in ("dni", "dhi")}
+    return wl, np.clip(poa, 0.0, None), totals
 
 
 #: The standard's own conditions (ASTM G173-03): relative air mass 1.5, a surface tilted 37°
@@ -339,7 +409,7 @@ def anchored_poa(site: Site, apparent_zenith, aoi, dayofyear):
     return grid, ratio @ basis
 
 
-def anchored_factors(site: Site, apparent_zenith, aoi, dayofyear):
+def anchored_factors(site: Site, apparent_zenith, aoi, dayofyear, with_broadband=False):
     """:func:`anchored_poa` as factors: (grid (n_wl,), ratios (n, 122), basis (122, n_wl)).
 
     The spectra are ratios @ basis: linear interpolation is linear in the ratios, so each
@@ -349,14 +419,17 @@ def anchored_factors(site: Site, apparent_zenith, aoi, dayofyear):
                                            np.atleast_1d(np.asarray(aoi, float)),
                                            np.atleast_1d(dayofyear))
     # SPECTRL2 holds a few dozen (122 × n) intermediates: chunks keep a 15-minute year small
-    parts = [spectrl2_poa(site, zenith[i:i + 1024], aoi[i:i + 1024], day[i:i + 1024])
-             for i in range(0, zenith.size, 1024)]
-    wl, poa = parts[0][0], np.concatenate([p for _, p in parts])
+    parts = [spectrl2_poa(site, zenith[i:i + 1024], aoi[i:i + 1024], day[i:i + 1024],
+                          broadband=True) for i in range(0, zenith.size, 1024)]
+    wl, poa = parts[0][0], np.concatenate([p[1] for p in parts])
     ref_wl, ref = _spectrl2_at_standard()
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(ref > 0, poa / np.where(ref > 0, ref, 1.0), 0.0)
     grid = common_grid()
-    return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
+    broadband = {k: np.concatenate([p[2][k] for p in parts]) for k in ("dni", "dhi")}
+    if not with_broadband:
+        return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
+    return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global()), broadband
 
 
 def _hat_basis(wl, grid):
@@ -371,10 +444,10 @@ def _g173_global():
     return table["wavelength"], table["global"]
 
 
-def _spectrl2(site: Site, times, pos, aoi):
+def _spectrl2(site: Site, times, pos, aoi, with_broadband=False):
     """Anchored plane-of-array spectra at ``times`` as factors (:func:`anchored_factors`)."""
     return anchored_factors(site, pos["apparent_zenith"].to_numpy(), aoi.to_numpy(),
-                            times.day_of_year.to_numpy())
+                            times.day_of_year.to_numpy(), with_broadband)
 
 
 def cell_temperature_K(poa_W_m2, ambient_C, wind_m_s):
@@ -385,8 +458,9 @@ def cell_temperature_K(poa_W_m2, ambient_C, wind_m_s):
     return np.asarray(pvlib.temperature.sapm_cell(poa_W_m2, ambient_C, wind_m_s, **params)) + 273.15
 
 
-def clear_sky_series(site: Site, times: pd.DatetimeIndex) -> SpectralSeries:
-    """SPECTRL2 clear-sky spectra at ``times`` (daylight steps only).
+def clear_sky_series(site: Site, times: pd.DatetimeIndex, rows: Rows | None = None) -> SpectralSeries:
+    """SPECTRL2 clear-sky spectra at ``times`` (daylight steps only); with ``rows``, the
+    rear light of bifacial rows from SPECTRL2's own direct and diffuse irradiance.
 
     Examples
     --------
@@ -402,8 +476,13 @@ def clear_sky_series(site: Site, times: pd.DatetimeIndex) -> SpectralSeries:
         raise TandemInputError("the sun never rises over this period at this site; choose another "
                                "period or latitude")
     times_up = times[up]
-    grid, ratio, basis = _spectrl2(site, times_up, pos[up], aoi[up])
+    grid, ratio, basis, broadband = _spectrl2(site, times_up, pos[up], aoi[up], True)
     total = ratio @ np.trapezoid(basis, grid, axis=-1)
+    rear = None
+    if rows is not None:
+        cosz = np.clip(np.cos(np.radians(pos["apparent_zenith"].to_numpy()[up])), 0.0, None)
+        rear = rear_ratio(site, rows, pos[up], broadband["dni"] * cosz + broadband["dhi"],
+                          broadband["dni"], broadband["dhi"])
     step_h = np.full(times_up.size, (times[1] - times[0]).total_seconds() / 3600 if times.size > 1 else 1.0)
     temps = cell_temperature_K(total, site.ambient_temperature_C, site.wind_speed_m_s)
     return SpectralSeries(times_up, grid, ratio, basis, temps, step_h,
@@ -412,15 +491,23 @@ def clear_sky_series(site: Site, times: pd.DatetimeIndex) -> SpectralSeries:
                            f"precipitable water {site.precipitable_water_cm:g} cm, ozone "
                            f"{site.ozone_atm_cm:g} atm-cm, albedo {site.albedo:g}",
                            f"ambient {site.ambient_temperature_C:g} °C, wind "
-                           f"{site.wind_speed_m_s:g} m/s, SAPM {SAPM_MOUNT}"))
+                           f"{site.wind_speed_m_s:g} m/s, SAPM {SAPM_MOUNT}") + _rows_note(rows),
+                          rear, rows.bifaciality if rows else 0.0)
 
 
-def weather_series(site: Site, path: str | Path) -> SpectralSeries:
+def _rows_note(rows: Rows | None) -> tuple[str, ...]:
+    if rows is None:
+        return ()
+    return (f"bifacial rows: ground coverage {rows.gcr:g}, height {rows.height_m:g} m, pitch "
+            f"{rows.pitch_m:g} m, bifaciality {rows.bifaciality:g} (pvlib infinite sheds); the "
+            "rear light reaches the back subcell only, with the front spectrum's shape",)
+
+
+def weather_series(site: Site, path: str | Path, rows: Rows | None = None) -> SpectralSeries:
     """Hourly spectra from a typical-year weather file (EPW, or TMY3 CSV) read with pvlib.
 
-    Each daylight hour's spectrum has the SPECTRL2 shape for that sun position, scaled to
-    the plane-of-array irradiance computed from the file's GHI, DNI and DHI (isotropic sky);
-    the cell temperature uses the file's air temperature and wind speed.
+    The file's stamps end their hour, so each step is placed at the middle of its hour; the
+    rest is :func:`weather_frame_series`.
 
     Examples
     --------
@@ -440,22 +527,64 @@ def weather_series(site: Site, path: str | Path) -> SpectralSeries:
             data, _ = pvlib.iotools.read_epw(path, coerce_year=2026)
         else:
             data, _ = pvlib.iotools.read_tmy3(path, coerce_year=2026, map_variables=True)
-        data = data[["ghi", "dni", "dhi", "temp_air", "wind_speed"]].astype(float)
+        data = data[list(WEATHER_COLUMNS)].astype(float)
     except Exception as exc:  # pvlib raises many types on a malformed file
         raise TandemInputError(f"weather file '{path}' cannot be read as EPW or TMY3 "
                                f"({type(exc).__name__}); check the format") from None
+    data.index = data.index - pd.Timedelta(minutes=30)  # typical-year stamps end their hour
+    return weather_frame_series(site, data, rows, f"weather file {path.name}")
+
+
+#: Weather columns in pvlib's conventions, with the ranges a value must lie in.
+WEATHER_COLUMNS = {"ghi": (0, 1500, "W/m²"), "dni": (0, 1500, "W/m²"), "dhi": (0, 1000, "W/m²"),
+                   "temp_air": (-90, 70, "°C"), "wind_speed": (0, 120, "m/s")}
+
+
+def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = None,
+                         source: str = "weather data") -> SpectralSeries:
+    """Spectra from weather as data: a DataFrame in pvlib's conventions.
+
+    Columns ``ghi``, ``dni``, ``dhi`` [W/m²], ``temp_air`` [°C] and ``wind_speed`` [m/s] on a
+    time-zone-aware index marking the middle of each step (hourly or finer). Each daylight
+    step gets the SPECTRL2 shape for that sun position, scaled to the plane-of-array
+    irradiance from GHI, DNI and DHI (isotropic sky); the cell temperature uses the air
+    temperature and wind speed; with ``rows`` the rear light of bifacial rows.
+
+    Examples
+    --------
+    >>> import pandas as pd
+    >>> from tandem import Site
+    >>> from tandem.sky import weather_frame_series
+    >>> times = pd.date_range('2026-06-21 06:30', periods=12, freq='h', tz='Etc/GMT-1')
+    >>> data = pd.DataFrame({'ghi': 600.0, 'dni': 700.0, 'dhi': 100.0, 'temp_air': 25.0,
+    ...                      'wind_speed': 2.0}, index=times)
+    >>> series = weather_frame_series(Site('field', 38.5, -3.0, timezone='Etc/GMT-1'), data)
+    >>> series.times.size
+    12
+    """
+    import pvlib
+
+    if not isinstance(data, pd.DataFrame) or not isinstance(data.index, pd.DatetimeIndex):
+        raise TandemInputError(f"{source}: give a DataFrame on a DatetimeIndex")
+    if data.index.tz is None:
+        raise TandemInputError(f"{source}: the index has no time zone; localise it "
+                               "(e.g. data.tz_localize('Etc/GMT+7'))")
+    missing = [c for c in WEATHER_COLUMNS if c not in data.columns]
+    if missing:
+        raise TandemInputError(f"{source}: columns {', '.join(missing)} are missing; give ghi, "
+                               "dni, dhi [W/m²], temp_air [°C] and wind_speed [m/s]")
+    data = data[list(WEATHER_COLUMNS)].astype(float)
     if data.empty or data.isna().all().any():
-        raise TandemInputError(f"weather file '{path}' has no usable irradiance or temperature "
-                               "columns; check the file")
-    for column, lo, hi, unit in (("ghi", 0, 1500, "W/m²"), ("dni", 0, 1500, "W/m²"),
-                                 ("dhi", 0, 1000, "W/m²"), ("temp_air", -90, 70, "°C"),
-                                 ("wind_speed", 0, 120, "m/s")):
+        raise TandemInputError(f"{source} has no usable irradiance or temperature columns; "
+                               "check the data")
+    for column, (lo, hi, unit) in WEATHER_COLUMNS.items():
         values = data[column].dropna()
         bad = values[(values < lo) | (values > hi)]
         if not bad.empty:
-            raise TandemInputError(f"weather file '{path}': {column} {bad.iloc[0]:g} {unit} at "
-                                   f"{bad.index[0]} is outside {lo}–{hi} {unit}; check the file")
-    times = data.index - pd.Timedelta(minutes=30)  # typical-year stamps end their hour
+            raise TandemInputError(f"{source}: {column} {bad.iloc[0]:g} {unit} at "
+                                   f"{bad.index[0]} is outside {lo}–{hi} {unit}; check the data")
+    times = data.index
+    step_h = float(np.median(_hours_between(times))) if times.size > 1 else 1.0
     pos, aoi = _solar(site, times)
     poa = pvlib.irradiance.get_total_irradiance(
         site.tilt_deg, site.azimuth_deg, pos["apparent_zenith"], pos["azimuth"],
@@ -463,7 +592,7 @@ def weather_series(site: Site, path: str | Path) -> SpectralSeries:
         albedo=site.albedo)["poa_global"].fillna(0.0).to_numpy()
     use = (pos["apparent_zenith"].to_numpy() < 89.0) & (poa > 1.0)
     if not use.any():
-        raise TandemInputError(f"weather file '{path}' has no daylight irradiance on this plane")
+        raise TandemInputError(f"{source} has no daylight irradiance on this plane")
     grid, ratio, basis = _spectrl2(site, times[use], pos[use], aoi[use])
     total = ratio @ np.trapezoid(basis, grid, axis=-1)
     ok = total > 0
@@ -471,11 +600,21 @@ def weather_series(site: Site, path: str | Path) -> SpectralSeries:
     ratio = ratio * scale[:, None]
     temps = cell_temperature_K(poa[use], data["temp_air"].to_numpy()[use],
                                data["wind_speed"].to_numpy()[use])
+    rear = None
+    if rows is not None:
+        rear = rear_ratio(site, rows, pos[use], *(data[c].to_numpy()[use] for c in ("ghi", "dni",
+                                                                                  "dhi")))[ok]
     dropped = int((poa > 1.0).sum() - ok.sum())
-    return SpectralSeries(times[use][ok], grid, ratio[ok], basis, temps[ok], np.ones(int(ok.sum())),
-                          f"weather file {path.name} at {site.name}",
-                          (f"{dropped} hours with irradiance but the sun at or below the "
-                           "horizon in SPECTRL2 were left out",) if dropped else ())
+    notes = ((f"{dropped} steps with irradiance but the sun at or below the horizon in SPECTRL2 "
+              "were left out",) if dropped else ()) + _rows_note(rows)
+    return SpectralSeries(times[use][ok], grid, ratio[ok], basis, temps[ok],
+                          np.full(int(ok.sum()), step_h), f"{source} at {site.name}", notes, rear,
+                          rows.bifaciality if rows else 0.0)
+
+
+def _hours_between(times: pd.DatetimeIndex) -> np.ndarray:
+    """Hours from each time to the next (whatever unit the index stores)."""
+    return np.diff(times.to_numpy()).astype("timedelta64[ns]").astype(np.int64) / 3.6e12
 
 
 _STAMP = re.compile(r"(\d{4})-?(\d{2})-?(\d{2})[T_ ]?(\d{2})[-:]?(\d{2})")
@@ -526,7 +665,7 @@ def folder_series(site: Site, folder: str | Path) -> SpectralSeries:
     irr = np.array([np.interp(grid, spectra[i].wavelength_nm, spectra[i].irradiance,
                               left=0.0, right=0.0) for i in order])
     if times.size > 1:
-        gaps_h = np.diff(times.asi8) / 3.6e12
+        gaps_h = _hours_between(times)
         step = np.append(gaps_h, np.median(gaps_h))
     else:
         step = np.ones(1)

@@ -544,6 +544,22 @@ class YieldResult:
 
         return draw_yield_map(self.sweep, ax)
 
+    def write(self, prefix, overwrite: bool = False) -> list:
+        """The figures, the gap × thickness energy grid (``PREFIX-energy.nc``) and the
+        energy-optimal design's time series (``PREFIX-series.parquet``), written as one."""
+        from pathlib import Path
+
+        from .files import STAMP, write_parquet
+        from .plots import yield_figures
+
+        prefix = Path(prefix)
+        grid = self.to_dataset()
+        grid.attrs["written_by"] = STAMP
+        series = self.to_frame().reset_index(names="time")
+        return yield_figures(self.sweep, self.best, prefix, overwrite, {
+            prefix.parent / f"{prefix.name}-energy.nc": lambda p: grid.to_netcdf(p, engine="scipy"),
+            prefix.parent / f"{prefix.name}-series.parquet": lambda p: write_parquet(series, p)})
+
     def design_rows(self) -> list[dict]:
         """The energy-optimal and the AM1.5G-optimal design, side by side (display units)."""
         s = self.summary()

@@ -17,11 +17,12 @@ from typing import Callable
 import numpy as np
 
 from . import detailed_balance as db
-from .design import Conditions, StackDesign, evaluate_design, stack_integrands, stack_performance
+from .design import (Conditions, StackDesign, evaluate_design, rear_absorptance, stack_integrands,
+                     stack_performance)
 from .errors import TandemInputError
 from .sky import FluxBasis, SpectralSeries
 from .spectra import PhotonFlux, trapezoid_weights
-from .stack import IDEAL, Electrical
+from .stack import IDEAL, Electrical, evaluate_stack
 from .units import Q
 
 
@@ -112,7 +113,7 @@ def _interpolate_j0(j0_nodes, weights):
 
 
 def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thickness, back_d,
-                     ideality, electrical):
+                     ideality, electrical, rear=None, open_share=0.0):
     """The stack over the steps of one temperature bin, for one gap and thicknesses (n_d,).
 
     The gaps are shifted to the bin's mean temperature; J0 and the diodes use each step's
@@ -132,7 +133,22 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
     j0 = np.stack([_interpolate_j0(absorbed @ (bb * fw).T, lagrange),
                    _interpolate_j0(transmitted @ (bb * bw).T, lagrange)], axis=-1)
     cond = Conditions(None, float(t_bin), ideality, electrical)
-    return evaluate_design(design, cond, jl, j0, t_cell, 1.0), jl
+    if rear is None:
+        return evaluate_design(design, cond, jl, j0, t_cell, 1.0), jl
+    # bifacial: the back subcell also takes light at its rear, and by reciprocity emits there.
+    # That emission is radiative: the back's J0 becomes J0,front/ERE + J0,rear, passed on as
+    # J0,rad = J0,front + J0,rear with the ERE that gives exactly that sum.
+    ar = weights_e * rear_absorptance(design, flux.energy, back_d, t_bin)
+    jl[..., 1] += rear[idx] * ((ar @ flux.basis.T) @ coeff)
+    j0_rear = open_share * _interpolate_j0((bb @ ar)[None, :], lagrange)
+    ere = np.empty(j0.shape)
+    ere[..., 0] = design.front.ere
+    total = j0[..., 1] / design.back.ere + j0_rear
+    j0[..., 1] += j0_rear
+    ere[..., 1] = j0[..., 1] / total
+    perf = evaluate_stack(jl, j0, t_cell, 1.0, ere, ideality, electrical,
+                          design.front.refractive_index)
+    return perf, jl
 
 
 def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
@@ -175,7 +191,8 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
         hours = series.step_hours[step_bin[1]]
         for i, gap in enumerate(gaps):
             perf, _ = _bin_performance(design, flux, w, step_bin, gap, thicknesses,
-                                       back_thickness_nm, ideality, electrical)
+                                       back_thickness_nm, ideality, electrical, series.rear_ratio,
+                                       series.bifaciality)
             e2[i] += perf.p_2t @ hours / 1000.0
             e4[i] += perf.p_4t @ hours / 1000.0
             done += 1
@@ -206,7 +223,8 @@ def _hourly(design, series, gap, thickness, back_thickness_nm, ideality, electri
     for step_bin in _bins(series, bin_K):
         idx = step_bin[1]
         perf, jl = _bin_performance(design, flux, w, step_bin, gap,
-                                    np.array([thickness]), back_thickness_nm, ideality, electrical)
+                                    np.array([thickness]), back_thickness_nm, ideality, electrical,
+                                    series.rear_ratio, series.bifaciality)
         out["p2"][idx], out["p4"][idx] = perf.p_2t[0], perf.p_4t[0]
         out["jf"][idx], out["jb"][idx] = jl[0, :, 0], jl[0, :, 1]
     return HourlyDesign(series.times, out["p2"], out["p4"], out["jf"], out["jb"],

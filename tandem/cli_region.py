@@ -1,0 +1,145 @@
+"""`tandem region`: the energy-optimal design across many sites (parse, call, render)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Optional
+
+from rich.markup import escape
+
+import tandem
+from tandem.cli_options import (Json, Quiet, _callback, _emit_json, _light, _operating, _opt,
+                                _progress, _range, _say, _table, _thickness, err, out)
+from tandem.errors import TandemInputError
+
+
+def region(
+        front: Annotated[str, _argument("Front absorber.")],
+        back: Annotated[str, _argument("Back absorber.")],
+        sites: Annotated[Optional[str], _opt(help="CSV of sites: name, latitude, longitude"
+                                             "[, altitude_m, timezone, weather].")] = None,
+        latitudes: Annotated[Optional[str], _opt(help="Clear-sky grid instead of a site list: "
+                                                 "LO:HI:STEP in °.")] = None,
+        longitudes: Annotated[Optional[str], _opt(help="With --latitudes: LO:HI:STEP in °.")] = None,
+        period: Annotated[str, _opt(help="year:YYYY, month:YYYY-MM or day:YYYY-MM-DD.")] = "year:2026",
+        step: Annotated[float, _opt(help="Time step of clear-sky sites in minutes.")] = 60.0,
+        tilt: Annotated[str, _opt(help="Module tilt in °, or 'latitude' (facing the equator).")] = "latitude",
+        albedo: Annotated[float, _opt(help="Ground albedo.")] = 0.2,
+        front_gaps: Annotated[Optional[str], _opt(help="Front gaps LO:HI:STEP in eV.")] = None,
+        points: Annotated[int, _opt(help="Front thicknesses in the sweep.")] = 16,
+        back_thickness: Annotated[Optional[str], _opt(help="Back thickness, e.g. 160um.")] = None,
+        bifacial: Annotated[bool, _opt(help="Also bifacial rows: rear light on the back subcell.")] = False,
+        gcr: Annotated[float, _opt(help="Bifacial rows: ground coverage ratio.")] = 0.4,
+        row_height: Annotated[float, _opt(help="Bifacial rows: module height above ground in m.")] = 1.5,
+        pitch: Annotated[float, _opt(help="Bifacial rows: row pitch in m.")] = 5.0,
+        bifaciality: Annotated[float, _opt(help="Share of rear light reaching the cells.")] = 1.0,
+        workers: Annotated[Optional[int], _opt(help="Processes of a local dask cluster (default: "
+                                               "the cores); 1 runs in this process.")] = None,
+        scheduler: Annotated[Optional[str], _opt(help="Address of an existing dask scheduler, "
+                                                 "e.g. tcp://10.0.0.5:8786.")] = None,
+        out_folder: Annotated[Optional[str], _opt("--out", help="Region folder (default: "
+                                                  "region-<sites>).")] = None,
+        grids: Annotated[bool, _opt(help="Keep every site's gap × thickness energy grid in "
+                                    "region.nc.")] = False,
+        overwrite: Annotated[bool, _opt(help="Replace a region folder tandem wrote for other "
+                                        "inputs.")] = False,
+        quiet: Quiet = False, json_out: Json = False, *, o):
+    """Energy-optimal front gap and thickness at many sites, on a dask cluster.
+
+    Each site's year is one task; results land in the folder as sites finish, so an
+    interrupted run resumes where it stopped. Examples:
+
+      tandem region perovskite-wide silicon --sites sites.csv
+
+      tandem region perovskite-wide silicon --latitudes 0:60:10 --longitudes 0:0:1 --bifacial
+
+      tandem region perovskite-wide silicon --sites sites.csv --scheduler tcp://10.0.0.5:8786
+    """
+    import numpy as np
+
+    from tandem.region import RegionJob, grid_sites, read_sites, run_region, write_region_outputs
+    from tandem.sky import Rows
+
+    if (sites is None) == (latitudes is None):
+        raise TandemInputError("give --sites FILE, or --latitudes and --longitudes (not both)")
+    if sites is not None:
+        specs, default = read_sites(sites), f"region-{Path(sites).stem}"
+    else:
+        if longitudes is None:
+            raise TandemInputError("--latitudes needs --longitudes LO:HI:STEP")
+        specs = grid_sites(_axis(latitudes, "--latitudes"), _axis(longitudes, "--longitudes"))
+        default = "region-grid"
+    if workers is not None and not 1 <= workers <= 1024:
+        raise TandemInputError(f"--workers {workers}: give 1 to 1024")
+    if tilt != "latitude":
+        try:
+            float(tilt)
+        except ValueError:
+            raise TandemInputError(f"--tilt '{tilt}': give degrees or 'latitude'") from None
+        if not 0 <= float(tilt) <= 90:
+            raise TandemInputError(f"--tilt {tilt}: give 0 to 90 degrees")
+    if not 0 <= albedo <= 1:
+        raise TandemInputError(f"--albedo {albedo:g}: give a fraction from 0 to 1")
+    if not 2 <= points <= 100:
+        raise TandemInputError(f"--points {points}: give 2 to 100")
+    operating = _operating(o)
+    a_front, a_back = tandem.load_absorber(front), tandem.load_absorber(back)
+    if front_gaps:
+        lo, hi, *st = _range(front_gaps, "--front-gaps")
+        gaps = tandem.maps.gap_axis(lo, hi, st[0] if st else 0.02, "--front-gaps")
+    elif a_front.tunable:
+        lo, hi = a_front.gap_range_eV
+        gaps = np.linspace(max(lo, a_back.gap_eV + 0.3), hi, 11)
+    else:
+        gaps = np.array([a_front.gap_eV])
+    for g in gaps:
+        a_front.check_gap(float(g), operating.allow_outside_range)
+    back_d = _thickness(back_thickness, "--back-thickness") if back_thickness else a_back.thickness_nm
+    a_back.check_thickness(back_d, "back thickness", operating.allow_outside_range)
+    tandem.parse_period(period, "UTC", step)
+    job = RegionJob(a_front, a_back, operating, tuple(map(float, gaps)),
+                    tuple(np.geomspace(*a_front.thickness_range_nm, points)), back_d, period,
+                    step, tilt, albedo, Rows(gcr, row_height, pitch, bifaciality) if bifacial
+                    else None, _light(o), None if o["temperature"] is None
+                    else operating.temperature_K)
+    folder = Path(out_folder or default)
+    with _progress(quiet or json_out, "sites") as bar:
+        result = run_region(specs, job, folder, scheduler, workers, _callback(bar), overwrite)
+    written = write_region_outputs(result, grids)
+    s = result.summary()
+    s["outputs"] = [str(p) for p in written]
+    if json_out:
+        return _emit_json(s)
+    cols = [("site", lambda r: r["name"]), ("lat °", lambda r: f"{r['latitude']:.1f}"),
+            ("gap eV", lambda r: f"{r['front_gap_eV']:.3f}"),
+            ("front nm", lambda r: f"{r['front_thickness_nm']:.0f}"),
+            ("2T kWh/m²", lambda r: f"{r['energy_2t_kWh_m2']:.1f}"),
+            ("4T kWh/m²", lambda r: f"{r['energy_4t_kWh_m2']:.1f}"),
+            ("mismatch kWh/m²", lambda r: f"{r['mismatch_loss_kWh_m2']:.1f}"),
+            ("AM1.5G design 2T", lambda r: f"{r['am15g_design_energy_2t_kWh_m2']:.1f}")]
+    if bifacial:
+        cols += [("bifacial gap eV", lambda r: f"{r['bifacial_front_gap_eV']:.3f}"),
+                 ("bifacial nm", lambda r: f"{r['bifacial_front_thickness_nm']:.0f}"),
+                 ("bifacial 2T", lambda r: f"{r['bifacial_energy_2t_kWh_m2']:.1f}")]
+    out.print(_table(f"Energy-optimal {a_front.key} over {a_back.key}, {len(specs)} sites",
+                     cols, s["sites"], "energies per m² of module over the period"))
+    first = s["sites"][0]
+    _say(f"AM1.5G-optimal design: {first['am15g_front_gap_eV']:.3f} eV, "
+         f"{first['am15g_front_thickness_nm']:.0f} nm (its energy at each site: the 'AM1.5G design 2T' column)",
+         f"computed {len(s['computed'])} sites, resumed {len(s['resumed'])}; "
+         f"{s['seconds_per_site']:.2f} s per site-year in a worker")
+    err.print(f"wrote {escape(str(folder))}/ (sites/, region.nc, region.csv, region.png)")
+    out.print(f"[dim]{escape(tandem.CAUTION)} Clear skies have no clouds.[/]")
+
+
+def _argument(text: str):
+    import typer
+
+    return typer.Argument(help=text, show_default=False)
+
+
+def _axis(text: str, option: str) -> tuple[float, float, float]:
+    values = _range(text, option)
+    if len(values) != 3:
+        raise TandemInputError(f"{option} '{text}': give LO:HI:STEP in degrees")
+    return tuple(values)

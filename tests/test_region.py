@@ -1,0 +1,215 @@
+"""Regional studies: serial and distributed runs agree, interrupted runs resume, weather as
+data, bifacial rows."""
+
+import json
+import os
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from typer.testing import CliRunner
+
+import tandem
+from tandem.cli import app
+from tandem.design import StackDesign
+from tandem.inputs import OperatingPoint
+from tandem.region import RegionJob, SiteSpec, read_sites, run_region, write_region_outputs
+from tandem.sky import Rows, clear_sky_series, parse_period, weather_frame_series, weather_series
+from tandem.yields import hourly, yield_sweep
+
+SITES = """name,latitude,longitude,altitude_m,timezone,weather
+Mesa Verdeja,35.2,-106.4,1650,Etc/GMT+7,
+Porto Brisa,38.7,-9.1,50,,
+Lago Norte,60.2,24.9,20,Etc/GMT-2,
+Serra Fria,-33.9,18.4,100,Etc/GMT-2,
+Dunas Altas,23.5,32.9,200,,
+"""
+
+
+@pytest.fixture(scope="module")
+def job():
+    f, b = tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon")
+    return RegionJob(f, b, OperatingPoint(), (1.62, 1.70, 1.78, 1.86), (300.0, 700.0, 1500.0),
+                     160e3, period="month:2026-06", rows=Rows())
+
+
+@pytest.fixture
+def sites(tmp_path):
+    path = tmp_path / "sites.csv"
+    path.write_text(SITES)
+    return read_sites(path)
+
+
+def numbers(result):
+    return result.to_frame().drop(columns="seconds")
+
+
+def test_two_worker_cluster_gives_exactly_the_serial_numbers(sites, job, tmp_path):
+    serial = run_region(sites, job, tmp_path / "serial", workers=1)
+    cluster = run_region(sites, job, tmp_path / "cluster", workers=2)
+    pd.testing.assert_frame_equal(numbers(serial), numbers(cluster), check_exact=True)
+    assert sorted(cluster.computed) == sorted(s.name for s in sites)
+
+
+def test_an_interrupted_region_resumes_with_only_the_rest(sites, job, tmp_path):
+    folder = tmp_path / "region"
+
+    def stop_after_two(done, total):
+        if done == 2:
+            raise KeyboardInterrupt
+
+    with pytest.raises(KeyboardInterrupt):
+        run_region(sites, job, folder, workers=1, progress=stop_after_two)
+    assert len(list((folder / "sites").glob("*.json"))) == 2  # written as each site finished
+    resumed = run_region(sites, job, folder, workers=1)
+    assert resumed.reused == [s.name for s in sites[:2]]
+    assert resumed.computed == [s.name for s in sites[2:]]
+    fresh = run_region(sites, job, tmp_path / "fresh", workers=1)
+    pd.testing.assert_frame_equal(numbers(resumed), numbers(fresh), check_exact=True)
+    # changed inputs: the folder is refused, and replaced only with overwrite
+    other = replace(job, albedo=0.3)
+    with pytest.raises(tandem.TandemInputError, match="other inputs; choose another --out"):
+        run_region(sites, other, folder, workers=1)
+    again = run_region(sites, other, folder, workers=1, overwrite=True)
+    assert sorted(again.computed) == sorted(s.name for s in sites)
+
+
+def test_outputs_describe_themselves_and_only_tandem_folders_are_used(sites, job, tmp_path):
+    import xarray as xr
+
+    result = run_region(sites[:2], job, tmp_path / "r", workers=1)
+    paths = write_region_outputs(result, grids=True)
+    data = xr.open_dataset(tmp_path / "r" / "region.nc", engine="scipy")
+    assert list(data["site"].values) == ["Mesa Verdeja", "Porto Brisa"]
+    assert data["energy_2t"].dims == ("site", "front_gap", "front_thickness")
+    assert data["front_gap_eV"].attrs["units"] == "eV"
+    assert {p.name for p in paths} == {"region.nc", "region.csv", "region.png"}
+    foreign = tmp_path / "mine"
+    foreign.mkdir()
+    (foreign / "notes.txt").write_text("keep")
+    with pytest.raises(tandem.TandemInputError, match="not a region folder tandem wrote"):
+        run_region(sites, job, foreign, workers=1)
+    assert (foreign / "notes.txt").read_text() == "keep"
+
+
+def tmy3():
+    import pvlib
+
+    return os.path.join(os.path.dirname(pvlib.__file__), "data", "723170TYA.CSV")
+
+
+def test_weather_file_insolation_equals_pvlib_plane_of_array_total():
+    """The plane-of-array insolation equals pvlib's own total for the same file and steps
+    (pvlib.irradiance.get_total_irradiance, isotropic sky), to rounding."""
+    import pvlib
+
+    site = tandem.Site("weather test", 36.1, -79.9, 270.0, 30.0, 180.0, "Etc/GMT+5")
+    series = weather_series(site, tmy3())
+    data, _ = pvlib.iotools.read_tmy3(tmy3(), coerce_year=2026, map_variables=True)
+    data.index = data.index - pd.Timedelta(minutes=30)
+    kept = data.loc[series.times]
+    pos = pvlib.solarposition.get_solarposition(kept.index, site.latitude, site.longitude,
+                                                site.altitude_m)
+    poa = pvlib.irradiance.get_total_irradiance(30.0, 180.0, pos["apparent_zenith"], pos["azimuth"],
+                                                kept["dni"], kept["ghi"], kept["dhi"], albedo=0.2)
+    assert series.insolation_kWh_m2 == pytest.approx(poa["poa_global"].sum() / 1000, rel=1e-9)
+    # weather as data: the same frame gives the same series
+    frame = weather_frame_series(site, data[["ghi", "dni", "dhi", "temp_air", "wind_speed"]],
+                                 source="weather file 723170TYA.CSV")
+    assert frame.insolation_kWh_m2 == series.insolation_kWh_m2
+
+
+def test_a_pvlib_location_is_a_site():
+    from pvlib.location import Location
+
+    from tandem.sky import site_from_location
+
+    site = site_from_location(Location(35.2, -106.4, "Etc/GMT+7", 1650, "field"), tilt_deg=35.0)
+    assert (site.name, site.altitude_m, site.timezone, site.tilt_deg) == ("field", 1650.0,
+                                                                          "Etc/GMT+7", 35.0)
+
+
+@pytest.fixture(scope="module")
+def bifacial_runs():
+    site = tandem.Site("field", 35.2, -106.4, 1650.0, 30.0, 180.0, "Etc/GMT+7", albedo=0.25)
+    times = parse_period("month:2026-06", site.timezone, 60)
+    design = StackDesign(tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon"),
+                         0.0, 0.0, 0.0)
+    gaps, thick = np.linspace(1.60, 1.90, 11), np.geomspace(300, 1500, 8)
+    ref = tandem.reference_spectrum("am1.5g").photon_flux()
+    runs = {}
+    for key, rows, albedo in (("mono", None, 0.25), ("closed", Rows(bifaciality=0.0), 0.25),
+                              ("bifacial", Rows(), 0.25), ("dark ground", Rows(), 0.0)):
+        series = clear_sky_series(replace(site, albedo=albedo), times, rows)
+        runs[key] = (series, yield_sweep(design, series, gaps, thick, 160e3, ref), design)
+    return runs
+
+
+def test_a_closed_rear_is_exactly_monofacial(bifacial_runs):
+    mono, closed = bifacial_runs["mono"][1], bifacial_runs["closed"][1]
+    assert np.array_equal(mono.energy_2t, closed.energy_2t)
+    assert np.array_equal(mono.energy_4t, closed.energy_4t)
+
+
+def test_rear_light_feeds_the_back_and_moves_the_optimum_to_a_narrower_front(bifacial_runs):
+    """Published trend for bifacial perovskite/silicon tandems (recalled: the energy-optimal
+    front gap falls as rear light grows, e.g. De Bastiani et al., Nat. Energy 6 (2021) 167):
+    the back's photocurrent rises and the optimum moves to a narrower gap or thicker front."""
+    (s_m, mono, design), (s_b, bif, _) = bifacial_runs["mono"], bifacial_runs["bifacial"]
+    assert s_b.rear_insolation_kWh_m2 > 0.05 * s_b.insolation_kWh_m2
+    i, j = mono.optimum
+    h_m = hourly(design, s_m, mono.gaps[i], mono.thicknesses[j], 160e3)
+    h_b = hourly(design, s_b, mono.gaps[i], mono.thicknesses[j], 160e3)
+    assert np.all(h_b.j_back >= h_m.j_back) and h_b.j_back.sum() > 1.05 * h_m.j_back.sum()
+    np.testing.assert_array_equal(h_b.j_front, h_m.j_front)  # the rear light skips the front
+    ib, jb = bif.optimum
+    assert bif.gaps[ib] < mono.gaps[i] or (bif.gaps[ib] == mono.gaps[i] and
+                                           bif.thicknesses[jb] > mono.thicknesses[j])
+    assert bif.energy_2t.max() > mono.energy_2t.max()
+
+
+def test_a_dark_ground_leaves_only_the_rear_sky(bifacial_runs):
+    """With albedo 0 the rear still sees part of the sky (pvlib's view factors): a little
+    light, far less than with a bright ground."""
+    dark, bright = bifacial_runs["dark ground"][0], bifacial_runs["bifacial"][0]
+    assert 0 < dark.rear_insolation_kWh_m2 < 0.2 * bright.rear_insolation_kWh_m2
+
+
+BAD_SITES = {
+    "lat": ("Mesa Verdeja,35.2", "Mesa Verdeja,95"),
+    "dup": ("Porto Brisa,38.7", "Mesa Verdeja,38.7"),
+    "slash": ("Lago Norte", "../Lago Norte"),
+    "cols": ("name,latitude", "site,latitude"),
+    "weather": ("Etc/GMT+7,\n", "Etc/GMT+7,nowhere.epw\n"),
+    "text": ("-106.4", "west"),
+}
+
+
+@pytest.mark.parametrize("case", sorted(BAD_SITES))
+def test_bad_site_lists_are_one_line(case, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    old, new = BAD_SITES[case]
+    Path("sites.csv").write_text(SITES.replace(old, new, 1))
+    res = CliRunner().invoke(app, ["region", "perovskite-wide", "silicon", "--sites", "sites.csv",
+                                   "--workers", "1"])
+    assert res.exit_code == 2, res.output
+    lines = [l for l in res.stderr.strip().splitlines() if l.strip()]
+    assert len(lines) == 1 and lines[0].startswith("error:") and "site list" in lines[0], lines
+    assert sorted(os.listdir(tmp_path)) == ["sites.csv"]
+
+
+def test_region_command_writes_its_folder_and_resumes(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    Path("sites.csv").write_text("\n".join(SITES.splitlines()[:3]) + "\n")
+    args = ["region", "perovskite-wide", "silicon", "--sites", "sites.csv", "--workers", "1",
+            "--period", "day:2026-06-21", "--points", "4", "--json", "-q"]
+    first = json.loads(CliRunner().invoke(app, args).stdout)
+    assert len(first["computed"]) == 2 and first["resumed"] == []
+    assert {Path(p).name for p in first["outputs"]} == {"region.nc", "region.csv", "region.png"}
+    second = json.loads(CliRunner().invoke(app, args).stdout)
+    assert second["computed"] == [] and len(second["resumed"]) == 2
+    assert second["sites"] == first["sites"] or all(
+        {k: v for k, v in a.items() if k != "seconds"} == {k: v for k, v in b.items() if k != "seconds"}
+        for a, b in zip(first["sites"], second["sites"]))
