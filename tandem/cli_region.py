@@ -17,7 +17,7 @@ def region(
         front: Annotated[str, _argument("Front absorber.")],
         back: Annotated[str, _argument("Back absorber.")],
         sites: Annotated[Optional[str], _opt(help="CSV of sites: name, latitude, longitude"
-                                             "[, altitude_m, timezone, weather].")] = None,
+                                             "[, altitude_m, timezone, weather]; or demo-sites.")] = None,
         latitudes: Annotated[Optional[str], _opt(help="Clear-sky grid instead of a site list: "
                                                  "LO:HI:STEP in °.")] = None,
         longitudes: Annotated[Optional[str], _opt(help="With --latitudes: LO:HI:STEP in °.")] = None,
@@ -63,7 +63,11 @@ def region(
     if (sites is None) == (latitudes is None):
         raise TandemInputError("give --sites FILE, or --latitudes and --longitudes (not both)")
     if sites is not None:
-        specs, default = read_sites(sites), f"region-{Path(sites).stem}"
+        from tandem.files import bundled_dir
+
+        bundled = bundled_dir("scenarios") / f"{sites}.csv"  # a bundled list by name
+        specs = read_sites(bundled if not Path(sites).exists() and bundled.is_file() else sites)
+        default = f"region-{Path(sites).stem}"
     else:
         if longitudes is None:
             raise TandemInputError("--latitudes needs --longitudes LO:HI:STEP")

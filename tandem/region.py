@@ -425,15 +425,23 @@ def write_region_outputs(result: RegionResult, grids: bool = False) -> list[Path
 
 
 def _run_distributed(todo, job, scheduler, workers, finished) -> None:
+    import dask
     from dask.distributed import Client, LocalCluster, as_completed
 
     if scheduler:
-        client = Client(scheduler, timeout="20s")
+        try:
+            client = Client(scheduler, timeout="20s")
+        except OSError as exc:
+            raise TandemInputError(f"no dask scheduler answers at '{scheduler}' ({exc}); check "
+                                   "the address, e.g. tcp://10.0.0.5:8786") from None
         cluster = None
     else:
         n = workers or os.cpu_count() or 1
-        cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
-                               dashboard_address=None, silence_logs=40)
+        # dask's workers start with MALLOC_TRIM_THRESHOLD_=65536, which turns every large
+        # numpy allocation into fresh pages: a site-year took 0.72 s instead of 0.46 s
+        with dask.config.set({"distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None}):
+            cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
+                                   dashboard_address=None, silence_logs=40)
         client = Client(cluster)
     try:
         futures = {client.submit(site_year, spec, job, pure=False): spec for spec in todo}

@@ -136,6 +136,7 @@ def test_readme_python_api_runs_as_printed(tmp_path, monkeypatch):
     exec(compile(block, "README.md (Python API)", "exec"), namespace)
     assert round(namespace["r"].summary()["efficiency_pct"], 2) == 45.04
     assert (tmp_path / "gap-map.nc").stat().st_size > 10_000
+    assert len(namespace["region"].records) == 2 and (tmp_path / "region-out" / "sites").is_dir()
 
 
 def test_one_reader_for_every_two_column_file(tmp_path):

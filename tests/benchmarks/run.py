@@ -351,6 +351,33 @@ def case_f(rng):
           f" largest difference in R or a layer's absorptance {worst:.1e}")
 
 
+def case_g():
+    print("(g) a region: 24 clear-sky sites, a year at 60 min each, 11 gaps x 16 thicknesses")
+    import tempfile
+
+    from tandem.inputs import OperatingPoint
+    from tandem.region import RegionJob, grid_sites, run_region
+
+    design = optics_setup()
+    job = RegionJob(design.front, design.back, OperatingPoint(),
+                    tuple(np.linspace(1.60, 1.92, 11)),
+                    tuple(np.geomspace(*design.front.thickness_range_nm, 16)), 160e3)
+    sites = grid_sites((10.0, 60.0, 10.0), (-100.0, 80.0, 60.0))
+    timings = {}
+    with tempfile.TemporaryDirectory() as folder:
+        for workers in (1, 2):
+            t0 = time.perf_counter()
+            result = run_region(sites, job, Path(folder) / f"w{workers}", workers=workers)
+            timings[workers] = time.perf_counter() - t0
+        per_site = float(np.mean([r["seconds"] for r in result.records]))
+    print(f"  {len(sites)} sites: {timings[1]:.1f} s in one process ({timings[1] / len(sites):.2f} s "
+          f"per site-year); {timings[2]:.1f} s on a 2-worker local cluster, start-up included "
+          f"(speed-up {timings[1] / timings[2]:.2f}x); {per_site:.2f} s per site inside a worker")
+    print(f"  estimate for 1,000 sites: {1000 * timings[1] / len(sites) / 60:.0f} min in one process, "
+          f"{1000 * per_site / 2 / 60:.0f} min on 2 workers, "
+          f"{1000 * per_site / 32 / 60:.1f} min on 32 workers (from the per-site figure)")
+
+
 def whole_process(label: str, args: list[str]) -> None:
     """Run ``tandem ARGS`` as a user would, in a scratch folder: wall time, CPU and peak memory
     (through /usr/bin/time, so the memory is the command's own, not this script's)."""
@@ -402,6 +429,7 @@ def main():
     case_c(b_seconds)
     case_e()
     case_f(rng)
+    case_g()
     case_d()
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(f"process peak resident memory: {rss:,.0f} MiB")
