@@ -14,10 +14,11 @@ import typer
 from rich.markup import escape
 
 import tandem
-from tandem.cli_options import (SHARED, Json, Large, Wide, _columns, Overwrite, Plot, Quiet, _callback,  # noqa: F401
+from tandem.cli_options import (SHARED, Json, Large, Losses, Wide, _columns, Overwrite, Plot, Quiet, _callback,  # noqa: F401
                                 _emit_json, _f, _floats, _gaps, _light, _operating, _opt,
                                 _progress, _range, _say, _table, _thickness, _write_plot,
                                 check_outputs, energy_text, err, friendly, out, run_app, shared)
+from tandem.cli_render import show_breakdown, show_version
 from tandem.errors import TandemInputError
 
 app = typer.Typer(
@@ -27,15 +28,9 @@ app = typer.Typer(
     no_args_is_help=True, pretty_exceptions_enable=False, add_completion=False)
 
 
-def _version(value: bool):
-    if value:
-        out.print(f"tandem {tandem.__version__}")
-        raise typer.Exit()
-
-
 @app.callback()
 def _root(version: Annotated[Optional[bool], typer.Option(
-        "--version", callback=_version, is_eager=True, help="Show the version.")] = None):
+        "--version", callback=show_version, is_eager=True, help="Show the version.")] = None):
     pass
 
 
@@ -48,8 +43,8 @@ def _root(version: Annotated[Optional[bool], typer.Option(
 @shared
 def limit(gaps: Annotated[list[float], typer.Argument(
         help="Band gap(s) in eV: one for a single junction, two for a stack (front first).",
-        show_default=False)], plot: Plot = None, overwrite: Overwrite = False,
-        json_out: Json = False, *, o):
+        show_default=False)], plot: Plot = None, losses: Losses = None,
+        overwrite: Overwrite = False, json_out: Json = False, *, o):
     """Detailed-balance limit of a single junction or a two-junction stack of step absorbers.
 
     Examples:
@@ -58,14 +53,19 @@ def limit(gaps: Annotated[list[float], typer.Argument(
 
       tandem limit 1.73 1.12 --terminals 4 --ere 0.01
 
+      tandem limit 1.34 -s blackbody --losses losses.png
+
       tandem limit 1.1 -s blackbody --concentration 1000 --json
     """
-    check_outputs([plot], overwrite, plot=True)
+    check_outputs([plot, losses], overwrite, plot=True)
     result = tandem.limit(gaps, _light(o), _operating(o))
     s = result.summary()
     if plot:
         _write_plot(result, plot, overwrite)
+    title = "limit " + " / ".join(f"{g:g} eV" for g in gaps)
     if json_out:
+        if losses:
+            s["loss_breakdown"] = show_breakdown(result, losses, overwrite, title, json_out)
         return _emit_json(s)
     two = len(s["subcells"]) == 2
     rows = s["subcells"] + ([{"position": "stack", "gap_eV": None, "jsc_mA_cm2": s["jsc_mA_cm2"],
@@ -83,6 +83,8 @@ def limit(gaps: Annotated[list[float], typer.Argument(
              f"2T {s['efficiency_2t_pct']:.2f} %, 4T {s['efficiency_4t_pct']:.2f} %")
     _say(f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K",
          *[f"note: {n}" for n in s["spectrum_notes"] + s["model_notes"]])
+    if losses:
+        show_breakdown(result, losses, overwrite, title, json_out)
     out.print(f"[dim]{escape(s['caution'])}[/]")
 
 
@@ -104,21 +106,9 @@ def absorbers(name: Annotated[Optional[str], typer.Argument(
         from tandem.cli_render import list_bundled
 
         return list_bundled(json_out)
-    check_outputs([plot], overwrite, plot=True)
-    a = tandem.load_absorber(name)
-    s = tandem.absorber_summary(a)
-    if json_out:
-        _emit_json(s)
-    else:
-        rows = [(k, v) for k, v in s.items() if k not in ("sources", "alpha_per_cm")]
-        rows += [(f"α at {wl}", f"{v:.3g} cm⁻¹") for wl, v in s["alpha_per_cm"].items()]
-        rows += [(f"source: {k}", v) for k, v in s["sources"].items()]
-        out.print(_table(f"{a.name} ({a.key})", [("field", lambda r: r[0]),
-                                                 ("value", lambda r: r[1])], rows))
-    if plot:
-        from tandem.plots import absorber_figure
+    from tandem.cli_render import show_absorber
 
-        err.print(f"wrote {escape(str(absorber_figure(a, plot, overwrite)))}")
+    show_absorber(name, plot, overwrite, json_out)
 
 
 @app.command()
@@ -140,8 +130,9 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
           points: Annotated[int, _opt(help="Front thicknesses per sweep (log-spaced).")] = 120,
           top: Annotated[int, _opt(help="Configurations to show.")] = 8,
           tolerance: Annotated[float, _opt(help="Loss in % absolute defining the windows.")] = 1.0,
-          plot: Plot = None, overwrite: Overwrite = False, quiet: Quiet = False,
-          large: Large = False, wide: Wide = False, json_out: Json = False, *, o):
+          plot: Plot = None, losses: Losses = None, overwrite: Overwrite = False,
+          quiet: Quiet = False, large: Large = False, wide: Wide = False, json_out: Json = False,
+          *, o):
     """Current-match a two-junction stack of real absorbers: gap, thicknesses, limiting cell.
 
     Examples:
@@ -168,7 +159,7 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
             front_thickness, "--front-thickness", lambda t: _thickness(t, "--front-thickness"))[:2],
         back_thicknesses_nm=None if not back_thickness else tuple(
             _thickness(t, "--back-thickness") for t in back_thickness.split(",")))
-    check_outputs([plot], overwrite, plot=True)
+    check_outputs([plot, losses], overwrite, plot=True)
     with _progress(quiet or json_out, "sweeping") as bar:
         result = tandem.match(front, back, _light(o), _operating(o), sweep,
                               tolerance_pct=tolerance, top=top, progress=_callback(bar),
@@ -176,7 +167,10 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
     s = result.summary()
     if plot:
         _write_plot(result, plot, overwrite)
+    title = f"{front} over {back}, the best configuration"
     if json_out:
+        if losses:
+            s["loss_breakdown"] = show_breakdown(result, losses, overwrite, title, json_out)
         return _emit_json(s)
     f, b, best = s["front"], s["back"], s["configurations"][0]
     out.print(_table(f"{f['name']} over {b['name']}: best configurations ({s['terminals']}T ranking)",
@@ -202,6 +196,8 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
     _say(*[f"note: {n}" for n in s["spectrum_notes"] + s["model_notes"]], s["temperature_note"],
          f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K; "
          f"{s['configurations_evaluated']:,} configurations")
+    if losses:
+        show_breakdown(result, losses, overwrite, title, json_out)
     out.print(f"[dim]{escape(s['caution'])}[/]")
 
 

@@ -64,6 +64,8 @@ FrontParasitic = Annotated[str, _opt(help="Absorbed in the front contact: fracti
 InterParasitic = Annotated[str, _opt(help="Absorbed between the subcells: fraction or CSV.")]
 Json = Annotated[bool, _opt("--json", help="Print one JSON object on stdout only.")]
 Quiet = Annotated[bool, _opt("--quiet", "-q", help="No progress bar.")]
+Losses = Annotated[Optional[str], _opt(help="Write the loss-breakdown waterfall to FILE (PNG or "
+                                       "SVG) and print its table.", metavar="FILE")]
 Overwrite = Annotated[bool, _opt(help="Replace outputs this command wrote before.")]
 Wide = Annotated[bool, _opt("--wide", help="Show every column, however wide the table.")]
 Large = Annotated[bool, _opt("--large", help="Run even if the estimate is over 10 minutes or 2 GiB.")]

@@ -86,3 +86,48 @@ def list_bundled(json_out: bool) -> None:
         ("name", lambda s: s.key), ("title", lambda s: s.title),
         ("layers", lambda s: str(len(s.layers)))], stacks))
     _say("Add your own: pass the path of a .toml file written to the schemas in the README.")
+
+
+def show_absorber(name: str, plot, overwrite: bool, json_out: bool) -> None:
+    """One absorber's resolved parameters, α at eight wavelengths and its sources."""
+    check_outputs([plot], overwrite, plot=True)
+    a = tandem.load_absorber(name)
+    s = tandem.absorber_summary(a)
+    if json_out:
+        _emit_json(s)
+    else:
+        rows = [(k, v) for k, v in s.items() if k not in ("sources", "alpha_per_cm")]
+        rows += [(f"α at {wl}", f"{v:.3g} cm⁻¹") for wl, v in s["alpha_per_cm"].items()]
+        rows += [(f"source: {k}", v) for k, v in s["sources"].items()]
+        out.print(_table(f"{a.name} ({a.key})", [("field", lambda r: r[0]),
+                                                 ("value", lambda r: r[1])], rows))
+    if plot:
+        from tandem.plots import absorber_figure
+
+        err.print(f"wrote {escape(str(absorber_figure(a, plot, overwrite)))}")
+
+
+def show_breakdown(result, path, overwrite: bool, title: str, json_out: bool) -> dict:
+    """Print a design's loss breakdown and write its waterfall; returns it for --json."""
+    from tandem.plots import breakdown_figure
+
+    b = result.loss_breakdown()
+    written = breakdown_figure(b, path, title, overwrite)
+    rows = b.rows()
+    err.print(f"wrote {escape(str(written))}")
+    if json_out:
+        return {"incident_W_m2": b.incident_W_m2, "steps": rows, "figure": str(written)}
+    out.print(_table("where the incident power goes", [
+        ("step", lambda r: r["step"]), ("W/m²", lambda r: f"{r['power_W_m2']:.2f}"),
+        ("%", lambda r: f"{r['share_pct']:.2f}"), ("equation", lambda r: r["equation"])], rows,
+        f"incident {b.incident_W_m2:.2f} W/m²; the steps add up to it exactly"))
+    return {}
+
+
+def show_version(value: bool) -> None:
+    """The --version callback."""
+    import typer
+
+    if value:
+        out.print(f"tandem {tandem.__version__}")
+        raise typer.Exit()

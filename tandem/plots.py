@@ -502,3 +502,40 @@ def draw_region(result, ax=None) -> Figure:
                      color="0.4")
         fig.tight_layout()
     return fig
+
+
+def draw_loss_breakdown(breakdown, title: str = "", ax=None) -> Figure:
+    """A waterfall from the incident power to the output: each step a bar hanging from what
+    is left before it [% of the incident power]."""
+    if ax is None:
+        fig, ax = plt.subplots(figsize=(9, 4.8))
+    else:
+        fig = ax.figure
+    incident = breakdown.incident_W_m2
+    steps = [s for s in breakdown.steps[:-1] if abs(s.power_W_m2) > 1e-4 * incident]
+    names = ["incident"] + [s.name for s in steps] + ["output"]
+    left = 100.0
+    ax.bar(0, 100.0, color="0.75", width=0.7)
+    for k, s in enumerate(steps, 1):
+        share = 100 * s.power_W_m2 / incident
+        ax.bar(k, -share, bottom=left, width=0.7, color=BACK_COLOUR if share > 0 else "#2ca02c")
+        ax.text(k, left + 1.0, f"{share:.1f}", ha="center", va="bottom", fontsize=7)
+        left -= share
+    out = 100 * breakdown.output_W_m2 / incident
+    ax.bar(len(names) - 1, out, width=0.7, color=FRONT_COLOUR)
+    ax.text(len(names) - 1, out + 1.0, f"{out:.1f}", ha="center", va="bottom", fontsize=8,
+            weight="bold")
+    ax.set_xticks(range(len(names)), names, rotation=35, ha="right", fontsize=8)
+    ax.set_ylabel("share of the incident power [%]")
+    ax.set_ylim(0, 108)
+    ax.grid(alpha=0.3, axis="y")
+    ax.set_title(title or "where the incident power goes", fontsize=10)
+    fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7,
+             color="0.4")
+    fig.tight_layout()
+    return fig
+
+
+def breakdown_figure(breakdown, path, title: str = "", overwrite: bool = False) -> Path:
+    """Write :func:`draw_loss_breakdown` to ``path``, whole or not at all."""
+    return _save(draw_loss_breakdown(breakdown, title), path, overwrite)

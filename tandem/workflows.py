@@ -96,11 +96,37 @@ class LimitResult:
     """
 
     design: DesignResult
+    light: Light | None = None
 
     @property
     def efficiency(self) -> float:
         """Efficiency of the chosen connection (2T or 4T) [-]."""
         return self.design.efficiency
+
+    def loss_breakdown(self):
+        """Where the incident power goes (:func:`tandem.breakdown.loss_breakdown`).
+
+        Examples
+        --------
+        >>> import tandem
+        >>> b = tandem.limit([1.34], operating=tandem.OperatingPoint(temperature_K=300)).loss_breakdown()
+        >>> round(sum(s.power_W_m2 for s in b.steps) / b.incident_W_m2, 12)
+        1.0
+        """
+        from .breakdown import loss_breakdown
+
+        d = self.design
+        flux = (self.light or Light()).photon_flux()
+        perf = d.performance
+        gaps = np.array(d.gaps_eV)
+        e = flux.energy
+        upper = np.append(np.inf, gaps[:-1])
+        bands = np.array([(e >= g) & (e < u) for g, u in zip(gaps, upper)], dtype=float)
+        # step absorbers: every photon in the band, times the share the losses leave
+        full = np.array([db_photocurrent(flux, g, u) for g, u in zip(gaps, upper)])
+        eqe = bands * (np.asarray(perf.j_light) / full)[:, None]
+        return loss_breakdown(e, flux.flux, flux.irradiance, eqe, gaps, perf, d.temperature_K,
+                              d.terminals, d.electrical, _blackbody(self.light))
 
     def summary(self) -> dict:
         return design_summary(self.design)
@@ -147,7 +173,23 @@ def limit(gaps: Sequence[float], light: Light = Light(),
     return LimitResult(detailed_balance_limit(
         gaps, flux, operating.terminals, operating.temperature_K, operating.ere or (1.0,),
         operating.ideality, operating.electrical, operating.front_index,
-        share[: len(gaps)] if len(gaps) == 2 else share[:1]))
+        share[: len(gaps)] if len(gaps) == 2 else share[:1]), light)
+
+
+def db_photocurrent(flux, lo: float, hi: float = np.inf) -> float:
+    """q × photons between lo and hi [A/m²] (exact on the piecewise-linear spectrum)."""
+    from . import detailed_balance as db
+
+    above = db.flux_above(flux.energy, flux.flux, np.array([lo, hi if np.isfinite(hi) else
+                                                            flux.energy[-1] + 1.0]))
+    return float(db.Q * (above[0] - above[1]))
+
+
+def _blackbody(light) -> tuple[float, float] | None:
+    """(T_sun, concentration) when the light is an unscaled blackbody sun, else None."""
+    if light is None or light.source != "blackbody" or light.irradiance_W_m2 is not None:
+        return None
+    return float(light.sun_temperature_K), float(light.concentration)
 
 
 # --------------------------------------------------------------------------------------
@@ -172,6 +214,7 @@ class MatchStudy:
     verdict: OrderVerdict
     tolerance_pct: float = 1.0
     top: int = 8
+    light: Light | None = None
 
     def summary(self) -> dict:
         return match_summary(self.result, self.swapped, self.verdict, self.top, self.tolerance_pct)
@@ -216,6 +259,27 @@ class MatchStudy:
         from .plots import draw_match
 
         return draw_match(self.result, tolerance_windows(self.result, self.tolerance_pct), ax)
+
+    def loss_breakdown(self, rank: int = 1):
+        """Where the incident power of the ``rank``-th configuration goes
+        (:func:`tandem.breakdown.loss_breakdown`)."""
+        from .breakdown import loss_breakdown
+        from .design import stack_light, stack_performance
+
+        r = self.result
+        c = r.configurations[rank - 1]
+        cond, design = r.conditions, r.design
+        e = cond.photon_flux.energy
+        light = stack_light(design, e, c.front_gap_eV, c.front_thickness_nm, c.back_thickness_nm,
+                            temperature_K=cond.temperature_K)
+        eqe = np.stack([np.reshape(light.front_eqe, e.shape), np.reshape(light.back_eqe, e.shape)])
+        perf = stack_performance(design, cond, c.front_gap_eV, c.front_thickness_nm,
+                                 c.back_thickness_nm)
+        gaps = np.array([c.front_gap_eV + design.front.gap_shift_eV(cond.temperature_K),
+                         design.back.gap_eV + design.back.gap_shift_eV(cond.temperature_K)])
+        return loss_breakdown(e, cond.photon_flux.flux, cond.photon_flux.irradiance, eqe, gaps,
+                              perf, cond.temperature_K, r.terminals, cond.electrical,
+                              _blackbody(self.light))
 
 
 def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
@@ -268,7 +332,7 @@ def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
                             progress)
     swapped = match_currents(design.swapped(), cond, None, None, None, sweep.thickness_points,
                              operating.terminals, progress)
-    return MatchStudy(result, swapped, which_in_front(result, swapped), tolerance_pct, top)
+    return MatchStudy(result, swapped, which_in_front(result, swapped), tolerance_pct, top, light)
 
 
 # --------------------------------------------------------------------------------------

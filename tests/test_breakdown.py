@@ -1,0 +1,87 @@
+"""Loss breakdown: the parts add up to the incident power, and the intrinsic losses follow
+the published analysis (Hirst & Ekins-Daukes, Prog. Photovolt. 19 (2011) 286)."""
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+import tandem
+from tandem.stack import Electrical
+from tandem.units import K_B_EV, SUN_DILUTION
+
+BB = tandem.Light(source="blackbody", sun_temperature_K=6000.0)
+
+
+def steps(breakdown):
+    return {s.name: s.power_W_m2 for s in breakdown.steps}
+
+
+def test_single_junction_at_1_34_eV_follows_the_published_breakdown():
+    """Radiative limit, 1.34 eV, 6000 K blackbody sun, cell 300 K. Hirst & Ekins-Daukes 2011
+    (values recalled): below-gap and thermalisation losses dominate; the Carnot loss per
+    carrier is Eg·T_c/T_s and the Boltzmann loss kT·ln(Ω_emit/Ω_sun) (their equations);
+    the output is the De Vos (1980) limit, about 31 %."""
+    r = tandem.limit([1.34], BB, tandem.OperatingPoint(temperature_K=300.0))
+    b = r.loss_breakdown()
+    parts = steps(b)
+    assert sum(parts.values()) == pytest.approx(b.incident_W_m2, rel=1e-12)
+    largest = sorted(parts, key=parts.get, reverse=True)[:3]
+    assert set(largest) == {"below the gaps", "thermalisation", "output"}
+    carriers = float(r.design.performance.j_own[0])  # A/m², i.e. carriers × q
+    assert parts["Carnot"] / carriers == pytest.approx(1.34 * 300.0 / 6000.0, rel=1e-12)
+    assert parts["Boltzmann"] / carriers == pytest.approx(K_B_EV * 300 * np.log(1 / SUN_DILUTION),
+                                                          rel=1e-12)
+    assert parts["Boltzmann"] / carriers == pytest.approx(0.2776, abs=5e-4)  # eV per carrier
+    assert 100 * parts["output"] / b.incident_W_m2 == pytest.approx(31.0, abs=0.3)
+    # concentration lowers only the Boltzmann loss per carrier, by kT·ln X (Hirst 2011)
+    c = tandem.limit([1.34], tandem.Light(source="blackbody", sun_temperature_K=6000.0,
+                                          concentration=1000.0),
+                     tandem.OperatingPoint(temperature_K=300.0))
+    per = steps(c.loss_breakdown())["Boltzmann"] / float(c.design.performance.j_own[0])
+    assert per == pytest.approx(K_B_EV * 300 * np.log(1 / (1000 * SUN_DILUTION)), rel=1e-12)
+
+
+def test_a_two_terminal_stack_shows_its_mismatch():
+    r = tandem.limit([1.90, 1.12], operating=tandem.OperatingPoint(terminals=2))
+    parts = steps(r.loss_breakdown())
+    p = r.design.performance
+    assert parts["current mismatch (two-terminal)"] == pytest.approx(float(p.p_4t - p.p_2t))
+    assert parts["current mismatch (two-terminal)"] > 0.01 * r.loss_breakdown().incident_W_m2
+    assert parts["output"] == pytest.approx(float(p.p_2t))
+
+
+def test_real_cells_show_optical_nonradiative_and_resistive_losses():
+    m = tandem.match("perovskite-wide", "silicon",
+                     operating=tandem.OperatingPoint(reflectance=0.03, ideality=1.5,
+                                                     electrical=Electrical(
+                                                         series_resistance_ohm_cm2=1.0,
+                                                         shunt_resistance_ohm_cm2=2000.0)),
+                     sweep=tandem.Sweep(front_gaps_eV=(1.7, 1.7, 0.01), thickness_points=20))
+    b = m.loss_breakdown()
+    parts = steps(b)
+    assert sum(parts.values()) == pytest.approx(b.incident_W_m2, rel=1e-12)
+    for name in ("optical loss above the gaps", "non-radiative recombination",
+                 "non-radiative voltage loss", "series and shunt resistance"):
+        assert parts[name] > 0.001 * b.incident_W_m2, name
+    assert parts["output"] == pytest.approx(m.result.configurations[0].performance.p_2t, rel=1e-9)
+
+
+@settings(max_examples=60, deadline=None)
+@given(front=st.floats(1.4, 2.3), back=st.floats(0.7, 1.3), ere=st.floats(-6, 0),
+       ideality=st.sampled_from([1.0, 1.5, 2.0]), terminals=st.sampled_from([2, 4]),
+       rs=st.sampled_from([0.0, 0.5, 3.0]), temperature=st.floats(260.0, 360.0))
+def test_the_parts_always_add_up_and_losses_are_losses(front, back, ere, ideality, terminals, rs,
+                                                      temperature):
+    r = tandem.limit([front, back], operating=tandem.OperatingPoint(
+        temperature_K=temperature, terminals=terminals, ere=(10.0**ere,), ideality=ideality,
+        electrical=Electrical(series_resistance_ohm_cm2=rs)))
+    b = r.loss_breakdown()
+    parts = steps(b)
+    assert sum(parts.values()) == pytest.approx(b.incident_W_m2, rel=1e-11)
+    tol = 1e-9 * b.incident_W_m2
+    for name in ("below the gaps", "thermalisation", "emission", "maximum-power point",
+                 "series and shunt resistance", "non-radiative voltage loss", "output"):
+        assert parts[name] >= -tol, name
+    if terminals == 2 and rs == 0.0:
+        assert parts["current mismatch (two-terminal)"] >= -tol
