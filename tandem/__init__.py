@@ -22,6 +22,7 @@ _WHERE = {
     "LimitResult": "workflows", "MatchStudy": "workflows", "MapResult": "workflows",
     "YieldResult": "workflows", "SpreadResult": "workflows",
     "match_stack": "workflows", "StackMatchResult": "workflows",
+    "measured_eqe": "workflows", "EQEResult": "workflows",
     "LayerStack": "layerstack", "load_stack": "layerstack", "bundled_stacks": "layerstack",
     # absorbers, sites and spectra
     "Absorber": "absorbers", "bundled_absorbers": "absorbers", "load_absorber": "absorbers",

@@ -485,8 +485,10 @@ def fabrication_spread(
     out.print(f"[dim]{escape(tandem.CAUTION)}[/]")
 
 
-from tandem.cli_region import region  # noqa: E402  (its own module: cli.py stays short)
+from tandem.cli_eqe import eqe  # noqa: E402  (commands in their own modules: cli.py stays short)
+from tandem.cli_region import region  # noqa: E402
 
+app.command("eqe")(friendly(shared(eqe)))
 app.command("region")(friendly(shared(region)))
 
 

@@ -539,3 +539,26 @@ def draw_loss_breakdown(breakdown, title: str = "", ax=None) -> Figure:
 def breakdown_figure(breakdown, path, title: str = "", overwrite: bool = False) -> Path:
     """Write :func:`draw_loss_breakdown` to ``path``, whole or not at all."""
     return _save(draw_loss_breakdown(breakdown, title), path, overwrite)
+
+
+def draw_eqe(result, ax=None) -> Figure:
+    """Both measured EQEs over wavelength, their radiative tails, and which subcell limits."""
+    if ax is None:
+        fig, ax = plt.subplots(figsize=(7.5, 4.2))
+    else:
+        fig = ax.figure
+    summary = result.summary()
+    for m, colour, sub in zip(result.curves, (FRONT_COLOUR, BACK_COLOUR), summary["subcells"]):
+        wl = HC_EV_NM / m.energy_eV
+        ax.plot(wl, m.eqe, color=colour, label=f"{sub['position']}: {m.name}, "
+                f"{sub['jsc_mA_cm2']:.2f} mA/cm², Voc,rad {sub['voc_radiative_V']:.3f} V")
+    ax.set_xlabel("wavelength [nm]")
+    ax.set_ylabel("EQE [-]")
+    ax.set_ylim(0, 1.05)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=8, loc="upper right")
+    ax.set_title(f"the {summary['limiting_subcell']} subcell limits (mismatch "
+                 f"{summary['mismatch_pct']:.2f} %), {result.spectrum}", fontsize=9)
+    fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7,
+             color="0.4")
+    return fig

@@ -172,6 +172,13 @@ CASES = [
      "--period", "year:20266"),
     ("region", "perovskite-wide", "silicon", "--latitudes", "0:0:1", "--longitudes", "0:0:1",
      "--front-gaps", "1.2:1.3:0.05"),
+    # measured EQE
+    ("eqe", "nowhere.csv", "r.csv"), ("eqe", "r.csv", "r.csv", "--voc", "a,b"),
+    ("eqe", "eqe.csv", "eqe.csv", "--voc", "5,5"), ("eqe", "ambiguous.csv", "eqe.csv"),
+    ("eqe", "eqe.csv", "eqe.csv", "--back-absorber", "unobtainium", "--back-thickness", "400nm"),
+    ("eqe", "eqe.csv", "eqe.csv", "--back-absorber", "silicon"),
+    ("eqe", "eqe.csv", "eqe.csv", "--back-absorber", "silicon", "--back-thickness", "160"),
+    ("eqe", "eqe.csv", "eqe.csv", "--plot", "x.bmp"),
     # the framework itself
     ("nosuchcommand",), ("limit",), ("limit", "abc"), ("match", "--nosuchoption"),
 ]
@@ -196,6 +203,8 @@ def inputs(folder: Path) -> None:
         assert old in STACK, name
         (folder / f"{name}.toml").write_text(STACK.replace(old, new, 1))
     (folder / "bad.csv").write_text("wavelength,n,k\n400,0.1,abc\n")
+    (folder / "eqe.csv").write_text("wavelength,eqe\n" + "".join(f"{w},0.8\n" for w in range(300, 1201, 20)))
+    (folder / "ambiguous.csv").write_text("wavelength,eqe\n300,2.5\n900,2.0\n")
     (folder / "r.csv").write_text("300,0.1\n1000,0.1\n")
     epw = ["LOCATION,Test,,,,0,40,0,0,0"] + ["X"] * 7
     epw += [f"2026,1,1,{h},0,?,0,0,0,0,0,0,0,0,1e300,1e300,1e300,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0"

@@ -14,9 +14,9 @@ LAYERS = {
     "units": 0, "errors": 0, "files": 0, "thinfilm": 2,
     "detailed_balance": 1, "spectra": 1, "stack": 1,
     "optics": 2, "absorbers": 2, "losses": 2,
-    "design": 3, "breakdown": 3, "layerstack": 3, "maps": 3, "scatter": 3, "sky": 3, "yields": 3,
+    "design": 3, "breakdown": 3, "eqe": 3, "layerstack": 3, "maps": 3, "scatter": 3, "sky": 3, "yields": 3,
     "inputs": 4, "workflows": 4, "region": 4, "study": 4, "report": 4, "plots": 4,
-    "cli": 5, "cli_options": 5, "cli_render": 5, "cli_region": 5, "__main__": 5,
+    "cli": 5, "cli_options": 5, "cli_render": 5, "cli_region": 5, "cli_eqe": 5, "__main__": 5,
 }
 
 

@@ -1,0 +1,119 @@
+"""Measured EQE: currents and reciprocity voltages against the step absorber's closed forms
+and the optics path, units at the door."""
+
+import json
+
+import numpy as np
+import pytest
+from typer.testing import CliRunner
+
+import tandem
+from tandem.cli import app
+from tandem.eqe import MeasuredEQE, photocurrent, read_eqe, subcell_from_eqe
+from tandem.units import HC_EV_NM, K_B_EV
+
+
+@pytest.fixture(scope="module")
+def am15g():
+    return tandem.reference_spectrum("am1.5g").photon_flux()
+
+
+def step_eqe(flux, gap):
+    """EQE = 1 above ``gap`` (a grid point), 0 below: a vertical edge."""
+    e = flux.energy
+    k = int(np.searchsorted(e, gap))
+    energy = np.r_[e[:k], e[k] * (1 - 1e-13), e[k:]]
+    return MeasuredEQE.from_arrays("step", energy, np.r_[np.zeros(k + 1), np.ones(e.size - k)]), e[k]
+
+
+@pytest.mark.parametrize("gap", [1.12, 1.34, 1.73])
+def test_a_step_eqe_reproduces_the_step_absorber(am15g, gap):
+    """Currents from the exact partial-interval integral, J0 from the closed-form Bose series
+    (the step absorber's own formulas), Voc from both: equal to 1e-9."""
+    m, eg = step_eqe(am15g, gap)
+    s = subcell_from_eqe(m, am15g, 300.0)
+    jl = tandem.step_photocurrent(am15g, eg)
+    j0 = float(tandem.step_radiative_dark_current(eg, 300.0))
+    assert s.j_light == pytest.approx(jl, rel=1e-9)
+    assert s.j0_radiative == pytest.approx(j0, rel=1e-9)
+    assert s.voc_radiative == pytest.approx(float(tandem.open_circuit_voltage(jl, j0, 300.0)),
+                                            abs=1e-9)
+
+
+def test_a_tabulated_silicon_eqe_gives_the_optics_path_current(am15g, tmp_path):
+    """EQE = the silicon absorber's absorptance (160 µm, Lambertian; Green 2008 data) on the
+    ASTM G173-03 wavelengths, written as a file: its current equals the optics path's."""
+    si = tandem.load_absorber("silicon")
+    e = am15g.energy
+    a = si.layer(e, 160e3).absorptance()
+    path = tmp_path / "si.csv"
+    np.savetxt(path, np.c_[HC_EV_NM / e, a], delimiter=",", header="wavelength_nm,eqe",
+               comments="", fmt="%.10g")
+    from tandem.spectra import trapezoid_weights
+    from tandem.units import Q
+
+    optics = Q * np.sum(trapezoid_weights(e) * a * am15g.flux)
+    assert photocurrent(am15g, read_eqe(path)) == pytest.approx(optics, rel=1e-4)
+
+
+def test_a_measured_voc_gives_back_the_ere(am15g):
+    """Rau 2007: Voc = Voc,rad + (kT/q)·ln ERE."""
+    m, _ = step_eqe(am15g, 1.5)
+    s = subcell_from_eqe(m, am15g, 298.15)
+    voc = s.voc_radiative + K_B_EV * 298.15 * np.log(3e-3)
+    assert subcell_from_eqe(m, am15g, 298.15, voc).ere == pytest.approx(3e-3, rel=1e-9)
+    with pytest.raises(tandem.TandemInputError, match="between 0 and its radiative limit"):
+        subcell_from_eqe(m, am15g, 298.15, s.voc_radiative + 0.01)
+
+
+def write(path, rows, header="wavelength_nm,eqe"):
+    path.write_text(header + "\n" + "\n".join(f"{a},{b}" for a, b in rows) + "\n")
+    return path
+
+
+def test_percent_fraction_and_ambiguous_columns(tmp_path):
+    wl = np.arange(300, 1201, 50)
+    frac = read_eqe(write(tmp_path / "f.csv", zip(wl, np.full(wl.size, 0.8))))
+    pct = read_eqe(write(tmp_path / "p.csv", zip(wl, np.full(wl.size, 80.0))))
+    np.testing.assert_allclose(frac.eqe, pct.eqe)
+    with pytest.raises(tandem.TandemInputError, match="give fractions .0–1. or percent"):
+        read_eqe(write(tmp_path / "a.csv", zip(wl, np.full(wl.size, 2.5))))
+    with pytest.raises(tandem.TandemInputError, match="did you mean 1200 nm"):
+        read_eqe(write(tmp_path / "u.csv", zip(wl / 1000, np.full(wl.size, 0.8))))
+
+
+def demo_files(folder, front_nm=480.0):
+    e = HC_EV_NM / np.arange(300, 1201, 5.0)
+    f, s = tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon")
+    af = f.layer(e, front_nm, position="front").absorptance()
+    back = (1 - af) * s.layer(e, 160e3).absorptance()
+    return (write(folder / "front.csv", zip(HC_EV_NM / e, 0.95 * af)),
+            write(folder / "back.csv", zip(HC_EV_NM / e, 0.95 * back)))
+
+
+def test_the_thickness_that_would_match(tmp_path, am15g):
+    from tandem.eqe import scaled_to_thickness, transmitted_to_back
+
+    front, back = demo_files(tmp_path)
+    r = tandem.measured_eqe(front, back, front_absorber="perovskite-wide", front_thickness_nm=480.0)
+    m = r.summary()["matching"]
+    assert r.summary()["limiting_subcell"] == "front" and m["matched_thickness_nm"] > 480
+    a = tandem.load_absorber("perovskite-wide")
+    d = m["matched_thickness_nm"]
+    f = scaled_to_thickness(read_eqe(front), a, 480.0, d, "front")
+    b = transmitted_to_back(read_eqe(back), a, 480.0, d)
+    assert photocurrent(am15g, f) == pytest.approx(photocurrent(am15g, b), rel=1e-4)
+
+
+def test_eqe_command_with_a_site_year(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    demo_files(tmp_path)
+    res = CliRunner().invoke(app, ["eqe", "front.csv", "back.csv", "--voc", "1.2,0.7",
+                                   "--scenario", "perovskite-silicon-rooftop", "--json"])
+    assert res.exit_code == 0, res.output
+    s = json.loads(res.stdout)
+    assert [c["position"] for c in s["subcells"]] == ["front", "back"]
+    assert 0 < s["subcells"][0]["ere"] < 1 and s["year"]["steps"] > 4000
+    assert 0 <= s["year"]["share_of_light_with_front_limiting_pct"] <= 100
+    bad = CliRunner().invoke(app, ["eqe", "front.csv", "back.csv", "--voc", "1.2"])
+    assert bad.exit_code == 2 and "give FRONT,BACK in V" in bad.stderr
