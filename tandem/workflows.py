@@ -515,6 +515,17 @@ def measured_eqe(front, back, light: Light = Light(), operating: OperatingPoint 
         thickness that would match the currents, scaling the EQE by the absorber's model.
     series : tandem.sky.SpectralSeries, optional
         A site's period: currents step by step, hours the front limits, mismatch loss.
+
+    Examples
+    --------
+    >>> import numpy as np, tandem
+    >>> from tandem.eqe import MeasuredEQE
+    >>> e = np.linspace(0.5, 4.4, 400)
+    >>> front = MeasuredEQE.from_arrays('front', e, 0.9 * (e >= 1.73))
+    >>> back = MeasuredEQE.from_arrays('back', e, 0.9 * ((e >= 1.12) & (e < 1.73)))
+    >>> r = tandem.measured_eqe(front, back, voc_V=(1.25, 0.70))
+    >>> 0 < r.summary()['subcells'][0]['ere'] < 1
+    True
     """
     from .eqe import MeasuredEQE, matching_thickness, read_eqe, subcell_from_eqe
 
