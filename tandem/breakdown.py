@@ -154,3 +154,22 @@ def loss_breakdown(energy, flux, irradiance: float, eqe, gaps_eV, perf: StackPer
         p_out = p_4t
     steps.append(LossStep("output", "P = Σ J·V" if p_out == p_4t else "P_2T = J_2T·V_2T", p_out))
     return LossBreakdown(float(irradiance), tuple(steps), int(terminals))
+
+
+def match_breakdown(result, rank: int = 1, blackbody_sun=None) -> LossBreakdown:
+    """The breakdown of the ``rank``-th configuration of a :class:`~tandem.design.MatchResult`:
+    its subcells' EQEs in the stack, gaps at the cell temperature."""
+    from .design import stack_light, stack_performance
+
+    c = result.configurations[rank - 1]
+    cond, design = result.conditions, result.design
+    e = cond.photon_flux.energy
+    light = stack_light(design, e, c.front_gap_eV, c.front_thickness_nm, c.back_thickness_nm,
+                        temperature_K=cond.temperature_K)
+    eqe = np.stack([np.reshape(light.front_eqe, e.shape), np.reshape(light.back_eqe, e.shape)])
+    perf = stack_performance(design, cond, c.front_gap_eV, c.front_thickness_nm,
+                             c.back_thickness_nm)
+    gaps = np.array([c.front_gap_eV + design.front.gap_shift_eV(cond.temperature_K),
+                     design.back.gap_eV + design.back.gap_shift_eV(cond.temperature_K)])
+    return loss_breakdown(e, cond.photon_flux.flux, cond.photon_flux.irradiance, eqe, gaps, perf,
+                          cond.temperature_K, result.terminals, cond.electrical, blackbody_sun)

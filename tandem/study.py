@@ -8,8 +8,10 @@ at all. A manifest holds everything needed to run the same study again.
 
 from __future__ import annotations
 
+import difflib
 import hashlib
 import json
+import math
 import os
 import platform
 import re
@@ -304,9 +306,12 @@ def _resolve(path: Path, key: str, text: str, absorber_source, file_source,
         raise TandemInputError(f"scenario file '{path}': not valid TOML ({exc}); fix the syntax") from None
     except RecursionError:
         raise TandemInputError(f"scenario file '{path}': nested too deeply; flatten it") from None
-    c = _Checker(path, data, SCENARIO_SCHEMA, "scenario file",
-                 required_sections=("spectrum", "candidates"), free_sections=())
+    variants = data.get("variants")
+    c = _Checker(path, {k: v for k, v in data.items() if k != "variants"}, SCENARIO_SCHEMA,
+                 "scenario file", required_sections=("spectrum", "candidates"), free_sections=())
     c.check_keys()
+    if variants is not None:
+        _check_variants(c, variants)
     check_temperature(float(c.get("spectrum", "temperature_K", 298.15)), "spectrum.temperature_K")
     if c.get("stack", "terminals", 2) not in (2, 4):
         c.fail("stack.terminals", f"= {c.get('stack', 'terminals')!r} is not 2 or 4",
@@ -379,6 +384,44 @@ def _resolve(path: Path, key: str, text: str, absorber_source, file_source,
     return Scenario(path, key, text, data, fronts, backs, records, files,
                     tuple(dict.fromkeys(Path(os.path.abspath(p)) for p in input_paths)),
                     edited_from)
+
+
+#: What a [[variants]] entry may change, with its range.
+VARIANT_KEYS = {"name": None, "temperature_K": (150.0, 500.0), "ere": (1e-12, 1.0),
+                "reflectance": (0.0, 0.99), "front_parasitic": (0.0, 0.99),
+                "interlayer_parasitic": (0.0, 0.99), "ideality": (0.5, 10.0), "source": None}
+
+
+def _check_variants(c, variants) -> None:
+    """[[variants]]: a list of tables, each a name and what it changes (checked ranges)."""
+    if not (isinstance(variants, list) and variants and all(isinstance(v, dict) for v in variants)):
+        c.fail("variants", "must be a list of [[variants]] tables", "write each as [[variants]]")
+    if len(variants) > 8:
+        c.fail("variants", f"has {len(variants)} entries", "give at most 8")
+    names = []
+    for i, v in enumerate(variants, 1):
+        where = f"variants[{i}]"
+        for key, value in v.items():
+            if key not in VARIANT_KEYS:
+                hint = difflib.get_close_matches(key, VARIANT_KEYS, n=1)
+                c.fail(f"{where}.{key}", "is not a known key", f"did you mean '{hint[0]}'?" if hint
+                       else f"allowed: {', '.join(VARIANT_KEYS)}")
+            rng = VARIANT_KEYS[key]
+            values = value if key == "ere" and isinstance(value, list) else [value]
+            if rng is not None and not all(
+                    isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
+                    and rng[0] <= x <= rng[1] for x in values) or (key == "ere" and len(values) > 2):
+                c.fail(f"{where}.{key}", f"= {value!r} is outside {rng[0]:g}–{rng[1]:g}",
+                       "check the value and its unit" + (" (kelvin)" if key == "temperature_K" else ""))
+        name = v.get("name")
+        if not (isinstance(name, str) and _SAFE_KEY.fullmatch(name.replace(" ", "-"))):
+            c.fail(f"{where}.name", f"= {name!r} must be a short name", 'write e.g. name = "65C"')
+        if name in names:
+            c.fail(f"{where}.name", f"repeats '{name}'", "give every variant its own name")
+        names.append(name)
+        if "source" in v and v["source"] not in REFERENCE_NAMES:
+            c.fail(f"{where}.source", f"= {v['source']!r} is not a reference spectrum",
+                   f"use one of {', '.join(REFERENCE_NAMES)}")
 
 
 def _sha256(text: str) -> str:
@@ -580,6 +623,8 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
         rows.append(row)
         if progress:
             progress(n, len(pairs))
+    for i, variant in enumerate(scenario.data.get("variants", []), 1):
+        _run_variant(scenario, i, variant, rows, losses, cond)
     key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
     rows.sort(key=lambda r: r[key], reverse=True)
     for rank, row in enumerate(rows, 1):
@@ -593,6 +638,57 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
                                                     "notes": list(series.notes),
                                                     "steps": int(series.times.size),
                                                     "insolation_kWh_m2": round(series.insolation_kWh_m2, 3)})
+
+
+def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, losses, cond) -> None:
+    """Every pair again under one variant (temperature, ERE, losses, spectrum): its best
+    front gap, thickness and efficiency go into the row as a column group."""
+    from .design import front_gap_grid
+
+    flux = (load_spectrum(variant["source"]).photon_flux() if "source" in variant
+            else cond.photon_flux)
+    e = flux.energy
+    losses_v = [loss_on_grid(variant[k], e, f"variants[{index}].{k}") if k in variant else
+                (loss if "source" not in variant else
+                 loss_on_grid(scenario.get("stack", k, 0.0), e, f"stack.{k}"))
+                for k, loss in zip(("reflectance", "front_parasitic", "interlayer_parasitic"), losses)]
+    cond_v = replace(cond, photon_flux=flux,
+                     temperature_K=float(variant.get("temperature_K", cond.temperature_K)),
+                     ideality=float(variant.get("ideality", cond.ideality)))
+    ere = variant.get("ere")
+    ere = None if ere is None else (ere * 2 if isinstance(ere, list) and len(ere) == 1 else
+                                    ere if isinstance(ere, list) else [ere, ere])
+    by_pair = {(r["front"], r["back"]): r for r in rows}
+    absorbers = {a.key: a for a in scenario.fronts + scenario.backs}
+    key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
+    for (f_key, b_key), row in by_pair.items():
+        front, back = absorbers[f_key], absorbers[b_key]
+        if ere is not None:
+            front, back = replace(front, ere=float(ere[0])), replace(back, ere=float(ere[1]))
+        gaps = front_gap_grid(front, float(scenario.get("sweep", "front_gap_step_eV", 0.02)))
+        result = match_currents(StackDesign(front, back, *losses_v), cond_v, gaps[gaps > back.gap_eV],
+                                scenario.back_thicknesses_nm(), None,
+                                int(scenario.get("sweep", "thickness_points", 60)),
+                                scenario.terminals)
+        best = _configuration(result.configurations[0])
+        row[f"variant{index}_front_gap_eV"] = best["front_gap_eV"]
+        row[f"variant{index}_front_thickness_nm"] = best["front_thickness_nm"]
+        row[f"variant{index}_{key}"] = best[key]
+
+
+def variant_columns(scenario: Scenario) -> list:
+    """One column group per [[variants]] entry: its best front gap, thickness, efficiency."""
+    key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
+    t = "2T" if scenario.terminals == 2 else "4T"
+    out = []
+    for i, v in enumerate(scenario.data.get("variants", []), 1):
+        name = v["name"]
+        out += [Column(f"variant{i}_front_gap_eV", f"{name}: front gap [eV]", f"{name} gap eV",
+                       "{:.3f}"),
+                Column(f"variant{i}_front_thickness_nm", f"{name}: front thickness [nm]",
+                       f"{name} nm", "{:.0f}", compact=False),
+                Column(f"variant{i}_{key}", f"{name}: {t} [%]", f"{name} {t} %", "{:.2f}")]
+    return out
 
 
 def _row(result: MatchResult, tolerance_pct: float) -> dict:
@@ -633,7 +729,8 @@ OPTIONAL_COLUMNS = [
 
 def columns(study) -> list:
     """The table's columns: the fixed ones and those the scenario's options produced."""
-    return TABLE_COLUMNS + [c for c in OPTIONAL_COLUMNS if c.key in study.rows[0]]
+    return (TABLE_COLUMNS + [c for c in OPTIONAL_COLUMNS if c.key in study.rows[0]]
+            + variant_columns(study.scenario))
 
 
 def _cell(row, key, fmt):
@@ -751,7 +848,8 @@ def manifest(study: StudyResult, figures: bool = True) -> dict:
 
 
 #: What 'tandem study' writes into a study folder, and nothing else.
-STUDY_FILES = ("design-table.csv", "design-table.md", "design-table.tex", "manifest.json")
+STUDY_FILES = ("design-table.csv", "design-table.md", "design-table.tex", "loss-breakdown.csv",
+               "manifest.json")
 FIGURE_SUFFIXES = (".png", ".svg")
 
 
@@ -822,6 +920,8 @@ def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
     def build(tmp: Path) -> None:
         table = pd.DataFrame(study.rows)[[c.key for c in columns(study)]]
         table.to_csv(tmp / "design-table.csv", index=False, float_format="%.6g")
+        breakdowns = loss_table(study)
+        breakdowns.to_csv(tmp / "loss-breakdown.csv", index=False, float_format="%.6g")
         (tmp / "design-table.md").write_text(markdown_table(study), encoding="utf-8")
         (tmp / "design-table.tex").write_text(latex_table(study), encoding="utf-8")
         if figures:
@@ -832,14 +932,33 @@ def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
     return place_folder(folder, build, overwrite, lambda t: study_replace_reason(t, protected))
 
 
+def loss_table(study: StudyResult):
+    """Every design row's loss breakdown, one line per step (W/m² and % of the incident)."""
+    import pandas as pd
+
+    from .breakdown import match_breakdown
+
+    lines = []
+    for row in study.rows:
+        b = match_breakdown(study.results[(row["front"], row["back"])])
+        for step in b.rows():
+            lines.append({"rank": row["rank"], "front": row["front"], "back": row["back"],
+                          "step": step["step"], "power_W_m2": step["power_W_m2"],
+                          "share_pct": step["share_pct"], "equation": step["equation"]})
+    return pd.DataFrame(lines)
+
+
 def _write_figures(study: StudyResult, folder: Path) -> None:
+    from .breakdown import match_breakdown
     from .maps import gap_axis, step_gap_map
-    from .plots import map_figures, match_figure
+    from .plots import breakdown_figure, map_figures, match_figure
 
     folder.mkdir()
     for (front, back), result in study.results.items():
         match_figure(result, folder / f"match-{front}-over-{back}.png",
                      tolerance=tolerance_windows(result, study.scenario.tolerance_pct))
+        breakdown_figure(match_breakdown(result), folder / f"losses-{front}-over-{back}.png",
+                         f"{front} over {back}: where the incident power goes")
     if "map" in study.scenario.data:
         fg = gap_axis(*study.scenario.get("map", "front_gaps_eV"), "map.front_gaps_eV")
         bg = gap_axis(*study.scenario.get("map", "back_gaps_eV"), "map.back_gaps_eV")

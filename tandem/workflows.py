@@ -263,23 +263,9 @@ class MatchStudy:
     def loss_breakdown(self, rank: int = 1):
         """Where the incident power of the ``rank``-th configuration goes
         (:func:`tandem.breakdown.loss_breakdown`)."""
-        from .breakdown import loss_breakdown
-        from .design import stack_light, stack_performance
+        from .breakdown import match_breakdown
 
-        r = self.result
-        c = r.configurations[rank - 1]
-        cond, design = r.conditions, r.design
-        e = cond.photon_flux.energy
-        light = stack_light(design, e, c.front_gap_eV, c.front_thickness_nm, c.back_thickness_nm,
-                            temperature_K=cond.temperature_K)
-        eqe = np.stack([np.reshape(light.front_eqe, e.shape), np.reshape(light.back_eqe, e.shape)])
-        perf = stack_performance(design, cond, c.front_gap_eV, c.front_thickness_nm,
-                                 c.back_thickness_nm)
-        gaps = np.array([c.front_gap_eV + design.front.gap_shift_eV(cond.temperature_K),
-                         design.back.gap_eV + design.back.gap_shift_eV(cond.temperature_K)])
-        return loss_breakdown(e, cond.photon_flux.flux, cond.photon_flux.irradiance, eqe, gaps,
-                              perf, cond.temperature_K, r.terminals, cond.electrical,
-                              _blackbody(self.light))
+        return match_breakdown(self.result, rank, _blackbody(self.light))
 
 
 def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),

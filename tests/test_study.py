@@ -2,6 +2,7 @@
 
 import json
 import re
+from pathlib import Path
 
 import pandas as pd
 import pytest
@@ -10,6 +11,8 @@ from typer.testing import CliRunner
 import tandem
 from tandem.cli import app
 from tandem.study import bundled_scenarios, load_scenario, run_study, study_rows_equal, write_study
+
+ROOT = Path(__file__).resolve().parents[1]
 
 runner = CliRunner()
 
@@ -167,3 +170,56 @@ def test_default_study_runs_from_the_cli(tmp_path):
     assert (tmp_path / "s" / "manifest.json").is_file()
     res = runner.invoke(app, ["study", "--out", str(tmp_path / "s")])
     assert res.exit_code == 2 and "--overwrite" in res.stderr
+
+
+# --------------------------------------------------------------------------------------
+# variants and loss breakdowns
+# --------------------------------------------------------------------------------------
+
+
+def test_variants_add_one_column_group_each_equal_to_a_run_under_that_variant(tmp_path):
+    """A [[variants]] entry gives the same best design as the scenario rewritten with that
+    change (consistency), in its own column group."""
+    from tandem.study import columns, load_scenario, run_study
+
+    text = (ROOT / "scenarios" / "thin-film-silicon-pair.toml").read_text()
+    text = text.replace("thickness_points = 80", "thickness_points = 20")
+    path = tmp_path / "v.toml"
+    path.write_text(text)
+    study = run_study(load_scenario(path))
+    labels = [c.label for c in columns(study)]
+    assert "50C: front gap [eV]" in labels and "5pct-reflection: 2T [%]" in labels
+    hot = tmp_path / "hot.toml"
+    hot.write_text(text.split("[[variants]]")[0].replace("temperature_K = 298.15",
+                                                         "temperature_K = 323.15"))
+    direct = run_study(load_scenario(hot)).rows[0]
+    row = study.rows[0]
+    assert row["variant1_efficiency_2t_pct"] == direct["efficiency_2t_pct"]
+    assert row["variant1_front_thickness_nm"] == direct["front_thickness_nm"]
+    assert row["variant1_efficiency_2t_pct"] < row["efficiency_2t_pct"]  # heat costs efficiency
+
+
+@pytest.mark.parametrize("change, message", [
+    ('name = "50C"\ntemperature_K = 323.15', 'name = "50C"\ntemperature_K = 50'),
+    ('name = "50C"', 'name = "5pct-reflection"'),
+    ('reflectance = 0.05', 'reflectance = 5'),
+    ('name = "50C"', 'name = "50C"\ncolour = "red"'),
+])
+def test_bad_variants_are_one_line(change, message, tmp_path):
+    from tandem.study import load_scenario
+
+    text = (ROOT / "scenarios" / "thin-film-silicon-pair.toml").read_text()
+    path = tmp_path / "bad.toml"
+    path.write_text(text.replace(change, message, 1))
+    with pytest.raises(tandem.TandemInputError, match=r"variants\[\d\]"):
+        load_scenario(path)
+
+
+def test_the_study_writes_each_designs_loss_breakdown(small):
+    import pandas as pd
+
+    _, study, out = small
+    table = pd.read_csv(out / "loss-breakdown.csv")
+    for (front, back), part in table.groupby(["front", "back"]):
+        assert part["share_pct"].sum() == pytest.approx(100.0, abs=1e-3)
+        assert (out / "figures" / f"losses-{front}-over-{back}.png").stat().st_size > 10_000
