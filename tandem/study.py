@@ -388,6 +388,7 @@ def _resolve(path: Path, key: str, text: str, absorber_source, file_source,
 
 #: What a [[variants]] entry may change, with its range.
 VARIANT_KEYS = {"name": None, "temperature_K": (150.0, 500.0), "ere": (1e-12, 1.0),
+                "ere_front": (1e-12, 1.0), "ere_back": (1e-12, 1.0),
                 "reflectance": (0.0, 0.99), "front_parasitic": (0.0, 0.99),
                 "interlayer_parasitic": (0.0, 0.99), "ideality": (0.5, 10.0), "source": None}
 
@@ -656,15 +657,18 @@ def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, loss
                      temperature_K=float(variant.get("temperature_K", cond.temperature_K)),
                      ideality=float(variant.get("ideality", cond.ideality)))
     ere = variant.get("ere")
-    ere = None if ere is None else (ere * 2 if isinstance(ere, list) and len(ere) == 1 else
-                                    ere if isinstance(ere, list) else [ere, ere])
+    ere = [None, None] if ere is None else (ere * 2 if isinstance(ere, list) and len(ere) == 1
+                                            else ere if isinstance(ere, list) else [ere, ere])
+    ere = [variant.get("ere_front", ere[0]), variant.get("ere_back", ere[1])]
     by_pair = {(r["front"], r["back"]): r for r in rows}
     absorbers = {a.key: a for a in scenario.fronts + scenario.backs}
     key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
     for (f_key, b_key), row in by_pair.items():
         front, back = absorbers[f_key], absorbers[b_key]
-        if ere is not None:
-            front, back = replace(front, ere=float(ere[0])), replace(back, ere=float(ere[1]))
+        if ere[0] is not None:
+            front = replace(front, ere=float(ere[0]))
+        if ere[1] is not None:
+            back = replace(back, ere=float(ere[1]))
         gaps = front_gap_grid(front, float(scenario.get("sweep", "front_gap_step_eV", 0.02)))
         result = match_currents(StackDesign(front, back, *losses_v), cond_v, gaps[gaps > back.gap_eV],
                                 scenario.back_thicknesses_nm(), None,
