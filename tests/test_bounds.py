@@ -22,7 +22,7 @@ from tandem.design import Conditions, StackDesign, stack_light, stack_performanc
 from tandem.stack import Electrical
 from tandem.units import Q
 
-from limits import global_4t_limit
+from references import global_4t_limit
 
 RTOL = 1e-9
 

@@ -15,7 +15,7 @@ import tandem
 from tandem.cli import app
 from tandem.design import StackDesign
 from tandem.inputs import OperatingPoint
-from tandem.region import RegionJob, SiteSpec, read_sites, run_region, write_region_outputs
+from tandem.region import RegionJob, read_sites, run_region, write_region_outputs
 from tandem.sky import Rows, clear_sky_series, parse_period, weather_frame_series, weather_series
 from tandem.yields import hourly, yield_sweep
 

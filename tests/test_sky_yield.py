@@ -242,27 +242,11 @@ def _dense_fluxes(series):
 def test_yield_in_the_basis_equals_the_full_per_step_calculation(pvk_si, summer_day, am15g):
     """Target of the speed issue: energy within 1e-6 (relative) of the full calculation
     (dense spectra, J0 at each step's own temperature), same optimum."""
-    from tandem import detailed_balance as db
-    from tandem.design import evaluate_design, stack_integrands
-    from tandem.spectra import trapezoid_weights
-    from tandem.units import Q
-    from tandem.yields import _bins
+    from references import dense_yield
 
     gaps, thick = np.linspace(1.62, 1.9, 5), np.geomspace(150, 1500, 6)
     sweep = yield_sweep(pvk_si, summer_day, gaps, thick, 160e3, am15g)
-    energy, dense = summer_day.energy, _dense_fluxes(summer_day)
-    w = trapezoid_weights(energy) * Q
-    e2 = np.zeros((gaps.size, thick.size))
-    for t_bin, idx, t_cell in _bins(summer_day, 2.0):
-        bb = db.blackbody_photon_flux(energy, t_cell[:, None])  # each step's own temperature
-        for i, g in enumerate(gaps):
-            parts = stack_integrands(pvk_si, energy, g, 160e3, None, t_bin)
-            a, t = parts.transfer(thick)
-            fw, bw = w * parts.front_weight, w * parts.back_weight
-            jl = np.stack([a @ (dense[idx] * fw).T, t @ (dense[idx] * bw).T], -1)
-            j0 = np.stack([a @ (bb * fw).T, t @ (bb * bw).T], -1)
-            perf = evaluate_design(pvk_si, Conditions(None, t_bin), jl, j0, t_cell, 1.0)
-            e2[i] += perf.p_2t @ summer_day.step_hours[idx] / 1000
+    e2 = dense_yield(pvk_si, summer_day, gaps, thick, 160e3)
     assert np.max(np.abs(sweep.energy_2t / e2 - 1)) < 1e-6
     assert np.unravel_index(np.argmax(e2), e2.shape) == sweep.optimum
     assert sweep.basis_bound <= 1e-9 and 1 <= sweep.basis_rank <= 122

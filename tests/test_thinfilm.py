@@ -16,7 +16,7 @@ from tandem.layerstack import (LayerStack, StackLayer, budget_currents, database
 from tandem.thinfilm import Layer, stack_optics
 from tandem.units import HC_EV_NM
 
-from limits import global_4t_limit
+from references import global_4t_limit
 
 tmm = pytest.importorskip("tmm")
 
@@ -143,7 +143,7 @@ def test_index_matched_stack_reproduces_optics_lite(am15g):
     stack, f, b = index_matched()
     d = np.array([200.0, 500.0, 1200.0])
     budget = photon_budget(stack, am15g.energy, d)
-    j_light, j0, _, reflected = budget_currents(budget, am15g, 298.15)
+    j_light, j0, _, _ = budget_currents(budget, am15g, 298.15)
     design = StackDesign(f, b, 0.0, 0.0, 0.0)
     lite_j, lite_j0 = subcell_currents(design, Conditions(am15g, 298.15), f.gap_eV, d, 160e3)
     np.testing.assert_allclose(j_light, lite_j, rtol=5e-3)

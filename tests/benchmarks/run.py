@@ -28,6 +28,7 @@ import numpy as np
 from scipy import integrate, optimize
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # tests/: the shared references
 
 import tandem  # noqa: E402
 from tandem import detailed_balance as db  # noqa: E402
@@ -35,6 +36,7 @@ from tandem.design import Conditions, StackDesign, stack_performance  # noqa: E4
 from tandem.maps import step_gap_map  # noqa: E402
 from tandem.optics import LayerOptics, stack_optics  # noqa: E402
 from tandem.units import Q  # noqa: E402
+from references import dense_yield  # noqa: E402
 
 T_CELL = 300.0
 
@@ -234,32 +236,6 @@ MESA = dict(name="Mesa Verdeja test field", latitude=35.2, longitude=-106.4, alt
             ambient_temperature_C=17.0)  # the invented site of the rooftop scenario
 
 
-def full_yield(design, series, gaps, thicknesses, back_d):
-    """The yield the direct way: dense spectra of every step, J0 at each step's own
-    temperature (the tool's bins and optics, no basis, no J0 interpolation) [kWh/m²]."""
-    from tandem.design import evaluate_design, stack_integrands
-    from tandem.spectra import _to_energy, trapezoid_weights
-    from tandem.yields import _bins
-
-    energy = series.energy
-    grid = np.sort(tandem.units.HC_EV_NM / energy)
-    dense = _to_energy(grid, np.stack([np.interp(grid, series.wavelength_nm, r)
-                                       for r in series.irradiance]))[1]
-    w = trapezoid_weights(energy) * Q
-    e2 = np.zeros((gaps.size, thicknesses.size))
-    for t_bin, idx, t_cell in _bins(series, 2.0):
-        bb = db.blackbody_photon_flux(energy, t_cell[:, None])
-        for i, g in enumerate(gaps):
-            parts = stack_integrands(design, energy, g, back_d, None, t_bin)
-            a, t = parts.transfer(thicknesses)
-            fw, bw = w * parts.front_weight, w * parts.back_weight
-            jl = np.stack([a @ (dense[idx] * fw).T, t @ (dense[idx] * bw).T], -1)
-            j0 = np.stack([a @ (bb * fw).T, t @ (bb * bw).T], -1)
-            perf = evaluate_design(design, Conditions(None, t_bin), jl, j0, t_cell, 1.0)
-            e2[i] += perf.p_2t @ series.step_hours[idx] / 1000
-    return e2
-
-
 def busy(seconds):
     """Keep one core busy (a second process) for ``seconds``: load for the threads test."""
     end = time.perf_counter() + seconds
@@ -301,7 +277,7 @@ def case_e():
                 load.wait()
             print(f"    with the other core busy (the tool pins BLAS to one thread): {loaded:.3f} s")
             t0 = time.perf_counter()
-            full = full_yield(design, series, gaps, thick, 160e3)
+            full = dense_yield(design, series, gaps, thick, 160e3)
             print(f"    full calculation (dense spectra, J0 per step) {time.perf_counter() - t0:.2f} s;"
                   f" largest relative energy difference {np.max(np.abs(sweep.energy_2t / full - 1)):.1e}; "
                   "same optimum: " + ("yes" if np.unravel_index(np.argmax(full), full.shape)
