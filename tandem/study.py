@@ -49,7 +49,8 @@ SCENARIO_SCHEMA = {
         "front_parasitic": ("num", False),
         "interlayer_parasitic": ("num", False),
     },
-    "candidates": {"front": ("strlist", True), "back": ("strlist", True)},
+    "candidates": {"front": ("strlist", True), "back": ("strlist", True),
+                   "stacks": ("strlist", False)},
     "sweep": {
         "front_gap_step_eV": ("num", False),
         "thickness_points": ("num", False),
@@ -106,6 +107,21 @@ class Scenario:
     files: dict = field(default_factory=dict)
     input_paths: tuple = ()  #: files read from disk (never replaced by --overwrite)
     edited_from: str | None = None  #: manifest checksum, when an edited manifest was accepted
+    #: layer stacks among the candidates: unique key -> {"entry", "text"} (their files as data)
+    stack_records: dict = field(default_factory=dict)
+
+    def stacks(self) -> dict:
+        """The candidate layer stacks, parsed from their text (key -> LayerStack)."""
+        from .layerstack import parse_stack
+
+        out = {}
+        with tempfile.TemporaryDirectory(prefix="tandem-stacks-") as tmp:
+            for i, (key, rec) in enumerate(self.stack_records.items()):
+                folder = Path(tmp) / f"stack-{i}"
+                folder.mkdir()
+                out[key] = replace(parse_stack(_materialise(folder, f"{key}.toml", rec["text"])),
+                                   key=key)
+        return out
 
     def get(self, section: str, key: str, default=None):
         return self.data.get(section, {}).get(key, default)
@@ -299,7 +315,8 @@ REFERENCE_NAMES = ("am1.5g", "am1.5d", "am0", "blackbody")
 
 
 def _resolve(path: Path, key: str, text: str, absorber_source, file_source,
-             candidate_keys: dict | None = None, edited_from: str | None = None) -> Scenario:
+             candidate_keys: dict | None = None, edited_from: str | None = None,
+             stack_source=None) -> Scenario:
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -381,9 +398,39 @@ def _resolve(path: Path, key: str, text: str, absorber_source, file_source,
     backs = [absorber(n, "back", i) for i, n in enumerate(c.get("candidates", "back"))]
     fronts = list({a.key: a for a in fronts}.values())  # the same file twice is one candidate
     backs = list({a.key: a for a in backs}.values())
+    stack_records = {}
+    for i, entry in enumerate(c.get("candidates", "stacks") or []):
+        try:
+            unique, record, paths = (stack_source or _disk_stack(path))(entry, i)
+        except TandemInputError as exc:
+            c.fail("candidates.stacks", f"names '{entry}', which cannot be used ({exc})",
+                   "use a bundled stack name or a path relative to the scenario file")
+        stack_records[unique] = record
+        input_paths.extend(paths)
     return Scenario(path, key, text, data, fronts, backs, records, files,
                     tuple(dict.fromkeys(Path(os.path.abspath(p)) for p in input_paths)),
-                    edited_from)
+                    edited_from, stack_records)
+
+
+def _disk_stack(scenario_path: Path):
+    """A candidate stack: bundled name or a path beside the scenario. Its layers must use
+    bundled absorbers, constants or the database, so that its text alone re-runs it."""
+    def load(entry: str, index: int):
+        from .files import bundled_dir
+        from .layerstack import load_stack
+
+        local = scenario_path.parent / entry
+        stack = load_stack(local if entry.endswith(".toml") else entry)
+        bundled = bundled_dir("absorbers").resolve()
+        for x in stack.layers:
+            if x.source.startswith("file ") or (x.absorber is not None
+                                                 and x.absorber.path.resolve().parent != bundled):
+                raise TandemInputError(f"its layer '{x.name}' reads a file of its own; in a study a "
+                                       "stack's layers take bundled absorbers, constants or the "
+                                       "database, so that the manifest re-runs it anywhere")
+        return _plain(stack.key), {"entry": entry, "text": _read_text(stack.path, "stack file")}, \
+            [stack.path]
+    return load
 
 
 #: What a [[variants]] entry may change, with its range.
@@ -490,6 +537,12 @@ def read_manifest(path: Path, accept_edited: bool = False) -> dict:
                                          and all(isinstance(x, str) and x in absorbers for x in cands[r])
                                          for r in ("front", "back")),
          "inputs.candidates must list front and back absorber names found in inputs.absorbers")
+    stacks = inputs.get("stacks", {})
+    need(isinstance(stacks, dict) and all(
+        _SAFE_KEY.fullmatch(k) and isinstance(r, dict) and isinstance(r.get("text"), str)
+        and isinstance(r.get("entry"), str) for k, r in stacks.items())
+        and list(stacks) == list(cands.get("stacks", [])),
+        "inputs.stacks must map plain names to 'entry' and 'text', as inputs.candidates.stacks lists")
     files = inputs.get("files")
     need(isinstance(files, dict), "inputs.files is missing")
     for k in ("spectrum", "weather"):
@@ -534,9 +587,9 @@ def scenario_from_manifest(path: Path, accept_edited: bool = False) -> Scenario:
         data_files = inputs["files"]
         scenario_text = inputs["scenario"]["text"]
         entries = tomllib.loads(scenario_text).get("candidates", {}) if scenario_text else {}
-        for role in ("front", "back"):
+        for role in ("front", "back", "stacks"):
             listed = entries.get(role, []) if isinstance(entries, dict) else []
-            if len(listed) != len(inputs["candidates"][role]):
+            if len(listed) != len(inputs["candidates"].get(role, [])):
                 raise TandemInputError(f"manifest '{path}': inputs.candidates.{role} does not match "
                                        "the scenario's candidates; the manifest was edited")
 
@@ -547,9 +600,13 @@ def scenario_from_manifest(path: Path, accept_edited: bool = False) -> Scenario:
         def file_source(data):
             return dict(data_files), []
 
+        def stack_source(entry, index):
+            key = inputs["candidates"]["stacks"][index]
+            return key, inputs["stacks"][key], []
+
         edited_from = manifest["integrity"]["manifest_sha256"] if manifest["_edited"] else None
         return _resolve(Path(path), name, scenario_text, absorber_source, file_source,
-                        inputs["candidates"], edited_from)
+                        inputs["candidates"], edited_from, stack_source)
 
 
 # --------------------------------------------------------------------------------------
@@ -568,6 +625,7 @@ class StudyResult:
     results: dict  #: (front, back) -> MatchResult
     skipped: list[str]
     sky: dict | None = None  #: the real-sky series the energies were computed under
+    stacks: dict = field(default_factory=dict)  #: stack key -> layerstack.StackMatch
 
 
 def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = None) -> StudyResult:
@@ -626,6 +684,14 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
             progress(n, len(pairs))
     for i, variant in enumerate(scenario.data.get("variants", []), 1):
         _run_variant(scenario, i, variant, rows, losses, cond)
+    stacks = {}
+    for key, stack in scenario.stacks().items():
+        from .layerstack import match_in_stack
+
+        stacks[key] = match_in_stack(stack, flux, scenario.temperature_K,
+                                     int(scenario.get("sweep", "thickness_points", 60)), ideality,
+                                     cond.electrical)
+        rows.append(_stack_row(key, stacks[key]))
     key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
     rows.sort(key=lambda r: r[key], reverse=True)
     for rank, row in enumerate(rows, 1):
@@ -638,7 +704,32 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
                        None if series is None else {"source": series.source,
                                                     "notes": list(series.notes),
                                                     "steps": int(series.times.size),
-                                                    "insolation_kWh_m2": round(series.insolation_kWh_m2, 3)})
+                                                    "insolation_kWh_m2": round(series.insolation_kWh_m2, 3)},
+                       stacks)
+
+
+def _stack_row(key: str, m) -> dict:
+    """A design-table row for a layer stack's best current match (optics of the whole stack;
+    the scenario's flat losses do not apply, its layers are the losses)."""
+    best, stack = m.best, m.stack
+    j = np.asarray(best.j_light) / 10
+    low = float(j.min())
+    front = stack.front
+    return {"rank": 0, "front": front.absorber.key, "back": stack.back.absorber.key,
+            "stack": key, "front_gap_eV": round(front.gap_eV or front.absorber.gap_eV, 4),
+            "front_composition": None, "front_thickness_nm": round(best.front_thickness_nm, 1),
+            "matched_front_thickness_nm": round(best.front_thickness_nm, 1) if best.matched else None,
+            "back_thickness_um": round(stack.back.thickness_nm / 1000, 4),
+            "jsc_front_mA_cm2": round(float(j[0]), 3), "jsc_back_mA_cm2": round(float(j[1]), 3),
+            "mismatch_pct": round(100 * float(j.max() - low) / low, 3),
+            "limiting_subcell": "front" if j[0] < j[1] else "back",
+            "voc_2t_V": round(best.voc_2t, 4),
+            "ff_2t_pct": round(100 * best.efficiency_2t * m.irradiance / (best.voc_2t * low * 10), 2),
+            "efficiency_2t_pct": round(100 * best.efficiency_2t, 3),
+            "efficiency_4t_pct": round(100 * best.efficiency_4t, 3),
+            "front_thickness_window_lo_nm": None, "front_thickness_window_hi_nm": None,
+            "front_gap_window_lo_eV": None, "front_gap_window_hi_eV": None,
+            "front_file": front.absorber.key, "back_file": stack.back.absorber.key}
 
 
 def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, losses, cond) -> None:
@@ -660,7 +751,7 @@ def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, loss
     ere = [None, None] if ere is None else (ere * 2 if isinstance(ere, list) and len(ere) == 1
                                             else ere if isinstance(ere, list) else [ere, ere])
     ere = [variant.get("ere_front", ere[0]), variant.get("ere_back", ere[1])]
-    by_pair = {(r["front"], r["back"]): r for r in rows}
+    by_pair = {(r["front"], r["back"]): r for r in rows if "stack" not in r}
     absorbers = {a.key: a for a in scenario.fronts + scenario.backs}
     key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
     for (f_key, b_key), row in by_pair.items():
@@ -733,7 +824,9 @@ OPTIONAL_COLUMNS = [
 
 def columns(study) -> list:
     """The table's columns: the fixed ones and those the scenario's options produced."""
-    return (TABLE_COLUMNS + [c for c in OPTIONAL_COLUMNS if c.key in study.rows[0]]
+    stack = [Column("stack", "layer stack", "stack", "{}")] if study.stacks else []
+    return (TABLE_COLUMNS[:3] + stack + TABLE_COLUMNS[3:]
+            + [c for c in OPTIONAL_COLUMNS if c.key in study.rows[0]]
             + variant_columns(study.scenario))
 
 
@@ -813,7 +906,9 @@ def manifest(study: StudyResult, figures: bool = True) -> dict:
     inputs = {
         "scenario": {"name": sc.key, "text": sc.text},
         "absorbers": {k: sc.absorber_records[k] for k in sorted(sc.absorber_records)},
-        "candidates": {"front": [a.key for a in sc.fronts], "back": [a.key for a in sc.backs]},
+        "candidates": {"front": [a.key for a in sc.fronts], "back": [a.key for a in sc.backs],
+                       **({"stacks": list(sc.stack_records)} if sc.stack_records else {})},
+        **({"stacks": sc.stack_records} if sc.stack_records else {}),
         "files": {k: (sc.files or {}).get(k) for k in ("spectrum", "weather", "spectra_folder")},
     }
     versions = {}
@@ -944,6 +1039,8 @@ def loss_table(study: StudyResult):
 
     lines = []
     for row in study.rows:
+        if "stack" in row:  # a stack's losses are its layers: see its photon-budget figure
+            continue
         b = match_breakdown(study.results[(row["front"], row["back"])])
         for step in b.rows():
             lines.append({"rank": row["rank"], "front": row["front"], "back": row["back"],
@@ -963,6 +1060,12 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
                      tolerance=tolerance_windows(result, study.scenario.tolerance_pct))
         breakdown_figure(match_breakdown(result), folder / f"losses-{front}-over-{back}.png",
                          f"{front} over {back}: where the incident power goes")
+    for key, m in study.stacks.items():
+        from types import SimpleNamespace
+
+        from .plots import stack_figure
+
+        stack_figure(SimpleNamespace(match=m), folder / f"photons-{key}.png")
     if "map" in study.scenario.data:
         fg = gap_axis(*study.scenario.get("map", "front_gaps_eV"), "map.front_gaps_eV")
         bg = gap_axis(*study.scenario.get("map", "back_gaps_eV"), "map.back_gaps_eV")

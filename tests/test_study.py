@@ -223,3 +223,44 @@ def test_the_study_writes_each_designs_loss_breakdown(small):
     for (front, back), part in table.groupby(["front", "back"]):
         assert part["share_pct"].sum() == pytest.approx(100.0, abs=1e-3)
         assert (out / "figures" / f"losses-{front}-over-{back}.png").stat().st_size > 10_000
+
+
+STACK_STUDY = """title = "Optics-lite pair against a real layer stack"
+question = "How far does a real stack fall below the optics-lite design of the same absorbers?"
+
+[spectrum]
+source = "am1.5g"
+
+[candidates]
+front = ["perovskite-wide"]
+back = ["silicon"]
+stacks = ["all-thin-film-pair"]
+
+[sweep]
+thickness_points = 30
+back_thickness_um = [160]
+"""
+
+
+def test_a_study_can_hold_layer_stacks_and_rerun_them_from_its_manifest(tmp_path):
+    path = tmp_path / "s.toml"
+    path.write_text(STACK_STUDY)
+    study = run_study(load_scenario(path))
+    row = next(r for r in study.rows if r.get("stack") == "all-thin-film-pair")
+    direct = tandem.match_stack("all-thin-film-pair", points=30).summary()["best"]
+    assert row["front_thickness_nm"] == direct["front_thickness_nm"]
+    assert row["efficiency_2t_pct"] == direct["efficiency_2t_pct"]
+    out = write_study(study, tmp_path / "out")
+    assert (out / "figures" / "photons-all-thin-film-pair.png").stat().st_size > 10_000
+    again = run_study(load_scenario(out / "manifest.json"))
+    assert study_rows_equal(study.rows, again.rows)
+
+
+def test_a_stack_reading_its_own_files_is_refused_in_a_study(tmp_path):
+    stack = (ROOT / "stacks" / "all-thin-film-pair.toml").read_text()
+    (tmp_path / "ag.csv").write_text("wavelength_nm,n,k\n300,0.1,1.5\n2000,0.5,12\n")
+    (tmp_path / "mine.toml").write_text(stack.replace('"database:main/Ag/Johnson"', '"ag.csv"'))
+    path = tmp_path / "s.toml"
+    path.write_text(STACK_STUDY.replace('stacks = ["all-thin-film-pair"]', 'stacks = ["mine.toml"]'))
+    with pytest.raises(tandem.TandemInputError, match="reads a file of its own"):
+        load_scenario(path)
