@@ -34,6 +34,9 @@ STACK_FAULTS = {
     "gap-outside": ('absorber = "perovskite-wide"', 'absorber = "perovskite-wide"\ngap_eV = 2.5'),
     "no-title": ("title = ", "heading = "),
     "wafer-trapping-front": ('role = "front"', 'role = "front"\nlight_trapping = "lambertian"'),
+    "nan-thickness": ("thickness_nm = 120", "thickness_nm = nan"),
+    "inf-index": ("nk = 1.52", "nk = inf"),
+    "huge-points": ("thickness_nm = [150, 1200]", "thickness_nm = [150, 1200]\npoints = 1e9"),
 }
 
 CASES = [
@@ -172,6 +175,12 @@ CASES = [
      "--period", "year:20266"),
     ("region", "perovskite-wide", "silicon", "--latitudes", "0:0:1", "--longitudes", "0:0:1",
      "--front-gaps", "1.2:1.3:0.05"),
+    ("region", "perovskite-wide", "silicon", "--sites", "latin1-sites.csv"),
+    ("region", "perovskite-wide", "silicon", "--sites", "nan-sites.csv"),
+    ("region", "perovskite-wide", "silicon", "--latitudes", "nan:1:1", "--longitudes", "0:0:1"),
+    ("region", "perovskite-wide", "silicon", "--latitudes", "0:0:1", "--longitudes", "0:0:1",
+     "--bifacial", "--bifaciality", "inf"),
+    ("eqe", "eqe.csv", "eqe.csv", "--voc", "nan,inf"),
     # measured EQE
     ("eqe", "nowhere.csv", "r.csv"), ("eqe", "r.csv", "r.csv", "--voc", "a,b"),
     ("eqe", "eqe.csv", "eqe.csv", "--voc", "5,5"), ("eqe", "ambiguous.csv", "eqe.csv"),
@@ -205,6 +214,8 @@ def inputs(folder: Path) -> None:
     (folder / "bad.csv").write_text("wavelength,n,k\n400,0.1,abc\n")
     (folder / "eqe.csv").write_text("wavelength,eqe\n" + "".join(f"{w},0.8\n" for w in range(300, 1201, 20)))
     (folder / "ambiguous.csv").write_text("wavelength,eqe\n300,2.5\n900,2.0\n")
+    (folder / "latin1-sites.csv").write_bytes("name,latitude,longitude\nCaf\u00e9,40,0\n".encode("latin-1"))
+    (folder / "nan-sites.csv").write_text("name,latitude,longitude\nsite,nan,0\n")
     (folder / "r.csv").write_text("300,0.1\n1000,0.1\n")
     epw = ["LOCATION,Test,,,,0,40,0,0,0"] + ["X"] * 7
     epw += [f"2026,1,1,{h},0,?,0,0,0,0,0,0,0,0,1e300,1e300,1e300,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0"
