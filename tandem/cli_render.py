@@ -59,6 +59,9 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: b
           if b["current_matched"] else "no current match in the swept range")
          + "".join(f", {k.replace(' [nm]', '')} {b[k]:.0f} nm" for k in swept)
          + f"; 2T {b['efficiency_2t_pct']:.2f} %, 4T {b['efficiency_4t_pct']:.2f} %",
+         f"best four-terminal: {s['best_4t']['efficiency_4t_pct']:.2f} % at "
+         f"{s['best_4t']['front_thickness_nm']:.0f} nm"
+         + "".join(f", {k.replace(' [nm]', '')} {s['best_4t'][k]:.0f} nm" for k in swept),
          "optics-lite (no interference, no layer losses) matches at "
          + (f"{lite:.0f} nm" if lite else "no thickness in range"),
          *[f"note: {n}" for n in s["notes"]],

@@ -489,6 +489,7 @@ class StackMatch:
     grids: list  #: per combination of other layers: (others, j_light (n_d, 2), eff_2t, eff_4t)
     crossings: list[StackPoint]  #: every current match found, best 2T first
     best: StackPoint  #: the best matched design, or the best 2T point if none matched
+    best_4t: StackPoint  #: the highest four-terminal efficiency on the grid (no matching needed)
     notes: tuple[str, ...]
     temperature_K: float
     irradiance: float
@@ -582,5 +583,8 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
         limiting = "front" if best.j_light[0] < best.j_light[1] else "back"
         notes.append(f"no current match for {lo:g}–{hi:g} nm of {front.name}: the {limiting} "
                      "subcell limits throughout; the best two-terminal point is shown")
-    return StackMatch(stack, grid, grids, crossings, best, tuple(notes), float(temperature_K),
-                      float(flux.irradiance), flux.energy)
+    k, i = max(((k, int(np.nanargmax(g[3]))) for k, g in enumerate(grids)),
+               key=lambda ki: grids[ki[0]][3][ki[1]])
+    best_4t = _point(stack, flux, grids[k][0], grid[i], temperature_K, ideality, electrical, False)
+    return StackMatch(stack, grid, grids, crossings, best, best_4t, tuple(notes),
+                      float(temperature_K), float(flux.irradiance), flux.energy)

@@ -366,6 +366,7 @@ def stack_summary(result) -> dict:
                     else x.thickness_nm), "coherent": x.coherent, "optical_constants": x.source}
                    for x in m.stack.layers],
         "best": point(best),
+        "best_4t": point(m.best_4t),
         "matches": [point(p) for p in m.crossings],
         "parasitic_loss_mA_cm2": losses,
         "reflected_or_escaped_mA_cm2": round(best.reflected / 10, 3),

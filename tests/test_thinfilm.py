@@ -172,6 +172,9 @@ def test_every_crossing_is_found_and_matched(am15g):
         changes = int(np.sum(np.diff(np.sign(j[:, 0] - j[:, 1])) != 0))
         assert changes == sum(p.others == others for p in result.crossings)
     assert result.best.efficiency_2t == max(p.efficiency_2t for p in result.crossings)
+    # the four-terminal optimum needs no matching: at least every grid point's 4T
+    assert result.best_4t.efficiency_4t >= max(float(np.max(g[3])) for g in result.grids) - 1e-12
+    assert result.best_4t.efficiency_4t >= result.best.efficiency_4t
 
 
 def test_interference_fringes_give_several_crossings(am15g):
