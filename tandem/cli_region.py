@@ -46,8 +46,7 @@ def region(
         quiet: Quiet = False, json_out: Json = False, *, o):
     """Energy-optimal front gap and thickness at many sites, on a dask cluster.
 
-    Each site's year is one task; results land in the folder as sites finish, so an
-    interrupted run resumes where it stopped. Examples:
+    Each site's year is one task; an interrupted run resumes where it stopped. Examples:
 
       tandem region perovskite-wide silicon --sites sites.csv
 
