@@ -181,6 +181,10 @@ SCHEMA_RUNS = {
     "spread": ["spread", "gainp", "gaas", "--samples", "30"],
     "study": ["study", "--out", "s", "-q", "--no-figures"],
     "match-stack": ["match", "--stack", "all-thin-film-pair", "--points", "20", "-q"],
+    "eqe": ["eqe", str(ROOT / "tests" / "data" / "front-eqe.csv"),
+            str(ROOT / "tests" / "data" / "back-eqe.csv"), "--voc", "1.2,0.7"],
+    "region": ["region", "perovskite-wide", "silicon", "--latitudes", "20:40:20", "--longitudes",
+               "0:0:1", "--period", "day:2026-06-21", "--points", "3", "--workers", "1", "-q"],
 }
 
 
