@@ -130,7 +130,7 @@ def region(
     _say(f"AM1.5G-optimal design: {first['am15g_front_gap_eV']:.3f} eV, "
          f"{first['am15g_front_thickness_nm']:.0f} nm (its energy at each site: the 'AM1.5G design 2T' column)",
          f"computed {len(s['computed'])} sites, resumed {len(s['resumed'])}; "
-         f"{s['seconds_per_site']:.2f} s per site-year in a worker")
+         f"{s['seconds_per_site']:.2f} s per site in a worker")
     err.print(f"wrote {escape(str(folder))}/ (sites/, region.nc, region.csv, region.png)")
     out.print(f"[dim]{escape(tandem.CAUTION)} Clear skies have no clouds.[/]")
 
