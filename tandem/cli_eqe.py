@@ -7,8 +7,9 @@ from typing import Annotated, Optional
 from rich.markup import escape
 
 import tandem
-from tandem.cli_options import (Json, Overwrite, Plot, _emit_json, _floats, _light, _operating,
-                                _opt, _say, _table, _thickness, _write_plot, check_outputs, out)
+from tandem.cli_options import (Json, Overwrite, Plot, _argument, _emit_json, _floats, _light,
+                                _operating, _opt, _say, _table, _thickness, _write_plot,
+                                check_outputs, out)
 
 
 def eqe(front: Annotated[str, _argument("Front subcell's EQE: CSV of wavelength nm, EQE "
@@ -84,9 +85,3 @@ def eqe(front: Annotated[str, _argument("Front subcell's EQE: CSV of wavelength 
     _say(*lines, *[f"note: {n}" for n in s["notes"]],
          f"spectrum: {s['spectrum']}; cell {s['temperature_K']:g} K")
     out.print(f"[dim]{escape(tandem.CAUTION)}[/]")
-
-
-def _argument(text: str):
-    import typer
-
-    return typer.Argument(help=text, show_default=False)

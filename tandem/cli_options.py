@@ -78,6 +78,11 @@ SHARED = ("spectrum", "concentration", "sun_temperature", "irradiance", "tempera
           "interlayer_parasitic", "outside_range")
 
 
+def _argument(text: str):
+    """A positional argument with its help and no shown default."""
+    return typer.Argument(help=text, show_default=False)
+
+
 def _light(o: dict) -> tandem.Light:
     return tandem.Light(source=o["spectrum"], concentration=o["concentration"],
                         sun_temperature_K=o["sun_temperature"], irradiance_W_m2=o["irradiance"])

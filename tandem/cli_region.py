@@ -8,8 +8,8 @@ from typing import Annotated, Optional
 from rich.markup import escape
 
 import tandem
-from tandem.cli_options import (Json, Quiet, _callback, _emit_json, _light, _operating, _opt,
-                                _progress, _range, _say, _table, _thickness, err, out)
+from tandem.cli_options import (Json, Quiet, _argument, _callback, _emit_json, _light, _operating,
+                                _opt, _progress, _range, _say, _table, _thickness, err, out)
 from tandem.errors import TandemInputError
 
 
@@ -133,12 +133,6 @@ def region(
          f"{s['seconds_per_site']:.2f} s per site in a worker")
     err.print(f"wrote {escape(str(folder))}/ (sites/, region.nc, region.csv, region.png)")
     out.print(f"[dim]{escape(tandem.CAUTION)} Clear skies have no clouds.[/]")
-
-
-def _argument(text: str):
-    import typer
-
-    return typer.Argument(help=text, show_default=False)
 
 
 def _axis(text: str, option: str) -> tuple[float, float, float]:

@@ -114,6 +114,7 @@ class LimitResult:
         1.0
         """
         from .breakdown import loss_breakdown
+        from .detailed_balance import step_photocurrent
 
         d = self.design
         flux = (self.light or Light()).photon_flux()
@@ -123,7 +124,8 @@ class LimitResult:
         upper = np.append(np.inf, gaps[:-1])
         bands = np.array([(e >= g) & (e < u) for g, u in zip(gaps, upper)], dtype=float)
         # step absorbers: every photon in the band, times the share the losses leave
-        full = np.array([db_photocurrent(flux, g, u) for g, u in zip(gaps, upper)])
+        full = np.array([float(step_photocurrent(flux, g, None if np.isinf(u) else u))
+                         for g, u in zip(gaps, upper)])
         eqe = bands * (np.asarray(perf.j_light) / full)[:, None]
         return loss_breakdown(e, flux.flux, flux.irradiance, eqe, gaps, perf, d.temperature_K,
                               d.terminals, d.electrical, _blackbody(self.light))
@@ -174,15 +176,6 @@ def limit(gaps: Sequence[float], light: Light = Light(),
         gaps, flux, operating.terminals, operating.temperature_K, operating.ere or (1.0,),
         operating.ideality, operating.electrical, operating.front_index,
         share[: len(gaps)] if len(gaps) == 2 else share[:1]), light)
-
-
-def db_photocurrent(flux, lo: float, hi: float = np.inf) -> float:
-    """q × photons between lo and hi [A/m²] (exact on the piecewise-linear spectrum)."""
-    from . import detailed_balance as db
-
-    above = db.flux_above(flux.energy, flux.flux, np.array([lo, hi if np.isfinite(hi) else
-                                                            flux.energy[-1] + 1.0]))
-    return float(db.Q * (above[0] - above[1]))
 
 
 def _blackbody(light) -> tuple[float, float] | None:
