@@ -16,40 +16,41 @@ __version__ = "0.2.0"
 #: public name -> module that defines it
 _WHERE = {
     # inputs and jobs
-    "Light": "inputs", "OperatingPoint": "inputs", "Sweep": "inputs",
-    "limit": "workflows", "match": "workflows", "gap_map": "workflows",
-    "energy_yield": "workflows", "fabrication_spread": "workflows",
-    "LimitResult": "workflows", "MatchStudy": "workflows", "MapResult": "workflows",
-    "YieldResult": "workflows", "SpreadResult": "workflows",
-    "match_stack": "workflows", "StackMatchResult": "workflows",
-    "measured_eqe": "workflows", "EQEResult": "workflows",
-    "LayerStack": "layerstack", "load_stack": "layerstack", "bundled_stacks": "layerstack",
+    "Light": "jobs.inputs", "OperatingPoint": "jobs.inputs", "Sweep": "jobs.inputs",
+    "limit": "jobs.limit", "match": "jobs.match", "gap_map": "jobs.gap_map",
+    "energy_yield": "jobs.energy_yield", "fabrication_spread": "jobs.spread",
+    "LimitResult": "jobs.limit", "MatchStudy": "jobs.match", "MapResult": "jobs.gap_map",
+    "YieldResult": "jobs.energy_yield", "SpreadResult": "jobs.spread",
+    "match_stack": "jobs.stack_match", "StackMatchResult": "jobs.stack_match",
+    "measured_eqe": "jobs.eqe", "EQEResult": "jobs.eqe",
+    "LayerStack": "design.layerstack", "load_stack": "design.layerstack", "bundled_stacks": "design.layerstack",
     # absorbers, sites and spectra
-    "Absorber": "absorbers", "bundled_absorbers": "absorbers", "load_absorber": "absorbers",
-    "parse_absorber": "absorbers",
-    "Site": "sky", "clear_sky_series": "sky", "weather_series": "sky", "folder_series": "sky",
-    "parse_period": "sky", "SpectralSeries": "sky",
-    "PhotonFlux": "spectra", "Spectrum": "spectra", "blackbody_sun": "spectra",
-    "load_spectrum": "spectra", "read_spectrum_csv": "spectra", "reference_spectrum": "spectra",
-    "scaled_to_irradiance": "spectra",
+    "Absorber": "optics.absorbers", "bundled_absorbers": "optics.absorber_files", "load_absorber": "optics.absorber_files",
+    "parse_absorber": "optics.absorber_files",
+    "Site": "design.sky", "clear_sky_series": "design.sky", "weather_series": "design.weather", "folder_series": "design.weather",
+    "parse_period": "design.sky", "SpectralSeries": "design.sky",
+    "PhotonFlux": "physics.spectra", "Spectrum": "physics.spectra", "blackbody_sun": "physics.spectra",
+    "load_spectrum": "physics.spectra", "read_spectrum_csv": "physics.spectra", "reference_spectrum": "physics.spectra",
+    "scaled_to_irradiance": "physics.spectra",
     # physics underneath
-    "blackbody_photon_flux": "detailed_balance", "cumulative_flux": "detailed_balance",
-    "dark_current": "detailed_balance", "diode_current": "detailed_balance",
-    "diode_voltage": "detailed_balance", "flux_above": "detailed_balance",
-    "nonradiative_saturation_current": "detailed_balance",
-    "open_circuit_voltage": "detailed_balance", "photocurrent": "detailed_balance",
-    "radiative_dark_current": "detailed_balance", "series_mpp": "detailed_balance",
-    "series_voltage": "detailed_balance", "single_junction_mpp": "detailed_balance",
-    "step_photocurrent": "detailed_balance", "step_radiative_dark_current": "detailed_balance",
-    "two_diode_mpp": "detailed_balance", "two_diode_voltage": "detailed_balance",
-    "DesignResult": "stack", "Electrical": "stack", "StackPerformance": "stack",
-    "detailed_balance_limit": "stack", "evaluate_stack": "stack", "step_stack": "stack",
+    "blackbody_photon_flux": "physics.detailed_balance", "cumulative_flux": "physics.detailed_balance",
+    "dark_current": "physics.detailed_balance", "diode_current": "physics.detailed_balance",
+    "diode_voltage": "physics.detailed_balance", "flux_above": "physics.detailed_balance",
+    "nonradiative_saturation_current": "physics.detailed_balance",
+    "open_circuit_voltage": "physics.detailed_balance", "photocurrent": "physics.detailed_balance",
+    "radiative_dark_current": "physics.detailed_balance", "series_mpp": "physics.detailed_balance",
+    "series_voltage": "physics.detailed_balance", "single_junction_mpp": "physics.detailed_balance",
+    "step_photocurrent": "physics.detailed_balance", "step_radiative_dark_current": "physics.detailed_balance",
+    "two_diode_mpp": "physics.detailed_balance", "two_diode_voltage": "physics.detailed_balance",
+    "DesignResult": "physics.limit", "Electrical": "physics.stack", "StackPerformance": "physics.stack",
+    "detailed_balance_limit": "physics.limit", "evaluate_stack": "physics.stack", "step_stack": "physics.stack",
     # reporting
-    "CAUTION": "report", "absorber_summary": "report", "design_summary": "report",
-    "match_summary": "report",
-    "TandemInputError": "errors",
+    "CAUTION": "output.report", "absorber_summary": "output.report", "design_summary": "output.report",
+    "match_summary": "output.report",
+    "TandemInputError": "core.errors",
 }
-_MODULES = ("maps", "stack", "units", "workflows", "study", "sky", "plots", "design")
+#: the layer packages, loaded on first use
+_MODULES = ("core", "physics", "optics", "design", "output", "jobs", "study", "cli")
 
 __all__ = sorted(_WHERE) + ["__version__"]
 

@@ -1,4 +1,4 @@
 """``python -m tandem …``: the same command line as ``tandem``."""
-from .cli import main
+from tandem.cli import main
 
 main()

@@ -28,15 +28,15 @@ def dense_yield(design, series, gaps, thicknesses, back_thickness_nm):
     """The yield the direct way [kWh/m², 2T, (n_g, n_d)]: dense spectra of every step and J0 at
     each step's own temperature, with the tool's bins and optics but no reduced basis and no
     J0 interpolation."""
-    from tandem import detailed_balance as db
-    from tandem.design import Conditions, evaluate_design, stack_integrands
-    from tandem.spectra import _to_energy, trapezoid_weights
-    from tandem.units import HC_EV_NM, Q
-    from tandem.yields import _bins
+    from tandem.physics import detailed_balance as db
+    from tandem.design.matching import Conditions, evaluate_design, stack_integrands
+    from tandem.physics.spectra import to_energy, trapezoid_weights
+    from tandem.core.units import HC_EV_NM, Q
+    from tandem.design.yields import _bins
 
     energy = series.energy
     grid = np.sort(HC_EV_NM / energy)
-    dense = _to_energy(grid, np.stack([np.interp(grid, series.wavelength_nm, r)
+    dense = to_energy(grid, np.stack([np.interp(grid, series.wavelength_nm, r)
                                        for r in series.irradiance]))[1]
     w = trapezoid_weights(energy) * Q
     e2 = np.zeros((len(gaps), len(thicknesses)))

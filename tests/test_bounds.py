@@ -17,10 +17,12 @@ from hypothesis import assume, given
 from hypothesis import strategies as st
 
 import tandem
-from tandem import detailed_balance as db
-from tandem.design import Conditions, StackDesign, stack_light, stack_performance
-from tandem.stack import Electrical
-from tandem.units import Q
+import tandem.core.units
+import tandem.physics.checks
+from tandem.physics import detailed_balance as db
+from tandem.design.matching import Conditions, StackDesign, stack_light, stack_performance
+from tandem.physics.stack import Electrical
+from tandem.core.units import Q
 
 from references import global_4t_limit
 
@@ -71,12 +73,12 @@ def test_step_stacks_stay_inside_the_radiative_limit(gaps, ere_f, ere_b, idealit
     # coupled back cell is pumped into the degenerate regime (qV within kT of Eg), which the
     # design functions refuse (test_thermodynamics) rather than print
     assert np.all(perf.voc < np.array(gaps))
-    kt = tandem.units.K_B_EV * temperature
+    kt = tandem.core.units.K_B_EV * temperature
     if electrical.coupling == 0:
         assert np.all(perf.v_2t_sub < np.array(gaps))
     elif np.any(perf.v_2t_sub > np.array(gaps) - kt):
         with pytest.raises(tandem.TandemInputError, match="within kT of its gap"):
-            tandem.stack.check_boltzmann_regime(perf, np.array(gaps), temperature, ["front", "back"])
+            tandem.physics.checks.check_boltzmann_regime(perf, np.array(gaps), temperature, ["front", "back"])
     # (c) without resistances, series never beats independent operation
     if not electrical.resistive:
         assert perf.p_2t <= perf.p_4t * (1 + RTOL)

@@ -7,8 +7,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import tandem
-from tandem.stack import Electrical
-from tandem.units import K_B_EV, SUN_DILUTION
+from tandem.physics.stack import Electrical
+from tandem.core.units import K_B_EV, SUN_DILUTION
 
 BB = tandem.Light(source="blackbody", sun_temperature_K=6000.0)
 

@@ -6,10 +6,11 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from tandem.cli import app
+import tandem.core.files
+from tandem.cli.app import app
 
 runner = CliRunner()
-CDTE = (tandem.files.bundled_dir("absorbers") / "cdte.toml").read_text()
+CDTE = (tandem.core.files.bundled_dir("absorbers") / "cdte.toml").read_text()
 
 
 def run(*args):

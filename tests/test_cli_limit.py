@@ -5,7 +5,7 @@ import json
 import pytest
 from typer.testing import CliRunner
 
-from tandem.cli import app
+from tandem.cli.app import app
 
 runner = CliRunner()
 

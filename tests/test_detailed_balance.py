@@ -12,7 +12,8 @@ import pytest
 from scipy import integrate, optimize
 
 import tandem
-from tandem.units import K_B_EV, SUN_DILUTION
+import tandem.core.units
+from tandem.core.units import K_B_EV, SUN_DILUTION
 
 
 def best_single_junction(flux, gaps, temperature=300.0):
@@ -53,7 +54,7 @@ def test_step_dark_current_matches_quadrature(gap):
     # Reference: scipy.integrate.quad of the blackbody photon flux (general-purpose library).
     ref, _ = integrate.quad(lambda e: tandem.blackbody_photon_flux(e, 300.0), gap, gap + 3.0,
                             epsabs=0, epsrel=1e-12, limit=200)
-    got = tandem.step_radiative_dark_current(gap, 300.0) / tandem.units.Q
+    got = tandem.step_radiative_dark_current(gap, 300.0) / tandem.core.units.Q
     assert got == pytest.approx(ref, rel=1e-9)
 
 
@@ -68,7 +69,7 @@ def test_photocurrent_of_step_array_agrees_with_cumulative(am15g):
     # A gap on a grid point: the partial-interval integral reduces to numpy's trapezoid
     # over the points above the gap.
     i = 1000
-    on_grid = tandem.units.Q * np.trapezoid(am15g.flux[i:], am15g.energy[i:])
+    on_grid = tandem.core.units.Q * np.trapezoid(am15g.flux[i:], am15g.energy[i:])
     assert float(tandem.step_photocurrent(am15g, am15g.energy[i])) == pytest.approx(on_grid, rel=1e-12)
     # Between grid points, the general photocurrent of a step array on a refined grid agrees.
     gap = 0.5 * (am15g.energy[i] + am15g.energy[i + 1])
@@ -125,7 +126,7 @@ def test_two_equals_four_terminal_when_currents_match(am15g):
 
 def test_photocurrent_never_exceeds_incident_photons(pair_grid, am15g):
     perf, _, _ = pair_grid
-    incident = tandem.units.Q * np.trapezoid(am15g.flux, am15g.energy)
+    incident = tandem.core.units.Q * np.trapezoid(am15g.flux, am15g.energy)
     assert np.all(perf.j_light.sum(-1) <= incident * (1 + 1e-12))
 
 

@@ -7,7 +7,8 @@ import pytest
 from scipy import optimize
 
 import tandem
-from tandem.stack import Electrical
+import tandem.core.units
+from tandem.physics.stack import Electrical
 
 T = 300.0
 
@@ -33,7 +34,7 @@ def test_single_junction_with_resistances_matches_implicit_solution(am15g):
     rs_cm2, rsh_cm2 = 2.0, 500.0
     perf = step(am15g, (1.34,), Electrical(0.0, rs_cm2, rsh_cm2))
     jl, j0 = float(perf.j_light[0]), float(perf.j0[0])
-    vt, rs, rsh = tandem.units.K_B_EV * T, rs_cm2 * 1e-4, rsh_cm2 * 1e-4
+    vt, rs, rsh = tandem.core.units.K_B_EV * T, rs_cm2 * 1e-4, rsh_cm2 * 1e-4
 
     def current(v):
         f = lambda j: jl - j0 * math.expm1((v + j * rs) / vt) - (v + j * rs) / rsh - j
@@ -81,7 +82,7 @@ def test_rear_emission_costs_kt_ln_one_plus_n_squared(am15g):
         rear = tandem.step_stack(am15g, np.array([1.73, 1.12]), T, 1.0, 1.0,
                                  Electrical(rear_emission=True), front_index=n)
         drop = float(plain.voc[0] - rear.voc[0])
-        assert drop == pytest.approx(tandem.units.K_B_EV * T * math.log(1 + n * n), rel=1e-6)
+        assert drop == pytest.approx(tandem.core.units.K_B_EV * T * math.log(1 + n * n), rel=1e-6)
         assert rear.voc[1] == plain.voc[1]
 
 

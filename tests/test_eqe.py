@@ -8,9 +8,9 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from tandem.cli import app
-from tandem.eqe import MeasuredEQE, photocurrent, read_eqe, subcell_from_eqe
-from tandem.units import HC_EV_NM, K_B_EV
+from tandem.cli.app import app
+from tandem.design.eqe import MeasuredEQE, photocurrent, read_eqe, subcell_from_eqe
+from tandem.core.units import HC_EV_NM, K_B_EV
 
 
 @pytest.fixture(scope="module")
@@ -49,8 +49,8 @@ def test_a_tabulated_silicon_eqe_gives_the_optics_path_current(am15g, tmp_path):
     path = tmp_path / "si.csv"
     np.savetxt(path, np.c_[HC_EV_NM / e, a], delimiter=",", header="wavelength_nm,eqe",
                comments="", fmt="%.10g")
-    from tandem.spectra import trapezoid_weights
-    from tandem.units import Q
+    from tandem.physics.spectra import trapezoid_weights
+    from tandem.core.units import Q
 
     optics = Q * np.sum(trapezoid_weights(e) * a * am15g.flux)
     assert photocurrent(am15g, read_eqe(path)) == pytest.approx(optics, rel=1e-4)
@@ -92,7 +92,7 @@ def demo_files(folder, front_nm=480.0):
 
 
 def test_the_thickness_that_would_match(tmp_path, am15g):
-    from tandem.eqe import scaled_to_thickness, transmitted_to_back
+    from tandem.design.eqe import scaled_to_thickness, transmitted_to_back
 
     front, back = demo_files(tmp_path)
     r = tandem.measured_eqe(front, back, front_absorber="perovskite-wide", front_thickness_nm=480.0)

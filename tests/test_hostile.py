@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 from typer.testing import CliRunner
 
-from tandem.cli import app
+from tandem.cli.app import app
 
 runner = CliRunner()
 ROOT = Path(__file__).resolve().parents[1]

@@ -8,8 +8,8 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from tandem.cli import app
-from tandem.maps import gap_axis, step_gap_map, tolerance_window
+from tandem.cli.app import app
+from tandem.design.maps import gap_axis, step_gap_map, tolerance_window
 
 
 @pytest.fixture(scope="module")
@@ -121,7 +121,7 @@ def test_map_bad_input(tmp_path, args, message):
 
 def test_map_by_axis_equals_pair_by_pair(am15g):
     # consistency: per-gap quantities computed once per axis give the per-pair engine's numbers
-    from tandem.maps import step_gap_map
+    from tandem.design.maps import step_gap_map
 
     fg, bg = np.linspace(1.5, 2.2, 15), np.linspace(0.8, 1.4, 13)
     m = step_gap_map(am15g, fg, bg, 300.0, ere=(0.01, 0.1))

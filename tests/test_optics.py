@@ -6,8 +6,10 @@ import numpy as np
 import pytest
 
 import tandem
-from tandem.design import Conditions, StackDesign, match_currents, stack_performance
-from tandem.optics import LayerOptics, absorptance, collection_efficiency, stack_optics
+import tandem.core.units
+import tandem.optics.absorptance
+from tandem.design.matching import Conditions, StackDesign, match_currents, stack_performance
+from tandem.optics.absorptance import LayerOptics, absorptance, collection_efficiency, stack_optics
 
 
 def test_lambertian_weak_absorption_gives_4n2_path():
@@ -68,7 +70,7 @@ def test_currents_never_exceed_incident_photons(pvk_si, am15g):
     design, cond = pvk_si
     d = np.geomspace(50, 5000, 40)
     perf = stack_performance(design, cond, 1.68, d, 160e3)
-    incident = tandem.units.Q * np.trapezoid(am15g.flux, am15g.energy)
+    incident = tandem.core.units.Q * np.trapezoid(am15g.flux, am15g.energy)
     assert np.all(perf.j_light.sum(-1) <= incident)
 
 
@@ -95,7 +97,7 @@ def test_no_match_is_explained(pvk_si):
 def strong_absorber(key, gap, trapping):
     """A thick, strongly absorbing, loss-free edge: the step absorber's optical limit."""
     base = tandem.load_absorber("cdte")
-    edge = tandem.optics.ParametricEdge("direct", 0.0005, 1e7, 1e8)
+    edge = tandem.optics.absorptance.ParametricEdge("direct", 0.0005, 1e7, 1e8)
     return dataclasses.replace(base, key=key, gap_eV=gap, edge=edge, ere=1.0,
                                light_trapping=trapping, collection_length_nm=None,
                                thickness_range_nm=(1e3, 1e5))
@@ -143,7 +145,7 @@ def test_collection_efficiency_limits():
 @pytest.mark.parametrize("front_key", ["perovskite-wide", "organic-wide"])  # without/with L_c
 def test_fast_currents_equal_integrated_eqe(am15g, front_key):
     # the matrix-product path must equal integrating the full EQE arrays of stack_optics
-    from tandem.design import stack_light, subcell_currents
+    from tandem.design.matching import stack_light, subcell_currents
 
     e = am15g.energy
     design = StackDesign(tandem.load_absorber(front_key), tandem.load_absorber("silicon"),

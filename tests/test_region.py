@@ -12,12 +12,13 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from tandem.cli import app
-from tandem.design import StackDesign
-from tandem.inputs import OperatingPoint
-from tandem.region import RegionJob, read_sites, run_region, write_region_outputs
-from tandem.sky import Rows, clear_sky_series, parse_period, weather_frame_series, weather_series
-from tandem.yields import hourly, yield_sweep
+from tandem.cli.app import app
+from tandem.design.matching import StackDesign
+from tandem.jobs.inputs import OperatingPoint
+from tandem.jobs.region import RegionJob, read_sites, run_region, write_region_outputs
+from tandem.design.sky import Rows, clear_sky_series, parse_period
+from tandem.design.weather import weather_frame_series, weather_series
+from tandem.design.yields import hourly, yield_sweep
 
 SITES = """name,latitude,longitude,altitude_m,timezone,weather
 Mesa Verdeja,35.2,-106.4,1650,Etc/GMT+7,
@@ -124,7 +125,7 @@ def test_weather_file_insolation_equals_pvlib_plane_of_array_total():
 def test_a_pvlib_location_is_a_site():
     from pvlib.location import Location
 
-    from tandem.sky import site_from_location
+    from tandem.design.sky import site_from_location
 
     site = site_from_location(Location(35.2, -106.4, "Etc/GMT+7", 1650, "field"), tilt_deg=35.0)
     assert (site.name, site.altitude_m, site.timezone, site.tilt_deg) == ("field", 1650.0,

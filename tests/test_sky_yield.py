@@ -8,13 +8,14 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from tandem.cli import app
-from tandem.design import Conditions, StackDesign, stack_performance
-from tandem.scatter import scatter
-from tandem.sky import (G173_AEROSOL_500NM, G173_OZONE_ATM_CM, G173_WATER_CM, Site, SpectralSeries,
-                        clear_sky_series, common_grid, parse_period, spectrl2_poa, weather_series)
-from tandem.spectra import Spectrum
-from tandem.yields import hourly, yield_sweep
+import tandem.core.units
+from tandem.cli.app import app
+from tandem.design.matching import Conditions, StackDesign, stack_performance
+from tandem.design.scatter import scatter
+from tandem.design.sky import G173_AEROSOL_500NM, G173_OZONE_ATM_CM, G173_WATER_CM, Site, SpectralSeries, clear_sky_series, common_grid, parse_period, spectrl2_poa
+from tandem.design.weather import weather_series
+from tandem.physics.spectra import Spectrum
+from tandem.design.yields import hourly, yield_sweep
 
 runner = CliRunner()
 
@@ -88,7 +89,7 @@ def test_gap_temperature_coefficients_follow_their_sources():
     varshni = -4.73e-4 * (t**2 + 2 * 636 * t) / (t + 636) ** 2
     assert si.gap_shift_eV(t + 1.0) == pytest.approx(varshni, rel=0.1)
     assert si.gap_shift_eV(350.0) < 0  # silicon's gap narrows as it warms
-    e = tandem.units.HC_EV_NM / 1100.0
+    e = tandem.core.units.HC_EV_NM / 1100.0
     assert si.alpha(e, shift_eV=si.gap_shift_eV(350.0)) > si.alpha(e)  # so it absorbs more red
     # lead-halide perovskite gaps widen on warming (recalled, see the absorber's sources)
     assert tandem.load_absorber("perovskite-wide").gap_shift_eV(330.0) > 0
@@ -204,8 +205,8 @@ def test_scatter_cli(tmp_path):
 def test_reduced_basis_bound_holds_for_any_absorptance(summer_day):
     """The Cauchy–Schwarz bound |ΔJ| ≤ q (Σw)^½ ‖ΔΦ‖_w (any inner-product space) holds
     for random absorptances at a deliberately loose tolerance, and is tight enough to matter."""
-    from tandem.sky import reduced_basis
-    from tandem.spectra import trapezoid_weights
+    from tandem.design.sky import reduced_basis
+    from tandem.physics.spectra import trapezoid_weights
 
     full = summer_day.photon_basis(0.0)
     dense = full.rows()
@@ -222,21 +223,21 @@ def test_reduced_basis_bound_holds_for_any_absorptance(summer_day):
 
 def _flux_factors(series):
     """The series' factors on its photon-energy grid: (k, nE) flux basis."""
-    from tandem.spectra import _to_energy
+    from tandem.physics.spectra import to_energy
 
     energy = series.energy
-    grid = np.sort(tandem.units.HC_EV_NM / energy)
+    grid = np.sort(tandem.core.units.HC_EV_NM / energy)
     rows = np.stack([np.interp(grid, series.wavelength_nm, b) for b in series.basis])
-    return _to_energy(grid, rows)[1]
+    return to_energy(grid, rows)[1]
 
 
 def _dense_fluxes(series):
     """Every step's photon flux formed directly from its dense spectrum, on the same grid."""
-    from tandem.spectra import _to_energy
+    from tandem.physics.spectra import to_energy
 
-    grid = np.sort(tandem.units.HC_EV_NM / series.energy)
+    grid = np.sort(tandem.core.units.HC_EV_NM / series.energy)
     rows = np.stack([np.interp(grid, series.wavelength_nm, r) for r in series.irradiance])
-    return _to_energy(grid, rows)[1]
+    return to_energy(grid, rows)[1]
 
 
 def test_yield_in_the_basis_equals_the_full_per_step_calculation(pvk_si, summer_day, am15g):

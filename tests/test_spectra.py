@@ -5,7 +5,7 @@ import pytest
 from scipy import constants
 
 import tandem
-from tandem.units import HC_EV_NM, Q, SUN_DILUTION
+from tandem.core.units import HC_EV_NM, Q, SUN_DILUTION
 
 
 # ASTM G173-03: the standard's own totals on its grid (trapezoid), as stated in the standard.

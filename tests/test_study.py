@@ -9,8 +9,10 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from tandem.cli import app
-from tandem.study import bundled_scenarios, load_scenario, run_study, study_rows_equal, write_study
+from tandem.cli.app import app
+from tandem.study.sources import bundled_scenarios, load_scenario
+from tandem.study.run import run_study
+from tandem.study.folders import study_rows_equal, write_study
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -180,7 +182,9 @@ def test_default_study_runs_from_the_cli(tmp_path):
 def test_variants_add_one_column_group_each_equal_to_a_run_under_that_variant(tmp_path):
     """A [[variants]] entry gives the same best design as the scenario rewritten with that
     change (consistency), in its own column group."""
-    from tandem.study import columns, load_scenario, run_study
+    from tandem.study.tables import columns
+    from tandem.study.sources import load_scenario
+    from tandem.study.run import run_study
 
     text = (ROOT / "scenarios" / "thin-film-silicon-pair.toml").read_text()
     text = text.replace("thickness_points = 80", "thickness_points = 20")
@@ -206,7 +210,7 @@ def test_variants_add_one_column_group_each_equal_to_a_run_under_that_variant(tm
     ('name = "50C"', 'name = "50C"\ncolour = "red"'),
 ])
 def test_bad_variants_are_one_line(change, message, tmp_path):
-    from tandem.study import load_scenario
+    from tandem.study.sources import load_scenario
 
     text = (ROOT / "scenarios" / "thin-film-silicon-pair.toml").read_text()
     path = tmp_path / "bad.toml"

@@ -15,10 +15,13 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from tandem.cli import app
-from tandem import files
-from tandem.study import (load_scenario, manifest_checksum, run_study, study_rows_equal,
-                          write_study)
+import tandem.study.folders
+from tandem.cli.app import app
+from tandem.core import files
+from tandem.study.sources import load_scenario
+from tandem.study.scenario import manifest_checksum
+from tandem.study.run import run_study
+from tandem.study.folders import study_rows_equal, write_study
 
 runner = CliRunner()
 ROOT = Path(__file__).resolve().parents[1]
@@ -328,7 +331,7 @@ def test_a_full_disk_during_writing_is_one_line_and_leaves_nothing(tmp_path, mon
     def full(*args, **kwargs):
         raise OSError(errno.ENOSPC, "No space left on device", "design-table.md")
 
-    monkeypatch.setattr("tandem.study.markdown_table", full)
+    monkeypatch.setattr("tandem.study.folders.markdown_table", full)
     err = one_line_exit_2(cli("study", scen, "--out", tmp_path / "o", "-q"))
     assert "No space left on device" in err
     assert not (tmp_path / "o").exists() and not list(tmp_path.glob(".o.tandem-*"))

@@ -11,11 +11,13 @@ import pytest
 from typer.testing import CliRunner
 
 import tandem
-from tandem.cli import app
-from tandem import detailed_balance as db
-from tandem.design import Conditions, StackDesign, operating_gaps, stack_performance
-from tandem.sky import STANDARD_SITE, _g173_global, _mean_distance_factor, anchored_poa, standard_zenith_deg
-from tandem.units import HC_EV_NM, K_B_EV, Q
+import tandem.core.units
+import tandem.design.maps
+from tandem.cli.app import app
+from tandem.physics import detailed_balance as db
+from tandem.design.matching import Conditions, StackDesign, operating_gaps, stack_performance
+from tandem.design.sky import STANDARD_SITE, _g173_global, _mean_distance_factor, anchored_poa, standard_zenith_deg
+from tandem.core.units import HC_EV_NM, K_B_EV, Q
 
 runner = CliRunner()
 
@@ -95,7 +97,7 @@ def test_match_reports_the_shifted_currents_at_338_k():
 
 def test_every_command_shifts_gaps_the_same_way(am15g):
     # the optics-lite path (match, map, study, spread) and the yield path share one shift
-    from tandem.design import subcell_currents
+    from tandem.design.matching import subcell_currents
     design = StackDesign(tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon"))
     hot = Conditions(am15g, 338.15)
     j_hot = subcell_currents(design, hot, 1.70, 600.0, 160e3)[0]
@@ -174,14 +176,14 @@ def test_a_back_cell_pumped_to_its_gap_is_refused():
     # a 0.5 eV back under a fully coupled 3 eV front at 1000 blackbody suns would be driven
     # into degeneracy; the Boltzmann diode cannot describe it, so the limit says so
     flux = tandem.blackbody_sun(6000.0, 1000.0).photon_flux()
-    from tandem.stack import Electrical
+    from tandem.physics.stack import Electrical
     with pytest.raises(tandem.TandemInputError, match="within kT of its gap"):
         tandem.detailed_balance_limit([3.0, 0.5], flux, 2, 250.0,
                                       electrical=Electrical(1.0, 1.0), front_index=2.0)
     # at full concentration even a single junction's Boltzmann Voc passes its gap (1.145 V at
     # 1.1 eV): refused, never printed
-    full = tandem.blackbody_sun(6000.0, 1 / tandem.units.SUN_DILUTION).photon_flux()
+    full = tandem.blackbody_sun(6000.0, 1 / tandem.core.units.SUN_DILUTION).photon_flux()
     with pytest.raises(tandem.TandemInputError, match="within kT of its gap"):
         tandem.detailed_balance_limit([1.1], full, temperature_K=300.0)
-    gap_map = tandem.maps.step_gap_map(full, np.array([1.8, 2.0]), np.array([1.0, 1.1]), 300.0)
+    gap_map = tandem.design.maps.step_gap_map(full, np.array([1.8, 2.0]), np.array([1.0, 1.1]), 300.0)
     assert np.all(np.isnan(gap_map.voc_2t) | (gap_map.voc_2t < 2.8))

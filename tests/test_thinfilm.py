@@ -10,11 +10,11 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import tandem
-from tandem.design import Conditions, StackDesign, subcell_currents
-from tandem.layerstack import (LayerStack, StackLayer, budget_currents, database_index,
+from tandem.design.matching import Conditions, StackDesign, subcell_currents
+from tandem.design.layerstack import (LayerStack, StackLayer, budget_currents, database_index,
                                load_stack, match_in_stack, photon_budget)
-from tandem.thinfilm import Layer, stack_optics
-from tandem.units import HC_EV_NM
+from tandem.optics.thinfilm import Layer, stack_optics
+from tandem.core.units import HC_EV_NM
 
 from references import global_4t_limit
 
@@ -210,8 +210,8 @@ def test_stack_results_stay_inside_physics(extra_n, extra_k, extra_d, front_d, t
     total = budget.front + budget.back + budget.reflected + budget.transmitted + sum(
         budget.parasitic.values())
     np.testing.assert_allclose(total, 1.0, rtol=0, atol=1e-12)
-    from tandem.layerstack import _evaluate
-    from tandem.stack import IDEAL
+    from tandem.design.layerstack import _evaluate
+    from tandem.physics.stack import IDEAL
 
     perf, _, _ = _evaluate(stack, budget, flux, temperature, 1.0, IDEAL)
     assert perf.efficiency_2t[0] <= perf.efficiency_4t[0] * (1 + 1e-9)

@@ -1,12 +1,12 @@
-"""The constants written out in tandem.units are scipy's CODATA 2018 values (validation against
+"""The constants written out in tandem.core.units are scipy's CODATA 2018 values (validation against
 a general-purpose library), and the ASTM G173-03 table read directly is pvlib's."""
 
 import numpy as np
 import pytest
 from scipy import constants
 
-from tandem import units
-from tandem.spectra import _astm_g173
+from tandem.core import units
+from tandem.physics.spectra import astm_g173_table
 
 
 def test_constants_are_codata_2018():
@@ -23,7 +23,7 @@ def test_g173_read_directly_equals_pvlib():
     import pvlib
 
     ref = pvlib.spectrum.get_reference_spectra(standard="ASTM G173-03")
-    ours = _astm_g173()
+    ours = astm_g173_table()
     np.testing.assert_array_equal(ours["wavelength"], ref.index.to_numpy(dtype=float))
     for column in ("extraterrestrial", "global", "direct"):
         np.testing.assert_array_equal(ours[column], ref[column].to_numpy(dtype=float))

@@ -31,11 +31,11 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # tests/: the shared references
 
 import tandem  # noqa: E402
-from tandem import detailed_balance as db  # noqa: E402
-from tandem.design import Conditions, StackDesign, stack_performance  # noqa: E402
-from tandem.maps import step_gap_map  # noqa: E402
-from tandem.optics import LayerOptics, stack_optics  # noqa: E402
-from tandem.units import Q  # noqa: E402
+from tandem.physics import detailed_balance as db  # noqa: E402
+from tandem.design.matching import Conditions, StackDesign, stack_performance  # noqa: E402
+from tandem.design.maps import step_gap_map  # noqa: E402
+from tandem.optics.absorptance import LayerOptics, stack_optics  # noqa: E402
+from tandem.core.units import HC_EV_NM, Q  # noqa: E402
 from references import dense_yield  # noqa: E402
 
 T_CELL = 300.0
@@ -248,8 +248,8 @@ def case_e():
           "on 160 um silicon")
     import multiprocessing
 
-    from tandem.workflows import site_series
-    from tandem.yields import yield_sweep
+    from tandem.jobs.energy_yield import site_series
+    from tandem.design.yields import yield_sweep
 
     design = optics_setup()
     reference = tandem.reference_spectrum("am1.5g").photon_flux()
@@ -289,7 +289,7 @@ def case_f(rng):
           "matrix method, the wafer behind), 200 perovskite thicknesses")
     from threadpoolctl import threadpool_limits
 
-    from tandem.layerstack import load_stack, photon_budget
+    from tandem.design.layerstack import load_stack, photon_budget
 
     stack = load_stack("wide-gap-on-silicon-wafer")
     energy = tandem.reference_spectrum("am1.5g").photon_flux().energy
@@ -302,9 +302,9 @@ def case_f(rng):
     except ImportError:
         print("  (tmm not installed: no reference comparison)")
         return
-    from tandem.thinfilm import Layer, stack_optics
+    from tandem.optics.thinfilm import Layer, stack_optics
 
-    wl = tandem.units.HC_EV_NM / energy
+    wl = HC_EV_NM / energy
     films = [x for x in stack.layers if not x.ends_stack]
     idx = [x.index(energy) for x in films]
     exit_index = stack.back.index(energy)
@@ -331,8 +331,8 @@ def case_g():
     print("(g) a region: 24 clear-sky sites, a year at 60 min each, 11 gaps x 16 thicknesses")
     import tempfile
 
-    from tandem.inputs import OperatingPoint
-    from tandem.region import RegionJob, grid_sites, run_region
+    from tandem.jobs.inputs import OperatingPoint
+    from tandem.jobs.region import RegionJob, grid_sites, run_region
 
     design = optics_setup()
     job = RegionJob(design.front, design.back, OperatingPoint(),

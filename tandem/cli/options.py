@@ -1,0 +1,333 @@
+"""The command line's shared options, declared once, and the helpers that map them to inputs.
+
+Every computing command takes the same light and operating options (:func:`shared` adds them);
+the builders turn them into :class:`~tandem.jobs.inputs.Light` and
+:class:`~tandem.jobs.inputs.OperatingPoint`, where they are validated.
+"""
+
+from __future__ import annotations
+
+import functools
+import json
+import math
+import sys
+from typing import Annotated, Optional
+
+import typer
+from rich.console import Console
+from rich.markup import escape
+from rich.table import Table
+
+import tandem
+from tandem.core.errors import TandemInputError
+
+# A terminal gets tables that fit its width; piped output is never cut (no width limit).
+out = Console(width=None if sys.stdout.isatty() else 100_000)
+err = Console(stderr=True, width=None if sys.stderr.isatty() else 100_000)
+
+# --------------------------------------------------------------------------------------
+# Options declared once
+# --------------------------------------------------------------------------------------
+
+def plain_option(*names, **kw):
+    """An option whose metavar is a plain word (never '<str>' or 'list[float]')."""
+    kw.setdefault("metavar", "VALUE")
+    return typer.Option(*names, **kw)
+
+
+Spectrum = Annotated[str, plain_option("--spectrum", "-s", help="am1.5g, am1.5d, am0, blackbody, or a CSV "
+                               "file (wavelength nm, W m^-2 nm^-1).")]
+Concentration = Annotated[float, plain_option(help="Suns of concentration (blackbody: up to about 46,200).")]
+SunTemperature = Annotated[float, plain_option(help="Blackbody sun temperature in K.")]
+Irradiance = Annotated[Optional[float], plain_option(help="Rescale the spectrum to this many W/m^2 "
+                                             "(reported).")]
+Temperature = Annotated[Optional[str], plain_option(help="Cell temperature with its unit, e.g. 298.15K or "
+                                            "25C (default 25C; yield: the SAPM model per step).",
+                                            metavar="TEMP")]
+OutsideRange = Annotated[bool, plain_option("--outside-range", help="Accept gaps and thicknesses outside the "
+                                    "absorbers' declared ranges (reported).")]
+Terminals = Annotated[int, plain_option("--terminals", "-t", help="2 (series, one current) or 4 "
+                                "(independent); ranks designs.")]
+Ere = Annotated[Optional[str], plain_option(help="External radiative efficiency in (0, 1]: one value or "
+                                    "front,back; overrides the absorbers' own.")]
+Ideality = Annotated[float, plain_option(help="Ideality of the non-radiative diode (radiative is n = 1).")]
+Coupling = Annotated[float, plain_option(help="Luminescent coupling: share of the front's emission towards "
+                                 "the back that the back collects (implies --rear-emission).")]
+RearEmission = Annotated[bool, plain_option("--rear-emission", help="Count the front's emission towards "
+                                    "the back (n^2 x front face) as a loss.")]
+FrontIndex = Annotated[float, plain_option(help="Refractive index of a step-absorber front (rear emission).")]
+Series = Annotated[float, plain_option(help="Series resistance in ohm cm^2.")]
+Shunt = Annotated[float, plain_option(help="Shunt resistance in ohm cm^2 (inf: none).")]
+Reflectance = Annotated[str, plain_option(help="Front reflectance: a fraction, or a CSV of wavelength nm, "
+                                  "fraction.")]
+FrontParasitic = Annotated[str, plain_option(help="Absorbed in the front contact: fraction or CSV.")]
+InterParasitic = Annotated[str, plain_option(help="Absorbed between the subcells: fraction or CSV.")]
+Json = Annotated[bool, plain_option("--json", help="Print one JSON object on stdout only.")]
+Quiet = Annotated[bool, plain_option("--quiet", "-q", help="No progress bar.")]
+Losses = Annotated[Optional[str], plain_option(help="Write the loss-breakdown waterfall to FILE (PNG or "
+                                       "SVG) and print its table.", metavar="FILE")]
+Overwrite = Annotated[bool, plain_option(help="Replace outputs this command wrote before.")]
+Wide = Annotated[bool, plain_option("--wide", help="Show every column, however wide the table.")]
+Large = Annotated[bool, plain_option("--large", help="Run even if the estimate is over 10 minutes or 2 GiB.")]
+Plot = Annotated[Optional[str], plain_option(help="Write the figure to this PNG or SVG file.")]
+
+#: the shared option names (a test checks every computing command takes all of them)
+SHARED = ("spectrum", "concentration", "sun_temperature", "irradiance", "temperature",
+          "terminals", "ere", "ideality", "coupling", "rear_emission", "front_index",
+          "series_resistance", "shunt_resistance", "reflectance", "front_parasitic",
+          "interlayer_parasitic", "outside_range")
+
+
+def argument(text: str):
+    """A positional argument with its help and no shown default."""
+    return typer.Argument(help=text, show_default=False)
+
+
+def build_light(o: dict) -> tandem.Light:
+    return tandem.Light(source=o["spectrum"], concentration=o["concentration"],
+                        sun_temperature_K=o["sun_temperature"], irradiance_W_m2=o["irradiance"])
+
+
+def build_operating(o: dict, temperature_default: float = 298.15) -> tandem.OperatingPoint:
+    from tandem.physics.stack import Electrical
+
+    from tandem.jobs.inputs import parse_temperature
+
+    t = temperature_default if o["temperature"] is None else parse_temperature(o["temperature"])
+    return tandem.OperatingPoint(
+        temperature_K=t, terminals=o["terminals"], ideality=o["ideality"],
+        ere=None if o["ere"] is None else parse_floats(o["ere"], "--ere"),
+        electrical=Electrical(o["coupling"], o["series_resistance"], o["shunt_resistance"],
+                              o["rear_emission"]),
+        front_index=o["front_index"], reflectance=o["reflectance"],
+        front_parasitic=o["front_parasitic"], interlayer_parasitic=o["interlayer_parasitic"],
+        allow_outside_range=o["outside_range"])
+
+
+def shared(command):
+    """Give ``command`` the shared light and operating options (declared once, above)."""
+    import inspect
+
+    defaults = {"spectrum": (Spectrum, "am1.5g"), "concentration": (Concentration, 1.0),
+                "sun_temperature": (SunTemperature, 6000.0), "irradiance": (Irradiance, None),
+                "temperature": (Temperature, None), "terminals": (Terminals, 2),
+                "ere": (Ere, None), "ideality": (Ideality, 1.0), "coupling": (Coupling, 0.0),
+                "rear_emission": (RearEmission, False), "front_index": (FrontIndex, 3.5),
+                "series_resistance": (Series, 0.0), "shunt_resistance": (Shunt, math.inf),
+                "reflectance": (Reflectance, "0"), "front_parasitic": (FrontParasitic, "0"),
+                "interlayer_parasitic": (InterParasitic, "0"),
+                "outside_range": (OutsideRange, False)}
+    sig = inspect.signature(command, eval_str=True)  # typer reads __signature__ as it stands
+    own = [p for p in sig.parameters.values() if p.name != "o"]
+    extra = [inspect.Parameter(k, inspect.Parameter.KEYWORD_ONLY, annotation=a, default=d)
+             for k, (a, d) in defaults.items()]
+
+    @functools.wraps(command)
+    def wrapper(*args, **kwargs):
+        o = {k: kwargs.pop(k) for k in SHARED}
+        return command(*args, o=o, **kwargs)
+
+    wrapper.__signature__ = sig.replace(parameters=[
+        p.replace(kind=inspect.Parameter.KEYWORD_ONLY) for p in own] + extra)
+    return wrapper
+
+
+def parse_floats(text: str, option: str) -> tuple[float, ...]:
+    try:
+        return tuple(float(x) for x in str(text).split(",") if x.strip())
+    except ValueError:
+        raise TandemInputError(f"{option} '{text}': give numbers separated by commas, e.g. "
+                               "0.01,0.001") from None
+
+
+def parse_thickness(text: str, option: str) -> float:
+    """'500', '500nm', '160um' or '160µm' → nm."""
+    t, scale = text.strip().lower().replace("µ", "u"), 1.0
+    if t.endswith("um"):
+        t, scale = t[:-2], 1000.0
+    elif t.endswith("nm"):
+        t = t[:-2]
+    try:
+        value = float(t) * scale
+    except ValueError:
+        raise TandemInputError(f"{option} '{text}': give a thickness such as 500nm or 160um") from None
+    if not (value > 0 and math.isfinite(value)):
+        raise TandemInputError(f"{option} '{text}': a thickness must be positive")
+    return value
+
+
+def parse_range(text: str, option: str, parse=float) -> tuple:
+    parts = text.split(":")
+    if len(parts) not in (2, 3):
+        raise TandemInputError(f"{option} '{text}': give low:high or low:high:step")
+    try:
+        return tuple(parse(p) for p in parts)
+    except ValueError:
+        raise TandemInputError(f"{option} '{text}': give numbers as low:high or low:high:step") from None
+
+
+def parse_gap_option(text, option, default_step=0.02):
+    if text is None:
+        return None
+    if ":" not in text:
+        g = parse_floats(text, option)[0]
+        return (g, g, 1.0)
+    lo, hi, *step = parse_range(text, option)
+    return (lo, hi, step[0] if step else default_step)
+
+
+
+def progress_bar(quiet: bool, label: str):
+    from contextlib import nullcontext
+
+    if quiet:
+        return nullcontext(None)
+    from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
+
+    return Progress(TextColumn(label), BarColumn(), TextColumn("{task.completed}/{task.total}"),
+                    TimeRemainingColumn(), console=err, transient=True)
+
+
+def progress_callback(bar):
+    if bar is None:
+        return None
+    task = bar.add_task("sweep", total=None)
+    return lambda done, total: bar.update(task, completed=done, total=total)
+
+
+def render_table(title, columns, rows, caption=None, wide: bool = False) -> Table:
+    """A rich table from (heading, function of a row[, optional]) columns; text is never markup.
+
+    Optional columns are dropped, last first, and headings broken onto two lines, until the
+    table fits the terminal, unless ``wide`` or the output is not a terminal (piped output
+    keeps every column); cells are never cut (they fold if nothing else helps).
+    """
+    cells = [[escape(str(c[1](row))) for c in columns] for row in rows]
+    headings = [c[0] for c in columns]
+    keep = list(range(len(columns)))
+
+    def need(i, heads):
+        return max([max(len(x) for x in heads[i].split("\n"))] + [len(r[i]) for r in cells])
+
+    def width(idx, heads):
+        return sum(need(i, heads) + 3 for i in idx) + 1
+
+    fits = True
+    if not (wide or not out.is_terminal):
+        optional = [i for i, c in enumerate(columns) if len(c) > 2 and c[2]]
+        while width(keep, headings) > out.width and optional:
+            keep.remove(optional.pop())
+        if width(keep, headings) > out.width:
+            headings = [h.replace(" ", "\n", 1) for h in headings]
+        fits = width(keep, headings) <= out.width
+    dropped = len(columns) - len(keep)
+    note = f"{dropped} more column{'s' if dropped > 1 else ''} with --wide" if dropped else None
+    table = Table(title=escape(title), title_justify="left",
+                  caption="; ".join(x for x in (caption, note) if x) or None)
+    for i in keep:  # fold, never cut: a number or a name is printed whole
+        table.add_column(headings[i], justify="right", overflow="fold",
+                         min_width=need(i, headings) if fits else None)
+    for r in cells:
+        table.add_row(*[r[i] for i in keep])
+    return table
+
+
+
+def field_text(key, fmt="{:.2f}", none="—"):
+    return lambda r: none if r.get(key) is None else fmt.format(r[key])
+
+
+def emit_json(payload: dict) -> None:
+    try:
+        text = json.dumps(payload, indent=2, allow_nan=False, ensure_ascii=False)
+    except ValueError:
+        raise TandemInputError("the result holds a number that is not finite; please report "
+                               "the command that produced it") from None
+    sys.stdout.write(text + "\n")
+
+
+def say(*lines) -> None:
+    for line in lines:  # a terminal wraps at words; piped output keeps each line whole
+        out.print(escape(line), highlight=False, soft_wrap=not out.is_terminal)
+
+
+def write_plot(result, path, overwrite):
+    from tandem.output.plots import save_figure
+
+    err.print(f"wrote {escape(str(save_figure(result.plot(), path, overwrite)))}")
+
+
+PLOT_SUFFIXES = (".png", ".svg", ".pdf")
+
+
+def check_outputs(paths, overwrite: bool, plot: bool = False) -> None:
+    """Every output checked before any computation: its folder exists and takes files, it
+    does not exist yet (or --overwrite), its name is not too long, a figure has a known type."""
+    from pathlib import Path
+
+    from tandem.core.files import check_new_output, check_output_folder
+
+    for p in paths:
+        if p is None:
+            continue
+        path = Path(p)
+        if not path.name or path.name in (".", ".."):
+            raise TandemInputError(f"output '{p}': give a file name")
+        if plot and path.suffix.lower() not in PLOT_SUFFIXES:
+            raise TandemInputError(f"figure '{p}': give a .png, .svg or .pdf file name")
+        check_output_folder(path)
+        check_new_output(path, overwrite)
+
+
+def energy_text(kwh: float) -> str:
+    """An energy with digits enough for the period: Wh/m² below 10 kWh/m²."""
+    return f"{1000 * kwh:.0f} Wh/m²" if abs(kwh) < 10 else f"{kwh:.1f} kWh/m²"
+
+
+def friendly(command):
+    """Library input errors and file-system faults: one line on stderr, exit code 2."""
+
+    @functools.wraps(command)
+    def wrapper(*args, **kwargs):
+        try:
+            return command(*args, **kwargs)
+        except TandemInputError as exc:
+            err.print(f"[bold red]error:[/] {escape(str(exc))}", highlight=False, soft_wrap=True)
+        except OSError as exc:  # a full disk, a read-only place, a file-size limit, a closed pipe
+            where = f" '{exc.filename}'" if getattr(exc, "filename", None) else ""
+            try:
+                err.print(f"[bold red]error:[/] cannot write{escape(where)}: "
+                          f"{escape(exc.strerror or str(exc))}", highlight=False, soft_wrap=True)
+            except OSError:
+                pass
+        raise typer.Exit(2)
+
+    return wrapper
+
+
+def run_app(app) -> None:
+    """Run the typer app so that usage errors are one line (exit 2) and Ctrl-C is exit 130."""
+    try:  # typer ≥ 0.24 carries its own copy of click, whether or not click is installed
+        from typer import _click as click
+    except ImportError:
+        import click
+
+    try:
+        code = typer.main.get_command(app).main(prog_name="tandem", standalone_mode=False)
+    except click.exceptions.UsageError as exc:
+        hint = f" (see 'tandem {exc.ctx.info_name} --help')" if exc.ctx and exc.ctx.parent else ""
+        err.print(f"[bold red]error:[/] {escape(exc.format_message())}{hint}", highlight=False,
+                  soft_wrap=True)
+        sys.exit(2)
+    except (KeyboardInterrupt, getattr(click.exceptions, "Abort", KeyboardInterrupt)):
+        err.print("interrupted")
+        sys.exit(130)
+    sys.exit(code if isinstance(code, int) else 0)
+
+
+def design_columns(columns=None):
+    """Terminal (heading, cell, optional) triples of the design-table columns shown."""
+    if columns is None:
+        from tandem.output.report import DESIGN_COLUMNS as columns
+    return [(c.short, field_text(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"),
+             not c.compact) for c in columns if c.terminal]

@@ -1,0 +1,142 @@
+"""`tandem region`: the energy-optimal design across many sites (parse, call, render)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Optional
+
+from rich.markup import escape
+
+import tandem
+from tandem.cli.options import (Json, Quiet, argument, progress_callback, emit_json, build_light, build_operating,
+                                plain_option, progress_bar, parse_range, say, render_table, parse_thickness, err, out)
+from tandem.core.errors import TandemInputError
+
+
+def region(
+        front: Annotated[str, argument("Front absorber.")],
+        back: Annotated[str, argument("Back absorber.")],
+        sites: Annotated[Optional[str], plain_option(help="CSV of sites: name, latitude, longitude"
+                                             "[, altitude_m, timezone, weather]; or demo-sites.")] = None,
+        latitudes: Annotated[Optional[str], plain_option(help="Clear-sky grid instead of a site list: "
+                                                 "LO:HI:STEP in °.")] = None,
+        longitudes: Annotated[Optional[str], plain_option(help="With --latitudes: LO:HI:STEP in °.")] = None,
+        period: Annotated[str, plain_option(help="year:YYYY, month:YYYY-MM or day:YYYY-MM-DD.")] = "year:2026",
+        step: Annotated[float, plain_option(help="Time step of clear-sky sites in minutes.")] = 60.0,
+        tilt: Annotated[str, plain_option(help="Module tilt in °, or 'latitude' (facing the equator).")] = "latitude",
+        albedo: Annotated[float, plain_option(help="Ground albedo.")] = 0.2,
+        front_gaps: Annotated[Optional[str], plain_option(help="Front gaps LO:HI:STEP in eV.")] = None,
+        points: Annotated[int, plain_option(help="Front thicknesses in the sweep.")] = 16,
+        back_thickness: Annotated[Optional[str], plain_option(help="Back thickness, e.g. 160um.")] = None,
+        bifacial: Annotated[bool, plain_option(help="Also bifacial rows: rear light on the back subcell.")] = False,
+        gcr: Annotated[float, plain_option(help="Bifacial rows: ground coverage ratio.")] = 0.4,
+        row_height: Annotated[float, plain_option(help="Bifacial rows: module height above ground in m.")] = 1.5,
+        pitch: Annotated[float, plain_option(help="Bifacial rows: row pitch in m.")] = 5.0,
+        bifaciality: Annotated[float, plain_option(help="Share of rear light reaching the cells.")] = 1.0,
+        workers: Annotated[Optional[int], plain_option(help="Processes of a local dask cluster (default: "
+                                               "the cores); 1 runs in this process.")] = None,
+        scheduler: Annotated[Optional[str], plain_option(help="Address of an existing dask scheduler, "
+                                                 "e.g. tcp://10.0.0.5:8786.")] = None,
+        out_folder: Annotated[Optional[str], plain_option("--out", help="Region folder (default: "
+                                                  "region-<sites>).")] = None,
+        grids: Annotated[bool, plain_option(help="Keep every site's gap × thickness energy grid in "
+                                    "region.nc.")] = False,
+        overwrite: Annotated[bool, plain_option(help="Replace a region folder tandem wrote for other "
+                                        "inputs.")] = False,
+        quiet: Quiet = False, json_out: Json = False, *, o):
+    """Energy-optimal front gap and thickness at many sites, on a dask cluster.
+
+    Each site's year is one task; an interrupted run resumes where it stopped. Examples:
+
+      tandem region perovskite-wide silicon --sites sites.csv
+
+      tandem region perovskite-wide silicon --latitudes 0:60:10 --longitudes 0:0:1 --bifacial
+
+      tandem region perovskite-wide silicon --sites sites.csv --scheduler tcp://10.0.0.5:8786
+    """
+    import numpy as np
+
+    from tandem.jobs.region import RegionJob, grid_sites, read_sites, run_region, write_region_outputs
+    from tandem.design.sky import Rows
+
+    if (sites is None) == (latitudes is None):
+        raise TandemInputError("give --sites FILE, or --latitudes and --longitudes (not both)")
+    if sites is not None:
+        from tandem.core.files import bundled_dir
+
+        bundled = bundled_dir("scenarios") / f"{sites}.csv"  # a bundled list by name
+        specs = read_sites(bundled if not Path(sites).exists() and bundled.is_file() else sites)
+        default = f"region-{Path(sites).stem}"
+    else:
+        if longitudes is None:
+            raise TandemInputError("--latitudes needs --longitudes LO:HI:STEP")
+        specs = grid_sites(_axis(latitudes, "--latitudes"), _axis(longitudes, "--longitudes"))
+        default = "region-grid"
+    if workers is not None and not 1 <= workers <= 1024:
+        raise TandemInputError(f"--workers {workers}: give 1 to 1024")
+    if tilt != "latitude":
+        try:
+            float(tilt)
+        except ValueError:
+            raise TandemInputError(f"--tilt '{tilt}': give degrees or 'latitude'") from None
+        if not 0 <= float(tilt) <= 90:
+            raise TandemInputError(f"--tilt {tilt}: give 0 to 90 degrees")
+    if not 0 <= albedo <= 1:
+        raise TandemInputError(f"--albedo {albedo:g}: give a fraction from 0 to 1")
+    if not 2 <= points <= 100:
+        raise TandemInputError(f"--points {points}: give 2 to 100")
+    operating = build_operating(o)
+    a_front, a_back = tandem.load_absorber(front), tandem.load_absorber(back)
+    if front_gaps:
+        lo, hi, *st = parse_range(front_gaps, "--front-gaps")
+        gaps = tandem.design.maps.gap_axis(lo, hi, st[0] if st else 0.02, "--front-gaps")
+    elif a_front.tunable:
+        lo, hi = a_front.gap_range_eV
+        gaps = np.linspace(max(lo, a_back.gap_eV + 0.3), hi, 11)
+    else:
+        gaps = np.array([a_front.gap_eV])
+    for g in gaps:
+        a_front.check_gap(float(g), operating.allow_outside_range)
+    back_d = parse_thickness(back_thickness, "--back-thickness") if back_thickness else a_back.thickness_nm
+    a_back.check_thickness(back_d, "back thickness", operating.allow_outside_range)
+    tandem.parse_period(period, "UTC", step)
+    job = RegionJob(a_front, a_back, operating, tuple(map(float, gaps)),
+                    tuple(np.geomspace(*a_front.thickness_range_nm, points)), back_d, period,
+                    step, tilt, albedo, Rows(gcr, row_height, pitch, bifaciality) if bifacial
+                    else None, build_light(o), None if o["temperature"] is None
+                    else operating.temperature_K)
+    folder = Path(out_folder or default)
+    with progress_bar(quiet or json_out, "sites") as bar:
+        result = run_region(specs, job, folder, scheduler, workers, progress_callback(bar), overwrite)
+    written = write_region_outputs(result, grids)
+    s = result.summary()
+    s["outputs"] = [str(p) for p in written]
+    if json_out:
+        return emit_json(s)
+    cols = [("site", lambda r: r["name"]), ("lat °", lambda r: f"{r['latitude']:.1f}"),
+            ("gap eV", lambda r: f"{r['front_gap_eV']:.3f}"),
+            ("front nm", lambda r: f"{r['front_thickness_nm']:.0f}"),
+            ("2T kWh/m²", lambda r: f"{r['energy_2t_kWh_m2']:.1f}"),
+            ("4T kWh/m²", lambda r: f"{r['energy_4t_kWh_m2']:.1f}"),
+            ("mismatch kWh/m²", lambda r: f"{r['mismatch_loss_kWh_m2']:.1f}"),
+            ("AM1.5G design 2T", lambda r: f"{r['am15g_design_energy_2t_kWh_m2']:.1f}")]
+    if bifacial:
+        cols += [("bifacial gap eV", lambda r: f"{r['bifacial_front_gap_eV']:.3f}"),
+                 ("bifacial nm", lambda r: f"{r['bifacial_front_thickness_nm']:.0f}"),
+                 ("bifacial 2T", lambda r: f"{r['bifacial_energy_2t_kWh_m2']:.1f}")]
+    out.print(render_table(f"Energy-optimal {a_front.key} over {a_back.key}, {len(specs)} sites",
+                     cols, s["sites"], "energies per m² of module over the period"))
+    first = s["sites"][0]
+    say(f"AM1.5G-optimal design: {first['am15g_front_gap_eV']:.3f} eV, "
+         f"{first['am15g_front_thickness_nm']:.0f} nm (its energy at each site: the 'AM1.5G design 2T' column)",
+         f"computed {len(s['computed'])} sites, resumed {len(s['resumed'])}; "
+         f"{s['seconds_per_site']:.2f} s per site in a worker")
+    err.print(f"wrote {escape(str(folder))}/ (sites/, region.nc, region.csv, region.png)")
+    out.print(f"[dim]{escape(tandem.CAUTION)} Clear skies have no clouds.[/]")
+
+
+def _axis(text: str, option: str) -> tuple[float, float, float]:
+    values = parse_range(text, option)
+    if len(values) != 3:
+        raise TandemInputError(f"{option} '{text}': give LO:HI:STEP in degrees")
+    return tuple(values)

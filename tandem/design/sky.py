@@ -1,0 +1,512 @@
+"""Spectra under real skies: sites, SPECTRL2 clear skies anchored to ASTM G173-03, the series.
+
+Every source gives a :class:`SpectralSeries`: plane-of-array spectral irradiance on one
+common wavelength grid (the ASTM G173-03 points from 300 to 4000 nm, so that absorptances
+are computed once for all time steps) and the cell temperature at each step. Weather files
+and measured spectra are read in :mod:`tandem.design.weather`.
+
+References
+----------
+R. Bird, C. Riordan, SERI/TR-215-2436 (1984) (SPECTRL2), via pvlib.spectrum.spectrl2.
+D. L. King, W. E. Boyson, J. A. Kratochvil, SAND2004-3535 (2004) (SAPM cell temperature),
+via pvlib.temperature.sapm_cell.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import re
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from tandem.core.errors import TandemInputError
+from tandem.physics.spectra import (
+    astm_g173_table,
+    to_energy,
+    conserving_grid,
+    trapezoid_weights,
+)
+
+#: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
+
+#: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
+G173_AEROSOL_500NM = 0.084  #: aerosol optical depth at 500 nm [-]
+G173_WATER_CM = 1.4164  #: precipitable water [cm]
+G173_OZONE_ATM_CM = 0.3438  #: ozone [atm-cm]
+SAPM_MOUNT = "open_rack_glass_glass"
+
+
+@dataclass(frozen=True)
+class Site:
+    """Where and how the module stands, and the clear-sky atmosphere.
+
+    Angles in degrees; azimuth clockwise from north (180 = facing south); altitude [m].
+
+    Examples
+    --------
+    >>> from tandem import Site
+    >>> Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1').tilt_deg
+    30.0
+    """
+
+    name: str = "site"
+    latitude: float = 40.0
+    longitude: float = -105.0
+    altitude_m: float = 0.0
+    tilt_deg: float = 30.0
+    azimuth_deg: float = 180.0
+    timezone: str = "UTC"
+    albedo: float = 0.2
+    aerosol_turbidity_500nm: float = G173_AEROSOL_500NM
+    precipitable_water_cm: float = G173_WATER_CM
+    ozone_atm_cm: float = G173_OZONE_ATM_CM
+    ambient_temperature_C: float = 20.0  #: used when no weather file gives it
+    wind_speed_m_s: float = 1.0  #: likewise
+
+    def __post_init__(self):
+        checks = [
+            ("latitude", self.latitude, -90, 90, "degrees north, -90 to 90"),
+            ("longitude", self.longitude, -180, 180, "degrees east, -180 to 180"),
+            ("altitude_m", self.altitude_m, -500, 9000, "metres above sea level"),
+            ("tilt_deg", self.tilt_deg, 0, 90, "degrees from horizontal, 0 to 90"),
+            ("azimuth_deg", self.azimuth_deg, 0, 360, "degrees clockwise from north, 0 to 360"),
+            ("albedo", self.albedo, 0, 1, "a fraction"),
+            ("aerosol_turbidity_500nm", self.aerosol_turbidity_500nm, 0, 5, "an optical depth"),
+            ("precipitable_water_cm", self.precipitable_water_cm, 0, 10, "cm of water"),
+            ("ozone_atm_cm", self.ozone_atm_cm, 0, 1, "atm-cm"),
+            ("ambient_temperature_C", self.ambient_temperature_C, -60, 60, "°C"),
+            ("wind_speed_m_s", self.wind_speed_m_s, 0, 60, "m/s"),
+        ]
+        for name, value, lo, hi, unit in checks:
+            if not (isinstance(value, (int, float)) and math.isfinite(value) and lo <= value <= hi):
+                raise TandemInputError(f"site {name} = {value!r} is out of range; give {unit}")
+        try:
+            pd.Timestamp("2026-01-01", tz=self.timezone)
+        except Exception:
+            raise TandemInputError(f"site timezone '{self.timezone}' is unknown; give an IANA name "
+                                   "such as 'Europe/Madrid' or 'Etc/GMT+7', or 'UTC'") from None
+
+
+@dataclass(frozen=True)
+class Rows:
+    """Rows of bifacial modules for the rear light (pvlib's infinite-sheds view-factor model).
+
+    Examples
+    --------
+    >>> from tandem.design.sky import Rows
+    >>> Rows(gcr=0.4, height_m=1.5, pitch_m=5.0).bifaciality
+    1.0
+    """
+
+    gcr: float = 0.4  #: ground coverage ratio: module slant length / row pitch [-]
+    height_m: float = 1.5  #: height of the module centre above the ground [m]
+    pitch_m: float = 5.0  #: distance between rows [m]
+    bifaciality: float = 1.0  #: share of the rear light reaching the cells (rear grid, frame)
+
+    def __post_init__(self):
+        for name, value, lo, hi in (("gcr", self.gcr, 0.01, 0.99), ("height_m", self.height_m, 0.0, 50.0),
+                                    ("pitch_m", self.pitch_m, 0.1, 100.0),
+                                    ("bifaciality", self.bifaciality, 0.0, 1.0)):
+            if not (isinstance(value, (int, float)) and math.isfinite(value) and lo <= value <= hi):
+                raise TandemInputError(f"bifacial rows: {name} = {value!r} is out of range; give "
+                                       f"{lo:g} to {hi:g}")
+
+
+def rear_ratio(site: Site, rows: Rows, pos, ghi, dni, dhi) -> np.ndarray:
+    """Rear-to-front plane-of-array irradiance of each step (pvlib.bifacial.infinite_sheds,
+    isotropic sky; Mikofski et al., IEEE PVSC 2019), times the rows' bifaciality.
+
+    The rear light takes the front spectrum's shape (an approximation: ground-reflected light
+    is the global spectrum times the ground's spectral albedo, taken as flat).
+    """
+    from pvlib.bifacial import infinite_sheds
+
+    out = infinite_sheds.get_irradiance(
+        surface_tilt=site.tilt_deg, surface_azimuth=site.azimuth_deg,
+        solar_zenith=pos["apparent_zenith"].to_numpy(), solar_azimuth=pos["azimuth"].to_numpy(),
+        gcr=rows.gcr, height=rows.height_m, pitch=rows.pitch_m, ghi=np.asarray(ghi, float),
+        dhi=np.asarray(dhi, float), dni=np.asarray(dni, float), albedo=site.albedo)
+    front, back = (np.nan_to_num(np.asarray(out[k], float)) for k in ("poa_front", "poa_back"))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return rows.bifaciality * np.where(front > 0, back / np.where(front > 0, front, 1.0), 0.0)
+
+
+def site_from_location(location, **settings) -> Site:
+    """Our :class:`Site` from a ``pvlib.location.Location`` (name, latitude, longitude,
+    altitude, time zone), with any other site settings as keywords."""
+    return Site(name=location.name or "site", latitude=float(location.latitude),
+                longitude=float(location.longitude), altitude_m=float(location.altitude or 0.0),
+                timezone=str(location.tz), **settings)
+
+
+@dataclass(frozen=True)
+class FluxBasis:
+    """Photon fluxes of a series in a reduced basis: Φ(t, E) ≈ coefficients(t) · basis.
+
+    The basis is orthonormal in the trapezoid-weighted inner product on ``energy``, so the
+    dropped part of each step is measured in the norm that photocurrents see. For any
+    absorptance 0 ≤ a(E) ≤ 1, Cauchy–Schwarz bounds the photocurrent error of a step by
+    ``bound`` times the step's whole photocurrent on the grid:
+    |ΔJ_t| ≤ q · (Σ w)^½ · ‖ΔΦ_t‖_w  (w: trapezoid weights).
+
+    The coefficients are not stored: each step's are its series factors times
+    ``projection``, formed for the steps in use (about 1 kB per step stays held).
+    """
+
+    energy: np.ndarray  #: (nE,) ascending [eV]
+    factors: np.ndarray  #: (n_t, k) the series' own coefficients
+    projection: np.ndarray  #: (k, r)
+    basis: np.ndarray  #: (r, nE) [m⁻² s⁻¹ eV⁻¹ per unit coefficient]
+    bound: float  #: the largest relative photocurrent error bound over the steps
+
+    @property
+    def rank(self) -> int:
+        return int(self.basis.shape[0])
+
+    def coefficients(self, idx=slice(None)) -> np.ndarray:
+        """(n, r) coordinates of steps ``idx`` in the basis."""
+        return self.factors[idx] @ self.projection
+
+    def rows(self, idx=slice(None)) -> np.ndarray:
+        """Dense fluxes of steps ``idx`` (n, nE) [m⁻² s⁻¹ eV⁻¹]: for small selections only."""
+        return self.coefficients(idx) @ self.basis
+
+
+#: Default photocurrent error bound of the reduced basis (relative, per step).
+BASIS_TOLERANCE = 1e-9
+
+
+def reduced_basis(energy, coefficients, basis, tolerance: float = BASIS_TOLERANCE) -> FluxBasis:
+    """The smallest orthonormal basis whose per-step photocurrent bound is ≤ ``tolerance``.
+
+    ``coefficients @ basis`` (n_t × k, k × nE) are the fluxes; k is small (SPECTRL2's 122
+    wavelengths), so the dense matrix is never formed: a QR factorisation of the
+    coefficients and an SVD of the k × nE core give the truncated SVD exactly (Golub & Van
+    Loan, Matrix Computations, 4th ed., §2.4 and §5.2).
+    """
+    sw = np.sqrt(trapezoid_weights(energy))
+    weighted = basis * sw
+    q, r = np.linalg.qr(np.asarray(coefficients, dtype=float))
+    u, s, vt = np.linalg.svd(r @ weighted, full_matrices=False)
+    coeff = q @ (u * s)  # (n_t, k): rows' coordinates in the orthonormal basis vt
+    total = coeff @ (vt @ sw)  # Σ w Φ_t: each step's photons on the grid
+    # tail[:, m] = ‖Φ_t − first m terms‖_w, as a share of the step's photocurrent
+    tail = np.sqrt(np.cumsum((coeff**2)[:, ::-1], axis=1)[:, ::-1])
+    tail = np.append(tail, np.zeros((tail.shape[0], 1)), axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        worst = np.max(np.where(total[:, None] > 0, np.linalg.norm(sw) * tail / total[:, None],
+                                0.0), axis=0)
+    rank = max(int(np.argmax(worst <= tolerance)), 1)
+    return FluxBasis(energy, coefficients, weighted @ vt[:rank].T, vt[:rank] / sw,
+                     float(worst[rank]))
+
+
+@dataclass(frozen=True)
+class SpectralSeries:
+    """Plane-of-array spectra over time on one wavelength grid, held as factors.
+
+    The spectra are ``coefficients @ basis`` (n_t × k, k × n_wl): SPECTRL2 skies are linear
+    in its 122 wavelengths, so a year at 15-minute steps needs about 1 kB per step instead of
+    16 kB. :meth:`from_spectra` factorises dense spectra (measured folders, tests).
+
+    Examples
+    --------
+    >>> from tandem import Site, clear_sky_series, parse_period
+    >>> site = Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1')
+    >>> series = clear_sky_series(site, parse_period('day:2026-06-21', site.timezone, 60))
+    >>> 5 < series.insolation_kWh_m2 < 10
+    True
+    """
+
+    times: pd.DatetimeIndex  #: middle of each step
+    wavelength_nm: np.ndarray  #: (n_wl,)
+    coefficients: np.ndarray  #: (n_t, k)
+    basis: np.ndarray  #: (k, n_wl) [W m⁻² nm⁻¹ per unit coefficient]
+    cell_temperature_K: np.ndarray  #: (n_t,)
+    step_hours: np.ndarray  #: (n_t,) duration each spectrum stands for [h]
+    source: str
+    notes: tuple[str, ...] = field(default=())
+    #: rear-to-front plane-of-array irradiance of each step (bifacial rows), or None
+    rear_ratio: np.ndarray | None = None
+    #: share of the rear face open to light (and so to emission): the rows' bifaciality
+    bifaciality: float = 0.0
+
+    @classmethod
+    def from_spectra(cls, times, wavelength_nm, irradiance, cell_temperature_K, step_hours,
+                     source: str, notes: tuple[str, ...] = ()) -> "SpectralSeries":
+        """A series from dense spectra (n_t, n_wl) [W m⁻² nm⁻¹], factorised exactly (SVD)."""
+        irradiance = np.asarray(irradiance, dtype=float)
+        u, s, vt = np.linalg.svd(irradiance, full_matrices=False)
+        keep = max(int(np.sum(s > s[0] * 1e-15)), 1) if s.size and s[0] > 0 else 1
+        return cls(times, np.asarray(wavelength_nm, float), u[:, :keep] * s[:keep], vt[:keep],
+                   np.asarray(cell_temperature_K, float), np.asarray(step_hours, float),
+                   source, tuple(notes))
+
+    @property
+    def irradiance(self) -> np.ndarray:
+        """Dense spectra (n_t, n_wl) [W m⁻² nm⁻¹], formed on demand (16 kB per step)."""
+        return self.coefficients @ self.basis
+
+    def photon_basis(self, tolerance: float = BASIS_TOLERANCE) -> FluxBasis:
+        """Photon fluxes on one energy grid in a reduced basis (:func:`reduced_basis`).
+
+        The grid is refined (:func:`~tandem.physics.spectra.conserving_grid`) so that the
+        time-weighted mean spectrum keeps its photons and power.
+        """
+        cache = self.__dict__.setdefault("_bases", {})  # the series is frozen: compute once
+        if tolerance not in cache:
+            weights = self.step_hours / max(float(np.sum(self.step_hours)), 1e-300)
+            grid = conserving_grid(self.wavelength_nm, (weights @ self.coefficients) @ self.basis)
+            rows = self.basis if grid.size == self.wavelength_nm.size else \
+                np.stack([np.interp(grid, self.wavelength_nm, b) for b in self.basis])
+            energy, flux_basis = to_energy(grid, rows)
+            cache[tolerance] = reduced_basis(energy, self.coefficients, flux_basis, tolerance)
+        return cache[tolerance]
+
+    @property
+    def energy(self) -> np.ndarray:
+        """The photon-energy grid of :meth:`photon_basis` [eV]."""
+        return self.photon_basis().energy
+
+    @property
+    def step_irradiance(self) -> np.ndarray:
+        """Plane-of-array irradiance of each step [W/m²] (computed once)."""
+        cached = self.__dict__.get("_step_irradiance")
+        if cached is None:
+            cached = self.coefficients @ np.trapezoid(self.basis, self.wavelength_nm, axis=-1)
+            object.__setattr__(self, "_step_irradiance", cached)
+        return cached
+
+    @property
+    def insolation_kWh_m2(self) -> float:
+        return float(np.sum(self.step_irradiance * self.step_hours) / 1000.0)
+
+    @property
+    def rear_insolation_kWh_m2(self) -> float:
+        """Light on the module's rear over the period [kWh/m²] (0 for monofacial)."""
+        if self.rear_ratio is None:
+            return 0.0
+        return float(np.sum(self.rear_ratio * self.step_irradiance * self.step_hours) / 1000.0)
+
+
+def common_grid() -> np.ndarray:
+    """The ASTM G173-03 wavelengths from 300 to 4000 nm (SPECTRL2's range) [nm]."""
+    wl = astm_g173_table()["wavelength"]
+    return wl[(wl >= 300.0) & (wl <= 4000.0)]
+
+
+def parse_period(period: str, timezone: str, step_minutes: float) -> pd.DatetimeIndex:
+    """'day:2026-06-21', 'month:2026-06', 'year:2026' → the middles of each step.
+
+    Examples
+    --------
+    >>> from tandem import parse_period
+    >>> parse_period('day:2026-06-21', 'UTC', 60).size  # hourly steps
+    24
+    """
+    if not (isinstance(step_minutes, (int, float)) and 1 <= step_minutes <= 180):
+        raise TandemInputError(f"time step {step_minutes:g} min: give 1 to 180 minutes")
+    match = re.fullmatch(r"(day|month|year):(\d{4}(?:-\d{2}(?:-\d{2})?)?)", period.strip())
+    if not match:
+        raise TandemInputError(f"period '{period}': give day:YYYY-MM-DD, month:YYYY-MM or year:YYYY")
+    kind, text = match.groups()
+    if not 1900 <= int(text[:4]) <= 2200:
+        raise TandemInputError(f"period '{period}': give a year from 1900 to 2200")
+    need = {"day": 3, "month": 2, "year": 1}[kind]
+    if len(text.split("-")) != need:
+        raise TandemInputError(f"period '{period}': a {kind} is written "
+                               f"{ {'day': 'YYYY-MM-DD', 'month': 'YYYY-MM', 'year': 'YYYY'}[kind]}")
+    try:
+        start = pd.Timestamp(text, tz=timezone)
+    except ValueError:
+        raise TandemInputError(f"period '{period}': not a real date") from None
+    end = start + {"day": pd.DateOffset(days=1), "month": pd.DateOffset(months=1),
+                   "year": pd.DateOffset(years=1)}[kind]
+    step = pd.Timedelta(minutes=step_minutes)
+    return pd.date_range(start + step / 2, end, freq=step, inclusive="left")
+
+
+def solar_position(site: Site, times: pd.DatetimeIndex):
+    import pvlib
+
+    pos = pvlib.solarposition.get_solarposition(times, site.latitude, site.longitude,
+                                                altitude=site.altitude_m)
+    aoi = pvlib.irradiance.aoi(site.tilt_deg, site.azimuth_deg, pos["apparent_zenith"],
+                               pos["azimuth"])
+    return pos, aoi
+
+
+def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=None,
+                 broadband: bool = False):
+    """SPECTRL2 plane-of-array global spectra: (wavelengths (122,) [nm], (n, 122) [W m⁻² nm⁻¹]).
+
+    Air mass from the apparent zenith (Kasten & Young 1989) unless given, pressure from the
+    site altitude. With ``broadband`` a third item gives SPECTRL2's own direct normal and
+    diffuse horizontal irradiance of each step, {'dni', 'dhi'} [W/m²].
+    """
+    import pvlib
+
+    zenith = np.atleast_1d(np.asarray(apparent_zenith, dtype=float))
+    airmass = (pvlib.atmosphere.get_relative_airmass(zenith) if relative_airmass is None
+               else np.broadcast_to(np.asarray(relative_airmass, dtype=float), zenith.shape))
+    spectra = pvlib.spectrum.spectrl2(
+        apparent_zenith=zenith, aoi=np.atleast_1d(np.asarray(aoi, dtype=float)),
+        surface_tilt=site.tilt_deg, ground_albedo=site.albedo,
+        surface_pressure=pvlib.atmosphere.alt2pres(site.altitude_m),
+        relative_airmass=np.asarray(airmass), precipitable_water=site.precipitable_water_cm,
+        ozone=site.ozone_atm_cm, aerosol_turbidity_500nm=site.aerosol_turbidity_500nm,
+        dayofyear=np.atleast_1d(dayofyear))
+    poa = np.nan_to_num(np.asarray(spectra["poa_global"], dtype=float).T, nan=0.0)
+    wl = np.asarray(spectra["wavelength"], dtype=float)
+    if not broadband:
+        return wl, np.clip(poa, 0.0, None)
+    totals = {k: np.trapezoid(np.nan_to_num(np.asarray(spectra[k], dtype=float).T), wl, axis=-1)
+              for k in ("dni", "dhi")}
+    return wl, np.clip(poa, 0.0, None), totals
+
+
+#: The standard's own conditions (ASTM G173-03): relative air mass 1.5, a surface tilted 37°
+#: towards the sun, sea level, its atmosphere, and a ground albedo of 0.2 (the standard uses a
+#: light soil; 0.2 is the usual broadband stand-in, common practice).
+G173_TILT_DEG = 37.0
+STANDARD_SITE = Site(name="ASTM G173-03 conditions", latitude=0.0, longitude=0.0,
+                     altitude_m=0.0, tilt_deg=G173_TILT_DEG, azimuth_deg=180.0, albedo=0.2)
+
+
+def _mean_distance_factor(dayofyear):
+    """SPECTRL2's extraterrestrial scaling for the Earth–Sun distance (Spencer 1971, in pvlib)."""
+    import pvlib
+
+    return np.asarray(pvlib.irradiance.get_extra_radiation(np.asarray(dayofyear),
+                                                           method="spencer", solar_constant=1.0))
+
+
+@functools.lru_cache(maxsize=1)
+def standard_zenith_deg() -> float:
+    """Apparent solar zenith [°] where the Kasten–Young air mass (used for every step) is 1.5."""
+    import pvlib
+    from scipy.optimize import brentq
+
+    return float(brentq(lambda z: float(pvlib.atmosphere.get_relative_airmass(z)) - 1.5,
+                        40.0, 55.0, xtol=1e-12))
+
+
+@functools.lru_cache(maxsize=1)
+def _spectrl2_at_standard():
+    """SPECTRL2 at the standard's conditions, at the mean Earth–Sun distance (122 points)."""
+    zenith = standard_zenith_deg()
+    wl, poa = spectrl2_poa(STANDARD_SITE, zenith, zenith - G173_TILT_DEG, 81)
+    return wl, poa[0] / float(_mean_distance_factor(81))
+
+
+def anchored_poa(site: Site, apparent_zenith, aoi, dayofyear):
+    """Plane-of-array spectra anchored to the standard, on the common grid [nm, W m⁻² nm⁻¹].
+
+    G173(λ) · S(λ; step)/S(λ; standard): SPECTRL2 (S) supplies the change from the
+    standard's conditions (air mass, atmosphere, angle of incidence, Earth–Sun distance),
+    the ASTM G173-03 table the reference itself. SPECTRL2 alone gives 1032 W/m² and another
+    red/blue balance at the standard's own conditions; anchored, the spectrum there is G173.
+
+    Returns (grid (n_wl,), irradiance (n, n_wl)).
+    """
+    grid, ratio, basis = anchored_factors(site, apparent_zenith, aoi, dayofyear)
+    return grid, ratio @ basis
+
+
+def anchored_factors(site: Site, apparent_zenith, aoi, dayofyear, with_broadband=False):
+    """:func:`anchored_poa` as factors: (grid (n_wl,), ratios (n, 122), basis (122, n_wl)).
+
+    The spectra are ratios @ basis: linear interpolation is linear in the ratios, so each
+    basis row is G173 times the interpolant of one SPECTRL2 wavelength (a hat function).
+    """
+    zenith, aoi, day = np.broadcast_arrays(np.atleast_1d(np.asarray(apparent_zenith, float)),
+                                           np.atleast_1d(np.asarray(aoi, float)),
+                                           np.atleast_1d(dayofyear))
+    # SPECTRL2 holds a few dozen (122 × n) intermediates: chunks keep a 15-minute year small
+    parts = [spectrl2_poa(site, zenith[i:i + 1024], aoi[i:i + 1024], day[i:i + 1024],
+                          broadband=True) for i in range(0, zenith.size, 1024)]
+    wl, poa = parts[0][0], np.concatenate([p[1] for p in parts])
+    ref_wl, ref = _spectrl2_at_standard()
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.where(ref > 0, poa / np.where(ref > 0, ref, 1.0), 0.0)
+    grid = common_grid()
+    broadband = {k: np.concatenate([p[2][k] for p in parts]) for k in ("dni", "dhi")}
+    if not with_broadband:
+        return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
+    return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global()), broadband
+
+
+def _hat_basis(wl, grid):
+    """(len(wl), len(grid)): row i interpolates a unit value at wl[i] onto the grid, zero
+    outside the data (numpy.interp of each unit vector)."""
+    return np.stack([np.interp(grid, wl, row, left=0.0, right=0.0) for row in np.eye(wl.size)])
+
+
+@functools.lru_cache(maxsize=1)
+def _g173_global():
+    table = astm_g173_table()
+    return table["wavelength"], table["global"]
+
+
+def spectrl2_factors(site: Site, times, pos, aoi, with_broadband=False):
+    """Anchored plane-of-array spectra at ``times`` as factors (:func:`anchored_factors`)."""
+    return anchored_factors(site, pos["apparent_zenith"].to_numpy(), aoi.to_numpy(),
+                            times.day_of_year.to_numpy(), with_broadband)
+
+
+def cell_temperature_K(poa_W_m2, ambient_C, wind_m_s):
+    """SAPM cell temperature (King et al. 2004), open-rack glass/glass mounting [K]."""
+    import pvlib
+
+    params = pvlib.temperature.TEMPERATURE_MODEL_PARAMETERS["sapm"][SAPM_MOUNT]
+    return np.asarray(pvlib.temperature.sapm_cell(poa_W_m2, ambient_C, wind_m_s, **params)) + 273.15
+
+
+def clear_sky_series(site: Site, times: pd.DatetimeIndex, rows: Rows | None = None) -> SpectralSeries:
+    """SPECTRL2 clear-sky spectra at ``times`` (daylight steps only); with ``rows``, the
+    rear light of bifacial rows from SPECTRL2's own direct and diffuse irradiance.
+
+    Examples
+    --------
+    >>> from tandem import Site, clear_sky_series, parse_period
+    >>> site = Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1')
+    >>> series = clear_sky_series(site, parse_period('day:2026-06-21', site.timezone, 60))
+    >>> 12 < series.times.size < 18  # daylight hours only
+    True
+    """
+    pos, aoi = solar_position(site, times)
+    up = (pos["apparent_zenith"] < 90).to_numpy()
+    if not up.any():
+        raise TandemInputError("the sun never rises over this period at this site; choose another "
+                               "period or latitude")
+    times_up = times[up]
+    grid, ratio, basis, broadband = spectrl2_factors(site, times_up, pos[up], aoi[up], True)
+    total = ratio @ np.trapezoid(basis, grid, axis=-1)
+    rear = None
+    if rows is not None:
+        cosz = np.clip(np.cos(np.radians(pos["apparent_zenith"].to_numpy()[up])), 0.0, None)
+        rear = rear_ratio(site, rows, pos[up], broadband["dni"] * cosz + broadband["dhi"],
+                          broadband["dni"], broadband["dhi"])
+    step_h = np.full(times_up.size, (times[1] - times[0]).total_seconds() / 3600 if times.size > 1 else 1.0)
+    temps = cell_temperature_K(total, site.ambient_temperature_C, site.wind_speed_m_s)
+    return SpectralSeries(times_up, grid, ratio, basis, temps, step_h,
+                          f"clear sky at {site.name} (ASTM G173-03 × SPECTRL2 change)",
+                          (f"aerosol optical depth {site.aerosol_turbidity_500nm:g} at 500 nm, "
+                           f"precipitable water {site.precipitable_water_cm:g} cm, ozone "
+                           f"{site.ozone_atm_cm:g} atm-cm, albedo {site.albedo:g}",
+                           f"ambient {site.ambient_temperature_C:g} °C, wind "
+                           f"{site.wind_speed_m_s:g} m/s, SAPM {SAPM_MOUNT}") + rows_note(rows),
+                          rear, rows.bifaciality if rows else 0.0)
+
+
+def rows_note(rows: Rows | None) -> tuple[str, ...]:
+    if rows is None:
+        return ()
+    return (f"bifacial rows: ground coverage {rows.gcr:g}, height {rows.height_m:g} m, pitch "
+            f"{rows.pitch_m:g} m, bifaciality {rows.bifaciality:g} (pvlib infinite sheds); the "
+            "rear light reaches the back subcell only, with the front spectrum's shape",)
+
+

@@ -1,0 +1,82 @@
+"""What every job shares: the work estimate, frames, dataset attributes, the absorber pair.
+
+Each job lives in a module of its own with its result type. Every front end (the command
+line, scenario studies, a notebook) calls them; each result has
+``summary()`` (the plain dict ``--json`` prints), ``to_frame()`` (a pandas DataFrame, units in
+the column names), ``to_dataset()`` where the result is gridded (an xarray Dataset, the swept
+quantities as dimensions with their units, the conditions as attributes) and ``plot(ax=None)``
+(a matplotlib Figure; the backend is never changed).
+"""
+
+from __future__ import annotations
+
+from typing import Callable
+
+from tandem.jobs.inputs import OperatingPoint
+from tandem.optics.absorbers import Absorber
+from tandem.optics.absorber_files import load_absorber
+
+Progress = Callable[[int, int], None]
+
+#: Measured throughput on the 2-core reference machine (tests/benchmarks/run.py; rounded down):
+#: configurations per second for each job, and the limits beyond which a run must be asked for.
+RATES = {"map": 3.0e5, "match": 1.0e4, "spread": 8.0e3, "yield": 1.0e6}
+LIMIT_SECONDS, LIMIT_BYTES = 600.0, 2 * 2**30
+
+
+def check_work(job: str, count: float, bytes_needed: float = 0.0, allow_large: bool = False,
+               what: str = "configurations") -> None:
+    """Refuse, with the estimate, a run predicted to take over 10 minutes or 2 GiB.
+
+    ``count`` is the number of configurations (gap pairs, devices, step × design), ``bytes``
+    the largest array the run holds. ``allow_large`` (``--large``) lifts the limit.
+    """
+    from tandem.core.errors import TandemInputError
+
+    seconds = count / RATES[job]
+    if allow_large or (seconds <= LIMIT_SECONDS and bytes_needed <= LIMIT_BYTES):
+        return
+    raise TandemInputError(
+        f"this {job} has {count:,.0f} {what}: about {seconds:,.0f} s and "
+        f"{bytes_needed / 2**20:,.0f} MiB on a 2-core laptop, over the limit of "
+        f"{LIMIT_SECONDS / 60:.0f} min and {LIMIT_BYTES / 2**30:.0f} GiB; narrow it, or pass "
+        "--large to run it anyway")
+
+
+def frame(rows):
+    import pandas as pd
+
+    return pd.DataFrame(rows)
+
+
+def conditions_attrs(light_name: str, temperature_K: float, terminals: int, **extra) -> dict:
+    attrs = {"spectrum": light_name, "temperature_K": float(temperature_K),
+             "terminals": int(terminals)}
+    attrs.update({k: v for k, v in extra.items() if v is not None})
+    return attrs
+
+
+def as_absorber(a: Absorber | str) -> Absorber:
+    return a if isinstance(a, Absorber) else load_absorber(a)
+
+
+def absorber_pair(front, back, operating: OperatingPoint) -> tuple[Absorber, Absorber]:
+    """The two absorbers, with the operating point's ERE in place of theirs if it gives one."""
+    from dataclasses import replace
+
+    a_front, a_back = as_absorber(front), as_absorber(back)
+    if operating.ere is not None:
+        ere = operating.ere * 2 if len(operating.ere) == 1 else operating.ere
+        a_front = replace(a_front, ere=ere[0], ere_origin="given on the command line")
+        a_back = replace(a_back, ere=ere[1], ere_origin="given on the command line")
+    return a_front, a_back
+
+
+
+def blackbody_of(light) -> tuple[float, float] | None:
+    """(T_sun, concentration) when the light is an unscaled blackbody sun, else None."""
+    if light is None or light.source != "blackbody" or light.irradiance_W_m2 is not None:
+        return None
+    return float(light.sun_temperature_K), float(light.concentration)
+
+

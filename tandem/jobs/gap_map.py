@@ -1,0 +1,132 @@
+"""Efficiency over front × back band gaps (:func:`gap_map`)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+
+from tandem.design.maps import (
+    DEFAULT_BACK,
+    DEFAULT_FRONT,
+    GapMap,
+    absorber_gap_map,
+    gap_axis,
+    map_table,
+    step_gap_map,
+)
+from tandem.design.matching import Conditions, StackDesign
+from tandem.jobs.common import Progress, absorber_pair, check_work, conditions_attrs
+from tandem.jobs.inputs import Light, OperatingPoint
+from tandem.optics.absorbers import Absorber
+from tandem.output.report import map_summary
+
+
+@dataclass(frozen=True)
+class MapResult:
+    """Efficiency over front × back gaps (:func:`gap_map`).
+
+    Examples
+    --------
+    >>> import tandem
+    >>> m = tandem.gap_map(front_gaps_eV=(1.6, 1.8, 0.1), back_gaps_eV=(0.9, 1.1, 0.1))
+    >>> m.to_dataset()['front_gap'].attrs['units']
+    'eV'
+    """
+
+    gap_map: GapMap
+    terminals: int
+    tolerance_pct: float = 1.0
+    marks: tuple = ()
+    front_thickness_nm: np.ndarray | None = None
+    ere: tuple | None = None
+
+    def summary(self) -> dict:
+        return map_summary(self.gap_map, self.terminals, self.tolerance_pct)
+
+    def to_frame(self):
+        """One row per valid gap pair."""
+        return map_table(self.gap_map, self.front_thickness_nm)
+
+    def to_dataset(self):
+        import xarray as xr
+
+        m = self.gap_map
+        dims = ("front_gap", "back_gap")
+        return xr.Dataset(
+            {"efficiency_2t": (dims, 100 * m.efficiency_2t, {"units": "%"}),
+             "efficiency_4t": (dims, 100 * m.efficiency_4t, {"units": "%"}),
+             "jsc_front": (dims, m.j_front / 10, {"units": "mA/cm2"}),
+             "jsc_back": (dims, m.j_back / 10, {"units": "mA/cm2"}),
+             "voc_2t": (dims, m.voc_2t, {"units": "V"})},
+            coords={"front_gap": ("front_gap", m.front_gaps, {"units": "eV"}),
+                    "back_gap": ("back_gap", m.back_gaps, {"units": "eV"})},
+            attrs=conditions_attrs(m.spectrum, m.temperature_K, self.terminals,
+                                    irradiance_W_m2=m.irradiance,
+                                    ere=None if self.ere is None else list(self.ere)))
+
+    def plot(self, ax=None):
+        from tandem.output.plots import draw_map
+
+        return draw_map(self.gap_map, self.terminals, self.tolerance_pct, self.marks, ax)
+
+
+def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint(),
+            front_gaps_eV: tuple[float, float, float] = DEFAULT_FRONT,
+            back_gaps_eV: tuple[float, float, float] | None = DEFAULT_BACK, *,
+            front_absorber: Absorber | str | None = None,
+            back_absorber: Absorber | str | None = None,
+            front_thickness_nm: float | None = None, back_thickness_nm: float | None = None,
+            rematch: bool = False, tolerance_pct: float = 1.0, marks: Sequence = (),
+            progress: Progress | None = None, allow_large: bool = False) -> MapResult:
+    """Efficiency over front × back band gaps: step absorbers, or real absorbers' edges.
+
+    Parameters
+    ----------
+    front_gaps_eV, back_gaps_eV : (low, high, step)
+        Gap axes [eV]; ``back_gaps_eV`` None (absorbers only) keeps the back absorber's gap.
+    front_absorber, back_absorber : optional
+        Move these absorbers' edges to each gap instead of using step absorbers.
+    marks : sequence of (name, gap)
+        Gaps to mark on the figure.
+
+    Examples
+    --------
+    >>> from tandem import gap_map
+    >>> m = gap_map(front_gaps_eV=(1.6, 1.8, 0.05), back_gaps_eV=(1.12, 1.12, 0.01))
+    >>> m.summary()["optimum"]["front_gap_eV"]
+    1.75
+    """
+    fronts = gap_axis(*front_gaps_eV, "front gaps")
+    backs = None if back_gaps_eV is None else gap_axis(*back_gaps_eV, "back gaps")
+    n_backs = 1 if backs is None else backs.size
+    per_pair = 60 * 30 if (front_absorber is not None and rematch) else (
+        30 if front_absorber is not None else 1)  # optics per pair cost about this many steps
+    check_work("map", fronts.size * n_backs * per_pair, allow_large=allow_large,
+               what="gap-pair evaluations")
+    flux = light.photon_flux()
+    marks = tuple(marks)
+    if (front_absorber is None) != (back_absorber is None):
+        from tandem.core.errors import TandemInputError
+
+        raise TandemInputError("give both a front and a back absorber, or neither (step absorbers)")
+    if front_absorber is None:
+        backs = gap_axis(*DEFAULT_BACK, "back gaps") if backs is None else backs
+        ere = np.asarray(operating.ere or (1.0,), dtype=float)
+        ere = np.broadcast_to(ere, (2,)) if ere.size == 1 else ere
+        result = step_gap_map(flux, fronts, backs, operating.temperature_K, ere,
+                              operating.ideality, progress=progress,
+                              electrical=operating.electrical, front_index=operating.front_index,
+                              absorbed_share=operating.step_shares())
+        return MapResult(result, operating.terminals, tolerance_pct, marks, None,
+                         tuple(float(e) for e in ere))
+    design = StackDesign(*absorber_pair(front_absorber, back_absorber, operating),
+                         *operating.losses_on(flux.energy))
+    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical,
+                      operating.allow_outside_range)
+    result, used = absorber_gap_map(design, cond, fronts, backs, front_thickness_nm,
+                                    back_thickness_nm, rematch, progress=progress)
+    return MapResult(result, operating.terminals, tolerance_pct, marks, used)
+
+

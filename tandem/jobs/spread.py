@@ -1,0 +1,89 @@
+"""Fabrication spread of a design (:func:`fabrication_spread`)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from tandem.design.matching import Conditions, StackDesign
+from tandem.jobs.common import absorber_pair, check_work, frame
+from tandem.jobs.inputs import Light, OperatingPoint
+from tandem.optics.absorbers import Absorber
+
+
+@dataclass(frozen=True)
+class SpreadResult:
+    """Efficiency distribution of a design under fabrication spread.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> s = tandem.fabrication_spread('gainp', 'gaas', samples=20)
+    >>> len(s.to_frame())
+    20
+    """
+
+    spread: object  #: scatter.ScatterResult
+    terminals: int
+    target_pct: float | None
+    settings: dict
+
+    def summary(self) -> dict:
+        from tandem.output.report import CAUTION
+
+        out = self.spread.stats(self.terminals, self.target_pct)
+        out.update(self.settings)
+        out["caution"] = CAUTION
+        return out
+
+    def to_frame(self):
+        """One row per device drawn: front gap [eV], thickness [nm], efficiencies [%]."""
+        s = self.spread
+        return frame({"front_gap_eV": s.front_gap_eV, "front_thickness_nm": s.front_thickness_nm,
+                       "efficiency_2t_pct": 100 * s.efficiency_2t,
+                       "efficiency_4t_pct": 100 * s.efficiency_4t})
+
+    def plot(self, ax=None):
+        from tandem.output.plots import draw_spread
+
+        return draw_spread(self.spread, self.terminals, self.target_pct, ax)
+
+
+def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light = Light(),
+                       operating: OperatingPoint = OperatingPoint(), *,
+                       front_gap_eV: float | None = None, front_thickness_nm: float | None = None,
+                       back_thickness_nm: float | None = None, gap_sigma_eV: float = 0.01,
+                       thickness_sigma_pct: float = 5.0, samples: int = 2000, seed: int = 1,
+                       target_pct: float | None = None, allow_large: bool = False) -> SpreadResult:
+    """How a spread in front gap and thickness spreads the efficiency of a design (seeded).
+
+    Examples
+    --------
+    >>> from tandem import fabrication_spread
+    >>> s = fabrication_spread("perovskite-wide", "silicon", samples=50, gap_sigma_eV=0.0,
+    ...                        thickness_sigma_pct=0.0)
+    >>> s.summary()["std_pct"]
+    0.0
+    """
+    from tandem.design.scatter import scatter
+
+    a_front, a_back = absorber_pair(front, back, operating)
+    check_work("spread", samples, allow_large=allow_large, what="devices")
+    if target_pct is not None and not (np.isfinite(target_pct) and 0 < target_pct < 100):
+        from tandem.core.errors import TandemInputError
+
+        raise TandemInputError(f"target {target_pct:g} %: give an efficiency between 0 and 100 %")
+    flux = light.photon_flux()
+    g = a_front.gap_eV if front_gap_eV is None else float(front_gap_eV)
+    flux.check_gap(g, "front gap")
+    d = a_front.thickness_nm if front_thickness_nm is None else float(front_thickness_nm)
+    bd = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
+    design = StackDesign(a_front, a_back, *operating.losses_on(flux.energy))
+    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical,
+                      operating.allow_outside_range)
+    result = scatter(design, cond, g, d, bd, gap_sigma_eV, thickness_sigma_pct, samples, seed)
+    settings = {"front": a_front.key, "back": a_back.key, "front_gap_eV": g,
+                "front_thickness_nm": d, "gap_sigma_eV": gap_sigma_eV,
+                "thickness_sigma_pct": thickness_sigma_pct, "seed": seed}
+    return SpreadResult(result, operating.terminals, target_pct, settings)

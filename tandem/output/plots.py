@@ -1,0 +1,564 @@
+"""Figures people read, written whole or not at all.
+
+Figures are built with matplotlib's object interface (``matplotlib.figure.Figure``), never
+through pyplot: importing this module or drawing a figure never changes a notebook's backend
+or its list of open figures. ``draw_*`` functions return the Figure; ``*_figure`` functions
+also write it.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import matplotlib.ticker
+import numpy as np
+from matplotlib.figure import Figure
+
+from tandem.design.matching import MatchResult, stack_light
+from tandem.core.files import write_whole
+from tandem.core.units import HC_EV_NM, MA_CM2_PER_A_M2
+
+
+class _Pyplotless:
+    """The two pyplot calls this module used, on bare Figures (no backend, no registry)."""
+
+    @staticmethod
+    def subplots(*args, figsize=None, **kwargs):
+        fig = Figure(figsize=figsize)
+        return fig, fig.subplots(*args, **kwargs)
+
+    @staticmethod
+    def close(fig):
+        pass
+
+
+plt = _Pyplotless()
+
+FRONT_COLOUR, BACK_COLOUR, SUN_COLOUR = "#1f77b4", "#d62728", "0.85"
+#: Parasitic layers in photon budgets: neither the front's blue nor the back's red.
+LAYER_COLOURS = ("#ff7f0e", "#2ca02c", "#9467bd", "#8c564b", "#e377c2", "#bcbd22", "#17becf",
+                 "#7f7f7f")
+
+
+DPI = 300  #: print resolution of PNG figures
+
+
+def savefig(fig, target, fmt: str) -> None:
+    """Save at print resolution; SVG keeps its text as text (editable), not as paths."""
+    import matplotlib
+
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        fig.savefig(target, dpi=DPI, bbox_inches="tight", format=fmt,
+                    metadata={"Creator": "tandem"} if fmt in ("svg", "pdf") else {"Software": "tandem"})
+
+
+def save_figure(fig, path, overwrite):
+    def write(tmp: Path):
+        savefig(fig, tmp, Path(path).suffix.lstrip(".") or "png")
+
+    try:
+        return write_whole(path, write, overwrite)
+    finally:
+        plt.close(fig)
+
+
+def match_figure(result: MatchResult, path, overwrite: bool = False, tolerance=None) -> Path:
+    """Write :func:`draw_match` to ``path`` (PNG or SVG), whole or not at all."""
+    return save_figure(draw_match(result, tolerance), path, overwrite)
+
+
+def draw_match(result: MatchResult, tolerance=None, ax=None) -> Figure:
+    """Subcell currents against front thickness, and absorptance against wavelength.
+
+    With ``ax``, only the currents are drawn, into that axes; its Figure is returned.
+    """
+    sweep = result.best_sweep
+    best = result.configurations[0]
+    design, cond = result.design, result.conditions
+    if ax is None:
+        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(11, 4.2))
+    else:
+        fig, ax1, ax2 = ax.figure, ax, None
+    d = sweep.front_thickness_nm
+    j = sweep.performance.j_light * MA_CM2_PER_A_M2
+    ax1.plot(d, j[:, 0], color=FRONT_COLOUR, label=f"front: {design.front.name}")
+    ax1.plot(d, j[:, 1], color=BACK_COLOUR, label=f"back: {design.back.name}")
+    if best.matched_front_thickness_nm is not None:
+        dm = best.matched_front_thickness_nm
+        jm = _front_current_at(result, dm)
+        ax1.axvline(dm, color="0.4", ls="--", lw=1)
+        ax1.plot([dm], [jm], "ko")
+        ax1.annotate(f"matched: {dm:.0f} nm\n{jm:.2f} mA/cm²", (dm, jm), xytext=(-8, 14),
+                     textcoords="offset points", fontsize=8, ha="right",
+                     bbox={"boxstyle": "round", "fc": "white", "ec": "0.8"})
+    ax1.axvline(best.front_thickness_nm, color="0.6", ls=":", lw=1)
+    if tolerance is not None:
+        lo, hi = tolerance["front_thickness_window_nm"]
+        ax1.axvspan(lo, hi, color="0.92", zorder=0,
+                    label=f"within {tolerance['loss_pct_abs']:g} % of best: {lo:.0f}–{hi:.0f} nm")
+    ax1.set_xscale("log")
+    ax1.xaxis.set_major_locator(matplotlib.ticker.LogLocator(subs=(1.0, 2.0, 5.0)))
+    ax1.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+    ax1.xaxis.set_minor_formatter(matplotlib.ticker.NullFormatter())
+    ax1.set_xlabel("front thickness [nm]")
+    ax1.set_ylabel("photocurrent [mA/cm²]")
+    back_d = sweep.back_thickness_nm
+    back_text = f"{back_d / 1000:g} µm" if back_d >= 10_000 else f"{back_d:.0f} nm"
+    ax1.set_title(f"front gap {sweep.front_gap_eV:.3f} eV, back {back_text}", fontsize=10)
+    ax1.legend(fontsize=8, loc="lower center", framealpha=0.9)
+    ax1.grid(alpha=0.3)
+    if ax2 is None:
+        return fig
+
+    e = cond.photon_flux.energy
+    light = stack_light(design, e, best.front_gap_eV, best.front_thickness_nm,
+                        best.back_thickness_nm, temperature_K=cond.temperature_K)
+    wl = HC_EV_NM / e
+    keep = (wl >= 300) & (wl <= 1400)
+    flux_per_nm = cond.photon_flux.flux * e**2 / HC_EV_NM  # Φ_λ = Φ_E·|dE/dλ|
+    ax2.fill_between(wl[keep], 0, flux_per_nm[keep] / flux_per_nm[keep].max(), color=SUN_COLOUR,
+                     label="incident photons per nm (scaled)")
+    front_eqe = np.reshape(light.front_eqe, (-1, e.size))[0]
+    back_eqe = np.reshape(light.back_eqe, (-1, e.size))[0]
+    ax2.plot(wl[keep], front_eqe[keep], color=FRONT_COLOUR, label="front EQE")
+    ax2.plot(wl[keep], back_eqe[keep], color=BACK_COLOUR, label="back EQE")
+    ax2.set_xlabel("wavelength [nm]")
+    ax2.set_ylabel("absorptance collected (EQE) [-]")
+    ax2.set_ylim(0, 1.05)
+    ax2.set_title(f"at front {best.front_thickness_nm:.0f} nm: 2T {100 * best.efficiency_2t:.1f} %,"
+                  f" 4T {100 * best.efficiency_4t:.1f} %", fontsize=10)
+    ax2.legend(fontsize=8, loc="upper right", framealpha=0.9)
+    ax2.grid(alpha=0.3)
+    fig.suptitle("Modelling limits, not measurements", fontsize=8, x=0.99, ha="right", color="0.4")
+    return fig
+
+
+def _front_current_at(result: MatchResult, thickness_nm: float) -> float:
+    from tandem.design.matching import stack_performance
+
+    best = result.configurations[0]
+    perf = stack_performance(result.design, result.conditions, best.front_gap_eV, thickness_nm,
+                             best.back_thickness_nm)
+    return float(perf.j_light[0]) * MA_CM2_PER_A_M2
+
+
+def absorber_figure(absorber, path, overwrite: bool = False) -> Path:
+    """Absorption coefficient against wavelength, log scale."""
+    wl = np.linspace(300, 1400, 1101)
+    fig, ax = plt.subplots(figsize=(6, 4))
+    ax.semilogy(wl, absorber.alpha(HC_EV_NM / wl), color=FRONT_COLOUR)
+    ax.axvline(HC_EV_NM / absorber.gap_eV, color="0.5", ls="--", lw=1,
+               label=f"gap {absorber.gap_eV:.3f} eV")
+    ax.set_ylim(1e-1, None)
+    ax.set_xlabel("wavelength [nm]")
+    ax.set_ylabel("absorption coefficient [cm⁻¹]")
+    ax.set_title(absorber.name)
+    ax.legend()
+    ax.grid(alpha=0.3, which="both")
+    return save_figure(fig, path, overwrite)
+
+
+def draw_map(gap_map, terminals, tolerance_pct=1.0, marks=(), ax=None) -> Figure:
+    """Efficiency over front × back gaps (or a line for one back gap), optimum and window."""
+    return _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax)
+
+
+def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None):
+    from tandem.design.matching import tolerance_window
+
+    eff = 100 * gap_map.efficiency(terminals)
+    i, j = gap_map.optimum(terminals)
+    fg, bg = gap_map.front_gaps, gap_map.back_gaps
+    if bg.size == 1:  # one-dimensional scan
+        fig, ax = plt.subplots(figsize=(6.5, 4.2)) if ax is None else (ax.figure, ax)
+        ax.plot(fg, 100 * gap_map.efficiency_2t[:, 0], color=FRONT_COLOUR, label="two-terminal")
+        ax.plot(fg, 100 * gap_map.efficiency_4t[:, 0], color=BACK_COLOUR, ls="--",
+                label="four-terminal")
+        lo, hi = tolerance_window(fg, eff[:, 0], tolerance_pct)
+        ax.axvspan(lo, hi, color="0.9", label=f"within {tolerance_pct:g} % of best: "
+                   f"{lo:.3f}–{hi:.3f} eV")
+        ax.plot([fg[i]], [eff[i, 0]], "ko")
+        ax.annotate(f"{eff[i, 0]:.2f} % at {fg[i]:.3f} eV", (fg[i], eff[i, 0]), xytext=(6, 6),
+                    textcoords="offset points", fontsize=8)
+        for name, gap, *role in marks:
+            if role and role[0] == "back":
+                continue
+            ax.axvline(gap, color="0.4", lw=0.8, ls=":")
+            ax.text(gap, ax.get_ylim()[0], f" {name}", rotation=90, va="bottom", fontsize=7)
+        ax.set_xlabel("front gap [eV]")
+        ax.set_ylabel("efficiency [%]")
+        ax.set_title(f"back gap {bg[0]:.3f} eV, {gap_map.spectrum}, {gap_map.temperature_K:g} K",
+                     fontsize=9)
+        ax.legend(fontsize=8)
+        ax.grid(alpha=0.3)
+        return fig
+    fig, ax = plt.subplots(figsize=(7, 5.6)) if ax is None else (ax.figure, ax)
+    B, F = np.meshgrid(bg, fg)
+    best = np.nanmax(eff)
+    levels = np.arange(np.floor(np.nanmin(eff)), np.ceil(best) + 0.5, 0.5)
+    filled = ax.contourf(B, F, eff, levels=levels, cmap="viridis")
+    # labelled iso-efficiency lines: coarse far from the optimum, finer close to it
+    marks_pct = [v for v in (10, 20, 30, 35, 40, 42, 44, 45, 46, 47, 48) if np.nanmin(eff) < v < best]
+    if marks_pct:
+        lines = ax.contour(B, F, eff, levels=marks_pct, colors="white", linewidths=0.7)
+        ax.clabel(lines, fmt="%g %%", fontsize=7)
+    fig.colorbar(filled, ax=ax, label=f"{terminals}-terminal efficiency [%]")
+    ax.contour(B, F, eff, levels=[best - tolerance_pct], colors="orange", linewidths=1.2,
+               linestyles="--")
+    balance = gap_map.j_front - gap_map.j_back
+    if np.nanmin(balance) < 0 < np.nanmax(balance):
+        ax.contour(B, F, balance, levels=[0], colors="red", linewidths=1.2)
+    ax.plot([bg[j]], [fg[i]], marker="*", color="red", ms=12, mec="white")
+    ax.annotate(f"{eff[i, j]:.2f} %\n{fg[i]:.3f}/{bg[j]:.3f} eV", (bg[j], fg[i]), xytext=(10, -28),
+                textcoords="offset points", fontsize=8,
+                bbox={"boxstyle": "round", "fc": "white", "ec": "0.6", "alpha": 0.9})
+    for name, gap, *role in marks:  # a candidate is marked on the axis of its position
+        role = role[0] if role else None
+        if role != "front" and bg[0] <= gap <= bg[-1]:
+            ax.axvline(gap, color="white", lw=0.8, ls=":")
+            ax.text(gap, fg[0], f" {name}", rotation=90, va="bottom", fontsize=7, color="white")
+        if role != "back" and fg[0] <= gap <= fg[-1]:
+            ax.axhline(gap, color="white", lw=0.8, ls=":")
+            ax.text(bg[-1], gap, f"{name} ", ha="right", va="bottom", fontsize=7, color="white")
+    ax.set_xlabel("back gap [eV]")
+    ax.set_ylabel("front gap [eV]")
+    ax.set_title(f"{gap_map.spectrum}, cell {gap_map.temperature_K:g} K — red: equal currents; "
+                 f"orange dashed: within {tolerance_pct:g} % of best", fontsize=8)
+    return fig
+
+
+def map_figures(gap_map, terminals, tolerance_pct, marks, prefix: str | Path,
+                overwrite: bool = False, tables: dict | None = None) -> list[Path]:
+    """PNG and SVG of the map, plus any ``tables`` {suffix: writer}, written as one group."""
+    from tandem.core.files import write_all_whole
+
+    fig = _map_axes_figure(gap_map, terminals, tolerance_pct, marks)
+    fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
+    prefix = Path(prefix)
+    writers = {
+        prefix.with_suffix(".png"): lambda p: savefig(fig, p, "png"),
+        prefix.with_suffix(".svg"): lambda p: savefig(fig, p, "svg"),
+    }
+    for suffix, writer in (tables or {}).items():
+        writers[prefix.with_suffix(suffix)] = writer
+    try:
+        return write_all_whole(writers, overwrite)
+    finally:
+        plt.close(fig)
+
+
+def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False,
+                  data: dict | None = None) -> list[Path]:
+    """Three figures: a day's subcell currents, monthly energy (2T/4T), the yield map.
+
+    ``data`` maps further output paths to writers; all are written as one (whole or none).
+    """
+    from tandem.core.files import write_all_whole
+
+    prefix = Path(prefix)
+    figs = {}
+    # --- a day: the one with the most light, which shows the noon peak and the red mornings
+    days = best.times.normalize()
+    daily = {d: float((best.irradiance * best.step_hours)[days == d].sum()) for d in days.unique()}
+    day = max(daily, key=daily.get)
+    sel = days == day
+    hours = best.times[sel].hour + best.times[sel].minute / 60
+    jf, jb = best.j_front[sel] / 10, best.j_back[sel] / 10
+    fig, (ax, ax2) = plt.subplots(2, 1, figsize=(6.5, 5.5), sharex=True,
+                                  gridspec_kw={"height_ratios": [2, 1]})
+    ax.plot(hours, jf, color=FRONT_COLOUR, marker="o", ms=3, label="front photocurrent")
+    ax.plot(hours, jb, color=BACK_COLOUR, marker="o", ms=3, label="back photocurrent")
+    ax.set_ylabel("photocurrent [mA/cm²]")
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3)
+    balance = 100 * (jf - jb) / np.maximum(np.minimum(jf, jb), 1e-12)
+    ax2.bar(hours, balance, width=0.8 * float(np.median(np.diff(hours))) if hours.size > 1 else 0.5,
+            color=np.where(balance < 0, FRONT_COLOUR, BACK_COLOUR))
+    ax2.axhline(0, color="0.3", lw=0.8)
+    bright = np.minimum(jf, jb) > 0.1 * max(float(np.max(np.minimum(jf, jb))), 1e-12)
+    if bright.any():  # dawn and dusk ratios of tiny currents would hide the day's pattern
+        span = 1.3 * max(float(np.max(np.abs(balance[bright]))), 0.5)
+        ax2.set_ylim(-span, span)
+    ax2.set_ylabel("front − back [%]")
+    ax2.set_title("below zero: the front limits; above: the back limits (dawn and dusk clipped)",
+                  fontsize=8)
+    ax2.set_xlabel(f"time of day [h], {day.date()} ({best.times.tz})")
+    ax2.grid(alpha=0.3)
+    figs["-day"] = fig
+    # --- monthly energy
+    months = best.times.month
+    ms = sorted(set(months))
+    e2 = [float(best.p_2t[months == m] @ best.step_hours[months == m]) / 1000 for m in ms]
+    e4 = [float(best.p_4t[months == m] @ best.step_hours[months == m]) / 1000 for m in ms]
+    fig, ax = plt.subplots(figsize=(6.5, 4))
+    x = np.arange(len(ms))
+    ax.bar(x - 0.2, e2, 0.4, color=FRONT_COLOUR, label="two-terminal")
+    ax.bar(x + 0.2, e4, 0.4, color=BACK_COLOUR, label="four-terminal")
+    ax.set_xticks(x, [["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct",
+                       "Nov", "Dec"][m - 1] for m in ms])
+    ax.set_ylabel("energy [kWh/m²]")
+    ax.set_title(f"front {sweep.gaps[sweep.optimum[0]]:.3f} eV, "
+                 f"{sweep.thicknesses[sweep.optimum[1]]:.0f} nm", fontsize=9)
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3, axis="y")
+    figs["-monthly"] = fig
+    figs["-map"] = draw_yield_map(sweep)
+    for f in figs.values():
+        f.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
+    writers = {}
+    for suffix, f in figs.items():
+        writers[prefix.parent / f"{prefix.name}{suffix}.png"] = (
+            lambda p, f=f: savefig(f, p, "png"))
+    return write_all_whole({**writers, **(data or {})}, overwrite)
+
+
+def draw_yield_map(sweep, ax=None) -> Figure:
+    """Two-terminal energy over front gap × thickness, with both optima marked."""
+    fig, ax = plt.subplots(figsize=(6.5, 4.6)) if ax is None else (ax.figure, ax)
+    if sweep.gaps.size > 1 and sweep.thicknesses.size > 1:
+        D, G = np.meshgrid(sweep.thicknesses, sweep.gaps)
+        filled = ax.contourf(D, G, sweep.energy_2t, levels=20, cmap="viridis")
+        fig.colorbar(filled, ax=ax, label="two-terminal energy [kWh/m²]")
+        ax.set_xscale("log")
+        ax.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+    else:
+        ax.plot(sweep.thicknesses if sweep.gaps.size == 1 else sweep.gaps,
+                np.ravel(sweep.energy_2t), color=FRONT_COLOUR)
+    i, j = sweep.optimum
+    a, b = sweep.am15_optimum
+    ax.plot([sweep.thicknesses[j]], [sweep.gaps[i]], "r*", ms=12, label="energy optimum")
+    ax.plot([sweep.thicknesses[b]], [sweep.gaps[a]], "wo", ms=7, mec="k", label="AM1.5G optimum")
+    ax.set_xlabel("front thickness [nm]")
+    ax.set_ylabel("front gap at 25 °C [eV]")
+    ax.legend(fontsize=8, loc="lower right")
+    return fig
+
+
+def scatter_figure(result, terminals, target_pct, path, overwrite: bool = False) -> Path:
+    """Write :func:`draw_spread` to ``path``."""
+    return save_figure(draw_spread(result, terminals, target_pct), path, overwrite)
+
+
+def draw_spread(result, terminals=2, target_pct=None, ax=None) -> Figure:
+    """Histogram of the fabrication spread with its percentiles, the nominal and a target."""
+    eff = 100 * (result.efficiency_2t if terminals == 2 else result.efficiency_4t)
+    nominal = 100 * (result.nominal_2t if terminals == 2 else result.nominal_4t)
+    fig, ax = plt.subplots(figsize=(6.5, 4)) if ax is None else (ax.figure, ax)
+    ax.hist(eff, bins=60, color=FRONT_COLOUR, alpha=0.8)
+    p10, p50, p90 = np.percentile(eff, [10, 50, 90])
+    for v, name in ((p10, "10th pct"), (p50, "median"), (p90, "90th pct")):
+        ax.axvline(v, color="0.3", ls=":", lw=1)
+        ax.text(v, ax.get_ylim()[1] * 0.95, f" {name}", fontsize=8)
+    ax.axvline(nominal, color="k", lw=1.2, label=f"nominal {nominal:.2f} %")
+    if target_pct is not None:
+        share = 100 * np.mean(eff >= target_pct)
+        ax.axvline(target_pct, color=BACK_COLOUR, lw=1.2,
+                   label=f"target {target_pct:g} %: {share:.1f} % of devices reach it")
+    ax.set_xlabel(f"{terminals}-terminal efficiency [%]")
+    ax.set_ylabel("devices")
+    ax.legend(fontsize=8, loc="upper left")
+    fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
+    return fig
+
+
+def draw_limit(result, ax=None) -> Figure:
+    """Current–voltage curves of each subcell (and the series stack) with maximum power points.
+
+    ``result`` is a :class:`~tandem.physics.limit.DesignResult`.
+    """
+    from tandem.physics.detailed_balance import two_diode_current
+
+    perf = result.performance
+    fig, ax = plt.subplots(figsize=(6.5, 4.2)) if ax is None else (ax.figure, ax)
+    names = ("front", "back") if result.n_subcells == 2 else ("cell",)
+    colours = (FRONT_COLOUR, BACK_COLOUR)
+    for i, name in enumerate(names):
+        v = np.linspace(0.0, float(perf.voc[i]), 400)
+        j = two_diode_current(v, perf.j_light[i], perf.j0_radiative[i], perf.j0_nonradiative[i],
+                              perf.ideality, result.temperature_K)
+        ax.plot(v, j * MA_CM2_PER_A_M2, color=colours[i], label=f"{name} {result.gaps_eV[i]:.3f} eV")
+        ax.plot([perf.v_own[i]], [perf.j_own[i] * MA_CM2_PER_A_M2], "o", color=colours[i])
+    if result.n_subcells == 2:
+        ax.plot([float(perf.v_2t)], [float(perf.j_2t) * MA_CM2_PER_A_M2], "k*", ms=11,
+                label=f"series maximum power: {100 * float(perf.efficiency_2t):.2f} %")
+    ax.set_xlabel("voltage [V]")
+    ax.set_ylabel("current density [mA/cm²]")
+    ax.set_ylim(0, None)
+    ax.set_xlim(0, None)
+    ax.set_title(f"{result.spectrum_name}, cell {result.temperature_K:g} K", fontsize=9)
+    ax.legend(fontsize=8)
+    ax.grid(alpha=0.3)
+    return fig
+
+
+def stack_figure(result, path, overwrite: bool = False) -> Path:
+    """Write :func:`draw_photon_budget` to ``path`` (PNG or SVG), whole or not at all."""
+    return save_figure(draw_photon_budget(result), path, overwrite)
+
+
+def draw_photon_budget(result, ax=None) -> Figure:
+    """Where every incident photon goes in the best design of a layer stack, over wavelength
+    (stacked), and the subcells' photocurrents against the front thickness.
+
+    With ``ax``, only the photon budget is drawn, into that axes.
+    """
+    from tandem.design.layerstack import photon_budget, usable_from_eV
+
+    m = result.match
+    best = m.best
+    if ax is None:
+        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(12, 4.4), width_ratios=(1, 1.5))
+    else:
+        fig, ax1, ax2 = ax.figure, None, ax
+    if ax1 is not None:
+        for others, j, _, _ in m.grids:
+            bold = others == best.others
+            kw = {"lw": 1.8 if bold else 0.7, "alpha": 1.0 if bold else 0.35}
+            ax1.plot(m.thicknesses_nm, j[:, 0] * MA_CM2_PER_A_M2, color=FRONT_COLOUR, **kw,
+                     label=f"front: {m.stack.front.name}" if bold else None)
+            ax1.plot(m.thicknesses_nm, j[:, 1] * MA_CM2_PER_A_M2, color=BACK_COLOUR, **kw,
+                     label=f"back: {m.stack.back.name}" if bold else None)
+        for p in m.crossings:
+            ax1.plot([p.front_thickness_nm], [p.j_light[0] * MA_CM2_PER_A_M2], "o",
+                     color="k" if p is best else "0.6", ms=5 if p is best else 3)
+        ax1.set_xscale("log")
+        ax1.xaxis.set_major_locator(matplotlib.ticker.LogLocator(subs=(1.0, 2.0, 5.0)))
+        ax1.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+        ax1.xaxis.set_minor_formatter(matplotlib.ticker.NullFormatter())
+        ax1.set_xlabel(f"{m.stack.front.name} thickness [nm]")
+        ax1.set_ylabel("photocurrent [mA/cm²]")
+        swept = ", ".join(f"{k} {v:.0f} nm" for k, v in best.others.items())
+        ax1.set_title("current matches (dots); bold: " + (swept or "the stack as given"),
+                      fontsize=9)
+        ax1.legend(fontsize=8, loc="lower right")
+        ax1.grid(alpha=0.3)
+    e = m.energy
+    budget = photon_budget(m.stack, e, [best.front_thickness_nm], best.others, m.temperature_K)
+    wl = HC_EV_NM / e
+    edge = HC_EV_NM / usable_from_eV(m.stack, m.temperature_K)
+    keep = (wl >= 300) & (wl <= edge + 100)
+    order = np.argsort(wl[keep])
+    x = wl[keep][order]
+    parts = [(f"front: {m.stack.front.name}", budget.front[0], FRONT_COLOUR),
+             (f"back: {m.stack.back.name}", budget.back[0], BACK_COLOUR)]
+    for k, (name, a) in enumerate(budget.parasitic.items()):
+        if np.max(a[0][keep]) > 1e-3:  # layers that absorb nothing visible stay out of the key
+            parts.append((name, a[0], LAYER_COLOURS[k % len(LAYER_COLOURS)]))
+    parts.append(("reflected or escaped", budget.reflected[0], "0.88"))
+    if np.max(budget.transmitted[0][keep]) > 1e-3:
+        parts.append(("transmitted", budget.transmitted[0], "0.97"))
+    ax2.stackplot(x, *[np.clip(p[1][keep][order], 0, 1) for p in parts],
+                  labels=[p[0] for p in parts], colors=[p[2] for p in parts], lw=0)
+    ax2.axvline(edge, color="0.3", ls=":", lw=1)
+    ax2.set_xlim(x[0], x[-1])
+    ax2.set_ylim(0, 1)
+    ax2.set_xlabel("wavelength [nm]")
+    ax2.set_ylabel("share of incident photons [-]")
+    ax2.set_title(f"{m.stack.title}: front {best.front_thickness_nm:.0f} nm, "
+                  f"2T {100 * best.efficiency_2t:.1f} %", fontsize=9)
+    ax2.legend(fontsize=7, loc="center left", bbox_to_anchor=(1.01, 0.5), frameon=False)
+    if ax is None:
+        fig.suptitle("Modelling limits, not measurements", fontsize=8, x=0.99, ha="right",
+                     color="0.4")
+        fig.tight_layout()
+    return fig
+
+
+
+def draw_region(result, ax=None) -> Figure:
+    """The energy-optimal front gap at every site: against latitude (with the bifacial
+    optimum beside the monofacial one), and on a longitude/latitude map.
+
+    With ``ax``, only the gap-against-latitude panel is drawn, into that axes.
+    """
+    frame = result.to_frame()
+    if ax is None:
+        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(12, 4.6))
+    else:
+        fig, ax1, ax2 = ax.figure, ax, None
+    ax1.scatter(frame["latitude"], frame["front_gap_eV"], color=FRONT_COLOUR, s=28,
+                label="monofacial", zorder=3)
+    if "bifacial_front_gap_eV" in frame:
+        ax1.scatter(frame["latitude"], frame["bifacial_front_gap_eV"], facecolor="none",
+                    edgecolor=BACK_COLOUR, s=40, label="bifacial", zorder=3)
+    ax1.axhline(frame["am15g_front_gap_eV"].iloc[0], color="0.5", ls="--", lw=1,
+                label="AM1.5G optimum")
+    ax1.set_xlabel("latitude [°]")
+    ax1.set_ylabel("energy-optimal front gap [eV]")
+    ax1.grid(alpha=0.3)
+    ax1.legend(fontsize=8)
+    if ax2 is not None:
+        points = ax2.scatter(frame["longitude"], frame["latitude"], c=frame["front_gap_eV"],
+                             cmap="viridis", s=60, edgecolor="k", lw=0.4)
+        fig.colorbar(points, ax=ax2, label="energy-optimal front gap [eV]")
+        for _, row in frame.iterrows() if len(frame) <= 30 else ():
+            ax2.annotate(str(row["name"]), (row["longitude"], row["latitude"]), fontsize=7,
+                         xytext=(4, 3), textcoords="offset points")
+        ax2.set_xlabel("longitude [°]")
+        ax2.set_ylabel("latitude [°]")
+        ax2.grid(alpha=0.3)
+        ax2.set_title("2T energy-optimal front gap by site", fontsize=10)
+        fig.suptitle("Modelling limits, not measurements", fontsize=8, x=0.99, ha="right",
+                     color="0.4")
+        fig.tight_layout()
+    return fig
+
+
+def draw_loss_breakdown(breakdown, title: str = "", ax=None) -> Figure:
+    """A waterfall from the incident power to the output: each step a bar hanging from what
+    is left before it [% of the incident power]."""
+    if ax is None:
+        fig, ax = plt.subplots(figsize=(9, 4.8))
+    else:
+        fig = ax.figure
+    incident = breakdown.incident_W_m2
+    steps = [s for s in breakdown.steps[:-1] if abs(s.power_W_m2) > 1e-4 * incident]
+    names = ["incident"] + [s.name for s in steps] + ["output"]
+    left = 100.0
+    ax.bar(0, 100.0, color="0.75", width=0.7)
+    for k, s in enumerate(steps, 1):
+        share = 100 * s.power_W_m2 / incident
+        ax.bar(k, -share, bottom=left, width=0.7, color=BACK_COLOUR if share > 0 else "#2ca02c")
+        ax.text(k, left + 1.0, f"{share:.1f}", ha="center", va="bottom", fontsize=7)
+        left -= share
+    out = 100 * breakdown.output_W_m2 / incident
+    ax.bar(len(names) - 1, out, width=0.7, color=FRONT_COLOUR)
+    ax.text(len(names) - 1, out + 1.0, f"{out:.1f}", ha="center", va="bottom", fontsize=8,
+            weight="bold")
+    ax.set_xticks(range(len(names)), names, rotation=35, ha="right", fontsize=8)
+    ax.set_ylabel("share of the incident power [%]")
+    ax.set_ylim(0, 108)
+    ax.grid(alpha=0.3, axis="y")
+    ax.set_title(title or "where the incident power goes", fontsize=10)
+    fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7,
+             color="0.4")
+    fig.tight_layout()
+    return fig
+
+
+def breakdown_figure(breakdown, path, title: str = "", overwrite: bool = False) -> Path:
+    """Write :func:`draw_loss_breakdown` to ``path``, whole or not at all."""
+    return save_figure(draw_loss_breakdown(breakdown, title), path, overwrite)
+
+
+def draw_eqe(result, ax=None) -> Figure:
+    """Both measured EQEs over wavelength, their radiative tails, and which subcell limits."""
+    if ax is None:
+        fig, ax = plt.subplots(figsize=(7.5, 4.2))
+    else:
+        fig = ax.figure
+    summary = result.summary()
+    for m, colour, sub in zip(result.curves, (FRONT_COLOUR, BACK_COLOUR), summary["subcells"]):
+        wl = HC_EV_NM / m.energy_eV
+        ax.plot(wl, m.eqe, color=colour, label=f"{sub['position']}: {m.name}, "
+                f"{sub['jsc_mA_cm2']:.2f} mA/cm², Voc,rad {sub['voc_radiative_V']:.3f} V")
+    ax.set_xlabel("wavelength [nm]")
+    ax.set_ylabel("EQE [-]")
+    ax.set_ylim(0, 1.05)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=8, loc="upper right")
+    ax.set_title(f"the {summary['limiting_subcell']} subcell limits (mismatch "
+                 f"{summary['mismatch_pct']:.2f} %), {result.spectrum}", fontsize=9)
+    fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7,
+             color="0.4")
+    return fig

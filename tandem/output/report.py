@@ -1,0 +1,381 @@
+"""Plain-dict summaries of results, in display units, for JSON, tables and files.
+
+Keys carry their unit (``_pct``, ``_V``, ``_mA_cm2``, ``_W_m2``, ``_eV``, ``_K``).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Callable
+
+import math
+
+import numpy as np
+
+from tandem.physics.stack import SUBCELL_NAMES
+from tandem.physics.limit import DesignResult
+from tandem.core.units import MA_CM2_PER_A_M2
+
+if TYPE_CHECKING:
+    from tandem.design.maps import GapMap
+    from tandem.design.yields import HourlyDesign, YieldSweep
+
+CAUTION = ("Modelling limits from detailed balance, not certified measurements; "
+           "real devices fall short of them.")
+
+
+def _r(x, digits=4):
+    """Rounded for display; a quantity that is undefined (e.g. the fill factor of a cell
+    without light) is None, never NaN, so JSON stays valid."""
+    if x is None:
+        return None
+    x = float(x)
+    return round(x, digits) if math.isfinite(x) else None
+
+
+def design_summary(result: DesignResult) -> dict:
+    """The keys documented for ``tandem limit --json``.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+    >>> s = tandem.design_summary(tandem.detailed_balance_limit([1.34], flux, temperature_K=300.0))
+    >>> s['efficiency_pct'], s['limiting_subcell']
+    (33.6789, None)
+    """
+    perf = result.performance
+    irr = perf.irradiance
+    share = result.subcell_power()
+    subcells = []
+    for i, gap in enumerate(result.gaps_eV):
+        subcells.append({
+            "position": SUBCELL_NAMES[i] if result.n_subcells == 2 else "single",
+            "gap_eV": _r(gap),
+            "jsc_mA_cm2": _r(perf.j_light[i] * MA_CM2_PER_A_M2),
+            "voc_V": _r(perf.voc[i]),
+            "ff_pct": _r(100 * perf.ff_own[i], 3),
+            "efficiency_pct": _r(100 * share[i] / irr),
+            "ere": result.ere[i],
+        })
+    two = result.n_subcells == 2
+    series = result.terminals == 2
+    summary = {
+        "efficiency_pct": _r(100 * result.efficiency),
+        "power_W_m2": _r(result.power, 3),
+        # A four-terminal stack has no single J-V curve: its stack Voc, Jsc and FF are null.
+        "voc_V": _r(perf.voc_2t) if series else None,
+        "jsc_mA_cm2": _r(perf.jsc_2t * MA_CM2_PER_A_M2) if series else None,
+        "ff_pct": _r(100 * perf.ff_2t, 3) if series else None,
+        "terminals": result.terminals if two else 1,
+        "limiting_subcell": SUBCELL_NAMES[int(perf.limiting_index)] if two else None,
+        "mismatch_pct": _r(100 * perf.mismatch, 3) if two else None,
+        "efficiency_2t_pct": _r(100 * perf.efficiency_2t) if two else None,
+        "efficiency_4t_pct": _r(100 * perf.efficiency_4t) if two else None,
+        "temperature_K": result.temperature_K,
+        "irradiance_W_m2": _r(irr, 3),
+        "spectrum": result.spectrum_name,
+        "spectrum_notes": list(result.spectrum_notes),
+        "model_notes": list(result.model_notes),
+        "subcells": subcells,
+        "caution": CAUTION,
+    }
+    return summary
+
+
+@dataclass(frozen=True)
+class Column:
+    """One column of the design tables: its key, its headings, its format and where it comes
+    from. Adding a design-table column is one line in :data:`DESIGN_COLUMNS`: the JSON,
+    the terminal tables, CSV, Markdown and LaTeX all read this list."""
+
+    key: str  #: key in rows and JSON (unit in the name)
+    label: str  #: heading in files ("front gap [eV]")
+    short: str  #: heading in the terminal ("gap eV")
+    fmt: str  #: format of one value
+    value: Callable | None = None  #: configuration -> value (None: the study fills it)
+    terminal: bool = True  #: shown in terminal tables
+    compact: bool = True  #: kept when the terminal is narrow (the others need --wide or room)
+
+
+def _limiting(c):
+    from tandem.design.matching import subcell_name
+
+    return subcell_name(int(c.performance.limiting_index))
+
+
+DESIGN_COLUMNS = [
+    Column("front_gap_eV", "front gap [eV]", "gap eV", "{:.3f}", lambda c: _r(c.front_gap_eV)),
+    Column("front_composition", "front composition", "x", "{:.3f}",
+           lambda c: _r(c.front_composition), terminal=False),
+    Column("front_thickness_nm", "front [nm]", "front nm", "{:.0f}",
+           lambda c: _r(c.front_thickness_nm, 1)),
+    Column("matched_front_thickness_nm", "matched [nm]", "match nm", "{:.0f}",
+           lambda c: _r(c.matched_front_thickness_nm, 1)),
+    Column("back_thickness_um", "back [µm]", "back µm", "{:g}",
+           lambda c: _r(c.back_thickness_nm / 1000.0, 4), compact=False),
+    Column("jsc_front_mA_cm2", "Jsc front [mA/cm²]", "Jsc front", "{:.2f}",
+           lambda c: _r(c.performance.j_light[0] * MA_CM2_PER_A_M2)),
+    Column("jsc_back_mA_cm2", "Jsc back [mA/cm²]", "Jsc back", "{:.2f}",
+           lambda c: _r(c.performance.j_light[1] * MA_CM2_PER_A_M2)),
+    Column("mismatch_pct", "mismatch [%]", "mismatch %", "{:.2f}",
+           lambda c: _r(100 * c.performance.mismatch, 3), compact=False),
+    Column("limiting_subcell", "limiting", "limiting", "{}", _limiting),
+    Column("voc_2t_V", "Voc 2T [V]", "Voc 2T V", "{:.3f}", lambda c: _r(c.performance.voc_2t), compact=False),
+    Column("ff_2t_pct", "FF 2T [%]", "FF 2T %", "{:.1f}", lambda c: _r(100 * c.performance.ff_2t, 3), compact=False),
+    Column("efficiency_2t_pct", "2T [%]", "2T %", "{:.2f}",
+           lambda c: _r(100 * c.performance.efficiency_2t)),
+    Column("efficiency_4t_pct", "4T [%]", "4T %", "{:.2f}",
+           lambda c: _r(100 * c.performance.efficiency_4t)),
+]
+
+
+def configuration_row(c) -> dict:
+    """One configuration as a row of :data:`DESIGN_COLUMNS` (display units)."""
+    return {col.key: col.value(c) for col in DESIGN_COLUMNS}
+
+
+def _absorber(a) -> dict:
+    return {"key": a.key, "name": a.name, "gap_eV": _r(a.gap_eV),
+            "tunable_gap_eV": [_r(g) for g in a.gap_range_eV] if a.tunable else None,
+            "ere": a.ere, "ere_origin": a.ere_origin, "file": str(a.path)}
+
+
+def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_pct: float = 1.0) -> dict:
+    """The keys documented for ``tandem match --json``.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> study = tandem.match('gainp', 'gaas', sweep=tandem.Sweep(thickness_points=10))
+    >>> s = tandem.match_summary(study.result)
+    >>> s['front']['key'], s['terminals']
+    ('gainp', 2)
+    """
+    from tandem.design.matching import temperature_note, tolerance_windows
+    from tandem.physics.checks import electrical_notes
+
+    best = result.configurations[0]
+    windows = tolerance_windows(result, tolerance_pct)
+    cond = result.conditions
+    summary = {
+        "front": _absorber(result.design.front),
+        "back": _absorber(result.design.back),
+        "terminals": result.terminals,
+        "configurations": [configuration_row(c) for c in result.configurations[:top]],
+        "matched_front_thickness_nm": (None if best.matched_front_thickness_nm is None
+                                       else _r(best.matched_front_thickness_nm, 1)),
+        "note": best.match_note if best.matched_front_thickness_nm is None else None,
+        "best_4t": configuration_row(result.best_4t),
+        "tolerance": {
+            "loss_pct_abs": tolerance_pct,
+            "front_thickness_window_nm": [_r(v, 1) for v in windows["front_thickness_window_nm"]],
+            "front_gap_window_eV": (None if windows["front_gap_window_eV"] is None
+                                    else [_r(v) for v in windows["front_gap_window_eV"]]),
+        },
+        "losses": {
+            "reflectance": _loss(result.design.reflectance),
+            "front_parasitic": _loss(result.design.front_parasitic),
+            "interlayer_parasitic": _loss(result.design.interlayer_parasitic),
+        },
+        "spectrum": cond.photon_flux.name,
+        "spectrum_notes": list(cond.photon_flux.notes),
+        "irradiance_W_m2": _r(cond.photon_flux.irradiance, 3),
+        "temperature_K": cond.temperature_K,
+        "temperature_note": temperature_note(result.design, best.front_gap_eV, cond.temperature_K),
+        "model_notes": list(electrical_notes(cond.electrical, result.design.front.refractive_index,
+                                             cond.ideality, False)),
+        "configurations_evaluated": result.n_evaluated,
+        "caution": CAUTION,
+    }
+    if verdict is not None:
+        summary["order"] = {
+            "recommended_front": verdict.recommended_front,
+            "given_order_is_better": verdict.user_order_is_better,
+            "reason": verdict.reason,
+        }
+    if swapped is not None:
+        summary["swapped"] = {
+            "front": swapped.design.front.key,
+            "back": swapped.design.back.key,
+            "configurations": [configuration_row(c) for c in swapped.configurations[:top]],
+        }
+    return summary
+
+
+def _loss(value):
+    import numpy as np
+
+    arr = np.asarray(value)
+    return _r(arr) if arr.ndim == 0 else "spectral"
+
+
+def absorber_summary(a) -> dict:
+    """One absorber's resolved parameters, for `tandem absorbers NAME` and manifests.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> tandem.absorber_summary(tandem.load_absorber('silicon'))['gap_eV']
+    1.12
+    """
+    from tandem.core.units import HC_EV_NM
+
+    edge = a.edge
+    out = {
+        "key": a.key,
+        "name": a.name,
+        "description": a.description,
+        "file": str(a.path),
+        "gap_eV": _r(a.gap_eV),
+        "gap_relation": None if a.relation is None else {
+            "coefficients_eV": list(a.relation.coefficients_eV),
+            "composition": a.relation.composition,
+            "composition_range": list(a.relation.composition_range),
+            "composition_default": a.relation.composition_default,
+        },
+        "gap_temperature_coefficient_meV_per_K": (None if a.gap_temperature_coefficient_eV_K is None
+                                                  else a.gap_temperature_coefficient_eV_K * 1000),
+        "edge_model": a.edge_model,
+        "edge_origin": getattr(edge, "origin", "parametric"),
+        "urbach_energy_meV": _r(edge.urbach_energy_eV * 1000, 3),
+        "refractive_index": a.refractive_index,
+        "light_trapping": a.light_trapping,
+        "ere": a.ere,
+        "ere_origin": a.ere_origin,
+        "collection_length_nm": a.collection_length_nm,
+        "thickness_nm": a.thickness_nm,
+        "thickness_range_nm": list(a.thickness_range_nm),
+        "alpha_per_cm": {f"{wl} nm": float(f"{float(a.alpha(HC_EV_NM / wl)):.4g}")
+                         for wl in (400, 500, 600, 700, 800, 900, 1000, 1100)},
+        "sources": a.sources,
+    }
+    return out
+
+
+def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
+    """Optimum and tolerance windows of a map, in display units."""
+    from tandem.design.matching import tolerance_window
+
+    i, j = gap_map.optimum(terminals)
+    eff = 100 * gap_map.efficiency(terminals)
+    front_window = tolerance_window(gap_map.front_gaps, eff[:, j], tolerance_pct)
+    back_window = (tolerance_window(gap_map.back_gaps, eff[i, :], tolerance_pct)
+                   if gap_map.back_gaps.size > 1 else None)
+    jf, jb = gap_map.j_front[i, j], gap_map.j_back[i, j]
+    return {
+        "optimum": {
+            "front_gap_eV": round(float(gap_map.front_gaps[i]), 4),
+            "back_gap_eV": round(float(gap_map.back_gaps[j]), 4),
+            "efficiency_pct": round(float(eff[i, j]), 4),
+            "terminals": terminals,
+            "efficiency_2t_pct": round(float(100 * gap_map.efficiency_2t[i, j]), 4),
+            "efficiency_4t_pct": round(float(100 * gap_map.efficiency_4t[i, j]), 4),
+            "limiting_subcell": "front" if jf <= jb else "back",
+            "mismatch_pct": round(float(100 * abs(jf - jb) / min(jf, jb)), 3),
+        },
+        "tolerance": {
+            "loss_pct_abs": tolerance_pct,
+            "front_gap_window_eV": [round(v, 4) for v in front_window],
+            "back_gap_window_eV": None if back_window is None else [round(v, 4) for v in back_window],
+        },
+        "grid_points": gap_map.grid_points,
+        "valid_pairs": int(np.isfinite(gap_map.efficiency_2t).sum()),
+        "spectrum": gap_map.spectrum,
+        "irradiance_W_m2": round(gap_map.irradiance, 3),
+        "temperature_K": gap_map.temperature_K,
+        "caution": CAUTION,
+    }
+
+
+def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
+    """Totals and optima in display units (the `tandem yield --json` keys)."""
+    i, j = sweep.optimum
+    a, b = sweep.am15_optimum
+    i4, j4 = sweep.optimum_4t
+    e2, e4 = float(sweep.energy_2t[i, j]), float(sweep.energy_4t[i, j])
+    months = best.times.month
+    monthly = []
+    for m in sorted(set(months)):
+        sel = months == m
+        monthly.append({"month": int(m), "energy_2t_kWh_m2": round(float(best.p_2t[sel] @ best.step_hours[sel]) / 1000, 3),
+                           "energy_4t_kWh_m2": round(float(best.p_4t[sel] @ best.step_hours[sel]) / 1000, 3),
+                           "insolation_kWh_m2": round(float(best.irradiance[sel] @ best.step_hours[sel]) / 1000, 3)})
+    front_limits = float(np.sum(best.step_hours[best.j_front < best.j_back] * best.irradiance[best.j_front < best.j_back])
+                         / max(np.sum(best.step_hours * best.irradiance), 1e-300))
+    return {
+        "front": sweep.design.front.key,
+        "back": sweep.design.back.key,
+        "source": sweep.series.source,
+        "source_notes": list(sweep.series.notes),
+        "steps": int(sweep.series.times.size),
+        "insolation_kWh_m2": round(sweep.insolation, 3),
+        "energy_optimum": {
+            "front_gap_eV": round(float(sweep.gaps[i]), 4),
+            "front_thickness_nm": round(float(sweep.thicknesses[j]), 1),
+            "energy_2t_kWh_m2": round(e2, 3),
+            "energy_4t_kWh_m2": round(e4, 3),
+            "energy_weighted_efficiency_2t_pct": round(100 * e2 / sweep.insolation, 3),
+            "energy_weighted_efficiency_4t_pct": round(100 * e4 / sweep.insolation, 3),
+            "mismatch_loss_kWh_m2": round(e4 - e2, 3),
+            "mismatch_loss_pct": round(100 * (e4 - e2) / e4, 3),
+            "share_of_light_with_front_limiting_pct": round(100 * front_limits, 2),
+        },
+        "energy_optimum_4t": {
+            "front_gap_eV": round(float(sweep.gaps[i4]), 4),
+            "front_thickness_nm": round(float(sweep.thicknesses[j4]), 1),
+            "energy_4t_kWh_m2": round(float(sweep.energy_4t[i4, j4]), 3),
+        },
+        "am15g_optimum": {
+            "front_gap_eV": round(float(sweep.gaps[a]), 4),
+            "front_thickness_nm": round(float(sweep.thicknesses[b]), 1),
+            "efficiency_2t_pct": round(100 * float(sweep.efficiency_am15_2t[a, b]), 3),
+            "energy_2t_kWh_m2": round(float(sweep.energy_2t[a, b]), 3),
+            "energy_4t_kWh_m2": round(float(sweep.energy_4t[a, b]), 3),
+        },
+        "back_thickness_um": round(sweep.back_thickness_nm / 1000.0, 4),
+        "monthly": monthly,
+        "grid": {"front_gaps": int(sweep.gaps.size), "front_thicknesses": int(sweep.thicknesses.size)},
+        "spectral_basis": {"rank": sweep.basis_rank,
+                           "photocurrent_error_bound": float(f"{sweep.basis_bound:.2e}")},
+        "caution": CAUTION,
+    }
+
+
+def stack_summary(result) -> dict:
+    """A layer-stack match in display units (the `tandem match --stack --json` keys)."""
+    m = result.match
+
+    def point(p) -> dict:
+        return {**{f"{k} [nm]": round(v, 1) for k, v in p.others.items()},
+                "front_thickness_nm": round(p.front_thickness_nm, 1),
+                "jsc_front_mA_cm2": round(float(p.j_light[0]) / 10, 3),
+                "jsc_back_mA_cm2": round(float(p.j_light[1]) / 10, 3),
+                "efficiency_2t_pct": round(100 * p.efficiency_2t, 3),
+                "efficiency_4t_pct": round(100 * p.efficiency_4t, 3),
+                "voc_2t_V": round(p.voc_2t, 4),
+                "current_matched": p.matched}
+
+    best = m.best
+    losses = {k: round(v / 10, 3) for k, v in best.parasitic.items()}
+    from tandem.design.layerstack import usable_from_eV
+
+    return {
+        "stack": m.stack.key, "title": m.stack.title,
+        "front": m.stack.front.absorber.key, "back": m.stack.back.absorber.key,
+        "layers": [{"name": x.name, "role": x.role, "thickness_nm": (list(x.sweep_nm) if x.sweep_nm
+                    else x.thickness_nm), "coherent": x.coherent, "optical_constants": x.source}
+                   for x in m.stack.layers],
+        "best": point(best),
+        "best_4t": point(m.best_4t),
+        "matches": [point(p) for p in m.crossings],
+        "parasitic_loss_mA_cm2": losses,
+        "reflected_or_escaped_mA_cm2": round(best.reflected / 10, 3),
+        "losses_counted_above_eV": round(usable_from_eV(m.stack, m.temperature_K), 4),
+        "optics_lite_matched_front_thickness_nm": (None if result.optics_lite_matched_nm is None
+                                                   else round(result.optics_lite_matched_nm, 1)),
+        "notes": list(m.notes),
+        "spectrum": result.spectrum, "irradiance_W_m2": round(m.irradiance, 3),
+        "temperature_K": m.temperature_K,
+        "caution": CAUTION,
+    }

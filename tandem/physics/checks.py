@@ -1,0 +1,130 @@
+"""Checks of the quantities a detailed-balance calculation takes (one line each when refused).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Sequence
+
+import numpy as np
+
+from tandem.core.errors import TandemInputError
+from tandem.core.units import K_B_EV
+from tandem.physics import detailed_balance as db
+from tandem.physics.spectra import PhotonFlux
+from tandem.physics.stack import Electrical, StackPerformance
+
+# --------------------------------------------------------------------------------------
+# One design, checked and described for people
+# --------------------------------------------------------------------------------------
+
+
+#: Cell temperatures the model accepts [K]: far beyond any solar cell's operating range.
+CELL_TEMPERATURE_RANGE_K = (150.0, 500.0)
+
+
+def check_temperature(temperature_K: float, what: str = "cell temperature") -> None:
+    """Refuse a cell temperature outside 150–500 K; a value that looks like °C says so."""
+    lo, hi = CELL_TEMPERATURE_RANGE_K
+    if math.isfinite(temperature_K) and lo <= temperature_K <= hi:
+        return
+    hint = (f"did you mean {temperature_K:g}C ({temperature_K + 273.15:g} K)? "
+            if math.isfinite(temperature_K) and -100 <= temperature_K < lo else "")
+    raise TandemInputError(f"{what} {temperature_K:g} K is outside {lo:g}–{hi:g} K; {hint}give kelvin "
+                           "(298.15K) or Celsius with its unit (25C)")
+
+
+def check_ere(ere: Sequence[float], n_subcells: int) -> np.ndarray:
+    """ERE values, one per subcell; one value serves all. Each must lie in (0, 1]."""
+    values = [float(x) for x in ere]
+    if len(values) == 1:
+        values = values * n_subcells
+    if len(values) != n_subcells:
+        raise TandemInputError(f"ERE has {len(values)} values for {n_subcells} subcells; "
+                               "give one value, or one per subcell, front first")
+    for v in values:
+        if not (0 < v <= 1):
+            raise TandemInputError(f"ERE {v:g} is outside (0, 1]; the external radiative "
+                                   "efficiency is a fraction, 1 in the radiative limit")
+    return np.array(values)
+
+
+def check_ideality(ideality: float) -> None:
+    """The non-radiative diode's ideality factor: 2/3 (Auger) to 5, finite."""
+    if not (math.isfinite(ideality) and 0.5 <= ideality <= 5):
+        raise TandemInputError(f"ideality {ideality:g}: give the non-radiative diode's ideality "
+                               "factor between 0.5 and 5 (1 = the ERE model alone)")
+
+
+def check_front_index(index: float) -> None:
+    if not (math.isfinite(index) and 1.0 <= index <= 6.0):
+        raise TandemInputError(f"front refractive index {index:g}: give a value between 1 and 6 "
+                               "(about 2.5 for perovskites, 3.5 for III-V and silicon)")
+
+
+def electrical_notes(electrical: Electrical, front_index: float, ideality: float,
+                     radiative: bool, n_subcells: int = 2) -> tuple[str, ...]:
+    """Plain-language notes on the emission convention and the diode model used."""
+    notes = []
+    if n_subcells == 2:
+        if electrical.coupling > 0:
+            notes.append(f"the front emits towards the back ({front_index:g}² × its front-face "
+                         f"emission, counted as its loss); {100 * electrical.coupling:g} % of "
+                         "that emission is collected by the back (luminescent coupling)")
+        elif electrical.rear_emission:
+            notes.append(f"the front emits towards the back ({front_index:g}² × its front-face "
+                         "emission), a loss with no coupling")
+        else:
+            notes.append("each subcell emits through its front only (perfect selective "
+                         "reflector between them, the published convention)")
+    if ideality != 1.0:
+        notes.append(f"non-radiative diode with ideality {ideality:g}, set by the ERE at open "
+                     "circuit" + ("; with ERE 1 there is no non-radiative recombination, so "
+                                  "the ideality changes nothing" if radiative else ""))
+    return tuple(notes)
+
+
+#: A subcell that collects less than this share of the spectrum's photons "receives no light".
+DARK_SHARE = 1e-3
+
+
+def check_receives_light(j_light, photon_flux: PhotonFlux, what: Sequence[str]) -> None:
+    """Refuse a design whose subcell collects (almost) none of the spectrum's photons.
+
+    ``j_light`` holds the best photocurrent each subcell reaches [A/m²] (subcells on the last
+    axis), ``what`` a description of each subcell for the message.
+    """
+    total = db.Q * float(db.cumulative_flux(photon_flux.energy, photon_flux.flux)[-1])
+    best = np.max(np.reshape(j_light, (-1, len(what))), axis=0)
+    for j, name in zip(best, what):
+        if not j > DARK_SHARE * total:
+            raise TandemInputError(
+                f"{name} receives almost no light ({j / 10:.3g} mA/cm², under "
+                f"{100 * DARK_SHARE:g} % of the {total / 10:.1f} mA/cm² of photons in "
+                f"'{photon_flux.name}', which reaches up to {photon_flux.energy[-1]:.2f} eV); "
+                "choose a lower gap, a thicker layer or a spectrum that covers it")
+
+
+def check_boltzmann_regime(perf: StackPerformance, gaps_eV, temperature_K, what) -> None:
+    """Refuse a result whose subcell operates within kT of its gap.
+
+    The diodes use Boltzmann statistics (J0·e^{qV/kT}); they hold while Eg − qV ≫ kT. A back
+    cell pumped by a strongly coupled front under extreme concentration can be driven past
+    that, where only the full Bose–Einstein emission (not modelled) would keep qV below Eg.
+    """
+    kt = K_B_EV * float(np.max(temperature_K))
+    voltages = np.maximum(perf.voc, perf.v_2t_sub)
+    close = voltages > np.asarray(gaps_eV) - kt
+    if np.any(close):
+        i = int(np.argmax(close))
+        raise TandemInputError(
+            f"{what[i]} would operate at {float(voltages[i]):.4f} V, within kT of its gap, where "
+            "this model's Boltzmann diode does not hold; lower the concentration or the coupling")
+
+
+def check_gap_order(gaps: Sequence[float]) -> None:
+    for name, g in zip(("front gap", "back gap") if len(gaps) == 2 else ("gap",), gaps):
+        if not (math.isfinite(g) and g > 0):
+            raise TandemInputError(f"{name} {g:g} eV: a band gap must be a positive energy in eV")
+
+

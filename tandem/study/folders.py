@@ -1,0 +1,146 @@
+"""Study folders: written whole or not at all, replacing only what tandem wrote.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from pathlib import Path
+
+import numpy as np
+
+from tandem.core.errors import TandemInputError
+from tandem.core.files import check_output_folder, place_folder
+from tandem.design.matching import (
+    tolerance_windows,
+)
+from tandem.study.manifest import manifest
+from tandem.study.run import StudyResult
+from tandem.study.sources import read_manifest
+from tandem.study.tables import columns, latex_table, loss_table, markdown_table
+
+STUDY_FILES = ("design-table.csv", "design-table.md", "design-table.tex", "loss-breakdown.csv",
+               "manifest.json")
+FIGURE_SUFFIXES = (".png", ".svg")
+
+
+def study_replace_reason(target: Path, protected=()) -> str | None:
+    """None if ``target`` is a study folder that --overwrite may replace, else why not.
+
+    Replaceable: a real folder holding a manifest that 'tandem study' wrote (its checksum
+    verifies) and only the files a study writes; never a file, a link, the working directory
+    or a folder above it, or a folder holding an input of the run.
+    """
+    target = Path(os.path.abspath(target))
+    if target.is_symlink():
+        return f"'{target}' is a link; --overwrite replaces only a study folder itself"
+    if not target.is_dir():
+        return (f"'{target}' is a file, not a study folder; --overwrite replaces only a folder "
+                "written by 'tandem study'")
+    real = target.resolve()
+    cwd = Path.cwd().resolve()
+    if real == cwd or real in cwd.parents:
+        return (f"'{target}' is the working directory or holds it; --overwrite never replaces "
+                "it: choose another --out")
+    for p in protected:
+        p = Path(p).resolve()
+        if real == p or real in p.parents:
+            return (f"'{target}' holds '{p}', an input of this run; --overwrite never replaces "
+                    "it: choose another --out")
+    manifest_path = target / "manifest.json"
+    try:
+        read_manifest(manifest_path)
+    except TandemInputError:
+        return (f"'{target}' is not a tandem study folder (no valid manifest.json); --overwrite "
+                "replaces only folders written by 'tandem study'")
+    for entry in sorted(target.iterdir()):
+        if entry.name == "figures" and entry.is_dir() and not entry.is_symlink():
+            odd = [f for f in entry.iterdir() if f.suffix not in FIGURE_SUFFIXES or not f.is_file()]
+            if odd:
+                return (f"'{target}' holds '{odd[0].relative_to(target)}', which 'tandem study' "
+                        "did not write; move it or choose another --out")
+        elif entry.name not in STUDY_FILES or not entry.is_file():
+            return (f"'{target}' holds '{entry.name}', which 'tandem study' did not write; move it "
+                    "or choose another --out")
+    return None
+
+
+def check_study_target(folder: str | Path, overwrite: bool, protected=()) -> Path:
+    """Check, before any computation, that the study folder can be written (or replaced)."""
+    target = check_output_folder(folder)
+    if os.path.lexists(target):
+        if not overwrite:
+            raise TandemInputError(f"study folder '{target}' exists; choose another --out or pass "
+                                   "--overwrite")
+        reason = study_replace_reason(target, protected)
+        if reason:
+            raise TandemInputError(reason)
+    return target
+
+
+def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
+                figures: bool = True) -> Path:
+    """Write the study folder whole, then put it in place atomically (see
+    :func:`~tandem.core.files.place_folder`): an existing folder is replaced only with
+    ``overwrite`` and only if it is a study folder (:func:`study_replace_reason`)."""
+    import pandas as pd
+
+    protected = study.scenario.input_paths
+    check_study_target(folder, overwrite, protected)
+
+    def build(tmp: Path) -> None:
+        table = pd.DataFrame(study.rows)[[c.key for c in columns(study)]]
+        table.to_csv(tmp / "design-table.csv", index=False, float_format="%.6g")
+        breakdowns = loss_table(study)
+        breakdowns.to_csv(tmp / "loss-breakdown.csv", index=False, float_format="%.6g")
+        (tmp / "design-table.md").write_text(markdown_table(study), encoding="utf-8")
+        (tmp / "design-table.tex").write_text(latex_table(study), encoding="utf-8")
+        if figures:
+            _write_figures(study, tmp / "figures")
+        (tmp / "manifest.json").write_text(json.dumps(manifest(study, figures), indent=2,
+                                                      ensure_ascii=False) + "\n", encoding="utf-8")
+
+    return place_folder(folder, build, overwrite, lambda t: study_replace_reason(t, protected))
+
+
+def _write_figures(study: StudyResult, folder: Path) -> None:
+    from tandem.design.breakdown import match_breakdown
+    from tandem.design.maps import gap_axis, step_gap_map
+    from tandem.output.plots import breakdown_figure, map_figures, match_figure
+
+    folder.mkdir()
+    for (front, back), result in study.results.items():
+        match_figure(result, folder / f"match-{front}-over-{back}.png",
+                     tolerance=tolerance_windows(result, study.scenario.tolerance_pct))
+        breakdown_figure(match_breakdown(result), folder / f"losses-{front}-over-{back}.png",
+                         f"{front} over {back}: where the incident power goes")
+    for key, m in study.stacks.items():
+        from types import SimpleNamespace
+
+        from tandem.output.plots import stack_figure
+
+        stack_figure(SimpleNamespace(match=m), folder / f"photons-{key}.png")
+    if "map" in study.scenario.data:
+        fg = gap_axis(*study.scenario.get("map", "front_gaps_eV"), "map.front_gaps_eV")
+        bg = gap_axis(*study.scenario.get("map", "back_gaps_eV"), "map.back_gaps_eV")
+        flux = study.scenario.spectrum().photon_flux()
+        gap_map = step_gap_map(flux, fg, bg, study.scenario.temperature_K)
+        marks = ([(a.key, a.gap_eV, "front") for a in study.scenario.fronts]
+                 + [(a.key, a.gap_eV, "back") for a in study.scenario.backs])
+        map_figures(gap_map, study.scenario.terminals, study.scenario.tolerance_pct, marks,
+                    folder / "gap-map")
+
+
+def study_rows_equal(a: list[dict], b: list[dict], tol: float = 1e-9) -> bool:
+    """Two design tables agree (numbers to ``tol``): used to check a reproduced study."""
+    if len(a) != len(b):
+        return False
+    for ra, rb in zip(a, b):
+        for k in ra:
+            x, y = ra[k], rb.get(k)
+            if isinstance(x, float) and isinstance(y, float):
+                if not np.isclose(x, y, rtol=tol, atol=tol):
+                    return False
+            elif x != y:
+                return False
+    return True

