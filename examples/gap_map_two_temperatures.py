@@ -13,7 +13,7 @@ import tandem
 maps = {}
 for t in (298.15, 338.15):
     result = tandem.gap_map(operating=tandem.OperatingPoint(temperature_K=t),
-                            front_gaps_eV=(1.55, 1.95, 0.005), back_gaps_eV=(1.12, 1.12, 0.01))
+                            front_gaps_eV=tandem.gap_range(1.55, 1.95, 0.005), back_gaps_eV=1.12)
     maps[t] = result.to_dataset()
     o = result.summary()["optimum"]
     print(f"{t:.2f} K: best 2T {o['efficiency_pct']:.2f} % at front {o['front_gap_eV']:.3f} eV")

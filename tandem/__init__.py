@@ -17,6 +17,7 @@ __version__ = "0.2.0"
 _WHERE = {
     # inputs and jobs
     "Light": "jobs.inputs", "OperatingPoint": "jobs.inputs", "Sweep": "jobs.inputs",
+    "gap_range": "jobs.inputs", "gap_values": "jobs.inputs", "thickness_axis": "jobs.inputs",
     "limit": "jobs.limit", "match": "jobs.match", "gap_map": "jobs.gap_map",
     "energy_yield": "jobs.energy_yield", "fabrication_spread": "jobs.spread",
     "LimitResult": "jobs.limit", "MatchStudy": "jobs.match", "MapResult": "jobs.gap_map",

@@ -31,12 +31,12 @@ JOBS = {
         temperature_K=300, ere=(0.01,), ideality=1.5)),
         ["limit", "1.73", "1.12", "--temperature", "300", "--ere", "0.01", "--ideality", "1.5"]),
     "match": (lambda: tandem.match("perovskite-wide", "silicon", operating=tandem.OperatingPoint(
-        reflectance=0.03, temperature_K=310), sweep=tandem.Sweep(front_gaps_eV=(1.68, 1.74, 0.03),
+        reflectance=0.03, temperature_K=310), sweep=tandem.Sweep(front_gaps_eV=[1.68, 1.71, 1.74],
                                                                  thickness_points=30)),
         ["match", "perovskite-wide", "silicon", "--reflectance", "0.03", "--temperature", "310",
          "--front-gaps", "1.68:1.74:0.03", "--points", "30", "-q"]),
     "map": (lambda: tandem.gap_map(operating=tandem.OperatingPoint(terminals=4),
-                                   front_gaps_eV=(1.5, 2.0, 0.05), back_gaps_eV=(0.9, 1.3, 0.05)),
+                                   front_gaps_eV=tandem.gap_range(1.5, 2.0, 0.05), back_gaps_eV=tandem.gap_range(0.9, 1.3, 0.05)),
             ["map", "--front", "1.5:2.0:0.05", "--back", "0.9:1.3:0.05", "-t", "4", "-q"]),
     "spread": (lambda: tandem.fabrication_spread("gainp", "gaas", samples=200, seed=3,
                                                   target_pct=30.0),
@@ -85,7 +85,7 @@ def test_plots_return_figures_and_leave_the_backend_alone():
     before, open_figures = matplotlib.get_backend(), plt.get_fignums()
     results = [tandem.limit([1.73, 1.12]),
                tandem.match("organic-wide", "organic-narrow", sweep=tandem.Sweep(thickness_points=10)),
-               tandem.gap_map(front_gaps_eV=(1.6, 1.9, 0.1), back_gaps_eV=(0.9, 1.2, 0.1)),
+               tandem.gap_map(front_gaps_eV=[1.6, 1.7, 1.8, 1.9], back_gaps_eV=[0.9, 1.0, 1.1, 1.2]),
                tandem.fabrication_spread("gainp", "gaas", samples=50)]
     for r in results:
         fig = r.plot()
@@ -97,7 +97,7 @@ def test_plots_return_figures_and_leave_the_backend_alone():
 
 
 def test_datasets_carry_units_and_conditions():
-    ds = tandem.gap_map(front_gaps_eV=(1.6, 1.9, 0.1), back_gaps_eV=(0.9, 1.2, 0.1)).to_dataset()
+    ds = tandem.gap_map(front_gaps_eV=[1.6, 1.7, 1.8, 1.9], back_gaps_eV=[0.9, 1.0, 1.1, 1.2]).to_dataset()
     assert ds["front_gap"].attrs["units"] == "eV" and ds["efficiency_2t"].attrs["units"] == "%"
     assert ds.attrs["temperature_K"] == 298.15 and ds.attrs["terminals"] == 2
     assert "AM1.5G" in ds.attrs["spectrum"]
@@ -196,3 +196,25 @@ def test_json_output_follows_its_schema(command, tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     schema = json.loads((ROOT / "tandem" / "schemas" / f"{command}.json").read_text())
     jsonschema.validate(cli_json(*SCHEMA_RUNS[command]), schema)
+
+
+# ---- one meaning for every gaps input (issue: a list given to Sweep was read as a range) ----
+
+def test_sweep_takes_the_gaps_themselves():
+    # before: Sweep(front_gaps_eV=[1.68, 1.70, 1.72]).gaps() silently returned [1.68]
+    assert tandem.Sweep(front_gaps_eV=[1.68, 1.70, 1.72]).gaps().tolist() == [1.68, 1.70, 1.72]
+    assert tandem.Sweep(front_gaps_eV=1.7).gaps().tolist() == [1.7]
+    assert tandem.Sweep(front_gaps_eV=tandem.gap_range(1.68, 1.76, 0.04)).gaps().tolist() == \
+        pytest.approx([1.68, 1.72, 1.76], abs=1e-12)
+
+
+def test_a_range_triple_given_as_gaps_is_refused_with_the_helper_named():
+    with pytest.raises(tandem.TandemInputError, match="gap_range"):
+        tandem.Sweep(front_gaps_eV=(1.68, 1.76, 0.02))
+    with pytest.raises(tandem.TandemInputError, match="positive"):
+        tandem.gap_map(front_gaps_eV=[1.6, float("nan")])
+
+
+def test_gap_map_and_yield_read_gaps_alike():
+    m = tandem.gap_map(front_gaps_eV=[1.70, 1.75], back_gaps_eV=[1.12])
+    assert m.gap_map.front_gaps.tolist() == [1.70, 1.75] and m.gap_map.back_gaps.tolist() == [1.12]

@@ -57,7 +57,7 @@ def test_real_cells_show_optical_nonradiative_and_resistive_losses():
                                                      electrical=Electrical(
                                                          series_resistance_ohm_cm2=1.0,
                                                          shunt_resistance_ohm_cm2=2000.0)),
-                     sweep=tandem.Sweep(front_gaps_eV=(1.7, 1.7, 0.01), thickness_points=20))
+                     sweep=tandem.Sweep(front_gaps_eV=1.7, thickness_points=20))
     b = m.loss_breakdown()
     parts = steps(b)
     assert sum(parts.values()) == pytest.approx(b.incident_W_m2, rel=1e-12)

@@ -9,7 +9,8 @@ from typer.testing import CliRunner
 
 import tandem
 from tandem.cli.app import app
-from tandem.design.maps import gap_axis, step_gap_map, tolerance_window
+from tandem.design.maps import step_gap_map, tolerance_window
+from tandem.jobs.inputs import gap_range as gap_axis
 
 
 @pytest.fixture(scope="module")

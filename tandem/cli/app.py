@@ -14,10 +14,12 @@ import typer
 from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (SHARED, Json, Large, Losses, Wide, design_columns, Overwrite, Plot, Quiet, progress_callback,  # noqa: F401
-                                emit_json, field_text, parse_floats, parse_gap_option, build_light, build_operating, plain_option,
-                                progress_bar, parse_range, say, render_table, parse_thickness, write_plot,
-                                check_outputs, energy_text, err, friendly, out, run_app, shared)
+from tandem.cli.options import (SHARED, Json, Large, Losses, Overwrite, Plot,  # noqa: F401
+                                Quiet, Wide, build_light, build_operating, check_outputs,
+                                design_columns, emit_json, energy_text, err, field_text, friendly,
+                                given, out, over_scenario, parse_floats, parse_gap_option,
+                                parse_range, parse_thickness, plain_option, progress_bar,
+                                progress_callback, render_table, run_app, say, shared, write_plot)
 from tandem.cli.render import show_breakdown, show_version
 from tandem.core.errors import TandemInputError
 
@@ -232,7 +234,6 @@ def gap_map(front: Annotated[Optional[str], plain_option("--front", help="Front 
       tandem map --front 1.5:2.0:0.01 --back 1.12 --front-absorber perovskite-wide
       --back-absorber silicon --rematch
     """
-    from tandem.design.maps import DEFAULT_BACK, DEFAULT_FRONT
     from tandem.core.files import write_csv, write_parquet
     from tandem.output.plots import map_figures
 
@@ -245,8 +246,7 @@ def gap_map(front: Annotated[Optional[str], plain_option("--front", help="Front 
                                          for n in (mark.split(",") if mark else []))]
     with progress_bar(quiet or json_out, "mapping") as bar:
         result = tandem.gap_map(
-            build_light(o), build_operating(o), parse_gap_option(front, "--front", 0.01) or DEFAULT_FRONT,
-            backs if backs or front_absorber else DEFAULT_BACK,
+            build_light(o), build_operating(o), parse_gap_option(front, "--front", 0.01), backs,
             front_absorber=front_absorber, back_absorber=back_absorber,
             front_thickness_nm=front_thickness and parse_thickness(front_thickness, "--front-thickness"),
             back_thickness_nm=back_thickness and parse_thickness(back_thickness, "--back-thickness"),
@@ -327,114 +327,6 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
     out.print(f"[dim]{escape(tandem.CAUTION)}[/]")
 
 
-@app.command("yield")
-@friendly
-@shared
-def energy_yield(
-        front: Annotated[Optional[str], typer.Argument(help="Front absorber (default: the "
-                                                       "scenario's first).", show_default=False)] = None,
-        back: Annotated[Optional[str], typer.Argument(help="Back absorber.", show_default=False)] = None,
-        scenario: Annotated[Optional[str], plain_option(help="Take site, weather, losses and absorbers from "
-                                                "this scenario.")] = None,
-        latitude: Annotated[Optional[float], plain_option(help="Site latitude in ° north.")] = None,
-        longitude: Annotated[Optional[float], plain_option(help="Site longitude in ° east.")] = None,
-        altitude: Annotated[float, plain_option(help="Site altitude in m.")] = 0.0,
-        tilt: Annotated[float, plain_option(help="Module tilt in °.")] = 30.0,
-        azimuth: Annotated[float, plain_option(help="Module azimuth in ° from north (180 = south).")] = 180.0,
-        timezone: Annotated[Optional[str], plain_option(help="IANA time zone of the site (default: the "
-                                                "standard time of its longitude).")] = None,
-        ambient: Annotated[str, plain_option(help="Ambient temperature without weather, e.g. 20C.",
-                                     metavar="TEMP")] = "20C",
-        period: Annotated[str, plain_option(help="day:YYYY-MM-DD, month:YYYY-MM or year:YYYY.")] = "year:2026",
-        step: Annotated[float, plain_option(help="Time step of clear-sky runs in minutes.")] = 60.0,
-        weather: Annotated[Optional[str], plain_option(help="Typical-year weather file (EPW or TMY3).")] = None,
-        spectra: Annotated[Optional[str], plain_option(help="Folder of measured spectra.")] = None,
-        front_gaps: Annotated[Optional[str], plain_option(help="Front gaps LO:HI:STEP in eV.")] = None,
-        front_thickness: Annotated[Optional[str], plain_option(help="Front thickness range THIN:THICK.")] = None,
-        points: Annotated[int, plain_option(help="Front thicknesses in the sweep.")] = 16,
-        back_thickness: Annotated[Optional[str], plain_option(help="Back thickness, e.g. 160um.")] = None,
-        output: Annotated[str, plain_option("--output", "-o", help="Prefix of the figures and data files.")] = "yield",
-        overwrite: Overwrite = False, quiet: Quiet = False, large: Large = False,
-        json_out: Json = False, *, o):
-    """Energy over a day, month or year under real skies: 2T vs 4T, energy-optimal design.
-
-    Examples:
-
-      tandem yield --scenario perovskite-silicon-rooftop
-
-      tandem yield perovskite-wide silicon --latitude 40 --longitude -105 --timezone Etc/GMT+7
-    """
-    import numpy as np
-
-    from tandem.jobs.inputs import parse_temperature
-    from tandem.jobs.energy_yield import at_cell_temperature, scenario_yield_inputs, site_series
-
-    if not Path(output).name.strip(". "):
-        raise TandemInputError(f"--output '{output}': give a file name prefix, e.g. yield")
-    check_outputs([Path(output).parent / f"{Path(output).name}{x}"
-                   for x in ("-day.png", "-monthly.png", "-map.png", "-energy.nc",
-                             "-series.parquet")], overwrite)
-    operating, back_d = build_operating(o), back_thickness and parse_thickness(back_thickness, "--back-thickness")
-    if scenario is not None:
-        from tandem.study.sources import load_scenario
-
-        series, a_front, a_back, operating, sc_back = scenario_yield_inputs(load_scenario(scenario),
-                                                                            operating)
-        a_front, a_back, back_d = front or a_front, back or a_back, back_d or sc_back
-    elif front is None or back is None or latitude is None or longitude is None:
-        raise TandemInputError("give FRONT and BACK absorbers with --latitude and --longitude, "
-                               "or --scenario")
-    else:
-        if timezone is None:  # the site's own standard time, never UTC by default
-            timezone = f"Etc/GMT{-round(longitude / 15):+d}" if round(longitude / 15) else "UTC"
-        site = tandem.Site("site", latitude, longitude, altitude, tilt, azimuth, timezone,
-                           ambient_temperature_C=parse_temperature(ambient, "ambient temperature")
-                           - 273.15)
-        series, a_front, a_back = site_series(site, weather=weather, spectra=spectra, period=period,
-                                              step_minutes=step, allow_large=large), front, back
-    if o["temperature"] is not None:  # a fixed cell temperature instead of the SAPM model
-        series = at_cell_temperature(series, o["temperature"])
-    a_front = tandem.load_absorber(a_front) if isinstance(a_front, str) else a_front
-    lo, hi, *st = parse_range(front_gaps, "--front-gaps") if front_gaps else (None, None)
-    thick = (parse_range(front_thickness, "--front-thickness",
-                    lambda t: parse_thickness(t, "--front-thickness"))[:2] if front_thickness
-             else a_front.thickness_range_nm)
-    if not 2 <= points <= 400:
-        raise TandemInputError(f"--points {points}: give 2 to 400")
-    with progress_bar(quiet or json_out, "energy yield") as bar:
-        result = tandem.energy_yield(
-            a_front, a_back, series, operating, back_thickness_nm=back_d, reference=build_light(o),
-            front_gaps_eV=None if lo is None else tandem.design.maps.gap_axis(
-                lo, hi, st[0] if st else 0.02, "--front-gaps"),
-            front_thicknesses_nm=np.geomspace(thick[0], thick[1], points), progress=progress_callback(bar),
-            allow_large=large)
-    s = result.summary()
-    s["outputs"] = [str(p) for p in result.write(output, overwrite)]
-    if json_out:
-        return emit_json(s)
-    eo = s["energy_optimum"]
-    out.print(render_table(f"Energy yield: {s['front']} over {s['back']}", [
-        ("design", lambda r: r["design"]), ("front gap eV", field_text("front_gap_eV", "{:.3f}")),
-        ("front nm", field_text("front_thickness_nm", "{:.0f}")),
-        ("2T energy", lambda r: energy_text(r["energy_2t_kWh_m2"])),
-        ("4T energy", lambda r: energy_text(r["energy_4t_kWh_m2"])),
-        ("2T η_E %", field_text("energy_weighted_efficiency_2t_pct")),
-        ("AM1.5G 2T %", field_text("efficiency_am15g_2t_pct"))], result.design_rows(),
-        "η_E: energy-weighted efficiency (energy ÷ plane-of-array insolation)"))
-    e4 = s["energy_optimum_4t"]
-    say(f"{s['source']}: {s['steps']:,} steps, {energy_text(s['insolation_kWh_m2'])} on the module plane; "
-         f"spectra in a rank-{s['spectral_basis']['rank']} basis (photocurrents within "
-         f"{s['spectral_basis']['photocurrent_error_bound']:.0e} of the full spectra)",
-         *[f"note: {n}" for n in s["source_notes"]],
-         f"two-terminal loss to current mismatch (4T − 2T): {energy_text(eo['mismatch_loss_kWh_m2'])} "
-         f"({eo['mismatch_loss_pct']:.2f} %); the front limits for "
-         f"{eo['share_of_light_with_front_limiting_pct']:.0f} % of the light",
-         f"best four-terminal: {energy_text(e4['energy_4t_kWh_m2'])} at {e4['front_gap_eV']:.3f} eV, "
-         f"{e4['front_thickness_nm']:.0f} nm", "wrote " + ", ".join(s["outputs"]))
-    out.print(f"[dim]{escape(tandem.CAUTION)} Clear-sky spectra ignore clouds unless a weather "
-              "file is given.[/]")
-
-
 @app.command("spread")
 @friendly
 @shared
@@ -487,9 +379,11 @@ def fabrication_spread(
     out.print(f"[dim]{escape(tandem.CAUTION)}[/]")
 
 
-from tandem.cli.eqe import eqe  # noqa: E402  (commands in their own modules: cli.py stays short)
+from tandem.cli.energy_yield import energy_yield  # noqa: E402  (commands in modules of their own)
+from tandem.cli.eqe import eqe  # noqa: E402
 from tandem.cli.region import region  # noqa: E402
 
+app.command("yield")(friendly(shared(energy_yield)))
 app.command("eqe")(friendly(shared(eqe)))
 app.command("region")(friendly(shared(region)))
 

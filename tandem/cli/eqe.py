@@ -47,9 +47,7 @@ def eqe(front: Annotated[str, argument("Front subcell's EQE: CSV of wavelength n
     series = None
     if scenario is not None:
         from tandem.study.sources import load_scenario
-        from tandem.jobs.energy_yield import scenario_yield_inputs
-
-        series = scenario_yield_inputs(load_scenario(scenario), operating)[0]
+        series = load_scenario(scenario).site_series()
     result = tandem.measured_eqe(
         front, back, build_light(o), operating, voc_V=vocs, front_absorber=front_absorber,
         front_thickness_nm=front_thickness and parse_thickness(front_thickness, "--front-thickness"),

@@ -104,6 +104,68 @@ def build_operating(o: dict, temperature_default: float = 298.15) -> tandem.Oper
         allow_outside_range=o["outside_range"])
 
 
+def given(name: str) -> bool:
+    """Whether the user typed option ``name`` (a parameter name), not left its default."""
+    try:  # typer ≥ 0.24 carries its own copy of click
+        from typer._click.globals import get_current_context
+    except ImportError:  # older typer: click itself
+        from click import get_current_context  # type: ignore[no-redef]
+    ctx = get_current_context(silent=True)
+    source = ctx.get_parameter_source(name) if ctx is not None else None
+    return source is not None and source.name in ("COMMANDLINE", "ENVIRONMENT")
+
+
+#: shared option -> the OperatingPoint field it sets ("electrical." for Electrical's fields)
+OPERATING_FIELDS = {
+    "temperature": "temperature_K", "terminals": "terminals", "ere": "ere",
+    "ideality": "ideality", "front_index": "front_index", "reflectance": "reflectance",
+    "front_parasitic": "front_parasitic", "interlayer_parasitic": "interlayer_parasitic",
+    "outside_range": "allow_outside_range", "coupling": "electrical.coupling",
+    "rear_emission": "electrical.rear_emission",
+    "series_resistance": "electrical.series_resistance_ohm_cm2",
+    "shunt_resistance": "electrical.shunt_resistance_ohm_cm2"}
+#: shared option -> the Light field it sets
+LIGHT_FIELDS = {"spectrum": "source", "concentration": "concentration",
+                "sun_temperature": "sun_temperature_K", "irradiance": "irradiance_W_m2"}
+
+
+def over_scenario(o: dict, light: tandem.Light, operating: tandem.OperatingPoint,
+                  skip: tuple[str, ...] = ()) -> tuple[tandem.Light, tandem.OperatingPoint, list[str]]:
+    """The scenario's light and operating point with every option the user typed applied on
+    top (never a default), and a note for each value that replaces the scenario's."""
+    import dataclasses
+
+    cli_light, cli_operating = build_light(o), build_operating(o)
+    notes, light_changes, op_changes, el_changes = [], {}, {}, {}
+    for option, name in LIGHT_FIELDS.items():
+        if option not in skip and given(option):
+            light_changes[name] = getattr(cli_light, name)
+    for option, name in OPERATING_FIELDS.items():
+        if option in skip or not given(option):
+            continue
+        if name.startswith("electrical."):
+            el_changes[name[11:]] = getattr(cli_operating.electrical, name[11:])
+        else:
+            op_changes[name] = getattr(cli_operating, name)
+    for (obj, changes) in ((light, light_changes), (operating, op_changes),
+                           (operating.electrical, el_changes)):
+        for name, value in changes.items():
+            if getattr(obj, name) != value:
+                notes.append(f"--{_flag(name)} {value} replaces the scenario's {name} "
+                             f"{getattr(obj, name)}")
+    if el_changes:
+        op_changes["electrical"] = dataclasses.replace(operating.electrical, **el_changes)
+    return (dataclasses.replace(light, **light_changes),
+            dataclasses.replace(operating, **op_changes), notes)
+
+
+def _flag(field: str) -> str:
+    for option, name in {**LIGHT_FIELDS, **OPERATING_FIELDS}.items():
+        if name.split(".")[-1] == field:
+            return option.replace("_", "-")
+    return field.replace("_", "-")
+
+
 def shared(command):
     """Give ``command`` the shared light and operating options (declared once, above)."""
     import inspect
@@ -127,8 +189,8 @@ def shared(command):
         o = {k: kwargs.pop(k) for k in SHARED}
         return command(*args, o=o, **kwargs)
 
-    wrapper.__signature__ = sig.replace(parameters=[
-        p.replace(kind=inspect.Parameter.KEYWORD_ONLY) for p in own] + extra)
+    setattr(wrapper, "__signature__", sig.replace(parameters=[
+        p.replace(kind=inspect.Parameter.KEYWORD_ONLY) for p in own] + extra))
     return wrapper
 
 
@@ -167,13 +229,15 @@ def parse_range(text: str, option: str, parse=float) -> tuple:
 
 
 def parse_gap_option(text, option, default_step=0.02):
+    """'1.7' (one gap), '1.6,1.7' (gaps) or 'LO:HI[:STEP]' (a range) → gaps [eV], or None."""
+    from tandem.jobs.inputs import gap_range, gap_values
+
     if text is None:
         return None
     if ":" not in text:
-        g = parse_floats(text, option)[0]
-        return (g, g, 1.0)
+        return gap_values(parse_floats(text, option), option)
     lo, hi, *step = parse_range(text, option)
-    return (lo, hi, step[0] if step else default_step)
+    return gap_range(lo, hi, step[0] if step else default_step, option)
 
 
 
@@ -310,7 +374,7 @@ def run_app(app) -> None:
     try:  # typer ≥ 0.24 carries its own copy of click, whether or not click is installed
         from typer import _click as click
     except ImportError:
-        import click
+        import click  # type: ignore[no-redef]
 
     try:
         code = typer.main.get_command(app).main(prog_name="tandem", standalone_mode=False)

@@ -8,7 +8,7 @@ from typing import Annotated, Optional
 from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (Json, Quiet, argument, progress_callback, emit_json, build_light, build_operating,
+from tandem.cli.options import (Json, Quiet, argument, parse_gap_option, progress_callback, emit_json, build_light, build_operating,
                                 plain_option, progress_bar, parse_range, say, render_table, parse_thickness, err, out)
 from tandem.core.errors import TandemInputError
 
@@ -41,8 +41,8 @@ def region(
                                                   "region-<sites>).")] = None,
         grids: Annotated[bool, plain_option(help="Keep every site's gap × thickness energy grid in "
                                     "region.nc.")] = False,
-        overwrite: Annotated[bool, plain_option(help="Replace a region folder tandem wrote for other "
-                                        "inputs.")] = False,
+        overwrite: Annotated[bool, plain_option(help="Replace a region folder tandem wrote (every site "
+                                        "is computed again).")] = False,
         quiet: Quiet = False, json_out: Json = False, *, o):
     """Energy-optimal front gap and thickness at many sites, on a dask cluster.
 
@@ -54,9 +54,8 @@ def region(
 
       tandem region perovskite-wide silicon --sites sites.csv --scheduler tcp://10.0.0.5:8786
     """
-    import numpy as np
 
-    from tandem.jobs.region import RegionJob, grid_sites, read_sites, run_region, write_region_outputs
+    from tandem.jobs.region import grid_sites, read_sites, region_job, run_region, write_region_outputs
     from tandem.design.sky import Rows
 
     if (sites is None) == (latitudes is None):
@@ -68,43 +67,21 @@ def region(
         specs = read_sites(bundled if not Path(sites).exists() and bundled.is_file() else sites)
         default = f"region-{Path(sites).stem}"
     else:
-        if longitudes is None:
+        if latitudes is None or longitudes is None:
             raise TandemInputError("--latitudes needs --longitudes LO:HI:STEP")
         specs = grid_sites(_axis(latitudes, "--latitudes"), _axis(longitudes, "--longitudes"))
         default = "region-grid"
     if workers is not None and not 1 <= workers <= 1024:
         raise TandemInputError(f"--workers {workers}: give 1 to 1024")
-    if tilt != "latitude":
-        try:
-            float(tilt)
-        except ValueError:
-            raise TandemInputError(f"--tilt '{tilt}': give degrees or 'latitude'") from None
-        if not 0 <= float(tilt) <= 90:
-            raise TandemInputError(f"--tilt {tilt}: give 0 to 90 degrees")
-    if not 0 <= albedo <= 1:
-        raise TandemInputError(f"--albedo {albedo:g}: give a fraction from 0 to 1")
-    if not 2 <= points <= 100:
-        raise TandemInputError(f"--points {points}: give 2 to 100")
     operating = build_operating(o)
-    a_front, a_back = tandem.load_absorber(front), tandem.load_absorber(back)
-    if front_gaps:
-        lo, hi, *st = parse_range(front_gaps, "--front-gaps")
-        gaps = tandem.design.maps.gap_axis(lo, hi, st[0] if st else 0.02, "--front-gaps")
-    elif a_front.tunable:
-        lo, hi = a_front.gap_range_eV
-        gaps = np.linspace(max(lo, a_back.gap_eV + 0.3), hi, 11)
-    else:
-        gaps = np.array([a_front.gap_eV])
-    for g in gaps:
-        a_front.check_gap(float(g), operating.allow_outside_range)
-    back_d = parse_thickness(back_thickness, "--back-thickness") if back_thickness else a_back.thickness_nm
-    a_back.check_thickness(back_d, "back thickness", operating.allow_outside_range)
-    tandem.parse_period(period, "UTC", step)
-    job = RegionJob(a_front, a_back, operating, tuple(map(float, gaps)),
-                    tuple(np.geomspace(*a_front.thickness_range_nm, points)), back_d, period,
-                    step, tilt, albedo, Rows(gcr, row_height, pitch, bifaciality) if bifacial
-                    else None, build_light(o), None if o["temperature"] is None
-                    else operating.temperature_K)
+    job = region_job(front, back, operating, front_gaps_eV=parse_gap_option(front_gaps, "--front-gaps"),
+                     thickness_points=points,
+                     back_thickness_nm=parse_thickness(back_thickness, "--back-thickness")
+                     if back_thickness else None,
+                     period=period, step_minutes=step, tilt=tilt, albedo=albedo,
+                     rows=Rows(gcr, row_height, pitch, bifaciality) if bifacial else None,
+                     reference=build_light(o),
+                     cell_temperature_K=None if o["temperature"] is None else operating.temperature_K)
     folder = Path(out_folder or default)
     with progress_bar(quiet or json_out, "sites") as bar:
         result = run_region(specs, job, folder, scheduler, workers, progress_callback(bar), overwrite)
@@ -124,7 +101,7 @@ def region(
         cols += [("bifacial gap eV", lambda r: f"{r['bifacial_front_gap_eV']:.3f}"),
                  ("bifacial nm", lambda r: f"{r['bifacial_front_thickness_nm']:.0f}"),
                  ("bifacial 2T", lambda r: f"{r['bifacial_energy_2t_kWh_m2']:.1f}")]
-    out.print(render_table(f"Energy-optimal {a_front.key} over {a_back.key}, {len(specs)} sites",
+    out.print(render_table(f"Energy-optimal {job.front.key} over {job.back.key}, {len(specs)} sites",
                      cols, s["sites"], "energies per m² of module over the period"))
     first = s["sites"][0]
     say(f"AM1.5G-optimal design: {first['am15g_front_gap_eV']:.3f} eV, "

@@ -7,7 +7,7 @@ import os
 import shutil
 import tempfile
 from pathlib import Path
-from typing import Callable
+from typing import Any, Callable
 
 from tandem.core.errors import TandemInputError
 
@@ -108,16 +108,16 @@ def write_all_whole(writers: dict, overwrite: bool = False) -> list[Path]:
     temps: dict[Path, Path] = {}
     try:
         for path, write in targets.items():
-            fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=path.suffix, dir=path.parent)
+            fd, name = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=path.suffix, dir=path.parent)
             os.close(fd)
-            temps[path] = Path(tmp)
+            temps[path] = Path(name)
             write(temps[path])
             publish_mode(temps[path])
-        for path, tmp in temps.items():
-            os.replace(tmp, path)
+        for path, done in temps.items():
+            os.replace(done, path)
     finally:
-        for tmp in temps.values():
-            tmp.unlink(missing_ok=True)
+        for leftover in temps.values():
+            leftover.unlink(missing_ok=True)
     return list(targets)
 
 
@@ -235,7 +235,7 @@ class _SignalsHeld:
         import threading
 
         self.caught: list[int] = []
-        self.previous: dict[int, object] = {}
+        self.previous: dict[int, Any] = {}
         if threading.current_thread() is threading.main_thread():
             for name in self.SIGNALS:
                 sig = getattr(signal, name, None)

@@ -80,6 +80,7 @@ class StackLayer:
             return index_from_alpha(alpha, wavelength, a.refractive_index)
         if self.constant is not None:
             return np.full(e.shape, self.constant, dtype=complex)
+        assert self.table is not None  # a layer has one source: absorber, constant or table
         wl, nk = self.table
         return np.interp(wavelength, wl, nk.real) + 1j * np.interp(wavelength, wl, nk.imag)
 
@@ -421,6 +422,7 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
     transmitted = np.array(optics.transmittance)
     if wafer is not None:
         a = wafer.absorber
+        assert a is not None  # a wafer is an absorber layer
         own = a.layer(e, others.get(wafer.name, wafer.thickness_nm), wafer.gap_eV,
                       a.gap_shift_eV(temperature_K), position="back")
         if wafer.light_trapping:
@@ -457,6 +459,7 @@ def budget_currents(budget: PhotonBudget, flux, temperature_K: float, usable_fro
 def usable_from_eV(stack: LayerStack, temperature_K: float) -> float:
     """The back absorber's gap at the cell temperature [eV]: photons above it are usable."""
     back = stack.back
+    assert back.absorber is not None  # the back role is an absorber (checked on reading)
     gap = back.gap_eV if back.gap_eV is not None else back.absorber.gap_eV
     return float(gap + back.absorber.gap_shift_eV(temperature_K))
 
@@ -547,9 +550,11 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
 
     electrical = electrical or IDEAL
     front = stack.front
+    assert front.absorber is not None  # the front role is an absorber (checked on reading)
     lo, hi = front.sweep_nm or front.absorber.thickness_range_nm
     grid = np.geomspace(lo, hi, points)
-    axes = [[(x.name, float(v)) for v in np.geomspace(*x.sweep_nm, x.points)] for x in stack.swept]
+    axes = [[(x.name, float(v)) for v in np.geomspace(*(x.sweep_nm or (0.0, 0.0)), x.points)]
+            for x in stack.swept]  # a swept layer always has its range
     combos = [dict(c) for c in itertools.product(*axes)] if axes else [{}]
     grids, crossings = [], []
     for n, others in enumerate(combos, 1):
@@ -570,22 +575,23 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
     for x in stack.layers:  # tables held constant beyond their ends: said where it matters
         if x.table is not None:
             wl = HC_EV_NM / flux.energy
-            lo, hi = float(x.table[0][0]), float(x.table[0][-1])
-            share = usable[(wl < lo) | (wl > hi)].sum() / usable.sum()
+            first, last = float(x.table[0][0]), float(x.table[0][-1])
+            share = usable[(wl < first) | (wl > last)].sum() / usable.sum()
             if share > 1e-3:
-                notes.append(f"{x.name}: n and k held at their end values outside {lo:g}–{hi:g} "
+                notes.append(f"{x.name}: n and k held at their end values outside {first:g}–{last:g} "
                              f"nm, where {100 * share:.1f} % of the usable photons are")
     if crossings:
         best = crossings[0]
     else:
-        k, i = max(((k, int(np.nanargmax(g[2]))) for k, g in enumerate(grids)),
-                   key=lambda ki: grids[ki[0]][2][ki[1]])
-        best = _point(stack, flux, grids[k][0], grid[i], temperature_K, ideality, electrical, False)
+        k2, i2 = max(((k, int(np.nanargmax(g[2]))) for k, g in enumerate(grids)),
+                     key=lambda ki: grids[ki[0]][2][ki[1]])
+        best = _point(stack, flux, grids[k2][0], grid[i2], temperature_K, ideality, electrical, False)
         limiting = "front" if best.j_light[0] < best.j_light[1] else "back"
         notes.append(f"no current match for {lo:g}–{hi:g} nm of {front.name}: the {limiting} "
                      "subcell limits throughout; the best two-terminal point is shown")
-    k, i = max(((k, int(np.nanargmax(g[3]))) for k, g in enumerate(grids)),
-               key=lambda ki: grids[ki[0]][3][ki[1]])
-    best_4t = _point(stack, flux, grids[k][0], grid[i], temperature_K, ideality, electrical, False)
+    k4, i4 = max(((k, int(np.nanargmax(g[3]))) for k, g in enumerate(grids)),
+                 key=lambda ki: grids[ki[0]][3][ki[1]])
+    best_4t = _point(stack, flux, grids[k4][0], grid[i4], temperature_K, ideality, electrical,
+                     False)
     return StackMatch(stack, grid, grids, crossings, best, best_4t, tuple(notes),
                       float(temperature_K), float(flux.irradiance), flux.energy)

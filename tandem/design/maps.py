@@ -14,20 +14,10 @@ from tandem.physics import detailed_balance as db
 from tandem.physics.stack import IDEAL, StackPerformance, evaluate_stack
 from tandem.core.units import K_B_EV
 
-#: Default map ranges [eV]: wide-gap fronts over the usual back-cell gaps.
+#: Default map ranges (low, high, step) [eV]: wide-gap fronts over the usual back-cell gaps.
 DEFAULT_FRONT = (1.40, 2.30, 0.01)
 DEFAULT_BACK = (0.80, 1.50, 0.01)
 
-
-def gap_axis(lo: float, hi: float, step: float, what: str) -> np.ndarray:
-    """Gaps from lo to hi inclusive at ``step`` [eV]; refuses an impossible grid."""
-    if not (np.isfinite([lo, hi, step]).all() and step > 0 and hi >= lo and lo > 0):
-        raise TandemInputError(f"{what} {lo:g}:{hi:g}:{step:g}: give low:high:step in eV with "
-                               "0 < low ≤ high and a positive step")
-    n = int(round((hi - lo) / step)) + 1
-    if n > 20_001:
-        raise TandemInputError(f"{what} has {n:,} points; give a coarser step (at most 20,001)")
-    return np.linspace(lo, hi, n)
 
 
 @dataclass(frozen=True)
@@ -54,7 +44,8 @@ class GapMap:
             raise TandemInputError("no valid gap pair in the map: every front gap is at or below "
                                    "every back gap, or every pair is too close to degeneracy "
                                    "(concentration); widen the front range or lower the back range")
-        return np.unravel_index(np.nanargmax(eff), eff.shape)
+        i, j = np.unravel_index(int(np.nanargmax(eff)), eff.shape)
+        return int(i), int(j)
 
     @property
     def grid_points(self) -> int:
@@ -141,7 +132,8 @@ def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thick
     design.front.check_thickness(d_front, "front thickness", conditions.allow_outside_range)
     design.back.check_thickness(d_back, "back thickness", conditions.allow_outside_range)
     conditions.photon_flux.check_gap(back_gaps, "back gap")
-    grid = np.geomspace(*front.thickness_range_nm, thickness_points)
+    thinnest, thickest = front.thickness_range_nm
+    grid = np.geomspace(thinnest, thickest, thickness_points)
     shape = (front_gaps.size, back_gaps.size)
     e2, e4, jf, jb, voc, used = (np.full(shape, np.nan) for _ in range(6))
     total, done = shape[0] * shape[1], 0

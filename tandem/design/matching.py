@@ -153,17 +153,17 @@ def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_th
     """Two- and four-terminal performance for an array of front thicknesses."""
     j_light, j0_rad = subcell_currents(design, cond, front_gap, front_thickness_nm,
                                        back_thickness_nm, back_gap)
-    return evaluate_design(design, cond, j_light, j0_rad, cond.temperature_K,
-                           cond.photon_flux.irradiance)
+    return evaluate_design(design, j_light, j0_rad, cond.temperature_K,
+                           cond.photon_flux.irradiance, cond.ideality, cond.electrical)
 
 
-def evaluate_design(design: StackDesign, cond: Conditions, j_light, j0_rad, temperature_K,
-                    irradiance) -> StackPerformance:
+def evaluate_design(design: StackDesign, j_light, j0_rad, temperature_K, irradiance,
+                    ideality: float = 1.0, electrical: Electrical = IDEAL) -> StackPerformance:
     """The stack's electrical result from its subcells' currents: the absorbers' EREs, the
-    front's refractive index (rear emission) and the conditions' electrical options."""
+    front's refractive index (rear emission), the ideality and electrical options."""
     ere = np.array([design.front.ere, design.back.ere])
-    return evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere, cond.ideality,
-                          cond.electrical, design.front.refractive_index)
+    return evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere, ideality, electrical,
+                          design.front.refractive_index)
 
 
 @dataclass(frozen=True)
@@ -320,7 +320,7 @@ def front_gap_grid(front: Absorber, step_eV: float = 0.02) -> np.ndarray:
 def match_currents(
     design: StackDesign,
     cond: Conditions,
-    front_gaps: Sequence[float] | None = None,
+    front_gaps: Sequence[float] | np.ndarray | None = None,
     back_thicknesses_nm: Sequence[float] | None = None,
     front_thickness_range_nm: tuple[float, float] | None = None,
     thickness_points: int = 120,
@@ -348,7 +348,8 @@ def match_currents(
     total = len(gaps) * len(backs)
     done = 0
     for gap in gaps:
-        composition = front.relation.composition_for_gap(float(gap)) if front.tunable else None
+        composition = (front.relation.composition_for_gap(float(gap))
+                       if front.relation is not None else None)
         for back_d in backs:
             perf = stack_performance(design, cond, gap, d_grid, back_d)
             _check_light(design, cond, gap, perf.j_light, lo, hi)
@@ -370,6 +371,7 @@ def match_currents(
                 progress(done, total)
     key = (lambda c: c.efficiency_2t) if terminals == 2 else (lambda c: c.efficiency_4t)
     order = sorted(range(len(configs)), key=lambda i: key(configs[i]), reverse=True)
+    assert best4 is not None  # at least one gap and one back thickness were evaluated
     return MatchResult(design, cond, [configs[i] for i in order], sweeps[order[0]], best4,
                        terminals, n_evaluated=total * thickness_points, sweeps=tuple(sweeps))
 

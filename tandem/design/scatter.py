@@ -72,8 +72,8 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
                     for g, d in zip(gaps[sl], thick[sl])]
         jl = np.array([c[0] for c in currents])
         j0 = np.array([c[1] for c in currents])
-        perf = evaluate_design(design, cond, jl, j0, cond.temperature_K,
-                               cond.photon_flux.irradiance)
+        perf = evaluate_design(design, jl, j0, cond.temperature_K, cond.photon_flux.irradiance,
+                               cond.ideality, cond.electrical)
         e2[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_4t
     nominal = stack_performance(design, cond, front_gap, front_thickness_nm, back_thickness_nm)
     return ScatterResult(gaps, thick, e2, e4, float(nominal.efficiency_2t),

@@ -39,6 +39,18 @@ G173_OZONE_ATM_CM = 0.3438  #: ozone [atm-cm]
 SAPM_MOUNT = "open_rack_glass_glass"
 
 
+def standard_time_zone(longitude: float) -> str:
+    """The fixed-offset zone of a longitude's standard time ('Etc/GMT-1' at 15° east).
+
+    Examples
+    --------
+    >>> standard_time_zone(-105.0), standard_time_zone(3.0)
+    ('Etc/GMT+7', 'UTC')
+    """
+    hours = int(round(longitude / 15.0))
+    return "UTC" if hours == 0 else f"Etc/GMT{-hours:+d}"
+
+
 @dataclass(frozen=True)
 class Site:
     """Where and how the module stands, and the clear-sky atmosphere.
@@ -58,7 +70,7 @@ class Site:
     altitude_m: float = 0.0
     tilt_deg: float = 30.0
     azimuth_deg: float = 180.0
-    timezone: str = "UTC"
+    timezone: str = ""  #: IANA name; empty: the standard time of the longitude
     albedo: float = 0.2
     aerosol_turbidity_500nm: float = G173_AEROSOL_500NM
     precipitable_water_cm: float = G173_WATER_CM
@@ -66,7 +78,7 @@ class Site:
     ambient_temperature_C: float = 20.0  #: used when no weather file gives it
     wind_speed_m_s: float = 1.0  #: likewise
 
-    def __post_init__(self):
+    def __post_init__(self) -> None:
         checks = [
             ("latitude", self.latitude, -90, 90, "degrees north, -90 to 90"),
             ("longitude", self.longitude, -180, 180, "degrees east, -180 to 180"),
@@ -83,6 +95,8 @@ class Site:
         for name, value, lo, hi, unit in checks:
             if not (isinstance(value, (int, float)) and math.isfinite(value) and lo <= value <= hi):
                 raise TandemInputError(f"site {name} = {value!r} is out of range; give {unit}")
+        if not self.timezone:  # the site's own standard time, never UTC by default
+            object.__setattr__(self, "timezone", standard_time_zone(self.longitude))
         try:
             pd.Timestamp("2026-01-01", tz=self.timezone)
         except Exception:

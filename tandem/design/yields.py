@@ -15,6 +15,7 @@ from dataclasses import dataclass
 from typing import Callable
 
 import numpy as np
+import pandas as pd
 
 from tandem.physics import detailed_balance as db
 from tandem.design.matching import (Conditions, StackDesign, evaluate_design, rear_absorptance, stack_integrands,
@@ -30,7 +31,7 @@ from tandem.core.units import Q
 class HourlyDesign:
     """One design step by step: power and photocurrents at each time step."""
 
-    times: object  #: DatetimeIndex
+    times: pd.DatetimeIndex
     p_2t: np.ndarray  #: [W/m²]
     p_4t: np.ndarray
     j_front: np.ndarray  #: [A/m²]
@@ -56,15 +57,18 @@ class YieldSweep:
 
     @property
     def optimum(self) -> tuple[int, int]:
-        return np.unravel_index(int(np.nanargmax(self.energy_2t)), self.energy_2t.shape)
+        i, j = np.unravel_index(int(np.nanargmax(self.energy_2t)), self.energy_2t.shape)
+        return int(i), int(j)
 
     @property
     def optimum_4t(self) -> tuple[int, int]:
-        return np.unravel_index(int(np.nanargmax(self.energy_4t)), self.energy_4t.shape)
+        i, j = np.unravel_index(int(np.nanargmax(self.energy_4t)), self.energy_4t.shape)
+        return int(i), int(j)
 
     @property
     def am15_optimum(self) -> tuple[int, int]:
-        return np.unravel_index(int(np.nanargmax(self.efficiency_am15_2t)), self.energy_2t.shape)
+        i, j = np.unravel_index(int(np.nanargmax(self.efficiency_am15_2t)), self.energy_2t.shape)
+        return int(i), int(j)
 
 
 #: Cell temperatures per bin at which J0 is computed; it is interpolated between them.
@@ -132,9 +136,8 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
     bb = db.blackbody_photon_flux(flux.energy, nodes[:, None])  # (m, nE)
     j0 = np.stack([_interpolate_j0(absorbed @ (bb * fw).T, lagrange),
                    _interpolate_j0(transmitted @ (bb * bw).T, lagrange)], axis=-1)
-    cond = Conditions(None, float(t_bin), ideality, electrical)
     if rear is None:
-        return evaluate_design(design, cond, jl, j0, t_cell, 1.0), jl
+        return evaluate_design(design, jl, j0, t_cell, 1.0, ideality, electrical), jl
     # bifacial: the back subcell also takes light at its rear, and by reciprocity emits there.
     # That emission is radiative: the back's J0 becomes J0,front/ERE + J0,rear, passed on as
     # J0,rad = J0,front + J0,rear with the ERE that gives exactly that sum.

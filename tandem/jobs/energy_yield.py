@@ -2,15 +2,21 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from dataclasses import dataclass
 
 import numpy as np
 
 from tandem.design.matching import StackDesign
 from tandem.jobs.common import Progress, absorber_pair, check_work
-from tandem.jobs.inputs import Light, OperatingPoint
+from tandem.core.errors import TandemInputError
+from tandem.jobs.inputs import Light, OperatingPoint, gap_values, thickness_axis
 from tandem.optics.absorbers import Absorber
 from tandem.output.report import yield_summary
+
+if TYPE_CHECKING:  # for annotations only: no import cost at run time
+    from tandem.design.yields import HourlyDesign, YieldSweep
 
 
 @dataclass(frozen=True)
@@ -28,8 +34,8 @@ class YieldResult:
     ['front_gap', 'front_thickness']
     """
 
-    sweep: object  #: yields.YieldSweep
-    best: object  #: yields.HourlyDesign
+    sweep: YieldSweep
+    best: HourlyDesign
 
     def summary(self) -> dict:
         return yield_summary(self.sweep, self.best)
@@ -122,32 +128,38 @@ def at_cell_temperature(series, cell_temperature_K: float):
                                                                   float(cell_temperature_K)))
 
 
-def scenario_yield_inputs(scenario, operating: OperatingPoint):
-    """What a scenario says for a yield run: (series, front, back, operating, back thickness).
 
-    The same resolver as ``tandem study`` (its [site], [weather], [stack] losses and
-    [electrical] section); the operating point keeps its temperature and terminals.
+MAX_YIELD_THICKNESSES = 400  #: front thicknesses in one yield sweep
+
+
+def yield_axes(front: Absorber, back: Absorber, front_gaps_eV=None, front_thicknesses_nm=None,
+               thickness_points: int = 16) -> tuple[np.ndarray, np.ndarray]:
+    """The front gaps [eV] and thicknesses [nm] a yield sweeps, checked.
+
+    Defaults: 11 gaps from 0.3 eV above the back's gap (or the front's lowest) to the front's
+    highest, or its fixed gap; ``thickness_points`` log-spaced across the front's range.
     """
-    import dataclasses
-
-    from tandem.core.errors import TandemInputError
-
-    if scenario.site() is None:
-        raise TandemInputError(f"scenario '{scenario.key}' has no [site]; add one or give a "
-                               "latitude and longitude")
-    operating = dataclasses.replace(operating, electrical=scenario.electrical(), **{
-        k: float(scenario.get("stack", k, 0.0))
-        for k in ("reflectance", "front_parasitic", "interlayer_parasitic")})
-    backs = scenario.back_thicknesses_nm()
-    return (scenario.series(), scenario.fronts[0], scenario.backs[0], operating,
-            backs[0] if backs else None)
+    if front_gaps_eV is None:
+        lo, hi = front.gap_range_eV
+        gaps = (np.linspace(max(lo, back.gap_eV + 0.3), hi, 11) if front.tunable
+                else np.array([front.gap_eV]))
+    else:
+        gaps = gap_values(front_gaps_eV, "front gaps")
+    if front_thicknesses_nm is None:
+        thick = thickness_axis(*front.thickness_range_nm, thickness_points,
+                               most=MAX_YIELD_THICKNESSES)
+    else:
+        thick = np.atleast_1d(np.asarray(front_thicknesses_nm, dtype=float))
+        if not (thick.ndim == 1 and thick.size and np.isfinite(thick).all() and (thick > 0).all()):
+            raise TandemInputError("front thicknesses: give positive thicknesses in nm")
+    return gaps, thick
 
 
 def energy_yield(front: Absorber | str, back: Absorber | str, series,
                  operating: OperatingPoint = OperatingPoint(), *, front_gaps_eV=None,
-                 front_thicknesses_nm=None, back_thickness_nm: float | None = None,
-                 reference: Light = Light(), progress: Progress | None = None,
-                 allow_large: bool = False) -> YieldResult:
+                 front_thicknesses_nm=None, thickness_points: int = 16,
+                 back_thickness_nm: float | None = None, reference: Light = Light(),
+                 progress: Progress | None = None, allow_large: bool = False) -> YieldResult:
     """Energy over a spectral series (a day, month or year) for front gap × thickness.
 
     Parameters
@@ -158,7 +170,8 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     front_gaps_eV : array, optional
         Front gaps at 298.15 K [eV]; default: 11 across the front's tunable range.
     front_thicknesses_nm : array, optional
-        Default: 16 log-spaced across the front's range.
+        Default: ``thickness_points`` log-spaced across the front's range
+        (:func:`~tandem.thickness_axis` makes another range).
 
     Examples
     --------
@@ -175,14 +188,7 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     a_front, a_back = absorber_pair(front, back, operating)
     energy = series.energy
     design = StackDesign(a_front, a_back, *operating.losses_on(energy))
-    if front_gaps_eV is None:
-        lo, hi = a_front.gap_range_eV
-        gaps = np.linspace(max(lo, a_back.gap_eV + 0.3), hi, 11) if a_front.tunable else \
-            np.array([a_front.gap_eV])
-    else:
-        gaps = np.asarray(front_gaps_eV, dtype=float)
-    thick = (np.geomspace(*a_front.thickness_range_nm, 16) if front_thicknesses_nm is None
-             else np.asarray(front_thicknesses_nm, dtype=float))
+    gaps, thick = yield_axes(a_front, a_back, front_gaps_eV, front_thicknesses_nm, thickness_points)
     back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
     check_work("yield", series.times.size * gaps.size * thick.size, allow_large=allow_large,
                what="step × design evaluations")

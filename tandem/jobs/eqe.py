@@ -2,12 +2,17 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from dataclasses import dataclass
 
 import numpy as np
 
 from tandem.jobs.common import as_absorber, frame
 from tandem.jobs.inputs import Light, OperatingPoint
+
+if TYPE_CHECKING:  # for annotations only: no import cost at run time
+    from tandem.design.eqe import SubcellEQE
 
 
 @dataclass(frozen=True)
@@ -25,8 +30,8 @@ class EQEResult:
     'front'
     """
 
-    front: object  #: eqe.SubcellEQE
-    back: object
+    front: SubcellEQE
+    back: SubcellEQE
     spectrum: str
     temperature_K: float
     notes: tuple[str, ...]
@@ -113,7 +118,7 @@ def measured_eqe(front, back, light: Light = Light(), operating: OperatingPoint 
             raise TandemInputError(f"give the {limiting} absorber's present thickness with its "
                                    "description")
         a.check_thickness(absorber[1], f"{limiting} thickness")
-        d = matching_thickness(*curves, flux, limiting, a, absorber[1], t)
+        d = matching_thickness(curves[0], curves[1], flux, limiting, a, absorber[1], t)
         matching = {"subcell": limiting, "absorber": a.key,
                     "thickness_nm": absorber[1], "matched_thickness_nm":
                     None if d is None else round(d, 1),

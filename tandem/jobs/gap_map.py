@@ -12,13 +12,12 @@ from tandem.design.maps import (
     DEFAULT_FRONT,
     GapMap,
     absorber_gap_map,
-    gap_axis,
     map_table,
     step_gap_map,
 )
 from tandem.design.matching import Conditions, StackDesign
 from tandem.jobs.common import Progress, absorber_pair, check_work, conditions_attrs
-from tandem.jobs.inputs import Light, OperatingPoint
+from tandem.jobs.inputs import Light, OperatingPoint, gap_range, gap_values
 from tandem.optics.absorbers import Absorber
 from tandem.output.report import map_summary
 
@@ -30,7 +29,7 @@ class MapResult:
     Examples
     --------
     >>> import tandem
-    >>> m = tandem.gap_map(front_gaps_eV=(1.6, 1.8, 0.1), back_gaps_eV=(0.9, 1.1, 0.1))
+    >>> m = tandem.gap_map(front_gaps_eV=[1.6, 1.7, 1.8], back_gaps_eV=[0.9, 1.0, 1.1])
     >>> m.to_dataset()['front_gap'].attrs['units']
     'eV'
     """
@@ -73,8 +72,8 @@ class MapResult:
 
 
 def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint(),
-            front_gaps_eV: tuple[float, float, float] = DEFAULT_FRONT,
-            back_gaps_eV: tuple[float, float, float] | None = DEFAULT_BACK, *,
+            front_gaps_eV: Sequence[float] | float | None = None,
+            back_gaps_eV: Sequence[float] | float | None = None, *,
             front_absorber: Absorber | str | None = None,
             back_absorber: Absorber | str | None = None,
             front_thickness_nm: float | None = None, back_thickness_nm: float | None = None,
@@ -84,8 +83,10 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
 
     Parameters
     ----------
-    front_gaps_eV, back_gaps_eV : (low, high, step)
-        Gap axes [eV]; ``back_gaps_eV`` None (absorbers only) keeps the back absorber's gap.
+    front_gaps_eV, back_gaps_eV : float or sequence of float, optional
+        The gaps [eV] (:func:`~tandem.gap_range` makes a range). Default front: 1.40–2.30 eV at
+        0.01 eV; default back: 0.80–1.50 eV at 0.01 eV for step absorbers, the back absorber's
+        own gap for real absorbers.
     front_absorber, back_absorber : optional
         Move these absorbers' edges to each gap instead of using step absorbers.
     marks : sequence of (name, gap)
@@ -93,13 +94,14 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
 
     Examples
     --------
-    >>> from tandem import gap_map
-    >>> m = gap_map(front_gaps_eV=(1.6, 1.8, 0.05), back_gaps_eV=(1.12, 1.12, 0.01))
+    >>> from tandem import gap_map, gap_range
+    >>> m = gap_map(front_gaps_eV=gap_range(1.6, 1.8, 0.05), back_gaps_eV=1.12)
     >>> m.summary()["optimum"]["front_gap_eV"]
     1.75
     """
-    fronts = gap_axis(*front_gaps_eV, "front gaps")
-    backs = None if back_gaps_eV is None else gap_axis(*back_gaps_eV, "back gaps")
+    fronts = (gap_range(*DEFAULT_FRONT) if front_gaps_eV is None
+              else gap_values(front_gaps_eV, "front gaps"))
+    backs = None if back_gaps_eV is None else gap_values(back_gaps_eV, "back gaps")
     n_backs = 1 if backs is None else backs.size
     per_pair = 60 * 30 if (front_absorber is not None and rematch) else (
         30 if front_absorber is not None else 1)  # optics per pair cost about this many steps
@@ -112,7 +114,7 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
 
         raise TandemInputError("give both a front and a back absorber, or neither (step absorbers)")
     if front_absorber is None:
-        backs = gap_axis(*DEFAULT_BACK, "back gaps") if backs is None else backs
+        backs = gap_range(*DEFAULT_BACK, "back gaps") if backs is None else backs
         ere = np.asarray(operating.ere or (1.0,), dtype=float)
         ere = np.broadcast_to(ere, (2,)) if ere.size == 1 else ere
         result = step_gap_map(flux, fronts, backs, operating.temperature_K, ere,

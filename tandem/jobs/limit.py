@@ -8,6 +8,7 @@ from typing import Sequence
 import numpy as np
 
 from tandem.jobs.common import blackbody_of, frame
+from tandem.core.errors import TandemInputError
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.output.report import design_summary
 from tandem.physics.limit import DesignResult, detailed_balance_limit
@@ -72,14 +73,14 @@ class LimitResult:
         return draw_limit(self.design, ax)
 
 
-def limit(gaps: Sequence[float], light: Light = Light(),
+def limit(gaps: Sequence[float] | float, light: Light = Light(),
           operating: OperatingPoint = OperatingPoint()) -> LimitResult:
     """Detailed-balance limit of a single junction or a two-junction stack of step absorbers.
 
     Parameters
     ----------
-    gaps : sequence of float
-        Band gaps [eV], front (sunward) first; one gap for a single junction.
+    gaps : float or sequence of float
+        Band gaps [eV], front (sunward) first; one gap (or a number) for a single junction.
     light : Light
         The spectrum.
     operating : OperatingPoint
@@ -96,9 +97,14 @@ def limit(gaps: Sequence[float], light: Light = Light(),
     Examples
     --------
     >>> from tandem import OperatingPoint, limit
-    >>> round(100 * limit([1.34], operating=OperatingPoint(temperature_K=300)).efficiency, 1)
+    >>> round(100 * limit(1.34, operating=OperatingPoint(temperature_K=300)).efficiency, 1)
     33.7
     """
+    try:
+        gaps = [float(g) for g in np.atleast_1d(np.asarray(gaps, dtype=float))]
+    except (TypeError, ValueError):
+        raise TandemInputError(f"gaps {gaps!r}: give one or two band gaps in eV, e.g. 1.34 or "
+                               "[1.73, 1.12]") from None
     flux = light.photon_flux()
     share = operating.step_shares()
     return LimitResult(detailed_balance_limit(

@@ -125,7 +125,7 @@ def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
     Examples
     --------
     >>> from tandem import Sweep, match
-    >>> study = match("perovskite-wide", "silicon", sweep=Sweep(front_gaps_eV=(1.7, 1.7, 0.01),
+    >>> study = match("perovskite-wide", "silicon", sweep=Sweep(front_gaps_eV=1.7,
     ...               thickness_points=20))
     >>> study.summary()["order"]["recommended_front"]
     'perovskite-wide'

@@ -11,6 +11,8 @@ are identical either way (tested).
 
 from __future__ import annotations
 
+from typing import Any, TYPE_CHECKING
+
 import csv
 import hashlib
 import json
@@ -25,8 +27,11 @@ import numpy as np
 
 from tandem.core.errors import TandemInputError
 from tandem.core.files import STAMP, check_output_folder, write_whole
-from tandem.jobs.inputs import OperatingPoint
+from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.optics.absorbers import Absorber
+
+if TYPE_CHECKING:  # for annotations only: no import cost at run time
+    from tandem.design.sky import Rows
 
 REGION_FORMAT = "tandem-region/1"
 SITE_COLUMNS = ("name", "latitude", "longitude", "altitude_m", "timezone", "weather")
@@ -46,10 +51,9 @@ class SiteSpec:
 
     @property
     def zone(self) -> str:
-        if self.timezone:
-            return self.timezone
-        hours = int(round(self.longitude / 15.0))
-        return "UTC" if hours == 0 else f"Etc/GMT{-hours:+d}"
+        from tandem.design.sky import standard_time_zone
+
+        return self.timezone or standard_time_zone(self.longitude)
 
 
 @dataclass(frozen=True)
@@ -66,8 +70,8 @@ class RegionJob:
     step_minutes: float = 60.0
     tilt: str = "latitude"  #: 'latitude' (tilt = |latitude|, facing the equator) or degrees
     albedo: float = 0.2
-    rows: object = None  #: tandem.design.sky.Rows for bifacial modules, or None
-    reference: object = None  #: tandem.Light of the comparison design (default AM1.5G)
+    rows: Rows | None = None  #: bifacial rows, or None (monofacial)
+    reference: Light | None = None  #: the comparison design's light (default AM1.5G)
     cell_temperature_K: float | None = None  #: one cell temperature instead of SAPM per step
 
     def fingerprint(self, spec: SiteSpec) -> str:
@@ -88,6 +92,52 @@ class RegionJob:
                            "reference": repr(self.reference),
                            "cell_temperature_K": self.cell_temperature_K}, sort_keys=True)
         return hashlib.sha256(text.encode()).hexdigest()
+
+
+def region_job(front: Absorber | str, back: Absorber | str,
+               operating: OperatingPoint = OperatingPoint(), *, front_gaps_eV=None,
+               thickness_points: int = 16, back_thickness_nm: float | None = None,
+               period: str = "year:2026", step_minutes: float = 60.0,
+               tilt: str | float = "latitude", albedo: float = 0.2, rows=None,
+               reference=None, cell_temperature_K: float | None = None) -> RegionJob:
+    """What every site of a region computes, checked once (the same axes as a yield).
+
+    ``tilt`` is degrees (0–90) or 'latitude' (tilt = |latitude|, facing the equator);
+    ``thickness_points`` front thicknesses (2–100) span the front's range.
+
+    Examples
+    --------
+    >>> from tandem.jobs.region import region_job
+    >>> job = region_job('perovskite-wide', 'silicon', front_gaps_eV=[1.70, 1.75], thickness_points=3)
+    >>> len(job.gaps_eV), len(job.thicknesses_nm), job.back_thickness_nm
+    (2, 3, 160000.0)
+    """
+    from tandem.design.sky import parse_period
+    from tandem.jobs.common import absorber_pair
+    from tandem.jobs.energy_yield import yield_axes
+
+    a_front, a_back = absorber_pair(front, back, operating)
+    if not (isinstance(thickness_points, (int, np.integer)) and 2 <= thickness_points <= 100):
+        raise TandemInputError(f"thickness points {thickness_points!r}: give 2 to 100")
+    gaps, thick = yield_axes(a_front, a_back, front_gaps_eV, None, thickness_points)
+    for g in gaps:
+        a_front.check_gap(float(g), operating.allow_outside_range)
+    back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
+    a_back.check_thickness(back_d, "back thickness", operating.allow_outside_range)
+    if tilt != "latitude":
+        try:
+            tilt_deg = float(tilt)
+        except (TypeError, ValueError):
+            raise TandemInputError(f"tilt {tilt!r}: give degrees or 'latitude'") from None
+        if not 0 <= tilt_deg <= 90:
+            raise TandemInputError(f"tilt {tilt_deg:g}: give 0 to 90 degrees")
+        tilt = f"{tilt_deg:g}"
+    if not (math.isfinite(albedo) and 0 <= albedo <= 1):
+        raise TandemInputError(f"albedo {albedo:g}: give a fraction from 0 to 1")
+    parse_period(period, "UTC", step_minutes)
+    return RegionJob(a_front, a_back, operating, tuple(map(float, gaps)), tuple(map(float, thick)),
+                     back_d, period, float(step_minutes), str(tilt), float(albedo), rows,
+                     reference, cell_temperature_K)
 
 
 def _file_sha(path: str | None) -> str | None:
@@ -274,7 +324,7 @@ class RegionResult:
         import xarray as xr
 
         frame = self.to_frame()
-        data = {}
+        data: dict[str, tuple] = {}
         units = {"_eV": "eV", "_nm": "nm", "_kWh_m2": "kWh/m2", "_deg": "degree", "_m": "m",
                  "seconds": "s"}
         for column in frame.columns:
@@ -285,7 +335,7 @@ class RegionResult:
             if values.dtype == object:
                 values = np.array(["" if v is None else str(v) for v in values])
             data[column] = ("site", values, {"units": unit} if unit else {})
-        coords = {"site": ("site", frame["name"].to_numpy().astype(str))}
+        coords: dict[str, tuple] = {"site": ("site", frame["name"].to_numpy().astype(str))}
         if grids and self.job is not None:
             coords["front_gap"] = ("front_gap", np.array(self.job.gaps_eV), {"units": "eV"})
             coords["front_thickness"] = ("front_thickness", np.array(self.job.thicknesses_nm),
@@ -294,7 +344,7 @@ class RegionResult:
                 data[key.removesuffix("_grid")] = (
                     ("site", "front_gap", "front_thickness"),
                     np.array([r[key] for r in self.records]), {"units": "kWh/m2"})
-        attrs = {"written_by": STAMP, "format": REGION_FORMAT}
+        attrs: dict[str, Any] = {"written_by": STAMP, "format": REGION_FORMAT}
         if self.job is not None:
             attrs.update(front=self.job.front.key, back=self.job.back.key, period=self.job.period,
                          step_minutes=float(self.job.step_minutes),
@@ -349,7 +399,8 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
 
     ``workers`` 1 runs in this process; otherwise a ``dask.distributed`` local cluster of
     ``workers`` processes (default: the machine's cores), or the cluster at ``scheduler``.
-    Finished sites with unchanged inputs are read back from ``folder`` (a resumed run).
+    Finished sites with unchanged inputs are read back from ``folder`` (a resumed run);
+    ``overwrite`` replaces what tandem wrote there and recomputes every site.
     """
     folder = Path(folder)
     if not sites:
@@ -360,9 +411,8 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
     if not folder.exists():
         check_output_folder(folder)
         (folder / "sites").mkdir(parents=True)
-    elif json.loads((folder / "region.json").read_text(encoding="utf-8")).get("job") \
-            != job.job_fingerprint():
-        _clear_region_folder(folder)  # another job's region, replaced (--overwrite)
+    elif overwrite:  # --overwrite always recomputes: nothing of the old run is read back
+        _clear_region_folder(folder)
     (folder / "sites").mkdir(exist_ok=True)
     _write_json(folder / "region.json", {"format": REGION_FORMAT, "written_by": STAMP,
                                          "job": job.job_fingerprint(), "sites": len(sites)})
@@ -406,6 +456,8 @@ def write_region_outputs(result: RegionResult, grids: bool = False) -> list[Path
     from tandem.output.plots import savefig
 
     folder = result.folder
+    if folder is None:
+        raise TandemInputError("the region result has no folder to write into")
     dataset = result.to_dataset(grids)
     frame = result.to_frame()
     figure = result.plot()

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from dataclasses import dataclass
 
 import numpy as np
@@ -10,6 +12,9 @@ from tandem.design.matching import Conditions, StackDesign
 from tandem.jobs.common import absorber_pair, check_work, frame
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.optics.absorbers import Absorber
+
+if TYPE_CHECKING:  # for annotations only: no import cost at run time
+    from tandem.design.scatter import ScatterResult
 
 
 @dataclass(frozen=True)
@@ -24,7 +29,7 @@ class SpreadResult:
     20
     """
 
-    spread: object  #: scatter.ScatterResult
+    spread: ScatterResult
     terminals: int
     target_pct: float | None
     settings: dict

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from dataclasses import dataclass
 
 import numpy as np
@@ -9,6 +11,9 @@ import numpy as np
 from tandem.jobs.common import Progress, check_work, conditions_attrs, frame
 from tandem.jobs.inputs import Light, OperatingPoint, Sweep
 from tandem.jobs.match import match
+
+if TYPE_CHECKING:  # for annotations only: no import cost at run time
+    from tandem.design.layerstack import StackMatch
 
 
 @dataclass(frozen=True)
@@ -23,7 +28,7 @@ class StackMatchResult:
     True
     """
 
-    match: object  #: :class:`tandem.design.layerstack.StackMatch`
+    match: StackMatch
     optics_lite_matched_nm: float | None  #: the optics-lite model's match, same absorbers
     spectrum: str
 
@@ -44,7 +49,7 @@ class StackMatchResult:
         others = [x.name for x in m.stack.swept]
         rows = {k: np.stack([g[i] for g in m.grids]) for i, k in ((1, "j"), (2, "e2"), (3, "e4"))}
         dims = ("design", "front_thickness")
-        coords = {"front_thickness": ("front_thickness", m.thicknesses_nm, {"units": "nm"})}
+        coords: dict[str, tuple] = {"front_thickness": ("front_thickness", m.thicknesses_nm, {"units": "nm"})}
         for name in others:
             coords[name] = ("design", [g[0][name] for g in m.grids], {"units": "nm"})
         return xr.Dataset(
@@ -104,7 +109,7 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
     front, back = stack.front, stack.back
     gap = front.gap_eV or front.absorber.gap_eV
     lite = match(front.absorber, back.absorber, light, replace(operating, terminals=2),
-                 Sweep(front_gaps_eV=(gap, gap, 0.01), thickness_points=points,
+                 Sweep(front_gaps_eV=gap, thickness_points=points,
                        back_thicknesses_nm=(back.thickness_nm,)))
     return StackMatchResult(result, lite.result.configurations[0].matched_front_thickness_nm,
                             flux.name)

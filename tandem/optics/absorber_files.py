@@ -242,7 +242,7 @@ def parse_absorber(path: Path) -> Absorber:
         if relation is not None:
             c.fail("gap.coefficients_eV", "cannot move absorption bands",
                    "use a fixed value_eV (the band's onset) with model = 'bands'")
-        edge = _band_edge(c, eu, value)
+        edge: BandEdge | ParametricEdge | TabulatedEdge = _band_edge(c, eu, value)
     elif model in ("direct", "indirect"):
         for key in ("alpha_at_gap_per_cm", "strength_per_cm"):
             if c.get("absorption", key) is None:

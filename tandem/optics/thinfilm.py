@@ -23,6 +23,8 @@ reference implementation, to keep the matrices finite.
 
 from __future__ import annotations
 
+from typing import Any
+
 from dataclasses import dataclass
 
 import numpy as np
@@ -169,7 +171,7 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm) 
         return (1 / tf, -rb / tf, rf / tf, (tb * tf - rb * rf) / tf)
 
     total = l_matrix(0)
-    chain = [None]
+    chain: list[Any] = [None]
     for i in range(1, count - 1):
         a, b, c, d = l_matrix(i)
         p = passes[i]
@@ -180,7 +182,7 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm) 
     transmittance = 1 / total[0]
     reflectance = total[2] / total[0]
     # forward (V) and backward (W) intensities at the start of each incoherent medium
-    vw = [None] * count
+    vw: list[Any] = [None] * count
     v, w = transmittance, np.zeros_like(transmittance)
     vw[-1] = (v, w)
     for i in range(count - 2, 0, -1):
@@ -190,12 +192,12 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm) 
     # light arriving at group g from the front (F) and from the back (B)
     arriving = [(1.0 if g == 0 else vw[g][0] * passes[g], vw[g + 1][1]) for g in range(count - 1)]
     # flux entering each incoherent medium across the interface before it
-    entering = [None]
+    entering: list[Any] = [None]
     for i in range(1, count):
         f, b = arriving[i - 1]
         back = bwd[i - 1]["entering"] if groups[i - 1] else bwd[i - 1]["T"]
         entering.append(f * fwd[i - 1]["T"] - b * back)
-    absorbed = [None] * len(layers)
+    absorbed: list[Any] = [None] * len(layers)
     for i in range(1, count - 1):
         f, b = arriving[i]
         front_side = fwd[i]["entering"] if groups[i] else fwd[i]["T"]

@@ -260,7 +260,7 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False,
     # --- a day: the one with the most light, which shows the noon peak and the red mornings
     days = best.times.normalize()
     daily = {d: float((best.irradiance * best.step_hours)[days == d].sum()) for d in days.unique()}
-    day = max(daily, key=daily.get)
+    day = max(daily, key=lambda d: daily[d])
     sel = days == day
     hours = best.times[sel].hour + best.times[sel].minute / 60
     jf, jb = best.j_front[sel] / 10, best.j_back[sel] / 10

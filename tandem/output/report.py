@@ -132,7 +132,7 @@ DESIGN_COLUMNS = [
 
 def configuration_row(c) -> dict:
     """One configuration as a row of :data:`DESIGN_COLUMNS` (display units)."""
-    return {col.key: col.value(c) for col in DESIGN_COLUMNS}
+    return {col.key: col.value(c) for col in DESIGN_COLUMNS if col.value is not None}
 
 
 def _absorber(a) -> dict:

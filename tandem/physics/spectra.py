@@ -25,7 +25,7 @@ REFERENCE_SPECTRA = {
 }
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Spectrum:
     """Spectral irradiance on an ascending wavelength grid.
 
@@ -53,6 +53,18 @@ class Spectrum:
     wavelength_nm: np.ndarray
     irradiance: np.ndarray
     notes: tuple[str, ...] = field(default=())
+
+    def __repr__(self) -> str:  # compact, and by content (it enters job fingerprints)
+        return (f"Spectrum({self.name!r}, {self.wavelength_nm.size} points, "
+                f"{self.wavelength_nm[0]:g}–{self.wavelength_nm[-1]:g} nm, sha256 {self.digest()[:16]})")
+
+    def digest(self) -> str:
+        """SHA-256 of the wavelengths and irradiances (the spectrum's content)."""
+        import hashlib
+
+        data = np.ascontiguousarray(self.wavelength_nm, float).tobytes() + \
+            np.ascontiguousarray(self.irradiance, float).tobytes()
+        return hashlib.sha256(data).hexdigest()
 
     @property
     def integrated_irradiance(self) -> float:
@@ -309,7 +321,7 @@ def blackbody_sun(
     e_rev = energy[::-1]
     irradiance = flux[::-1] * e_rev * Q * e_rev**2 / HC_EV_NM
     name = f"blackbody sun {temperature_K:g} K"
-    notes = ()
+    notes: tuple[str, ...] = ()
     if concentration == 1:
         name += ", one sun"
     else:
@@ -492,8 +504,51 @@ def load_spectrum(
             spectrum = read_spectrum_csv(source)
         else:
             spectrum = reference_spectrum(key)  # raises with the list of valid names
-        if concentration != 1:
-            spectrum = scaled(spectrum, concentration, f"concentrated {concentration:g}×")
+        return adjusted(spectrum, concentration, target_irradiance_W_m2)
+    return adjusted(spectrum, 1.0, target_irradiance_W_m2)
+
+
+def adjusted(spectrum: Spectrum, concentration: float = 1.0,
+             target_irradiance_W_m2: float | None = None) -> Spectrum:
+    """The spectrum concentrated ``concentration`` times, then rescaled to a target
+    irradiance [W/m²] if one is given; both changes are kept in its notes."""
+    if concentration != 1:
+        spectrum = scaled(spectrum, concentration, f"concentrated {concentration:g}×")
     if target_irradiance_W_m2 is not None:
         spectrum = scaled_to_irradiance(spectrum, target_irradiance_W_m2)
+    return spectrum
+
+
+def spectrum_from_arrays(wavelength_nm, irradiance, name: str = "user spectrum") -> Spectrum:
+    """A spectrum from arrays, checked as a spectrum file is: wavelengths [nm] positive and
+    rising, irradiance [W m⁻² nm⁻¹] finite and non-negative, at most ``MAX_ROWS`` points.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from tandem.physics.spectra import spectrum_from_arrays
+    >>> spectrum_from_arrays([300.0, 1000.0], [1.0, 1.0], 'flat').integrated_irradiance
+    700.0
+    """
+    try:
+        wl = np.asarray(wavelength_nm, dtype=float)
+        irr = np.asarray(irradiance, dtype=float)
+    except (TypeError, ValueError):
+        raise TandemInputError(f"spectrum '{name}': give numbers (wavelength nm, W m^-2 nm^-1)") from None
+    where = f"spectrum '{name}'"
+    if wl.ndim != 1 or irr.shape != wl.shape or wl.size < 2:
+        raise TandemInputError(f"{where}: give two 1-D arrays of equal length (at least two "
+                               "points): wavelength [nm] and irradiance [W m^-2 nm^-1]")
+    if wl.size > MAX_ROWS:
+        raise TandemInputError(f"{where}: {wl.size:,} points; give at most {MAX_ROWS:,}")
+    if not (np.isfinite(wl).all() and np.isfinite(irr).all()):
+        raise TandemInputError(f"{where}: a value is not finite; replace it with a number")
+    if not (wl[0] > 0 and (np.diff(wl) > 0).all()):
+        raise TandemInputError(f"{where}: wavelengths must be positive and rising (nm); sort "
+                               "them and remove duplicates")
+    if (irr < 0).any():
+        raise TandemInputError(f"{where}: irradiance is negative somewhere")
+    spectrum = Spectrum(name=name, wavelength_nm=wl.copy(), irradiance=irr.copy())
+    if not spectrum.integrated_irradiance > 0:
+        raise TandemInputError(f"{where}: irradiance is zero everywhere")
     return spectrum

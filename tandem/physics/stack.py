@@ -157,7 +157,7 @@ class _Cells:
     a: np.ndarray  #: n = 1 saturation current (radiative + rear; + non-radiative when ideal)
     b: np.ndarray  #: non-radiative saturation current at ``n`` (zero when ideal)
     n: float
-    vt: np.ndarray  #: kT/q over the leading axes (...)
+    vt: np.ndarray | float  #: kT/q over the leading axes (...), or one value
     gain: np.ndarray  #: (...) c·J0,rear of the front; zero without coupling
     ideal: bool  #: every subcell is one n = 1 diode
 
@@ -237,7 +237,7 @@ def _resistive_maximum(chain_voltage, lo, hi, electrical: Electrical):
 
 def _own_mpp(cells: _Cells, j_light, electrical: Electrical):
     """Every subcell alone at its maximum power point, elementwise over (..., m)."""
-    vt = cells.vt[..., None] if np.ndim(cells.vt) else cells.vt
+    vt = np.asarray(cells.vt)[..., None] if np.ndim(cells.vt) else cells.vt
     if cells.ideal and not electrical.resistive:
         return db.single_junction_mpp(j_light, cells.a, vt / K_B_EV)
     if not electrical.resistive:

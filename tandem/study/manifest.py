@@ -3,6 +3,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 import platform
 from datetime import datetime, timezone
 from importlib import metadata
@@ -38,13 +40,13 @@ def manifest(study: StudyResult, figures: bool = True) -> dict:
         **({"stacks": sc.stack_records} if sc.stack_records else {}),
         "files": {k: (sc.files or {}).get(k) for k in ("spectrum", "weather", "spectra_folder")},
     }
-    versions = {}
+    versions: dict[str, str | None] = {}
     for pkg in PACKAGES:
         try:
             versions[pkg] = metadata.version(pkg)
         except metadata.PackageNotFoundError:
             versions[pkg] = None
-    out = {
+    out: dict[str, Any] = {
         "format": MANIFEST_FORMAT,
         "tool": {"name": "tandem", "version": __version__},
         "created_utc": datetime.now(timezone.utc).isoformat(timespec="seconds"),

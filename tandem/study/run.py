@@ -1,4 +1,8 @@
 """Running a study: every front × back candidate pair swept, current-matched and ranked.
+
+The scenario is translated once into the typed inputs every job takes
+(:meth:`Scenario.light`, :meth:`Scenario.operating`, :meth:`Scenario.sweep`); the energies
+use the same operating point as the ranking (its ideality, electrical options and losses).
 """
 
 from __future__ import annotations
@@ -19,13 +23,7 @@ from tandem.design.matching import (
 from tandem.optics.losses import loss_on_grid
 from tandem.output.report import configuration_row
 from tandem.physics.spectra import load_spectrum
-from tandem.physics.checks import check_ideality
 from tandem.study.scenario import Scenario
-
-# --------------------------------------------------------------------------------------
-# Running
-# --------------------------------------------------------------------------------------
-
 
 @dataclass(frozen=True)
 class StudyResult:
@@ -43,14 +41,13 @@ class StudyResult:
 
 def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = None) -> StudyResult:
     """Every front × back candidate pair, swept and current-matched, ranked."""
-    spectrum = scenario.spectrum()
-    flux = spectrum.photon_flux()
+    light, operating, sweep = scenario.light(), scenario.operating(), scenario.sweep()
+    spectrum = light.spectrum()
+    flux = light.photon_flux()
     e = flux.energy
-    ideality = float(scenario.get("electrical", "ideality", 1.0))
-    check_ideality(ideality)
-    cond = Conditions(flux, scenario.temperature_K, ideality, scenario.electrical())
+    cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical)
     series = scenario.series()
-    losses = [loss_on_grid(scenario.get("stack", k, 0.0), e, f"stack.{k}")
+    losses = [loss_on_grid(getattr(operating, k), e, f"stack.{k}")
               for k in ("reflectance", "front_parasitic", "interlayer_parasitic")]
     pairs = [(f, b) for f in scenario.fronts for b in scenario.backs if f.key != b.key]
     results, rows, skipped = {}, [], []
@@ -62,11 +59,10 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
         design = StackDesign(front, back, *losses)
         from tandem.design.matching import front_gap_grid
 
-        gaps = front_gap_grid(front, float(scenario.get("sweep", "front_gap_step_eV", 0.02)))
+        gaps = front_gap_grid(front, sweep.front_gap_step_eV)
         gaps = gaps[gaps > back.gap_eV]
-        result = match_currents(design, cond, gaps, scenario.back_thicknesses_nm(), None,
-                                int(scenario.get("sweep", "thickness_points", 60)),
-                                scenario.terminals)
+        result = match_currents(design, cond, gaps, sweep.back_thicknesses_nm, None,
+                                sweep.thickness_points, operating.terminals)
         results[(front.key, back.key)] = result
         row = _row(result, scenario.tolerance_pct)
         row["front_file"] = scenario.absorber_records.get(front.key, {}).get("entry", front.key)
@@ -76,7 +72,7 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
             from tandem.design.yields import hourly
 
             h = hourly(design, series, best.front_gap_eV, best.front_thickness_nm,
-                       best.back_thickness_nm, 1.0, cond.electrical)
+                       best.back_thickness_nm, operating.ideality, operating.electrical)
             row["energy_2t_kWh_m2"] = round(float(h.p_2t @ h.step_hours) / 1000, 3)
             row["energy_4t_kWh_m2"] = round(float(h.p_4t @ h.step_hours) / 1000, 3)
         if "spread" in scenario.data:
@@ -101,9 +97,8 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
     for key, stack in scenario.stacks().items():
         from tandem.design.layerstack import match_in_stack
 
-        stacks[key] = match_in_stack(stack, flux, scenario.temperature_K,
-                                     int(scenario.get("sweep", "thickness_points", 60)), ideality,
-                                     cond.electrical)
+        stacks[key] = match_in_stack(stack, flux, operating.temperature_K, sweep.thickness_points,
+                                     operating.ideality, operating.electrical)
         rows.append(_stack_row(key, stacks[key]))
     key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
     rows.sort(key=lambda r: r[key], reverse=True)
@@ -173,10 +168,10 @@ def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, loss
             front = replace(front, ere=float(ere[0]))
         if ere[1] is not None:
             back = replace(back, ere=float(ere[1]))
-        gaps = front_gap_grid(front, float(scenario.get("sweep", "front_gap_step_eV", 0.02)))
+        sweep = scenario.sweep()
+        gaps = front_gap_grid(front, sweep.front_gap_step_eV)
         result = match_currents(StackDesign(front, back, *losses_v), cond_v, gaps[gaps > back.gap_eV],
-                                scenario.back_thicknesses_nm(), None,
-                                int(scenario.get("sweep", "thickness_points", 60)),
+                                sweep.back_thicknesses_nm, None, sweep.thickness_points,
                                 scenario.terminals)
         best = configuration_row(result.configurations[0])
         row[f"variant{index}_front_gap_eV"] = best["front_gap_eV"]

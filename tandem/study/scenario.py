@@ -19,9 +19,10 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from tandem.core.errors import TandemInputError
+from tandem.jobs.inputs import Light, OperatingPoint, Sweep
 from tandem.optics.absorbers import Absorber
 from tandem.optics.absorber_files import Checker
-from tandem.physics.spectra import load_spectrum, parse_spectrum_text
+from tandem.physics.spectra import parse_spectrum_text
 from tandem.physics.checks import check_temperature
 
 SCENARIO_SCHEMA = {
@@ -132,18 +133,35 @@ class Scenario:
     def tolerance_pct(self) -> float:
         return float(self.get("report", "tolerance_pct", 1.0))
 
-    def spectrum(self):
+    def light(self) -> Light:
+        """The scenario's [spectrum] as the typed input every job takes."""
         source = self.get("spectrum", "source")
-        options = dict(sun_temperature_K=float(self.get("spectrum", "sun_temperature_K", 6000.0)),
-                       concentration=float(self.get("spectrum", "concentration", 1.0)),
-                       target_irradiance_W_m2=self.get("spectrum", "irradiance_W_m2"))
         embedded = (self.files or {}).get("spectrum")
-        if embedded is None:
-            return load_spectrum(source, **options)
-        spectrum = parse_spectrum_text(embedded["text"], f"spectrum.source '{source}'",
-                                       embedded["name"])
-        return adjusted_spectrum(spectrum, options["concentration"],
-                                 options["target_irradiance_W_m2"])
+        if embedded is not None:  # a file's text, held as data (from disk or a manifest)
+            source = parse_spectrum_text(embedded["text"], f"spectrum.source '{source}'",
+                                         embedded["name"])
+        return Light(source=source, concentration=float(self.get("spectrum", "concentration", 1.0)),
+                     sun_temperature_K=float(self.get("spectrum", "sun_temperature_K", 6000.0)),
+                     irradiance_W_m2=self.get("spectrum", "irradiance_W_m2"))
+
+    def spectrum(self):
+        return self.light().spectrum()
+
+    def operating(self) -> OperatingPoint:
+        """The scenario's temperature, terminals, [stack] losses and [electrical] section as the
+        typed input every job takes (one translation: study, yield and eqe all use it)."""
+        return OperatingPoint(
+            temperature_K=self.temperature_K, terminals=self.terminals,
+            ideality=float(self.get("electrical", "ideality", 1.0)), electrical=self.electrical(),
+            **{k: self.get("stack", k, 0.0) for k in ("reflectance", "front_parasitic",
+                                                      "interlayer_parasitic")})
+
+    def sweep(self) -> Sweep:
+        """The scenario's [sweep] as the typed input (front gaps across each front's range)."""
+        backs = self.back_thicknesses_nm()
+        return Sweep(front_gap_step_eV=float(self.get("sweep", "front_gap_step_eV", 0.02)),
+                     thickness_points=int(self.get("sweep", "thickness_points", 60)),
+                     back_thicknesses_nm=None if backs is None else tuple(backs))
 
     def site(self):
         from tandem.design.sky import Site
@@ -159,8 +177,22 @@ class Scenario:
                           float(e.get("shunt_resistance_ohm_cm2", float("inf"))),
                           bool(e.get("rear_emission", False)))
 
-    def series(self):
-        """The spectral series of the scenario's [site] and [weather], or None."""
+    def site_series(self, period: str | None = None, step_minutes: float | None = None):
+        """:meth:`series`, refused in one line when the scenario has no [site]; a period or
+        step for a scenario that reads a weather file or spectra is refused too."""
+        if self.site() is None:
+            raise TandemInputError(f"scenario '{self.key}' has no [site]; add one or give a "
+                                   "latitude and longitude")
+        files = self.files or {}
+        if (period or step_minutes) and (files.get("weather") or files.get("spectra_folder")):
+            raise TandemInputError(f"scenario '{self.key}' reads measured weather or spectra, "
+                                   "whose file sets the period and steps; drop the period and "
+                                   "step options")
+        return self.series(period, step_minutes)
+
+    def series(self, period: str | None = None, step_minutes: float | None = None):
+        """The spectral series of the scenario's [site] and [weather], or None; ``period`` and
+        ``step_minutes`` replace the scenario's (clear skies only)."""
         from tandem.design.sky import clear_sky_series, parse_period
         from tandem.design.weather import folder_series, weather_series
 
@@ -179,8 +211,8 @@ class Scenario:
                 for name, text in files["spectra_folder"].items():
                     materialise(folder, name, text)
                 return folder_series(site, folder)
-        return clear_sky_series(site, parse_period(w.get("period", "year:2026"), site.timezone,
-                                                   float(w.get("step_minutes", 60))))
+        return clear_sky_series(site, parse_period(period or w.get("period", "year:2026"), site.timezone,
+                                                   float(step_minutes or w.get("step_minutes", 60))))
 
     def back_thicknesses_nm(self):
         nm, um = self.get("sweep", "back_thickness_nm"), self.get("sweep", "back_thickness_um")
@@ -203,16 +235,6 @@ def materialise(folder: Path, relative: str, text: str) -> Path:
     path.write_text(text, encoding="utf-8")
     return path
 
-
-def adjusted_spectrum(spectrum, concentration: float, target_W_m2: float | None):
-    """Concentration and target irradiance applied as :func:`~tandem.physics.spectra.load_spectrum` does."""
-    from tandem.physics.spectra import scaled, scaled_to_irradiance
-
-    if concentration != 1:
-        spectrum = scaled(spectrum, concentration, f"concentrated {concentration:g}×")
-    if target_W_m2 is not None:
-        spectrum = scaled_to_irradiance(spectrum, target_W_m2)
-    return spectrum
 
 
 def read_text_file(path: Path, label: str) -> str:
@@ -354,7 +376,9 @@ def _check_variants(c, variants) -> None:
                        else f"allowed: {', '.join(VARIANT_KEYS)}")
             rng = VARIANT_KEYS[key]
             values = value if key == "ere" and isinstance(value, list) else [value]
-            if rng is not None and not all(
+            if rng is None:
+                continue
+            if not all(
                     isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x)
                     and rng[0] <= x <= rng[1] for x in values) or (key == "ere" and len(values) > 2):
                 c.fail(f"{where}.{key}", f"= {value!r} is outside {rng[0]:g}–{rng[1]:g}",

@@ -6,6 +6,8 @@ files are written only inside a private temporary folder.
 
 from __future__ import annotations
 
+from typing import Any
+
 import json
 import tempfile
 import tomllib
@@ -70,7 +72,8 @@ def _disk_absorber(scenario_path: Path):
     def load(entry: str, role: str = "", index: int = 0):
         candidate = scenario_path.parent / entry
         a = load_absorber(candidate if entry.endswith(".toml") else entry)
-        record = {"entry": entry, "text": read_text_file(a.path, "absorber file"), "table": None}
+        record: dict[str, Any] = {"entry": entry, "text": read_text_file(a.path, "absorber file"),
+                                  "table": None}
         paths = [a.path]
         if a.edge_model == "table":
             rel = str(read_toml(a.path).get("absorption", {}).get("table"))
@@ -84,7 +87,8 @@ def _disk_absorber(scenario_path: Path):
 def _disk_files(scenario_path: Path):
     """Read the data files a scenario names (spectrum CSV, weather file, spectra folder)."""
     def load(data: dict):
-        files, paths = {"spectrum": None, "weather": None, "spectra_folder": None}, []
+        files: dict[str, Any] = {"spectrum": None, "weather": None, "spectra_folder": None}
+        paths: list[Path] = []
         source = data.get("spectrum", {}).get("source")
         p = scenario_path.parent / str(source)
         if isinstance(source, str) and source.lower() not in REFERENCE_NAMES and (
