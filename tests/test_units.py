@@ -26,4 +26,7 @@ def test_g173_read_directly_equals_pvlib():
     ours = astm_g173_table()
     np.testing.assert_array_equal(ours["wavelength"], ref.index.to_numpy(dtype=float))
     for column in ("extraterrestrial", "global", "direct"):
-        np.testing.assert_array_equal(ours[column], ref[column].to_numpy(dtype=float))
+        # to the last bit but one: pvlib 0.11 parses the CSV with pandas' fast (not correctly
+        # rounded) float reader, 8 of 2,002 values differ by 1 ulp (2e-16 relative) there
+        np.testing.assert_allclose(ours[column], ref[column].to_numpy(dtype=float), rtol=4.5e-16,
+                                   atol=0)
