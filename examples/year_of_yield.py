@@ -9,7 +9,7 @@ import sys
 import numpy as np
 
 import tandem
-from tandem.jobs.energy_yield import site_series
+from tandem import site_series
 
 site = tandem.Site("Invented Plateau (example)", latitude=38.5, longitude=-3.0, altitude_m=700,
                    tilt_deg=30, timezone="Etc/GMT-1")

@@ -30,6 +30,8 @@ _WHERE = {
     "parse_absorber": "optics.absorber_files",
     "Site": "design.sky", "clear_sky_series": "design.sky", "weather_series": "design.weather", "folder_series": "design.weather",
     "parse_period": "design.sky", "SpectralSeries": "design.sky",
+    "site_from_location": "design.sky", "weather_frame_series": "design.weather",
+    "site_series": "jobs.energy_yield", "region_job": "jobs.region",
     "PhotonFlux": "physics.spectra", "Spectrum": "physics.spectra", "blackbody_sun": "physics.spectra",
     "load_spectrum": "physics.spectra", "read_spectrum_csv": "physics.spectra", "reference_spectrum": "physics.spectra",
     "scaled_to_irradiance": "physics.spectra",

@@ -118,3 +118,31 @@ def test_a_site_without_a_zone_keeps_its_own_standard_time():
     # the time-zone default lives with the site, not in the command line
     assert tandem.Site("s", latitude=40, longitude=-105).timezone == "Etc/GMT+7"
     assert tandem.Site("s", latitude=40, longitude=30, timezone="Etc/GMT-3").timezone == "Etc/GMT-3"
+
+
+def test_a_spectrum_from_arrays_pandas_or_xarray_equals_the_same_csv(tmp_path):
+    import numpy as np
+    import pandas as pd
+    import xarray as xr
+
+    wl = np.linspace(300.0, 1200.0, 91)
+    irr = 1.0 + 0.5 * np.sin(wl / 100.0)
+    csv = tmp_path / "s.csv"
+    csv.write_text("wavelength_nm,irradiance\n" + "".join(f"{float(a)!r},{float(b)!r}\n" for a, b in zip(wl, irr)))
+    from_file = tandem.limit([1.7, 1.1], tandem.Light(source=str(csv))).efficiency
+    lights = [tandem.Light.from_arrays(wl, irr),
+              tandem.Light.from_series(pd.Series(irr, index=wl)),
+              tandem.Light.from_series(xr.DataArray(irr, coords={"wavelength": wl},
+                                                    dims="wavelength"))]
+    for light in lights:
+        assert tandem.limit([1.7, 1.1], light).efficiency == from_file
+    with pytest.raises(tandem.TandemInputError, match="rising"):
+        tandem.Light.from_arrays(wl[::-1], irr)
+    with pytest.raises(tandem.TandemInputError, match="Light.from_arrays"):
+        tandem.Light(source=wl)
+
+
+def test_a_scalar_gap_is_a_single_junction():
+    assert tandem.limit(1.34).efficiency == tandem.limit([1.34]).efficiency
+    with pytest.raises(tandem.TandemInputError, match="one or two band gaps"):
+        tandem.limit("1.3 eV")

@@ -150,7 +150,16 @@ def rear_ratio(site: Site, rows: Rows, pos, ghi, dni, dhi) -> np.ndarray:
 
 def site_from_location(location, **settings) -> Site:
     """Our :class:`Site` from a ``pvlib.location.Location`` (name, latitude, longitude,
-    altitude, time zone), with any other site settings as keywords."""
+    altitude, time zone), with any other site settings as keywords.
+
+    Examples
+    --------
+    >>> import pvlib
+    >>> from tandem import site_from_location
+    >>> site_from_location(pvlib.location.Location(38.5, -3.0, 'Etc/GMT-1', 600, 'field'),
+    ...                    tilt_deg=25).timezone
+    'Etc/GMT-1'
+    """
     return Site(name=location.name or "site", latitude=float(location.latitude),
                 longitude=float(location.longitude), altitude_m=float(location.altitude or 0.0),
                 timezone=str(location.tz), **settings)

@@ -26,9 +26,8 @@ class YieldResult:
     Examples
     --------
     >>> import numpy as np, tandem
-    >>> from tandem.jobs.energy_yield import site_series
     >>> site = tandem.Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1')
-    >>> y = tandem.energy_yield('perovskite-wide', 'silicon', site_series(site, period='day:2026-06-21'),
+    >>> y = tandem.energy_yield('perovskite-wide', 'silicon', tandem.site_series(site, period='day:2026-06-21'),
     ...                         front_gaps_eV=[1.72], front_thicknesses_nm=[500.0, 1000.0])
     >>> sorted(y.to_dataset().dims)
     ['front_gap', 'front_thickness']
@@ -103,7 +102,15 @@ def site_series(site, *, weather=None, spectra=None, period: str = "year:2026",
                 step_minutes: float = 60.0, cell_temperature_K: float | None = None,
                 allow_large: bool = False):
     """The plane-of-array spectra of a site: a weather file, a folder of measured spectra, or
-    clear skies over a period; optionally at a fixed cell temperature instead of SAPM [K]."""
+    clear skies over a period; optionally at a fixed cell temperature instead of SAPM [K].
+
+    Examples
+    --------
+    >>> import tandem
+    >>> site = tandem.Site('field', latitude=38.5, longitude=-3.0)
+    >>> tandem.site_series(site, period='day:2026-06-21', step_minutes=30).times.size > 20
+    True
+    """
     from tandem.design.sky import clear_sky_series, common_grid, parse_period
     from tandem.design.weather import folder_series, weather_series
 
