@@ -146,3 +146,13 @@ def test_a_scalar_gap_is_a_single_junction():
     assert tandem.limit(1.34).efficiency == tandem.limit([1.34]).efficiency
     with pytest.raises(tandem.TandemInputError, match="one or two band gaps"):
         tandem.limit("1.3 eV")
+
+
+def test_results_show_compactly_in_a_notebook():
+    # before: a MatchStudy repr was tens of thousands of characters (every array)
+    m = tandem.match("gainp", "gaas", sweep=tandem.Sweep(thickness_points=10))
+    for result in (m, tandem.limit([1.73, 1.12]), tandem.gap_map(front_gaps_eV=[1.7, 1.8],
+                                                                 back_gaps_eV=[1.1])):
+        text, html = repr(result), result._repr_html_()
+        assert text.startswith(f"<{type(result).__name__} ") and len(text) < 1000
+        assert html.startswith("<table>") and "</table>" in html and len(html) < 5000

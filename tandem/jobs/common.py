@@ -13,8 +13,8 @@ from __future__ import annotations
 from typing import Callable
 
 from tandem.jobs.inputs import OperatingPoint
-from tandem.optics.absorbers import Absorber
 from tandem.optics.absorber_files import load_absorber
+from tandem.optics.absorbers import Absorber
 
 Progress = Callable[[int, int], None]
 
@@ -80,3 +80,24 @@ def blackbody_of(light) -> tuple[float, float] | None:
     return float(light.sun_temperature_K), float(light.concentration)
 
 
+
+
+class ResultDisplay:
+    """A compact ``repr`` and a notebook table (``_repr_html_``) for every job's result, from
+    its ``summary()``: the scalar entries only (lists and tables stay in ``to_frame()``)."""
+
+    def _headline(self) -> dict:
+        summary = self.summary()  # type: ignore[attr-defined]
+        return {k: v for k, v in summary.items()
+                if isinstance(v, (int, float, str, bool)) and k != "caution"}
+
+    def __repr__(self) -> str:
+        items = ", ".join(f"{k}={v!r}" for k, v in list(self._headline().items())[:8])
+        return f"<{type(self).__name__} {items}>"
+
+    def _repr_html_(self) -> str:
+        from html import escape
+
+        rows = "".join(f"<tr><th>{escape(str(k))}</th><td>{escape(str(v))}</td></tr>"
+                       for k, v in self._headline().items())
+        return f"<table><caption>{escape(type(self).__name__)}</caption>{rows}</table>"

@@ -2,15 +2,14 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tandem.design.matching import StackDesign
-from tandem.jobs.common import Progress, absorber_pair, check_work
 from tandem.core.errors import TandemInputError
+from tandem.design.matching import StackDesign
+from tandem.jobs.common import Progress, ResultDisplay, absorber_pair, check_work
 from tandem.jobs.inputs import Light, OperatingPoint, gap_values, thickness_axis
 from tandem.optics.absorbers import Absorber
 from tandem.output.report import yield_summary
@@ -19,8 +18,8 @@ if TYPE_CHECKING:  # for annotations only: no import cost at run time
     from tandem.design.yields import HourlyDesign, YieldSweep
 
 
-@dataclass(frozen=True)
-class YieldResult:
+@dataclass(frozen=True, repr=False)
+class YieldResult(ResultDisplay):
     """Energy over a period for front gap × thickness, and the best design hour by hour.
 
     Examples

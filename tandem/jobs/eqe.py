@@ -2,21 +2,20 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tandem.jobs.common import as_absorber, frame
+from tandem.jobs.common import ResultDisplay, as_absorber, frame
 from tandem.jobs.inputs import Light, OperatingPoint
 
 if TYPE_CHECKING:  # for annotations only: no import cost at run time
     from tandem.design.eqe import SubcellEQE
 
 
-@dataclass(frozen=True)
-class EQEResult:
+@dataclass(frozen=True, repr=False)
+class EQEResult(ResultDisplay):
     """Two measured subcell EQEs under one spectrum (and, optionally, a site's year).
 
     Examples

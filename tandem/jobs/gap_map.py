@@ -16,14 +16,14 @@ from tandem.design.maps import (
     step_gap_map,
 )
 from tandem.design.matching import Conditions, StackDesign
-from tandem.jobs.common import Progress, absorber_pair, check_work, conditions_attrs
+from tandem.jobs.common import Progress, ResultDisplay, absorber_pair, check_work, conditions_attrs
 from tandem.jobs.inputs import Light, OperatingPoint, gap_range, gap_values
 from tandem.optics.absorbers import Absorber
 from tandem.output.report import map_summary
 
 
-@dataclass(frozen=True)
-class MapResult:
+@dataclass(frozen=True, repr=False)
+class MapResult(ResultDisplay):
     """Efficiency over front × back gaps (:func:`gap_map`).
 
     Examples

@@ -14,9 +14,15 @@ from pathlib import Path
 import numpy as np
 
 from tandem.core.errors import TandemInputError
-from tandem.physics.spectra import PhotonFlux, Spectrum, adjusted, load_spectrum, spectrum_from_arrays
-from tandem.physics.stack import DEFAULT_FRONT_INDEX, IDEAL, Electrical
 from tandem.physics.checks import check_front_index, check_ideality, check_temperature
+from tandem.physics.spectra import (
+    PhotonFlux,
+    Spectrum,
+    adjusted,
+    load_spectrum,
+    spectrum_from_arrays,
+)
+from tandem.physics.stack import DEFAULT_FRONT_INDEX, IDEAL, Electrical
 
 
 def parse_temperature(value, what: str = "cell temperature") -> float:

@@ -7,15 +7,15 @@ from typing import Sequence
 
 import numpy as np
 
-from tandem.jobs.common import blackbody_of, frame
 from tandem.core.errors import TandemInputError
+from tandem.jobs.common import ResultDisplay, blackbody_of, frame
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.output.report import design_summary
 from tandem.physics.limit import DesignResult, detailed_balance_limit
 
 
-@dataclass(frozen=True)
-class LimitResult:
+@dataclass(frozen=True, repr=False)
+class LimitResult(ResultDisplay):
     """The detailed-balance limit of one design (:func:`limit`).
 
     Examples

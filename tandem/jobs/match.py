@@ -17,6 +17,7 @@ from tandem.design.matching import (
 )
 from tandem.jobs.common import (
     Progress,
+    ResultDisplay,
     absorber_pair,
     blackbody_of,
     check_work,
@@ -28,8 +29,8 @@ from tandem.optics.absorbers import Absorber
 from tandem.output.report import configuration_row, match_summary
 
 
-@dataclass(frozen=True)
-class MatchStudy:
+@dataclass(frozen=True, repr=False)
+class MatchStudy(ResultDisplay):
     """Current matching of two absorbers in both orders (:func:`match`).
 
     Examples

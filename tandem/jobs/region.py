@@ -11,8 +11,6 @@ are identical either way (tested).
 
 from __future__ import annotations
 
-from typing import Any, TYPE_CHECKING
-
 import csv
 import hashlib
 import json
@@ -21,12 +19,13 @@ import os
 import re
 from dataclasses import asdict, dataclass, field, replace
 from pathlib import Path
-from typing import Callable
+from typing import TYPE_CHECKING, Any, Callable
 
 import numpy as np
 
 from tandem.core.errors import TandemInputError
 from tandem.core.files import STAMP, check_output_folder, write_whole
+from tandem.jobs.common import ResultDisplay
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.optics.absorbers import Absorber
 
@@ -290,8 +289,8 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
 
 
 
-@dataclass
-class RegionResult:
+@dataclass(repr=False)
+class RegionResult(ResultDisplay):
     """Every site's record, in the order given, and what this run computed."""
 
     records: list[dict]

@@ -2,14 +2,13 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from tandem.design.matching import Conditions, StackDesign
-from tandem.jobs.common import absorber_pair, check_work, frame
+from tandem.jobs.common import ResultDisplay, absorber_pair, check_work, frame
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.optics.absorbers import Absorber
 
@@ -17,8 +16,8 @@ if TYPE_CHECKING:  # for annotations only: no import cost at run time
     from tandem.design.scatter import ScatterResult
 
 
-@dataclass(frozen=True)
-class SpreadResult:
+@dataclass(frozen=True, repr=False)
+class SpreadResult(ResultDisplay):
     """Efficiency distribution of a design under fabrication spread.
 
     Examples

@@ -2,13 +2,12 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tandem.jobs.common import Progress, check_work, conditions_attrs, frame
+from tandem.jobs.common import Progress, ResultDisplay, check_work, conditions_attrs, frame
 from tandem.jobs.inputs import Light, OperatingPoint, Sweep
 from tandem.jobs.match import match
 
@@ -16,8 +15,8 @@ if TYPE_CHECKING:  # for annotations only: no import cost at run time
     from tandem.design.layerstack import StackMatch
 
 
-@dataclass(frozen=True)
-class StackMatchResult:
+@dataclass(frozen=True, repr=False)
+class StackMatchResult(ResultDisplay):
     """Current matching of a layer stack with thin-film interference (:func:`match_stack`).
 
     Examples
