@@ -5,6 +5,7 @@ Each test here failed on the layout before the jobs shared one translation (cons
 checks: the reference is the same calculation through the Python API).
 """
 
+import dataclasses
 import json
 from pathlib import Path
 
@@ -47,7 +48,7 @@ def test_study_energy_uses_the_scenario_ideality(tmp_path):
     energy = y.summary()["energy_optimum"]["energy_2t_kWh_m2"]
     assert row["energy_2t_kWh_m2"] == pytest.approx(energy, abs=2e-3)
     at_n1 = tandem.energy_yield(scenario.fronts[0], scenario.backs[0], scenario.series(),
-                                tandem.OperatingPoint(**{**operating.__dict__, "ideality": 1.0}),
+                                dataclasses.replace(operating, ideality=1.0),
                                 front_gaps_eV=[row["front_gap_eV"]],
                                 front_thicknesses_nm=[row["front_thickness_nm"]],
                                 back_thickness_nm=1000 * row["back_thickness_um"])

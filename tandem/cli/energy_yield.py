@@ -74,13 +74,12 @@ def energy_yield(
         reference, operating, notes = over_scenario(o, sc.light(), sc.operating(),
                                                     skip=("temperature",))
         w = sc.data.get("weather", {})
-        for option, key, value in (("period", "period", period), ("step", "step_minutes", step)):
-            if given(option):
-                notes.append(f"--{option} {value:g} replaces the scenario's {key} "
-                             f"{w.get(key, 'year:2026' if key == 'period' else 60)}"
-                             if option == "step" else
-                             f"--{option} {value} replaces the scenario's {key} "
-                             f"{w.get(key, 'year:2026')}")
+        if given("period"):
+            notes.append(f"--period {period} replaces the scenario's period "
+                         f"{w.get('period', 'year:2026')}")
+        if given("step"):
+            notes.append(f"--step {step:g} replaces the scenario's step_minutes "
+                         f"{w.get('step_minutes', 60):g}")
         series = sc.site_series(period if given("period") else None,
                                 step if given("step") else None)
         backs = sc.sweep().back_thicknesses_nm

@@ -104,13 +104,19 @@ def build_operating(o: dict, temperature_default: float = 298.15) -> tandem.Oper
         allow_outside_range=o["outside_range"])
 
 
+def _click():
+    """The click that typer runs on: typer ≥ 0.24 carries its own copy (whether or not click
+    is installed, and installing distributed brings a separate one); older typer uses click."""
+    try:
+        from typer import _click as click
+    except ImportError:
+        import click  # type: ignore[no-redef]
+    return click
+
+
 def given(name: str) -> bool:
     """Whether the user typed option ``name`` (a parameter name), not left its default."""
-    try:  # typer ≥ 0.24 carries its own copy of click
-        from typer._click.globals import get_current_context
-    except ImportError:  # older typer: click itself
-        from click import get_current_context  # type: ignore[no-redef]
-    ctx = get_current_context(silent=True)
+    ctx = _click().globals.get_current_context(silent=True)
     source = ctx.get_parameter_source(name) if ctx is not None else None
     return source is not None and source.name in ("COMMANDLINE", "ENVIRONMENT")
 
@@ -371,11 +377,7 @@ def friendly(command):
 
 def run_app(app) -> None:
     """Run the typer app so that usage errors are one line (exit 2) and Ctrl-C is exit 130."""
-    try:  # typer ≥ 0.24 carries its own copy of click, whether or not click is installed
-        from typer import _click as click
-    except ImportError:
-        import click  # type: ignore[no-redef]
-
+    click = _click()
     try:
         code = typer.main.get_command(app).main(prog_name="tandem", standalone_mode=False)
     except click.exceptions.UsageError as exc:

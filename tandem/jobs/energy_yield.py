@@ -7,7 +7,6 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tandem.core.errors import TandemInputError
 from tandem.design.matching import StackDesign
 from tandem.jobs.common import Progress, ResultDisplay, absorber_pair, check_work
 from tandem.jobs.inputs import Light, OperatingPoint, gap_values, thickness_axis
@@ -139,11 +138,13 @@ MAX_YIELD_THICKNESSES = 400  #: front thicknesses in one yield sweep
 
 
 def yield_axes(front: Absorber, back: Absorber, front_gaps_eV=None, front_thicknesses_nm=None,
-               thickness_points: int = 16) -> tuple[np.ndarray, np.ndarray]:
+               thickness_points: int = 16, most_points: int = MAX_YIELD_THICKNESSES
+               ) -> tuple[np.ndarray, np.ndarray]:
     """The front gaps [eV] and thicknesses [nm] a yield sweeps, checked.
 
     Defaults: 11 gaps from 0.3 eV above the back's gap (or the front's lowest) to the front's
-    highest, or its fixed gap; ``thickness_points`` log-spaced across the front's range.
+    highest, or its fixed gap; ``thickness_points`` (2 to ``most_points``) log-spaced across
+    the front's range. Given thicknesses are checked where they are swept (``yield_sweep``).
     """
     if front_gaps_eV is None:
         lo, hi = front.gap_range_eV
@@ -152,12 +153,9 @@ def yield_axes(front: Absorber, back: Absorber, front_gaps_eV=None, front_thickn
     else:
         gaps = gap_values(front_gaps_eV, "front gaps")
     if front_thicknesses_nm is None:
-        thick = thickness_axis(*front.thickness_range_nm, thickness_points,
-                               most=MAX_YIELD_THICKNESSES)
+        thick = thickness_axis(*front.thickness_range_nm, thickness_points, most=most_points)
     else:
         thick = np.atleast_1d(np.asarray(front_thicknesses_nm, dtype=float))
-        if not (thick.ndim == 1 and thick.size and np.isfinite(thick).all() and (thick > 0).all()):
-            raise TandemInputError("front thicknesses: give positive thicknesses in nm")
     return gaps, thick
 
 

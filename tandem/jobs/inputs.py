@@ -142,7 +142,7 @@ def _stamp(source: str | Spectrum) -> float | None:
 
 
 @functools.lru_cache(maxsize=16)
-def _spectrum(source, _stamp, concentration, sun_temperature_K, irradiance):
+def _spectrum(source, stamp, concentration, sun_temperature_K, irradiance):
     if isinstance(source, Spectrum):  # held by identity: a Spectrum is immutable
         return adjusted(source, concentration, irradiance)
     return load_spectrum(source, sun_temperature_K=sun_temperature_K, concentration=concentration,

@@ -116,9 +116,7 @@ def region_job(front: Absorber | str, back: Absorber | str,
     from tandem.jobs.energy_yield import yield_axes
 
     a_front, a_back = absorber_pair(front, back, operating)
-    if not (isinstance(thickness_points, (int, np.integer)) and 2 <= thickness_points <= 100):
-        raise TandemInputError(f"thickness points {thickness_points!r}: give 2 to 100")
-    gaps, thick = yield_axes(a_front, a_back, front_gaps_eV, None, thickness_points)
+    gaps, thick = yield_axes(a_front, a_back, front_gaps_eV, None, thickness_points, most_points=100)
     for g in gaps:
         a_front.check_gap(float(g), operating.allow_outside_range)
     back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)

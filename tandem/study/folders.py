@@ -126,7 +126,7 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
         fg = gap_range(lo, hi, step, "map.front_gaps_eV")
         lo, hi, step = study.scenario.get("map", "back_gaps_eV")
         bg = gap_range(lo, hi, step, "map.back_gaps_eV")
-        flux = study.scenario.spectrum().photon_flux()
+        flux = study.scenario.light().photon_flux()
         gap_map = step_gap_map(flux, fg, bg, study.scenario.temperature_K)
         marks = ([(a.key, a.gap_eV, "front") for a in study.scenario.fronts]
                  + [(a.key, a.gap_eV, "back") for a in study.scenario.backs])

@@ -23,6 +23,7 @@ from tandem.design.matching import (
 from tandem.optics.losses import loss_on_grid
 from tandem.output.report import configuration_row
 from tandem.physics.spectra import load_spectrum
+from tandem.jobs.inputs import Sweep
 from tandem.study.scenario import Scenario
 
 @dataclass(frozen=True)
@@ -92,7 +93,7 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
         if progress:
             progress(n, len(pairs))
     for i, variant in enumerate(scenario.data.get("variants", []), 1):
-        _run_variant(scenario, i, variant, rows, losses, cond)
+        _run_variant(scenario, i, variant, rows, losses, cond, sweep)
     stacks = {}
     for key, stack in scenario.stacks().items():
         from tandem.design.layerstack import match_in_stack
@@ -140,7 +141,8 @@ def _stack_row(key: str, m) -> dict:
             "front_file": front.absorber.key, "back_file": stack.back.absorber.key}
 
 
-def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, losses, cond) -> None:
+def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, losses, cond,
+                 sweep: Sweep) -> None:
     """Every pair again under one variant (temperature, ERE, losses, spectrum): its best
     front gap, thickness and efficiency go into the row as a column group."""
     from tandem.design.matching import front_gap_grid
@@ -168,7 +170,6 @@ def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, loss
             front = replace(front, ere=float(ere[0]))
         if ere[1] is not None:
             back = replace(back, ere=float(ere[1]))
-        sweep = scenario.sweep()
         gaps = front_gap_grid(front, sweep.front_gap_step_eV)
         result = match_currents(StackDesign(front, back, *losses_v), cond_v, gaps[gaps > back.gap_eV],
                                 sweep.back_thicknesses_nm, None, sweep.thickness_points,

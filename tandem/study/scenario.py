@@ -144,9 +144,6 @@ class Scenario:
                      sun_temperature_K=float(self.get("spectrum", "sun_temperature_K", 6000.0)),
                      irradiance_W_m2=self.get("spectrum", "irradiance_W_m2"))
 
-    def spectrum(self):
-        return self.light().spectrum()
-
     def operating(self) -> OperatingPoint:
         """The scenario's temperature, terminals, [stack] losses and [electrical] section as the
         typed input every job takes (one translation: study, yield and eqe all use it)."""
@@ -307,7 +304,7 @@ def resolve(path: Path, key: str, text: str, absorber_source, file_source, stack
                f"used: {exc}", "give a path relative to the scenario file")
     bare = Scenario(path, key, text, data, [], [], {}, files)
     try:
-        bare.spectrum()
+        bare.light().spectrum()
     except TandemInputError as exc:
         c.fail("spectrum", f"cannot be used: {exc}", "name am1.5g, am1.5d, am0, blackbody or a "
                "CSV file relative to the scenario")
