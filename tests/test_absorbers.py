@@ -1,6 +1,8 @@
 """Bundled absorber descriptions against published optical data and relations."""
 
+import dataclasses
 from dataclasses import replace
+from typing import ClassVar
 from pathlib import Path
 import numpy as np
 import pytest
@@ -190,3 +192,89 @@ def test_shipped_alpha_tables_equal_the_database(entry):
     fresh_e, fresh_a = read_database_alpha(entry)
     np.testing.assert_array_equal(cached_e, fresh_e)
     np.testing.assert_array_equal(cached_a, fresh_a)
+
+
+# --- the edge-model registry ----------------------------------------------------------------
+
+
+@dataclasses.dataclass(frozen=True)
+class _StepEdge:
+    """A test model: α constant above the gap, a sharp Urbach tail below it."""
+
+    movable: ClassVar[bool] = True
+    alpha_per_cm: float
+    urbach_energy_eV: float
+
+    def alpha(self, energy_eV, gap_eV):
+        e = np.asarray(energy_eV, dtype=float)
+        return self.alpha_per_cm * np.exp(np.minimum(e - gap_eV, 0.0) / self.urbach_energy_eV)
+
+
+@pytest.fixture
+def step_model():
+    """Register the test model for one test, and leave the registry as it was."""
+    from tandem.optics.edges import EDGE_MODELS, register_edge_model
+
+    def read(c, urbach_eV, gap_eV):
+        return _StepEdge(float(c.positive("absorption", "step_alpha_per_cm", "cm^-1")), urbach_eV)
+
+    register_edge_model("step-test", _StepEdge, read, {"step_alpha_per_cm": "num"})
+    yield
+    del EDGE_MODELS["step-test"]
+
+
+def _step_file(tmp_path, extra=""):
+    text = (ROOT_ABSORBERS / "perovskite-wide.toml").read_text()
+    start = text.index("[absorption]")
+    end = text.index("[", start + 1)
+    text = (text[:start] + '[absorption]\nmodel = "step-test"\nstep_alpha_per_cm = 1e4\n'
+            f'urbach_energy_meV = 15\n{extra}\n' + text[end:])
+    (tmp_path / "step.toml").write_text(text)
+    return tmp_path / "step.toml"
+
+
+def test_a_registered_edge_model_is_read_tuned_and_swept(step_model, tmp_path):
+    film = tandem.parse_absorber(_step_file(tmp_path))
+    assert film.edge_model == "step-test" and film.tunable
+    gap = film.gap_eV
+    # closed form of the model: α above the gap, α·exp(−0.1 eV / 15 meV) 0.1 eV below it
+    assert float(film.alpha(gap + 0.2)) == pytest.approx(1e4)
+    assert float(film.alpha(gap - 0.1)) == pytest.approx(1e4 * np.exp(-0.1 / 0.015))
+    # movable: another gap in the range moves the edge, and the range check still applies
+    lo, hi = film.gap_range_eV
+    film.check_gap(hi)
+    assert float(film.alpha(hi - 0.05, gap_eV=hi)) == pytest.approx(1e4 * np.exp(-0.05 / 0.015))
+    with pytest.raises(tandem.TandemInputError, match="outside its tunable range"):
+        film.check_gap(hi + 0.1)
+
+
+def test_a_key_of_another_model_is_refused_naming_the_model_that_reads_it(step_model, tmp_path):
+    with pytest.raises(tandem.TandemInputError,
+                       match="absorption.table' is not read by model 'step-test'.*'table'"):
+        tandem.parse_absorber(_step_file(tmp_path, 'table = "alpha.csv"'))
+
+
+def test_an_unknown_model_lists_the_registered_ones(step_model, tmp_path):
+    path = _step_file(tmp_path)
+    path.write_text(path.read_text().replace('"step-test"', '"stepp"'))
+    with pytest.raises(tandem.TandemInputError, match="'stepp' is not known; use one of direct, "
+                       "indirect, table, database, bands, step-test"):
+        tandem.parse_absorber(path)
+
+
+def test_a_fixed_model_cannot_take_a_composition_relation(tmp_path):
+    path = tmp_path / "fixed.toml"
+    text = (ROOT_ABSORBERS / "perovskite-wide.toml").read_text()
+    start = text.index("[absorption]")
+    end = text.index("[", start + 1)
+    path.write_text(text[:start] + '[absorption]\nmodel = "database"\n'
+                    'database = "main/Si/Green-2008"\nurbach_energy_meV = 10\n\n' + text[end:])
+    with pytest.raises(tandem.TandemInputError, match="cannot move a 'database' edge"):
+        tandem.parse_absorber(path)
+
+
+def test_a_model_name_registers_once():
+    from tandem.optics.edges import TabulatedEdge, register_edge_model
+
+    with pytest.raises(ValueError, match="already registered"):
+        register_edge_model("table", TabulatedEdge, lambda c, u, g: None, {})

@@ -112,7 +112,7 @@ def test_map_with_absorbers_rematched(tmp_path):
     (["map", "--front-absorber", "silicon"], "give both"),
     (["map", "--front", "1.0:1.1:0.05", "--back", "1.2:1.3:0.05"], "no valid gap pair"),
     (["map", "--back", "1.0", "--front-absorber", "perovskite-wide", "--back-absorber", "silicon"],
-     "fixed by tabulated data"),
+     "gap is fixed by its"),
 ])
 def test_map_bad_input(tmp_path, args, message):
     res = runner.invoke(app, args + ["-o", str(tmp_path / "x")])

@@ -8,6 +8,7 @@ import pytest
 import tandem
 import tandem.core.units
 import tandem.optics.absorptance
+import tandem.optics.edges
 from tandem.design.matching import Conditions, StackDesign, match_currents, stack_performance
 from tandem.optics.absorptance import LayerOptics, absorptance, collection_efficiency, stack_optics
 
@@ -97,7 +98,7 @@ def test_no_match_is_explained(pvk_si):
 def strong_absorber(key, gap, trapping):
     """A thick, strongly absorbing, loss-free edge: the step absorber's optical limit."""
     base = tandem.load_absorber("cdte")
-    edge = tandem.optics.absorptance.ParametricEdge("direct", 0.0005, 1e7, 1e8)
+    edge = tandem.optics.edges.ParametricEdge("direct", 0.0005, 1e7, 1e8)
     return dataclasses.replace(base, key=key, gap_eV=gap, edge=edge, ere=1.0,
                                light_trapping=trapping, collection_length_nm=None,
                                thickness_range_nm=(1e3, 1e5))

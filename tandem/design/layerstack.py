@@ -29,7 +29,8 @@ import numpy as np
 
 from tandem.physics import detailed_balance as db
 from tandem.optics.absorbers import Absorber
-from tandem.optics.absorber_files import read_toml, load_absorber
+from tandem.core.toml_files import read_toml
+from tandem.optics.absorber_files import load_absorber
 from tandem.core.errors import TandemInputError
 from tandem.core.files import bundled_dir
 from tandem.physics.spectra import trapezoid_weights

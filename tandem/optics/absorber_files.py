@@ -10,30 +10,24 @@ from __future__ import annotations
 import difflib
 import functools
 import math
-import tomllib
 from pathlib import Path
 
 import numpy as np
 
 from tandem.core.errors import TandemInputError
 from tandem.core.files import bundled_dir
-from tandem.core.units import HC_EV_NM, K_B_EV, T_STC
-from tandem.optics.absorbers import EDGE_MODELS, MAX_UNCUT_URBACH_EV, Absorber, GapRelation
-from tandem.optics.absorptance import (
-    LIGHT_TRAPPING,
-    BandEdge,
-    ParametricEdge,
-    TabulatedEdge,
-)
-from tandem.optics.database import database_alpha
-from tandem.physics.spectra import read_two_columns
+from tandem.core.toml_files import Checker, Schema, read_toml
+from tandem.core.units import K_B_EV, T_STC
+from tandem.optics.absorbers import MAX_UNCUT_URBACH_EV, Absorber, GapRelation
+from tandem.optics.absorptance import LIGHT_TRAPPING
+from tandem.optics.edges import EDGE_MODELS
 
 # --------------------------------------------------------------------------------------
 # Schema
 # --------------------------------------------------------------------------------------
 
-# section -> {key: (kind, required)}; kinds: str, num, list, bool
-SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
+#: section -> {key: (kind, required)}: the keys of every absorber file
+SCHEMA: Schema = {
     "": {"name": ("str", True), "description": ("str", True)},
     "gap": {
         "value_eV": ("num", False),
@@ -44,17 +38,12 @@ SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
         "composition_default": ("num", False),
         "temperature_coefficient_meV_per_K": ("num", False),
     },
+    # the keys every edge model shares; each registered model adds its own (see schema())
     "absorption": {
         "model": ("str", True),
         "urbach_energy_meV": ("num", False),
         "defect_floor_per_cm": ("num", False),
         "tail_cutoff_below_gap_eV": ("num", False),
-        "bands": ("bandlist", False),
-        "alpha_at_gap_per_cm": ("num", False),
-        "strength_per_cm": ("num", False),
-        "table": ("str", False),
-        "table_axis": ("str", False),
-        "database": ("str", False),
     },
     "optics": {"refractive_index": ("num", True), "light_trapping": ("str", True)},
     "electrical": {
@@ -72,100 +61,12 @@ SCHEMA: dict[str, dict[str, tuple[str, bool]]] = {
 }
 
 
-class Checker:
-    """Strict checks of a parsed TOML file against a schema; every failure is one line."""
-
-    def __init__(self, path: Path, data: dict, schema=None, label: str = "absorber file",
-                 required_sections=("gap", "absorption", "optics", "electrical", "thickness",
-                                    "sources"), free_sections=("sources",)):
-        self.path = path
-        self.data = data
-        self.schema = SCHEMA if schema is None else schema
-        self.label = label
-        self.required_sections = required_sections
-        self.free_sections = free_sections
-
-    def fail(self, field_name: str, problem: str, fix: str) -> None:
-        raise TandemInputError(f"{self.label} '{self.path}': field '{field_name}' {problem}; {fix}")
-
-    def check_keys(self) -> None:
-        schema = self.schema
-        for key, value in self.data.items():
-            if key in schema and key:
-                if not isinstance(value, dict):
-                    self.fail(key, "must be a [section]", f"write it as [{key}] with its keys below")
-                if key in self.free_sections:
-                    continue
-                for sub in value:
-                    if sub not in schema[key]:
-                        hint = difflib.get_close_matches(sub, schema[key], n=1)
-                        fix = f"did you mean '{hint[0]}'?" if hint else \
-                            f"allowed keys: {', '.join(schema[key])}"
-                        self.fail(f"{key}.{sub}", "is not a known key", fix)
-            elif key not in schema[""]:
-                hint = difflib.get_close_matches(key, list(schema) + list(schema[""]), n=1)
-                fix = f"did you mean '{hint[0]}'?" if hint else "remove it"
-                self.fail(key, "is not a known key", fix)
-        for section in self.required_sections:
-            if section not in self.data:
-                self.fail(section, "is missing", f"add a [{section}] section (see the README)")
-        for section, keys in schema.items():
-            for key, (kind, required) in keys.items():
-                where = self.data if not section else self.data.get(section, {})
-                name = f"{section}.{key}" if section else key
-                if key not in where:
-                    present = not section or section in self.data
-                    if required and present:
-                        self.fail(name, "is missing", "add it (see the README)")
-                    continue
-                self.check_kind(name, where[key], kind)
-
-    def check_kind(self, name: str, value, kind: str) -> None:
-        if kind == "str" and not isinstance(value, str):
-            self.fail(name, f"= {value!r} must be text", "put it in quotes")
-        if kind == "num":
-            if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
-                self.fail(name, f"= {value!r} must be a finite number", "give a number")
-        if kind == "bool" and not isinstance(value, bool):
-            self.fail(name, f"= {value!r} must be true or false", "write true or false")
-        if kind == "strlist":
-            if not (isinstance(value, list) and value and all(isinstance(v, str) for v in value)):
-                self.fail(name, f"= {value!r} must be a list of names", 'write e.g. ["silicon"]')
-        if kind == "numlist":
-            if not (isinstance(value, list) and value and all(
-                    isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
-                    for v in value)):
-                self.fail(name, f"= {value!r} must be a list of numbers", "write e.g. [1.0, 2.0]")
-
-    def get(self, section: str, key: str, default=None):
-        return self.data.get(section, {}).get(key, default)
-
-    def positive(self, section: str, key: str, unit: str, default=None, low=None, high=None):
-        """A positive value, inside [low, high] where the physics bounds it."""
-        value = self.get(section, key, default)
-        if value is not None and not value > 0:
-            self.fail(f"{section}.{key}", f"= {value:g} must be positive", f"give it in {unit}")
-        if value is not None and ((low is not None and value < low)
-                                  or (high is not None and value > high)):
-            span = f"{low:g}–{high:g}" if low is not None else f"up to {high:g}"
-            self.fail(f"{section}.{key}", f"= {value:g} is outside {span}", f"give it in {unit}")
-        return value
-
-
-def read_toml(path: Path, label: str = "absorber file",
-               hint: str = "or a bundled name (see 'tandem absorbers')") -> dict:
-    if not path.is_file():
-        raise TandemInputError(f"{label} '{path}' not found; give a path to a .toml file {hint}")
-    try:
-        with open(path, "rb") as fh:
-            return tomllib.load(fh)
-    except tomllib.TOMLDecodeError as exc:
-        raise TandemInputError(f"{label} '{path}': not valid TOML ({exc}); fix the syntax") from None
-    except RecursionError:
-        raise TandemInputError(f"{label} '{path}': nested too deeply to be a description; "
-                               "flatten it") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise TandemInputError(f"{label} '{path}' cannot be read ({exc})") from None
+def schema() -> Schema:
+    """The absorber-file schema with the keys of every registered edge model."""
+    full = {section: dict(keys) for section, keys in SCHEMA.items()}
+    for model in EDGE_MODELS.values():
+        full["absorption"].update({k: (kind, False) for k, kind in model.keys.items()})
+    return full
 
 
 def parse_absorber(path: Path) -> Absorber:
@@ -178,7 +79,7 @@ def parse_absorber(path: Path) -> Absorber:
     1.424
     """
     path = Path(path)
-    c = Checker(path, read_toml(path))
+    c = Checker(path, read_toml(path), schema())
     c.check_keys()
 
     # --- gap: fixed or a relation -------------------------------------------------------
@@ -217,9 +118,16 @@ def parse_absorber(path: Path) -> Absorber:
     tc = c.get("gap", "temperature_coefficient_meV_per_K")
 
     # --- absorption edge ---------------------------------------------------------------
-    model = c.get("absorption", "model")
-    if model not in EDGE_MODELS:
-        c.fail("absorption.model", f"= {model!r} is not known", f"use one of {', '.join(EDGE_MODELS)}")
+    name = c.get("absorption", "model")
+    if name not in EDGE_MODELS:
+        c.fail("absorption.model", f"= {name!r} is not known", f"use one of {', '.join(EDGE_MODELS)}")
+    model = EDGE_MODELS[name]
+    shared = SCHEMA["absorption"]
+    for key in c.data["absorption"]:
+        if key not in shared and key not in model.keys:
+            readers = [m.name for m in EDGE_MODELS.values() if key in m.keys]
+            c.fail(f"absorption.{key}", f"is not read by model '{name}'",
+                   f"remove it, or use model {' or '.join(repr(r) for r in readers)}")
     if c.get("absorption", "urbach_energy_meV") is None:
         c.fail("absorption.urbach_energy_meV", "is missing", "give the tail's slope in meV "
                "(typically 5–50)")
@@ -238,24 +146,11 @@ def parse_absorber(path: Path) -> Absorber:
     if floor and cutoff is None:
         c.fail("absorption.defect_floor_per_cm", "needs tail_cutoff_below_gap_eV",
                "a floor absorbs down to 0 eV otherwise; give where the defect absorption ends")
-    if model == "bands":
-        if relation is not None:
-            c.fail("gap.coefficients_eV", "cannot move absorption bands",
-                   "use a fixed value_eV (the band's onset) with model = 'bands'")
-        edge: BandEdge | ParametricEdge | TabulatedEdge = _band_edge(c, eu, value)
-    elif model in ("direct", "indirect"):
-        for key in ("alpha_at_gap_per_cm", "strength_per_cm"):
-            if c.get("absorption", key) is None:
-                c.fail(f"absorption.{key}", "is missing",
-                       f"a {model} edge needs alpha_at_gap_per_cm and strength_per_cm (cm^-1)")
-            c.positive("absorption", key, "cm^-1", low=1e-3, high=1e8)
-        edge = ParametricEdge(model, eu, float(c.get("absorption", "alpha_at_gap_per_cm")),
-                              float(c.get("absorption", "strength_per_cm")))
-    else:
-        if relation is not None:
-            c.fail("gap.coefficients_eV", f"cannot move a '{model}' edge",
-                   "use a fixed value_eV with tabulated data, or a direct/indirect edge model")
-        edge = _tabulated_edge(c, model, eu)
+    if relation is not None and not model.movable:
+        c.fail("gap.coefficients_eV", f"cannot move a '{name}' edge (its data fix the gap)",
+               "use a fixed value_eV, or a model whose gap can move "
+               f"({', '.join(m.name for m in EDGE_MODELS.values() if m.movable)})")
+    edge = model.read(c, eu, value)
 
     # --- optics, electrical, thickness -------------------------------------------------
     n = c.positive("optics", "refractive_index", "as a number (e.g. 3.6 for silicon)", high=10.0)
@@ -308,71 +203,13 @@ def parse_absorber(path: Path) -> Absorber:
     return Absorber(
         key=path.stem, path=path, name=c.get("", "name") or c.data["name"],
         description=c.data["description"], gap_eV=float(value), relation=relation, edge=edge,
-        edge_model=model, refractive_index=float(n), light_trapping=trapping, ere=float(ere),
+        edge_model=name, refractive_index=float(n), light_trapping=trapping, ere=float(ere),
         ere_origin=origin, collection_length_nm=None if lc is None else float(lc),
         thickness_nm=float(default), thickness_range_nm=(float(rng[0]), float(rng[1])),
         gap_temperature_coefficient_eV_K=None if tc is None else tc / 1000.0,
         sources={str(k): str(v) for k, v in sources.items()},
         defect_floor_per_cm=float(floor), tail_cutoff_below_gap_eV=cutoff,
     )
-
-
-def _band_edge(c: Checker, urbach_eV: float, onset_eV: float) -> BandEdge:
-    bands = c.get("absorption", "bands")
-    if not bands:
-        c.fail("absorption.bands", "is missing", "give bands = [{centre_eV = 2.3, width_eV = 0.25, "
-               "peak_per_cm = 3e3}, ...]")
-    out = []
-    for i, band in enumerate(bands, 1):
-        if not isinstance(band, dict) or set(band) != {"centre_eV", "width_eV", "peak_per_cm"}:
-            c.fail(f"absorption.bands[{i}]", "must have centre_eV, width_eV and peak_per_cm",
-                   "write {centre_eV = 2.3, width_eV = 0.25, peak_per_cm = 3e3}")
-        for key, lo, hi in (("centre_eV", 0.2, 10.0), ("width_eV", 0.005, 3.0),
-                            ("peak_per_cm", 1e-3, 1e8)):
-            v = band[key]
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or not lo <= v <= hi:
-                c.fail(f"absorption.bands[{i}].{key}", f"= {v!r} is outside {lo:g}–{hi:g}",
-                       "check the value and its unit")
-        out.append((float(band["centre_eV"]), float(band["width_eV"]), float(band["peak_per_cm"])))
-    return BandEdge(tuple(out), urbach_eV, onset_eV)
-
-
-def _tabulated_edge(c: Checker, model: str, eu: float) -> TabulatedEdge:
-    if model == "table":
-        rel = c.get("absorption", "table")
-        if rel is None:
-            c.fail("absorption.table", "is missing", "give the CSV file with the α table")
-        axis = c.get("absorption", "table_axis", "wavelength_nm")
-        if axis not in ("wavelength_nm", "energy_eV"):
-            c.fail("absorption.table_axis", f"= {axis!r} is not known", "use 'wavelength_nm' or 'energy_eV'")
-        energy, alpha = _read_alpha_table(c, (c.path.parent / rel), axis)
-        origin = f"table {rel}"
-    else:
-        entry = c.get("absorption", "database")
-        if entry is None:
-            c.fail("absorption.database", "is missing",
-                   "give the refractive-index database entry as 'shelf/book/page', e.g. 'main/Si/Green-2008'")
-        try:
-            energy, alpha = database_alpha(entry)
-        except TandemInputError as exc:
-            c.fail("absorption.database", f"= {entry!r}: {exc}", "check the entry name")
-        origin = f"refractive-index database {entry}"
-    return TabulatedEdge(energy, alpha, eu, origin)
-
-
-def _read_alpha_table(c: Checker, path: Path, axis: str):
-    if not path.is_file():
-        c.fail("absorption.table", f"= '{path.name}' not found next to the absorber file",
-               "put the CSV beside the .toml or fix the path")
-    x_name = "wavelength [nm]" if axis == "wavelength_nm" else "energy [eV]"
-    data = read_two_columns(path, "absorption table", x_name, "alpha [cm^-1]", rising=False,
-                            positive=True)
-    x, alpha = data[:, 0], data[:, 1]
-    energy = HC_EV_NM / x if axis == "wavelength_nm" else x
-    order = np.argsort(energy)
-    if np.any(np.diff(energy[order]) <= 0):
-        c.fail("absorption.table", f"'{path.name}' repeats a point", "remove duplicate rows")
-    return energy[order], alpha[order]
 
 
 # --------------------------------------------------------------------------------------

@@ -13,14 +13,8 @@ from pathlib import Path
 import numpy as np
 
 from tandem.core.errors import TandemInputError
-from tandem.optics.absorptance import (
-    BandEdge,
-    LayerOptics,
-    ParametricEdge,
-    TabulatedEdge,
-)
-
-EDGE_MODELS = ("direct", "indirect", "table", "database", "bands")
+from tandem.optics.absorptance import LayerOptics
+from tandem.optics.edges import Edge
 #: Urbach energies above this need a tail cutoff: with E_U ≳ kT the reciprocity dark current
 #: grows into the tail without bound (α·Φ_bb ∝ exp(E(1/E_U − 1/kT))) [eV].
 MAX_UNCUT_URBACH_EV = 0.025
@@ -64,8 +58,8 @@ class Absorber:
     description: str
     gap_eV: float  #: the default gap (fixed, or the relation at the default composition)
     relation: GapRelation | None
-    edge: ParametricEdge | TabulatedEdge | BandEdge
-    edge_model: str
+    edge: Edge
+    edge_model: str  #: its name in the edge-model registry (tandem.optics.edges)
     refractive_index: float
     light_trapping: str
     ere: float
@@ -94,14 +88,14 @@ class Absorber:
         """Absorption coefficient [cm⁻¹] on an energy grid, at ``gap_eV`` (default gap).
 
         ``shift_eV`` moves the whole edge rigidly (a gap change with temperature): a
-        parametric edge to gap + shift, a tabulated one to α(E − shift).
+        movable edge to gap + shift, one fixed by data to α(E − shift).
         """
-        gap = (self.gap_eV if gap_eV is None else gap_eV) + shift_eV
-        if isinstance(self.edge, (TabulatedEdge, BandEdge)):
-            alpha = self.edge.alpha(np.asarray(energy_eV) - shift_eV)
-            gap = self.gap_eV + shift_eV
-        else:
+        if self.edge.movable:
+            gap = (self.gap_eV if gap_eV is None else gap_eV) + shift_eV
             alpha = self.edge.alpha(energy_eV, gap)
+        else:  # the data fix the gap (check_gap refuses another)
+            gap = self.gap_eV + shift_eV
+            alpha = self.edge.alpha(np.asarray(energy_eV) - shift_eV, self.gap_eV)
         if self.defect_floor_per_cm == 0.0 and self.tail_cutoff_below_gap_eV is None:
             return alpha
         energy = np.asarray(energy_eV, dtype=float)
@@ -157,10 +151,10 @@ class Absorber:
 
     def check_gap(self, gap_eV: float, allow_outside: bool = False) -> None:
         """Refuse a gap a tabulated edge cannot have, or one outside the declared range [eV]."""
-        if isinstance(self.edge, (TabulatedEdge, BandEdge)) and abs(gap_eV - self.gap_eV) > 1e-9:
-            raise TandemInputError(f"{self.key}: its gap is fixed by tabulated data at "
-                                   f"{self.gap_eV:g} eV; only direct/indirect edge models can "
-                                   "be moved to another gap")
+        if not self.edge.movable and abs(gap_eV - self.gap_eV) > 1e-9:
+            raise TandemInputError(f"{self.key}: its gap is fixed by its '{self.edge_model}' "
+                                   f"absorption data at {self.gap_eV:g} eV; only an edge model "
+                                   "whose gap can move (e.g. direct, indirect) can be moved")
         lo, hi = self.gap_range_eV
         if allow_outside or lo - 1e-9 <= gap_eV <= hi + 1e-9:
             return

@@ -82,7 +82,7 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
             sc = scenario.data["spread"]
             spread = scatter(design, cond, best.front_gap_eV, best.front_thickness_nm,
                              best.back_thickness_nm,
-                             float(sc.get("gap_sigma_eV", 0.01)) if front.tunable or front.edge_model in ("direct", "indirect") else 0.0,
+                             float(sc.get("gap_sigma_eV", 0.01)) if front.edge.movable else 0.0,
                              float(sc.get("thickness_sigma_pct", 5.0)), int(sc.get("samples", 1000)),
                              int(sc.get("seed", 1)))
             st = spread.stats(scenario.terminals, sc.get("target_pct"))

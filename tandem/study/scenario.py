@@ -21,7 +21,7 @@ from pathlib import Path
 from tandem.core.errors import TandemInputError
 from tandem.jobs.inputs import Light, OperatingPoint, Sweep
 from tandem.optics.absorbers import Absorber
-from tandem.optics.absorber_files import Checker
+from tandem.core.toml_files import Checker
 from tandem.physics.spectra import parse_spectrum_text
 from tandem.physics.checks import check_temperature
 

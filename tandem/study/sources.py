@@ -17,7 +17,9 @@ from pathlib import Path
 from tandem.core.errors import TandemInputError
 from tandem.core.files import bundled_dir
 from tandem.optics.absorbers import Absorber
-from tandem.optics.absorber_files import read_toml, load_absorber, parse_absorber
+from tandem.core.toml_files import read_toml
+from tandem.optics.absorber_files import load_absorber, parse_absorber
+from tandem.optics.edges import EDGE_MODELS
 from tandem.study.scenario import (
     MANIFEST_FORMAT,
     REFERENCE_NAMES,
@@ -75,8 +77,9 @@ def _disk_absorber(scenario_path: Path):
         record: dict[str, Any] = {"entry": entry, "text": read_text_file(a.path, "absorber file"),
                                   "table": None}
         paths = [a.path]
-        if a.edge_model == "table":
-            rel = str(read_toml(a.path).get("absorption", {}).get("table"))
+        file_key = EDGE_MODELS[a.edge_model].data_file_key
+        if file_key is not None:
+            rel = str(read_toml(a.path).get("absorption", {}).get(file_key))
             record["table"] = {"name": rel,
                                "text": read_text_file(a.path.parent / rel, "absorption table")}
             paths.append(a.path.parent / rel)

@@ -1,0 +1,227 @@
+"""Absorption-edge models: α(E) for an absorber, and the registry that reads them from files.
+
+An absorber file names its model in ``[absorption] model``; each name is registered here
+with the class that computes α, the keys it reads and the function that reads them. A new
+model is one class (with ``movable`` and ``alpha(energy_eV, gap_eV)``) and one
+:func:`register_edge_model` call; the file schema, the error for an unknown model, the
+refusal of another model's keys, gap sweeps and study manifests all follow from it.
+
+References
+----------
+F. Urbach, Phys. Rev. 92 (1953) 1324, doi:10.1103/PhysRev.92.1324 (exponential tail).
+J. Tauc, R. Grigorovici, A. Vancu, Phys. Status Solidi 15 (1966) 627 (power-law edges,
+p = 1/2 direct, p = 2 indirect/amorphous).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable, ClassVar, Protocol
+
+import numpy as np
+
+from tandem.core.errors import TandemInputError
+from tandem.core.toml_files import Checker
+from tandem.core.units import HC_EV_NM
+from tandem.optics.database import database_alpha
+from tandem.physics.spectra import read_two_columns
+
+
+class Edge(Protocol):
+    """What an absorber needs from an edge model."""
+
+    movable: ClassVar[bool]  #: True if α depends on E − Eg only (the gap may be moved)
+
+    def alpha(self, energy_eV, gap_eV) -> np.ndarray:
+        """α [cm⁻¹] on an energy grid [eV]; a fixed edge ignores ``gap_eV``."""
+        ...
+
+
+@dataclass(frozen=True)
+class ParametricEdge:
+    """α(E) from a gap, an Urbach tail below it and a power law above it.
+
+    α = α_g·exp((E − Eg)/E_U) for E < Eg; α = α_g + S·((E − Eg)/1 eV)^p above, with
+    p = 1/2 for a direct gap and p = 2 for an indirect (or Tauc-like amorphous) edge.
+    Continuous at Eg and positive everywhere.
+    """
+
+    movable: ClassVar[bool] = True  #: α depends on E − Eg only: the gap can be tuned or swept
+
+    shape: str  #: 'direct' or 'indirect'
+    urbach_energy_eV: float  #: E_U [eV]
+    alpha_at_gap_per_cm: float  #: α_g [cm⁻¹]
+    strength_per_cm: float  #: S [cm⁻¹]
+
+    def alpha(self, energy_eV, gap_eV):
+        energy = np.asarray(energy_eV, dtype=float)
+        above = np.maximum(energy - gap_eV, 0.0)
+        power = 0.5 if self.shape == "direct" else 2.0
+        tail = self.alpha_at_gap_per_cm * np.exp(np.minimum(energy - gap_eV, 0.0)
+                                                 / self.urbach_energy_eV)
+        return np.where(energy < gap_eV, tail,
+                        self.alpha_at_gap_per_cm + self.strength_per_cm * above**power)
+
+
+@dataclass(frozen=True)
+class TabulatedEdge:
+    """α(E) from a table (log-linear interpolation), with an Urbach tail below the table.
+
+    Above the table α keeps its last value; below it falls as exp((E − E_low)/E_U) from the
+    lowest tabulated point, so α stays continuous and positive.
+    """
+
+    movable: ClassVar[bool] = False  #: the data fix the gap
+
+    energy_eV: np.ndarray  #: ascending [eV]
+    alpha_per_cm: np.ndarray  #: positive [cm⁻¹]
+    urbach_energy_eV: float  #: slope of the extrapolated tail [eV]
+    origin: str  #: where the table came from
+
+    def alpha(self, energy_eV, gap_eV=None):  # the gap of a table is fixed by its data
+        energy = np.asarray(energy_eV, dtype=float)
+        log_alpha = np.interp(energy, self.energy_eV, np.log(self.alpha_per_cm))
+        low_e, low_a = self.energy_eV[0], self.alpha_per_cm[0]
+        tail = low_a * np.exp(np.minimum(energy - low_e, 0.0) / self.urbach_energy_eV)
+        return np.where(energy < low_e, tail, np.exp(log_alpha))
+
+
+@dataclass(frozen=True)
+class BandEdge:
+    """α(E) as a sum of Gaussian absorption bands above an onset (dyes, organic blends): a
+    band rises and falls again, unlike an edge.
+
+    α = Σ α_k·exp(−(E − E_k)²/(2σ_k²)) above the onset Eg, with peak α_k [cm⁻¹], centre E_k
+    and width σ_k [eV]; below it an Urbach tail α(Eg)·exp((E − Eg)/E_U). A Gaussian's own
+    wing is not used below the onset: with σ² > kT·E_k it would make the reciprocity dark
+    current grow without bound toward 0 eV, which no real film does.
+    """
+
+    movable: ClassVar[bool] = False  #: the bands fix the onset
+
+    bands: tuple[tuple[float, float, float], ...]  #: (centre eV, σ eV, peak cm⁻¹) each
+    urbach_energy_eV: float  #: E_U below the onset [eV]
+    onset_eV: float  #: Eg, where the tail takes over [eV]
+
+    def _bands(self, energy):
+        total = np.zeros(np.shape(energy))
+        for centre, width, peak in self.bands:
+            total = total + peak * np.exp(-0.5 * ((energy - centre) / width) ** 2)
+        return total
+
+    def alpha(self, energy_eV, gap_eV=None):  # the bands are fixed by the description
+        energy = np.asarray(energy_eV, dtype=float)
+        at_onset = self._bands(np.array(self.onset_eV))
+        tail = at_onset * np.exp(np.minimum(energy - self.onset_eV, 0.0) / self.urbach_energy_eV)
+        return np.where(energy < self.onset_eV, tail, self._bands(energy))
+
+
+@dataclass(frozen=True)
+class EdgeModel:
+    """One registered model: how an absorber file's ``[absorption]`` section becomes an edge."""
+
+    name: str  #: the value of ``[absorption] model``
+    read: Callable[[Checker, float, float], Edge]  #: (checker, Urbach energy eV, gap eV) -> edge
+    keys: dict[str, str]  #: the [absorption] keys it reads -> their kind (see Checker)
+    movable: bool  #: the gap may be moved (a composition relation, gap sweeps)
+    data_file_key: str | None = None  #: a key naming a file beside the absorber file
+
+
+#: name -> model, in registration order
+EDGE_MODELS: dict[str, EdgeModel] = {}
+
+
+def register_edge_model(name: str, edge_class: type[Edge], read: Callable[[Checker, float, float], Edge],
+                        keys: dict[str, str], data_file_key: str | None = None) -> EdgeModel:
+    """Make ``[absorption] model = name`` read by ``read`` into an ``edge_class``."""
+    if name in EDGE_MODELS:
+        raise ValueError(f"edge model '{name}' is already registered")
+    if data_file_key is not None and data_file_key not in keys:
+        raise ValueError(f"edge model '{name}': data_file_key '{data_file_key}' is not one of its keys")
+    model = EdgeModel(name, read, dict(keys), bool(edge_class.movable), data_file_key)
+    EDGE_MODELS[name] = model
+    return model
+
+
+# --- the readers of the bundled models ----------------------------------------------------
+
+
+def _need(c: Checker, model: str, keys: tuple[str, ...], unit: str, low: float, high: float):
+    values = []
+    for key in keys:
+        if c.get("absorption", key) is None:
+            c.fail(f"absorption.{key}", "is missing",
+                   f"a {model} edge needs {' and '.join(keys)} ({unit})")
+        values.append(float(c.positive("absorption", key, unit, low=low, high=high)))
+    return values
+
+
+def _read_power_law(shape: str):
+    def read(c: Checker, urbach_eV: float, gap_eV: float) -> ParametricEdge:
+        at_gap, strength = _need(c, shape, ("alpha_at_gap_per_cm", "strength_per_cm"), "cm^-1",
+                                 1e-3, 1e8)
+        return ParametricEdge(shape, urbach_eV, at_gap, strength)
+    return read
+
+
+def _read_bands(c: Checker, urbach_eV: float, onset_eV: float) -> BandEdge:
+    bands = c.get("absorption", "bands")
+    if not bands:
+        c.fail("absorption.bands", "is missing", "give bands = [{centre_eV = 2.3, width_eV = 0.25, "
+               "peak_per_cm = 3e3}, ...]")
+    out = []
+    for i, band in enumerate(bands, 1):
+        if not isinstance(band, dict) or set(band) != {"centre_eV", "width_eV", "peak_per_cm"}:
+            c.fail(f"absorption.bands[{i}]", "must have centre_eV, width_eV and peak_per_cm",
+                   "write {centre_eV = 2.3, width_eV = 0.25, peak_per_cm = 3e3}")
+        for key, lo, hi in (("centre_eV", 0.2, 10.0), ("width_eV", 0.005, 3.0),
+                            ("peak_per_cm", 1e-3, 1e8)):
+            v = band[key]
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not lo <= v <= hi:
+                c.fail(f"absorption.bands[{i}].{key}", f"= {v!r} is outside {lo:g}–{hi:g}",
+                       "check the value and its unit")
+        out.append((float(band["centre_eV"]), float(band["width_eV"]), float(band["peak_per_cm"])))
+    return BandEdge(tuple(out), urbach_eV, onset_eV)
+
+
+def _read_table(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
+    rel = c.get("absorption", "table")
+    if rel is None:
+        c.fail("absorption.table", "is missing", "give the CSV file with the α table")
+    axis = c.get("absorption", "table_axis", "wavelength_nm")
+    if axis not in ("wavelength_nm", "energy_eV"):
+        c.fail("absorption.table_axis", f"= {axis!r} is not known", "use 'wavelength_nm' or 'energy_eV'")
+    path = c.path.parent / rel
+    if not path.is_file():
+        c.fail("absorption.table", f"= '{path.name}' not found next to the absorber file",
+               "put the CSV beside the .toml or fix the path")
+    x_name = "wavelength [nm]" if axis == "wavelength_nm" else "energy [eV]"
+    data = read_two_columns(path, "absorption table", x_name, "alpha [cm^-1]", rising=False,
+                            positive=True)
+    x, alpha = data[:, 0], data[:, 1]
+    energy = HC_EV_NM / x if axis == "wavelength_nm" else x
+    order = np.argsort(energy)
+    if np.any(np.diff(energy[order]) <= 0):
+        c.fail("absorption.table", f"'{path.name}' repeats a point", "remove duplicate rows")
+    return TabulatedEdge(energy[order], alpha[order], urbach_eV, f"table {rel}")
+
+
+def _read_database(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
+    entry = c.get("absorption", "database")
+    if entry is None:
+        c.fail("absorption.database", "is missing",
+               "give the refractive-index database entry as 'shelf/book/page', e.g. 'main/Si/Green-2008'")
+    try:
+        energy, alpha = database_alpha(entry)
+    except TandemInputError as exc:
+        c.fail("absorption.database", f"= {entry!r}: {exc}", "check the entry name")
+    return TabulatedEdge(energy, alpha, urbach_eV, f"refractive-index database {entry}")
+
+
+_POWER_LAW_KEYS = {"alpha_at_gap_per_cm": "num", "strength_per_cm": "num"}
+register_edge_model("direct", ParametricEdge, _read_power_law("direct"), _POWER_LAW_KEYS)
+register_edge_model("indirect", ParametricEdge, _read_power_law("indirect"), _POWER_LAW_KEYS)
+register_edge_model("table", TabulatedEdge, _read_table,
+                    {"table": "str", "table_axis": "str"}, data_file_key="table")
+register_edge_model("database", TabulatedEdge, _read_database, {"database": "str"})
+register_edge_model("bands", BandEdge, _read_bands, {"bands": "bandlist"})
