@@ -39,8 +39,8 @@ front_gap_step_eV = 0.05
 thickness_points = 20
 
 [map]
-front_gaps_eV = [1.5, 2.0, 0.05]
-back_gaps_eV = [0.9, 1.3, 0.05]
+front_gap_range_eV = [1.5, 2.0, 0.05]
+back_gap_range_eV = [0.9, 1.3, 0.05]
 
 [report]
 tolerance_pct = 1.0
@@ -146,7 +146,13 @@ BAD = [
     ("[stack]\nreflectance = 0.02", "[stack]\nreflectance = 1.5", "'stack.reflectance' = 1.5"),
     ("[stack]", "[stack]\nterminals = 3", "'stack.terminals' = 3"),
     ("thickness_points = 20", "thickness_points = 2", "'sweep.thickness_points'"),
-    ("front_gaps_eV = [1.5, 2.0, 0.05]", "front_gaps_eV = [2.0, 1.5, 0.05]", "'map.front_gaps_eV'"),
+    ("front_gap_range_eV = [1.5, 2.0, 0.05]", "front_gap_range_eV = [2.0, 1.5, 0.05]",
+     "'map.front_gap_range_eV'"),
+    ("front_gap_range_eV = [1.5, 2.0, 0.05]", "front_gap_range_eV = [1.5, 2.0, 1e-7]",
+     "'map.front_gap_range_eV' = [1.5, 2.0, 1e-07] has 5,000,001 points; give a coarser step"),
+    # the key an earlier release read as [low, high, step] is refused with its new name
+    ("front_gap_range_eV = [1.5, 2.0, 0.05]", "front_gaps_eV = [1.5, 2.0, 0.05]",
+     "'map.front_gaps_eV' is now called map.front_gap_range_eV"),
     ("[report]", "[report]\ncolour = 1", "'report.colour' is not a known key"),
     ("[candidates]", "[candidate]", "'candidate' is not a known key"),
 ]

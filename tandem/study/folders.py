@@ -106,7 +106,6 @@ def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
 def _write_figures(study: StudyResult, folder: Path) -> None:
     from tandem.design.breakdown import match_breakdown
     from tandem.design.maps import step_gap_map
-    from tandem.jobs.inputs import gap_range
     from tandem.output.plots import breakdown_figure, map_figures, match_figure
 
     folder.mkdir()
@@ -121,11 +120,9 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
         from tandem.output.plots import stack_figure
 
         stack_figure(SimpleNamespace(match=m), folder / f"photons-{key}.png")
-    if "map" in study.scenario.data:
-        lo, hi, step = study.scenario.get("map", "front_gaps_eV")  # [low, high, step]
-        fg = gap_range(lo, hi, step, "map.front_gaps_eV")
-        lo, hi, step = study.scenario.get("map", "back_gaps_eV")
-        bg = gap_range(lo, hi, step, "map.back_gaps_eV")
+    axes = study.scenario.map_gaps()
+    if axes is not None:
+        fg, bg = axes
         flux = study.scenario.light().photon_flux()
         gap_map = step_gap_map(flux, fg, bg, study.scenario.temperature_K)
         marks = ([(a.key, a.gap_eV, "front") for a in study.scenario.fronts]

