@@ -157,3 +157,41 @@ def test_results_show_compactly_in_a_notebook():
         text, html = repr(result), result._repr_html_()
         assert text.startswith(f"<{type(result).__name__} ") and len(text) < 1000
         assert html.startswith("<table>") and "</table>" in html and len(html) < 5000
+
+
+def region_json(tmp_path, *args):
+    res = runner.invoke(app, ["region", *map(str, args), "--workers", "1", "--json", "-q",
+                              "--overwrite"])
+    assert res.exit_code == 0, res.output
+    return json.loads(res.stdout)
+
+
+def test_region_scenario_takes_its_inputs_and_names_what_it_does_not_use(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    path = one_day_scenario(tmp_path, 2.0)
+    Path("sites.csv").write_text("name,latitude,longitude\nA,35,-106\n")
+    sweep = ["--sites", "sites.csv", "--front-gaps", "1.75", "--points", "2"]
+    via = region_json(tmp_path, "--scenario", path, *sweep, "--out", "a")
+    scenario = load_scenario(path)
+    # the same job through the Python API: the scenario's ideality, losses, period and light
+    job = region_job(scenario.fronts[0], scenario.backs[0], scenario.operating(),
+                     front_gaps_eV=[1.75], thickness_points=2, period="day:2026-06-21",
+                     reference=scenario.light())
+    assert job.operating.ideality == 2.0 and job.operating.reflectance > 0
+    api = run_region(read_sites("sites.csv"), job, tmp_path / "b")
+    assert via["sites"][0]["energy_2t_kWh_m2"] == pytest.approx(
+        api.summary()["sites"][0]["energy_2t_kWh_m2"], rel=1e-12)
+    assert scenario.region_job(front_gaps_eV=[1.75], thickness_points=2) == job
+    # the scenario's single [site] is named as not used; a typed option replaces and says so
+    assert len(via["scenario_overrides"]) == 1 and "[site] is for one site" in \
+        via["scenario_overrides"][0]
+    n1 = region_json(tmp_path, "--scenario", path, *sweep, "--ideality", "1", "--out", "c")
+    assert "--ideality 1.0 replaces the scenario's ideality 2.0" in n1["scenario_overrides"]
+    assert n1["sites"][0]["energy_2t_kWh_m2"] > via["sites"][0]["energy_2t_kWh_m2"]
+
+
+def test_region_needs_absorbers_or_a_scenario(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    res = runner.invoke(app, ["region", "--latitudes", "0:10:10", "--longitudes", "0:0:1"])
+    assert res.exit_code == 2 and "give FRONT and BACK absorbers, or --scenario" in res.output
+    assert not list(tmp_path.iterdir())

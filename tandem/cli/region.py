@@ -5,17 +5,24 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Annotated, Optional
 
+import typer
 from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (Json, Quiet, argument, parse_gap_option, progress_callback, emit_json, build_light, build_operating,
-                                plain_option, progress_bar, parse_range, say, render_table, parse_thickness, err, out)
+from tandem.cli.options import (Json, Quiet, build_light, build_operating, emit_json, err,
+                                given, out, over_scenario, parse_gap_option, parse_range,
+                                parse_thickness, plain_option, progress_bar, progress_callback,
+                                render_table, say)
 from tandem.core.errors import TandemInputError
 
 
 def region(
-        front: Annotated[str, argument("Front absorber.")],
-        back: Annotated[str, argument("Back absorber.")],
+        front: Annotated[Optional[str], typer.Argument(help="Front absorber (default: the "
+                                                       "scenario's first).", show_default=False)] = None,
+        back: Annotated[Optional[str], typer.Argument(help="Back absorber.", show_default=False)] = None,
+        scenario: Annotated[Optional[str], plain_option(help="Take absorbers, spectrum, losses, "
+                                                "electrical values, back thickness and period "
+                                                "from this scenario.")] = None,
         sites: Annotated[Optional[str], plain_option(help="CSV of sites: name, latitude, longitude"
                                              "[, altitude_m, timezone, weather]; or demo-sites.")] = None,
         latitudes: Annotated[Optional[str], plain_option(help="Clear-sky grid instead of a site list: "
@@ -53,6 +60,8 @@ def region(
       tandem region perovskite-wide silicon --latitudes 0:60:10 --longitudes 0:0:1 --bifacial
 
       tandem region perovskite-wide silicon --sites sites.csv --scheduler tcp://10.0.0.5:8786
+
+      tandem region --scenario perovskite-silicon-rooftop --sites demo-sites
     """
 
     from tandem.jobs.region import grid_sites, read_sites, region_job, run_region, write_region_outputs
@@ -73,23 +82,45 @@ def region(
         default = "region-grid"
     if workers is not None and not 1 <= workers <= 1024:
         raise TandemInputError(f"--workers {workers}: give 1 to 1024")
-    operating = build_operating(o)
-    job = region_job(front, back, operating, front_gaps_eV=parse_gap_option(front_gaps, "--front-gaps"),
-                     thickness_points=points,
-                     back_thickness_nm=parse_thickness(back_thickness, "--back-thickness")
-                     if back_thickness else None,
-                     period=period, step_minutes=step, tilt=tilt, albedo=albedo,
-                     rows=Rows(gcr, row_height, pitch, bifaciality) if bifacial else None,
-                     reference=build_light(o),
-                     cell_temperature_K=None if o["temperature"] is None else operating.temperature_K)
+    cell_temperature = (None if o["temperature"] is None
+                        else build_operating(o).temperature_K)  # fixed instead of the SAPM model
+    sweep = dict(front_gaps_eV=parse_gap_option(front_gaps, "--front-gaps"), thickness_points=points,
+                 tilt=tilt, albedo=albedo, cell_temperature_K=cell_temperature,
+                 rows=Rows(gcr, row_height, pitch, bifaciality) if bifacial else None)
+    back_d = parse_thickness(back_thickness, "--back-thickness") if back_thickness else None
+    notes: list[str] = []
+    if scenario is not None:  # the scenario's inputs; options typed beside it replace them
+        from tandem.study.sources import load_scenario
+
+        sc = load_scenario(scenario)
+        light, operating, notes = over_scenario(o, sc.light(), sc.operating(), skip=("temperature",))
+        own_period, own_step = sc.clear_sky_period()
+        if given("period"):
+            notes.append(f"--period {period} replaces the scenario's period {own_period}")
+        if given("step"):
+            notes.append(f"--step {step:g} replaces the scenario's step_minutes {own_step:g}")
+        unused = sc.not_used_by_region()
+        if unused:
+            notes.append(unused)
+        if back_d is not None:
+            sweep["back_thickness_nm"] = back_d
+        job = sc.region_job(front, back, light, operating, period if given("period") else None,
+                            step if given("step") else None, **sweep)
+    elif front is None or back is None:
+        raise TandemInputError("give FRONT and BACK absorbers, or --scenario")
+    else:
+        job = region_job(front, back, build_operating(o), back_thickness_nm=back_d, period=period,
+                         step_minutes=step, reference=build_light(o), **sweep)
     folder = Path(out_folder or default)
     with progress_bar(quiet or json_out, "sites") as bar:
         result = run_region(specs, job, folder, scheduler, workers, progress_callback(bar), overwrite)
     written = write_region_outputs(result, grids)
     s = result.summary()
+    s["scenario_overrides"] = notes
     s["outputs"] = [str(p) for p in written]
     if json_out:
         return emit_json(s)
+    say(*notes)
     cols = [("site", lambda r: r["name"]), ("lat °", lambda r: f"{r['latitude']:.1f}"),
             ("gap eV", lambda r: f"{r['front_gap_eV']:.3f}"),
             ("front nm", lambda r: f"{r['front_thickness_nm']:.0f}"),

@@ -227,6 +227,41 @@ class Scenario:
         return clear_sky_series(site, parse_period(period or w.get("period", "year:2026"), site.timezone,
                                                    float(step_minutes or w.get("step_minutes", 60))))
 
+    def clear_sky_period(self) -> tuple[str, float]:
+        """[weather] period and step_minutes [min] for clear skies (year:2026, 60 by default)."""
+        w = self.data.get("weather", {})
+        return str(w.get("period", "year:2026")), float(w.get("step_minutes", 60))
+
+    def region_job(self, front: Absorber | str | None = None, back: Absorber | str | None = None,
+                   light: Light | None = None, operating: OperatingPoint | None = None,
+                   period: str | None = None, step_minutes: float | None = None, **job):
+        """The scenario as a region job: its first candidates (unless named), light, operating
+        point, back thickness and [weather] period and step; ``light``, ``operating``,
+        ``period``, ``step_minutes`` and the other :func:`~tandem.jobs.region.region_job`
+        keywords replace the scenario's. A region's sites replace the scenario's [site] and
+        weather file (:meth:`not_used_by_region` says which were set)."""
+        from tandem.jobs.region import region_job
+
+        own_period, own_step = self.clear_sky_period()
+        backs = self.back_thicknesses_nm()
+        job.setdefault("back_thickness_nm", backs[0] if backs else None)
+        return region_job(front or self.fronts[0], back or self.backs[0],
+                          operating or self.operating(), reference=light or self.light(),
+                          period=period or own_period, step_minutes=step_minutes or own_step,
+                          **job)
+
+    def not_used_by_region(self) -> str | None:
+        """One line naming the scenario's single-site inputs a region does not use, or None."""
+        unused = [f"[{s}]" for s in ("site",) if s in self.data]
+        unused += [f"[weather] {k}" for k in ("file", "spectra_folder")
+                   if k in self.data.get("weather", {})]
+        if not unused:
+            return None
+        are = "are" if len(unused) > 1 else "is"
+        return (f"the scenario's {' and '.join(unused)} {are} for one site and not used here: "
+                "the region's sites replace it (clear skies unless a site lists a weather file; "
+                "tilt from --tilt)")
+
     def back_thicknesses_nm(self):
         nm, um = self.get("sweep", "back_thickness_nm"), self.get("sweep", "back_thickness_um")
         if nm is not None:
