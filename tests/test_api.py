@@ -103,6 +103,47 @@ def test_datasets_carry_units_and_conditions():
     assert "AM1.5G" in ds.attrs["spectrum"]
 
 
+def test_yield_dataset_has_the_optimum_along_time_in_utc(tmp_path):
+    import pandas as pd
+    import pvlib
+    import xarray as xr
+
+    site = tandem.Site("field", latitude=38.5, longitude=-3.0, timezone="Etc/GMT-1")
+    y = tandem.energy_yield("perovskite-wide", "silicon",
+                            tandem.site_series(site, period="day:2026-06-21", step_minutes=15),
+                            front_gaps_eV=[1.72], front_thicknesses_nm=[500.0, 1000.0])
+    ds = y.to_dataset()
+    assert ds.power_2t.dims == ("time",) and ds.power_2t.attrs["units"] == "W/m2"
+    assert ds.attrs["site_time_zone"] == "Etc/GMT-1"
+    # the day's energy is the step sum of the optimum's power (W·h/m² -> kWh/m²)
+    i, j = y.sweep.optimum
+    assert float((ds.power_2t * ds.step_length).sum()) / 1000 == pytest.approx(
+        float(ds.energy_2t[i, j]), rel=1e-12)
+    # times are UTC: the irradiance peaks at solar noon, which pvlib's SPA puts near 12:14 UTC
+    # at 3° W on 21 June (a south-facing plane is brightest at transit within a step)
+    transit = pvlib.solarposition.sun_rise_set_transit_spa(
+        pd.DatetimeIndex([pd.Timestamp("2026-06-21", tz="UTC")]), 38.5, -3.0)["transit"].iloc[0]
+    peak = pd.Timestamp(ds.time.values[int(np.argmax(ds.irradiance.values))], tz="UTC")
+    assert abs((peak - transit).total_seconds()) <= 15 * 60
+    ds.to_netcdf(tmp_path / "y.nc", engine="scipy")
+    back = xr.open_dataset(tmp_path / "y.nc", engine="scipy")
+    assert back.time.values[0] == ds.time.values[0] and back.power_2t.size == ds.power_2t.size
+    back.close()
+
+
+def test_results_without_a_grid_give_datasets_along_their_rows():
+    lim = tandem.limit([1.73, 1.12])
+    ds = lim.to_dataset()
+    assert ds.voc.attrs["units"] == "V" and ds.jsc.attrs["units"] == "mA/cm2"
+    back = lim.summary()["subcells"][1]
+    assert float(ds.voc.sel(subcell="back")) == back["voc_V"]
+    assert ds.attrs["efficiency_pct"] == lim.summary()["efficiency_pct"]
+    spread = tandem.fabrication_spread("gainp", "gaas", samples=40)
+    sd = spread.to_dataset()
+    assert sd.sizes["sample"] == 40
+    assert float(sd.efficiency_2t.mean()) == pytest.approx(sd.attrs["mean_pct"], abs=1e-4)
+
+
 def test_public_api_is_written_out():
     text = (ROOT / "tandem" / "__init__.py").read_text()
     assert "dir()" not in text.split("__all__ =")[1].splitlines()[0]

@@ -82,6 +82,36 @@ def blackbody_of(light) -> tuple[float, float] | None:
 
 
 
+#: column-name unit suffixes and the CF-style unit string they stand for (longest first)
+UNIT_SUFFIXES = {"_mA_cm2": "mA/cm2", "_kWh_m2": "kWh/m2", "_W_m2": "W/m2", "_A_m2": "A/m2",
+                 "_meV": "meV", "_eV": "eV", "_nm": "nm", "_pct": "%", "_K": "K", "_V": "V",
+                 "_hours": "h"}
+
+
+def frame_dataset(frame, dim: str, attrs: dict | None = None, label: str | None = None):
+    """A table as an xarray Dataset along ``dim``: a column named with a unit suffix becomes a
+    variable without it and a ``units`` attribute ('jsc_mA_cm2' -> 'jsc' in mA/cm2); columns
+    of text are coordinates, the ``label`` column the values of ``dim`` itself; missing values
+    (None) become NaN."""
+    import numpy as np
+    import xarray as xr
+
+    variables, coords = {}, {}
+    for column in frame.columns:
+        values = frame[column].to_numpy()
+        if values.dtype == object and all(isinstance(v, str) for v in values):
+            coords[dim if column == label else column] = (dim, values.astype(str))
+            continue
+        name, units = column, None
+        for suffix, unit in UNIT_SUFFIXES.items():
+            if column.endswith(suffix):
+                name, units = column[: -len(suffix)], unit
+                break
+        data = np.array([np.nan if v is None else v for v in values], dtype=float)
+        variables[name] = (dim, data, {"units": units} if units else {})
+    return xr.Dataset(variables, coords=coords, attrs=dict(attrs or {}))
+
+
 class ResultDisplay:
     """A compact ``repr`` and a notebook table (``_repr_html_``) for every job's result, from
     its ``summary()``: the scalar entries only (lists and tables stay in ``to_frame()``)."""
@@ -90,6 +120,10 @@ class ResultDisplay:
         summary = self.summary()  # type: ignore[attr-defined]
         return {k: v for k, v in summary.items()
                 if isinstance(v, (int, float, str, bool)) and k != "caution"}
+
+    def dataset_attrs(self) -> dict:
+        """The summary's scalar entries as dataset attributes (NetCDF has no booleans)."""
+        return {k: int(v) if isinstance(v, bool) else v for k, v in self._headline().items()}
 
     def __repr__(self) -> str:
         items = ", ".join(f"{k}={v!r}" for k, v in list(self._headline().items())[:8])

@@ -28,7 +28,7 @@ class YieldResult(ResultDisplay):
     >>> y = tandem.energy_yield('perovskite-wide', 'silicon', tandem.site_series(site, period='day:2026-06-21'),
     ...                         front_gaps_eV=[1.72], front_thicknesses_nm=[500.0, 1000.0])
     >>> sorted(y.to_dataset().dims)
-    ['front_gap', 'front_thickness']
+    ['front_gap', 'front_thickness', 'time']
     """
 
     sweep: YieldSweep
@@ -49,19 +49,39 @@ class YieldResult(ResultDisplay):
                              "step_hours": b.step_hours}, index=b.times)
 
     def to_dataset(self):
+        """Energy over front gap × thickness, and the energy-optimal design along ``time``
+        (UTC, the middle of each step; the site's time zone is an attribute)."""
+        import pandas as pd
         import xarray as xr
 
-        s = self.sweep
+        s, b = self.sweep, self.best
         dims = ("front_gap", "front_thickness")
+        times = pd.DatetimeIndex(b.times)
+        zone = str(times.tz) if times.tz is not None else "UTC"
+        utc = (times.tz_convert("UTC") if times.tz is not None else times).tz_localize(None)
+        series = {name: ("time", np.asarray(values, dtype=float),
+                         {"units": units, "long_name": long_name})
+                  for name, values, units, long_name in (
+                      ("power_2t", b.p_2t, "W/m2", "two-terminal power of the energy-optimal design"),
+                      ("power_4t", b.p_4t, "W/m2", "four-terminal power of the energy-optimal design"),
+                      ("jsc_front", b.j_front / 10, "mA/cm2", "front subcell photocurrent"),
+                      ("jsc_back", b.j_back / 10, "mA/cm2", "back subcell photocurrent"),
+                      ("irradiance", b.irradiance, "W/m2", "plane-of-array irradiance"),
+                      ("cell_temperature", b.cell_temperature_K, "K", "cell temperature"),
+                      ("step_length", b.step_hours, "h", "length of the step"))}
         return xr.Dataset(
             {"energy_2t": (dims, s.energy_2t, {"units": "kWh/m2"}),
              "energy_4t": (dims, s.energy_4t, {"units": "kWh/m2"}),
-             "efficiency_am15g_2t": (dims, 100 * s.efficiency_am15_2t, {"units": "%"})},
+             "efficiency_am15g_2t": (dims, 100 * s.efficiency_am15_2t, {"units": "%"}),
+             **series},
             coords={"front_gap": ("front_gap", s.gaps, {"units": "eV", "note": "at 298.15 K"}),
-                    "front_thickness": ("front_thickness", s.thicknesses, {"units": "nm"})},
+                    "front_thickness": ("front_thickness", s.thicknesses, {"units": "nm"}),
+                    "time": ("time", utc.to_numpy(), {"long_name": "middle of the step, UTC"})},
             attrs={"source": s.series.source, "insolation_kWh_m2": float(s.insolation),
                    "front": s.design.front.key, "back": s.design.back.key,
-                   "back_thickness_nm": float(s.back_thickness_nm)})
+                   "back_thickness_nm": float(s.back_thickness_nm), "site_time_zone": zone,
+                   "optimum_front_gap_eV": float(s.gaps[s.optimum[0]]),
+                   "optimum_front_thickness_nm": float(s.thicknesses[s.optimum[1]])})
 
     def plot(self, ax=None):
         from tandem.output.plots import draw_yield_map
@@ -77,7 +97,7 @@ class YieldResult(ResultDisplay):
         from tandem.output.plots import yield_figures
 
         prefix = Path(prefix)
-        grid = self.to_dataset()
+        grid = self.to_dataset()[["energy_2t", "energy_4t", "efficiency_am15g_2t"]]
         grid.attrs["written_by"] = STAMP
         series = self.to_frame().reset_index(names="time")
         return yield_figures(self.sweep, self.best, prefix, overwrite, {

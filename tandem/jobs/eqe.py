@@ -62,6 +62,12 @@ class EQEResult(ResultDisplay):
     def to_frame(self):
         return frame(self.summary()["subcells"])
 
+    def to_dataset(self):
+        """The two subcells along ``subcell``, the comparison as attributes."""
+        from tandem.jobs.common import frame_dataset
+
+        return frame_dataset(self.to_frame(), "subcell", self.dataset_attrs(), label="position")
+
     def plot(self, ax=None):
         from tandem.output.plots import draw_eqe
 

@@ -67,6 +67,12 @@ class LimitResult(ResultDisplay):
         """One row per subcell: gap [eV], Jsc [mA/cm²], Voc [V], FF [%], power share [%]."""
         return frame([{k: v for k, v in sub.items()} for sub in self.summary()["subcells"]])
 
+    def to_dataset(self):
+        """The subcells along ``subcell`` (front first), the design's figures as attributes."""
+        from tandem.jobs.common import frame_dataset
+
+        return frame_dataset(self.to_frame(), "subcell", self.dataset_attrs(), label="position")
+
     def plot(self, ax=None):
         from tandem.output.plots import draw_limit
 

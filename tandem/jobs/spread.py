@@ -48,6 +48,12 @@ class SpreadResult(ResultDisplay):
                        "efficiency_2t_pct": 100 * s.efficiency_2t,
                        "efficiency_4t_pct": 100 * s.efficiency_4t})
 
+    def to_dataset(self):
+        """The devices drawn along ``sample``, the statistics as attributes."""
+        from tandem.jobs.common import frame_dataset
+
+        return frame_dataset(self.to_frame(), "sample", self.dataset_attrs())
+
     def plot(self, ax=None):
         from tandem.output.plots import draw_spread
 
