@@ -102,3 +102,62 @@ def test_bad_electrical_values_refused():
         Electrical(0.0, -1.0)
     with pytest.raises(tandem.TandemInputError, match="shunt resistance 0"):
         Electrical(0.0, 0.0, 0.0)
+
+
+# --- terminal J–V with resistances: an independent scipy solution of the implicit equations ---
+
+
+def implicit_junction_voltage(j, jl, j0, vt, rsh):
+    """V_j with J = J_L − J0(e^{V_j/vt} − 1) − V_j/R_sh (scipy.optimize.brentq)."""
+    f = lambda v: jl - j0 * math.expm1(v / vt) - v / rsh - j
+    return optimize.brentq(f, min(0.0, (jl - j) * rsh) - 1.0, 3.0, xtol=1e-15)
+
+
+@pytest.mark.parametrize("rs, rsh", [(0.0, 10.0), (1000.0, math.inf), (0.0, 1.0), (0.0, 3.0),
+                                     (5.0, 50.0)])
+def test_single_junction_terminal_values_with_resistances(am15g, rs, rsh):
+    perf = step(am15g, (1.34,), Electrical(0.0, rs, rsh))
+    jl, j0 = float(perf.j_light[0]), float(perf.j0[0])
+    vt, rs_m2, rsh_m2 = tandem.core.units.K_B_EV * T, rs * 1e-4, rsh * 1e-4
+    if math.isinf(rsh):
+        voc = vt * math.log1p(jl / j0)
+        jsc = optimize.brentq(lambda j: vt * math.log1p((jl - j) / j0) - j * rs_m2, 0, jl,
+                              xtol=1e-14)
+        terminal = lambda j: vt * math.log1p((jl - j) / j0) - j * rs_m2
+    else:
+        terminal = lambda j: implicit_junction_voltage(j, jl, j0, vt, rsh_m2) - j * rs_m2
+        voc = terminal(0.0)
+        jsc = optimize.brentq(terminal, 0.0, 1.01 * jl, xtol=1e-14)
+    best = optimize.minimize_scalar(lambda j: -j * terminal(j), bounds=(0.0, jsc),
+                                    method="bounded", options={"xatol": 1e-12})
+    assert float(perf.voc[0]) == pytest.approx(voc, rel=1e-9)
+    assert float(perf.jsc[0]) == pytest.approx(jsc, rel=1e-9)
+    assert float(perf.p_2t) == pytest.approx(-best.fun, rel=1e-7)
+    assert float(perf.ff_2t) == pytest.approx(-best.fun / (voc * jsc), rel=1e-7)
+    # the values the engine printed before terminal values (diode Voc 1.0817 V, J_L, FF 8 %)
+    # are gone: a 10 Ω·cm² shunt makes an ohmic cell, Voc 0.350 V and FF 25 %
+    if (rs, rsh) == (0.0, 10.0):
+        assert round(float(perf.voc[0]), 3) == 0.350 and round(100 * float(perf.ff_2t), 1) == 25.0
+
+
+@pytest.mark.parametrize("rs, rsh", [(2.0, 200.0), (0.0, 20.0), (10.0, math.inf)])
+def test_series_stack_with_a_shunt_across_each_junction(am15g, rs, rsh):
+    gaps = (1.73, 1.12)
+    perf = step(am15g, gaps, Electrical(0.0, rs, rsh))
+    jl, j0 = perf.j_light, perf.j0
+    vt, rs_m2, rsh_m2 = tandem.core.units.K_B_EV * T, rs * 1e-4, rsh * 1e-4
+
+    def junction(j, i):
+        if math.isinf(rsh):
+            y = jl[i] - j
+            return vt * math.log1p(y / j0[i]) if y > 0 else vt * y / j0[i]
+        return implicit_junction_voltage(j, jl[i], j0[i], vt, rsh_m2)
+
+    terminal = lambda j: junction(j, 0) + junction(j, 1) - j * rs_m2
+    jsc = optimize.brentq(terminal, 0.0, max(jl), xtol=1e-14)
+    best = optimize.minimize_scalar(lambda j: -j * terminal(j), bounds=(0.0, jsc),
+                                    method="bounded", options={"xatol": 1e-12})
+    assert float(perf.p_2t) == pytest.approx(-best.fun, rel=1e-7)
+    assert float(perf.voc_2t) == pytest.approx(terminal(0.0), rel=1e-9)
+    assert float(perf.jsc_2t) == pytest.approx(jsc, rel=1e-9)
+    assert float(perf.p_2t) <= float(perf.p_4t)

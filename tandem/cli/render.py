@@ -118,12 +118,20 @@ def show_breakdown(result, path, overwrite: bool, title: str, json_out: bool) ->
     written = breakdown_figure(b, path, title, overwrite)
     rows = b.rows()
     err.print(f"wrote {escape(str(written))}")
+    mismatch = None if b.mismatch_W_m2 is None else round(b.mismatch_W_m2, 4)
     if json_out:
-        return {"incident_W_m2": b.incident_W_m2, "steps": rows, "figure": str(written)}
+        return {"incident_W_m2": b.incident_W_m2, "steps": rows, "mismatch_W_m2": mismatch,
+                "figure": str(written)}
+    where = "the two-terminal operating point" if b.mismatch_W_m2 is not None else \
+        "each subcell's own maximum power point"
     out.print(render_table("where the incident power goes", [
         ("step", lambda r: r["step"]), ("W/m²", lambda r: f"{r['power_W_m2']:.2f}"),
         ("%", lambda r: f"{r['share_pct']:.2f}"), ("equation", lambda r: r["equation"])], rows,
-        f"incident {b.incident_W_m2:.2f} W/m²; the steps add up to it exactly"))
+        f"incident {b.incident_W_m2:.2f} W/m²; the steps add up to it exactly, at {where}"))
+    if mismatch is not None:
+        say(f"current mismatch: the same cells at four terminals give {mismatch:.2f} W/m² "
+            f"({100 * mismatch / b.incident_W_m2:.2f} %) more; at the series current the subcell "
+            "with spare photocurrent recombines it (emission and operating-point steps)")
     return {}
 
 

@@ -2,9 +2,10 @@
 
 The steps follow the published analysis of detailed-balance losses (Hirst & Ekins-Daukes,
 Prog. Photovolt. 19 (2011) 286), extended to real cells (optical loss, non-radiative
-recombination and voltage, resistance) and to stacks (current mismatch). With subcell i's
-gap E_g,i, its EQE in the stack, photocurrent J_L,i and operating point (J_i, V_i) at its own
-maximum power point (V_j,i = V_i + J_i·R_s at the junction):
+recombination and voltage, resistance) and to stacks. Each connection is taken at its own
+operating point: four terminals at every subcell's own maximum power point, two terminals at
+the series maximum power point (one current J through every subcell). With subcell i's gap
+E_g,i, its EQE in the stack, photocurrent J_L,i, current J_i and junction voltage V_j,i:
 
 - below the gaps: ∫_{E<E_g,back} E·Φ·(1 − ΣEQE) dE — photons no subcell takes;
 - optical loss: ∫_{E≥E_g,back} E·Φ·(1 − ΣEQE) dE — reflected, parasitic, transmitted,
@@ -12,14 +13,21 @@ maximum power point (V_j,i = V_i + J_i·R_s at the junction):
 - thermalisation: Σ ∫ (E − E_g,i)·Φ·EQE_i dE — carriers relaxing to the band edges;
 - emission: Σ E_g,i·J_rad,i/q, J_rad = J0,rad·(e^{qV_j/kT} − 1) — radiative recombination;
 - non-radiative recombination: Σ E_g,i·J_nr,i/q, J_nr = J_L − J − J_rad − J_sh;
+- shunt: Σ E_g,i·J_sh,i/q, J_sh = V_j/R_sh — carriers lost through each junction's shunt;
 - Carnot and Boltzmann (the radiative voltage deficit): Σ (E_g,i − qV_oc,rad,i)·J_i/q with
   qV_oc,rad = kT·ln(J_L/J0,rad + 1); under a blackbody sun split into Carnot E_g·T_c/T_s,
   Boltzmann kT_c·ln(Ω_emit/Ω_sun) and the rest;
-- non-radiative voltage loss: Σ (V_oc,rad,i − V_oc,i)·J_i;
-- maximum-power point: Σ (V_oc,i − V_j,i)·J_i — the drop from open circuit to V_mp;
-- resistance: Σ (V_j,i − V_i)·J_i + E_g,i·J_sh,i/q, J_sh = V_j/R_sh;
-- current mismatch: P_4T − P_2T (two-terminal designs only);
+- non-radiative voltage loss: Σ (V_oc,rad,i − V_oc,i)·J_i, V_oc of the junction (no shunt);
+- operating point: Σ (V_oc,i − V_j,i)·J_i — the drop from open circuit to the operating
+  voltage (for a two-terminal stack this holds the cost of current mismatch: the subcell
+  with spare photocurrent runs near its open circuit, the limiting one below its own V_mp);
+- series resistance: J²·R_s (two terminals) or Σ J_i²·R_s/m (four; the stack's R_s shared
+  between the m circuits);
 - output: the design's power.
+
+Every step is ≥ 0 at these operating points. The current-mismatch cost of a two-terminal
+design, P_4T − P_2T, is reported beside the steps (``mismatch_W_m2``), not as a step: it is
+the difference of two operating points, not a flow of power at one.
 
 They sum to the incident power by construction; thermalisation takes the quadrature's
 difference between ∫E·Φ dE and the spectrum's irradiance (≤ 5×10⁻⁷ of it, see
@@ -56,6 +64,7 @@ class LossBreakdown:
     incident_W_m2: float
     steps: tuple[LossStep, ...]  #: losses in order, then the output last
     terminals: int
+    mismatch_W_m2: float | None = None  #: P_4T − P_2T of a two-terminal stack, beside the steps
 
     @property
     def output_W_m2(self) -> float:
@@ -106,16 +115,26 @@ def loss_breakdown(energy, flux, irradiance: float, eqe, gaps_eV, perf: StackPer
     thermalisation = irradiance - below - optical - absorbed_at_gap
 
     vt = K_B_EV * temperature_K
-    j, v = np.asarray(perf.j_own, float), np.asarray(perf.v_own, float)
+    m = eqe.shape[0]
+    series = terminals == 2 and m > 1
     rs = electrical.series_resistance_ohm_cm2 * 1e-4  # Ω·m²
-    v_j = v + j * rs
+    if series:  # one current through every subcell, each at its own junction voltage
+        j = np.full(m, float(perf.j_2t))
+        v_j = np.asarray(perf.v_2t_sub, float)
+        resistive = float(j[0] ** 2 * rs)
+    else:  # each subcell's own circuit carries R_s/m
+        j = np.asarray(perf.j_own, float)
+        v_j = np.asarray(perf.v_own, float) + j * rs / m
+        resistive = float(np.sum(j**2) * rs / m)
     j0_rad = np.asarray(perf.j0_radiative, float)
     j_rad = j0_rad * np.expm1(v_j / vt)
-    j_sh = (v_j / (electrical.shunt_resistance_ohm_cm2 * 1e-4)
-            if np.isfinite(electrical.shunt_resistance_ohm_cm2) else np.zeros_like(v_j))
+    r_sh = electrical.shunt_resistance_ohm_cm2 * 1e-4
+    j_sh = v_j / r_sh if np.isfinite(r_sh) else np.zeros_like(v_j)
     j_nr = j_l - j - j_rad - j_sh
     voc_rad = vt * np.log1p(j_l / j0_rad)
-    voc = np.asarray(perf.voc, float)
+    # the junction's open circuit without the shunt (whose loss is its own step)
+    voc = db.two_diode_voltage(0.0, j_l, j0_rad, np.asarray(perf.j0_nonradiative, float),
+                               perf.ideality, temperature_K)
     deficit = float(np.sum((gaps - voc_rad) * j))
     steps = [
         LossStep("below the gaps", "∫_{E<Eg,back} E·Φ·(1 − ΣEQE) dE", below),
@@ -125,6 +144,7 @@ def loss_breakdown(energy, flux, irradiance: float, eqe, gaps_eV, perf: StackPer
                  float(np.sum(gaps * j_rad))),
         LossStep("non-radiative recombination", "Σ Eg,i·(J_L − J − J_rad − J_sh)/q",
                  float(np.sum(gaps * j_nr))),
+        LossStep("shunt", "Σ Eg,i·J_sh,i/q, J_sh = V_j/R_sh", float(np.sum(gaps * j_sh))),
     ]
     if blackbody_sun is not None:
         t_sun, concentration = blackbody_sun
@@ -139,21 +159,16 @@ def loss_breakdown(energy, flux, irradiance: float, eqe, gaps_eV, perf: StackPer
         steps.append(LossStep("Carnot and Boltzmann (radiative voltage deficit)",
                               "Σ (Eg,i − qVoc,rad,i)·J_i/q, qVoc,rad = kT·ln(J_L/J0,rad + 1)",
                               deficit))
-    p_4t = float(np.sum(v * j))
+    p_out = float(np.sum(v_j * j)) - resistive
     steps += [
         LossStep("non-radiative voltage loss", "Σ (Voc,rad,i − Voc,i)·J_i",
                  float(np.sum((voc_rad - voc) * j))),
-        LossStep("maximum-power point", "Σ (Voc,i − V_j,i)·J_i", float(np.sum((voc - v_j) * j))),
-        LossStep("series and shunt resistance", "Σ (V_j,i − V_i)·J_i + Eg,i·J_sh,i/q",
-                 float(np.sum((v_j - v) * j + gaps * j_sh))),
+        LossStep("operating point", "Σ (Voc,i − V_j,i)·J_i", float(np.sum((voc - v_j) * j))),
+        LossStep("series resistance", "J²·R_s (2T) or Σ J_i²·R_s/m (4T)", resistive),
+        LossStep("output", "P_2T = J·(ΣV_j,i − J·R_s)" if series else "P = Σ J_i·V_i", p_out),
     ]
-    if terminals == 2 and eqe.shape[0] > 1:
-        p_out = float(perf.p_2t)
-        steps.append(LossStep("current mismatch (two-terminal)", "P_4T − P_2T", p_4t - p_out))
-    else:
-        p_out = p_4t
-    steps.append(LossStep("output", "P = Σ J·V" if p_out == p_4t else "P_2T = J_2T·V_2T", p_out))
-    return LossBreakdown(float(irradiance), tuple(steps), int(terminals))
+    mismatch = float(perf.p_4t - perf.p_2t) if series else None
+    return LossBreakdown(float(irradiance), tuple(steps), int(terminals), mismatch)
 
 
 def match_breakdown(result, rank: int = 1, blackbody_sun=None) -> LossBreakdown:

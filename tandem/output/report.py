@@ -52,7 +52,10 @@ def design_summary(result: DesignResult) -> dict:
         subcells.append({
             "position": SUBCELL_NAMES[i] if result.n_subcells == 2 else "single",
             "gap_eV": _r(gap),
-            "jsc_mA_cm2": _r(perf.j_light[i] * MA_CM2_PER_A_M2),
+            # terminal values of the subcell's own circuit (equal to the photocurrent and the
+            # diode's Voc without resistances); the photocurrent is what current matching uses
+            "jsc_mA_cm2": _r(perf.jsc[i] * MA_CM2_PER_A_M2),
+            "photocurrent_mA_cm2": _r(perf.j_light[i] * MA_CM2_PER_A_M2),
             "voc_V": _r(perf.voc[i]),
             "ff_pct": _r(100 * perf.ff_own[i], 3),
             "efficiency_pct": _r(100 * share[i] / irr),

@@ -30,8 +30,12 @@ class Electrical:
 
     coupling : fraction of the front subcell's rear emission that the back subcell collects
         (luminescent coupling), in [0, 1]. Coupling implies ``rear_emission``.
-    series_resistance_ohm_cm2, shunt_resistance_ohm_cm2 : per stack (per subcell circuit for
-        four terminals) [Ω·cm²]; 0 and infinity switch them off.
+    series_resistance_ohm_cm2 : the stack's series resistance [Ω·cm²]: the whole series chain
+        carries it with two terminals; with four, each of the m subcell circuits carries R_s/m
+        (the same layers shared between the circuits), so four terminals can always reproduce
+        the two-terminal operating point and never do worse. 0 switches it off.
+    shunt_resistance_ohm_cm2 : across each junction, with any number of terminals [Ω·cm²];
+        infinity switches it off.
     rear_emission : count the front subcell's emission towards the back cell (about n² times
         its front-face emission for index n) as a loss. Off: the published convention of
         emission through the front only (a perfect selective reflector between the subcells,
@@ -92,14 +96,17 @@ class StackPerformance:
     j0_radiative: np.ndarray  #: (..., m) radiative saturation current (front face, + rear emission)
     j0_nonradiative: np.ndarray  #: (..., m) saturation current of the non-radiative diode
     ideality: float  #: ideality factor of the non-radiative diode
-    voc: np.ndarray  #: (..., m) open-circuit voltage of each subcell alone
+    voc: np.ndarray  #: (..., m) terminal open-circuit voltage of each subcell's own circuit
+    jsc: np.ndarray  #: (..., m) terminal short-circuit current of each subcell's own circuit
     p_own: np.ndarray  #: (..., m) each subcell at its four-terminal maximum power point
     j_own: np.ndarray  #: (..., m) current at each subcell's four-terminal maximum power point
     v_own: np.ndarray  #: (..., m) voltage at each subcell's four-terminal maximum power point
     j_2t: np.ndarray  #: (...) current at the series maximum power point
     v_2t: np.ndarray  #: (...) voltage at the series maximum power point
     p_2t: np.ndarray  #: (...) series (two-terminal) maximum power
-    v_2t_sub: np.ndarray  #: (..., m) each subcell's voltage at the series maximum power point
+    v_2t_sub: np.ndarray  #: (..., m) each junction's voltage at the series maximum power point
+    voc_2t: np.ndarray  #: (...) terminal open-circuit voltage of the series stack
+    jsc_2t: np.ndarray  #: (...) terminal short-circuit current of the series stack
     irradiance: float  #: incident power [W/m²]
 
     @property
@@ -121,21 +128,15 @@ class StackPerformance:
         return self.p_4t / self.irradiance
 
     @property
-    def jsc_2t(self) -> np.ndarray:
-        """Short-circuit current of the series stack: the lowest photocurrent (ideal diodes)."""
-        return np.min(self.j_light, axis=-1)
-
-    @property
-    def voc_2t(self) -> np.ndarray:
-        return np.sum(self.voc, axis=-1)
-
-    @property
     def ff_own(self) -> np.ndarray:
-        return self.p_own / (self.voc * self.j_light)
+        """Fill factor of each subcell's own circuit, from its terminal Voc and Jsc [-]."""
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return np.where(self.p_own > 0, self.p_own / (self.voc * self.jsc), 0.0)
 
     @property
     def ff_2t(self) -> np.ndarray:
-        return self.p_2t / (self.voc_2t * self.jsc_2t)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return np.where(self.p_2t > 0, self.p_2t / (self.voc_2t * self.jsc_2t), 0.0)
 
     @property
     def limiting_index(self) -> np.ndarray:
@@ -160,15 +161,22 @@ class _Cells:
     vt: np.ndarray | float  #: kT/q over the leading axes (...), or one value
     gain: np.ndarray  #: (...) c·J0,rear of the front; zero without coupling
     ideal: bool  #: every subcell is one n = 1 diode
+    r_shunt: float = math.inf  #: across each junction [Ω·m²]
 
     @property
     def coupled(self) -> bool:
         return self.j_light.shape[-1] == 2 and bool(np.any(self.gain > 0))
 
     def voltage(self, i: int, current, extra=0.0):
-        """Voltage of subcell i carrying ``current`` with ``extra`` photocurrent [V]."""
-        return _cell_voltage(current, self.j_light[..., i] + extra, self.a[..., i],
-                             self.b[..., i], self.n, self.vt, self.ideal)
+        """Junction voltage of subcell i (with its shunt) carrying ``current`` with ``extra``
+        photocurrent [V]."""
+        return junction_voltage(current, self.j_light[..., i] + extra, self.a[..., i],
+                                self.b[..., i], self.n, self.vt, self.ideal, self.r_shunt)
+
+    def alone(self, i: int) -> "_Cells":
+        """Subcell i as a one-cell chain (no coupling)."""
+        return _Cells(self.j_light[..., i:i + 1], self.a[..., i:i + 1], self.b[..., i:i + 1],
+                      self.n, self.vt, 0.0 * self.gain, self.ideal, self.r_shunt)
 
     def back_gain(self, v_front):
         return self.gain * np.expm1(v_front / self.vt)
@@ -191,64 +199,92 @@ def _cell_voltage(current, j_light, a, b, n, vt, ideal: bool):
     return db.two_diode_voltage(current, j_light, a, b, n, vt / K_B_EV)
 
 
-def _terminal(j_diode, v_diode, electrical: Electrical):
-    """Terminal current and voltage of a diode chain behind R_s with R_sh across it."""
-    if not electrical.resistive:
-        return j_diode, v_diode
-    j = j_diode - v_diode / (electrical.shunt_resistance_ohm_cm2 * OHM_CM2)
-    return j, v_diode - j * electrical.series_resistance_ohm_cm2 * OHM_CM2
+def junction_voltage(current, j_light, a, b, n, vt, ideal: bool, r_shunt: float = math.inf):
+    """Voltage of a junction with a shunt across it, carrying terminal ``current`` [V].
 
-
-def _delivered(j, v):
-    """(J, V) where the chain delivers power, (0, 0) where a shunt or R_s leaves it none."""
-    dead = ~(j * v > 0)
-    return np.where(dead, 0.0, j), np.where(dead, 0.0, v)
-
-
-def _resistive_maximum(chain_voltage, lo, hi, electrical: Electrical):
-    """Diode current of the maximum power point of a chain with resistances, and its power.
-
-    The terminal current J rises and the terminal voltage V falls with the diode current, so
-    power is positive only between J = 0 and V = 0; both edges are found by bisection first
-    (a strong shunt leaves a sliver next to J_L), then a golden-section search runs inside.
-    A chain that cannot deliver power at all sits at J = 0.
+    Solves J_L − a·(e^{V/vt} − 1) − b·(e^{V/(n·vt)} − 1) − V/R_sh = J for V; the left side
+    falls strictly with V and is concave, so the root is bracketed by [min(0, (J_L − J)·R_sh),
+    max(0, min(V without the shunt, (J_L − J)·R_sh))] and found by Newton's method from the
+    upper end, with bisection whenever a step would leave the bracket. Without a shunt, the
+    closed form of the diode(s).
     """
-    def terminal(jd):
-        return _terminal(jd, chain_voltage(jd), electrical)
+    v_open = _cell_voltage(current, j_light, a, b, n, vt, ideal)
+    if not math.isfinite(r_shunt):
+        return v_open
+    excess = np.asarray(j_light, dtype=float) - current
+    lo = np.minimum(excess * r_shunt, 0.0)
+    # both the diode's own voltage and the shunt's alone (J_L − J)·R_sh leave f ≤ 0: start
+    # from the smaller, where Newton on this concave f converges from the right
+    hi = np.where(excess > 0, np.minimum(v_open, excess * r_shunt), 0.0) + 0.0 * lo
+    v = hi.copy()
+    for _ in range(200):
+        x = v / vt
+        ea, eb = a * np.exp(x), b * np.exp(x / n)
+        f = excess - a * np.expm1(x) - b * np.expm1(x / n) - v / r_shunt
+        lo, hi = np.where(f > 0, v, lo), np.where(f > 0, hi, v)
+        step = v + f / ((ea + eb / n) / vt + 1.0 / r_shunt)
+        new = np.where((step >= lo) & (step <= hi), step, 0.5 * (lo + hi))
+        done = np.max(np.abs(new - v) - 1e-12 * np.abs(v), initial=0.0) < 1e-13
+        v = new
+        if done:
+            break
+    return v
 
-    def bisect(lo, hi, positive_below):
-        for _ in range(64):
-            mid = 0.5 * (lo + hi)
-            below = positive_below(mid)
-            lo, hi = np.where(below, mid, lo), np.where(below, hi, mid)
-        return 0.5 * (lo + hi)
 
-    start = np.where(terminal(lo)[0] >= 0, lo, bisect(lo, hi, lambda x: terminal(x)[0] < 0))
-    end = np.where(terminal(hi)[1] >= 0, hi, bisect(lo, hi, lambda x: terminal(x)[1] >= 0))
-    end = np.maximum(start, end)
-
-    def power(jd):
-        j, v = terminal(jd)
-        return j * v
-
-    jd = db.golden_maximum(power, start, end)
-    return np.where(power(jd) > 0, jd, start)
+def _bisect(f, lo, hi, iterations: int = 80):
+    """Where the decreasing ``f`` crosses zero in [lo, hi] (f(lo) ≥ 0 ≥ f(hi)), elementwise."""
+    for _ in range(iterations):
+        mid = 0.5 * (lo + hi)
+        above = f(mid) > 0
+        lo, hi = np.where(above, mid, lo), np.where(above, hi, mid)
+    return 0.5 * (lo + hi)
 
 
-def _own_mpp(cells: _Cells, j_light, electrical: Electrical):
-    """Every subcell alone at its maximum power point, elementwise over (..., m)."""
+def _chain_maximum(chain_voltage, j_high, r_series: float):
+    """Terminal Voc, Jsc and maximum power point of a series chain with a series resistance.
+
+    ``chain_voltage(J)`` is the sum of the junction voltages at terminal current J (each
+    falling and concave in J); the terminal voltage is chain_voltage(J) − J·R_s, so
+    P(J) = J·V(J) is concave on [0, Jsc]: Jsc is found by bisection (V(J_high) ≤ 0 when
+    every junction is past its photocurrent), the maximum by golden section inside.
+    Returns (voc, jsc, j_mp, v_mp), all (...).
+    """
+    def terminal_voltage(j):
+        return chain_voltage(j) - j * r_series
+
+    zero = np.zeros_like(np.asarray(j_high, dtype=float))
+    voc = terminal_voltage(zero)
+    alive = voc > 0
+    jsc = np.where(alive, _bisect(terminal_voltage, zero, j_high), 0.0)
+    j = db.golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc)
+    v = terminal_voltage(j)
+    dead = ~(j * v > 0)
+    return (np.maximum(voc, 0.0), jsc, np.where(dead, 0.0, j), np.where(dead, 0.0, v))
+
+
+def _own_mpp(cells: _Cells, j_light, electrical: Electrical, circuits: int):
+    """Every subcell alone at its maximum power point, elementwise over (..., m); each
+    circuit carries R_s/``circuits`` (the stack's series resistance shared between them).
+
+    Returns j, v, p, voc, jsc (terminal values of each subcell's own circuit).
+    """
     vt = np.asarray(cells.vt)[..., None] if np.ndim(cells.vt) else cells.vt
-    if cells.ideal and not electrical.resistive:
-        return db.single_junction_mpp(j_light, cells.a, vt / K_B_EV)
     if not electrical.resistive:
-        return db.two_diode_mpp(j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
+        if cells.ideal:
+            j, v, p = db.single_junction_mpp(j_light, cells.a, vt / K_B_EV)
+            voc = db.open_circuit_voltage(j_light, cells.a, vt / K_B_EV)
+        else:
+            j, v, p = db.two_diode_mpp(j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
+            voc = db.two_diode_voltage(0.0, j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
+        return j, v, p, voc, np.asarray(j_light, dtype=float) + 0.0 * voc
 
-    def voltage(jd):
-        return _cell_voltage(jd, j_light, cells.a, cells.b, cells.n, vt, cells.ideal)
+    def voltage(j):
+        return junction_voltage(j, j_light, cells.a, cells.b, cells.n, vt, cells.ideal,
+                                cells.r_shunt)
 
-    jd = _resistive_maximum(voltage, np.zeros_like(j_light), j_light, electrical)
-    j, v = _delivered(*_terminal(jd, voltage(jd), electrical))
-    return j, v, j * v
+    voc, jsc, j, v = _chain_maximum(voltage, np.asarray(j_light, dtype=float),
+                                    electrical.series_resistance_ohm_cm2 * OHM_CM2 / circuits)
+    return j, v, j * v, voc, jsc
 
 
 def _coupled_four_terminal(cells: _Cells, electrical: Electrical):
@@ -259,25 +295,28 @@ def _coupled_four_terminal(cells: _Cells, electrical: Electrical):
     over J_f, so the four-terminal result is never below the two-terminal one.
     """
     jl = cells.j_light
-    front = _Cells(jl[..., :1], cells.a[..., :1], cells.b[..., :1], cells.n, cells.vt,
-                   0.0 * cells.gain, cells.ideal)
-    back = _Cells(jl[..., 1:], cells.a[..., 1:], cells.b[..., 1:], cells.n, cells.vt,
-                  0.0 * cells.gain, cells.ideal)
+    front, back = cells.alone(0), cells.alone(1)
+    r_series = electrical.series_resistance_ohm_cm2 * OHM_CM2 / 2
 
     def parts(jf):
-        vf = front.voltage(0, jf)
-        j, v = _delivered(*_terminal(jf, vf, electrical))
+        vf = front.voltage(0, jf)  # the front's junction voltage sets what it hands the back
+        v = vf - jf * r_series
         back_light = jl[..., 1:] + cells.back_gain(vf)[..., None]
-        jb, vb, pb = _own_mpp(back, back_light, electrical)
-        return j, v, jb[..., 0], vb[..., 0], pb[..., 0]
+        jb, vb, pb, voc_b, jsc_b = _own_mpp(back, back_light, electrical, 2)
+        return v, jb[..., 0], vb[..., 0], pb[..., 0], voc_b[..., 0], jsc_b[..., 0]
 
     def total(jf):
-        j, v, _, _, pb = parts(jf)
-        return j * v + pb
+        v, _, _, pb, _, _ = parts(jf)
+        return np.maximum(jf * v, 0.0) + pb
 
-    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jl[..., 0])
-    j, v, jb, vb, pb = parts(jf)
-    return np.stack([j, jb], -1), np.stack([v, vb], -1), np.stack([j * v, pb], -1)
+    # the front's own terminal limits bound its current (no power outside [0, Jsc])
+    _, _, _, voc_f, jsc_f = _own_mpp(front, jl[..., :1], electrical, 2)
+    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0])
+    v, jb, vb, pb, voc_b, jsc_b = parts(jf)
+    dead = ~(jf * v > 0)
+    j, v = np.where(dead, 0.0, jf), np.where(dead, 0.0, v)
+    return (np.stack([j, jb], -1), np.stack([v, vb], -1), np.stack([j * v, pb], -1),
+            np.stack([voc_f[..., 0], voc_b], -1), np.stack([jsc_f[..., 0], jsc_b], -1))
 
 
 def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality=1.0,
@@ -339,24 +378,24 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
         rear[0] = front_index**2
     j0_rear = j0_rad * rear
     gain = electrical.coupling * j0_rear[..., 0] if m == 2 else np.zeros(shape[:-1])
+    r_shunt = electrical.shunt_resistance_ohm_cm2 * OHM_CM2
     if ideality == 1.0:
         j0_nr = j0_rad / ere - j0_rad  # reported only; the diode uses J0,rad/ERE exactly
-        cells = _Cells(j_light, j0_rad / ere + j0_rear, np.zeros(shape), 1.0, vt, gain, True)
+        cells = _Cells(j_light, j0_rad / ere + j0_rear, np.zeros(shape), 1.0, vt, gain, True,
+                       r_shunt)
     else:
         j0_nr = db.nonradiative_saturation_current(j_light, j0_rad, ere, ideality)
         ideal = not np.any(j0_nr > 0)  # ERE = 1: no non-radiative diode at all
-        cells = _Cells(j_light, j0_rad + j0_rear, j0_nr, float(ideality), vt, gain, ideal)
-    if cells.ideal:
-        voc = db.open_circuit_voltage(j_light, cells.a, t_sub)
-    else:
-        voc = db.two_diode_voltage(0.0, j_light, cells.a, cells.b, cells.n, t_sub)
+        cells = _Cells(j_light, j0_rad + j0_rear, j0_nr, float(ideality), vt, gain, ideal,
+                       r_shunt)
     if cells.coupled:
-        j_own, v_own, p_own = _coupled_four_terminal(cells, electrical)
+        j_own, v_own, p_own, voc, jsc = _coupled_four_terminal(cells, electrical)
     else:
-        j_own, v_own, p_own = _own_mpp(cells, j_light, electrical)
+        j_own, v_own, p_own, voc, jsc = _own_mpp(cells, j_light, electrical, m)
     if m == 1:
         j_2t, v_2t, p_2t = j_own[..., 0], v_own[..., 0], p_own[..., 0]
-        v_2t_sub = v_own
+        v_2t_sub = v_own + j_own * electrical.series_resistance_ohm_cm2 * OHM_CM2  # junction
+        voc_2t, jsc_2t = voc[..., 0], jsc[..., 0]
     elif cells.ideal and not electrical.resistive:
         jl_s, j0_s = j_light, cells.a
         if cells.coupled:  # the coupled back is an ideal diode with shifted J_L and J0
@@ -369,32 +408,37 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
             reduced_voc=None if cells.coupled else np.sum(voc, axis=-1) / vt)
         v_2t = v_2t_sub.sum(axis=-1)
         p_2t = j_2t * v_2t
+        # ideal diodes: Jsc is the lowest photocurrent (to within J0), Voc the sum
+        voc_2t = (np.sum(db.open_circuit_voltage(jl_s, j0_s, t_sub), axis=-1) if cells.coupled
+                  else np.sum(voc, axis=-1))
+        jsc_2t = np.min(jl_s, axis=-1)
     else:
-        j_2t, v_2t, p_2t, v_2t_sub = _series_general(cells, electrical)
-    return StackPerformance(j_light, j0_rad + j0_rear, j0_nr, float(ideality), voc, p_own,
-                            j_own, v_own, j_2t, v_2t, p_2t, v_2t_sub, float(irradiance))
+        j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t = _series_general(cells, electrical)
+    return StackPerformance(j_light, j0_rad + j0_rear, j0_nr, float(ideality), voc, jsc, p_own,
+                            j_own, v_own, j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t,
+                            float(irradiance))
 
 
 def _series_general(cells: _Cells, electrical: Electrical):
     """Series maximum power of any subcells (two diodes, coupling, resistances).
 
-    P(J) = J·ΣV_i(J) is unimodal in the diode current (each V_i is concave and falling), so a
-    golden-section search over 0 < J < J_max finds it; J_max is the front's photocurrent or
-    the back's with the most the coupling can give (the front at open circuit).
+    The chain's terminal voltage at current J is Σ V_j,i(J) − J·R_s, each junction voltage
+    with its own shunt (and the back's extra light from coupling); see :func:`_chain_maximum`.
+    Past every subcell's photocurrent (the back's with the most coupling can give, the front
+    at open circuit) every junction is reverse-biased, which bounds the search.
     """
     jl = cells.j_light
-    hi = jl[..., 0]
+    j_high = np.max(jl, axis=-1)
     if jl.shape[-1] == 2:
-        v_oc_front = cells.voltage(0, 0.0)
-        hi = np.minimum(hi, jl[..., 1] + cells.back_gain(v_oc_front))
+        j_high = np.maximum(j_high, jl[..., 1] + cells.back_gain(cells.voltage(0, 0.0)))
 
-    def chain_voltage(jd):
-        return np.sum(cells.series_voltages(jd), axis=-1)
+    def chain_voltage(j):
+        return np.sum(cells.series_voltages(j), axis=-1)
 
-    jd = _resistive_maximum(chain_voltage, np.zeros_like(hi), hi, electrical)
-    v_sub = cells.series_voltages(jd)
-    j, v = _delivered(*_terminal(jd, np.sum(v_sub, axis=-1), electrical))
-    return j, v, j * v, v_sub
+    voc, jsc, j, v = _chain_maximum(chain_voltage, j_high,
+                                    electrical.series_resistance_ohm_cm2 * OHM_CM2)
+    v_sub = cells.series_voltages(j)
+    return j, v, j * v, v_sub, voc, jsc
 
 
 def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0,
