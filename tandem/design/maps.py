@@ -91,15 +91,18 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
         perf: StackPerformance = evaluate_stack(j_light, j0_rad, temperature_K,
                                                 photon_flux.irradiance, ere, ideality,
                                                 electrical or IDEAL, front_index)
-        # points whose subcell would sit within kT of its gap are outside the Boltzmann diode
-        # (see stack.check_boltzmann_regime): left blank, never printed
+        # values computed within kT of a gap are outside the Boltzmann diode (see
+        # checks.check_boltzmann_regime): left blank, never printed; an efficiency needs only
+        # its operating point to be clear, a Voc its open circuit
         kt = K_B_EV * float(temperature_K)
-        degenerate = np.any(np.maximum(perf.voc, perf.v_2t_sub) > pairs[sl] - kt, axis=-1)
-        out["e2"][sl] = np.where(degenerate, np.nan, perf.efficiency_2t)
-        out["e4"][sl] = np.where(degenerate, np.nan, perf.efficiency_4t)
+        near = pairs[sl] - kt
+        at_2t = np.any(perf.v_2t_sub > near, axis=-1)
+        at_4t = np.any(perf.v_own > near, axis=-1)
+        out["e2"][sl] = np.where(at_2t, np.nan, perf.efficiency_2t)
+        out["e4"][sl] = np.where(at_4t, np.nan, perf.efficiency_4t)
         out["jf"][sl] = perf.j_light[:, 0]
         out["jb"][sl] = perf.j_light[:, 1]
-        out["voc"][sl] = np.where(degenerate, np.nan, perf.voc_2t)
+        out["voc"][sl] = np.where(np.any(perf.voc > near, axis=-1), np.nan, perf.voc_2t)
         if progress:
             progress(min(start + chunk, len(pairs)), len(pairs))
     for k in fields:

@@ -105,21 +105,27 @@ def check_receives_light(j_light, photon_flux: PhotonFlux, what: Sequence[str]) 
                 "choose a lower gap, a thicker layer or a spectrum that covers it")
 
 
-def check_boltzmann_regime(perf: StackPerformance, gaps_eV, temperature_K, what) -> None:
-    """Refuse a result whose subcell operates within kT of its gap.
+def check_boltzmann_regime(perf: StackPerformance, gaps_eV, temperature_K, what,
+                           coupling: float = 0.0) -> None:
+    """Refuse a result whose subcell is within kT of its gap, at its operating point or at
+    the open circuit the result prints.
 
-    The diodes use Boltzmann statistics (J0·e^{qV/kT}); they hold while Eg − qV ≫ kT. A back
-    cell pumped by a strongly coupled front under extreme concentration can be driven past
-    that, where only the full Bose–Einstein emission (not modelled) would keep qV below Eg.
+    The diodes use Boltzmann statistics (J0·e^{qV/kT}); they hold while Eg − qV ≫ kT. The
+    exact (Bose–Einstein) emission is larger there, so a Boltzmann voltage that close to the
+    gap overstates what the cell can reach and could pass the gap.
     """
     kt = K_B_EV * float(np.max(temperature_K))
-    voltages = np.maximum(perf.voc, perf.v_2t_sub)
-    close = voltages > np.asarray(gaps_eV) - kt
-    if np.any(close):
-        i = int(np.argmax(close))
-        raise TandemInputError(
-            f"{what[i]} would operate at {float(voltages[i]):.4f} V, within kT of its gap, where "
-            "this model's Boltzmann diode does not hold; lower the concentration or the coupling")
+    gaps = np.asarray(gaps_eV)
+    for label, voltages in (("open circuit", perf.voc), ("its maximum power point",
+                                                         np.maximum(perf.v_own, perf.v_2t_sub))):
+        close = np.asarray(voltages) > gaps - kt
+        if np.any(close):
+            i = int(np.argmax(close))
+            fix = "lower the concentration" + (" or the coupling" if coupling > 0 else "")
+            raise TandemInputError(
+                f"{what[i]} would reach {float(np.asarray(voltages)[i]):.4f} V at {label}, within "
+                f"kT ({kt:.4f} eV) of its {float(gaps[i]):.3f} eV gap, where this model's "
+                f"Boltzmann diode does not hold; {fix}")
 
 
 def check_gap_order(gaps: Sequence[float]) -> None:

@@ -494,6 +494,13 @@ def load_spectrum(
     """
     if not (concentration > 0 and math.isfinite(concentration)):
         raise TandemInputError(f"concentration {concentration:g}: give a positive number of suns")
+    max_x = 1.0 / SUN_DILUTION
+    if concentration > max_x * (1 + 1e-9):
+        # étendue: no optic concentrates sunlight beyond 1/f (the sun's solid angle, π sr over
+        # ≈ 6.8e-5 sr); any spectrum of direct sunlight, not only a blackbody
+        raise TandemInputError(f"concentration {concentration:g}: above the thermodynamic "
+                               f"maximum {max_x:,.0f}× for sunlight (the sun's solid angle "
+                               "fills the whole hemisphere there); give at most that")
     key = str(source).lower()
     if key == "blackbody":
         spectrum = blackbody_sun(sun_temperature_K, concentration)
