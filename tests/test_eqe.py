@@ -40,6 +40,46 @@ def test_a_step_eqe_reproduces_the_step_absorber(am15g, gap):
                                             abs=1e-9)
 
 
+def test_a_two_point_eqe_is_integrated_exactly():
+    """A flat EQE given by two points (1.12 and 4.0 eV, no edge to fit a tail to) is a step
+    absorber between them: J0,rad equals the closed-form Bose series to 1e-12 (a fixed
+    8-point quadrature on the one wide interval was 32 % low, Voc,rad 10 mV high)."""
+    from tandem.design.eqe import radiative_dark_current
+
+    m = MeasuredEQE.from_arrays("two points", [1.12, 4.0], [1.0, 1.0], 300.0)
+    assert m.urbach_eV is None
+    closed = float(tandem.step_radiative_dark_current(1.12, 300.0, 4.0))
+    assert radiative_dark_current(m, 300.0) == pytest.approx(closed, rel=1e-12)
+
+
+def test_a_slow_urbach_tail_is_integrated_to_convergence():
+    """An edge falling with a slope near kT: its tail below the data converges slowly, so it is
+    integrated from 0 eV. Reference: scipy.integrate.quad of the same tail and the linear data
+    on their own (E² e^{(E−E0)/E_U}/(e^{E/kT} − 1), q·2π/(h³c²) in front)."""
+    from scipy.integrate import quad
+
+    from tandem.core.units import BB_FLUX_PREFACTOR, Q
+    from tandem.design.eqe import radiative_dark_current
+
+    t = 300.0
+    kt = K_B_EV * t
+    eu = 0.9 * kt
+    e = np.r_[np.linspace(1.30, 1.40, 6), np.linspace(1.45, 3.0, 20)]
+    q = np.where(e <= 1.40, 0.08 * np.exp((e - 1.40) / eu), 0.9)
+    m = MeasuredEQE.from_arrays("slow edge", e, q, t)
+    assert m.urbach_eV == pytest.approx(eu, rel=1e-9)
+    bose = lambda x: x * x / np.expm1(x / kt)
+    data = quad(lambda x: np.interp(x, e, q) * bose(x), e[0], e[-1], points=e[1:-1],
+                epsrel=1e-13, limit=500)[0]
+    tail = quad(lambda x: q[0] * np.exp((x - e[0]) / eu) * bose(x) if x > 0 else 0.0, 0.0, e[0],
+                epsrel=1e-13, limit=500)[0]
+    reference = Q * BB_FLUX_PREFACTOR * (data + tail)
+    assert radiative_dark_current(m, t) == pytest.approx(reference, rel=1e-10)
+    # a tail cut 40 slopes deep (as before) misses 2×10⁻⁴ of J0, far above the 10⁻¹⁰ held now
+    short = quad(lambda x: q[0] * np.exp((x - e[0]) / eu) * bose(x), e[0] - 40 * eu, e[0])[0]
+    assert (tail - short) / (data + tail) > 1e-4
+
+
 def test_a_tabulated_silicon_eqe_gives_the_optics_path_current(am15g, tmp_path):
     """EQE = the silicon absorber's absorptance (160 µm, Lambertian; Green 2008 data) on the
     ASTM G173-03 wavelengths, written as a file: its current equals the optics path's."""

@@ -4,10 +4,12 @@ each EQE implies by reciprocity.
 An EQE file lists wavelength [nm] and EQE (a fraction, or percent). Between its points the
 EQE is linear in photon energy; integrals are exact for that shape: the photocurrent (EQE and
 the spectrum both piecewise linear) by Simpson's rule on the merged grid, the radiative dark
-current J0,rad = q∫EQE·Φ_bb dE by 8-point Gauss–Legendre on every interval. Below the lowest
+current J0,rad = q∫EQE·Φ_bb dE in closed form on every interval (the Bose–Einstein factor
+1/(e^x − 1) = Σ_k e^{−kx} term by term, each an incomplete gamma function). Below the lowest
 measured energy the EQE continues as an Urbach tail fitted to its low-energy edge, when the
 fit finds a slope below kT (otherwise the measured range alone counts, and the output says
-that Voc,rad is then an upper bound).
+that Voc,rad is then an upper bound); the tail is integrated down to 0 eV (adaptive
+quadrature to 10⁻¹²), since with a slope near kT it converges slowly.
 
 Reciprocity: Rau, Phys. Rev. B 76 (2007) 085303 — Voc,rad = (kT/q)·ln(J_L/J0,rad + 1), and a
 measured Voc gives the ERE as exp(−q(Voc,rad − Voc)/kT).
@@ -23,9 +25,8 @@ import numpy as np
 from tandem.physics import detailed_balance as db
 from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import PhotonFlux, read_two_columns
-from tandem.core.units import HC_EV_NM, K_B_EV, Q
+from tandem.core.units import BB_FLUX_PREFACTOR, HC_EV_NM, K_B_EV, Q
 
-_GL_X, _GL_W = np.polynomial.legendre.leggauss(8)
 
 
 @dataclass(frozen=True)
@@ -120,16 +121,60 @@ def photocurrent(flux: PhotonFlux, m: MeasuredEQE) -> float:
     return float(Q * np.sum(np.diff(e) / 6.0 * (f[:-1] + 4 * fm + f[1:])))
 
 
+def linear_emission_integral(energy_eV, eqe, temperature_K: float) -> float:
+    """∫ EQE(E)·E²/(e^{E/kT} − 1) dE [eV³] for an EQE linear between the points, exactly.
+
+    On [a, a + h] with EQE = q_a + s·t (t = E − a) the integrand is e^{−βa}·Σ_p c_p t^p e^{−βt}
+    for each Bose term β = k/kT, and ∫_0^h t^p e^{−βt} dt = p!·P(p + 1, βh)/β^{p+1} with P the
+    regularised lower incomplete gamma function (stable for any βh). Terms are added until
+    e^{−k·a_min/kT} < 10⁻¹⁷.
+    """
+    from scipy.special import gammainc
+
+    e = np.asarray(energy_eV, dtype=float)
+    q = np.asarray(eqe, dtype=float)
+    a, h, q_a = e[:-1], np.diff(e), q[:-1]
+    s = np.diff(q) / h
+    # (q_a + s t)(a + t)² = c0 + c1 t + c2 t² + c3 t³
+    coeffs = (q_a * a * a, 2 * a * q_a + s * a * a, q_a + 2 * a * s, s)
+    kt = K_B_EV * temperature_K
+    terms = int(np.ceil(39.2 * kt / max(float(a[0]), 1e-3))) + 1
+    total = 0.0
+    for k in range(1, terms + 1):
+        beta = k / kt
+        factorial = 1.0
+        inner = np.zeros_like(a)
+        for p_, c in enumerate(coeffs):
+            factorial *= max(p_, 1)
+            inner += c * factorial * gammainc(p_ + 1, beta * h) / beta ** (p_ + 1)
+        total += float(np.sum(np.exp(-beta * a) * inner))
+    return total
+
+
 def radiative_dark_current(m: MeasuredEQE, temperature_K: float, upper_eV: float = 10.0) -> float:
-    """q∫EQE·Φ_bb dE [A/m²] over the data and its tail (Gauss–Legendre, 8 nodes a step)."""
-    e = m.energy_eV[m.energy_eV <= upper_eV]
-    if m.urbach_eV is not None:  # the tail, down to 40 slopes below the data
-        e = np.union1d(np.linspace(e[0] - 40 * m.urbach_eV, e[0], 400), e)
-        e = e[e > 0]
-    a, b = e[:-1, None], e[1:, None]
-    nodes = 0.5 * (b - a) * _GL_X + 0.5 * (a + b)
-    values = m.at(nodes) * db.blackbody_photon_flux(nodes, temperature_K)
-    return float(Q * np.sum(0.5 * (b - a) * _GL_W * values))
+    """q∫EQE·Φ_bb dE [A/m²] over the data (exact for the piecewise-linear EQE) and its tail.
+
+    The Urbach tail EQE_0·e^{(E − E_0)/E_U} below the data is integrated from 0 eV by adaptive
+    quadrature (relative error 10⁻¹²): with E_U close to kT the integrand falls only as
+    e^{−(1/E_U − 1/kT)(E_0 − E)}, so a fixed number of slopes below the data is not enough.
+    """
+    keep = m.energy_eV <= upper_eV
+    e, q = m.energy_eV[keep], m.eqe[keep]
+    total = linear_emission_integral(e, q, temperature_K) if e.size > 1 else 0.0
+    if m.urbach_eV is not None:
+        from scipy.integrate import quad
+
+        e0, q0, eu = float(e[0]), float(q[0]), float(m.urbach_eV)
+        kt = K_B_EV * temperature_K
+
+        def tail(energy):  # E² e^{(E − E0)/E_U}/(e^{E/kT} − 1), continuous to E·kT at 0
+            return (q0 * energy * energy * np.exp((energy - e0) / eu)
+                    / np.expm1(energy / kt) if energy > 0 else 0.0)
+
+        value, _ = quad(tail, 0.0, e0, epsabs=0.0, epsrel=1e-12, limit=400,
+                        points=[max(e0 - 5 * eu, 0.0)])
+        total += value
+    return float(Q * BB_FLUX_PREFACTOR * total)
 
 
 @dataclass(frozen=True)
