@@ -172,9 +172,11 @@ class Scenario:
         """The scenario's [map] as front and back gap axes [eV] (None without a map)."""
         if "map" not in self.data:
             return None
-        front, back = (gap_range(*self.get("map", f"{side}_gap_range_eV"),
-                                 what=f"map.{side}_gap_range_eV") for side in ("front", "back"))
-        return front, back
+        axes = []
+        for side in ("front", "back"):
+            lo, hi, step = self.get("map", f"{side}_gap_range_eV")  # [low, high, step]
+            axes.append(gap_range(lo, hi, step, what=f"map.{side}_gap_range_eV"))
+        return axes[0], axes[1]
 
     def site(self):
         from tandem.design.sky import Site
