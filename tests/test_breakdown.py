@@ -3,7 +3,7 @@ the published analysis (Hirst & Ekins-Daukes, Prog. Photovolt. 19 (2011) 286).""
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
 import tandem
@@ -113,3 +113,27 @@ def test_the_parts_always_add_up_and_losses_are_losses(front, back, ere, idealit
     assert perf.p_2t <= perf.p_4t * (1 + 1e-9)  # 2T ≤ 4T with resistances too
     if terminals == 2:
         assert b.mismatch_W_m2 >= -tol
+
+
+@settings(max_examples=60, deadline=None)
+@given(points=st.lists(st.tuples(st.floats(280.0, 2600.0), st.floats(0.01, 2.0)), min_size=3,
+                       max_size=10, unique_by=lambda p: round(p[0])),
+       gap=st.floats(1.0, 2.6))
+@example(points=list(zip([520.2, 776.0, 1027.2, 1247.4, 1460.2, 1840.5, 1944.8, 2032.6, 2045.5,
+                          2106.7], [1.48, 1.18, 0.45, 0.95, 1.87, 1.92, 0.16, 0.25, 0.13, 1.02])),
+         gap=2.347231350776582)  # −1.9×10⁻⁵ of the incident power before the gaps were grid points
+def test_thermalisation_is_never_negative_on_a_coarse_spectrum(points, gap):
+    """A step absorber takes the photons above its gap on the exact partial interval, and so do
+    the breakdown's shares: thermalisation Σ∫(E − Eg)·Φ·EQE dE ≥ 0 on any grid."""
+    points = sorted(points)
+    wl = np.array([p[0] for p in points])
+    if np.any(np.diff(wl) < 1.0):
+        return
+    light = tandem.Light.from_arrays(wl, np.array([p[1] for p in points]))
+    try:
+        r = tandem.limit([gap], light)
+    except tandem.TandemInputError:  # a gap outside this spectrum, or no light above it
+        return
+    b = r.loss_breakdown()
+    assert steps(b)["thermalisation"] >= -1e-9 * b.incident_W_m2
+    assert sum(steps(b).values()) == pytest.approx(b.incident_W_m2, rel=1e-11)

@@ -50,14 +50,18 @@ class LimitResult(ResultDisplay):
         flux = (self.light or Light()).photon_flux()
         perf = d.performance
         gaps = np.array(d.gaps_eV)
-        e = flux.energy
+        # each gap becomes a point of the grid, twice (just below and at it), so the step EQE
+        # changes exactly there: the shares then use the same partial intervals as J_L
+        inside = gaps[(gaps > flux.energy[0]) & (gaps < flux.energy[-1])]
+        e = np.unique(np.r_[flux.energy, inside * (1 - 1e-13), inside])
+        phi = np.interp(e, flux.energy, flux.flux)
         upper = np.append(np.inf, gaps[:-1])
         bands = np.array([(e >= g) & (e < u) for g, u in zip(gaps, upper)], dtype=float)
         # step absorbers: every photon in the band, times the share the losses leave
         full = np.array([float(step_photocurrent(flux, g, None if np.isinf(u) else u))
                          for g, u in zip(gaps, upper)])
         eqe = bands * (np.asarray(perf.j_light) / full)[:, None]
-        return loss_breakdown(e, flux.flux, flux.irradiance, eqe, gaps, perf, d.temperature_K,
+        return loss_breakdown(e, phi, flux.irradiance, eqe, gaps, perf, d.temperature_K,
                               d.terminals, d.electrical, blackbody_of(self.light))
 
     def summary(self) -> dict:
