@@ -91,3 +91,43 @@ def test_missing_csv(tmp_path):
 def test_unknown_spectrum_lists_choices():
     with pytest.raises(tandem.TandemInputError, match="am1.5g, am1.5d, am0"):
         tandem.load_spectrum("am2")
+
+
+def test_a_spectrum_that_stops_short_is_dark_below_and_keeps_the_full_emission():
+    """A spectrometer file ending at 1,050 nm used with a 1.12 eV step absorber: the absorber
+    takes every photon of the file (∫ I·λ/(hc) dλ of the piecewise-linear data, by
+    scipy's trapezoid-exact quadrature), and its radiative J0 is the closed-form Bose series
+    of its gap, not the part of the emission above 1.181 eV."""
+    from scipy.integrate import quad
+
+    wl = np.arange(300.0, 1051.0, 5.0)
+    g173 = tandem.reference_spectrum("am1.5g")
+    light = tandem.Light.from_arrays(wl, np.interp(wl, g173.wavelength_nm, g173.irradiance))
+    r = tandem.limit([1.12], light, tandem.OperatingPoint(temperature_K=300.0))
+    p = r.design.performance
+    irr = np.interp(wl, g173.wavelength_nm, g173.irradiance)
+    photons = quad(lambda x: np.interp(x, wl, irr) * x * 1e-9 / (6.62607015e-34 * 299792458.0),
+                   wl[0], wl[-1], points=wl[1:-1], limit=400, epsrel=1e-12)[0]
+    assert float(p.j_light[0]) == pytest.approx(1.602176634e-19 * photons, rel=1e-6)
+    assert float(p.j0_radiative[0]) == pytest.approx(
+        float(tandem.step_radiative_dark_current(1.12, 300.0)), rel=1e-6)
+    assert any("ends at 1050 nm" in n for n in light.photon_flux().notes)
+
+
+def test_reciprocity_dark_current_does_not_depend_on_where_the_spectrum_stops():
+    """J0,rad = q∫a·Φ_bb dE depends on the absorber and temperature only (Rau 2007): silicon
+    behind a perovskite gives the same J0 under AM1.5G and under the same data cut at 1,050 nm
+    (their grids differ below 1.18 eV: G173's 1–5 nm steps against the 0.5 meV dark grid)."""
+    from tandem.design.matching import Conditions, StackDesign, subcell_currents
+
+    wl = np.arange(300.0, 1051.0, 5.0)
+    g173 = tandem.reference_spectrum("am1.5g")
+    short = tandem.Light.from_arrays(wl, np.interp(wl, g173.wavelength_nm, g173.irradiance))
+    design = StackDesign(tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon"))
+    j0 = []
+    for flux in (g173.photon_flux(), short.photon_flux()):
+        _, j0_rad = subcell_currents(design, Conditions(flux, 298.15), 1.70, np.array([500.0]),
+                                     160e3)
+        j0.append(j0_rad[0])
+    assert j0[1][1] == pytest.approx(j0[0][1], rel=2e-3)  # back (silicon)
+    assert j0[1][0] == pytest.approx(j0[0][0], rel=2e-3)  # front

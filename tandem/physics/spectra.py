@@ -105,13 +105,40 @@ class Spectrum:
         wavelength = conserving_grid(self.wavelength_nm, self.irradiance, tolerance)
         energy, flux = to_energy(wavelength, np.interp(wavelength, self.wavelength_nm,
                                                         self.irradiance))
+        notes = self.notes
+        if energy[0] > EMISSION_FLOOR_EV * (1 + 1e-9):
+            energy, flux = dark_below(energy, flux)
+            notes += (f"the spectrum ends at {self.wavelength_nm[-1]:g} nm "
+                      f"({HC_EV_NM / self.wavelength_nm[-1]:.3f} eV); its flux is "
+                      "taken as zero below that, so a gap there absorbs the whole spectrum",)
         return PhotonFlux(
             name=self.name,
             energy=energy,
             flux=flux,
             irradiance=self.integrated_irradiance,
-            notes=self.notes,
+            notes=notes,
         )
+
+
+#: Lowest energy every photon-flux grid reaches [eV] (4,000 nm, where ASTM G173-03 ends): the
+#: reciprocity dark current integrates emission over the grid, so a spectrum that stops
+#: short (a spectrometer file ending at 1,050 nm) is continued down to here, dark.
+EMISSION_FLOOR_EV = HC_EV_NM / 4000.0
+#: Energy step of that dark continuation [eV]: fine against kT and Urbach tails (≥ 5 meV).
+DARK_STEP_EV = 5e-4
+
+
+def dark_below(energy, flux):
+    """The grid continued from EMISSION_FLOOR_EV up to its first point with zero flux.
+
+    The flux steps from zero to its first value over 10⁻¹² of that energy, so no photon is
+    added (the sliver holds Φ₀·E₀·5×10⁻¹³).
+    """
+    e0 = float(energy[0])
+    n = int(np.ceil((e0 - EMISSION_FLOOR_EV) / DARK_STEP_EV)) + 1
+    dark = np.linspace(EMISSION_FLOOR_EV, e0, n)[:-1]
+    dark = np.r_[dark[dark < e0 * (1 - 2e-12)], e0 * (1 - 1e-12)]
+    return np.r_[dark, energy], np.r_[np.zeros(dark.size), flux]
 
 
 def trapezoid_weights(energy_eV) -> np.ndarray:
