@@ -137,3 +137,31 @@ def test_thermalisation_is_never_negative_on_a_coarse_spectrum(points, gap):
     b = r.loss_breakdown()
     assert steps(b)["thermalisation"] >= -1e-9 * b.incident_W_m2
     assert sum(steps(b).values()) == pytest.approx(b.incident_W_m2, rel=1e-11)
+
+
+def test_the_sun_temperature_gains_are_named_and_closed_forms():
+    """Under a diluted 6000 K blackbody a step absorber has J_L ∝ f·(kTs)³·B(Eg/kTs) and
+    J0 ∝ (kTc)³·B(Eg/kTc), B(x) = ∫_x^∞ t²/(e^t − 1) dt, so per carrier the radiative deficit
+    Eg − qVoc,rad is Carnot Eg·Tc/Ts + Boltzmann kTc·ln(1/f) (Hirst & Ekins-Daukes 2011) plus
+    the hot-sun gain −kTc·ln(Ts/Tc) and the photon-spread gain
+    Eg(1 − Tc/Ts) − kTc·[2·ln(Ts/Tc) + ln(B(Eg/kTs)/B(Eg/kTc))]; in the Boltzmann limit the
+    latter is −kTc·ln(P(Ts)/P(Tc)), P(T) = Eg² + 2Eg·kT + 2(kT)². B by scipy's quad."""
+    from scipy.integrate import quad
+
+    def bose(x):
+        return quad(lambda t: t * t * np.exp(-t) / -np.expm1(-t), x, np.inf, epsrel=1e-13)[0]
+
+    tc, ts = 300.0, 6000.0
+    kt, kts = K_B_EV * tc, K_B_EV * ts
+    for gap in (1.0, 1.34, 2.0):
+        r = tandem.limit([gap], BB, tandem.OperatingPoint(temperature_K=tc))
+        parts = steps(r.loss_breakdown())
+        j = float(r.design.performance.j_own[0])
+        assert parts["hot-sun gain (negative: a gain)"] / j == pytest.approx(
+            -kt * np.log(ts / tc), rel=1e-12)
+        spread = gap * (1 - tc / ts) - kt * (2 * np.log(ts / tc)
+                                             + np.log(bose(gap / kts) / bose(gap / kt)))
+        assert parts["photon-spread gain (negative: a gain)"] / j == pytest.approx(spread, abs=2e-6)
+        boltzmann_limit = -kt * np.log((gap**2 + 2 * gap * kts + 2 * kts**2)
+                                       / (gap**2 + 2 * gap * kt + 2 * kt**2))
+        assert spread == pytest.approx(boltzmann_limit, abs=2e-3)  # Bose terms of the sun

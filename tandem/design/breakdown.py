@@ -16,7 +16,9 @@ E_g,i, its EQE in the stack, photocurrent J_L,i, current J_i and junction voltag
 - shunt: Σ E_g,i·J_sh,i/q, J_sh = V_j/R_sh — carriers lost through each junction's shunt;
 - Carnot and Boltzmann (the radiative voltage deficit): Σ (E_g,i − qV_oc,rad,i)·J_i/q with
   qV_oc,rad = kT·ln(J_L/J0,rad + 1); under a blackbody sun split into Carnot E_g·T_c/T_s,
-  Boltzmann kT_c·ln(Ω_emit/Ω_sun) and the rest;
+  Boltzmann kT_c·ln(Ω_emit/Ω_sun), and two gains (negative rows, named as gains): the
+  hot-sun gain −kT_c·ln(T_s/T_c) and the photon-spread gain, the rest (for a step absorber
+  with Boltzmann statistics −kT_c·ln(P(T_s)/P(T_c)), P(T) = E_g² + 2E_g·kT + 2(kT)²);
 - non-radiative voltage loss: Σ (V_oc,rad,i − V_oc,i)·J_i, V_oc of the junction (no shunt);
 - operating point: Σ (V_oc,i − V_j,i)·J_i — the drop from open circuit to the operating
   voltage (for a two-terminal stack this holds the cost of current mismatch: the subcell
@@ -150,11 +152,18 @@ def loss_breakdown(energy, flux, irradiance: float, eqe, gaps_eV, perf: StackPer
         t_sun, concentration = blackbody_sun
         carnot = float(np.sum(gaps * temperature_K / t_sun * j))
         boltzmann = float(np.sum(vt * np.log(1.0 / (concentration * SUN_DILUTION)) * j))
+        # The sun's photons carry its temperature: qVoc,rad gains kT_c·ln(T_s/T_c) from the
+        # hotter source and a little more from its broader photon-energy spread (for a step
+        # absorber kT_c·ln(P(T_s)/P(T_c)), P(T) = Eg² + 2Eg·kT + 2(kT)²); both are gains,
+        # shown as such (negative rows), never folded into a loss.
+        hot_sun = -float(np.sum(vt * np.log(t_sun / temperature_K) * j))
         steps += [LossStep("Carnot", "Σ Eg,i·(T_cell/T_sun)·J_i/q", carnot),
                   LossStep("Boltzmann", "Σ kT·ln(Ω_emit/Ω_sun)·J_i/q", boltzmann),
-                  LossStep("rest of the radiative voltage deficit",
-                           "Σ (Eg,i − qVoc,rad,i)·J_i/q − Carnot − Boltzmann",
-                           deficit - carnot - boltzmann)]
+                  LossStep("hot-sun gain (negative: a gain)", "−Σ kT·ln(T_sun/T_cell)·J_i/q",
+                           hot_sun),
+                  LossStep("photon-spread gain (negative: a gain)",
+                           "Σ (Eg,i − qVoc,rad,i)·J_i/q − Carnot − Boltzmann − hot-sun gain",
+                           deficit - carnot - boltzmann - hot_sun)]
     else:
         steps.append(LossStep("Carnot and Boltzmann (radiative voltage deficit)",
                               "Σ (Eg,i − qVoc,rad,i)·J_i/q, qVoc,rad = kT·ln(J_L/J0,rad + 1)",
