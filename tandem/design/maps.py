@@ -83,14 +83,26 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
     j0_f = db.step_radiative_dark_current(front_gaps, temperature_K)
     j0_b = db.step_radiative_dark_current(back_gaps, temperature_K)
     share = np.broadcast_to(np.asarray(absorbed_share, dtype=float), (2,))
+    ref_f = ref_b = None
+    if ideality != 1.0:  # an n ≠ 1 cell's non-radiative diode is fixed under AM1.5G, 1 sun
+        from tandem.physics.spectra import reference_flux
+
+        ref = reference_flux()
+        top = ref.energy[-1]
+        ref_f = db.flux_above(ref.energy, ref.flux, np.minimum(front_gaps, top))
+        ref_b = db.flux_above(ref.energy, ref.flux, np.minimum(back_gaps, top))
     for start in range(0, len(pairs), chunk):
         sl = slice(start, start + chunk)
         fi, bi = i_front[sl], i_back[sl]
         j_light = db.Q * np.stack([above_f[fi], above_b[bi] - above_f[fi]], axis=-1) * share
         j0_rad = np.stack([j0_f[fi], j0_b[bi] - j0_f[fi]], axis=-1) * share
+        reference = None
+        if ref_f is not None and ref_b is not None:
+            reference = db.Q * np.stack([ref_f[fi], ref_b[bi] - ref_f[fi]], axis=-1) * share
+            reference = np.where(reference > 0, reference, j_light)
         perf: StackPerformance = evaluate_stack(j_light, j0_rad, temperature_K,
                                                 photon_flux.irradiance, ere, ideality,
-                                                electrical or IDEAL, front_index)
+                                                electrical or IDEAL, front_index, reference)
         # values computed within kT of a gap are outside the Boltzmann diode (see
         # checks.check_boltzmann_regime): left blank, never printed; an efficiency needs only
         # its operating point to be clear, a Voc its open circuit

@@ -154,16 +154,38 @@ def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_th
     j_light, j0_rad = subcell_currents(design, cond, front_gap, front_thickness_nm,
                                        back_thickness_nm, back_gap)
     return evaluate_design(design, j_light, j0_rad, cond.temperature_K,
-                           cond.photon_flux.irradiance, cond.ideality, cond.electrical)
+                           cond.photon_flux.irradiance, cond.ideality, cond.electrical,
+                           reference_currents(design, cond, front_gap, front_thickness_nm,
+                                              back_thickness_nm, back_gap))
+
+
+def reference_currents(design: StackDesign, cond: Conditions, front_gap, front_thickness_nm,
+                       back_thickness_nm, back_gap=None):
+    """The subcells' photocurrents under AM1.5G at 1 sun (where an absorber's ERE is stated),
+    on the conditions' grid, for an n ≠ 1 cell's fixed non-radiative diode; None for n = 1,
+    whose ERE does not depend on light."""
+    if cond.ideality == 1.0:
+        return None
+    from dataclasses import replace
+
+    from tandem.physics.spectra import reference_flux_on
+
+    ref = replace(cond, photon_flux=reference_flux_on(cond.photon_flux.energy))
+    return subcell_currents(design, ref, front_gap, front_thickness_nm, back_thickness_nm,
+                            back_gap)[0]
 
 
 def evaluate_design(design: StackDesign, j_light, j0_rad, temperature_K, irradiance,
-                    ideality: float = 1.0, electrical: Electrical = IDEAL) -> StackPerformance:
+                    ideality: float = 1.0, electrical: Electrical = IDEAL,
+                    reference_j_light=None) -> StackPerformance:
     """The stack's electrical result from its subcells' currents: the absorbers' EREs, the
-    front's refractive index (rear emission), the ideality and electrical options."""
+    front's refractive index (rear emission), the ideality and electrical options; an n ≠ 1
+    cell's non-radiative diode fixed at ``reference_j_light`` (see :func:`reference_currents`)."""
     ere = np.array([design.front.ere, design.back.ere])
+    if reference_j_light is not None:
+        reference_j_light = np.where(reference_j_light > 0, reference_j_light, j_light)
     return evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere, ideality, electrical,
-                          design.front.refractive_index)
+                          design.front.refractive_index, reference_j_light)
 
 
 @dataclass(frozen=True)

@@ -22,7 +22,7 @@ from tandem.design.matching import (Conditions, StackDesign, evaluate_design, re
                      stack_performance)
 from tandem.core.errors import TandemInputError
 from tandem.design.sky import FluxBasis, SpectralSeries
-from tandem.physics.spectra import PhotonFlux, trapezoid_weights
+from tandem.physics.spectra import PhotonFlux, reference_flux_on, trapezoid_weights
 from tandem.physics.stack import IDEAL, Electrical, evaluate_stack
 from tandem.core.units import Q
 
@@ -136,8 +136,13 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
     bb = db.blackbody_photon_flux(flux.energy, nodes[:, None])  # (m, nE)
     j0 = np.stack([_interpolate_j0(absorbed @ (bb * fw).T, lagrange),
                    _interpolate_j0(transmitted @ (bb * bw).T, lagrange)], axis=-1)
+    reference = None
+    if ideality != 1.0:  # the non-radiative diode fixed under AM1.5G, 1 sun, at every step
+        phi = reference_flux_on(flux.energy).flux
+        reference = np.stack([absorbed @ (phi * fw), transmitted @ (phi * bw)], axis=-1)
+        reference = np.broadcast_to(reference[:, None, :], jl.shape)
     if rear is None:
-        return evaluate_design(design, jl, j0, t_cell, 1.0, ideality, electrical), jl
+        return evaluate_design(design, jl, j0, t_cell, 1.0, ideality, electrical, reference), jl
     # bifacial: the back subcell also takes light at its rear, and by reciprocity emits there.
     # That emission is radiative: the back's J0 becomes J0,front/ERE + J0,rear, passed on as
     # J0,rad = J0,front + J0,rear with the ERE that gives exactly that sum.
@@ -149,8 +154,10 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
     total = j0[..., 1] / design.back.ere + j0_rear
     j0[..., 1] += j0_rear
     ere[..., 1] = j0[..., 1] / total
+    if reference is not None:  # the rear's light is not part of where the ERE is stated
+        reference = np.where(reference > 0, reference, jl)
     perf = evaluate_stack(jl, j0, t_cell, 1.0, ere, ideality, electrical,
-                          design.front.refractive_index)
+                          design.front.refractive_index, reference)
     return perf, jl
 
 

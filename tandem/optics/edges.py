@@ -24,7 +24,7 @@ from tandem.core.errors import TandemInputError
 from tandem.core.toml_files import Checker
 from tandem.core.units import HC_EV_NM
 from tandem.optics.database import database_alpha
-from tandem.physics.spectra import read_two_columns
+from tandem.physics.columns import read_two_columns
 
 
 class Edge(Protocol):

@@ -7,7 +7,7 @@ import math
 import numpy as np
 
 from tandem.core.errors import TandemInputError
-from tandem.physics.spectra import read_two_columns
+from tandem.physics.columns import read_two_columns
 from tandem.core.units import HC_EV_NM
 
 

@@ -78,9 +78,10 @@ def electrical_notes(electrical: Electrical, front_index: float, ideality: float
             notes.append("each subcell emits through its front only (perfect selective "
                          "reflector between them, the published convention)")
     if ideality != 1.0:
-        notes.append(f"non-radiative diode with ideality {ideality:g}, set by the ERE at open "
-                     "circuit" + ("; with ERE 1 there is no non-radiative recombination, so "
-                                  "the ideality changes nothing" if radiative else ""))
+        notes.append(f"non-radiative diode with ideality {ideality:g}, fixed where the ERE is "
+                     "stated: at open circuit under AM1.5G, 1 sun (under other light the ERE "
+                     "follows)" + ("; with ERE 1 there is no non-radiative recombination, so "
+                                   "the ideality changes nothing" if radiative else ""))
     return tuple(notes)
 
 
