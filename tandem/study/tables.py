@@ -116,7 +116,8 @@ def latex_table(study: StudyResult) -> str:
 
 
 def loss_table(study: StudyResult):
-    """Every design row's loss breakdown, one line per step (W/m² and % of the incident)."""
+    """Every design row's loss breakdown, one line per step (W/m² and % of the incident); a
+    two-terminal design's current-mismatch cost (P_4T − P_2T, not a step) in its own column."""
     import pandas as pd
 
     from tandem.design.breakdown import match_breakdown
@@ -126,10 +127,12 @@ def loss_table(study: StudyResult):
         if "stack" in row:  # a stack's losses are its layers: see its photon-budget figure
             continue
         b = match_breakdown(study.results[(row["front"], row["back"])])
+        mismatch = None if b.mismatch_W_m2 is None else round(b.mismatch_W_m2, 4)
         for step in b.rows():
             lines.append({"rank": row["rank"], "front": row["front"], "back": row["back"],
                           "step": step["step"], "power_W_m2": step["power_W_m2"],
-                          "share_pct": step["share_pct"], "equation": step["equation"]})
+                          "share_pct": step["share_pct"], "equation": step["equation"],
+                          "mismatch_beside_W_m2": mismatch})
     return pd.DataFrame(lines)
 
 
