@@ -69,7 +69,7 @@ class YieldResult(ResultDisplay):
                       ("irradiance", b.irradiance, "W/m2", "plane-of-array irradiance"),
                       ("cell_temperature", b.cell_temperature_K, "K", "cell temperature"),
                       ("step_length", b.step_hours, "h", "length of the step"))}
-        return xr.Dataset(
+        ds = xr.Dataset(
             {"energy_2t": (dims, s.energy_2t, {"units": "kWh/m2"}),
              "energy_4t": (dims, s.energy_4t, {"units": "kWh/m2"}),
              "efficiency_am15g_2t": (dims, 100 * s.efficiency_am15_2t, {"units": "%"}),
@@ -82,6 +82,11 @@ class YieldResult(ResultDisplay):
                    "back_thickness_nm": float(s.back_thickness_nm), "site_time_zone": zone,
                    "optimum_front_gap_eV": float(s.gaps[s.optimum[0]]),
                    "optimum_front_thickness_nm": float(s.thicknesses[s.optimum[1]])})
+        # stored as double hours: NetCDF-3 (scipy) has no 64-bit integers, and minutes since
+        # 1970 overflow 32 bits
+        ds["time"].encoding = {"units": "hours since 1970-01-01 00:00:00", "dtype": "f8",
+                               "calendar": "proleptic_gregorian"}
+        return ds
 
     def plot(self, ax=None):
         from tandem.output.plots import draw_yield_map
