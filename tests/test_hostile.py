@@ -151,6 +151,10 @@ CASES = [
     ("match", "--stack", "unobtainium"), ("match", "--stack", "nowhere.toml"),
     ("match", "--stack", "organic-pair", "organic-wide", "organic-narrow"),
     ("match", "--stack", "organic-pair", "--front-gaps", "1.7"),
+    # options a stack does not use are refused, never ignored (--losses was ignored before)
+    ("match", "--stack", "organic-pair", "--losses", "l.png"),
+    ("match", "--stack", "organic-pair", "--top", "3"),
+    ("match", "--stack", "organic-pair", "--tolerance", "2"),
     ("match", "--stack", "organic-pair", "--reflectance", "0.02"),
     ("match", "--stack", "organic-pair", "--points", "3"),
     ("match", "--stack", "organic-pair", "--plot", "p.gif"),

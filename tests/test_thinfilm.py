@@ -144,7 +144,7 @@ def test_index_matched_stack_reproduces_optics_lite(am15g):
     stack, f, b = index_matched()
     d = np.array([200.0, 500.0, 1200.0])
     budget = photon_budget(stack, am15g.energy, d)
-    j_light, j0, _, _ = budget_currents(budget, am15g, 298.15)
+    j_light, j0, *_ = budget_currents(budget, am15g, 298.15)
     design = StackDesign(f, b, 0.0, 0.0, 0.0)
     lite_j, lite_j0 = subcell_currents(design, Conditions(am15g, 298.15), f.gap_eV, d, 160e3)
     np.testing.assert_allclose(j_light, lite_j, rtol=5e-3)
@@ -214,9 +214,54 @@ def test_stack_results_stay_inside_physics(extra_n, extra_k, extra_d, front_d, t
     from tandem.design.layerstack import _evaluate
     from tandem.physics.stack import IDEAL
 
-    perf, _, _ = _evaluate(stack, budget, flux, temperature, 1.0, IDEAL)
+    perf = _evaluate(stack, budget, flux, temperature, 1.0, IDEAL)[0]
     assert perf.efficiency_2t[0] <= perf.efficiency_4t[0] * (1 + 1e-9)
     assert perf.efficiency_4t[0] <= global_4t_limit(280.0) * (1 + 1e-9)
     gaps = [stack.front.absorber.gap_eV + stack.front.absorber.gap_shift_eV(temperature),
             stack.back.absorber.gap_eV + stack.back.absorber.gap_shift_eV(temperature)]
     assert np.all(perf.voc[0] < np.array(gaps))
+
+
+def test_light_out_through_a_single_pass_wafer_is_reported(am15g, tmp_path, monkeypatch):
+    """Every usable photon (above the back gap) is counted once in the stack's report: the two
+    subcells, each parasitic layer, reflection and, for a single-pass wafer, the light leaving
+    through its back (missing before, so the reported currents did not add up). Reference: the
+    photon current above 1.12 eV of the AM1.5G grid itself (trapezoid)."""
+    from typer.testing import CliRunner
+
+    from tandem.cli.app import app
+
+    text = (Path(__file__).resolve().parents[1] / "stacks" / "wide-gap-on-silicon-wafer.toml"
+            ).read_text().replace('role = "back"\ncoherent = false',
+                                  'role = "back"\ncoherent = false\nlight_trapping = "single-pass"')
+    (tmp_path / "single.toml").write_text(text)
+    monkeypatch.chdir(tmp_path)  # the photon-budget figure is written here
+    res = CliRunner().invoke(app, ["match", "--stack", str(tmp_path / "single.toml"), "--json",
+                                   "-q", "--points", "24"])
+    assert res.exit_code == 0, res.output
+    import json
+
+    s = json.loads(res.stdout)
+    b = s["best"]
+    lost = (sum(s["parasitic_loss_mA_cm2"].values()) + s["reflected_or_escaped_mA_cm2"]
+            + s["transmitted_mA_cm2"])
+    above = am15g.energy >= s["losses_counted_above_eV"]
+    photons = np.trapezoid(am15g.flux * above, am15g.energy) * 1.602176634e-19 / 10  # mA/cm²
+    assert s["transmitted_mA_cm2"] > 1.0  # a 160 µm single-pass wafer lets the infrared out
+    # sub-gap tail absorption in the subcells is the only light outside the usable band
+    assert b["jsc_front_mA_cm2"] + b["jsc_back_mA_cm2"] + lost == pytest.approx(photons, rel=2e-3)
+
+
+def test_stack_fields_that_would_be_ignored_are_refused(tmp_path, am15g):
+    """An exit_index behind a wafer that ends the stack, and an n,k table that covers none of
+    the usable light (its end value would stand in for every photon), are one-line errors."""
+    root = Path(__file__).resolve().parents[1] / "stacks"
+    wafer = (root / "wide-gap-on-silicon-wafer.toml").read_text()
+    (tmp_path / "exit.toml").write_text(wafer.replace("ambient_index = 1.0",
+                                                      "ambient_index = 1.0\nexit_index = 1.5"))
+    with pytest.raises(tandem.TandemInputError, match="exit_index' is not used: the wafer"):
+        load_stack(tmp_path / "exit.toml")
+    (tmp_path / "uv.csv").write_text("wavelength_nm,n,k\n100,1.9,0.01\n150,1.9,0.01\n200,1.9,0.01\n")
+    (tmp_path / "uv.toml").write_text(wafer.replace('nk = [1.75, 0.002]', 'nk = "uv.csv"'))
+    with pytest.raises(tandem.TandemInputError, match="has n,k for 100–200 nm, none of the usable"):
+        tandem.match_stack(load_stack(tmp_path / "uv.toml"), points=8)

@@ -154,7 +154,8 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
             raise TandemInputError("give FRONT and BACK absorbers, or --stack FILE (not both)")
         return stack_match(stack, o, points, plot, overwrite, quiet, json_out, wide, {
             "--front-gaps": front_gaps, "--front-thickness": front_thickness,
-            "--back-thickness": back_thickness})
+            "--back-thickness": back_thickness, "--losses": losses,
+            "--top": given("top"), "--tolerance": given("tolerance"), "--large": large})
     sweep = tandem.Sweep(
         front_gaps_eV=parse_gap_option(front_gaps, "--front-gaps"), thickness_points=points,
         front_thickness_nm=None if not front_thickness else parse_range(

@@ -18,9 +18,10 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: b
     """Match the front absorber of a layer stack and report where the photons go."""
     given = [name for name, value in unused.items() if value]
     if given:
-        raise TandemInputError(f"--stack takes the absorbers and their thicknesses from the stack "
-                               f"file; drop {', '.join(given)} (sweep a layer with "
-                               "thickness_nm = [thin, thick] in the file)")
+        raise TandemInputError(f"--stack does not use {', '.join(given)}: it takes the absorbers "
+                               "and thicknesses from the stack file (sweep a layer with "
+                               "thickness_nm = [thin, thick]) and reports its losses layer by "
+                               "layer; drop them")
     if any(str(o[k]).strip() not in ("0", "0.0", "0%") for k in
            ("reflectance", "front_parasitic", "interlayer_parasitic")):
         raise TandemInputError("--stack computes reflection and parasitic absorption layer by "
@@ -50,6 +51,8 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: b
                      "Jsc in mA/cm²", wide))
     losses = [{"where": k, "lost": v} for k, v in s["parasitic_loss_mA_cm2"].items()]
     losses.append({"where": "reflected or escaped", "lost": s["reflected_or_escaped_mA_cm2"]})
+    if s["transmitted_mA_cm2"] > 0:  # a single-pass wafer lets light out through its back
+        losses.append({"where": "transmitted", "lost": s["transmitted_mA_cm2"]})
     out.print(render_table("usable photons lost",
                      [("layer", lambda r: r["where"]), ("mA/cm²", lambda r: f"{r['lost']:.2f}")],
                      losses, f"above {s['losses_counted_above_eV']:.3f} eV",

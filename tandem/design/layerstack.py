@@ -215,6 +215,10 @@ def parse_stack(path: Path) -> LayerStack:
         if x.role == "front" and not x.coherent:
             _fail(path, f"layer '{x.name}'.coherent", "is false for the front absorber",
                   "the front absorber is a thin film: set coherent = true")
+    if "exit_index" in data and layers[-1].ends_stack:
+        _fail(path, "exit_index", f"is not used: the wafer '{layers[-1].name}' ends the stack (its "
+              "light trapping decides what leaves its back)", "remove exit_index, or end the "
+              "stack with a coherent layer")
     swept = [x for x in layers if x.sweep_nm is not None and x.role != "front"]
     if len(swept) > 2:
         _fail(path, "layer.thickness_nm", f"sweeps {len(swept)} layers besides the front absorber",
@@ -419,8 +423,9 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
 def budget_currents(budget: PhotonBudget, flux, temperature_K: float, usable_from_eV: float = 0.0):
     """Photocurrents of every destination [A/m²] and the subcells' J0,rad by reciprocity.
 
-    Parasitic and reflected currents count photons above ``usable_from_eV`` only.
-    Returns (j_light (n_d, 2), j0_rad (n_d, 2), parasitic {name: (n_d,)}, reflected (n_d,)).
+    Parasitic, reflected and transmitted currents count photons above ``usable_from_eV`` only.
+    Returns (j_light (n_d, 2), j0_rad (n_d, 2), parasitic {name: (n_d,)}, reflected (n_d,),
+    transmitted (n_d,)).
     """
     w = trapezoid_weights(budget.energy) * Q
     phi = np.interp(budget.energy, flux.energy, flux.flux)
@@ -429,7 +434,7 @@ def budget_currents(budget: PhotonBudget, flux, temperature_K: float, usable_fro
     j0 = np.stack([budget.front @ (w * bb), budget.back @ (w * bb)], axis=-1)
     usable = w * phi * (budget.energy >= usable_from_eV)
     parasitic = {k: v @ usable for k, v in budget.parasitic.items()}
-    return j_light, j0, parasitic, budget.reflected @ usable
+    return j_light, j0, parasitic, budget.reflected @ usable, budget.transmitted @ usable
 
 
 def usable_from_eV(stack: LayerStack, temperature_K: float) -> float:
@@ -458,6 +463,7 @@ class StackPoint:
     parasitic: dict  #: layer name → photocurrent lost there [A/m²]
     reflected: float  #: [A/m²]
     matched: bool  #: the subcells' photocurrents are equal here
+    transmitted: float = 0.0  #: out through the back of the stack [A/m²]
 
 
 @dataclass(frozen=True)
@@ -478,7 +484,8 @@ class StackMatch:
 
 def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):
     usable = usable_from_eV(stack, temperature_K)
-    j_light, j0, parasitic, reflected = budget_currents(budget, flux, temperature_K, usable)
+    j_light, j0, parasitic, reflected, transmitted = budget_currents(budget, flux, temperature_K,
+                                                                     usable)
     ere = np.array([stack.front.absorber.ere, stack.back.absorber.ere])
     reference = None
     if ideality != 1.0:  # an n ≠ 1 cell's non-radiative diode is fixed under AM1.5G, 1 sun
@@ -489,15 +496,17 @@ def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):
         reference = np.where(reference > 0, reference, j_light)
     perf = evaluate_stack(j_light, j0, temperature_K, flux.irradiance, ere, ideality, electrical,
                           stack.front.absorber.refractive_index, reference)
-    return perf, parasitic, reflected
+    return perf, parasitic, reflected, transmitted
 
 
 def _point(stack, flux, others, d, temperature_K, ideality, electrical, matched):
     budget = photon_budget(stack, flux.energy, [d], others, temperature_K)
-    perf, parasitic, reflected = _evaluate(stack, budget, flux, temperature_K, ideality, electrical)
+    perf, parasitic, reflected, transmitted = _evaluate(stack, budget, flux, temperature_K,
+                                                        ideality, electrical)
     return StackPoint(dict(others), float(d), perf.j_light[0], float(perf.efficiency_2t[0]),
                       float(perf.efficiency_4t[0]), float(perf.voc_2t[0]),
-                      {k: float(v[0]) for k, v in parasitic.items()}, float(reflected[0]), matched)
+                      {k: float(v[0]) for k, v in parasitic.items()}, float(reflected[0]), matched,
+                      float(transmitted[0]))
 
 
 def _bisect_match(stack, flux, others, lo, hi, temperature_K, iterations=40):
@@ -539,10 +548,27 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
     axes = [[(x.name, float(v)) for v in np.geomspace(*(x.sweep_nm or (0.0, 0.0)), x.points)]
             for x in stack.swept]  # a swept layer always has its range
     combos = [dict(c) for c in itertools.product(*axes)] if axes else [{}]
+    notes = []
+    usable = flux.flux * trapezoid_weights(flux.energy) * (
+        flux.energy >= usable_from_eV(stack, temperature_K))
+    for x in stack.layers:  # tables held constant beyond their ends: said where it matters
+        if x.table is not None:
+            wl = HC_EV_NM / flux.energy
+            first, last = float(x.table[0][0]), float(x.table[0][-1])
+            share = usable[(wl < first) | (wl > last)].sum() / usable.sum()
+            if share > 1 - 1e-9:  # an end value held for every usable photon is no data at all
+                wl_usable = wl[usable > 0]
+                raise TandemInputError(
+                    f"stack '{stack.key}': layer '{x.name}' has n,k for {first:g}–{last:g} nm, "
+                    f"none of the usable light ({wl_usable.min():.0f}–{wl_usable.max():.0f} nm); "
+                    "give a table that covers it")
+            if share > 1e-3:
+                notes.append(f"{x.name}: n and k held at their end values outside {first:g}–{last:g} "
+                             f"nm, where {100 * share:.1f} % of the usable photons are")
     grids, crossings = [], []
     for n, others in enumerate(combos, 1):
         budget = photon_budget(stack, flux.energy, grid, others, temperature_K)
-        perf, _, _ = _evaluate(stack, budget, flux, temperature_K, ideality, electrical)
+        perf = _evaluate(stack, budget, flux, temperature_K, ideality, electrical)[0]
         grids.append((others, perf.j_light, perf.efficiency_2t, perf.efficiency_4t))
         diff = perf.j_light[:, 0] - perf.j_light[:, 1]
         for i in np.flatnonzero(np.sign(diff[:-1]) * np.sign(diff[1:]) < 0):
@@ -552,17 +578,6 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
         if progress:
             progress(n, len(combos))
     crossings.sort(key=lambda p: -p.efficiency_2t)
-    notes = []
-    usable = flux.flux * trapezoid_weights(flux.energy) * (
-        flux.energy >= usable_from_eV(stack, temperature_K))
-    for x in stack.layers:  # tables held constant beyond their ends: said where it matters
-        if x.table is not None:
-            wl = HC_EV_NM / flux.energy
-            first, last = float(x.table[0][0]), float(x.table[0][-1])
-            share = usable[(wl < first) | (wl > last)].sum() / usable.sum()
-            if share > 1e-3:
-                notes.append(f"{x.name}: n and k held at their end values outside {first:g}–{last:g} "
-                             f"nm, where {100 * share:.1f} % of the usable photons are")
     if crossings:
         best = crossings[0]
     else:

@@ -374,6 +374,7 @@ def stack_summary(result) -> dict:
         "matches": [point(p) for p in m.crossings],
         "parasitic_loss_mA_cm2": losses,
         "reflected_or_escaped_mA_cm2": round(best.reflected / 10, 3),
+        "transmitted_mA_cm2": round(best.transmitted / 10, 3),
         "losses_counted_above_eV": round(usable_from_eV(m.stack, m.temperature_K), 4),
         "optics_lite_matched_front_thickness_nm": (None if result.optics_lite_matched_nm is None
                                                    else round(result.optics_lite_matched_nm, 1)),
