@@ -265,3 +265,14 @@ def test_stack_fields_that_would_be_ignored_are_refused(tmp_path, am15g):
     (tmp_path / "uv.toml").write_text(wafer.replace('nk = [1.75, 0.002]', 'nk = "uv.csv"'))
     with pytest.raises(tandem.TandemInputError, match="has n,k for 100–200 nm, none of the usable"):
         tandem.match_stack(load_stack(tmp_path / "uv.toml"), points=8)
+
+
+def test_no_match_note_names_the_thickness_range_swept(tmp_path):
+    """With no crossing in the swept range the note names that range (it once printed the last
+    n,k table's wavelengths, 18–2,479 nm)."""
+    text = (Path(__file__).resolve().parents[1] / "stacks" / "all-thin-film-pair.toml").read_text()
+    (tmp_path / "narrow.toml").write_text(text.replace("thickness_nm = [150, 1200]",
+                                                       "thickness_nm = [150, 160]"))
+    result = tandem.match_stack(load_stack(tmp_path / "narrow.toml"), points=8)
+    assert not result.match.crossings
+    assert any("no current match for 150–160 nm" in n for n in result.match.notes)
