@@ -276,3 +276,12 @@ def test_no_match_note_names_the_thickness_range_swept(tmp_path):
     result = tandem.match_stack(load_stack(tmp_path / "narrow.toml"), points=8)
     assert not result.match.crossings
     assert any("no current match for 150–160 nm" in n for n in result.match.notes)
+
+
+def test_an_optimum_on_the_edge_of_a_layer_sweep_is_flagged():
+    """The bundled wafer stack's electrode is best at its thinnest swept value (60 nm): the
+    optimum may lie beyond the range, and the notes say so."""
+    result = tandem.match_stack(load_stack("wide-gap-on-silicon-wafer"), points=12)
+    assert result.match.best.others["ITO electrode"] == pytest.approx(60.0)
+    assert any("ITO electrode: the best design sits at the edge of its sweep (60 nm"
+               in n for n in result.match.notes)

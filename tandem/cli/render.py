@@ -47,8 +47,9 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: b
         ("2T %", lambda r: f"{r['efficiency_2t_pct']:.2f}"),
         ("4T %", lambda r: f"{r['efficiency_4t_pct']:.2f}")]
     rows = s["matches"] or [s["best"]]
-    out.print(render_table(s["title"], columns, rows, f"current matches of {s['front']}, best 2T first; "
-                     "Jsc in mA/cm²", wide))
+    caption = (f"current matches of {s['front']}, best 2T first" if s["matches"] else
+               f"no current match of {s['front']}: the best two-terminal point")
+    out.print(render_table(s["title"], columns, rows, f"{caption}; Jsc in mA/cm²", wide))
     losses = [{"where": k, "lost": v} for k, v in s["parasitic_loss_mA_cm2"].items()]
     losses.append({"where": "reflected or escaped", "lost": s["reflected_or_escaped_mA_cm2"]})
     if s["transmitted_mA_cm2"] > 0:  # a single-pass wafer lets light out through its back

@@ -587,6 +587,13 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
         limiting = "front" if best.j_light[0] < best.j_light[1] else "back"
         notes.append(f"no current match for {lo:g}–{hi:g} nm of {front.name}: the {limiting} "
                      "subcell limits throughout; the best two-terminal point is shown")
+    for x in stack.swept:  # an optimum on the edge of a layer's sweep may lie beyond it
+        value = best.others.get(x.name)
+        if value is not None and x.sweep_nm is not None and x.points > 2 and any(
+                math.isclose(value, edge, rel_tol=1e-9) for edge in x.sweep_nm):
+            notes.append(f"{x.name}: the best design sits at the edge of its sweep ({value:g} nm "
+                         f"of {x.sweep_nm[0]:g}–{x.sweep_nm[1]:g} nm); widen the range to see "
+                         "whether it improves beyond")
     k4, i4 = max(((k, int(np.nanargmax(g[3]))) for k, g in enumerate(grids)),
                  key=lambda ki: grids[ki[0]][3][ki[1]])
     best_4t = _point(stack, flux, grids[k4][0], grid[i4], temperature_K, ideality, electrical,
