@@ -24,7 +24,7 @@ _WHERE = {
     "YieldResult": "jobs.energy_yield", "SpreadResult": "jobs.spread",
     "match_stack": "jobs.stack_match", "StackMatchResult": "jobs.stack_match",
     "measured_eqe": "jobs.eqe", "EQEResult": "jobs.eqe",
-    "LayerStack": "design.layerstack", "load_stack": "design.layerstack", "bundled_stacks": "design.layerstack",
+    "LayerStack": "design.layerstack", "load_stack": "design.stack_files", "bundled_stacks": "design.stack_files",
     # absorbers, sites and spectra
     "Absorber": "optics.absorbers", "bundled_absorbers": "optics.absorber_files", "load_absorber": "optics.absorber_files",
     "parse_absorber": "optics.absorber_files",

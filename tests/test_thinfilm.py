@@ -12,8 +12,9 @@ from hypothesis import strategies as st
 import tandem
 from tandem.optics.database import database_index
 from tandem.design.matching import Conditions, StackDesign, subcell_currents
-from tandem.design.layerstack import (LayerStack, StackLayer, budget_currents,
-                               load_stack, match_in_stack, photon_budget)
+from tandem.design.layerstack import (LayerStack, StackLayer, budget_currents, match_in_stack,
+                                      photon_budget)
+from tandem.design.stack_files import load_stack
 from tandem.optics.thinfilm import Layer, stack_optics
 from tandem.core.units import HC_EV_NM
 
@@ -285,3 +286,21 @@ def test_an_optimum_on_the_edge_of_a_layer_sweep_is_flagged():
     assert result.match.best.others["ITO electrode"] == pytest.approx(60.0)
     assert any("ITO electrode: the best design sits at the edge of its sweep (60 nm"
                in n for n in result.match.notes)
+
+
+def test_the_four_terminal_optimum_is_refined_off_the_grid(am15g):
+    """The best four-terminal point is refined between its grid neighbours: it is at least the
+    grid's best and a local maximum in the front thickness (±0.1 % both lower)."""
+    from tandem.design.layerstack import _point
+    from tandem.physics.stack import IDEAL
+
+    stack = load_stack("wide-gap-on-silicon-wafer")
+    m = tandem.match_stack(stack, points=12).match
+    best = m.best_4t
+    on_grid = max(float(np.nanmax(g[3])) for g in m.grids)
+    assert best.efficiency_4t >= on_grid * (1 - 1e-12)
+    assert not np.any(np.isclose(best.front_thickness_nm, m.thicknesses_nm, rtol=1e-6))
+    for factor in (0.999, 1.001):
+        near = _point(stack, am15g, best.others, best.front_thickness_nm * factor, 298.15, 1.0,
+                      IDEAL, False)
+        assert near.efficiency_4t <= best.efficiency_4t

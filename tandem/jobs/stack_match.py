@@ -72,7 +72,7 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
     Parameters
     ----------
     stack : LayerStack or str
-        A stack description (:func:`tandem.design.layerstack.load_stack`): bundled name or .toml.
+        A stack description (:func:`tandem.design.stack_files.load_stack`): bundled name or .toml.
     light, operating : Light, OperatingPoint
         The spectrum; cell temperature, ERE, ideality and electrical options (flat optical
         losses do not apply: the stack's layers are the losses).
@@ -90,7 +90,8 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
     from dataclasses import replace
 
     from tandem.core.errors import TandemInputError
-    from tandem.design.layerstack import LayerStack, load_stack, match_in_stack
+    from tandem.design.layerstack import LayerStack, match_in_stack
+    from tandem.design.stack_files import load_stack
 
     stack = stack if isinstance(stack, LayerStack) else load_stack(stack)
     if not (isinstance(points, int) and 8 <= points <= 2000):

@@ -111,7 +111,7 @@ class Scenario:
 
     def stacks(self) -> dict:
         """The candidate layer stacks, parsed from their text (key -> LayerStack)."""
-        from tandem.design.layerstack import parse_stack
+        from tandem.design.stack_files import parse_stack
 
         out = {}
         with tempfile.TemporaryDirectory(prefix="tandem-stacks-") as tmp:

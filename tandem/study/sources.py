@@ -117,7 +117,7 @@ def _disk_stack(scenario_path: Path):
     bundled absorbers, constants or the database, so that its text alone re-runs it."""
     def load(entry: str, index: int):
         from tandem.core.files import bundled_dir
-        from tandem.design.layerstack import load_stack
+        from tandem.design.stack_files import load_stack
 
         local = scenario_path.parent / entry
         stack = load_stack(local if entry.endswith(".toml") else entry)

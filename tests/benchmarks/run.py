@@ -289,7 +289,8 @@ def case_f(rng):
           "matrix method, the wafer behind), 200 perovskite thicknesses")
     from threadpoolctl import threadpool_limits
 
-    from tandem.design.layerstack import load_stack, photon_budget
+    from tandem.design.layerstack import photon_budget
+    from tandem.design.stack_files import load_stack
 
     stack = load_stack("wide-gap-on-silicon-wafer")
     energy = tandem.reference_spectrum("am1.5g").photon_flux().energy
