@@ -77,7 +77,7 @@ def test_step_stacks_stay_inside_the_radiative_limit(gaps, ere_f, ere_b, idealit
     if electrical.coupling == 0:
         assert np.all(perf.v_2t_sub < np.array(gaps))
     elif np.any(perf.v_2t_sub > np.array(gaps) - kt):
-        with pytest.raises(tandem.TandemInputError, match="within kT of its gap"):
+        with pytest.raises(tandem.TandemInputError, match=r"within kT \(.*\) of its .* gap"):
             tandem.physics.checks.check_boltzmann_regime(perf, np.array(gaps), temperature, ["front", "back"])
     # (c) series never beats independent operation, with resistances too (four terminals
     # share the stack's R_s between their circuits and can reproduce the series point)

@@ -231,8 +231,9 @@ def junction_voltage(current, j_light, a, b, n, vt, ideal: bool, r_shunt: float 
     return v
 
 
-def _bisect(f, lo, hi, iterations: int = 80):
-    """Where the decreasing ``f`` crosses zero in [lo, hi] (f(lo) ≥ 0 ≥ f(hi)), elementwise."""
+def _bisect(f, lo, hi, iterations: int = 52):
+    """Where the decreasing ``f`` crosses zero in [lo, hi] (f(lo) ≥ 0 ≥ f(hi)), elementwise;
+    52 halvings leave 2⁻⁵² of the bracket, the resolution of a double."""
     for _ in range(iterations):
         mid = 0.5 * (lo + hi)
         above = f(mid) > 0
@@ -256,7 +257,8 @@ def _chain_maximum(chain_voltage, j_high, r_series: float):
     voc = terminal_voltage(zero)
     alive = voc > 0
     jsc = np.where(alive, _bisect(terminal_voltage, zero, j_high), 0.0)
-    j = db.golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc)
+    # 48 golden steps leave 0.618⁴⁸ ≈ 1e-10 of [0, Jsc]; P is flat there to ~1e-20 relative
+    j = db.golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc, iterations=48)
     v = terminal_voltage(j)
     dead = ~(j * v > 0)
     return (np.maximum(voc, 0.0), jsc, np.where(dead, 0.0, j), np.where(dead, 0.0, v))
@@ -311,7 +313,7 @@ def _coupled_four_terminal(cells: _Cells, electrical: Electrical):
 
     # the front's own terminal limits bound its current (no power outside [0, Jsc])
     _, _, _, voc_f, jsc_f = _own_mpp(front, jl[..., :1], electrical, 2)
-    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0])
+    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0], iterations=48)
     v, jb, vb, pb, voc_b, jsc_b = parts(jf)
     dead = ~(jf * v > 0)
     j, v = np.where(dead, 0.0, jf), np.where(dead, 0.0, v)
