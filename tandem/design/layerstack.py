@@ -241,7 +241,6 @@ def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):
 
         reference = budget_currents(budget, reference_flux_on(flux.energy), temperature_K,
                                     usable)[0]
-        reference = np.where(reference > 0, reference, j_light)
     perf = evaluate_stack(j_light, j0, temperature_K, flux.irradiance, ere, ideality, electrical,
                           stack.front.absorber.refractive_index, reference)
     return perf, parasitic, reflected, transmitted

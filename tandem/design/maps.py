@@ -99,7 +99,6 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
         reference = None
         if ref_f is not None and ref_b is not None:
             reference = db.Q * np.stack([ref_f[fi], ref_b[bi] - ref_f[fi]], axis=-1) * share
-            reference = np.where(reference > 0, reference, j_light)
         perf: StackPerformance = evaluate_stack(j_light, j0_rad, temperature_K,
                                                 photon_flux.irradiance, ere, ideality,
                                                 electrical or IDEAL, front_index, reference)

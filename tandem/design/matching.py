@@ -136,43 +136,39 @@ def subcell_currents(design: StackDesign, cond: Conditions, front_gap, front_thi
     energy times 1 − exp(−(α_f + 1/L_c)·d) (front) or exp(−α_f·d) (back), so the four
     integrals over energy are two matrix products with weight vectors.
     """
+    return design_currents(design, cond, front_gap, front_thickness_nm, back_thickness_nm,
+                           back_gap)[:2]
+
+
+def design_currents(design: StackDesign, cond: Conditions, front_gap, front_thickness_nm,
+                    back_thickness_nm, back_gap=None):
+    """:func:`subcell_currents` and, for an n ≠ 1 cell, the photocurrents under AM1.5G at
+    1 sun (where an absorber's ERE is stated, for its fixed non-radiative diode) from the same
+    optics: one more weight column in the same products. Returns (j_light, j0_rad, reference),
+    reference None for n = 1, whose ERE does not depend on light."""
     e, phi = cond.photon_flux.energy, cond.photon_flux.flux
     w = trapezoid_weights(e) * Q
-    bb = db.blackbody_photon_flux(e, cond.temperature_K)
+    weights = [w * phi, w * db.blackbody_photon_flux(e, cond.temperature_K)]
+    if cond.ideality != 1.0:
+        from tandem.physics.spectra import reference_flux_on
+
+        weights.append(w * reference_flux_on(e).flux)
     parts = stack_integrands(design, e, front_gap, back_thickness_nm, back_gap, cond.temperature_K)
     absorbed, transmitted = parts.transfer(front_thickness_nm)
-    front_int = absorbed @ np.stack([w * phi * parts.front_weight, w * bb * parts.front_weight], -1)
-    back_int = transmitted @ np.stack([w * phi * parts.back_weight, w * bb * parts.back_weight], -1)
-    j_light = np.stack([front_int[..., 0], back_int[..., 0]], axis=-1)
-    j0_rad = np.stack([front_int[..., 1], back_int[..., 1]], axis=-1)
-    return j_light, j0_rad
+    front_int = absorbed @ np.stack([x * parts.front_weight for x in weights], -1)
+    back_int = transmitted @ np.stack([x * parts.back_weight for x in weights], -1)
+    j_light, j0_rad, *reference = (np.stack([front_int[..., k], back_int[..., k]], axis=-1)
+                                   for k in range(len(weights)))
+    return j_light, j0_rad, reference[0] if reference else None
 
 
 def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_thickness_nm,
                       back_thickness_nm, back_gap=None) -> StackPerformance:
     """Two- and four-terminal performance for an array of front thicknesses."""
-    j_light, j0_rad = subcell_currents(design, cond, front_gap, front_thickness_nm,
-                                       back_thickness_nm, back_gap)
+    j_light, j0_rad, reference = design_currents(design, cond, front_gap, front_thickness_nm,
+                                                 back_thickness_nm, back_gap)
     return evaluate_design(design, j_light, j0_rad, cond.temperature_K,
-                           cond.photon_flux.irradiance, cond.ideality, cond.electrical,
-                           reference_currents(design, cond, front_gap, front_thickness_nm,
-                                              back_thickness_nm, back_gap))
-
-
-def reference_currents(design: StackDesign, cond: Conditions, front_gap, front_thickness_nm,
-                       back_thickness_nm, back_gap=None):
-    """The subcells' photocurrents under AM1.5G at 1 sun (where an absorber's ERE is stated),
-    on the conditions' grid, for an n ≠ 1 cell's fixed non-radiative diode; None for n = 1,
-    whose ERE does not depend on light."""
-    if cond.ideality == 1.0:
-        return None
-    from dataclasses import replace
-
-    from tandem.physics.spectra import reference_flux_on
-
-    ref = replace(cond, photon_flux=reference_flux_on(cond.photon_flux.energy))
-    return subcell_currents(design, ref, front_gap, front_thickness_nm, back_thickness_nm,
-                            back_gap)[0]
+                           cond.photon_flux.irradiance, cond.ideality, cond.electrical, reference)
 
 
 def evaluate_design(design: StackDesign, j_light, j0_rad, temperature_K, irradiance,
@@ -180,10 +176,8 @@ def evaluate_design(design: StackDesign, j_light, j0_rad, temperature_K, irradia
                     reference_j_light=None) -> StackPerformance:
     """The stack's electrical result from its subcells' currents: the absorbers' EREs, the
     front's refractive index (rear emission), the ideality and electrical options; an n ≠ 1
-    cell's non-radiative diode fixed at ``reference_j_light`` (see :func:`reference_currents`)."""
+    cell's non-radiative diode fixed at ``reference_j_light`` (see :func:`design_currents`)."""
     ere = np.array([design.front.ere, design.back.ere])
-    if reference_j_light is not None:
-        reference_j_light = np.where(reference_j_light > 0, reference_j_light, j_light)
     return evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere, ideality, electrical,
                           design.front.refractive_index, reference_j_light)
 

@@ -11,8 +11,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from tandem.design.matching import (Conditions, StackDesign, evaluate_design, reference_currents,
-                                    stack_performance, subcell_currents)
+from tandem.design.matching import (Conditions, StackDesign, design_currents, evaluate_design,
+                                    stack_performance)
 from tandem.core.errors import TandemInputError
 
 
@@ -69,13 +69,11 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
     for start in range(0, samples, chunk):
         sl = slice(start, start + chunk)
         # optics per sample (each has its own gap), the engine once per chunk
-        currents = [subcell_currents(design, cond, g, d, back_thickness_nm)
+        currents = [design_currents(design, cond, g, d, back_thickness_nm)
                     for g, d in zip(gaps[sl], thick[sl])]
         jl = np.array([c[0] for c in currents])
         j0 = np.array([c[1] for c in currents])
-        reference = (None if cond.ideality == 1.0 else
-                     np.array([reference_currents(design, cond, g, d, back_thickness_nm)
-                               for g, d in zip(gaps[sl], thick[sl])]))
+        reference = None if cond.ideality == 1.0 else np.array([c[2] for c in currents])
         perf = evaluate_design(design, jl, j0, cond.temperature_K, cond.photon_flux.irradiance,
                                cond.ideality, cond.electrical, reference)
         e2[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_4t

@@ -154,8 +154,6 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
     total = j0[..., 1] / design.back.ere + j0_rear
     j0[..., 1] += j0_rear
     ere[..., 1] = j0[..., 1] / total
-    if reference is not None:  # the rear's light is not part of where the ERE is stated
-        reference = np.where(reference > 0, reference, jl)
     perf = evaluate_stack(jl, j0, t_cell, 1.0, ere, ideality, electrical,
                           design.front.refractive_index, reference)
     return perf, jl

@@ -351,7 +351,8 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
         :func:`~tandem.physics.spectra.reference_flux_on`) [A/m²]. The non-radiative diode
         of an n ≠ 1 cell is fixed there, so under other light its ERE follows (an n = 2 cell's
         Voc moves by n·kT/q·ln 10 per decade of light at low ERE). None: the ERE holds at
-        ``j_light`` itself. With n = 1 the ERE does not depend on light and this is unused.
+        ``j_light`` itself, as it is where the reference is not positive. With n = 1 the ERE
+        does not depend on light and this is unused.
 
     Notes
     -----
@@ -393,8 +394,9 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
         cells = _Cells(j_light, j0_rad / ere + j0_rear, np.zeros(shape), 1.0, vt, gain, True,
                        r_shunt)
     else:
-        at = j_light if reference_j_light is None else np.broadcast_to(
-            np.asarray(reference_j_light, dtype=float), shape)
+        # no reference light (a gap above AM1.5G's range): the ERE holds where it is used
+        at = j_light if reference_j_light is None else np.where(
+            np.asarray(reference_j_light, dtype=float) > 0, reference_j_light, j_light)
         j0_nr = db.nonradiative_saturation_current(at, j0_rad, ere, ideality)
         ideal = not np.any(j0_nr > 0)  # ERE = 1: no non-radiative diode at all
         cells = _Cells(j_light, j0_rad + j0_rear, j0_nr, float(ideality), vt, gain, ideal,
@@ -454,16 +456,15 @@ def _series_general(cells: _Cells, electrical: Electrical):
 
 def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0,
                electrical: Electrical = IDEAL, front_index: float = DEFAULT_FRONT_INDEX,
-               absorbed_share=1.0, ere_at_reference: bool = True):
+               absorbed_share=1.0):
     """Detailed-balance stacks of step absorbers; ``gaps`` has subcells on its last axis.
 
     Each subcell absorbs every photon between its own gap and the gap of the cell in front
     of it, and by reciprocity emits (radiatively) in the same band (De Vos 1980).
     ``ere`` broadcasts against ``gaps`` (one value, or one per subcell). ``absorbed_share``
     (per subcell) scales each subcell's absorptance for flat optical losses; by reciprocity it
-    scales its photocurrent and its radiative J0 alike. With ``ere_at_reference`` an n ≠ 1
-    cell's non-radiative diode is fixed where the ERE is stated, under AM1.5G at 1 sun
-    (see :func:`evaluate_stack`).
+    scales its photocurrent and its radiative J0 alike. An n ≠ 1 cell's non-radiative diode
+    is fixed where the ERE is stated, under AM1.5G at 1 sun (see :func:`evaluate_stack`).
 
     Examples
     --------
@@ -482,15 +483,13 @@ def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1
     j_light = db.step_photocurrent(photon_flux, gaps, upper_finite, cumulative) * share
     j0_rad = db.step_radiative_dark_current(gaps, temperature_K, upper) * share
     reference = None
-    if ere_at_reference and ideality != 1.0:
+    if ideality != 1.0:
         from tandem.physics.spectra import reference_flux
 
         ref = reference_flux()  # on its own grid: step photocurrents exact
         top = np.where(np.isinf(upper), ref.energy[-1], np.minimum(upper, ref.energy[-1]))
         at = np.minimum(gaps, ref.energy[-1])
         reference = np.where(at < top, db.step_photocurrent(ref, at, top), 0.0) * share
-        # a gap above AM1.5G's range has no reference light: its ERE holds where it is used
-        reference = np.where(reference > 0, reference, j_light)
     return evaluate_stack(j_light, j0_rad, temperature_K, photon_flux.irradiance, ere, ideality,
                           electrical, front_index, reference)
 
