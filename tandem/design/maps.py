@@ -11,7 +11,7 @@ from tandem.design.matching import matched_thickness, check_design_inputs, stack
 from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import PhotonFlux
 from tandem.physics import detailed_balance as db
-from tandem.physics.stack import IDEAL, StackPerformance, evaluate_stack
+from tandem.physics.stack import IDEAL, StackPerformance, evaluate_stack, reference_current_above
 from tandem.core.units import K_B_EV
 
 #: Default map ranges (low, high, step) [eV]: wide-gap fronts over the usual back-cell gaps.
@@ -85,12 +85,7 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
     share = np.broadcast_to(np.asarray(absorbed_share, dtype=float), (2,))
     ref_f = ref_b = None
     if ideality != 1.0:  # an n ≠ 1 cell's non-radiative diode is fixed under AM1.5G, 1 sun
-        from tandem.physics.spectra import reference_flux
-
-        ref = reference_flux()
-        top = ref.energy[-1]
-        ref_f = db.flux_above(ref.energy, ref.flux, np.minimum(front_gaps, top))
-        ref_b = db.flux_above(ref.energy, ref.flux, np.minimum(back_gaps, top))
+        ref_f, ref_b = reference_current_above(front_gaps), reference_current_above(back_gaps)
     for start in range(0, len(pairs), chunk):
         sl = slice(start, start + chunk)
         fi, bi = i_front[sl], i_back[sl]
@@ -98,7 +93,7 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
         j0_rad = np.stack([j0_f[fi], j0_b[bi] - j0_f[fi]], axis=-1) * share
         reference = None
         if ref_f is not None and ref_b is not None:
-            reference = db.Q * np.stack([ref_f[fi], ref_b[bi] - ref_f[fi]], axis=-1) * share
+            reference = np.stack([ref_f[fi], ref_b[bi] - ref_f[fi]], axis=-1) * share
         perf: StackPerformance = evaluate_stack(j_light, j0_rad, temperature_K,
                                                 photon_flux.irradiance, ere, ideality,
                                                 electrical or IDEAL, front_index, reference)

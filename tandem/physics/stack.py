@@ -454,6 +454,16 @@ def _series_general(cells: _Cells, electrical: Electrical):
     return j, v, j * v, v_sub, voc, jsc
 
 
+def reference_current_above(gap_eV) -> np.ndarray:
+    """q∫Φ dE above each gap under AM1.5G at 1 sun, on its own grid (exact for its
+    piecewise-linear flux) [A/m²]: a step absorber's photocurrent where its ERE is stated.
+    Zero for a gap at or above the spectrum's top (infinity included)."""
+    from tandem.physics.spectra import reference_flux
+
+    ref = reference_flux()
+    return db.Q * db.flux_above(ref.energy, ref.flux, np.minimum(gap_eV, ref.energy[-1]))
+
+
 def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0,
                electrical: Electrical = IDEAL, front_index: float = DEFAULT_FRONT_INDEX,
                absorbed_share=1.0):
@@ -483,13 +493,8 @@ def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1
     j_light = db.step_photocurrent(photon_flux, gaps, upper_finite, cumulative) * share
     j0_rad = db.step_radiative_dark_current(gaps, temperature_K, upper) * share
     reference = None
-    if ideality != 1.0:
-        from tandem.physics.spectra import reference_flux
-
-        ref = reference_flux()  # on its own grid: step photocurrents exact
-        top = np.where(np.isinf(upper), ref.energy[-1], np.minimum(upper, ref.energy[-1]))
-        at = np.minimum(gaps, ref.energy[-1])
-        reference = np.where(at < top, db.step_photocurrent(ref, at, top), 0.0) * share
+    if ideality != 1.0:  # each band's photons under AM1.5G, where the ERE is stated
+        reference = (reference_current_above(gaps) - reference_current_above(upper)) * share
     return evaluate_stack(j_light, j0_rad, temperature_K, photon_flux.irradiance, ere, ideality,
                           electrical, front_index, reference)
 
