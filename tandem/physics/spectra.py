@@ -337,7 +337,7 @@ def blackbody_sun(
     max_x = 1.0 / dilution
     if not 0 < concentration <= max_x * (1 + 1e-9):
         raise TandemInputError(
-            f"concentration {concentration:g}: must lie in (0, {max_x:,.0f}] (the thermodynamic "
+            f"concentration {concentration:g}: must lie in (0, {max_x:,.1f}] (the thermodynamic "
             "maximum 1/f); give a smaller concentration"
         )
     kt = K_B_EV * temperature_K
@@ -469,7 +469,7 @@ def load_spectrum(
         # étendue: no optic concentrates sunlight beyond 1/f (the sun's solid angle, π sr over
         # ≈ 6.8e-5 sr); any spectrum of direct sunlight, not only a blackbody
         raise TandemInputError(f"concentration {concentration:g}: above the thermodynamic "
-                               f"maximum {max_x:,.0f}× for sunlight (the sun's solid angle "
+                               f"maximum {max_x:,.1f}× for sunlight (the sun's solid angle "
                                "fills the whole hemisphere there); give at most that")
     key = str(source).lower()
     if key == "blackbody":
