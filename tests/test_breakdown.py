@@ -97,6 +97,8 @@ def test_real_cells_show_optical_nonradiative_and_resistive_losses():
        ideality=st.sampled_from([1.0, 1.5, 2.0]), terminals=st.sampled_from([2, 4]),
        rs=st.sampled_from([0.0, 0.5, 3.0, 100.0]), rsh=st.sampled_from([np.inf, 1e4, 50.0, 2.0]),
        temperature=st.floats(260.0, 360.0))
+@example(front=1.40625, back=0.75, ere=-6.0, ideality=2.0, terminals=2, rs=0.0, rsh=np.inf,
+         temperature=342.0)  # the series search drove the back past its photocurrent
 def test_the_parts_always_add_up_and_losses_are_losses(front, back, ere, ideality, terminals, rs,
                                                       rsh, temperature):
     r = tandem.limit([front, back], operating=tandem.OperatingPoint(

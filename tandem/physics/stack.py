@@ -437,13 +437,19 @@ def _series_general(cells: _Cells, electrical: Electrical):
 
     The chain's terminal voltage at current J is Σ V_j,i(J) − J·R_s, each junction voltage
     with its own shunt (and the back's extra light from coupling); see :func:`_chain_maximum`.
-    Past every subcell's photocurrent (the back's with the most coupling can give, the front
-    at open circuit) every junction is reverse-biased, which bounds the search.
+    The search runs up to the limiting photocurrent without shunts (the back's with the most
+    coupling can give, the front at open circuit), and with shunts past every photocurrent,
+    where every junction is reverse-biased.
     """
     jl = cells.j_light
-    j_high = np.max(jl, axis=-1)
-    if jl.shape[-1] == 2:
-        j_high = np.maximum(j_high, jl[..., 1] + cells.back_gain(cells.voltage(0, 0.0)))
+    photocurrents = [jl[..., i] for i in range(jl.shape[-1])]
+    if len(photocurrents) == 2:  # the back's with the most the coupling can give
+        photocurrents[1] = photocurrents[1] + cells.back_gain(cells.voltage(0, 0.0))
+    # Without shunts no junction carries more than its photocurrent (the diode saturates in
+    # reverse; the fast ideal path caps there too), so the limiting one bounds the search;
+    # a shunt lets the others drive current through it, up to past every photocurrent.
+    stacked = np.stack(photocurrents, axis=-1)
+    j_high = stacked.max(axis=-1) if math.isfinite(cells.r_shunt) else stacked.min(axis=-1)
 
     def chain_voltage(j):
         return np.sum(cells.series_voltages(j), axis=-1)
