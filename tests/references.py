@@ -29,7 +29,7 @@ def dense_yield(design, series, gaps, thicknesses, back_thickness_nm):
     each step's own temperature, with the tool's bins and optics but no reduced basis and no
     J0 interpolation."""
     from tandem.physics import detailed_balance as db
-    from tandem.design.matching import evaluate_design, stack_integrands
+    from tandem.design.matching import design_bulk, evaluate_design, stack_integrands
     from tandem.physics.spectra import to_energy, trapezoid_weights
     from tandem.core.units import HC_EV_NM, Q
     from tandem.design.yields import _bins
@@ -48,6 +48,8 @@ def dense_yield(design, series, gaps, thicknesses, back_thickness_nm):
             fw, bw = w * parts.front_weight, w * parts.back_weight
             jl = np.stack([a @ (dense[idx] * fw).T, t @ (dense[idx] * bw).T], -1)
             j0 = np.stack([a @ (bb * fw).T, t @ (bb * bw).T], -1)
-            perf = evaluate_design(design, jl, j0, t_cell, 1.0)
+            bulk = design_bulk(design, g, np.asarray(thicknesses, dtype=float)[:, None],
+                               back_thickness_nm, t_cell)
+            perf = evaluate_design(design, jl, j0, t_cell, 1.0, bulk=bulk)
             e2[i] += perf.p_2t @ series.step_hours[idx] / 1000
     return e2

@@ -13,7 +13,7 @@ import functools
 
 import numpy as np
 import pytest
-from hypothesis import assume, given
+from hypothesis import settings, assume, given
 from hypothesis import strategies as st
 
 import tandem
@@ -57,6 +57,9 @@ def photon_current_between(flux, lo, hi=np.inf):
                 - (0.0 if np.isinf(hi) else db.flux_above(flux.energy, flux.flux, hi)))
 
 
+# a quarter of the profile's examples: a third of them (concentrated light) solve the exact
+# Bose–Einstein emission, seconds each with coupling; the thorough profile still runs 2,500
+@settings(max_examples=max(50, settings.default.max_examples // 4))
 @given(gaps=gap_pairs, ere_f=eres, ere_b=eres, ideality=idealities, temperature=temperatures,
        light=spectra, electrical=electricals, front_index=st.floats(1.0, 4.0))
 def test_step_stacks_stay_inside_the_radiative_limit(gaps, ere_f, ere_b, ideality, temperature,
@@ -69,16 +72,10 @@ def test_step_stacks_stay_inside_the_radiative_limit(gaps, ere_f, ere_b, idealit
     # (a) below the four-terminal radiative limit of the same gaps
     assert perf.p_2t <= limit.p_4t * (1 + RTOL)
     assert perf.p_4t <= limit.p_4t * (1 + RTOL)
-    # (b) each subcell's Voc below its gap; at the series operating point too, except where a
-    # coupled back cell is pumped into the degenerate regime (qV within kT of Eg), which the
-    # design functions refuse (test_thermodynamics) rather than print
+    # (b) each subcell's voltage below its gap, at open circuit and at both operating points,
+    # a coupled back cell pumped towards degeneracy included (the exact emission bounds it)
     assert np.all(perf.voc < np.array(gaps))
-    kt = tandem.core.units.K_B_EV * temperature
-    if electrical.coupling == 0:
-        assert np.all(perf.v_2t_sub < np.array(gaps))
-    elif np.any(perf.v_2t_sub > np.array(gaps) - kt):
-        with pytest.raises(tandem.TandemInputError, match=r"within kT \(.*\) of its .* gap"):
-            tandem.physics.checks.check_boltzmann_regime(perf, np.array(gaps), temperature, ["front", "back"])
+    assert np.all(perf.v_2t_sub < np.array(gaps)) and np.all(perf.v_own < np.array(gaps))
     # (c) series never beats independent operation, with resistances too (four terminals
     # share the stack's R_s between their circuits and can reproduce the series point)
     assert perf.p_2t <= perf.p_4t * (1 + RTOL)

@@ -99,3 +99,14 @@ def test_electrical_options_move_the_result_the_right_way():
     assert coupled["efficiency_pct"] > base["efficiency_pct"] > resistive["efficiency_pct"]
     res = run("limit", "1.34", "--shunt-resistance", "0")
     assert res.exit_code == 2 and "shunt resistance 0" in res.stderr
+
+
+def test_full_concentration_is_computed_below_the_gap():
+    # De Vos 1980: 40.7–40.8 % near 1.1 eV at full concentration (recalled); the exact emission
+    # keeps Voc below the gap, where the Boltzmann diode used to pass it and the command refused
+    res = run("limit", "1.1", "-s", "blackbody", "--temperature", "300K", "--concentration",
+              "46238.8", "--json")
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    assert data["efficiency_pct"] == pytest.approx(40.75, abs=0.1)
+    assert 1.099 < data["voc_V"] <= 1.1

@@ -41,8 +41,7 @@ def test_de_vos_1980_blackbody_one_sun():
 
 def test_de_vos_1980_blackbody_full_concentration():
     # De Vos 1980: 40.7–40.8 % near 1.1 eV at X = 1/f; 0.15 % absolute around 40.75 %.
-    # (The efficiency agrees; the Boltzmann diode's Voc there exceeds the gap, so the
-    # commands refuse to print such points: test_thermodynamics.)
+    # The exact (Bose–Einstein) emission, as the step engine uses near the gap (test_emission).
     flux = tandem.blackbody_sun(6000.0, concentration=1 / SUN_DILUTION).photon_flux()
     gap, eff = best_single_junction(flux, np.arange(0.9, 1.4, 0.005))
     assert eff == pytest.approx(40.75, abs=0.15)

@@ -58,7 +58,7 @@ CASES = [
     ("limit", "1.34", "-s", "blackbody", "--sun-temperature", "1"),
     ("limit", "1.34", "-s", "blackbody", "--sun-temperature", "1e300"),
     ("limit", "1.34", "-s", "blackbody", "--concentration", "1e6"),
-    ("limit", "1.1", "-s", "blackbody", "--concentration", "46238"),
+    ("limit", "1.1", "-s", "blackbody", "--concentration", "46239"),  # above 1/f
     ("limit", "1.34", "--coupling", "2"), ("limit", "1.34", "--coupling", "-1"),
     ("limit", "1.34", "--series-resistance", "-1"), ("limit", "1.34", "--series-resistance", "inf"),
     ("limit", "1.34", "--shunt-resistance", "0"), ("limit", "1.34", "--front-index", "0.5"),

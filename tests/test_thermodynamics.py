@@ -172,21 +172,22 @@ def test_a_subcell_without_light_is_refused(tmp_path, am15g):
     assert "front subcell uv at 4.300 eV" in res.stderr and "Traceback" not in res.stderr
 
 
-def test_a_back_cell_pumped_to_its_gap_is_refused():
-    # a 0.5 eV back under a fully coupled 3 eV front at 1000 blackbody suns would be driven
-    # into degeneracy; the Boltzmann diode cannot describe it, so the limit says so
+def test_a_back_cell_pumped_towards_its_gap_stays_below_it():
+    # a 0.5 eV back under a fully coupled 3 eV front at 1000 blackbody suns is driven towards
+    # degeneracy; the Boltzmann diode would put it past its gap, the exact emission cannot
     flux = tandem.blackbody_sun(6000.0, 1000.0).photon_flux()
     from tandem.physics.stack import Electrical
-    with pytest.raises(tandem.TandemInputError, match=r"within kT \(.*\) of its 0.500 eV gap"):
-        tandem.detailed_balance_limit([3.0, 0.5], flux, 2, 250.0,
-                                      electrical=Electrical(1.0, 1.0), front_index=2.0)
-    # at full concentration even a single junction's Boltzmann Voc passes its gap (1.145 V at
-    # 1.1 eV): refused, never printed
+    result = tandem.detailed_balance_limit([3.0, 0.5], flux, 2, 250.0,
+                                           electrical=Electrical(1.0, 1.0), front_index=2.0)
+    assert np.all(result.performance.v_2t_sub < np.array([3.0, 0.5]))
+    assert np.all(result.performance.voc < np.array([3.0, 0.5]))
+    # at full concentration a single junction's Boltzmann Voc would pass its gap (1.145 V at
+    # 1.1 eV); the exact law leaves it just below
     full = tandem.blackbody_sun(6000.0, 1 / tandem.core.units.SUN_DILUTION).photon_flux()
-    with pytest.raises(tandem.TandemInputError, match="at open circuit, within kT"):
-        tandem.detailed_balance_limit([1.1], full, temperature_K=300.0)
+    single = tandem.detailed_balance_limit([1.1], full, temperature_K=300.0)
+    assert 1.1 - 1e-3 < float(single.performance.voc[0]) < 1.1
     gap_map = tandem.design.maps.step_gap_map(full, np.array([1.8, 2.0]), np.array([1.0, 1.1]), 300.0)
-    assert np.all(np.isnan(gap_map.voc_2t) | (gap_map.voc_2t < 2.8))
+    assert np.all(gap_map.voc_2t < np.array([[2.8, 2.9], [3.0, 3.1]]))
 
 
 def test_a_map_near_full_concentration_keeps_its_optimum():

@@ -103,7 +103,13 @@ def show_absorber(name: str, plot, overwrite: bool, json_out: bool) -> None:
     if json_out:
         emit_json(s)
     else:
-        rows = [(k, v) for k, v in s.items() if k not in ("sources", "alpha_per_cm")]
+        rows: list[tuple[str, object]] = []
+        for k, v in s.items():
+            if k in ("sources", "alpha_per_cm"):
+                continue
+            # a nested group (the Auger parameters) as one row per field
+            rows += ([(f"{k}: {kk}", vv) for kk, vv in v.items() if vv is not None]
+                     if isinstance(v, dict) else [(k, v)])
         rows += [(f"α at {wl}", f"{v:.3g} cm⁻¹") for wl, v in s["alpha_per_cm"].items()]
         rows += [(f"source: {k}", v) for k, v in s["sources"].items()]
         out.print(render_table(f"{a.name} ({a.key})", [("field", lambda r: r[0]),

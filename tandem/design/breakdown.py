@@ -11,14 +11,18 @@ E_g,i, its EQE in the stack, photocurrent J_L,i, current J_i and junction voltag
 - optical loss: ∫_{E≥E_g,back} E·Φ·(1 − ΣEQE) dE — reflected, parasitic, transmitted,
   not collected;
 - thermalisation: Σ ∫ (E − E_g,i)·Φ·EQE_i dE — carriers relaxing to the band edges;
-- emission: Σ E_g,i·J_rad,i/q, J_rad = J0,rad·(e^{qV_j/kT} − 1) — radiative recombination;
-- non-radiative recombination: Σ E_g,i·J_nr,i/q, J_nr = J_L − J − J_rad − J_sh;
+- emission: Σ E_g,i·J_rad,i/q, J_rad = J0,rad·(e^{qV_j/kT} − 1) — radiative recombination
+  (for step absorbers close to their gap, the exact Bose–Einstein emission the engine used);
+- non-radiative recombination: Σ E_g,i·J_nr,i/q, J_nr = J_L − J − J_rad − J_sh (defects and,
+  where an absorber states it, Auger recombination in its bulk);
 - shunt: Σ E_g,i·J_sh,i/q, J_sh = V_j/R_sh — carriers lost through each junction's shunt;
 - Carnot and Boltzmann (the radiative voltage deficit): Σ (E_g,i − qV_oc,rad,i)·J_i/q with
-  qV_oc,rad = kT·ln(J_L/J0,rad + 1); under a blackbody sun split into Carnot E_g·T_c/T_s,
+  qV_oc,rad = kT·ln(J_L/J0,rad + 1) (from the exact Bose–Einstein emission where the engine
+  used it, close to the gap); under a blackbody sun split into Carnot E_g·T_c/T_s,
   Boltzmann kT_c·ln(Ω_emit/Ω_sun), and two gains (negative rows, named as gains): the
   hot-sun gain −kT_c·ln(T_s/T_c) and the photon-spread gain, the rest (for a step absorber
-  with Boltzmann statistics −kT_c·ln(P(T_s)/P(T_c)), P(T) = E_g² + 2E_g·kT + 2(kT)²);
+  with Boltzmann statistics −kT_c·ln(P(T_s)/P(T_c)), P(T) = E_g² + 2E_g·kT + 2(kT)²), and,
+  where the exact emission was used, its extra loss Σ (V_oc,rad,Boltzmann − V_oc,rad)·J_i;
 - non-radiative voltage loss: Σ (V_oc,rad,i − V_oc,i)·J_i, V_oc of the junction (no shunt);
 - operating point: Σ (V_oc,i − V_j,i)·J_i — the drop from open circuit to the operating
   voltage (for a two-terminal stack this holds the cost of current mismatch: the subcell
@@ -45,7 +49,7 @@ import numpy as np
 from tandem.physics import detailed_balance as db
 from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import trapezoid_weights
-from tandem.physics.stack import Electrical, StackPerformance
+from tandem.physics.stack import Electrical, StackPerformance, junction_voltage
 from tandem.core.units import K_B_EV, SUN_DILUTION
 
 
@@ -130,14 +134,21 @@ def loss_breakdown(energy, flux, irradiance: float, eqe, gaps_eV, perf: StackPer
         resistive = float(np.sum(j**2) * rs / m)
     j0_rad = np.asarray(perf.j0_radiative, float)
     j_rad = j0_rad * np.expm1(v_j / vt)
+    extra = tuple(x for x in (perf.bulk, perf.emission) if x is not None)
+    if perf.emission is not None:  # the exact emission's excess where the engine used it
+        j_rad = j_rad + perf.emission.current(v_j, vt)
     r_sh = electrical.shunt_resistance_ohm_cm2 * 1e-4
     j_sh = v_j / r_sh if np.isfinite(r_sh) else np.zeros_like(v_j)
     j_nr = j_l - j - j_rad - j_sh
-    voc_rad = vt * np.log1p(j_l / j0_rad)
+    voc_rad_boltzmann = vt * np.log1p(j_l / j0_rad)
+    voc_rad = voc_rad_boltzmann if perf.emission is None else junction_voltage(
+        0.0, j_l, j0_rad, 0.0, 1.0, vt, True, extra=(perf.emission,))
     # the junction's open circuit without the shunt (whose loss is its own step)
-    voc = db.two_diode_voltage(0.0, j_l, j0_rad, np.asarray(perf.j0_nonradiative, float),
-                               perf.ideality, temperature_K)
+    voc = junction_voltage(0.0, j_l, j0_rad, np.asarray(perf.j0_nonradiative, float),
+                           perf.ideality, vt, False, extra=extra)
     deficit = float(np.sum((gaps - voc_rad) * j))
+    # the exact law emits more than the Boltzmann form near the gap: its own (≥ 0) step
+    degeneracy = float(np.sum((voc_rad_boltzmann - voc_rad) * j))
     steps = [
         LossStep("below the gaps", "∫_{E<Eg,back} E·Φ·(1 − ΣEQE) dE", below),
         LossStep("optical loss above the gaps", "∫_{E≥Eg,back} E·Φ·(1 − ΣEQE) dE", optical),
@@ -162,11 +173,16 @@ def loss_breakdown(energy, flux, irradiance: float, eqe, gaps_eV, perf: StackPer
                   LossStep("hot-sun gain (negative: a gain)", "−Σ kT·ln(T_sun/T_cell)·J_i/q",
                            hot_sun),
                   LossStep("photon-spread gain (negative: a gain)",
-                           "Σ (Eg,i − qVoc,rad,i)·J_i/q − Carnot − Boltzmann − hot-sun gain",
-                           deficit - carnot - boltzmann - hot_sun)]
+                           "Σ (Eg,i − qVoc,rad,i)·J_i/q − Carnot − Boltzmann − hot-sun gain, "
+                           "Voc,rad of the Boltzmann form",
+                           deficit - degeneracy - carnot - boltzmann - hot_sun)]
+        if perf.emission is not None:
+            steps.append(LossStep("Bose–Einstein emission near the gap",
+                                  "Σ (Voc,rad,Boltzmann − Voc,rad,exact)·J_i", degeneracy))
     else:
         steps.append(LossStep("Carnot and Boltzmann (radiative voltage deficit)",
-                              "Σ (Eg,i − qVoc,rad,i)·J_i/q, qVoc,rad = kT·ln(J_L/J0,rad + 1)",
+                              "Σ (Eg,i − qVoc,rad,i)·J_i/q, qVoc,rad = kT·ln(J_L/J0,rad + 1) "
+                              "(exact emission near the gap)",
                               deficit))
     p_out = float(np.sum(v_j * j)) - resistive
     steps += [

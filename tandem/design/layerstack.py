@@ -30,6 +30,7 @@ from tandem.physics import detailed_balance as db
 from tandem.optics.absorbers import Absorber
 from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import trapezoid_weights
+from tandem.physics.recombination import stack_bulk
 from tandem.physics.stack import evaluate_stack
 from tandem.optics.thinfilm import Layer, index_from_alpha, stack_optics
 from tandem.core.units import HC_EV_NM, Q
@@ -125,6 +126,7 @@ class PhotonBudget:
     parasitic: dict  #: layer name → absorbed in that layer
     reflected: np.ndarray  #: reflected, plus what escapes a Lambertian wafer
     transmitted: np.ndarray  #: out through the exit medium
+    thickness_nm: tuple = (None, None)  #: (front (n_d,), back) absorber thicknesses [nm]
 
 
 def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | None = None,
@@ -163,9 +165,11 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
             reflected, transmitted = reflected + rest, np.zeros(shape)  # escapes at the front
     parasitic = {x.name: np.broadcast_to(absorbed[x.name], shape) for x in stack.layers
                  if x.role == "parasitic"}
+    back = stack.back
     return PhotonBudget(e, np.broadcast_to(absorbed[stack.front.name], shape),
                         np.broadcast_to(absorbed[stack.back.name], shape), parasitic,
-                        reflected, transmitted)
+                        reflected, transmitted,
+                        (d_front[:, 0], others.get(back.name, back.thickness_nm)))
 
 
 def budget_currents(budget: PhotonBudget, flux, temperature_K: float, usable_from_eV: float = 0.0):
@@ -242,8 +246,19 @@ def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):
         reference = budget_currents(budget, reference_flux_on(flux.energy), temperature_K,
                                     usable)[0]
     perf = evaluate_stack(j_light, j0, temperature_K, flux.irradiance, ere, ideality, electrical,
-                          stack.front.absorber.refractive_index, reference)
+                          stack.front.absorber.refractive_index, reference,
+                          _bulk(stack, budget.thickness_nm, temperature_K))
     return perf, parasitic, reflected, transmitted
+
+
+def _bulk(stack, thickness_nm, temperature_K):
+    """Auger recombination of the stack's absorbers at their thicknesses (None without)."""
+    layers = (stack.front, stack.back)
+    if all(x.absorber.bulk is None for x in layers):
+        return None
+    gaps = [x.absorber.bulk_gaps(x.gap_eV, temperature_K) for x in layers]
+    return stack_bulk([x.absorber.bulk for x in layers], thickness_nm, [g[0] for g in gaps],
+                      [g[1] for g in gaps], temperature_K)
 
 
 def _point(stack, flux, others, d, temperature_K, ideality, electrical, matched):
@@ -316,7 +331,8 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
     axes = [[(x.name, float(v)) for v in np.geomspace(*(x.sweep_nm or (0.0, 0.0)), x.points)]
             for x in stack.swept]  # a swept layer always has its range
     combos = [dict(c) for c in itertools.product(*axes)] if axes else [{}]
-    notes = []
+    notes = [n for n in (x.absorber.bulk_note() for x in (stack.front, stack.back)
+                         if x.absorber is not None) if n]
     usable = flux.flux * trapezoid_weights(flux.energy) * (
         flux.energy >= usable_from_eV(stack, temperature_K))
     for x in stack.layers:  # tables held constant beyond their ends: said where it matters

@@ -11,8 +11,8 @@ from tandem.design.matching import matched_thickness, check_design_inputs, stack
 from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import PhotonFlux
 from tandem.physics import detailed_balance as db
+from tandem.physics.emission import StepEmission
 from tandem.physics.stack import IDEAL, StackPerformance, evaluate_stack, reference_current_above
-from tandem.core.units import K_B_EV
 
 #: Default map ranges (low, high, step) [eV]: wide-gap fronts over the usual back-cell gaps.
 DEFAULT_FRONT = (1.40, 2.30, 0.01)
@@ -94,21 +94,18 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
         reference = None
         if ref_f is not None and ref_b is not None:
             reference = np.stack([ref_f[fi], ref_b[bi] - ref_f[fi]], axis=-1) * share
+        gaps = pairs[sl]
+        emission = StepEmission.at(gaps, np.stack([np.full(len(gaps), np.inf), gaps[:, 0]], -1),
+                                   share, temperature_K)
         perf: StackPerformance = evaluate_stack(j_light, j0_rad, temperature_K,
                                                 photon_flux.irradiance, ere, ideality,
-                                                electrical or IDEAL, front_index, reference)
-        # values computed within kT of a gap are outside the Boltzmann diode (see
-        # checks.check_boltzmann_regime): left blank, never printed; an efficiency needs only
-        # its operating point to be clear, a Voc its open circuit
-        kt = K_B_EV * float(temperature_K)
-        near = pairs[sl] - kt
-        at_2t = np.any(perf.v_2t_sub > near, axis=-1)
-        at_4t = np.any(perf.v_own > near, axis=-1)
-        out["e2"][sl] = np.where(at_2t, np.nan, perf.efficiency_2t)
-        out["e4"][sl] = np.where(at_4t, np.nan, perf.efficiency_4t)
+                                                electrical or IDEAL, front_index, reference,
+                                                emission=emission)
+        out["e2"][sl] = perf.efficiency_2t
+        out["e4"][sl] = perf.efficiency_4t
         out["jf"][sl] = perf.j_light[:, 0]
         out["jb"][sl] = perf.j_light[:, 1]
-        out["voc"][sl] = np.where(np.any(perf.voc > near, axis=-1), np.nan, perf.voc_2t)
+        out["voc"][sl] = perf.voc_2t
         if progress:
             progress(min(start + chunk, len(pairs)), len(pairs))
     for k in fields:

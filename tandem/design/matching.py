@@ -20,6 +20,7 @@ from tandem.optics.absorptance import NM_TO_CM, StackOptics, stack_optics
 from tandem.physics.spectra import PhotonFlux, trapezoid_weights
 from tandem.physics.stack import IDEAL, SUBCELL_NAMES, Electrical, StackPerformance, evaluate_stack
 from tandem.physics.checks import check_receives_light
+from tandem.physics.recombination import BulkRecombination, stack_bulk
 from tandem.core.units import Q, T_STC
 
 Progress = Callable[[int, int], None]
@@ -167,19 +168,38 @@ def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_th
     """Two- and four-terminal performance for an array of front thicknesses."""
     j_light, j0_rad, reference = design_currents(design, cond, front_gap, front_thickness_nm,
                                                  back_thickness_nm, back_gap)
+    bulk = design_bulk(design, front_gap, front_thickness_nm, back_thickness_nm,
+                       cond.temperature_K)
     return evaluate_design(design, j_light, j0_rad, cond.temperature_K,
-                           cond.photon_flux.irradiance, cond.ideality, cond.electrical, reference)
+                           cond.photon_flux.irradiance, cond.ideality, cond.electrical, reference,
+                           bulk)
+
+
+def design_bulk(design: StackDesign, front_gap, front_thickness_nm, back_thickness_nm,
+                temperature_K) -> BulkRecombination | None:
+    """Auger recombination in the subcells' bulk at their thicknesses [nm] (arrays broadcast
+    against the sweep's leading axes); None when neither absorber states it."""
+    front, back = design.front, design.back
+    if front.bulk is None and back.bulk is None:
+        return None
+    t = np.asarray(temperature_K, dtype=float)
+    (f_ref, f_now), (b_ref, b_now) = front.bulk_gaps(front_gap, t), back.bulk_gaps(None, t)
+    return stack_bulk((front.bulk, back.bulk), (front_thickness_nm, back_thickness_nm),
+                      (f_ref, b_ref), (f_now, b_now), t)
 
 
 def evaluate_design(design: StackDesign, j_light, j0_rad, temperature_K, irradiance,
                     ideality: float = 1.0, electrical: Electrical = IDEAL,
-                    reference_j_light=None) -> StackPerformance:
+                    reference_j_light=None, bulk: BulkRecombination | None = None
+                    ) -> StackPerformance:
     """The stack's electrical result from its subcells' currents: the absorbers' EREs, the
     front's refractive index (rear emission), the ideality and electrical options; an n ≠ 1
-    cell's non-radiative diode fixed at ``reference_j_light`` (see :func:`design_currents`)."""
+    cell's non-radiative diode fixed at ``reference_j_light`` (see :func:`design_currents`);
+    ``bulk`` from :func:`design_bulk` for absorbers with intrinsic recombination. An
+    absorber's ERE then describes its other (defect) recombination."""
     ere = np.array([design.front.ere, design.back.ere])
     return evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere, ideality, electrical,
-                          design.front.refractive_index, reference_j_light)
+                          design.front.refractive_index, reference_j_light, bulk)
 
 
 @dataclass(frozen=True)
@@ -254,21 +274,27 @@ def matched_thickness(design, cond, gap, d_grid, back_d, currents,
 
 
 def _best_thickness(design, cond, gap, d_grid, back_d, p, terminals) -> float:
-    """Refine the grid maximum of the chosen power by a bounded scalar search."""
+    """Refine the grid maximum of the chosen power between its grid neighbours.
+
+    Four vectorised zooms of 17 points in log-thickness each shrink the bracket eightfold
+    (to 1/4096 of the grid's spacing, about 10⁻⁵ in ln d on the default grid); the result is
+    never worse than the grid's best point.
+    """
     i = int(np.argmax(p))
     lo, hi = d_grid[max(i - 1, 0)], d_grid[min(i + 1, d_grid.size - 1)]
     if lo == hi:
         return float(d_grid[i])
-
-    def neg(logd):
-        perf = stack_performance(design, cond, gap, math.exp(logd), back_d)
-        return -float(perf.p_2t if terminals == 2 else perf.p_4t)
-
-    from scipy import optimize
-
-    res = optimize.minimize_scalar(neg, bounds=(math.log(lo), math.log(hi)), method="bounded",
-                                   options={"xatol": 1e-5})
-    return float(math.exp(res.x)) if -res.fun >= p[i] else float(d_grid[i])
+    best_d, best_p = float(d_grid[i]), float(p[i])
+    a, b = math.log(lo), math.log(hi)
+    for _ in range(4):
+        x = np.linspace(a, b, 17)
+        perf = stack_performance(design, cond, gap, np.exp(x), back_d)
+        q = perf.p_2t if terminals == 2 else perf.p_4t
+        k = int(np.argmax(q))
+        if q[k] > best_p:
+            best_d, best_p = float(np.exp(x[k])), float(q[k])
+        a, b = x[max(k - 1, 0)], x[min(k + 1, x.size - 1)]
+    return best_d
 
 
 def operating_gaps(design: StackDesign, front_gap_eV: float, temperature_K: float) -> dict:

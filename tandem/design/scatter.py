@@ -11,8 +11,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from tandem.design.matching import (Conditions, StackDesign, design_currents, evaluate_design,
-                                    stack_performance)
+from tandem.design.matching import (Conditions, StackDesign, design_bulk, design_currents,
+                                    evaluate_design, stack_performance)
 from tandem.core.errors import TandemInputError
 
 
@@ -74,8 +74,9 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
         jl = np.array([c[0] for c in currents])
         j0 = np.array([c[1] for c in currents])
         reference = None if cond.ideality == 1.0 else np.array([c[2] for c in currents])
+        bulk = design_bulk(design, gaps[sl], thick[sl], back_thickness_nm, cond.temperature_K)
         perf = evaluate_design(design, jl, j0, cond.temperature_K, cond.photon_flux.irradiance,
-                               cond.ideality, cond.electrical, reference)
+                               cond.ideality, cond.electrical, reference, bulk)
         e2[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_4t
     nominal = stack_performance(design, cond, front_gap, front_thickness_nm, back_thickness_nm)
     return ScatterResult(gaps, thick, e2, e4, float(nominal.efficiency_2t),

@@ -18,8 +18,8 @@ import numpy as np
 import pandas as pd
 
 from tandem.physics import detailed_balance as db
-from tandem.design.matching import (Conditions, StackDesign, evaluate_design, rear_absorptance, stack_integrands,
-                     stack_performance)
+from tandem.design.matching import (Conditions, StackDesign, design_bulk, evaluate_design,
+                                    rear_absorptance, stack_integrands, stack_performance)
 from tandem.core.errors import TandemInputError
 from tandem.design.sky import FluxBasis, SpectralSeries
 from tandem.physics.spectra import PhotonFlux, reference_flux_on, trapezoid_weights
@@ -141,8 +141,10 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
         phi = reference_flux_on(flux.energy).flux
         reference = np.stack([absorbed @ (phi * fw), transmitted @ (phi * bw)], axis=-1)
         reference = np.broadcast_to(reference[:, None, :], jl.shape)
+    bulk = design_bulk(design, gap, np.asarray(thickness, dtype=float)[:, None], back_d, t_cell)
     if rear is None:
-        return evaluate_design(design, jl, j0, t_cell, 1.0, ideality, electrical, reference), jl
+        return evaluate_design(design, jl, j0, t_cell, 1.0, ideality, electrical, reference,
+                               bulk), jl
     # bifacial: the back subcell also takes light at its rear, and by reciprocity emits there.
     # That emission is radiative: the back's J0 becomes J0,front/ERE + J0,rear, passed on as
     # J0,rad = J0,front + J0,rear with the ERE that gives exactly that sum.
@@ -155,7 +157,7 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
     j0[..., 1] += j0_rear
     ere[..., 1] = j0[..., 1] / total
     perf = evaluate_stack(jl, j0, t_cell, 1.0, ere, ideality, electrical,
-                          design.front.refractive_index, reference)
+                          design.front.refractive_index, reference, bulk)
     return perf, jl
 
 

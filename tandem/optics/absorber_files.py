@@ -21,6 +21,7 @@ from tandem.core.units import K_B_EV, T_STC
 from tandem.optics.absorbers import MAX_UNCUT_URBACH_EV, Absorber, GapRelation
 from tandem.optics.absorptance import LIGHT_TRAPPING
 from tandem.optics.edges import EDGE_MODELS
+from tandem.physics.recombination import AUGER_MODELS, BulkSpec
 
 # --------------------------------------------------------------------------------------
 # Schema
@@ -50,6 +51,14 @@ SCHEMA: Schema = {
         "ere": ("num", False),
         "voc_deficit_V": ("num", False),
         "collection_length_nm": ("num", False),
+    },
+    # intrinsic recombination in the bulk (see tandem.physics.recombination)
+    "recombination": {
+        "auger": ("str", True),
+        "intrinsic_density_per_cm3": ("num", True),
+        "intrinsic_density_temperature_K": ("num", True),
+        "doping_per_cm3": ("num", False),
+        "doping_type": ("str", False),
     },
     "thickness": {
         "default_nm": ("num", False),
@@ -175,6 +184,7 @@ def parse_absorber(path: Path) -> Absorber:
         ere = math.exp(-deficit / (K_B_EV * T_STC))
         origin = f"from a non-radiative Voc deficit of {deficit:g} V at 298.15 K"
     lc = c.positive("electrical", "collection_length_nm", "nm", low=1.0, high=1e8)
+    bulk = _bulk_spec(c)
 
     default, rng = c.get("thickness", "default_nm"), c.get("thickness", "range_nm")
     if default is None and c.get("thickness", "default_um") is not None:
@@ -208,8 +218,37 @@ def parse_absorber(path: Path) -> Absorber:
         thickness_nm=float(default), thickness_range_nm=(float(rng[0]), float(rng[1])),
         gap_temperature_coefficient_eV_K=None if tc is None else tc / 1000.0,
         sources={str(k): str(v) for k, v in sources.items()},
-        defect_floor_per_cm=float(floor), tail_cutoff_below_gap_eV=cutoff,
+        defect_floor_per_cm=float(floor), tail_cutoff_below_gap_eV=cutoff, bulk=bulk,
     )
+
+
+def _bulk_spec(c: Checker) -> BulkSpec | None:
+    """The [recombination] section: an Auger parametrisation, n_i where it was stated, doping."""
+    if "recombination" not in c.data:
+        return None
+    for key in ("auger", "intrinsic_density_per_cm3", "intrinsic_density_temperature_K"):
+        if c.get("recombination", key) is None:
+            c.fail(f"recombination.{key}", "is missing", "intrinsic recombination needs auger, "
+                   "intrinsic_density_per_cm3 and intrinsic_density_temperature_K")
+    name = c.get("recombination", "auger")
+    if name not in AUGER_MODELS:
+        c.fail("recombination.auger", f"= {name!r} is not known", f"use one of {', '.join(AUGER_MODELS)}")
+    n_i = c.positive("recombination", "intrinsic_density_per_cm3", "cm^-3 (silicon: about 1e10)",
+                     low=1e-10, high=1e20)
+    t_ref = c.positive("recombination", "intrinsic_density_temperature_K",
+                       "K (e.g. 300; did you mean 300 for 27 C?)", low=150.0, high=500.0)
+    doping = c.get("recombination", "doping_per_cm3", 0.0)
+    if not (math.isfinite(doping) and 0 <= doping <= 1e21):
+        c.fail("recombination.doping_per_cm3", f"= {doping:g} is outside 0–1e21",
+               "give the net background doping in cm^-3 (0 for undoped)")
+    kind = c.get("recombination", "doping_type")
+    if doping > 0 and kind not in ("n", "p"):
+        c.fail("recombination.doping_type", f"= {kind!r} is not 'n' or 'p'",
+               "say which carrier the doping gives: doping_type = \"n\" or \"p\"")
+    if doping == 0 and kind is not None:
+        c.fail("recombination.doping_type", "is given for an undoped bulk",
+               "remove it, or give doping_per_cm3")
+    return BulkSpec(AUGER_MODELS[name], float(n_i), float(t_ref), float(doping), kind != "p")
 
 
 # --------------------------------------------------------------------------------------

@@ -15,6 +15,7 @@ import numpy as np
 from tandem.core.errors import TandemInputError
 from tandem.optics.absorptance import LayerOptics
 from tandem.optics.edges import Edge
+from tandem.physics.recombination import BulkSpec
 #: Urbach energies above this need a tail cutoff: with E_U ≳ kT the reciprocity dark current
 #: grows into the tail without bound (α·Φ_bb ∝ exp(E(1/E_U − 1/kT))) [eV].
 MAX_UNCUT_URBACH_EV = 0.025
@@ -71,6 +72,7 @@ class Absorber:
     sources: dict = field(default_factory=dict)
     defect_floor_per_cm: float = 0.0  #: sub-gap defect absorption the tail cannot fall below
     tail_cutoff_below_gap_eV: float | None = None  #: no absorption this far below the gap
+    bulk: BulkSpec | None = None  #: intrinsic (Auger) recombination in the bulk, if stated
 
     @property
     def tunable(self) -> bool:
@@ -105,6 +107,24 @@ class Absorber:
         if self.tail_cutoff_below_gap_eV is not None:
             alpha = np.where(energy < gap - self.tail_cutoff_below_gap_eV, 0.0, alpha)
         return alpha
+
+    def bulk_note(self) -> str | None:
+        """What the absorber's intrinsic recombination is, in one line (None without)."""
+        if self.bulk is None:
+            return None
+        b = self.bulk
+        doping = ("undoped" if b.doping_cm3 == 0 else
+                  f"{'n' if b.n_type else 'p'}-type {b.doping_cm3:.3g} cm⁻³")
+        return (f"{self.key}: Auger recombination in its bulk ({b.model.name}, {doping}, n_i "
+                f"{b.n_i_cm3:.3g} cm⁻³ at {b.n_i_temperature_K:g} K) beside its radiative "
+                f"emission; its ERE {self.ere:g} describes the other (defect) recombination")
+
+    def bulk_gaps(self, gap_eV: float | None, temperature_K):
+        """(gap at the n_i temperature, gap at ``temperature_K``) [eV] for
+        :func:`~tandem.physics.recombination.stack_bulk`; ``gap_eV`` at 298.15 K (default gap)."""
+        g = self.gap_eV if gap_eV is None else gap_eV
+        t_ref = self.bulk.n_i_temperature_K if self.bulk is not None else 298.15
+        return g + self.gap_shift_eV(t_ref), g + self.gap_shift_eV(temperature_K)
 
     def gap_shift_eV(self, temperature_K) -> np.ndarray | float:
         """Gap change from 298.15 K with the description's temperature coefficient [eV]."""

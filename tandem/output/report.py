@@ -187,7 +187,9 @@ def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_p
         "temperature_K": cond.temperature_K,
         "temperature_note": temperature_note(result.design, best.front_gap_eV, cond.temperature_K),
         "model_notes": list(electrical_notes(cond.electrical, result.design.front.refractive_index,
-                                             cond.ideality, False)),
+                                             cond.ideality, False))
+                       + [n for n in (result.design.front.bulk_note(),
+                                      result.design.back.bulk_note()) if n],
         "configurations_evaluated": result.n_evaluated,
         "caution": CAUTION,
     }
@@ -247,6 +249,13 @@ def absorber_summary(a) -> dict:
         "ere": a.ere,
         "ere_origin": a.ere_origin,
         "collection_length_nm": a.collection_length_nm,
+        "auger": None if a.bulk is None else {
+            "model": a.bulk.model.name,
+            "intrinsic_density_per_cm3": a.bulk.n_i_cm3,
+            "intrinsic_density_temperature_K": a.bulk.n_i_temperature_K,
+            "doping_per_cm3": a.bulk.doping_cm3,
+            "doping_type": None if a.bulk.doping_cm3 == 0 else ("n" if a.bulk.n_type else "p"),
+        },
         "thickness_nm": a.thickness_nm,
         "thickness_range_nm": list(a.thickness_range_nm),
         "alpha_per_cm": {f"{wl} nm": float(f"{float(a.alpha(HC_EV_NM / wl)):.4g}")

@@ -106,29 +106,6 @@ def check_receives_light(j_light, photon_flux: PhotonFlux, what: Sequence[str]) 
                 "choose a lower gap, a thicker layer or a spectrum that covers it")
 
 
-def check_boltzmann_regime(perf: StackPerformance, gaps_eV, temperature_K, what,
-                           coupling: float = 0.0) -> None:
-    """Refuse a result whose subcell is within kT of its gap, at its operating point or at
-    the open circuit the result prints.
-
-    The diodes use Boltzmann statistics (J0·e^{qV/kT}); they hold while Eg − qV ≫ kT. The
-    exact (Bose–Einstein) emission is larger there, so a Boltzmann voltage that close to the
-    gap overstates what the cell can reach and could pass the gap.
-    """
-    kt = K_B_EV * float(np.max(temperature_K))
-    gaps = np.asarray(gaps_eV)
-    for label, voltages in (("open circuit", perf.voc), ("its maximum power point",
-                                                         np.maximum(perf.v_own, perf.v_2t_sub))):
-        close = np.asarray(voltages) > gaps - kt
-        if np.any(close):
-            i = int(np.argmax(close))
-            fix = "lower the concentration" + (" or the coupling" if coupling > 0 else "")
-            raise TandemInputError(
-                f"{what[i]} would reach {float(np.asarray(voltages)[i]):.4f} V at {label}, within "
-                f"kT ({kt:.4f} eV) of its {float(gaps[i]):.3f} eV gap, where this model's "
-                f"Boltzmann diode does not hold; {fix}")
-
-
 def check_gap_order(gaps: Sequence[float]) -> None:
     for name, g in zip(("front gap", "back gap") if len(gaps) == 2 else ("gap",), gaps):
         if not (math.isfinite(g) and g > 0):

@@ -10,7 +10,6 @@ import numpy as np
 
 from tandem.core.errors import TandemInputError
 from tandem.physics.checks import (
-    check_boltzmann_regime,
     check_ere,
     check_front_index,
     check_gap_order,
@@ -129,7 +128,6 @@ def detailed_balance_limit(
     names = ([f"front subcell ({gaps[0]:g} eV)", f"back subcell ({gaps[1]:g} eV, behind the front)"]
              if len(gaps) == 2 else [f"the cell ({gaps[0]:g} eV)"])
     check_receives_light(perf.j_light, photon_flux, names)
-    check_boltzmann_regime(perf, np.array(gaps), temperature_K, names, electrical.coupling)
     return DesignResult(gaps, terminals if len(gaps) == 2 else 2, temperature_K,
                         tuple(float(e) for e in ere_values), photon_flux.name, photon_flux.notes,
                         perf, float(ideality), electrical, float(front_index))

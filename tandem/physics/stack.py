@@ -8,13 +8,17 @@ subcells on their last axis, front (sunward) first; any leading shape is a sweep
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, fields as dataclass_fields, replace
 
 import numpy as np
 
 from tandem.core.errors import TandemInputError
 from tandem.core.units import K_B_EV
 from tandem.physics import detailed_balance as db
+from tandem.physics.emission import StepEmission
+from tandem.physics.junctions import (_Cells, _coupled_four_terminal, _own_mpp, _series_general,
+                                      junction_voltage)
+from tandem.physics.recombination import BulkRecombination
 from tandem.physics.spectra import PhotonFlux
 
 SUBCELL_NAMES = ("front", "back")
@@ -108,6 +112,8 @@ class StackPerformance:
     voc_2t: np.ndarray  #: (...) terminal open-circuit voltage of the series stack
     jsc_2t: np.ndarray  #: (...) terminal short-circuit current of the series stack
     irradiance: float  #: incident power [W/m²]
+    bulk: BulkRecombination | None = None  #: Auger recombination in the subcells' bulk
+    emission: StepEmission | None = None  #: exact emission's excess where it was used
 
     @property
     def j0(self) -> np.ndarray:
@@ -150,181 +156,11 @@ class StackPerformance:
         return (np.max(self.j_light, axis=-1) - low) / low
 
 
-@dataclass(frozen=True)
-class _Cells:
-    """Diode parameters of the subcells, (..., m); the back gains gain·(e^{qV_f/kT} − 1)."""
-
-    j_light: np.ndarray
-    a: np.ndarray  #: n = 1 saturation current (radiative + rear; + non-radiative when ideal)
-    b: np.ndarray  #: non-radiative saturation current at ``n`` (zero when ideal)
-    n: float
-    vt: np.ndarray | float  #: kT/q over the leading axes (...), or one value
-    gain: np.ndarray  #: (...) c·J0,rear of the front; zero without coupling
-    ideal: bool  #: every subcell is one n = 1 diode
-    r_shunt: float = math.inf  #: across each junction [Ω·m²]
-
-    @property
-    def coupled(self) -> bool:
-        return self.j_light.shape[-1] == 2 and bool(np.any(self.gain > 0))
-
-    def voltage(self, i: int, current, extra=0.0):
-        """Junction voltage of subcell i (with its shunt) carrying ``current`` with ``extra``
-        photocurrent [V]."""
-        return junction_voltage(current, self.j_light[..., i] + extra, self.a[..., i],
-                                self.b[..., i], self.n, self.vt, self.ideal, self.r_shunt)
-
-    def alone(self, i: int) -> "_Cells":
-        """Subcell i as a one-cell chain (no coupling)."""
-        return _Cells(self.j_light[..., i:i + 1], self.a[..., i:i + 1], self.b[..., i:i + 1],
-                      self.n, self.vt, 0.0 * self.gain, self.ideal, self.r_shunt)
-
-    def back_gain(self, v_front):
-        return self.gain * np.expm1(v_front / self.vt)
-
-    def series_voltages(self, current):
-        """Each subcell's voltage when ``current`` flows through all of them (..., m) [V]."""
-        v = [self.voltage(0, current)]
-        for i in range(1, self.j_light.shape[-1]):
-            v.append(self.voltage(i, current, self.back_gain(v[0]) if i == 1 else 0.0))
-        return np.stack(v, axis=-1)
-
-
-def _cell_voltage(current, j_light, a, b, n, vt, ideal: bool):
-    """Voltage of a cell carrying ``current`` [V]: one n = 1 diode (``ideal``, continued
-    linearly through zero in reverse bias) or the radiative plus non-radiative pair."""
-    if ideal:
-        y = j_light - current
-        with np.errstate(invalid="ignore"):
-            return vt * np.where(y > 0, np.log1p(np.maximum(y, 0.0) / a), y / a)
-    return db.two_diode_voltage(current, j_light, a, b, n, vt / K_B_EV)
-
-
-def junction_voltage(current, j_light, a, b, n, vt, ideal: bool, r_shunt: float = math.inf):
-    """Voltage of a junction with a shunt across it, carrying terminal ``current`` [V].
-
-    Solves J_L − a·(e^{V/vt} − 1) − b·(e^{V/(n·vt)} − 1) − V/R_sh = J for V; the left side
-    falls strictly with V and is concave, so the root is bracketed by [min(0, (J_L − J)·R_sh),
-    max(0, min(V without the shunt, (J_L − J)·R_sh))] and found by Newton's method from the
-    upper end, with bisection whenever a step would leave the bracket. Without a shunt, the
-    closed form of the diode(s).
-    """
-    v_open = _cell_voltage(current, j_light, a, b, n, vt, ideal)
-    if not math.isfinite(r_shunt):
-        return v_open
-    excess = np.asarray(j_light, dtype=float) - current
-    lo = np.minimum(excess * r_shunt, 0.0)
-    # both the diode's own voltage and the shunt's alone (J_L − J)·R_sh leave f ≤ 0: start
-    # from the smaller, where Newton on this concave f converges from the right
-    hi = np.where(excess > 0, np.minimum(v_open, excess * r_shunt), 0.0) + 0.0 * lo
-    v = hi.copy()
-    for _ in range(200):
-        x = v / vt
-        ea, eb = a * np.exp(x), b * np.exp(x / n)
-        f = excess - a * np.expm1(x) - b * np.expm1(x / n) - v / r_shunt
-        lo, hi = np.where(f > 0, v, lo), np.where(f > 0, hi, v)
-        step = v + f / ((ea + eb / n) / vt + 1.0 / r_shunt)
-        new = np.where((step >= lo) & (step <= hi), step, 0.5 * (lo + hi))
-        done = np.max(np.abs(new - v) - 1e-12 * np.abs(v), initial=0.0) < 1e-13
-        v = new
-        if done:
-            break
-    return v
-
-
-def _bisect(f, lo, hi, iterations: int = 52):
-    """Where the decreasing ``f`` crosses zero in [lo, hi] (f(lo) ≥ 0 ≥ f(hi)), elementwise;
-    52 halvings leave 2⁻⁵² of the bracket, the resolution of a double."""
-    for _ in range(iterations):
-        mid = 0.5 * (lo + hi)
-        above = f(mid) > 0
-        lo, hi = np.where(above, mid, lo), np.where(above, hi, mid)
-    return 0.5 * (lo + hi)
-
-
-def _chain_maximum(chain_voltage, j_high, r_series: float):
-    """Terminal Voc, Jsc and maximum power point of a series chain with a series resistance.
-
-    ``chain_voltage(J)`` is the sum of the junction voltages at terminal current J (each
-    falling and concave in J); the terminal voltage is chain_voltage(J) − J·R_s, so
-    P(J) = J·V(J) is concave on [0, Jsc]: Jsc is found by bisection (V(J_high) ≤ 0 when
-    every junction is past its photocurrent), the maximum by golden section inside.
-    Returns (voc, jsc, j_mp, v_mp), all (...).
-    """
-    def terminal_voltage(j):
-        return chain_voltage(j) - j * r_series
-
-    zero = np.zeros_like(np.asarray(j_high, dtype=float))
-    voc = terminal_voltage(zero)
-    alive = voc > 0
-    jsc = np.where(alive, _bisect(terminal_voltage, zero, j_high), 0.0)
-    # 48 golden steps leave 0.618⁴⁸ ≈ 1e-10 of [0, Jsc]; P is flat there to ~1e-20 relative
-    j = db.golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc, iterations=48)
-    v = terminal_voltage(j)
-    dead = ~(j * v > 0)
-    return (np.maximum(voc, 0.0), jsc, np.where(dead, 0.0, j), np.where(dead, 0.0, v))
-
-
-def _own_mpp(cells: _Cells, j_light, electrical: Electrical, circuits: int):
-    """Every subcell alone at its maximum power point, elementwise over (..., m); each
-    circuit carries R_s/``circuits`` (the stack's series resistance shared between them).
-
-    Returns j, v, p, voc, jsc (terminal values of each subcell's own circuit).
-    """
-    vt = np.asarray(cells.vt)[..., None] if np.ndim(cells.vt) else cells.vt
-    if not electrical.resistive:
-        if cells.ideal:
-            j, v, p = db.single_junction_mpp(j_light, cells.a, vt / K_B_EV)
-            voc = db.open_circuit_voltage(j_light, cells.a, vt / K_B_EV)
-        else:
-            j, v, p = db.two_diode_mpp(j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
-            voc = db.two_diode_voltage(0.0, j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
-        return j, v, p, voc, np.asarray(j_light, dtype=float) + 0.0 * voc
-
-    def voltage(j):
-        return junction_voltage(j, j_light, cells.a, cells.b, cells.n, vt, cells.ideal,
-                                cells.r_shunt)
-
-    voc, jsc, j, v = _chain_maximum(voltage, np.asarray(j_light, dtype=float),
-                                    electrical.series_resistance_ohm_cm2 * OHM_CM2 / circuits)
-    return j, v, j * v, voc, jsc
-
-
-def _coupled_four_terminal(cells: _Cells, electrical: Electrical):
-    """Four terminals with coupling: the front's operating point is chosen with the back's.
-
-    The front at diode current J_f gives P_f(J_f) and hands the back c·J0,rear·(e^{qV_f/kT} − 1);
-    the back sits at its own maximum power point for that photocurrent. The sum is maximised
-    over J_f, so the four-terminal result is never below the two-terminal one.
-    """
-    jl = cells.j_light
-    front, back = cells.alone(0), cells.alone(1)
-    r_series = electrical.series_resistance_ohm_cm2 * OHM_CM2 / 2
-
-    def parts(jf):
-        vf = front.voltage(0, jf)  # the front's junction voltage sets what it hands the back
-        v = vf - jf * r_series
-        back_light = jl[..., 1:] + cells.back_gain(vf)[..., None]
-        jb, vb, pb, voc_b, jsc_b = _own_mpp(back, back_light, electrical, 2)
-        return v, jb[..., 0], vb[..., 0], pb[..., 0], voc_b[..., 0], jsc_b[..., 0]
-
-    def total(jf):
-        v, _, _, pb, _, _ = parts(jf)
-        return np.maximum(jf * v, 0.0) + pb
-
-    # the front's own terminal limits bound its current (no power outside [0, Jsc])
-    _, _, _, voc_f, jsc_f = _own_mpp(front, jl[..., :1], electrical, 2)
-    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0], iterations=48)
-    v, jb, vb, pb, voc_b, jsc_b = parts(jf)
-    dead = ~(jf * v > 0)
-    j, v = np.where(dead, 0.0, jf), np.where(dead, 0.0, v)
-    return (np.stack([j, jb], -1), np.stack([v, vb], -1), np.stack([j * v, pb], -1),
-            np.stack([voc_f[..., 0], voc_b], -1), np.stack([jsc_f[..., 0], jsc_b], -1))
-
-
 def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality=1.0,
                    electrical: Electrical = IDEAL,
                    front_index: float = DEFAULT_FRONT_INDEX,
-                   reference_j_light=None) -> StackPerformance:
+                   reference_j_light=None, bulk: BulkRecombination | None = None,
+                   emission: StepEmission | None = None) -> StackPerformance:
     """Two- and four-terminal maximum power of stacks of subcells (or single junctions).
 
     Parameters
@@ -353,6 +189,11 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
         Voc moves by n·kT/q·ln 10 per decade of light at low ERE). None: the ERE holds at
         ``j_light`` itself, as it is where the reference is not positive. With n = 1 the ERE
         does not depend on light and this is unused.
+    bulk : BulkRecombination, optional
+        Auger recombination in each subcell's bulk (width 0 for a subcell without it): a third
+        recombination current J_A(V) beside the diodes (see
+        :mod:`tandem.physics.recombination`); the maximum-power points then come from the full
+        balance J = J_L − J_rad − J_nr − J_A.
 
     Notes
     -----
@@ -377,10 +218,65 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
     """
     j_light = np.asarray(j_light, dtype=float)
     shape = j_light.shape
-    m = shape[-1]
     j0_rad = np.broadcast_to(np.asarray(j0_rad, dtype=float), shape)
     ere = np.broadcast_to(np.asarray(ere, dtype=float), shape)
     t = np.asarray(temperature_K, dtype=float)
+    args = (irradiance, ideality, electrical, front_index)
+    perf = _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, None, *args)
+    if emission is None:
+        return perf
+    vt = K_B_EV * (np.broadcast_to(t, shape[:-1])[..., None] if t.ndim else t)
+    closest = np.maximum(perf.voc, np.maximum(perf.v_own, perf.v_2t_sub))
+    with np.errstate(over="ignore"):
+        need = np.any(np.exp((closest - emission.gap_eV) / vt) > EXACT_EMISSION_BELOW, axis=-1)
+    if not np.any(need):
+        return perf
+    if need.ndim == 0 or np.all(need):
+        return _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, emission, *args)
+
+    def take(x):
+        return None if x is None else np.broadcast_to(x, shape)[need]
+
+    sub = _evaluate(take(j_light), take(j0_rad), np.broadcast_to(t, shape[:-1])[need] if t.ndim else t,
+                    take(ere), take(reference_j_light), _take(bulk, need, shape),
+                    _take(emission, need, shape), *args)
+    merged = {}
+    for f in dataclass_fields(StackPerformance):
+        value = getattr(perf, f.name)
+        if isinstance(value, np.ndarray) and value.shape[:need.ndim] == need.shape:
+            value = value.copy()
+            value[need] = getattr(sub, f.name)
+        merged[f.name] = value
+    # the emission term as used (rear emission included): zero where the Boltzmann diode was kept
+    rear = 1 + (front_index**2 if shape[-1] == 2 and electrical.emits_rear else 0.0) * (np.arange(shape[-1]) == 0)
+    merged["emission"] = StepEmission(
+        np.broadcast_to(emission.gap_eV, shape), np.broadcast_to(emission.upper_eV, shape),
+        np.where(need[..., None], np.broadcast_to(emission.scale, shape) * rear, 0.0),
+        np.broadcast_to(emission.j0, shape))
+    return StackPerformance(**merged)
+
+
+#: Where every subcell's voltage leaves z = e^{−(E_g − qV)/kT} below this (E_g − qV > 8.5 kT,
+#: true of most cells at one sun), the exact (Bose–Einstein) emission would move Voc by about
+#: kT/q·z/2 (under 3.5 µV) and the power by under 1e-6 relative (tests/test_emission.py
+#: measures both): the Boltzmann closed forms are kept there, the exact law solved elsewhere.
+EXACT_EMISSION_BELOW = 2e-4
+
+
+def _take(term, mask, shape):
+    """A recombination term's arrays at ``mask`` of the sweep (``shape`` with subcells last)."""
+    if term is None:
+        return None
+    return replace(term, **{f.name: np.broadcast_to(getattr(term, f.name), shape)[mask]
+                            for f in dataclass_fields(term)
+                            if isinstance(getattr(term, f.name), (np.ndarray, float, int))})
+
+
+def _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, emission, irradiance, ideality,
+              electrical, front_index) -> StackPerformance:
+    """:func:`evaluate_stack` with the arrays checked; ``emission`` solves with the exact law."""
+    shape = j_light.shape
+    m = shape[-1]
     vt = K_B_EV * np.broadcast_to(t, shape[:-1]) if t.ndim else K_B_EV * float(t)
     t_sub = t[..., None] if t.ndim else t
     rear = np.zeros(m)
@@ -389,10 +285,19 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
     j0_rear = j0_rad * rear
     gain = electrical.coupling * j0_rear[..., 0] if m == 2 else np.zeros(shape[:-1])
     r_shunt = electrical.shunt_resistance_ohm_cm2 * OHM_CM2
+    r_series = electrical.series_resistance_ohm_cm2 * OHM_CM2
+    extra: tuple = (() if bulk is None else (bulk,))
+    handed_on = None
+    if emission is not None:  # the front's rear emission has the same spectrum, n² as much
+        emission = replace(emission, scale=np.broadcast_to(emission.scale, shape) * (1 + rear))
+        extra = extra + (emission,)
+        if m == 2 and electrical.coupling > 0:
+            handed_on = replace(emission.subcell(0), scale=emission.subcell(0).scale
+                                * electrical.coupling * rear[0] / (1 + rear[0]))
     if ideality == 1.0:
         j0_nr = j0_rad / ere - j0_rad  # reported only; the diode uses J0,rad/ERE exactly
         cells = _Cells(j_light, j0_rad / ere + j0_rear, np.zeros(shape), 1.0, vt, gain, True,
-                       r_shunt)
+                       r_shunt, extra, handed_on)
     else:
         # no reference light (a gap above AM1.5G's range): the ERE holds where it is used
         at = j_light if reference_j_light is None else np.where(
@@ -400,16 +305,16 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
         j0_nr = db.nonradiative_saturation_current(at, j0_rad, ere, ideality)
         ideal = not np.any(j0_nr > 0)  # ERE = 1: no non-radiative diode at all
         cells = _Cells(j_light, j0_rad + j0_rear, j0_nr, float(ideality), vt, gain, ideal,
-                       r_shunt)
+                       r_shunt, extra, handed_on)
     if cells.coupled:
-        j_own, v_own, p_own, voc, jsc = _coupled_four_terminal(cells, electrical)
+        j_own, v_own, p_own, voc, jsc = _coupled_four_terminal(cells, r_series)
     else:
-        j_own, v_own, p_own, voc, jsc = _own_mpp(cells, j_light, electrical, m)
+        j_own, v_own, p_own, voc, jsc = _own_mpp(cells, j_light, r_series, m)
     if m == 1:
         j_2t, v_2t, p_2t = j_own[..., 0], v_own[..., 0], p_own[..., 0]
         v_2t_sub = v_own + j_own * electrical.series_resistance_ohm_cm2 * OHM_CM2  # junction
         voc_2t, jsc_2t = voc[..., 0], jsc[..., 0]
-    elif cells.ideal and not electrical.resistive:
+    elif cells.ideal and not electrical.resistive and not extra:
         jl_s, j0_s = j_light, cells.a
         if cells.coupled:  # the coupled back is an ideal diode with shifted J_L and J0
             c = gain / cells.a[..., 0]
@@ -426,38 +331,10 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
                   else np.sum(voc, axis=-1))
         jsc_2t = np.min(jl_s, axis=-1)
     else:
-        j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t = _series_general(cells, electrical)
+        j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t = _series_general(cells, r_series)
     return StackPerformance(j_light, j0_rad + j0_rear, j0_nr, float(ideality), voc, jsc, p_own,
                             j_own, v_own, j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t,
-                            float(irradiance))
-
-
-def _series_general(cells: _Cells, electrical: Electrical):
-    """Series maximum power of any subcells (two diodes, coupling, resistances).
-
-    The chain's terminal voltage at current J is Σ V_j,i(J) − J·R_s, each junction voltage
-    with its own shunt (and the back's extra light from coupling); see :func:`_chain_maximum`.
-    The search runs up to the limiting photocurrent without shunts (the back's with the most
-    coupling can give, the front at open circuit), and with shunts past every photocurrent,
-    where every junction is reverse-biased.
-    """
-    jl = cells.j_light
-    photocurrents = [jl[..., i] for i in range(jl.shape[-1])]
-    if len(photocurrents) == 2:  # the back's with the most the coupling can give
-        photocurrents[1] = photocurrents[1] + cells.back_gain(cells.voltage(0, 0.0))
-    # Without shunts no junction carries more than its photocurrent (the diode saturates in
-    # reverse; the fast ideal path caps there too), so the limiting one bounds the search;
-    # a shunt lets the others drive current through it, up to past every photocurrent.
-    stacked = np.stack(photocurrents, axis=-1)
-    j_high = stacked.max(axis=-1) if math.isfinite(cells.r_shunt) else stacked.min(axis=-1)
-
-    def chain_voltage(j):
-        return np.sum(cells.series_voltages(j), axis=-1)
-
-    voc, jsc, j, v = _chain_maximum(chain_voltage, j_high,
-                                    electrical.series_resistance_ohm_cm2 * OHM_CM2)
-    v_sub = cells.series_voltages(j)
-    return j, v, j * v, v_sub, voc, jsc
+                            float(irradiance), bulk, emission)
 
 
 def reference_current_above(gap_eV) -> np.ndarray:
@@ -501,7 +378,8 @@ def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1
     reference = None
     if ideality != 1.0:  # each band's photons under AM1.5G, where the ERE is stated
         reference = (reference_current_above(gaps) - reference_current_above(upper)) * share
+    emission = StepEmission.at(gaps, upper, np.broadcast_to(share, gaps.shape), temperature_K)
     return evaluate_stack(j_light, j0_rad, temperature_K, photon_flux.irradiance, ere, ideality,
-                          electrical, front_index, reference)
+                          electrical, front_index, reference, emission=emission)
 
 

@@ -1,0 +1,317 @@
+"""Junctions and their maximum power: the diode(s) of each subcell, extra recombination
+terms, shunts and series resistance, searched elementwise over any sweep.
+
+Arrays carry the subcells on their last axis, front (sunward) first. Used by
+:func:`tandem.physics.stack.evaluate_stack`; resistances are in Ω·m² here.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from tandem.core.units import K_B_EV
+from tandem.physics import detailed_balance as db
+from tandem.physics.emission import StepEmission
+
+
+@dataclass(frozen=True)
+class _Cells:
+    """Diode parameters of the subcells, (..., m); the back gains gain·(e^{qV_f/kT} − 1)."""
+
+    j_light: np.ndarray
+    a: np.ndarray  #: n = 1 saturation current (radiative + rear; + non-radiative when ideal)
+    b: np.ndarray  #: non-radiative saturation current at ``n`` (zero when ideal)
+    n: float
+    vt: np.ndarray | float  #: kT/q over the leading axes (...), or one value
+    gain: np.ndarray  #: (...) c·J0,rear of the front; zero without coupling
+    ideal: bool  #: every subcell is one n = 1 diode
+    r_shunt: float = math.inf  #: across each junction [Ω·m²]
+    extra: tuple = ()  #: further recombination currents of each subcell (see junction_voltage)
+    handed_on: StepEmission | None = None  #: the exact emission's excess the coupling hands on
+
+    @property
+    def coupled(self) -> bool:
+        return self.j_light.shape[-1] == 2 and bool(np.any(self.gain > 0))
+
+    @functools.cached_property
+    def _terms(self) -> tuple:
+        """Each subcell's active extra terms (computed once)."""
+        return tuple(tuple(t.subcell(i) for t in self.extra if t.active(i))
+                     for i in range(self.j_light.shape[-1]))
+
+    def voltage(self, i: int, current, extra=0.0):
+        """Junction voltage of subcell i (with its shunt) carrying ``current`` with ``extra``
+        photocurrent [V]."""
+        return junction_voltage(current, self.j_light[..., i] + extra, self.a[..., i],
+                                self.b[..., i], self.n, self.vt, self.ideal, self.r_shunt,
+                                self._terms[i])
+
+    def alone(self, i: int) -> "_Cells":
+        """Subcell i as a one-cell chain (no coupling)."""
+        return _Cells(self.j_light[..., i:i + 1], self.a[..., i:i + 1], self.b[..., i:i + 1],
+                      self.n, self.vt, 0.0 * self.gain, self.ideal, self.r_shunt,
+                      tuple(t.subcell(slice(i, i + 1)) for t in self.extra if t.active(i)))
+
+    def back_gain(self, v_front):
+        gain = self.gain * np.expm1(v_front / self.vt)
+        return gain if self.handed_on is None else gain + self.handed_on.current(v_front, self.vt)
+
+    def series_voltages(self, current):
+        """Each subcell's voltage when ``current`` flows through all of them (..., m) [V]."""
+        v = [self.voltage(0, current)]
+        for i in range(1, self.j_light.shape[-1]):
+            v.append(self.voltage(i, current, self.back_gain(v[0]) if i == 1 else 0.0))
+        return np.stack(v, axis=-1)
+
+
+def _cell_voltage(current, j_light, a, b, n, vt, ideal: bool):
+    """Voltage of a cell carrying ``current`` [V]: one n = 1 diode (``ideal``, continued
+    linearly through zero in reverse bias) or the radiative plus non-radiative pair."""
+    if ideal:
+        y = j_light - current
+        with np.errstate(invalid="ignore"):
+            return vt * np.where(y > 0, np.log1p(np.maximum(y, 0.0) / a), y / a)
+    return db.two_diode_voltage(current, j_light, a, b, n, vt / K_B_EV)
+
+
+def junction_voltage(current, j_light, a, b, n, vt, ideal: bool, r_shunt: float = math.inf,
+                     extra: tuple = ()):
+    """Voltage of a junction with a shunt across it, carrying terminal ``current`` [V].
+
+    Solves J_L − a·(e^{V/vt} − 1) − b·(e^{V/(n·vt)} − 1) − ΣJ_x(V) − V/R_sh = J for V, where
+    ``extra`` holds further recombination currents J_x(V), each rising with V (Auger in the
+    bulk: :class:`~tandem.physics.recombination.BulkRecombination`; the exact emission's excess
+    over the Boltzmann diode: :class:`~tandem.physics.emission.StepEmission`, whose gap no
+    voltage reaches). The left side falls strictly with V and is concave where it matters, so
+    the root is bracketed by [min(0, (J_L − J)·R_sh), max(0, min(V of the diodes alone,
+    (J_L − J)·R_sh, the gap))] and found by Newton's method from the upper end, with
+    bisection whenever a step would leave the bracket. Without a shunt or extra terms, the
+    closed form of the diode(s); without a shunt, a current above the photocurrent continues
+    the diodes alone (the extra terms' reverse-bias share, e.g. Auger generation of order
+    q·W·C·n_i³, is negligible there).
+    """
+    v_open = _cell_voltage(current, j_light, a, b, n, vt, ideal)
+    shunted = math.isfinite(r_shunt)
+    if not shunted and not extra:
+        return v_open
+    excess = np.asarray(j_light, dtype=float) - current
+    g_shunt = 1.0 / r_shunt if shunted else 0.0
+    reach = excess * r_shunt if shunted else np.where(excess > 0, np.inf, 0.0)
+    lo = np.minimum(reach, 0.0)
+    # both the diodes' own voltage and the shunt's alone (J_L − J)·R_sh leave f ≤ 0: start
+    # from the smaller, where Newton on this concave f converges from the right
+    hi = np.where(excess > 0, np.minimum(v_open, reach), 0.0) + 0.0 * lo
+    for term in extra:  # just below a gap, whose exact emission no current can pay for
+        if hasattr(term, "ceiling_V"):
+            hi = np.minimum(hi, term.ceiling_V * (1 - 1e-15))
+    v = hi.copy()
+    for _ in range(200):
+        x = v / vt
+        ea, eb = a * np.exp(x), b * np.exp(x / n)
+        f = excess - a * np.expm1(x) - b * np.expm1(x / n) - v * g_shunt
+        slope = (ea + eb / n) / vt + g_shunt
+        for term in extra:
+            f = f - term.current(v, vt)
+            slope = slope + term.slope(v, vt)
+        lo, hi = np.where(f > 0, v, lo), np.where(f > 0, hi, v)
+        step = v + f / slope
+        # a step that barely moves while f is far from zero (the steep emission just below a
+        # gap) would stall Newton's method there: bisect instead
+        stalled = (np.abs(step - v) < 1e-6 * (hi - lo)) & (np.abs(f) > 1e-9 * (np.abs(excess) + a))
+        new = np.where((step >= lo) & (step <= hi) & ~stalled, step, 0.5 * (lo + hi))
+        done = np.max(np.abs(new - v) - 1e-12 * np.abs(v), initial=0.0) < 1e-13
+        v = new
+        if done:
+            break
+    return v if shunted else np.where(excess > 0, v, v_open)
+
+
+def _bisect(f, lo, hi, iterations: int = 52):
+    """Where the decreasing ``f`` crosses zero in [lo, hi] (f(lo) ≥ 0 ≥ f(hi)), elementwise;
+    52 halvings leave 2⁻⁵² of the bracket, the resolution of a double."""
+    for _ in range(iterations):
+        mid = 0.5 * (lo + hi)
+        above = f(mid) > 0
+        lo, hi = np.where(above, mid, lo), np.where(above, hi, mid)
+    return 0.5 * (lo + hi)
+
+
+def _chain_maximum(chain_voltage, j_high, r_series: float):
+    """Terminal Voc, Jsc and maximum power point of a series chain with a series resistance.
+
+    ``chain_voltage(J)`` is the sum of the junction voltages at terminal current J (each
+    falling and concave in J); the terminal voltage is chain_voltage(J) − J·R_s, so
+    P(J) = J·V(J) is concave on [0, Jsc]: Jsc is found by bisection (V(J_high) ≤ 0 when
+    every junction is past its photocurrent), the maximum by golden section inside.
+    Returns (voc, jsc, j_mp, v_mp), all (...).
+    """
+    def terminal_voltage(j):
+        return chain_voltage(j) - j * r_series
+
+    zero = np.zeros_like(np.asarray(j_high, dtype=float))
+    voc = terminal_voltage(zero)
+    alive = voc > 0
+    jsc = np.where(alive, _bisect(terminal_voltage, zero, j_high), 0.0)
+    # 48 golden steps leave 0.618⁴⁸ ≈ 1e-10 of [0, Jsc]; P is flat there to ~1e-20 relative
+    j = db.golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc, iterations=48)
+    v = terminal_voltage(j)
+    dead = ~(j * v > 0)
+    return (np.maximum(voc, 0.0), jsc, np.where(dead, 0.0, j), np.where(dead, 0.0, v))
+
+
+def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
+    """Every subcell alone at its maximum power point, elementwise over (..., m); each
+    circuit carries R_s/``circuits`` (``r_series``, the stack's series resistance [Ω·m²],
+    shared between them).
+
+    Returns j, v, p, voc, jsc (terminal values of each subcell's own circuit).
+    """
+    vt = np.asarray(cells.vt)[..., None] if np.ndim(cells.vt) else cells.vt
+    if r_series == 0 and not math.isfinite(cells.r_shunt) and not cells.extra:
+        if cells.ideal:
+            j, v, p = db.single_junction_mpp(j_light, cells.a, vt / K_B_EV)
+            voc = db.open_circuit_voltage(j_light, cells.a, vt / K_B_EV)
+        else:
+            j, v, p = db.two_diode_mpp(j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
+            voc = db.two_diode_voltage(0.0, j_light, cells.a, cells.b, cells.n, vt / K_B_EV)
+        return j, v, p, voc, np.asarray(j_light, dtype=float) + 0.0 * voc
+
+    jl = np.asarray(j_light, dtype=float)
+    g_shunt = 1.0 / cells.r_shunt
+    r_series = r_series / circuits
+
+    def current(v):  # terminal current at junction voltage v: explicit
+        x = v / vt
+        return (jl - cells.a * np.expm1(x) - cells.b * np.expm1(x / cells.n) - v * g_shunt
+                - sum(t.current(v, vt) for t in cells.extra))
+
+    # Parameterised by the junction voltage V_j, the terminal voltage V_j − J(V_j)·R_s rises
+    # with V_j, so P = J·(V_j − J·R_s) keeps its single maximum and every step is explicit:
+    # one solve for Voc, a bisection for Jsc (V_j = J·R_s), a golden search for the maximum.
+    voc = junction_voltage(0.0, jl, cells.a, cells.b, cells.n, vt, cells.ideal, cells.r_shunt,
+                           cells.extra)
+    alive = voc > 0
+    lo = np.minimum(0.0, voc)
+    v_sc = lo if r_series == 0 else _bisect(lambda v: current(v) * r_series - v, lo + 0.0 * voc,
+                                            np.maximum(voc, 0.0))
+    jsc = np.where(alive, current(v_sc), 0.0)
+
+    def power(v):
+        j = current(v)
+        return j * (v - j * r_series)
+
+    v_j = db.golden_maximum(power, v_sc + 0.0 * voc, np.maximum(voc, v_sc), iterations=48)
+    j = current(v_j)
+    v = v_j - j * r_series
+    dead = ~(j * v > 0) | ~alive
+    j, v = np.where(dead, 0.0, j), np.where(dead, 0.0, v)
+    return j, v, j * v, np.maximum(voc, 0.0), jsc
+
+
+def _coupled_four_terminal(cells: _Cells, r_series_stack: float):
+    """Four terminals with coupling: the front's operating point is chosen with the back's.
+
+    The front at diode current J_f gives P_f(J_f) and hands the back c·J0,rear·(e^{qV_f/kT} − 1);
+    the back sits at its own maximum power point for that photocurrent. The sum is maximised
+    over J_f, so the four-terminal result is never below the two-terminal one.
+    """
+    jl = cells.j_light
+    front, back = cells.alone(0), cells.alone(1)
+    r_series = r_series_stack / 2
+
+    def parts(jf):
+        vf = front.voltage(0, jf)  # the front's junction voltage sets what it hands the back
+        v = vf - jf * r_series
+        back_light = jl[..., 1:] + cells.back_gain(vf)[..., None]
+        jb, vb, pb, voc_b, jsc_b = _own_mpp(back, back_light, r_series_stack, 2)
+        return v, jb[..., 0], vb[..., 0], pb[..., 0], voc_b[..., 0], jsc_b[..., 0]
+
+    def total(jf):
+        v, _, _, pb, _, _ = parts(jf)
+        return np.maximum(jf * v, 0.0) + pb
+
+    # the front's own terminal limits bound its current (no power outside [0, Jsc])
+    _, _, _, voc_f, jsc_f = _own_mpp(front, jl[..., :1], r_series_stack, 2)
+    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0], iterations=48)
+    v, jb, vb, pb, voc_b, jsc_b = parts(jf)
+    dead = ~(jf * v > 0)
+    j, v = np.where(dead, 0.0, jf), np.where(dead, 0.0, v)
+    return (np.stack([j, jb], -1), np.stack([v, vb], -1), np.stack([j * v, pb], -1),
+            np.stack([voc_f[..., 0], voc_b], -1), np.stack([jsc_f[..., 0], jsc_b], -1))
+
+
+def _series_general(cells: _Cells, r_series: float):
+    """Series maximum power of any subcells (two diodes, coupling, resistances).
+
+    The chain's terminal voltage at current J is Σ V_j,i(J) − J·R_s, each junction voltage
+    with its own shunt (and the back's extra light from coupling); see :func:`_chain_maximum`.
+    The search runs up to the limiting photocurrent without shunts (the back's with the most
+    coupling can give, the front at open circuit), and with shunts past every photocurrent,
+    where every junction is reverse-biased.
+    """
+    jl = cells.j_light
+    photocurrents = [jl[..., i] for i in range(jl.shape[-1])]
+    if len(photocurrents) == 2:  # the back's with the most the coupling can give
+        photocurrents[1] = photocurrents[1] + cells.back_gain(cells.voltage(0, 0.0))
+    # Without shunts no junction carries more than its photocurrent (the diode saturates in
+    # reverse; the fast ideal path caps there too), so the limiting one bounds the search;
+    # a shunt lets the others drive current through it, up to past every photocurrent.
+    stacked = np.stack(photocurrents, axis=-1)
+    j_high = stacked.max(axis=-1) if math.isfinite(cells.r_shunt) else stacked.min(axis=-1)
+
+    with_terms = [i for i in range(jl.shape[-1]) if any(t.active(i) for t in cells.extra)]
+    if len(with_terms) == 1 and not cells.coupled:
+        return _series_along(cells, with_terms[0], j_high, r_series)
+
+    def chain_voltage(j):
+        return np.sum(cells.series_voltages(j), axis=-1)
+
+    voc, jsc, j, v = _chain_maximum(chain_voltage, j_high, r_series)
+    v_sub = cells.series_voltages(j)
+    return j, v, j * v, v_sub, voc, jsc
+
+
+def _series_along(cells: _Cells, k: int, j_high, r_series: float):
+    """:func:`_series_general` searched along subcell k's junction voltage, when k alone has
+    extra recombination terms (e.g. an Auger-limited silicon back).
+
+    Its current J(V_k) is explicit, the other junctions' voltages at that current closed-form,
+    so no step solves for k's voltage; J falls as V_k rises, so the terminal voltage rises
+    and the power keeps its single maximum along V_k. Same results as the current search.
+    """
+    jl, vt, m = cells.j_light, cells.vt, cells.j_light.shape[-1]
+    terms = tuple(t.subcell(k) for t in cells.extra if t.active(k))
+    g_shunt = 1.0 / cells.r_shunt
+
+    def current(vk):
+        x = vk / vt
+        return (jl[..., k] - cells.a[..., k] * np.expm1(x) - cells.b[..., k] * np.expm1(x / cells.n)
+                - vk * g_shunt - sum(t.current(vk, vt) for t in terms))
+
+    def others(j):
+        return sum(cells.voltage(i, j) for i in range(m) if i != k)
+
+    def terminal(vk):
+        j = current(vk)
+        return others(j) + vk - j * r_series
+
+    def power(vk):
+        j = current(vk)
+        return j * (others(j) + vk - j * r_series)
+
+    v_open = cells.voltage(k, 0.0)  # J = 0: the chain's open circuit
+    v_short = cells.voltage(k, j_high)  # J = j_high: the chain's terminal voltage ≤ 0 there
+    voc = terminal(v_open)
+    alive = voc > 0
+    v_sc = np.where(alive, _bisect(lambda v: -terminal(v), v_short + 0.0 * v_open, v_open), v_open)
+    vk = db.golden_maximum(power, v_sc, v_open + 0.0 * v_sc, iterations=48)
+    j = current(vk)
+    v = terminal(vk)
+    dead = ~(j * v > 0)
+    j, v, vk = np.where(dead, 0.0, j), np.where(dead, 0.0, v), np.where(dead, 0.0, vk)
+    v_sub = np.stack([vk if i == k else cells.voltage(i, j) for i in range(m)], axis=-1)
+    return j, v, j * v, v_sub, np.maximum(voc, 0.0), np.where(alive, current(v_sc), 0.0)
