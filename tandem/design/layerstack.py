@@ -27,10 +27,9 @@ from pathlib import Path
 import numpy as np
 
 from tandem.physics import detailed_balance as db
-from tandem.optics.absorbers import Absorber
+from tandem.optics.absorbers import Absorber, absorbers_bulk
 from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import trapezoid_weights
-from tandem.physics.recombination import stack_bulk
 from tandem.physics.stack import evaluate_stack
 from tandem.optics.thinfilm import Layer, index_from_alpha, stack_optics
 from tandem.core.units import HC_EV_NM, Q
@@ -247,18 +246,10 @@ def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):
                                     usable)[0]
     perf = evaluate_stack(j_light, j0, temperature_K, flux.irradiance, ere, ideality, electrical,
                           stack.front.absorber.refractive_index, reference,
-                          _bulk(stack, budget.thickness_nm, temperature_K))
+                          absorbers_bulk([x.absorber for x in (stack.front, stack.back)],
+                                         [stack.front.gap_eV, stack.back.gap_eV],
+                                         budget.thickness_nm, temperature_K))
     return perf, parasitic, reflected, transmitted
-
-
-def _bulk(stack, thickness_nm, temperature_K):
-    """Auger recombination of the stack's absorbers at their thicknesses (None without)."""
-    layers = (stack.front, stack.back)
-    if all(x.absorber.bulk is None for x in layers):
-        return None
-    gaps = [x.absorber.bulk_gaps(x.gap_eV, temperature_K) for x in layers]
-    return stack_bulk([x.absorber.bulk for x in layers], thickness_nm, [g[0] for g in gaps],
-                      [g[1] for g in gaps], temperature_K)
 
 
 def _point(stack, flux, others, d, temperature_K, ideality, electrical, matched):

@@ -14,13 +14,13 @@ from typing import Callable, Sequence
 import numpy as np
 
 from tandem.physics import detailed_balance as db
-from tandem.optics.absorbers import Absorber
+from tandem.optics.absorbers import Absorber, absorbers_bulk
 from tandem.core.errors import TandemInputError
 from tandem.optics.absorptance import NM_TO_CM, StackOptics, stack_optics
 from tandem.physics.spectra import PhotonFlux, trapezoid_weights
 from tandem.physics.stack import IDEAL, SUBCELL_NAMES, Electrical, StackPerformance, evaluate_stack
 from tandem.physics.checks import check_receives_light
-from tandem.physics.recombination import BulkRecombination, stack_bulk
+from tandem.physics.recombination import BulkRecombination
 from tandem.core.units import Q, T_STC
 
 Progress = Callable[[int, int], None]
@@ -179,13 +179,8 @@ def design_bulk(design: StackDesign, front_gap, front_thickness_nm, back_thickne
                 temperature_K) -> BulkRecombination | None:
     """Auger recombination in the subcells' bulk at their thicknesses [nm] (arrays broadcast
     against the sweep's leading axes); None when neither absorber states it."""
-    front, back = design.front, design.back
-    if front.bulk is None and back.bulk is None:
-        return None
-    t = np.asarray(temperature_K, dtype=float)
-    (f_ref, f_now), (b_ref, b_now) = front.bulk_gaps(front_gap, t), back.bulk_gaps(None, t)
-    return stack_bulk((front.bulk, back.bulk), (front_thickness_nm, back_thickness_nm),
-                      (f_ref, b_ref), (f_now, b_now), t)
+    return absorbers_bulk((design.front, design.back), (front_gap, None),
+                          (front_thickness_nm, back_thickness_nm), temperature_K)
 
 
 def evaluate_design(design: StackDesign, j_light, j0_rad, temperature_K, irradiance,

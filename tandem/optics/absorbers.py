@@ -15,7 +15,7 @@ import numpy as np
 from tandem.core.errors import TandemInputError
 from tandem.optics.absorptance import LayerOptics
 from tandem.optics.edges import Edge
-from tandem.physics.recombination import BulkSpec
+from tandem.physics.recombination import BulkRecombination, BulkSpec, stack_bulk
 #: Urbach energies above this need a tail cutoff: with E_U ≳ kT the reciprocity dark current
 #: grows into the tail without bound (α·Φ_bb ∝ exp(E(1/E_U − 1/kT))) [eV].
 MAX_UNCUT_URBACH_EV = 0.025
@@ -119,13 +119,6 @@ class Absorber:
                 f"{b.n_i_cm3:.3g} cm⁻³ at {b.n_i_temperature_K:g} K) beside its radiative "
                 f"emission; its ERE {self.ere:g} describes the other (defect) recombination")
 
-    def bulk_gaps(self, gap_eV: float | None, temperature_K):
-        """(gap at the n_i temperature, gap at ``temperature_K``) [eV] for
-        :func:`~tandem.physics.recombination.stack_bulk`; ``gap_eV`` at 298.15 K (default gap)."""
-        g = self.gap_eV if gap_eV is None else gap_eV
-        t_ref = self.bulk.n_i_temperature_K if self.bulk is not None else 298.15
-        return g + self.gap_shift_eV(t_ref), g + self.gap_shift_eV(temperature_K)
-
     def gap_shift_eV(self, temperature_K) -> np.ndarray | float:
         """Gap change from 298.15 K with the description's temperature coefficient [eV]."""
         tc = self.gap_temperature_coefficient_eV_K or 0.0
@@ -184,3 +177,17 @@ class Absorber:
                                "inside it (or allow it with --outside-range)")
 
 
+def absorbers_bulk(absorbers, gaps_eV, thicknesses_nm, temperature_K) -> BulkRecombination | None:
+    """Auger recombination of subcells made of ``absorbers`` (front first), each at its gap
+    (at 298.15 K; None: its default) and thickness [nm], for
+    :func:`~tandem.physics.stack.evaluate_stack`; None when no absorber states it. Arrays
+    broadcast against the sweep's leading axes."""
+    if all(a.bulk is None for a in absorbers):
+        return None
+    t = np.asarray(temperature_K, dtype=float)
+    gaps = [a.gap_eV if g is None else g for a, g in zip(absorbers, gaps_eV)]
+    # each n_i is stated at its own temperature: the gap there, and at the cell's
+    at_ref = [g + a.gap_shift_eV(a.bulk.n_i_temperature_K if a.bulk else 298.15)
+              for a, g in zip(absorbers, gaps)]
+    now = [g + a.gap_shift_eV(t) for a, g in zip(absorbers, gaps)]
+    return stack_bulk([a.bulk for a in absorbers], thicknesses_nm, at_ref, now, t)

@@ -167,10 +167,11 @@ class StepEmission:
         below, exact, _, boltzmann = self._parts(voltage, vt)
         return np.where(below, self.scale * (exact - boltzmann), np.inf)
 
-    def slope(self, voltage, vt):
-        """d(current)/dV [A/(m²·V)]."""
-        below, _, d_exact, boltzmann = self._parts(voltage, vt)
-        return np.where(below, self.scale * (d_exact - boltzmann) / vt, np.inf)
+    def current_slope(self, voltage, vt):
+        """(current, slope) from one evaluation of the moments, for Newton steps."""
+        below, exact, d_exact, boltzmann = self._parts(voltage, vt)
+        return (np.where(below, self.scale * (exact - boltzmann), np.inf),
+                np.where(below, self.scale * (d_exact - boltzmann) / vt, np.inf))
 
     def active(self, index) -> bool:
         """Whether subcell ``index`` uses the exact law anywhere in the sweep."""

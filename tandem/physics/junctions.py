@@ -83,7 +83,8 @@ def junction_voltage(current, j_light, a, b, n, vt, ideal: bool, r_shunt: float 
     """Voltage of a junction with a shunt across it, carrying terminal ``current`` [V].
 
     Solves J_L − a·(e^{V/vt} − 1) − b·(e^{V/(n·vt)} − 1) − ΣJ_x(V) − V/R_sh = J for V, where
-    ``extra`` holds further recombination currents J_x(V), each rising with V (Auger in the
+    ``extra`` holds further recombination currents J_x(V), each rising with V and giving
+    J_x from ``current`` and (J_x, dJ_x/dV) from ``current_slope`` (Auger in the
     bulk: :class:`~tandem.physics.recombination.BulkRecombination`; the exact emission's excess
     over the Boltzmann diode: :class:`~tandem.physics.emission.StepEmission`, whose gap no
     voltage reaches). The left side falls strictly with V and is concave where it matters, so
@@ -115,8 +116,9 @@ def junction_voltage(current, j_light, a, b, n, vt, ideal: bool, r_shunt: float 
         f = excess - a * np.expm1(x) - b * np.expm1(x / n) - v * g_shunt
         slope = (ea + eb / n) / vt + g_shunt
         for term in extra:
-            f = f - term.current(v, vt)
-            slope = slope + term.slope(v, vt)
+            current_x, slope_x = term.current_slope(v, vt)
+            f = f - current_x
+            slope = slope + slope_x
         lo, hi = np.where(f > 0, v, lo), np.where(f > 0, hi, v)
         step = v + f / slope
         # a step that barely moves while f is far from zero (the steep emission just below a
@@ -284,7 +286,7 @@ def _series_along(cells: _Cells, k: int, j_high, r_series: float):
     and the power keeps its single maximum along V_k. Same results as the current search.
     """
     jl, vt, m = cells.j_light, cells.vt, cells.j_light.shape[-1]
-    terms = tuple(t.subcell(k) for t in cells.extra if t.active(k))
+    terms = cells._terms[k]
     g_shunt = 1.0 / cells.r_shunt
 
     def current(vk):

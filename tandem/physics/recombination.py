@@ -116,19 +116,20 @@ class BulkRecombination:
         rate = drive * (self.low + self.model.injection * np.abs(dn) ** self.model.injection_exponent)
         return (Q * CM2_PER_M2 * self.width_cm) * rate  # no term where the width is 0
 
-    def slope(self, voltage, vt):
-        """dJ_A/dV [A/(m²·V)], for Newton steps."""
+    def current_slope(self, voltage, vt):
+        """(J_A, dJ_A/dV) from one evaluation of the densities, for Newton steps."""
         x = np.asarray(voltage) / vt
         m = self.model
+        ni2, s, _ = self._constants
         with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
             dn, drive = self._excess(x)
-            e = self.n_i**2 * np.exp(x)  # d(n·p)/dx
-            ddn = e / (self.n0 + self.p0 + 2 * dn)
+            e = ni2 * np.exp(x)  # d(n·p)/dx
+            ddn = e / (s + 2 * dn)
             bracket = self.low + m.injection * np.abs(dn) ** m.injection_exponent
             d_bracket = np.where(dn != 0, m.injection * m.injection_exponent
                                  * np.abs(dn) ** (m.injection_exponent - 1) * np.sign(dn) * ddn, 0.0)
-            rate_x = e * bracket + drive * d_bracket
-            return np.where(self.width_cm > 0, Q * CM2_PER_M2 * self.width_cm * rate_x / vt, 0.0)
+            qw = Q * CM2_PER_M2 * self.width_cm  # no term where the width is 0
+            return qw * drive * bracket, qw * (e * bracket + drive * d_bracket) / vt
 
     def subcell(self, index) -> "BulkRecombination":
         """The arrays at ``index`` of the subcell axis (an int, or a slice keeping it)."""

@@ -248,10 +248,10 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
             value[need] = getattr(sub, f.name)
         merged[f.name] = value
     # the emission term as used (rear emission included): zero where the Boltzmann diode was kept
-    rear = 1 + (front_index**2 if shape[-1] == 2 and electrical.emits_rear else 0.0) * (np.arange(shape[-1]) == 0)
+    rear = _rear_factors(shape[-1], electrical, front_index)
     merged["emission"] = StepEmission(
         np.broadcast_to(emission.gap_eV, shape), np.broadcast_to(emission.upper_eV, shape),
-        np.where(need[..., None], np.broadcast_to(emission.scale, shape) * rear, 0.0),
+        np.where(need[..., None], np.broadcast_to(emission.scale, shape) * (1 + rear), 0.0),
         np.broadcast_to(emission.j0, shape))
     return StackPerformance(**merged)
 
@@ -261,6 +261,15 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
 #: kT/q·z/2 (under 3.5 µV) and the power by under 1e-6 relative (tests/test_emission.py
 #: measures both): the Boltzmann closed forms are kept there, the exact law solved elsewhere.
 EXACT_EMISSION_BELOW = 2e-4
+
+
+def _rear_factors(m: int, electrical: Electrical, front_index: float) -> np.ndarray:
+    """Each subcell's rear emission in units of its front-face emission: n² for a front cell
+    that emits towards the back (Yablonovitch 1982), else 0."""
+    rear = np.zeros(m)
+    if m == 2 and electrical.emits_rear:
+        rear[0] = front_index**2
+    return rear
 
 
 def _take(term, mask, shape):
@@ -279,9 +288,7 @@ def _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, emission, irradi
     m = shape[-1]
     vt = K_B_EV * np.broadcast_to(t, shape[:-1]) if t.ndim else K_B_EV * float(t)
     t_sub = t[..., None] if t.ndim else t
-    rear = np.zeros(m)
-    if m == 2 and electrical.emits_rear:
-        rear[0] = front_index**2
+    rear = _rear_factors(m, electrical, front_index)
     j0_rear = j0_rad * rear
     gain = electrical.coupling * j0_rear[..., 0] if m == 2 else np.zeros(shape[:-1])
     r_shunt = electrical.shunt_resistance_ohm_cm2 * OHM_CM2
@@ -312,7 +319,7 @@ def _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, emission, irradi
         j_own, v_own, p_own, voc, jsc = _own_mpp(cells, j_light, r_series, m)
     if m == 1:
         j_2t, v_2t, p_2t = j_own[..., 0], v_own[..., 0], p_own[..., 0]
-        v_2t_sub = v_own + j_own * electrical.series_resistance_ohm_cm2 * OHM_CM2  # junction
+        v_2t_sub = v_own + j_own * r_series  # junction
         voc_2t, jsc_2t = voc[..., 0], jsc[..., 0]
     elif cells.ideal and not electrical.resistive and not extra:
         jl_s, j0_s = j_light, cells.a
