@@ -12,7 +12,7 @@ import tandem
 import tandem.design.maps
 from tandem.core.units import BB_FLUX_PREFACTOR, K_B_EV, Q, SUN_DILUTION
 from tandem.physics import stack as stack_module
-from tandem.physics.emission import bose_moments, emission_current
+from tandem.physics.emission import _moments_scalar, bose_moments, emission_current
 
 FULL = 1 / SUN_DILUTION  # the thermodynamic maximum concentration, about 46,239 suns
 
@@ -27,9 +27,11 @@ def quad(f, lo, hi):
 @pytest.mark.parametrize("a", [1e-9, 1e-3, 0.2, 0.99, 1.0, 1.7, 6.0, 25.0])
 def test_moments_match_quadrature(a):
     # Reference: scipy.integrate.quad of s^m/(e^s − 1) from a to infinity (m = 0, 1, 2)
-    for m, got in enumerate(bose_moments(a)):
+    # the plain-float form the searches use for one point must agree too
+    for m, (got, single) in enumerate(zip(bose_moments(a), _moments_scalar(a))):
         ref = quad(lambda s: s**m * math.exp(-s) / -math.expm1(-s), a, np.inf)
         assert float(got) == pytest.approx(ref, rel=1e-12)
+        assert single == pytest.approx(ref, rel=1e-12)
 
 
 @pytest.mark.parametrize("gap, upper, volts", [(1.12, np.inf, [0.0, 0.7, 1.05, 1.1199]),
@@ -131,3 +133,25 @@ def test_a_map_near_full_concentration_is_continuous():
     alone = tandem.step_stack(flux, np.array([fronts[10], backs[10]]), 300.0)
     assert e2[10, 10] == pytest.approx(100 * float(alone.efficiency_2t), rel=1e-12)
     assert np.all(gap_map.voc_2t < fronts[:, None] + backs[None, :])
+
+
+@pytest.mark.filterwarnings("ignore::scipy.integrate.IntegrationWarning")
+def test_rear_emission_scales_the_exact_law_too():
+    # a front cell emitting towards the back loses n² times its front-face emission (here by the
+    # exact law, at 1000 blackbody suns): its Voc solves J_L = (1 + n²)·[J_em(V) − J_em(0)],
+    # checked with scipy's brentq over the quadrature of Würfel's law
+    flux = tandem.blackbody_sun(6000.0, concentration=1000.0).photon_flux()
+    electrical = stack_module.Electrical(rear_emission=True)
+    perf = tandem.step_stack(flux, np.array([1.8, 1.1]), 300.0, electrical=electrical,
+                             front_index=3.5)
+    assert perf.emission is not None and perf.emission.scale[0] == pytest.approx(1 + 3.5**2)
+    kt = K_B_EV * 300.0
+    jl = float(perf.j_light[0])
+
+    def emitted(v):
+        return quad(lambda e: Q * BB_FLUX_PREFACTOR * e * e / math.expm1((e - v) / kt), 1.8, 1.8 + 4.0)
+
+    dark = emitted(0.0)
+    voc = optimize.brentq(lambda v: jl - (1 + 3.5**2) * (emitted(v) - dark), 0.5, 1.8 * (1 - 1e-12),
+                          xtol=1e-14)
+    assert float(perf.voc[0]) == pytest.approx(voc, abs=1e-8)
