@@ -7,12 +7,12 @@ back absorber. Thin layers are solved coherently, thick ones incoherently
 and, by reciprocity, its radiative J0, exactly as the optics-lite model does with its own
 absorptances. Every other layer's absorption is a parasitic loss, counted per layer.
 
-A thick (incoherent) back absorber, such as a wafer, must be the last layer: the light the
-thin-film stack transmits into it is absorbed with the absorber's own light-trapping model
-(single pass, double pass, or Lambertian α/(α + 1/(4n²d)), Tiedje et al. 1984; the file's
-mode unless the layer sets ``light_trapping``). What it does not absorb leaves through its
-back (single pass) or escapes through the front, and is not traced through the stack
-again: the approximation neglects its re-absorption in the front layers.
+A thick (incoherent) back absorber, such as a wafer, must be the last layer. The light the
+films transmit into it is traced (:mod:`tandem.optics.wafer`): down through the wafer, off its
+rear (the light-trapping mode names the rear: ``single-pass`` lets the rest out, ``double-pass``
+is a mirror, ``lambertian`` a randomising reflector; the file's mode unless the layer sets
+``light_trapping``), and back up through the films at every angle, s and p, where the front
+absorber gains from it, the other films absorb part of it, and the rest escapes.
 
 Losses are counted over the photons the stack could use: those above the back absorber's
 gap.
@@ -32,6 +32,7 @@ from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import trapezoid_weights
 from tandem.physics.stack import evaluate_stack
 from tandem.optics.thinfilm import Layer, index_from_alpha, stack_optics
+from tandem.optics.wafer import trace_wafer
 from tandem.core.units import HC_EV_NM, Q
 
 @dataclass(frozen=True)
@@ -152,16 +153,13 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
     if wafer is not None:
         a = wafer.absorber
         assert a is not None  # a wafer is an absorber layer
-        own = a.layer(e, others.get(wafer.name, wafer.thickness_nm), wafer.gap_eV,
-                      a.gap_shift_eV(temperature_K), position="back")
-        if wafer.light_trapping:
-            own = replace(own, light_trapping=wafer.light_trapping)
-        absorbed[wafer.name] = transmitted * own.absorptance()
-        rest = transmitted * (1 - own.absorptance())
-        if own.light_trapping == "single-pass":
-            transmitted = rest  # out through the wafer's back
-        else:
-            reflected, transmitted = reflected + rest, np.zeros(shape)  # escapes at the front
+        traced = trace_wafer(films, stack.ambient_index, exit_index,
+                             others.get(wafer.name, wafer.thickness_nm),
+                             wafer.light_trapping or a.light_trapping, transmitted, wavelength)
+        absorbed[wafer.name] = traced.wafer
+        for x, extra in zip(layers, traced.films):  # light coming back up through the films
+            absorbed[x.name] = absorbed[x.name] + extra
+        reflected, transmitted = reflected + traced.escaped, traced.transmitted
     parasitic = {x.name: np.broadcast_to(absorbed[x.name], shape) for x in stack.layers
                  if x.role == "parasitic"}
     back = stack.back
@@ -283,24 +281,17 @@ def _refined_4t(stack, flux, others, grid, i, temperature_K, ideality, electrica
     return refined if refined.efficiency_4t > on_grid.efficiency_4t else on_grid
 
 
-def _bisect_match(stack, flux, others, lo, hi, temperature_K, iterations=40):
-    """Front thickness where J_front = J_back between lo and hi (a sign change) [nm]."""
-    def gap(d):
-        budget = photon_budget(stack, flux.energy, [d], others, temperature_K)
+def _bisect_match(stack, flux, others, lo, hi, temperature_K):
+    """Front thickness where J_front = J_back between lo and hi (a sign change) [nm]: Brent's
+    method on log d (the sweep is geometric) to 10⁻⁷ relative."""
+    from scipy.optimize import brentq
+
+    def gap(log_d):
+        budget = photon_budget(stack, flux.energy, [math.exp(log_d)], others, temperature_K)
         j = budget_currents(budget, flux, temperature_K)[0][0]
         return j[0] - j[1]
 
-    g_lo = gap(lo)
-    for _ in range(iterations):  # bisection on log d: the sweep is geometric
-        mid = math.sqrt(lo * hi)
-        g_mid = gap(mid)
-        if (g_mid > 0) == (g_lo > 0):
-            lo, g_lo = mid, g_mid
-        else:
-            hi = mid
-        if hi / lo - 1 < 1e-7:
-            break
-    return math.sqrt(lo * hi)
+    return math.exp(brentq(gap, math.log(lo), math.log(hi), xtol=1e-7, rtol=1e-12))
 
 
 def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, points: int = 120,

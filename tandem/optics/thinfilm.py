@@ -1,4 +1,4 @@
-"""Thin-film optics at normal incidence: coherent layers and thick incoherent ones.
+"""Thin-film optics at any angle, s and p: coherent layers and thick incoherent ones.
 
 Every function works on whole arrays: a layer's complex index ñ = n + ik and its thickness
 broadcast against each other (typically thickness sweep × photon energy), so a stack is
@@ -15,6 +15,10 @@ D. I. Siapkas, Appl. Opt. 41 (2002) 3978; E. Centurioni, Appl. Opt. 44 (2005) 75
 - Incoherent layers (glass, wafers): intensities, not amplitudes, pass through them,
   attenuated by P = exp(−4πkd/λ) per pass; the coherent groups between them enter as their
   intensity reflectances and transmittances from either side.
+- Oblique light: the in-plane wavevector κ = n₀ sin θ₀ is the same in every layer (Snell), so
+  each layer enters through its normal index q = n cos θ = √(ñ² − κ²) (the root that decays
+  forward); s and p differ only in the Fresnel coefficients and the flux normalisation
+  (Born & Wolf §1.5–1.6; Byrnes §2–4). κ = 0 is normal incidence, where s and p agree.
 - R + T + Σ A = 1 at every energy (tested); the incident medium must be lossless.
 
 A single opaque pass (Im δ > 35, or P < 1e-30) is clipped there, as in Byrnes's
@@ -33,6 +37,9 @@ import numpy as np
 MAX_IMAG_PHASE = 35.0
 #: Smallest single-pass intensity transmittance kept in an incoherent layer.
 MIN_PASS = 1e-30
+#: Smallest transmittance of a coherent group kept in the intensity matrices: a group beyond
+#: its critical angle transmits nothing, and the matrices divide by it.
+MIN_GROUP_T = 1e-100
 
 
 @dataclass(frozen=True)
@@ -53,19 +60,45 @@ class Optics:
     absorptance: tuple[np.ndarray, ...]  #: one per layer, in order from the sun
 
 
-def fresnel(n1, n2):
-    """Amplitude reflection and transmission at normal incidence from n1 into n2:
-    r = (n1 − n2)/(n1 + n2), t = 2n1/(n1 + n2) (Hecht, Optics, §4.6)."""
-    return (n1 - n2) / (n1 + n2), 2 * n1 / (n1 + n2)
+POLARISATIONS = ("s", "p")
 
 
-def _poynting(n, n0, v, w):
-    """Normal Poynting flux of forward/backward amplitudes v, w in a medium of index n,
-    as a fraction of the incident flux in a lossless medium n0."""
-    return np.real(n * np.conj(v + w) * (v - w)) / np.real(n0)
+def normal_index(n, kappa=0.0):
+    """q = n cos θ = √(ñ² − κ²) [-], the root with Im q ≥ 0 (the wave decays forward; for a
+    lossless medium beyond its critical angle, the evanescent one). κ = 0 gives ñ itself."""
+    n = np.asarray(n, dtype=complex)
+    if np.all(np.asarray(kappa) == 0):
+        return n
+    q = np.sqrt(n * n - np.asarray(kappa, dtype=float) ** 2 + 0j)
+    return np.where(q.imag < 0, -q, q)
 
 
-def coherent(indices, thicknesses_nm, wavelength_nm):
+def fresnel(n1, n2, q1=None, q2=None, pol="s"):
+    """Amplitude reflection and transmission from n1 into n2 (q = n cos θ; normal incidence
+    when not given): s: r = (q1 − q2)/(q1 + q2), t = 2q1/(q1 + q2); p: r = (n2²q1 − n1²q2)/
+    (n2²q1 + n1²q2), t = 2n1n2q1/(n2²q1 + n1²q2) (Hecht, Optics, §4.6; Born & Wolf §1.5.2)."""
+    q1 = n1 if q1 is None else q1
+    q2 = n2 if q2 is None else q2
+    if pol == "s":
+        return (q1 - q2) / (q1 + q2), 2 * q1 / (q1 + q2)
+    denominator = n2 * n2 * q1 + n1 * n1 * q2
+    return (n2 * n2 * q1 - n1 * n1 * q2) / denominator, 2 * n1 * n2 * q1 / denominator
+
+
+def _flux_factor(n, q, pol):
+    """The factor f with normal Poynting flux ∝ Re(f·conj(v + w)·(v − w)) for s, and
+    ∝ Re(f·(v + w)·conj(v − w)) for p (f = n·conj(cos θ)) (Byrnes, arXiv:1603.02720, §3)."""
+    return q if pol == "s" else n * np.conj(q / n)
+
+
+def _flux(n, q, v, w, pol):
+    f = _flux_factor(n, q, pol)
+    if pol == "s":
+        return np.real(f * np.conj(v + w) * (v - w))
+    return np.real(f * (v + w) * np.conj(v - w))
+
+
+def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s"):
     """A coherent stack between two semi-infinite media.
 
     Parameters
@@ -74,23 +107,33 @@ def coherent(indices, thicknesses_nm, wavelength_nm):
         ñ of the incident medium, the L layers and the exit medium, broadcastable.
     thicknesses_nm : sequence of L arrays or floats
     wavelength_nm : array (nE,)
+    kappa : float or array broadcastable with the rest
+        The in-plane wavevector n₀ sin θ₀ [-] (0: normal incidence).
+    pol : 's' or 'p'
 
     Returns
     -------
     dict with R, T, the flux entering from the front (``entering``; 1 − R for a lossless
     incident medium) and ``A``, a list of the L layers' absorptances.
     """
+    if pol not in POLARISATIONS:
+        raise ValueError(f"pol must be 's' or 'p', not {pol!r}")
     n = [np.asarray(x, dtype=complex) for x in indices]
+    q = [normal_index(x, kappa) for x in n]
     lam = np.asarray(wavelength_nm, dtype=float)
     layers = len(n) - 2
+    incident = np.real(_flux_factor(n[0], q[0], pol))
+    # an evanescent incident medium (a thick layer beyond its critical angle) carries no flux:
+    # what it would deliver is weighted by a zero pass in stack_optics, so any scale will do
+    incident = np.where(incident > 0, incident, 1.0)
     # characteristic matrices M_j = (1/t_j,j+1)·diag(e^{−iδ}, e^{iδ})·[[1, r], [r, 1]]
-    r01, t01 = fresnel(n[0], n[1])
+    r01, t01 = fresnel(n[0], n[1], q[0], q[1], pol)
     m00, m01, m10, m11 = 1 / t01, r01 / t01, r01 / t01, 1 / t01
     mats = []
     for j in range(1, layers + 1):
-        delta = 2 * np.pi * n[j] * np.asarray(thicknesses_nm[j - 1], dtype=float) / lam
+        delta = 2 * np.pi * q[j] * np.asarray(thicknesses_nm[j - 1], dtype=float) / lam
         delta = np.where(delta.imag > MAX_IMAG_PHASE, delta.real + 1j * MAX_IMAG_PHASE, delta)
-        r, t = fresnel(n[j], n[j + 1])
+        r, t = fresnel(n[j], n[j + 1], q[j], q[j + 1], pol)
         back, fwd = np.exp(-1j * delta) / t, np.exp(1j * delta) / t
         mat = (back, back * r, fwd * r, fwd)
         mats.append(mat)
@@ -98,28 +141,31 @@ def coherent(indices, thicknesses_nm, wavelength_nm):
                               m10 * mat[0] + m11 * mat[2], m10 * mat[1] + m11 * mat[3])
     r = m10 / m00
     t = 1 / m00
-    transmittance = np.abs(t) ** 2 * np.real(n[-1]) / np.real(n[0])
-    entering = np.real(n[0] * (1 + np.conj(r)) * (1 - r)) / np.real(n[0])
+    transmittance = np.abs(t) ** 2 * np.real(_flux_factor(n[-1], q[-1], pol)) / incident
+    entering = _flux(n[0], q[0], 1, r, pol) / incident
     # amplitudes at the start of each layer, from the exit backwards: vw_j = M_j · vw_{j+1}
     absorbed = []
     v, w = t, np.zeros_like(t)
     for j in range(layers, 0, -1):
         a, b, c, d = mats[j - 1]
         v, w = a * v + b * w, c * v + d * w
-        absorbed.append(_absorbed_in_layer(n[j], n[0], v, w, thicknesses_nm[j - 1], lam))
+        absorbed.append(_absorbed_in_layer(n[j], q[j], incident, v, w, thicknesses_nm[j - 1],
+                                           lam, pol))
     return {"R": np.abs(r) ** 2, "T": transmittance, "entering": entering, "A": absorbed[::-1]}
 
 
-def _absorbed_in_layer(n, n0, v, w, thickness_nm, wavelength_nm):
-    """∫ n·α·|E(z)|²/n0 dz over the layer, E = v·e^{ikz} + w·e^{−ikz} (k = k' + ik'').
+def _absorbed_in_layer(n, q, incident, v, w, thickness_nm, wavelength_nm, pol="s"):
+    """The divergence of the normal Poynting flux integrated over the layer, for the field
+    E = v·e^{ik_z z} + w·e^{−ik_z z} (k_z = 2πq/λ = k' + ik'').
 
     The integral in closed form, with expm1 so that a weakly absorbing layer keeps its full
     relative precision (its absorptance, not 1 minus the rest, feeds the radiative J0):
-    |v|²(1 − e^{−2k''d})/2k'' + |w|²(e^{2k''d} − 1)/2k'' + 2Re(v w̄ (e^{2ik'd} − 1)/2ik').
-    The absorbed density n·α·|E|²/n0 is the divergence of the Poynting flux (Byrnes,
-    arXiv:1603.02720, eq. for the absorbed energy), so the layers add up to 1 − R − T.
+    c·[|v|²(1 − e^{−2k''d})/2k'' + |w|²(e^{2k''d} − 1)/2k''] + 2Re(c_x v w̄ (e^{2ik'd} − 1)/2ik'),
+    with c = c_x = Im(q k_z) for s, and c = 2k''·Re f, c_x = −2k'·Im f (f = n·conj(cos θ)) for p
+    (Byrnes, arXiv:1603.02720, the absorbed energy per depth), so the layers add up to 1 − R − T.
+    At normal incidence c = n'·α: the absorbed density is n·α·|E|²/n₀.
     """
-    kz = 2 * np.pi * n / wavelength_nm
+    kz = 2 * np.pi * q / wavelength_nm
     k1, k2 = np.real(kz), np.imag(kz)
     d = np.asarray(thickness_nm, dtype=float)
     two_k2d = np.minimum(2 * k2 * d, 2 * MAX_IMAG_PHASE)
@@ -127,18 +173,27 @@ def _absorbed_in_layer(n, n0, v, w, thickness_nm, wavelength_nm):
         safe = np.where(k2 > 0, 2 * k2, 1.0)
         forward = np.where(k2 > 0, -np.expm1(-two_k2d) / safe, d)
         backward = np.where(k2 > 0, np.expm1(two_k2d) / safe, d)
-    cross = 2 * np.real(v * np.conj(w) * np.expm1(2j * k1 * d) / (2j * k1))
+        # an evanescent wave in a lossless layer has k' = 0: the oscillating term's limit is d
+        oscillating = np.where(k1 != 0, np.expm1(2j * k1 * d) / np.where(k1 != 0, 2j * k1, 1), d)
+    if pol == "s":
+        c = c_x = np.imag(q * kz)
+    else:
+        f = _flux_factor(n, q, pol)
+        c, c_x = 2 * k2 * np.real(f), -2 * k1 * np.imag(f)
     # the opaque cap: beyond e^{-35} the backward wave's growth is the cap's, as in δ
-    integral = np.abs(v) ** 2 * forward + np.abs(w) ** 2 * backward + cross
-    return np.real(n) * 2 * k2 * integral / np.real(n0)
+    integral = c * (np.abs(v) ** 2 * forward + np.abs(w) ** 2 * backward)
+    return (integral + 2 * np.real(c_x * v * np.conj(w) * oscillating)) / incident
 
 
-def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm) -> Optics:
-    """Reflectance, transmittance and each layer's absorptance of a partly coherent stack.
+def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm, kappa=0.0,
+                 pol="s") -> Optics:
+    """Reflectance, transmittance and each layer's absorptance of a partly coherent stack,
+    for light arriving with in-plane wavevector ``kappa`` = n₀ sin θ₀ and polarisation ``pol``.
 
     Incoherent layers split the stack into coherent groups; each group is solved from the
     front and from the back (:func:`coherent`), then intensities are chained through the
-    incoherent layers with the 2×2 intensity matrices of Byrnes (arXiv:1603.02720, §5).
+    incoherent layers with the 2×2 intensity matrices of Byrnes (arXiv:1603.02720, §5); one
+    pass through an incoherent layer transmits exp(−4π·Im q·d/λ).
     """
     lam = np.asarray(wavelength_nm, dtype=float)
     media = [Layer(np.asarray(ambient_index, dtype=complex), np.inf, False)]
@@ -160,14 +215,14 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm) 
         n_in, n_out = media[g].index, media[g + 1].index
         ns = [layers[i].index for i in members]
         ds = [layers[i].thickness_nm for i in members]
-        fwd.append(coherent([n_in, *ns, n_out], ds, lam))
-        bwd.append(coherent([n_out, *ns[::-1], n_in], ds[::-1], lam))
+        fwd.append(coherent([n_in, *ns, n_out], ds, lam, kappa, pol))
+        bwd.append(coherent([n_out, *ns[::-1], n_in], ds[::-1], lam, kappa, pol))
     passes = [None] + [np.maximum(np.exp(-4 * np.pi * np.asarray(m.thickness_nm, float)
-                                         * np.imag(m.index) / lam), MIN_PASS)
+                                         * np.imag(normal_index(m.index, kappa)) / lam), MIN_PASS)
                        for m in media[1:-1]] + [None]
 
     def l_matrix(g):  # intensity matrix of group g (between media g and g + 1)
-        rf, tf, rb, tb = fwd[g]["R"], fwd[g]["T"], bwd[g]["R"], bwd[g]["T"]
+        rf, tf, rb, tb = fwd[g]["R"], np.maximum(fwd[g]["T"], MIN_GROUP_T), bwd[g]["R"], bwd[g]["T"]
         return (1 / tf, -rb / tf, rf / tf, (tb * tf - rb * rf) / tf)
 
     total = l_matrix(0)
@@ -207,7 +262,7 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm) 
         f, b = arriving[g]
         for k, i in enumerate(members):
             absorbed[i] = f * fwd[g]["A"][k] + b * bwd[g]["A"][len(members) - 1 - k]
-    shape = np.broadcast(reflectance, lam, *absorbed).shape
+    shape = np.broadcast(reflectance, lam, np.asarray(kappa), *absorbed).shape
     return Optics(np.broadcast_to(reflectance, shape), np.broadcast_to(transmittance, shape),
                   tuple(np.broadcast_to(a, shape) for a in absorbed))
 

@@ -1,0 +1,190 @@
+"""Light inside a thick wafer, traced between the films in front of it and its rear.
+
+Sunlight crosses the front films at normal incidence (:func:`tandem.optics.thinfilm.stack_optics`)
+and enters the wafer. What the wafer does not absorb on its way down meets the rear:
+
+- ``single-pass``: it leaves through the back (transmitted);
+- ``double-pass``: a specular mirror sends it straight back up;
+- ``lambertian``: a randomising (Lambertian) reflector sends it back isotropically: the
+  radiance is uniform, so the intensity per direction is 2μ dμ = d(sin²θ) (μ = cos θ in the
+  wafer; Lambert's cosine law, e.g. Green, Prog. Photovolt. 10 (2002) 235).
+
+Light coming back up crosses the wafer at its angle (attenuation e^{−αd/μ}) and meets the front
+films from inside, at that angle: they reflect part of it back down (their angle-resolved
+reflectance, s and p averaged), absorb part of it (the front absorber gains photocurrent, the
+other films lose it) and let the rest escape. The reflected part crosses the wafer again and
+reaches the rear, which randomises it again (or mirrors it). Every round trip returns the same
+fraction ρ of what went up, so the series sums in closed form:
+
+    U = T·e^{−αd} / (1 − ρ),   ρ = ∫ e^{−2αd/μ} R(μ) d(sin²θ),
+    escaping or absorbed in film X:  U·∫ e^{−αd/μ} X(μ) d(sin²θ),
+
+with T the light entering the wafer and U the light leaving the rear upwards. This is the
+redistribution-matrix treatment of a flat front and a Lambertian (or mirror) rear reduced to
+its one angular mode that a randomising rear leaves (cf. Tucher et al., Opt. Express 23 (2015)
+A1720; recalled). It conserves energy exactly; the rear is taken as a lossless reflector, and
+the films are met from a lossless medium of the wafer's real index (the wafer's own absorption
+is the e^{−αd/μ} factor).
+
+The angular integral uses Gauss–Legendre nodes in sin²θ between the critical angles of every
+medium in front (where the reflectance has its kinks), so a few nodes per interval suffice.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from tandem.optics.thinfilm import POLARISATIONS, Layer, stack_optics
+
+REAR_TYPES = ("single-pass", "double-pass", "lambertian")
+#: Gauss–Legendre nodes per interval between critical angles (convergence tested).
+NODES_PER_INTERVAL = 8
+#: A single pass that transmits less than this leaves nothing worth tracing back.
+NEGLIGIBLE_PASS = 1e-17
+#: Extra breakpoints near grazing incidence (cos θ in the wafer).
+GRAZING_MU = (0.3, 0.1, 0.03, 0.01)
+#: Breakpoints closer than this in sin²θ share one interval (a kink within it costs little).
+MERGE_BELOW = 0.02
+#: Energies on which the films' angular response is solved (then interpolated).
+COARSE_ENERGIES = 48
+
+
+def _take(index, where):
+    """A layer's index at some energies (a constant stays a constant)."""
+    return np.asarray(index)[..., where] if np.ndim(index) else index
+
+
+def _coarse_indices(energy, count):
+    """Indices of about ``count`` points spread evenly in ``energy`` (or 1/λ), ends included."""
+    if energy.size <= count:
+        return np.arange(energy.size)
+    order = np.argsort(energy)
+    targets = np.linspace(energy[order[0]], energy[order[-1]], count)
+    picked = order[np.clip(np.searchsorted(energy[order], targets), 0, energy.size - 1)]
+    return np.unique(np.concatenate([picked, order[[0, -1]]]))
+
+
+def _interpolation(coarse_energy, fine_energy):
+    """A function taking values on the coarse energies (…, K) to the fine ones (…, n), linearly."""
+    order = np.argsort(coarse_energy)
+    xs = coarse_energy[order]
+    if xs.size == 1:
+        return lambda values: np.asarray(values)[..., order[[0] * fine_energy.size]]
+    j = np.clip(np.searchsorted(xs, fine_energy) - 1, 0, xs.size - 2)
+    t = np.clip((fine_energy - xs[j]) / (xs[j + 1] - xs[j]), 0.0, 1.0)
+    lo, hi = order[j], order[j + 1]
+    return lambda values: np.asarray(values)[..., lo] * (1 - t) + np.asarray(values)[..., hi] * t
+
+
+@dataclass(frozen=True)
+class WaferLight:
+    """Where the light entering a wafer ends up, per unit of the incident sunlight (…, nE)."""
+
+    wafer: np.ndarray  #: absorbed in the wafer
+    films: tuple[np.ndarray, ...]  #: extra absorption in each front film (sun-side order)
+    escaped: np.ndarray  #: out through the front films into the ambient
+    transmitted: np.ndarray  #: out through the rear (single pass only)
+
+
+def hemisphere_nodes(n_wafer, critical_indices, per_interval: int = NODES_PER_INTERVAL):
+    """Nodes and weights in u = sin²θ ∈ [0, 1] of the wafer for ∫₀¹ g(u) du (both (m, nE)).
+
+    The intervals end at every u = (n_k/n_wafer)² below 1 (the critical angle towards a medium
+    of real index n_k), per energy; repeated breakpoints are dropped.
+    """
+    n_w = np.asarray(n_wafer, dtype=float)
+    cuts = [np.clip((np.asarray(n, float) / n_w) ** 2, 0.0, 1.0) * np.ones_like(n_w)
+            for n in critical_indices]
+    edges = np.sort(np.stack([np.zeros_like(n_w), *cuts, np.ones_like(n_w)]), axis=0)
+    keep = np.ones(len(edges), dtype=bool)  # drop breakpoints closer than MERGE to the last kept
+    for i in range(1, len(edges) - 1):
+        last = edges[np.flatnonzero(keep[:i])[-1]]
+        keep[i] = np.any(edges[i] - last > MERGE_BELOW) and np.any(edges[-1] - edges[i] > MERGE_BELOW)
+    # near grazing, e^{−αd/μ} falls within μ ≈ αd: intervals graded in μ resolve it
+    top = edges[keep][-2]
+    grazing = [np.maximum(top, 1 - mu * mu) for mu in GRAZING_MU]
+    edges = np.concatenate([edges[keep][:-1], np.stack(grazing), edges[-1:]])
+    x, w = np.polynomial.legendre.leggauss(per_interval)
+    # u = lo + width·(1 − cos πt)/2: the reflectance has square-root kinks at the critical
+    # angles, which this substitution makes smooth (du/dt vanishes at both ends)
+    t = (x + 1) / 2
+    share, slope = (1 - np.cos(np.pi * t)) / 2, np.pi / 2 * np.sin(np.pi * t) * w / 2
+    lo, width = edges[:-1, None, :], np.diff(edges, axis=0)[:, None, :]
+    nodes = lo + width * share[None, :, None]
+    weights = width * (slope / slope.sum())[None, :, None]  # constants exact: energy conserved
+    return nodes.reshape(-1, n_w.size), weights.reshape(-1, n_w.size)
+
+
+def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, rear: str,
+                entering, wavelength_nm, per_interval: int | None = None) -> WaferLight:
+    """Absorption in a thick wafer and the light it sends back through the films in front.
+
+    Parameters
+    ----------
+    films : the layers in front of the wafer, sun-side first (as for ``stack_optics``)
+    ambient_index : the medium the sunlight comes from (real)
+    wafer_index : ñ of the wafer (nE,); α = 4πk/λ
+    thickness_nm : the wafer's thickness [nm]
+    rear : 'single-pass', 'double-pass' or 'lambertian'
+    entering : the light entering the wafer at normal incidence (…, nE) [fraction of the sun]
+    wavelength_nm : (nE,)
+    """
+    if rear not in REAR_TYPES:
+        raise ValueError(f"rear must be one of {REAR_TYPES}, not {rear!r}")
+    lam = np.asarray(wavelength_nm, dtype=float)
+    n_w = np.asarray(wafer_index, dtype=complex) * np.ones_like(lam)
+    alpha_d = 4 * np.pi * n_w.imag / lam * float(thickness_nm)  # α·d [-]
+    down = np.exp(-alpha_d)
+    entering = np.asarray(entering, dtype=float)
+    wafer = entering * -np.expm1(-alpha_d)  # the first pass, at normal incidence
+    zero = np.zeros(np.broadcast(entering, lam).shape)
+    films_extra = [zero.copy() for _ in films]
+    if rear == "single-pass":
+        return WaferLight(wafer, tuple(films_extra), zero, entering * down)
+    escaped = zero.copy()
+    live = np.flatnonzero(down > NEGLIGIBLE_PASS)  # energies where light comes back at all
+    if live.size == 0:
+        return WaferLight(wafer, tuple(films_extra), escaped, zero)
+    lam_l, n_l, ad = lam[live], n_w[live], alpha_d[live]
+    # the films' response at each angle node varies slowly with energy: solve it on a coarse
+    # grid and interpolate linearly (which keeps R + T + ΣA = 1); the wafer's own attenuation
+    # e^{−αd/μ}, which is not slow, is taken at every energy
+    coarse = _coarse_indices(1 / lam_l, COARSE_ENERGIES)
+    reversed_films = [Layer(_take(x.index, live[coarse]), x.thickness_nm, x.coherent)
+                      for x in films[::-1]]
+    n_c = n_l.real[coarse]
+    if rear == "double-pass":
+        nodes, weights = np.zeros((1, coarse.size)), np.ones((1, coarse.size))
+    else:
+        critical = [ambient_index] + [np.real(x.index) for x in reversed_films]
+        nodes, weights = hemisphere_nodes(n_c, critical, per_interval or NODES_PER_INTERVAL)
+    batch = np.ndim(entering) - 1
+    kappa = (n_c * np.sqrt(nodes)).reshape(len(nodes), *([1] * batch), coarse.size)
+    response = [stack_optics(reversed_films, n_c, ambient_index, lam[live[coarse]], kappa, pol)
+                for pol in POLARISATIONS]
+    reflect = sum(o.reflectance for o in response) / len(response)
+    escape = sum(o.transmittance for o in response) / len(response)
+    absorb = [sum(o.absorptance[k] for o in response) / len(response)
+              for k in range(len(films))][::-1]  # back to sun-side order
+    to_fine = _interpolation(1 / lam_l[coarse], 1 / lam_l)
+    # per unit of light leaving the rear upwards: returned to the rear (ρ), and per sink
+    returned = in_wafer = out = 0.0
+    in_films = [0.0 for _ in films]
+    for i in range(len(nodes)):
+        w, u = to_fine(weights[i]), to_fine(nodes[i])
+        up = np.exp(-ad / np.sqrt(1 - u))  # one pass at angle θ (the nodes avoid u = 1)
+        r = to_fine(reflect[i])
+        returned = returned + w * up * r * up
+        in_wafer = in_wafer + w * ((1 - up) + up * r * (1 - up))
+        out = out + w * up * to_fine(escape[i])
+        for k, a in enumerate(absorb):
+            in_films[k] = in_films[k] + w * up * to_fine(a[i])
+    # (1 − ρ > 0 unless light could circle forever with no loss and no exit)
+    leaving_rear = entering[..., live] * down[live] / np.maximum(1 - returned, np.finfo(float).tiny)
+    wafer[..., live] += leaving_rear * in_wafer
+    escaped[..., live] = leaving_rear * out
+    for k, a in enumerate(in_films):
+        films_extra[k][..., live] = leaving_rear * a
+    return WaferLight(wafer, tuple(films_extra), escaped, zero)
