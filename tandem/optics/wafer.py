@@ -164,23 +164,24 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     kappa = (n_c * np.sqrt(nodes)).reshape(len(nodes), *([1] * batch), coarse.size)
     response = [stack_optics(reversed_films, n_c, ambient_index, lam[live[coarse]], kappa, pol)
                 for pol in POLARISATIONS]
-    reflect = sum(o.reflectance for o in response) / len(response)
-    escape = sum(o.transmittance for o in response) / len(response)
-    absorb = [sum(o.absorptance[k] for o in response) / len(response)
+    reflect = np.mean([o.reflectance for o in response], axis=0)  # s and p averaged
+    escape = np.mean([o.transmittance for o in response], axis=0)
+    absorb = [np.mean([o.absorptance[k] for o in response], axis=0)
               for k in range(len(films))][::-1]  # back to sun-side order
     to_fine = _interpolation(1 / lam_l[coarse], 1 / lam_l)
     # per unit of light leaving the rear upwards: returned to the rear (ρ), and per sink
-    returned = in_wafer = out = 0.0
-    in_films = [0.0 for _ in films]
+    shape = np.broadcast_shapes(reflect.shape[1:-1] + (lam_l.size,), entering.shape[:-1] + (1,))
+    returned, in_wafer, out = np.zeros(shape), np.zeros(shape), np.zeros(shape)
+    in_films = [np.zeros(shape) for _ in films]
     for i in range(len(nodes)):
         w, u = to_fine(weights[i]), to_fine(nodes[i])
         up = np.exp(-ad / np.sqrt(1 - u))  # one pass at angle θ (the nodes avoid u = 1)
         r = to_fine(reflect[i])
-        returned = returned + w * up * r * up
-        in_wafer = in_wafer + w * ((1 - up) + up * r * (1 - up))
-        out = out + w * up * to_fine(escape[i])
+        returned += w * up * r * up
+        in_wafer += w * ((1 - up) + up * r * (1 - up))
+        out += w * up * to_fine(escape[i])
         for k, a in enumerate(absorb):
-            in_films[k] = in_films[k] + w * up * to_fine(a[i])
+            in_films[k] += w * up * to_fine(a[i])
     # (1 − ρ > 0 unless light could circle forever with no loss and no exit)
     leaving_rear = entering[..., live] * down[live] / np.maximum(1 - returned, np.finfo(float).tiny)
     wafer[..., live] += leaving_rear * in_wafer
