@@ -320,3 +320,18 @@ def test_the_four_terminal_optimum_is_refined_off_the_grid(am15g):
         near = _point(stack, am15g, best.others, best.front_thickness_nm * factor, 298.15, 1.0,
                       IDEAL, False)
         assert near.efficiency_4t <= best.efficiency_4t
+
+
+def test_database_absorbers_bring_their_dispersive_index_into_stacks():
+    """A stack's silicon takes n(λ) from the entry its α comes from (Green, Sol. Energy Mater.
+    Sol. Cells 92 (2008) 1305: n = 3.572 at 1000 nm, falling to the red — recalled), k from the
+    absorber's α; an absorber with a model edge keeps its file's constant n."""
+    stack = load_stack("wide-gap-on-silicon-wafer")
+    wl = np.array([800.0, 1000.0, 1150.0])
+    index = stack.back.index(HC_EV_NM / wl)
+    assert index.real[1] == pytest.approx(3.572, abs=0.01)
+    assert index.real[0] > index.real[1] > index.real[2]  # normal dispersion below the gap
+    alpha = 4 * np.pi * index.imag / (wl * 1e-7)
+    np.testing.assert_allclose(alpha, stack.back.absorber.alpha(HC_EV_NM / wl), rtol=1e-12)
+    front = stack.front.index(HC_EV_NM / wl)
+    np.testing.assert_array_equal(front.real, stack.front.absorber.refractive_index)

@@ -52,6 +52,19 @@ class StackLayer:
     table: tuple[np.ndarray, np.ndarray] | None = None  #: (wavelength nm ascending, ñ)
     light_trapping: str | None = None  #: for an incoherent back absorber (default: its file's)
 
+    def real_index(self, wavelength_nm):
+        """n of an absorber layer: from the database entry its α comes from (dispersive, held
+        at the entry's ends), else the file's constant ``refractive_index``. k always follows
+        the absorber's α (k = αλ/4π), so α stays the one the rest of the tool uses."""
+        a = self.absorber
+        assert a is not None  # only absorber layers ask
+        if a.index_entry is None:
+            return a.refractive_index
+        from tandem.optics.database import database_index
+
+        wl, nk = database_index(a.index_entry)
+        return np.interp(wavelength_nm, wl, nk.real)
+
     @property
     def ends_stack(self) -> bool:
         """An incoherent back absorber: the exit medium, with its own light trapping."""
@@ -65,7 +78,7 @@ class StackLayer:
         if self.absorber is not None:
             a = self.absorber
             alpha = a.alpha(e, self.gap_eV, a.gap_shift_eV(temperature_K))
-            return index_from_alpha(alpha, wavelength, a.refractive_index)
+            return index_from_alpha(alpha, wavelength, self.real_index(wavelength))
         if self.constant is not None:
             return np.full(e.shape, self.constant, dtype=complex)
         assert self.table is not None  # a layer has one source: absorber, constant or table

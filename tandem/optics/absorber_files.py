@@ -219,6 +219,7 @@ def parse_absorber(path: Path) -> Absorber:
         gap_temperature_coefficient_eV_K=None if tc is None else tc / 1000.0,
         sources={str(k): str(v) for k, v in sources.items()},
         defect_floor_per_cm=float(floor), tail_cutoff_below_gap_eV=cutoff, bulk=bulk,
+        index_entry=c.get("absorption", "database") if name == "database" else None,
     )
 
 

