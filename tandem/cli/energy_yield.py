@@ -27,6 +27,8 @@ def energy_yield(
         altitude: Annotated[float, plain_option(help="Site altitude in m.")] = 0.0,
         tilt: Annotated[float, plain_option(help="Module tilt in °.")] = 30.0,
         azimuth: Annotated[float, plain_option(help="Module azimuth in ° from north (180 = south).")] = 180.0,
+        cover_index: Annotated[float, plain_option(help="Refractive index of the front cover, for "
+                                                   "the incidence-angle loss (1 = no cover).")] = 1.526,
         timezone: Annotated[Optional[str], plain_option(help="IANA time zone of the site (default: the "
                                                 "standard time of its longitude).")] = None,
         ambient: Annotated[str, plain_option(help="Ambient temperature without weather, e.g. 20C.",
@@ -66,9 +68,9 @@ def energy_yield(
 
         sc = load_scenario(scenario)
         for option in ("latitude", "longitude", "altitude", "tilt", "azimuth", "timezone",
-                       "ambient", "weather", "spectra"):
+                       "cover_index", "ambient", "weather", "spectra"):
             if given(option):
-                raise TandemInputError(f"--{option} with --scenario: the scenario's [site] and "
+                raise TandemInputError(f"--{option.replace('_', '-')} with --scenario: the scenario's [site] and "
                                        "[weather] set the site; edit the scenario, or drop "
                                        "--scenario")
         reference, operating, notes = over_scenario(o, sc.light(), sc.operating(),
@@ -92,7 +94,7 @@ def energy_yield(
         reference, operating = build_light(o), build_operating(o)
         site = tandem.Site("site", latitude, longitude, altitude, tilt, azimuth, timezone,
                            ambient_temperature_C=parse_temperature(ambient, "ambient temperature")
-                           - 273.15)
+                           - 273.15, cover_index=cover_index)
         series, a_front, a_back = site_series(site, weather=weather, spectra=spectra, period=period,
                                               step_minutes=step, allow_large=large), front, back
     if o["temperature"] is not None:  # a fixed cell temperature instead of the SAPM model

@@ -32,6 +32,8 @@ def region(
         step: Annotated[float, plain_option(help="Time step of clear-sky sites in minutes.")] = 60.0,
         tilt: Annotated[str, plain_option(help="Module tilt in °, or 'latitude' (facing the equator).")] = "latitude",
         albedo: Annotated[float, plain_option(help="Ground albedo.")] = 0.2,
+        cover_index: Annotated[float, plain_option(help="Refractive index of the front cover, for "
+                                                   "the incidence-angle loss (1 = no cover).")] = 1.526,
         front_gaps: Annotated[Optional[str], plain_option(help="Front gaps LO:HI:STEP in eV.")] = None,
         points: Annotated[int, plain_option(help="Front thicknesses in the sweep.")] = 16,
         back_thickness: Annotated[Optional[str], plain_option(help="Back thickness, e.g. 160um.")] = None,
@@ -86,6 +88,7 @@ def region(
                         else build_operating(o).temperature_K)  # fixed instead of the SAPM model
     sweep = dict(front_gaps_eV=parse_gap_option(front_gaps, "--front-gaps"), thickness_points=points,
                  tilt=tilt, albedo=albedo, cell_temperature_K=cell_temperature,
+                 cover_index=cover_index,
                  rows=Rows(gcr, row_height, pitch, bifaciality) if bifacial else None)
     back_d = parse_thickness(back_thickness, "--back-thickness") if back_thickness else None
     notes: list[str] = []

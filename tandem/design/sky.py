@@ -33,6 +33,9 @@ from tandem.physics.spectra import (
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
+#: Front-glass index of the physical incidence-angle model (pvlib ``iam.physical``'s default,
+#: soda-lime glass; De Soto et al., Sol. Energy 80 (2006) 78).
+GLASS_INDEX = 1.526
 G173_AEROSOL_500NM = 0.084  #: aerosol optical depth at 500 nm [-]
 G173_WATER_CM = 1.4164  #: precipitable water [cm]
 G173_OZONE_ATM_CM = 0.3438  #: ozone [atm-cm]
@@ -77,6 +80,8 @@ class Site:
     ozone_atm_cm: float = G173_OZONE_ATM_CM
     ambient_temperature_C: float = 20.0  #: used when no weather file gives it
     wind_speed_m_s: float = 1.0  #: likewise
+    #: refractive index of the module's front cover, for the incidence-angle loss (1: none)
+    cover_index: float = GLASS_INDEX
 
     def __post_init__(self) -> None:
         checks = [
@@ -91,6 +96,7 @@ class Site:
             ("ozone_atm_cm", self.ozone_atm_cm, 0, 1, "atm-cm"),
             ("ambient_temperature_C", self.ambient_temperature_C, -60, 60, "°C"),
             ("wind_speed_m_s", self.wind_speed_m_s, 0, 60, "m/s"),
+            ("cover_index", self.cover_index, 1, 2.5, "a refractive index from 1 (no cover) to 2.5"),
         ]
         for name, value, lo, hi, unit in checks:
             if not (isinstance(value, (int, float)) and math.isfinite(value) and lo <= value <= hi):
@@ -256,6 +262,9 @@ class SpectralSeries:
     rear_ratio: np.ndarray | None = None
     #: share of the rear face open to light (and so to emission): the rows' bifaciality
     bifaciality: float = 0.0
+    #: share of each step's plane-of-array light the front cover lets through (its
+    #: incidence-angle loss); the spectra are the light past the cover, None: no cover
+    past_cover: np.ndarray | None = None
 
     @classmethod
     def from_spectra(cls, times, wavelength_nm, irradiance, cell_temperature_K, step_hours,
@@ -296,10 +305,12 @@ class SpectralSeries:
 
     @property
     def step_irradiance(self) -> np.ndarray:
-        """Plane-of-array irradiance of each step [W/m²] (computed once)."""
+        """Plane-of-array irradiance of each step, as it arrives (before the cover) [W/m²]."""
         cached = self.__dict__.get("_step_irradiance")
         if cached is None:
             cached = self.coefficients @ np.trapezoid(self.basis, self.wavelength_nm, axis=-1)
+            if self.past_cover is not None:  # the light arriving, before the cover's loss
+                cached = cached / np.where(self.past_cover > 0, self.past_cover, 1.0)
             object.__setattr__(self, "_step_irradiance", cached)
         return cached
 
@@ -362,13 +373,36 @@ def solar_position(site: Site, times: pd.DatetimeIndex):
     return pos, aoi
 
 
+def incidence_factors(cover_index: float, tilt_deg: float, aoi_deg):
+    """Shares of the direct, sky-diffuse and ground-reflected light a cover lets through,
+    relative to normal incidence [-]: (direct (n,), sky, ground).
+
+    The physical model of a glass cover (Fresnel transmission of its front face, s and p
+    averaged, and absorption e^{−KL/cos θ_r} with K = 4 m⁻¹, L = 2 mm; De Soto et al., Sol.
+    Energy 80 (2006) 78; pvlib ``iam.physical``); diffuse light integrated over the sky and
+    ground seen by the tilted plane (Marion, Sol. Energy 153 (2017) 1; pvlib
+    ``iam.marion_diffuse``). A cover index of 1 means no cover: every factor is 1.
+    """
+    aoi = np.atleast_1d(np.asarray(aoi_deg, dtype=float))
+    if cover_index == 1.0:
+        return np.ones_like(aoi), 1.0, 1.0
+    import pvlib
+
+    direct = np.nan_to_num(pvlib.iam.physical(aoi, n=cover_index), nan=0.0)
+    diffuse = pvlib.iam.marion_diffuse("physical", tilt_deg, n=cover_index)
+    return direct, float(diffuse["sky"]), float(diffuse["ground"])
+
+
 def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=None,
                  broadband: bool = False):
-    """SPECTRL2 plane-of-array global spectra: (wavelengths (122,) [nm], (n, 122) [W m⁻² nm⁻¹]).
+    """SPECTRL2 plane-of-array global spectra past the site's cover: (wavelengths (122,) [nm],
+    (n, 122) [W m⁻² nm⁻¹]).
 
     Air mass from the apparent zenith (Kasten & Young 1989) unless given, pressure from the
-    site altitude. With ``broadband`` a third item gives SPECTRL2's own direct normal and
-    diffuse horizontal irradiance of each step, {'dni', 'dhi'} [W/m²].
+    site altitude; the direct, sky and ground parts weighted by :func:`incidence_factors`.
+    With ``broadband`` a third item gives SPECTRL2's own direct normal and diffuse horizontal
+    irradiance of each step, {'dni', 'dhi'}, and the plane-of-array irradiance before and past
+    the cover, {'poa', 'poa_past_cover'} [W/m²].
     """
     import pvlib
 
@@ -382,12 +416,18 @@ def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=N
         relative_airmass=np.asarray(airmass), precipitable_water=site.precipitable_water_cm,
         ozone=site.ozone_atm_cm, aerosol_turbidity_500nm=site.aerosol_turbidity_500nm,
         dayofyear=np.atleast_1d(dayofyear))
-    poa = np.nan_to_num(np.asarray(spectra["poa_global"], dtype=float).T, nan=0.0)
+    def part(name):
+        return np.nan_to_num(np.asarray(spectra[name], dtype=float).T, nan=0.0)
+
+    direct, sky, ground = incidence_factors(site.cover_index, site.tilt_deg, aoi)
+    poa = (direct[:, None] * part("poa_direct") + sky * part("poa_sky_diffuse")
+           + ground * part("poa_ground_diffuse"))
     wl = np.asarray(spectra["wavelength"], dtype=float)
     if not broadband:
         return wl, np.clip(poa, 0.0, None)
-    totals = {k: np.trapezoid(np.nan_to_num(np.asarray(spectra[k], dtype=float).T), wl, axis=-1)
-              for k in ("dni", "dhi")}
+    totals = {k: np.trapezoid(part(k), wl, axis=-1) for k in ("dni", "dhi")}
+    totals["poa"] = np.trapezoid(part("poa_global"), wl, axis=-1)
+    totals["poa_past_cover"] = np.trapezoid(np.clip(poa, 0.0, None), wl, axis=-1)
     return wl, np.clip(poa, 0.0, None), totals
 
 
@@ -396,7 +436,8 @@ def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=N
 #: light soil; 0.2 is the usual broadband stand-in, common practice).
 G173_TILT_DEG = 37.0
 STANDARD_SITE = Site(name="ASTM G173-03 conditions", latitude=0.0, longitude=0.0,
-                     altitude_m=0.0, tilt_deg=G173_TILT_DEG, azimuth_deg=180.0, albedo=0.2)
+                     altitude_m=0.0, tilt_deg=G173_TILT_DEG, azimuth_deg=180.0, albedo=0.2,
+                     cover_index=1.0)  # the standard is the light arriving, before any cover
 
 
 def _mean_distance_factor(dayofyear):
@@ -456,7 +497,8 @@ def anchored_factors(site: Site, apparent_zenith, aoi, dayofyear, with_broadband
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(ref > 0, poa / np.where(ref > 0, ref, 1.0), 0.0)
     grid = common_grid()
-    broadband = {k: np.concatenate([p[2][k] for p in parts]) for k in ("dni", "dhi")}
+    broadband = {k: np.concatenate([p[2][k] for p in parts])
+                 for k in ("dni", "dhi", "poa", "poa_past_cover")}
     if not with_broadband:
         return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
     return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global()), broadband
@@ -507,7 +549,9 @@ def clear_sky_series(site: Site, times: pd.DatetimeIndex, rows: Rows | None = No
                                "period or latitude")
     times_up = times[up]
     grid, ratio, basis, broadband = spectrl2_factors(site, times_up, pos[up], aoi[up], True)
-    total = ratio @ np.trapezoid(basis, grid, axis=-1)
+    past_cover = np.where(broadband["poa"] > 0, broadband["poa_past_cover"]
+                          / np.where(broadband["poa"] > 0, broadband["poa"], 1.0), 1.0)
+    total = ratio @ np.trapezoid(basis, grid, axis=-1) / past_cover  # arriving, for the temperature
     rear = None
     if rows is not None:
         cosz = np.clip(np.cos(np.radians(pos["apparent_zenith"].to_numpy()[up])), 0.0, None)
@@ -521,8 +565,16 @@ def clear_sky_series(site: Site, times: pd.DatetimeIndex, rows: Rows | None = No
                            f"precipitable water {site.precipitable_water_cm:g} cm, ozone "
                            f"{site.ozone_atm_cm:g} atm-cm, albedo {site.albedo:g}",
                            f"ambient {site.ambient_temperature_C:g} °C, wind "
-                           f"{site.wind_speed_m_s:g} m/s, SAPM {SAPM_MOUNT}") + rows_note(rows),
-                          rear, rows.bifaciality if rows else 0.0)
+                           f"{site.wind_speed_m_s:g} m/s, SAPM {SAPM_MOUNT}", cover_note(site))
+                          + rows_note(rows), rear, rows.bifaciality if rows else 0.0,
+                          past_cover if site.cover_index != 1.0 else None)
+
+
+def cover_note(site: Site) -> str:
+    if site.cover_index == 1.0:
+        return "no front cover: no incidence-angle loss"
+    return (f"front cover of index {site.cover_index:g}: incidence-angle loss of direct and "
+            "diffuse light (physical model, De Soto 2006; diffuse by Marion 2017; pvlib)")
 
 
 def rows_note(rows: Rows | None) -> tuple[str, ...]:

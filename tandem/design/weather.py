@@ -16,7 +16,9 @@ import pandas as pd
 from tandem.core.errors import TandemInputError
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
-from tandem.design.sky import Rows, Site, SpectralSeries, rows_note, solar_position, spectrl2_factors, cell_temperature_K, common_grid, rear_ratio
+from tandem.design.sky import (Rows, Site, SpectralSeries, cell_temperature_K, common_grid, cover_note,
+                               incidence_factors, rear_ratio, rows_note, solar_position,
+                               spectrl2_factors)
 from tandem.physics.spectra import (
     read_spectrum_csv,
 )
@@ -105,17 +107,23 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
     times = data.index
     step_h = float(np.median(_hours_between(times))) if times.size > 1 else 1.0
     pos, aoi = solar_position(site, times)
-    poa = pvlib.irradiance.get_total_irradiance(
+    parts = pvlib.irradiance.get_total_irradiance(
         site.tilt_deg, site.azimuth_deg, pos["apparent_zenith"], pos["azimuth"],
         data["dni"].to_numpy(), data["ghi"].to_numpy(), data["dhi"].to_numpy(),
-        albedo=site.albedo)["poa_global"].fillna(0.0).to_numpy()
+        albedo=site.albedo).fillna(0.0)
+    poa = parts["poa_global"].to_numpy()
+    direct, sky, ground = incidence_factors(site.cover_index, site.tilt_deg, aoi.to_numpy())
+    past = (direct * parts["poa_direct"].to_numpy() + sky * parts["poa_sky_diffuse"].to_numpy()
+            + ground * parts["poa_ground_diffuse"].to_numpy())
     use = (pos["apparent_zenith"].to_numpy() < 89.0) & (poa > 1.0)
     if not use.any():
         raise TandemInputError(f"{source} has no daylight irradiance on this plane")
     grid, ratio, basis = spectrl2_factors(site, times[use], pos[use], aoi[use])
     total = ratio @ np.trapezoid(basis, grid, axis=-1)
     ok = total > 0
-    scale = np.where(ok, poa[use] / np.where(ok, total, 1.0), 0.0)
+    # SPECTRL2's shape (past the cover) scaled to the file's light past the same cover
+    scale = np.where(ok, past[use] / np.where(ok, total, 1.0), 0.0)
+    past_cover = np.where(poa[use] > 0, past[use] / np.where(poa[use] > 0, poa[use], 1.0), 1.0)
     ratio = ratio * scale[:, None]
     temps = cell_temperature_K(poa[use], data["temp_air"].to_numpy()[use],
                                data["wind_speed"].to_numpy()[use])
@@ -125,10 +133,11 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
                                                                                   "dhi")))[ok]
     dropped = int((poa > 1.0).sum() - ok.sum())
     notes = ((f"{dropped} steps with irradiance but the sun at or below the horizon in SPECTRL2 "
-              "were left out",) if dropped else ()) + rows_note(rows)
+              "were left out",) if dropped else ()) + (cover_note(site),) + rows_note(rows)
     return SpectralSeries(times[use][ok], grid, ratio[ok], basis, temps[ok],
                           np.full(int(ok.sum()), step_h), f"{source} at {site.name}", notes, rear,
-                          rows.bifaciality if rows else 0.0)
+                          rows.bifaciality if rows else 0.0,
+                          past_cover[ok] if site.cover_index != 1.0 else None)
 
 
 def _hours_between(times: pd.DatetimeIndex) -> np.ndarray:
@@ -192,4 +201,7 @@ def folder_series(site: Site, folder: str | Path) -> SpectralSeries:
     temps = cell_temperature_K(total, site.ambient_temperature_C, site.wind_speed_m_s)
     return SpectralSeries.from_spectra(times, grid, irr, temps, step,
                                        f"measured spectra in {folder.name}",
-                                       ("each spectrum stands for the time until the next one",))
+                                       ("each spectrum stands for the time until the next one",
+                                        "measured spectra are taken as the light the cells receive: "
+                                        "no incidence-angle loss is added (their direct and diffuse "
+                                        "parts are unknown)"))

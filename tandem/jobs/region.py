@@ -72,6 +72,7 @@ class RegionJob:
     rows: Rows | None = None  #: bifacial rows, or None (monofacial)
     reference: Light | None = None  #: the comparison design's light (default AM1.5G)
     cell_temperature_K: float | None = None  #: one cell temperature instead of SAPM per step
+    cover_index: float = 1.526  #: the front cover's index, for the incidence-angle loss (1: none)
 
     def fingerprint(self, spec: SiteSpec) -> str:
         """SHA-256 of everything that changes a site's numbers (resume only on a match)."""
@@ -89,7 +90,8 @@ class RegionJob:
                            "period": self.period, "step": self.step_minutes, "tilt": self.tilt,
                            "albedo": self.albedo, "rows": repr(self.rows),
                            "reference": repr(self.reference),
-                           "cell_temperature_K": self.cell_temperature_K}, sort_keys=True)
+                           "cell_temperature_K": self.cell_temperature_K,
+                           "cover_index": self.cover_index}, sort_keys=True)
         return hashlib.sha256(text.encode()).hexdigest()
 
 
@@ -98,7 +100,8 @@ def region_job(front: Absorber | str, back: Absorber | str,
                thickness_points: int = 16, back_thickness_nm: float | None = None,
                period: str = "year:2026", step_minutes: float = 60.0,
                tilt: str | float = "latitude", albedo: float = 0.2, rows=None,
-               reference=None, cell_temperature_K: float | None = None) -> RegionJob:
+               reference=None, cell_temperature_K: float | None = None,
+               cover_index: float = 1.526) -> RegionJob:
     """What every site of a region computes, checked once (the same axes as a yield).
 
     ``tilt`` is degrees (0–90) or 'latitude' (tilt = |latitude|, facing the equator);
@@ -131,10 +134,13 @@ def region_job(front: Absorber | str, back: Absorber | str,
         tilt = f"{tilt_deg:g}"
     if not (math.isfinite(albedo) and 0 <= albedo <= 1):
         raise TandemInputError(f"albedo {albedo:g}: give a fraction from 0 to 1")
+    if not (math.isfinite(cover_index) and 1 <= cover_index <= 2.5):
+        raise TandemInputError(f"cover index {cover_index:g}: give a refractive index from 1 (no "
+                               "cover) to 2.5; glass is about 1.5")
     parse_period(period, "UTC", step_minutes)
     return RegionJob(a_front, a_back, operating, tuple(map(float, gaps)), tuple(map(float, thick)),
                      back_d, period, float(step_minutes), str(tilt), float(albedo), rows,
-                     reference, cell_temperature_K)
+                     reference, cell_temperature_K, float(cover_index))
 
 
 def _file_sha(path: str | None) -> str | None:
@@ -243,7 +249,8 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
     start = time.perf_counter()
     tilt = min(abs(spec.latitude), 90.0) if job.tilt == "latitude" else float(job.tilt)
     site = Site(spec.name, spec.latitude, spec.longitude, spec.altitude_m, tilt,
-                180.0 if spec.latitude >= 0 else 0.0, spec.zone, job.albedo)
+                180.0 if spec.latitude >= 0 else 0.0, spec.zone, job.albedo,
+                cover_index=job.cover_index)
     reference = (job.reference.photon_flux() if job.reference is not None
                  else load_spectrum("am1.5g").photon_flux())
     design = StackDesign(job.front, job.back, *job.operating.losses_on(reference.energy))

@@ -58,7 +58,7 @@ SCENARIO_SCHEMA = {
         "timezone": ("str", False), "albedo": ("num", False),
         "aerosol_turbidity_500nm": ("num", False), "precipitable_water_cm": ("num", False),
         "ozone_atm_cm": ("num", False), "ambient_temperature_C": ("num", False),
-        "wind_speed_m_s": ("num", False),
+        "wind_speed_m_s": ("num", False), "cover_index": ("num", False),
     },
     "weather": {"file": ("str", False), "spectra_folder": ("str", False), "period": ("str", False),
                 "step_minutes": ("num", False)},
