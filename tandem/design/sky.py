@@ -394,7 +394,7 @@ def incidence_factors(cover_index: float, tilt_deg: float, aoi_deg):
 
 
 def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=None,
-                 broadband: bool = False):
+                 broadband: bool = False, parts: bool = False):
     """SPECTRL2 plane-of-array global spectra past the site's cover: (wavelengths (122,) [nm],
     (n, 122) [W m⁻² nm⁻¹]).
 
@@ -402,7 +402,8 @@ def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=N
     site altitude; the direct, sky and ground parts weighted by :func:`incidence_factors`.
     With ``broadband`` a third item gives SPECTRL2's own direct normal and diffuse horizontal
     irradiance of each step, {'dni', 'dhi'}, and the plane-of-array irradiance before and past
-    the cover, {'poa', 'poa_past_cover'} [W/m²].
+    the cover, {'poa', 'poa_past_cover'} [W/m²]. With ``parts`` the second item is instead a
+    dict of the direct, sky-diffuse and ground-reflected spectra past the cover.
     """
     import pvlib
 
@@ -423,6 +424,10 @@ def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=N
     poa = (direct[:, None] * part("poa_direct") + sky * part("poa_sky_diffuse")
            + ground * part("poa_ground_diffuse"))
     wl = np.asarray(spectra["wavelength"], dtype=float)
+    if parts:
+        return wl, {"direct": np.clip(direct[:, None] * part("poa_direct"), 0.0, None),
+                    "sky": np.clip(sky * part("poa_sky_diffuse"), 0.0, None),
+                    "ground": np.clip(ground * part("poa_ground_diffuse"), 0.0, None)}
     if not broadband:
         return wl, np.clip(poa, 0.0, None)
     totals = {k: np.trapezoid(part(k), wl, axis=-1) for k in ("dni", "dhi")}
@@ -502,6 +507,26 @@ def anchored_factors(site: Site, apparent_zenith, aoi, dayofyear, with_broadband
     if not with_broadband:
         return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
     return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global()), broadband
+
+
+def anchored_parts(site: Site, apparent_zenith, aoi, dayofyear):
+    """The direct, sky and ground parts of :func:`anchored_factors`, past the cover: (grid,
+    {'direct', 'sky', 'ground'} → ratios (n, 122), basis (122, n_wl)); they add up to the
+    global ratios."""
+    zenith, aoi, day = np.broadcast_arrays(np.atleast_1d(np.asarray(apparent_zenith, float)),
+                                           np.atleast_1d(np.asarray(aoi, float)),
+                                           np.atleast_1d(dayofyear))
+    chunks = [spectrl2_poa(site, zenith[i:i + 1024], aoi[i:i + 1024], day[i:i + 1024],
+                           parts=True) for i in range(0, zenith.size, 1024)]
+    wl = chunks[0][0]
+    ref_wl, ref = _spectrl2_at_standard()
+    out = {}
+    for key in ("direct", "sky", "ground"):
+        poa = np.concatenate([c[1][key] for c in chunks])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            out[key] = np.where(ref > 0, poa / np.where(ref > 0, ref, 1.0), 0.0)
+    grid = common_grid()
+    return grid, out, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
 
 
 def _hat_basis(wl, grid):

@@ -16,9 +16,9 @@ import pandas as pd
 from tandem.core.errors import TandemInputError
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
-from tandem.design.sky import (Rows, Site, SpectralSeries, cell_temperature_K, common_grid, cover_note,
-                               incidence_factors, rear_ratio, rows_note, solar_position,
-                               spectrl2_factors)
+from tandem.design.sky import (Rows, Site, SpectralSeries, anchored_parts, cell_temperature_K,
+                               common_grid, cover_note, incidence_factors, rear_ratio, rows_note,
+                               solar_position)
 from tandem.physics.spectra import (
     read_spectrum_csv,
 )
@@ -118,13 +118,33 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
     use = (pos["apparent_zenith"].to_numpy() < 89.0) & (poa > 1.0)
     if not use.any():
         raise TandemInputError(f"{source} has no daylight irradiance on this plane")
-    grid, ratio, basis = spectrl2_factors(site, times[use], pos[use], aoi[use])
-    total = ratio @ np.trapezoid(basis, grid, axis=-1)
+    # Each part of the light takes SPECTRL2's clear-sky shape for that part (past the cover),
+    # scaled to the file's amount of it. Sky light beyond what a clear sky would scatter comes
+    # from clouds, which scatter nearly neutrally what would have been direct and diffuse
+    # light: that excess takes the clear-sky global shape (the idea of cloud-cover spectral
+    # models such as Nann & Riordan, J. Appl. Meteorol. 30 (1991) 447; recalled). Overcast
+    # hours come out a little bluer than clear ones, clear-sky diffuse much bluer.
+    grid, ratios, basis = anchored_parts(site, pos["apparent_zenith"].to_numpy()[use],
+                                         aoi.to_numpy()[use], times[use].day_of_year.to_numpy())
+    band = np.trapezoid(basis, grid, axis=-1)
+    model = {key: r @ band for key, r in ratios.items()}
+    clear_sky = np.minimum(sky * parts["poa_sky_diffuse"].to_numpy()[use], model["sky"])
+    amounts = {"direct": direct[use] * parts["poa_direct"].to_numpy()[use], "sky": clear_sky,
+               "ground": ground * parts["poa_ground_diffuse"].to_numpy()[use]}
+    cloud = sky * parts["poa_sky_diffuse"].to_numpy()[use] - clear_sky
+    ratio = np.zeros_like(ratios["direct"])
+    for key, r in ratios.items():
+        have = model[key] > 1e-9
+        ratio += r * np.where(have, amounts[key] / np.where(have, model[key], 1.0), 0.0)[:, None]
+    global_shape = ratios["direct"] + ratios["sky"]
+    have = (model["direct"] + model["sky"]) > 1e-9
+    ratio += global_shape * np.where(have, cloud / np.where(have, model["direct"] + model["sky"],
+                                                               1.0), 0.0)[:, None]
+    total = ratio @ band
     ok = total > 0
-    # SPECTRL2's shape (past the cover) scaled to the file's light past the same cover
-    scale = np.where(ok, past[use] / np.where(ok, total, 1.0), 0.0)
+    # a part SPECTRL2 lacks (direct light with its sun below the horizon) goes to the others
+    ratio = ratio * np.where(ok, past[use] / np.where(ok, total, 1.0), 0.0)[:, None]
     past_cover = np.where(poa[use] > 0, past[use] / np.where(poa[use] > 0, poa[use], 1.0), 1.0)
-    ratio = ratio * scale[:, None]
     temps = cell_temperature_K(poa[use], data["temp_air"].to_numpy()[use],
                                data["wind_speed"].to_numpy()[use])
     rear = None
