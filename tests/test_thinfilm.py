@@ -335,3 +335,30 @@ def test_database_absorbers_bring_their_dispersive_index_into_stacks():
     np.testing.assert_allclose(alpha, stack.back.absorber.alpha(HC_EV_NM / wl), rtol=1e-12)
     front = stack.front.index(HC_EV_NM / wl)
     np.testing.assert_array_equal(front.real, stack.front.absorber.refractive_index)
+
+
+def test_budget_csv_counts_every_photon_once_and_is_refused_without_a_stack(tmp_path,
+                                                                            monkeypatch):
+    """--budget writes the best design's photon budget per wavelength: the shares add up to 1
+    at every wavelength (the photon-conservation law the solver obeys, R + T + ΣA = 1)."""
+    import pandas as pd
+
+    from tandem.cli.app import app
+    from typer.testing import CliRunner
+
+    monkeypatch.chdir(tmp_path)
+    res = CliRunner().invoke(app, ["match", "--stack", "all-thin-film-pair", "--points", "20", "-q",
+                                   "--budget", "b.csv"])
+    assert res.exit_code == 0, res.output
+    table = pd.read_csv(tmp_path / "b.csv")
+    shares = table.drop(columns=["wavelength_nm", "energy_eV"])
+    np.testing.assert_allclose(shares.sum(axis=1), 1.0, atol=1e-9)
+    assert np.all(np.diff(table["wavelength_nm"]) > 0) and table.columns[2].startswith("front: ")
+    again = CliRunner().invoke(app, ["match", "--stack", "all-thin-film-pair", "--points", "20",
+                                     "-q", "--budget", "b.csv"])
+    assert again.exit_code == 2 and "exists" in again.stderr
+    for args, message in ((["perovskite-wide", "silicon", "--budget", "x.csv"], "--budget needs --stack"),
+                          (["--stack", "all-thin-film-pair", "--budget", "x.txt"], "give a .csv")):
+        res = CliRunner().invoke(app, ["match", *args])
+        assert res.exit_code == 2 and message in res.stderr, res.output
+        assert len(res.stderr.strip().splitlines()) == 1

@@ -132,6 +132,9 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
           points: Annotated[int, plain_option(help="Front thicknesses per sweep (log-spaced).")] = 120,
           top: Annotated[int, plain_option(help="Configurations to show.")] = 8,
           tolerance: Annotated[float, plain_option(help="Loss in % absolute defining the windows.")] = 1.0,
+          budget: Annotated[Optional[str], plain_option(
+              help="With --stack: write where the photons go in the best design, per "
+                   "wavelength, as CSV.", metavar="FILE.csv")] = None,
           plot: Plot = None, losses: Losses = None, overwrite: Overwrite = False,
           quiet: Quiet = False, large: Large = False, wide: Wide = False, json_out: Json = False,
           *, o):
@@ -145,17 +148,20 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
 
       tandem match gainp gaas --back-thickness 1um,2um,3um -t 4
 
-      tandem match --stack wide-gap-on-silicon-wafer
+      tandem match --stack wide-gap-on-silicon-wafer --budget photons.csv
     """
     if stack or not (front and back):
         from tandem.cli.render import stack_match
 
         if not stack or front or back:
             raise TandemInputError("give FRONT and BACK absorbers, or --stack FILE (not both)")
-        return stack_match(stack, o, points, plot, overwrite, quiet, json_out, wide, {
+        return stack_match(stack, o, points, plot, budget, overwrite, quiet, json_out, wide, {
             "--front-gaps": front_gaps, "--front-thickness": front_thickness,
             "--back-thickness": back_thickness, "--losses": losses,
             "--top": given("top"), "--tolerance": given("tolerance"), "--large": large})
+    if budget:
+        raise TandemInputError("--budget needs --stack: the photon budget of FRONT BACK is in "
+                               "--plot and --json")
     sweep = tandem.Sweep(
         front_gaps_eV=parse_gap_option(front_gaps, "--front-gaps"), thickness_points=points,
         front_thickness_nm=None if not front_thickness else parse_range(

@@ -13,8 +13,8 @@ from tandem.cli.options import (progress_callback, emit_json, build_light, build
 from tandem.core.errors import TandemInputError
 
 
-def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: bool, quiet: bool,
-                json_out: bool, wide: bool, unused: dict) -> None:
+def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str | None,
+                overwrite: bool, quiet: bool, json_out: bool, wide: bool, unused: dict) -> None:
     """Match the front absorber of a layer stack and report where the photons go."""
     given = [name for name, value in unused.items() if value]
     if given:
@@ -29,7 +29,10 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: b
                                "--interlayer-parasitic")
     loaded = tandem.load_stack(stack)
     figure = plot or f"photons-{loaded.key}.png"
+    if budget is not None and not budget.lower().endswith(".csv"):
+        raise TandemInputError(f"--budget '{budget}': give a .csv file name")
     check_outputs([figure], overwrite, plot=True)
+    check_outputs([budget], overwrite)
     with progress_bar(quiet or json_out, "matching") as bar:
         result = tandem.match_stack(loaded, build_light(o), build_operating(o), points=points,
                                     progress=progress_callback(bar))
@@ -37,6 +40,11 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: b
 
     s = result.summary()
     s["outputs"] = [str(stack_figure(result, figure, overwrite))]
+    if budget is not None:
+        from tandem.core.files import write_csv, write_whole
+
+        table = result.budget_frame()
+        s["outputs"].append(str(write_whole(budget, lambda p: write_csv(table, p), overwrite)))
     if json_out:
         return emit_json(s)
     swept = [k for k in s["best"] if k.endswith("[nm]")]
@@ -70,7 +78,7 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, overwrite: b
          + (f"{lite:.0f} nm" if lite else "no thickness in range"),
          *[f"note: {n}" for n in s["notes"]],
          f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K")
-    err.print(f"wrote {escape(s['outputs'][0])}")
+    err.print(f"wrote {escape(', '.join(s['outputs']))}")
     out.print(f"[dim]{escape(s['caution'])}[/]")
 
 

@@ -59,6 +59,25 @@ class StackMatchResult(ResultDisplay):
             coords=coords, attrs=conditions_attrs(self.spectrum, m.temperature_K, 2,
                                                    stack=m.stack.key))
 
+    def budget_frame(self):
+        """Where the photons go in the best design, per wavelength: the shares of the incident
+        photons absorbed in each absorber and each other layer, reflected or escaped, and
+        transmitted (they add up to 1 at every wavelength)."""
+        import pandas as pd
+
+        from tandem.core.units import HC_EV_NM
+        from tandem.design.layerstack import photon_budget
+
+        m, best = self.match, self.match.best
+        b = photon_budget(m.stack, m.energy, [best.front_thickness_nm], best.others,
+                          m.temperature_K)
+        columns = {"wavelength_nm": HC_EV_NM / b.energy, "energy_eV": b.energy,
+                   f"front: {m.stack.front.name}": b.front[0],
+                   f"back: {m.stack.back.name}": b.back[0],
+                   **{name: v[0] for name, v in b.parasitic.items()},
+                   "reflected_or_escaped": b.reflected[0], "transmitted": b.transmitted[0]}
+        return pd.DataFrame(columns).iloc[::-1].reset_index(drop=True)
+
     def plot(self, ax=None):
         from tandem.output.plots import draw_photon_budget
 
