@@ -5,7 +5,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import example, given, settings, strategies as st
 from scipy import integrate, optimize
 
 import tandem
@@ -103,10 +103,11 @@ def test_no_voltage_reaches_a_gap_at_any_concentration(gaps, concentration, coup
 
 
 @settings(max_examples=15, deadline=None)
+@example((2.1875, 0.703125), 340.0)  # 1.02e-6 relative with the threshold at 2e-4 (found by CI)
 @given(gaps=st.tuples(st.floats(1.5, 2.4), st.floats(0.6, 1.4)), temperature=st.floats(260.0, 360.0))
 def test_one_sun_keeps_the_boltzmann_forms_within_their_stated_error(gaps, temperature):
     # stack.EXACT_EMISSION_BELOW keeps the closed forms where the exact law moves Voc by under
-    # 3.5 µV and the power by under 1e-6 relative: solve with the exact law everywhere, compare
+    # 2 µV and the power by under 1e-6 relative: solve with the exact law everywhere, compare
     flux = tandem.reference_spectrum("am1.5g").photon_flux()
     fast = tandem.step_stack(flux, np.array(gaps), temperature)
     original = stack_module.EXACT_EMISSION_BELOW
@@ -115,7 +116,7 @@ def test_one_sun_keeps_the_boltzmann_forms_within_their_stated_error(gaps, tempe
         exact = tandem.step_stack(flux, np.array(gaps), temperature)
     finally:
         stack_module.EXACT_EMISSION_BELOW = original
-    assert np.all(np.abs(fast.voc - exact.voc) < 3.5e-6)
+    assert np.all(np.abs(fast.voc - exact.voc) < 2e-6)
     assert float(fast.p_2t) == pytest.approx(float(exact.p_2t), rel=1e-6)
     assert float(fast.p_4t) == pytest.approx(float(exact.p_4t), rel=1e-6)
     assert np.all(exact.voc <= fast.voc + 1e-12)  # the exact law emits more: Voc only falls

@@ -270,7 +270,7 @@ def test_direct_cover_loss_is_fresnel_and_absorption_in_the_glass():
     solver: air → glass (n = 1.526) transmittance, s and p averaged, times the glass's
     absorption e^{−KL/cos θ_r} (K = 4 m⁻¹, L = 2 mm; De Soto et al., Sol. Energy 80 (2006)
     78), relative to normal incidence."""
-    from tandem.design.sky import incidence_factors
+    from tandem.design.cover import incidence_factors
     from tandem.optics.thinfilm import stack_optics
 
     aoi = np.array([0.0, 20.0, 45.0, 60.0, 75.0, 85.0])

@@ -129,8 +129,8 @@ def am15g():
 
 def index_matched(front="perovskite-wide", back="silicon", n=3.0):
     """A stack with no reflecting interface: one real index everywhere, thick layers."""
-    f = replace(tandem.load_absorber(front), refractive_index=n)
-    b = replace(tandem.load_absorber(back), refractive_index=n)
+    f = replace(tandem.load_absorber(front), refractive_index=n, index_entry=None)
+    b = replace(tandem.load_absorber(back), refractive_index=n, index_entry=None)  # n = 3 only
     layers = (StackLayer("front", 800.0, None, 7, True, "front", "absorber", absorber=f),
               StackLayer("back", 160e3, None, 7, False, "back", "absorber", absorber=b))
     return LayerStack("matched", Path("matched.toml"), "index-matched", "", layers, n, n), f, b

@@ -23,6 +23,7 @@ import numpy as np
 import pandas as pd
 
 from tandem.core.errors import TandemInputError
+from tandem.design.cover import GLASS_INDEX, cover_note, incidence_factors
 from tandem.physics.spectra import (
     astm_g173_table,
     to_energy,
@@ -33,9 +34,6 @@ from tandem.physics.spectra import (
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
-#: Front-glass index of the physical incidence-angle model (pvlib ``iam.physical``'s default,
-#: soda-lime glass; De Soto et al., Sol. Energy 80 (2006) 78).
-GLASS_INDEX = 1.526
 G173_AEROSOL_500NM = 0.084  #: aerosol optical depth at 500 nm [-]
 G173_WATER_CM = 1.4164  #: precipitable water [cm]
 G173_OZONE_ATM_CM = 0.3438  #: ozone [atm-cm]
@@ -373,26 +371,6 @@ def solar_position(site: Site, times: pd.DatetimeIndex):
     return pos, aoi
 
 
-def incidence_factors(cover_index: float, tilt_deg: float, aoi_deg):
-    """Shares of the direct, sky-diffuse and ground-reflected light a cover lets through,
-    relative to normal incidence [-]: (direct (n,), sky, ground).
-
-    The physical model of a glass cover (Fresnel transmission of its front face, s and p
-    averaged, and absorption e^{−KL/cos θ_r} with K = 4 m⁻¹, L = 2 mm; De Soto et al., Sol.
-    Energy 80 (2006) 78; pvlib ``iam.physical``); diffuse light integrated over the sky and
-    ground seen by the tilted plane (Marion, Sol. Energy 153 (2017) 1; pvlib
-    ``iam.marion_diffuse``). A cover index of 1 means no cover: every factor is 1.
-    """
-    aoi = np.atleast_1d(np.asarray(aoi_deg, dtype=float))
-    if cover_index == 1.0:
-        return np.ones_like(aoi), 1.0, 1.0
-    import pvlib
-
-    direct = np.nan_to_num(pvlib.iam.physical(aoi, n=cover_index), nan=0.0)
-    diffuse = pvlib.iam.marion_diffuse("physical", tilt_deg, n=cover_index)
-    return direct, float(diffuse["sky"]), float(diffuse["ground"])
-
-
 def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=None,
                  broadband: bool = False, parts: bool = False):
     """SPECTRL2 plane-of-array global spectra past the site's cover: (wavelengths (122,) [nm],
@@ -590,16 +568,9 @@ def clear_sky_series(site: Site, times: pd.DatetimeIndex, rows: Rows | None = No
                            f"precipitable water {site.precipitable_water_cm:g} cm, ozone "
                            f"{site.ozone_atm_cm:g} atm-cm, albedo {site.albedo:g}",
                            f"ambient {site.ambient_temperature_C:g} °C, wind "
-                           f"{site.wind_speed_m_s:g} m/s, SAPM {SAPM_MOUNT}", cover_note(site))
+                           f"{site.wind_speed_m_s:g} m/s, SAPM {SAPM_MOUNT}", cover_note(site.cover_index))
                           + rows_note(rows), rear, rows.bifaciality if rows else 0.0,
                           past_cover if site.cover_index != 1.0 else None)
-
-
-def cover_note(site: Site) -> str:
-    if site.cover_index == 1.0:
-        return "no front cover: no incidence-angle loss"
-    return (f"front cover of index {site.cover_index:g}: incidence-angle loss of direct and "
-            "diffuse light (physical model, De Soto 2006; diffuse by Marion 2017; pvlib)")
 
 
 def rows_note(rows: Rows | None) -> tuple[str, ...]:

@@ -16,9 +16,9 @@ import pandas as pd
 from tandem.core.errors import TandemInputError
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
+from tandem.design.cover import cover_note, incidence_factors
 from tandem.design.sky import (Rows, Site, SpectralSeries, anchored_parts, cell_temperature_K,
-                               common_grid, cover_note, incidence_factors, rear_ratio, rows_note,
-                               solar_position)
+                               common_grid, rear_ratio, rows_note, solar_position)
 from tandem.physics.spectra import (
     read_spectrum_csv,
 )
@@ -153,7 +153,7 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
                                                                                   "dhi")))[ok]
     dropped = int((poa > 1.0).sum() - ok.sum())
     notes = ((f"{dropped} steps with irradiance but the sun at or below the horizon in SPECTRL2 "
-              "were left out",) if dropped else ()) + (cover_note(site),) + rows_note(rows)
+              "were left out",) if dropped else ()) + (cover_note(site.cover_index),) + rows_note(rows)
     return SpectralSeries(times[use][ok], grid, ratio[ok], basis, temps[ok],
                           np.full(int(ok.sum()), step_h), f"{source} at {site.name}", notes, rear,
                           rows.bifaciality if rows else 0.0,

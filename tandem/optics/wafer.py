@@ -95,7 +95,9 @@ def hemisphere_nodes(n_wafer, critical_indices, per_interval: int = NODES_PER_IN
     of real index n_k), per energy; repeated breakpoints are dropped.
     """
     n_w = np.asarray(n_wafer, dtype=float)
-    cuts = [np.clip((np.asarray(n, float) / n_w) ** 2, 0.0, 1.0) * np.ones_like(n_w)
+    # a medium as dense as the wafer has no critical angle: its cut stays just below grazing,
+    # so that no node sits at u = 1 (κ = n_wafer, where no light travels)
+    cuts = [np.clip((np.asarray(n, float) / n_w) ** 2, 0.0, 1.0 - 1e-9) * np.ones_like(n_w)
             for n in critical_indices]
     edges = np.sort(np.stack([np.zeros_like(n_w), *cuts, np.ones_like(n_w)]), axis=0)
     keep = np.ones(len(edges), dtype=bool)  # drop breakpoints closer than MERGE to the last kept
@@ -112,7 +114,9 @@ def hemisphere_nodes(n_wafer, critical_indices, per_interval: int = NODES_PER_IN
     t = (x + 1) / 2
     share, slope = (1 - np.cos(np.pi * t)) / 2, np.pi / 2 * np.sin(np.pi * t) * w / 2
     lo, width = edges[:-1, None, :], np.diff(edges, axis=0)[:, None, :]
-    nodes = lo + width * share[None, :, None]
+    # an interval of no width (two media alike at this energy) weighs nothing; its nodes go to
+    # normal incidence rather than onto a critical angle, where a lossless layer carries no flux
+    nodes = np.where(width > 0, lo + width * share[None, :, None], 0.0)
     weights = width * (slope / slope.sum())[None, :, None]  # constants exact: energy conserved
     return nodes.reshape(-1, n_w.size), weights.reshape(-1, n_w.size)
 
