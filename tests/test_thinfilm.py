@@ -196,11 +196,11 @@ def test_every_crossing_is_found_and_matched(am15g):
 
 
 def test_interference_fringes_give_several_crossings(am15g):
-    """Where the front saturates near the back's fringing current (a 1.78 eV front over the
+    """Where the front saturates near the back's fringing current (a 1.80 eV front over the
     flat-front wafer), J_front − J_back changes sign several times: every crossing is
     reported, the best two-terminal one first."""
     stack = load_stack("wide-gap-on-silicon-wafer")
-    layers = tuple(replace(x, gap_eV=1.78, sweep_nm=(300.0, 1500.0)) if x.role == "front" else
+    layers = tuple(replace(x, gap_eV=1.80, sweep_nm=(300.0, 1500.0)) if x.role == "front" else
                    replace(x, sweep_nm=None, thickness_nm=60.0) if x.sweep_nm else x
                    for x in stack.layers)
     result = match_in_stack(replace(stack, layers=layers), am15g, points=300)
