@@ -1,6 +1,7 @@
 """Bundled absorber descriptions against published optical data and relations."""
 
 import dataclasses
+import re
 from dataclasses import replace
 from typing import ClassVar
 from pathlib import Path
@@ -278,3 +279,30 @@ def test_a_model_name_registers_once():
 
     with pytest.raises(ValueError, match="already registered"):
         register_edge_model("table", TabulatedEdge, lambda c, u, g: None, {})
+
+
+@pytest.mark.parametrize("name, csv, expected", [
+    # a stated unit is converted (SI: 1 m⁻¹ = 0.01 cm⁻¹, 1 µm = 1000 nm); α at 700 nm = 3e4 cm⁻¹
+    ("per-m", "wavelength_nm,alpha_per_m\n500,1e7\n700,3e6\n800,1e4\n", 3e4),
+    ("um", "wavelength [um], alpha [1/cm]\n0.5,1e5\n0.7,3e4\n0.8,1e2\n", 3e4),
+    ("spaces", "wavelength (nm) alpha (cm-1)\n500 1e5\n700 3e4\n800 1e2\n", 3e4),
+    ("per-um", "wavelength_nm,alpha (um^-1)\n500,10\n700,3\n800,0.01\n", 3e4),
+    # contradictions and values that cannot be the unit the format says: one line with the fix
+    ("energy-header", "energy_eV,alpha_per_cm\n2.48,1e5\n1.77,3e4\n1.55,1e2\n",
+     "table_axis = \"energy_eV\""),
+    ("um-values", "0.5,1e5\n0.7,3e4\n0.8,1e2\n", "wavelengths in µm?"),
+    ("three-names", "wavelength,alpha,error\n500,1e5\n700,3e4\n", "does not name two columns"),
+])
+def test_table_headers_state_units_and_contradictions_are_refused(tmp_path, name, csv, expected):
+    (tmp_path / "alpha.csv").write_text(csv)
+    text = (tandem.core.files.bundled_dir("absorbers") / "cdte.toml").read_text()
+    text = text.replace('model = "direct"', 'model = "table"\ntable = "alpha.csv"')
+    text = text.replace("alpha_at_gap_per_cm = 8.0e3\n", "").replace("strength_per_cm = 9.0e4\n", "")
+    (tmp_path / f"film-{name}.toml").write_text(text)
+    if isinstance(expected, float):
+        film = tandem.load_absorber(tmp_path / f"film-{name}.toml")
+        assert alpha_at(film, 700) == pytest.approx(expected, rel=1e-12)
+    else:
+        with pytest.raises(tandem.TandemInputError, match=re.escape(expected)) as info:
+            tandem.load_absorber(tmp_path / f"film-{name}.toml")
+        assert "\n" not in str(info.value) and "absorption.table" in str(info.value)

@@ -24,7 +24,7 @@ from tandem.core.errors import TandemInputError
 from tandem.core.toml_files import Checker
 from tandem.core.units import HC_EV_NM
 from tandem.optics.database import database_alpha
-from tandem.physics.columns import read_two_columns
+from tandem.physics.columns import read_data_text, read_two_columns
 
 
 class Edge(Protocol):
@@ -184,6 +184,67 @@ def _read_bands(c: Checker, urbach_eV: float, onset_eV: float) -> BandEdge:
     return BandEdge(tuple(out), urbach_eV, onset_eV)
 
 
+#: Units a table's header may state, as the factor to nm, eV or cm⁻¹.
+_X_UNITS = {"wavelength_nm": {"nm": 1.0, "um": 1e3, "µm": 1e3, "micron": 1e3},
+            "energy_eV": {"ev": 1.0, "mev": 1e-3}}
+_ALPHA_UNITS = {"cm": 1.0, "m": 1e-2, "um": 1e4, "µm": 1e4, "mm": 10.0}
+
+
+class TableHeaderError(ValueError):
+    """A table header that contradicts the declared axis: (problem, fix)."""
+
+
+def table_units(text: str, axis: str) -> tuple[float, float]:
+    """Factors taking a two-column α table's values to nm (or eV) and cm⁻¹, from its header.
+
+    A header names each column's quantity and unit (``wavelength_nm``, ``wavelength [um]``,
+    ``energy_eV``, ``alpha_per_cm``, ``alpha [1/m]``, ``alpha (m^-1)``): a stated unit is
+    converted; a header naming the other axis than ``table_axis`` is refused with the fix.
+    No header: nm (or eV) and cm⁻¹, as the format says.
+    """
+    import re
+
+    header = None
+    for raw in text.lstrip("\ufeff").splitlines():
+        line = raw.strip()
+        if not line or line.startswith("#"):
+            continue
+        cells = [x for x in re.split(r"[,;\t]+", line) if x.strip()]
+        if len(cells) == 1:  # separated by spaces only: 'wavelength (nm) alpha (cm-1)'
+            cells = []
+            for token in line.split():
+                if cells and token[0] in "([":
+                    cells[-1] += " " + token
+                else:
+                    cells.append(token)
+        try:
+            [float(x) for x in cells]
+        except ValueError:
+            header = cells
+        break
+    if header is None:
+        return 1.0, 1.0
+    if len(header) != 2:
+        raise TableHeaderError(f"has the header '{line[:60]}', which does not name two columns",
+                               "head them e.g. wavelength_nm,alpha_per_cm")
+    first, second = (h.strip().lower() for h in header)
+    words = re.split(r"[^a-zµ]+", first)
+    says_energy = "energy" in words or "ev" in words or "mev" in words
+    says_wavelength = any(w in words for w in ("wavelength", "lambda", "nm", "um", "µm"))
+    if axis == "wavelength_nm" and says_energy:
+        raise TableHeaderError(f"heads its first column '{header[0].strip()}' while table_axis "
+                               "is wavelength_nm", "set table_axis = \"energy_eV\" in [absorption]")
+    if axis == "energy_eV" and says_wavelength and not says_energy:
+        raise TableHeaderError(f"heads its first column '{header[0].strip()}' while table_axis "
+                               "is energy_eV", "remove table_axis (wavelengths in nm)")
+    units = _X_UNITS[axis]
+    x_scale = next((units[w] for w in words if w in units), 1.0)
+    # the α column: 'alpha_per_m', 'alpha [1/m]', 'alpha (m^-1)', 'a_cm-1' ...
+    unit = re.search(r"(?:per[_ ]?|1/|/)(cm|mm|um|µm|m)\b|\b(cm|mm|um|µm|m)\s*(?:\^?-1|⁻¹)", second)
+    alpha_scale = _ALPHA_UNITS[unit.group(1) or unit.group(2)] if unit else 1.0
+    return x_scale, alpha_scale
+
+
 def _read_table(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
     rel = c.get("absorption", "table")
     if rel is None:
@@ -198,8 +259,19 @@ def _read_table(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
     x_name = "wavelength [nm]" if axis == "wavelength_nm" else "energy [eV]"
     data = read_two_columns(path, "absorption table", x_name, "alpha [cm^-1]", rising=False,
                             positive=True)
-    x, alpha = data[:, 0], data[:, 1]
+    try:
+        x_scale, alpha_scale = table_units(read_data_text(path, "absorption table", x_name)[1],
+                                           axis)
+    except TableHeaderError as exc:
+        c.fail("absorption.table", f"'{path.name}' {exc.args[0]}", exc.args[1])
+    x, alpha = data[:, 0] * x_scale, data[:, 1] * alpha_scale
     energy = HC_EV_NM / x if axis == "wavelength_nm" else x
+    if energy.max() < 0.3 or energy.min() > 4.5:  # none of any solar spectrum
+        likely = ("wavelengths in µm? head the column wavelength_um, or give nm"
+                  if axis == "wavelength_nm" and x.max() < 20 else
+                  "energies in eV? check table_axis" if axis == "energy_eV" else "check the unit")
+        c.fail("absorption.table", f"'{path.name}' covers {energy.min():.3g}–{energy.max():.3g} "
+               "eV, none of the solar spectrum (0.3–4.5 eV)", likely)
     order = np.argsort(energy)
     if np.any(np.diff(energy[order]) <= 0):
         c.fail("absorption.table", f"'{path.name}' repeats a point", "remove duplicate rows")
