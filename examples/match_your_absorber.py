@@ -30,7 +30,7 @@ refractive_index = 2.4
 light_trapping = "double-pass"
 
 [electrical]
-voc_deficit_V = 0.12
+nonradiative_voc_loss_V = 0.12
 
 [thickness]
 default_nm = 600

@@ -157,7 +157,7 @@ def test_cigs_gap_follows_its_cited_relation():
         assert float(cigs.relation.gap(x)) == pytest.approx(1.010 + 0.626 * x - 0.167 * x * (1 - x))
 
 
-def test_ere_from_voc_deficit():
+def test_ere_from_the_nonradiative_voc_loss():
     # Rau 2007: ΔVoc,nr = −(kT/q) ln ERE, at 298.15 K
     pvk = tandem.load_absorber("perovskite-wide")
     assert pvk.ere == pytest.approx(np.exp(-0.15 / (tandem.core.units.K_B_EV * 298.15)))
@@ -306,3 +306,43 @@ def test_table_headers_state_units_and_contradictions_are_refused(tmp_path, name
         with pytest.raises(tandem.TandemInputError, match=re.escape(expected)) as info:
             tandem.load_absorber(tmp_path / f"film-{name}.toml")
         assert "\n" not in str(info.value) and "absorption.table" in str(info.value)
+
+
+def _perovskite_with(tmp_path, electrical: str, name: str = "film"):
+    text = (tandem.core.files.bundled_dir("absorbers") / "perovskite-wide.toml").read_text()
+    text = text.replace("nonradiative_voc_loss_V = 0.15", electrical)
+    (tmp_path / f"{name}.toml").write_text(text)
+    return tmp_path / f"{name}.toml"
+
+
+def test_the_trades_voc_deficit_is_its_own_key(tmp_path):
+    """gap_voltage_offset_V is Eg/q − Voc (the trade's 'Voc deficit'; the bandgap-voltage
+    offset W_oc of King et al., Prog. Photovolt. 19 (2011) 797, recalled): the ERE it implies
+    puts the absorber's Voc alone, by Rau's relation Voc = Voc,rad + (kT/q) ln ERE, at Eg − W.
+    Voc,rad is recomputed here on the G173 table's own trapezoid grid, independently of the
+    tool's refined grid (0.5 mV)."""
+    from tandem.physics.detailed_balance import blackbody_photon_flux
+    from tandem.physics.spectra import astm_g173_table
+
+    film = tandem.load_absorber(_perovskite_with(tmp_path, "gap_voltage_offset_V = 0.50"))
+    table = astm_g173_table()
+    lam = np.asarray(table["wavelength"], float)
+    e = HC_EV_NM / lam[::-1]
+    phi = (np.asarray(table["global"], float) * lam / (HC_EV_NM * 1.602176634e-19))[::-1] * lam[::-1] / e
+    layer = film.layer(e, position="alone")
+    a = layer.absorptance() * layer.collection()
+    kt = tandem.core.units.K_B_EV * 298.15
+    voc_rad = kt * np.log1p(np.trapezoid(a * phi, e) / np.trapezoid(a * blackbody_photon_flux(e, 298.15), e))
+    assert film.gap_eV - 0.50 == pytest.approx(voc_rad + kt * np.log(film.ere), abs=5e-4)
+    assert "gap–voltage offset" in film.ere_origin
+
+
+@pytest.mark.parametrize("electrical, message", [
+    ("voc_deficit_V = 0.15", "write nonradiative_voc_loss_V = 0.15"),
+    ("gap_voltage_offset_V = 0.10", "radiative limit"),
+    ("ere = 0.01\nnonradiative_voc_loss_V = 0.1", "2 of ere, nonradiative_voc_loss_V"),
+])
+def test_ambiguous_or_impossible_voltage_losses_are_refused(tmp_path, electrical, message):
+    with pytest.raises(tandem.TandemInputError, match=re.escape(message)) as info:
+        tandem.load_absorber(_perovskite_with(tmp_path, electrical, f"f{len(electrical)}"))
+    assert "\n" not in str(info.value)

@@ -200,7 +200,7 @@ CASES = [
 def inputs(folder: Path) -> None:
     """Hostile input files, written before each case."""
     (folder / "bad-alpha.toml").write_text(PVK.replace("strength_per_cm = 8.0e4", "strength_per_cm = 1e308"))
-    (folder / "bad-deficit.toml").write_text(PVK.replace("voc_deficit_V = 0.15", "voc_deficit_V = 1e6"))
+    (folder / "bad-deficit.toml").write_text(PVK.replace("nonradiative_voc_loss_V = 0.15", "nonradiative_voc_loss_V = 1e6"))
     (folder / "bad-urbach.toml").write_text(PVK.replace("urbach_energy_meV = 15", "urbach_energy_meV = 1e-300"))
     (folder / "bad-index.toml").write_text(PVK.replace("refractive_index = 2.5", "refractive_index = 1e300"))
     (folder / "bad-range.toml").write_text(PVK.replace("range_nm = [100, 1500]", "range_nm = [1e-300, 1e300]"))

@@ -242,8 +242,8 @@ def test_accept_edited_runs_the_edit_and_records_it(study_folder, tmp_path):
 def test_colliding_stems_get_unique_keys_and_reproduce(tmp_path):
     (tmp_path / "a").mkdir()
     text = tandem.load_absorber("perovskite-wide").path.read_text()
-    (tmp_path / "a" / "perovskite-wide.toml").write_text(text.replace("voc_deficit_V = 0.15",
-                                                                      "voc_deficit_V = 0.25"))
+    (tmp_path / "a" / "perovskite-wide.toml").write_text(text.replace("nonradiative_voc_loss_V = 0.15",
+                                                                      "nonradiative_voc_loss_V = 0.25"))
     scen = tiny(tmp_path, fronts='["perovskite-wide", "a/perovskite-wide.toml"]')
     study = run_study(load_scenario(scen))
     keys = sorted(r["front"] for r in study.rows)

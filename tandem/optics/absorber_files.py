@@ -10,6 +10,7 @@ from __future__ import annotations
 import difflib
 import functools
 import math
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -49,7 +50,9 @@ SCHEMA: Schema = {
     "optics": {"refractive_index": ("num", True), "light_trapping": ("str", True)},
     "electrical": {
         "ere": ("num", False),
-        "voc_deficit_V": ("num", False),
+        "nonradiative_voc_loss_V": ("num", False),
+        "gap_voltage_offset_V": ("num", False),
+        "voc_deficit_V": ("num", False),  # refused with the new names (it was ambiguous)
         "collection_length_nm": ("num", False),
     },
     # intrinsic recombination in the bulk (see tandem.physics.recombination)
@@ -168,21 +171,38 @@ def parse_absorber(path: Path) -> Absorber:
     trapping = c.get("optics", "light_trapping")
     if trapping not in LIGHT_TRAPPING:
         c.fail("optics.light_trapping", f"= {trapping!r} is not known", f"use one of {', '.join(LIGHT_TRAPPING)}")
-    ere, deficit = c.get("electrical", "ere"), c.get("electrical", "voc_deficit_V")
-    if (ere is None) == (deficit is None):
-        c.fail("electrical.ere", "and electrical.voc_deficit_V are both given or both missing",
-               "give one: ere in (0, 1], or the non-radiative Voc deficit in V")
+    if c.get("electrical", "voc_deficit_V") is not None:
+        old = c.get("electrical", "voc_deficit_V")
+        c.fail("electrical.voc_deficit_V", "is ambiguous and no longer read (in the trade a Voc "
+               "deficit is Eg/q − Voc; here it meant Voc,rad − Voc)",
+               f"write nonradiative_voc_loss_V = {old!r} for the same absorber, or "
+               "gap_voltage_offset_V for Eg/q − Voc")
+    given = {k: c.get("electrical", k) for k in ("ere", "nonradiative_voc_loss_V",
+                                                  "gap_voltage_offset_V")}
+    stated = [k for k, v in given.items() if v is not None]
+    if len(stated) != 1:
+        c.fail("electrical.ere", f"and its alternatives: {len(stated)} of ere, "
+               "nonradiative_voc_loss_V and gap_voltage_offset_V are given",
+               "give exactly one: ere in (0, 1], the non-radiative loss Voc,rad − Voc in V, or "
+               "the gap–voltage offset Eg/q − Voc in V")
+    ere, loss, offset = given["ere"], given["nonradiative_voc_loss_V"], given["gap_voltage_offset_V"]
     if ere is not None:
         if not 0 < ere <= 1:
             c.fail("electrical.ere", f"= {ere:g} is outside (0, 1]", "give a fraction, 1 = radiative limit")
         origin = "given"
-    else:
-        if not 0 <= deficit < 0.8 * value:
-            c.fail("electrical.voc_deficit_V", f"= {deficit:g} V is outside 0 to {0.8 * value:.2f} V",
-                   "give the non-radiative loss in V, well below the gap")
+    elif loss is not None:
+        if not 0 <= loss < 0.8 * value:
+            c.fail("electrical.nonradiative_voc_loss_V", f"= {loss:g} V is outside 0 to "
+                   f"{0.8 * value:.2f} V", "give the non-radiative loss in V, well below the gap")
         # Rau 2007: ΔVoc,nr = −(kT/q) ln ERE, at the standard 298.15 K
-        ere = math.exp(-deficit / (K_B_EV * T_STC))
-        origin = f"from a non-radiative Voc deficit of {deficit:g} V at 298.15 K"
+        ere = math.exp(-loss / (K_B_EV * T_STC))
+        origin = f"from a non-radiative Voc loss of {loss:g} V at 298.15 K"
+    else:
+        if not 0 < offset < value:
+            c.fail("electrical.gap_voltage_offset_V", f"= {offset:g} V is outside 0 to {value:g} V",
+                   "give Eg/q − Voc in V, below the gap")
+        ere = 1.0  # settled below, once the absorber's optics are known
+        origin = ""
     lc = c.positive("electrical", "collection_length_nm", "nm", low=1.0, high=1e8)
     bulk = _bulk_spec(c)
 
@@ -210,7 +230,7 @@ def parse_absorber(path: Path) -> Absorber:
     sources = c.data.get("sources", {})
     if not sources:
         c.fail("sources", "is empty", "name where each number comes from (mark values recalled from memory)")
-    return Absorber(
+    absorber = Absorber(
         key=path.stem, path=path, name=c.get("", "name") or c.data["name"],
         description=c.data["description"], gap_eV=float(value), relation=relation, edge=edge,
         edge_model=name, refractive_index=float(n), light_trapping=trapping, ere=float(ere),
@@ -221,6 +241,37 @@ def parse_absorber(path: Path) -> Absorber:
         defect_floor_per_cm=float(floor), tail_cutoff_below_gap_eV=cutoff, bulk=bulk,
         index_entry=c.get("absorption", "database") if name == "database" else None,
     )
+    if offset is None:
+        return absorber
+    if bulk is not None:
+        c.fail("electrical.gap_voltage_offset_V", "cannot be turned into an ERE for an absorber "
+               "with a [recombination] section (its Auger loss depends on the operating point)",
+               "give ere or nonradiative_voc_loss_V (the defect recombination besides Auger)")
+    voc_rad = radiative_voc(absorber)
+    if value - offset >= voc_rad:
+        c.fail("electrical.gap_voltage_offset_V", f"= {offset:g} V puts Voc ({value - offset:.3f} V) "
+               f"at or above this absorber's radiative limit ({voc_rad:.3f} V)",
+               f"give more than {value - voc_rad:.3f} V")
+    # Voc = Voc,rad + (kT/q) ln ERE (Rau 2007) at AM1.5G, 298.15 K and the default thickness
+    loss = voc_rad - (value - offset)
+    return replace(absorber, ere=math.exp(-loss / (K_B_EV * T_STC)),
+                   ere_origin=f"from a gap–voltage offset Eg/q − Voc of {offset:g} V (Voc,rad "
+                              f"{voc_rad:.3f} V at the default thickness, AM1.5G, 298.15 K)")
+
+
+def radiative_voc(absorber: Absorber) -> float:
+    """The absorber's radiative-limit Voc alone at its default gap and thickness, AM1.5G,
+    298.15 K [V]: kT/q·ln(1 + Jsc/J0,rad), both from its absorptance (collected) by
+    reciprocity (Rau 2007)."""
+    from tandem.physics.detailed_balance import blackbody_photon_flux
+    from tandem.physics.spectra import reference_flux, trapezoid_weights
+
+    flux = reference_flux()
+    e = flux.energy
+    layer = absorber.layer(e, position="alone")
+    collected = layer.absorptance() * layer.collection() * trapezoid_weights(e)
+    jsc, j0 = collected @ flux.flux, collected @ blackbody_photon_flux(e, T_STC)
+    return float(K_B_EV * T_STC * math.log1p(jsc / j0))
 
 
 def _bulk_spec(c: Checker) -> BulkSpec | None:

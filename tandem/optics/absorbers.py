@@ -64,7 +64,7 @@ class Absorber:
     refractive_index: float
     light_trapping: str
     ere: float
-    ere_origin: str  #: 'given' or how it was derived from a Voc deficit
+    ere_origin: str  #: 'given' or how it was derived (a non-radiative loss, a gap–voltage offset)
     collection_length_nm: float | None
     thickness_nm: float  #: default
     thickness_range_nm: tuple[float, float]
