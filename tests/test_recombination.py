@@ -15,7 +15,8 @@ from tandem.core.units import K_B_EV
 from tandem.physics import detailed_balance as db
 from tandem.physics.recombination import (AUGER_MODELS, BulkSpec, equilibrium_densities,
                                           intrinsic_density, stack_bulk)
-from tandem.physics.stack import evaluate_stack, junction_voltage
+from tandem.physics.junctions import junction_voltage
+from tandem.physics.stack import evaluate_stack
 
 T_25C = 298.15
 RICHTER = AUGER_MODELS["richter-2012"]

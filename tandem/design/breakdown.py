@@ -49,7 +49,8 @@ import numpy as np
 from tandem.physics import detailed_balance as db
 from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import trapezoid_weights
-from tandem.physics.stack import Electrical, StackPerformance, junction_voltage
+from tandem.physics.junctions import junction_voltage
+from tandem.physics.stack import Electrical, StackPerformance
 from tandem.core.units import K_B_EV, SUN_DILUTION
 
 

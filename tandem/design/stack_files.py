@@ -16,10 +16,10 @@ from tandem.core.files import bundled_dir
 from tandem.core.toml_files import read_toml
 from tandem.design.layerstack import LayerStack, StackLayer
 from tandem.optics.absorber_files import load_absorber
+from tandem.optics.absorptance import LIGHT_TRAPPING
 from tandem.optics.database import database_index
 
 ROLES = ("front", "back", "parasitic")
-TRAPPING = ("single-pass", "double-pass", "lambertian")
 TOP_KEYS = {"title", "description", "ambient_index", "exit_index", "layer", "sources"}
 LAYER_KEYS = {"name", "thickness_nm", "points", "nk", "absorber", "gap_eV", "coherent", "role",
               "light_trapping"}
@@ -176,9 +176,9 @@ def _layer(path: Path, i: int, x: dict) -> StackLayer:
         _fail(path, f"{where}.coherent", f"is true for {top / 1000:g} µm",
               "set coherent = false for layers thicker than 20 µm (glass, wafers)")
     trapping = x.get("light_trapping")
-    if trapping is not None and trapping not in TRAPPING:
+    if trapping is not None and trapping not in LIGHT_TRAPPING:
         _fail(path, f"{where}.light_trapping", f"= {trapping!r} is unknown",
-              f"use {', '.join(TRAPPING)}")
+              f"use {', '.join(LIGHT_TRAPPING)}")
     if trapping is not None and (role != "back" or coherent):
         _fail(path, f"{where}.light_trapping", "is only for an incoherent back absorber",
               "set role = \"back\" and coherent = false, or remove it")

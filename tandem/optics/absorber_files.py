@@ -263,7 +263,7 @@ def radiative_voc(absorber: Absorber) -> float:
     """The absorber's radiative-limit Voc alone at its default gap and thickness, AM1.5G,
     298.15 K [V]: kT/q·ln(1 + Jsc/J0,rad), both from its absorptance (collected) by
     reciprocity (Rau 2007)."""
-    from tandem.physics.detailed_balance import blackbody_photon_flux
+    from tandem.physics.detailed_balance import blackbody_photon_flux, open_circuit_voltage
     from tandem.physics.spectra import reference_flux, trapezoid_weights
 
     flux = reference_flux()
@@ -271,7 +271,7 @@ def radiative_voc(absorber: Absorber) -> float:
     layer = absorber.layer(e, position="alone")
     collected = layer.absorptance() * layer.collection() * trapezoid_weights(e)
     jsc, j0 = collected @ flux.flux, collected @ blackbody_photon_flux(e, T_STC)
-    return float(K_B_EV * T_STC * math.log1p(jsc / j0))
+    return float(open_circuit_voltage(jsc, j0, T_STC))
 
 
 def _bulk_spec(c: Checker) -> BulkSpec | None:

@@ -36,9 +36,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from tandem.optics.absorptance import LIGHT_TRAPPING
 from tandem.optics.thinfilm import POLARISATIONS, Layer, stack_optics
 
-REAR_TYPES = ("single-pass", "double-pass", "lambertian")
 #: Gauss–Legendre nodes per interval between critical angles (convergence tested).
 NODES_PER_INTERVAL = 8
 #: A single pass that transmits less than this leaves nothing worth tracing back.
@@ -135,8 +135,8 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     entering : the light entering the wafer at normal incidence (…, nE) [fraction of the sun]
     wavelength_nm : (nE,)
     """
-    if rear not in REAR_TYPES:
-        raise ValueError(f"rear must be one of {REAR_TYPES}, not {rear!r}")
+    if rear not in LIGHT_TRAPPING:
+        raise ValueError(f"rear must be one of {LIGHT_TRAPPING}, not {rear!r}")
     lam = np.asarray(wavelength_nm, dtype=float)
     n_w = np.asarray(wafer_index, dtype=complex) * np.ones_like(lam)
     alpha_d = 4 * np.pi * n_w.imag / lam * float(thickness_nm)  # α·d [-]

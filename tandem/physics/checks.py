@@ -9,10 +9,9 @@ from typing import Sequence
 import numpy as np
 
 from tandem.core.errors import TandemInputError
-from tandem.core.units import K_B_EV
 from tandem.physics import detailed_balance as db
 from tandem.physics.spectra import PhotonFlux
-from tandem.physics.stack import Electrical, StackPerformance
+from tandem.physics.stack import Electrical
 
 # --------------------------------------------------------------------------------------
 # One design, checked and described for people

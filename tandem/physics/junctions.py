@@ -18,10 +18,10 @@ from tandem.physics import detailed_balance as db
 from tandem.physics.emission import StepEmission
 
 
-
 #: Golden-section steps for a maximum-power point: 0.618³² ≈ 2e-7 of the bracket, where the
 #: power, flat at its maximum, is exact to about 1e-13 relative.
 GOLDEN_STEPS = 32
+
 
 @dataclass(frozen=True)
 class _Cells:

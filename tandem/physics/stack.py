@@ -16,8 +16,7 @@ from tandem.core.errors import TandemInputError
 from tandem.core.units import K_B_EV
 from tandem.physics import detailed_balance as db
 from tandem.physics.emission import StepEmission
-from tandem.physics.junctions import (_Cells, _coupled_four_terminal, _own_mpp, _series_general,
-                                      junction_voltage)
+from tandem.physics.junctions import _Cells, _coupled_four_terminal, _own_mpp, _series_general
 from tandem.physics.recombination import BulkRecombination
 from tandem.physics.spectra import PhotonFlux
 
