@@ -20,8 +20,9 @@ gap.
 
 from __future__ import annotations
 
+import functools
 import math
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
@@ -242,6 +243,13 @@ class StackMatch:
     temperature_K: float
     irradiance: float
     energy: np.ndarray  #: the spectrum's energy grid [eV]
+
+    @functools.cached_property
+    def best_budget(self) -> PhotonBudget:
+        """Where the photons go in the best design, on the spectrum's grid (computed once)."""
+        b = self.best
+        return photon_budget(self.stack, self.energy, [b.front_thickness_nm], b.others,
+                             self.temperature_K)
 
 
 def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):

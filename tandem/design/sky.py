@@ -399,19 +399,18 @@ def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=N
         return np.nan_to_num(np.asarray(spectra[name], dtype=float).T, nan=0.0)
 
     direct, sky, ground = incidence_factors(site.cover_index, site.tilt_deg, aoi)
-    poa = (direct[:, None] * part("poa_direct") + sky * part("poa_sky_diffuse")
-           + ground * part("poa_ground_diffuse"))
+    past = {"direct": direct[:, None] * part("poa_direct"), "sky": sky * part("poa_sky_diffuse"),
+            "ground": ground * part("poa_ground_diffuse")}
     wl = np.asarray(spectra["wavelength"], dtype=float)
     if parts:
-        return wl, {"direct": np.clip(direct[:, None] * part("poa_direct"), 0.0, None),
-                    "sky": np.clip(sky * part("poa_sky_diffuse"), 0.0, None),
-                    "ground": np.clip(ground * part("poa_ground_diffuse"), 0.0, None)}
+        return wl, {key: np.clip(value, 0.0, None) for key, value in past.items()}
+    poa = np.clip(past["direct"] + past["sky"] + past["ground"], 0.0, None)
     if not broadband:
-        return wl, np.clip(poa, 0.0, None)
+        return wl, poa
     totals = {k: np.trapezoid(part(k), wl, axis=-1) for k in ("dni", "dhi")}
     totals["poa"] = np.trapezoid(part("poa_global"), wl, axis=-1)
-    totals["poa_past_cover"] = np.trapezoid(np.clip(poa, 0.0, None), wl, axis=-1)
-    return wl, np.clip(poa, 0.0, None), totals
+    totals["poa_past_cover"] = np.trapezoid(poa, wl, axis=-1)
+    return wl, poa, totals
 
 
 #: The standard's own conditions (ASTM G173-03): relative air mass 1.5, a surface tilted 37°
@@ -469,42 +468,48 @@ def anchored_factors(site: Site, apparent_zenith, aoi, dayofyear, with_broadband
     The spectra are ratios @ basis: linear interpolation is linear in the ratios, so each
     basis row is G173 times the interpolant of one SPECTRL2 wavelength (a hat function).
     """
-    zenith, aoi, day = np.broadcast_arrays(np.atleast_1d(np.asarray(apparent_zenith, float)),
-                                           np.atleast_1d(np.asarray(aoi, float)),
-                                           np.atleast_1d(dayofyear))
-    # SPECTRL2 holds a few dozen (122 × n) intermediates: chunks keep a 15-minute year small
-    parts = [spectrl2_poa(site, zenith[i:i + 1024], aoi[i:i + 1024], day[i:i + 1024],
-                          broadband=True) for i in range(0, zenith.size, 1024)]
-    wl, poa = parts[0][0], np.concatenate([p[1] for p in parts])
-    ref_wl, ref = _spectrl2_at_standard()
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ratio = np.where(ref > 0, poa / np.where(ref > 0, ref, 1.0), 0.0)
-    grid = common_grid()
-    broadband = {k: np.concatenate([p[2][k] for p in parts])
-                 for k in ("dni", "dhi", "poa", "poa_past_cover")}
+    chunks = _spectrl2_chunks(site, apparent_zenith, aoi, dayofyear, broadband=True)
+    ratio = _per_standard(np.concatenate([c[1] for c in chunks]))
+    grid, basis = _anchored_basis(chunks[0][0])
     if not with_broadband:
-        return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
-    return grid, ratio, _hat_basis(wl, grid) * np.interp(grid, *_g173_global()), broadband
+        return grid, ratio, basis
+    broadband = {k: np.concatenate([c[2][k] for c in chunks])
+                 for k in ("dni", "dhi", "poa", "poa_past_cover")}
+    return grid, ratio, basis, broadband
 
 
 def anchored_parts(site: Site, apparent_zenith, aoi, dayofyear):
     """The direct, sky and ground parts of :func:`anchored_factors`, past the cover: (grid,
     {'direct', 'sky', 'ground'} → ratios (n, 122), basis (122, n_wl)); they add up to the
     global ratios."""
+    chunks = _spectrl2_chunks(site, apparent_zenith, aoi, dayofyear, parts=True)
+    ratios = {key: _per_standard(np.concatenate([c[1][key] for c in chunks]))
+              for key in ("direct", "sky", "ground")}
+    grid, basis = _anchored_basis(chunks[0][0])
+    return grid, ratios, basis
+
+
+def _spectrl2_chunks(site: Site, apparent_zenith, aoi, dayofyear, **kind):
+    """:func:`spectrl2_poa` over many steps, 1024 at a time: SPECTRL2 holds a few dozen
+    (122 × n) intermediates, and chunks keep a 15-minute year small."""
     zenith, aoi, day = np.broadcast_arrays(np.atleast_1d(np.asarray(apparent_zenith, float)),
                                            np.atleast_1d(np.asarray(aoi, float)),
                                            np.atleast_1d(dayofyear))
-    chunks = [spectrl2_poa(site, zenith[i:i + 1024], aoi[i:i + 1024], day[i:i + 1024],
-                           parts=True) for i in range(0, zenith.size, 1024)]
-    wl = chunks[0][0]
-    ref_wl, ref = _spectrl2_at_standard()
-    out = {}
-    for key in ("direct", "sky", "ground"):
-        poa = np.concatenate([c[1][key] for c in chunks])
-        with np.errstate(divide="ignore", invalid="ignore"):
-            out[key] = np.where(ref > 0, poa / np.where(ref > 0, ref, 1.0), 0.0)
+    return [spectrl2_poa(site, zenith[i:i + 1024], aoi[i:i + 1024], day[i:i + 1024], **kind)
+            for i in range(0, zenith.size, 1024)]
+
+
+def _per_standard(poa):
+    """SPECTRL2 spectra (n, 122) as ratios to SPECTRL2 at the standard's conditions."""
+    ref = _spectrl2_at_standard()[1]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(ref > 0, poa / np.where(ref > 0, ref, 1.0), 0.0)
+
+
+def _anchored_basis(wl):
+    """(common grid, basis (122, n_wl)): G173 times the hat interpolant of each wavelength."""
     grid = common_grid()
-    return grid, out, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
+    return grid, _hat_basis(wl, grid) * np.interp(grid, *_g173_global())
 
 
 def _hat_basis(wl, grid):

@@ -113,8 +113,10 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
         albedo=site.albedo).fillna(0.0)
     poa = parts["poa_global"].to_numpy()
     direct, sky, ground = incidence_factors(site.cover_index, site.tilt_deg, aoi.to_numpy())
-    past = (direct * parts["poa_direct"].to_numpy() + sky * parts["poa_sky_diffuse"].to_numpy()
-            + ground * parts["poa_ground_diffuse"].to_numpy())
+    past_parts = {"direct": direct * parts["poa_direct"].to_numpy(),
+                  "sky": sky * parts["poa_sky_diffuse"].to_numpy(),
+                  "ground": ground * parts["poa_ground_diffuse"].to_numpy()}
+    past = past_parts["direct"] + past_parts["sky"] + past_parts["ground"]
     use = (pos["apparent_zenith"].to_numpy() < 89.0) & (poa > 1.0)
     if not use.any():
         raise TandemInputError(f"{source} has no daylight irradiance on this plane")
@@ -127,19 +129,19 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
     grid, ratios, basis = anchored_parts(site, pos["apparent_zenith"].to_numpy()[use],
                                          aoi.to_numpy()[use], times[use].day_of_year.to_numpy())
     band = np.trapezoid(basis, grid, axis=-1)
+    amounts = {key: value[use] for key, value in past_parts.items()}
     model = {key: r @ band for key, r in ratios.items()}
-    clear_sky = np.minimum(sky * parts["poa_sky_diffuse"].to_numpy()[use], model["sky"])
-    amounts = {"direct": direct[use] * parts["poa_direct"].to_numpy()[use], "sky": clear_sky,
-               "ground": ground * parts["poa_ground_diffuse"].to_numpy()[use]}
-    cloud = sky * parts["poa_sky_diffuse"].to_numpy()[use] - clear_sky
-    ratio = np.zeros_like(ratios["direct"])
-    for key, r in ratios.items():
+    amounts["sky"] = np.minimum(amounts["sky"], model["sky"])  # the clear-sky share of it
+    amounts["cloud"] = past_parts["sky"][use] - amounts["sky"]
+    ratios["cloud"] = ratios["direct"] + ratios["sky"]
+    model["cloud"] = model["direct"] + model["sky"]
+
+    def scaled(key):  # the part's SPECTRL2 ratios scaled to the file's amount of it
         have = model[key] > 1e-9
-        ratio += r * np.where(have, amounts[key] / np.where(have, model[key], 1.0), 0.0)[:, None]
-    global_shape = ratios["direct"] + ratios["sky"]
-    have = (model["direct"] + model["sky"]) > 1e-9
-    ratio += global_shape * np.where(have, cloud / np.where(have, model["direct"] + model["sky"],
-                                                               1.0), 0.0)[:, None]
+        return ratios[key] * np.where(have, amounts[key] / np.where(have, model[key], 1.0),
+                                      0.0)[:, None]
+
+    ratio = scaled("direct") + scaled("sky") + scaled("ground") + scaled("cloud")
     total = ratio @ band
     ok = total > 0
     # a part SPECTRL2 lacks (direct light with its sun below the horizon) goes to the others

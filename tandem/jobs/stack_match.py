@@ -66,11 +66,9 @@ class StackMatchResult(ResultDisplay):
         import pandas as pd
 
         from tandem.core.units import HC_EV_NM
-        from tandem.design.layerstack import photon_budget
 
-        m, best = self.match, self.match.best
-        b = photon_budget(m.stack, m.energy, [best.front_thickness_nm], best.others,
-                          m.temperature_K)
+        m = self.match
+        b = m.best_budget
         columns = {"wavelength_nm": HC_EV_NM / b.energy, "energy_eV": b.energy,
                    f"front: {m.stack.front.name}": b.front[0],
                    f"back: {m.stack.back.name}": b.back[0],

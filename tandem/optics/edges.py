@@ -24,7 +24,7 @@ from tandem.core.errors import TandemInputError
 from tandem.core.toml_files import Checker
 from tandem.core.units import HC_EV_NM
 from tandem.optics.database import database_alpha
-from tandem.physics.columns import read_data_text, read_two_columns
+from tandem.physics.columns import parse_two_columns, read_data_text
 
 
 class Edge(Protocol):
@@ -257,11 +257,12 @@ def _read_table(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
         c.fail("absorption.table", f"= '{path.name}' not found next to the absorber file",
                "put the CSV beside the .toml or fix the path")
     x_name = "wavelength [nm]" if axis == "wavelength_nm" else "energy [eV]"
-    data = read_two_columns(path, "absorption table", x_name, "alpha [cm^-1]", rising=False,
-                            positive=True)
+    # one read: the numbers, and the header that states their units
+    path, text = read_data_text(path, "absorption table", f"{x_name}, alpha [cm^-1]")
+    data = parse_two_columns(text, f"absorption table '{path}'", x_name, "alpha [cm^-1]",
+                             rising=False, positive=True)
     try:
-        x_scale, alpha_scale = table_units(read_data_text(path, "absorption table", x_name)[1],
-                                           axis)
+        x_scale, alpha_scale = table_units(text, axis)
     except TableHeaderError as exc:
         c.fail("absorption.table", f"'{path.name}' {exc.args[0]}", exc.args[1])
     x, alpha = data[:, 0] * x_scale, data[:, 1] * alpha_scale

@@ -402,7 +402,7 @@ def draw_photon_budget(result, ax=None) -> Figure:
 
     With ``ax``, only the photon budget is drawn, into that axes.
     """
-    from tandem.design.layerstack import photon_budget, usable_from_eV
+    from tandem.design.layerstack import usable_from_eV
 
     m = result.match
     best = m.best
@@ -433,7 +433,7 @@ def draw_photon_budget(result, ax=None) -> Figure:
         ax1.legend(fontsize=8, loc="lower right")
         ax1.grid(alpha=0.3)
     e = m.energy
-    budget = photon_budget(m.stack, e, [best.front_thickness_nm], best.others, m.temperature_K)
+    budget = m.best_budget
     wl = HC_EV_NM / e
     edge = HC_EV_NM / usable_from_eV(m.stack, m.temperature_K)
     keep = (wl >= 300) & (wl <= edge + 100)
