@@ -189,3 +189,134 @@ def test_recombination_section_is_checked(tmp_path):
                              "intrinsic_density_temperature_K = 300\ndoping_per_cm3 = 1e15\n"
                              "doping_type = \"p\""))
     assert doped.bulk.doping_cm3 == 1e15 and not doped.bulk.n_type
+
+
+# --- defect (Shockley–Read–Hall) recombination, bulk and surfaces ----------------------------
+
+def srh_rate(n_i, doping, n_type, v, vt, tau, s, width_cm):
+    """The textbook SRH rate per area, written independently: mid-gap level (n1 = p1 = n_i),
+    τ_n0 = τ_p0 = τ in a bulk of width W, velocity S at each of two surfaces (Shockley & Read,
+    Phys. Rev. 87 (1952) 835; Stevenson & Keyes, Physica 20 (1954) 1041) [cm⁻² s⁻¹]."""
+    majority = doping / 2 + math.sqrt(doping**2 / 4 + n_i**2)
+    n0, p0 = (majority, n_i**2 / majority) if n_type else (n_i**2 / majority, majority)
+    # (n0 + Δn)(p0 + Δn) = n_i²·e^{qV/kT}, with n0·p0 = n_i²
+    excess = n_i**2 * math.expm1(v / vt)  # n·p − n_i²
+    b = n0 + p0
+    dn = 2 * excess / (b + math.sqrt(b * b + 4 * excess))  # the root without cancellation
+    n, p = n0 + dn, p0 + dn
+    bulk = excess / (tau * (n + n_i) + tau * (p + n_i))
+    surface = excess / ((n + n_i) / s + (p + n_i) / s) if s > 0 else 0.0
+    return width_cm * bulk + 2 * surface
+
+
+def srh_only(n_i, doping, n_type, tau, s, width_um):
+    spec = BulkSpec(None, n_i, 300.0, doping, n_type, tau, s)
+    return stack_bulk([spec], [width_um * 1000.0], [1.12], [1.12], 300.0)
+
+
+def test_srh_at_low_injection_is_the_effective_lifetime():
+    # A p-type wafer at low injection: J = q·W·Δn/τ_eff with 1/τ_eff = 1/τ_b + 2S/W, the
+    # common-practice combination of bulk and surface lifetimes (Sproul, J. Appl. Phys. 76
+    # (1994) 2851, recalled: exact for S·W/D ≪ 1, which the flat-density model assumes)
+    n_i, na, tau, s, w_um = 1e10, 1e16, 1e-3, 10.0, 150.0
+    vt = K_B_EV * 300.0
+    j = float(np.ravel(srh_only(n_i, na, False, tau, s, w_um).current(0.45, vt))[0])
+    dn = n_i**2 * math.expm1(0.45 / vt) / na  # minority excess at low injection
+    w = w_um * 1e-4
+    tau_eff = 1 / (1 / tau + 2 * s / w)
+    assert j == pytest.approx(1.602176634e-19 * w * dn / tau_eff * 1e4, rel=1e-4)
+
+
+def test_srh_in_an_undoped_bulk_is_an_ideality_two_diode():
+    # n = p = n_i·e^{qV/2kT} exactly, so J = q·(W/τ + 2S)·n_i·(e^{qV/2kT} − 1)/2: the
+    # Sah–Noyce–Shockley ideality-2 recombination current (Proc. IRE 45 (1957) 1228)
+    n_i, tau, s, w_um = 1e10, 1e-4, 5.0, 100.0
+    vt = K_B_EV * 300.0
+    v = np.array([0.50, 0.60])
+    j = np.ravel(srh_only(n_i, 0.0, True, tau, s, w_um).current(v, vt))
+    expected = 1.602176634e-19 * (w_um * 1e-4 / tau + 2 * s) * n_i * np.expm1(v / (2 * vt)) / 2 * 1e4
+    assert j == pytest.approx(expected, rel=1e-12)
+    assert math.log(j[1] / j[0]) / 0.10 * vt == pytest.approx(0.5, rel=1e-3)
+
+
+@settings(max_examples=60, deadline=None)
+@given(v=st.floats(-0.5, 0.8), doping=st.sampled_from([0.0, 1e14, 1e16]), n_type=st.booleans(),
+       tau=st.sampled_from([1e-6, 1e-3, math.inf]), s=st.sampled_from([0.0, 1.0, 1e4]),
+       auger=st.booleans())
+def test_bulk_current_and_slope_follow_the_textbook_rates(v, doping, n_type, tau, s, auger):
+    # The engine's current against the independent SRH rate (plus the Auger form), and its
+    # analytic slope against a central difference
+    if doping == 0:
+        n_type = True
+    spec = BulkSpec(RICHTER if auger else None, 1e10, 300.0, doping, n_type, tau, s)
+    bulk = stack_bulk([spec], [1e5], [1.12], [1.12], 300.0).subcell(0)
+    vt = K_B_EV * 300.0
+    expected = 1.602176634e-19 * 1e4 * srh_rate(1e10, doping, n_type, v, vt, tau, s, 1e-2)
+    auger_only = float(stack_bulk([BulkSpec(RICHTER, 1e10, 300.0, doping, n_type)], [1e5], [1.12],
+                                  [1.12], 300.0).subcell(0).current(v, vt)) if auger else 0.0
+    j, slope = (float(x) for x in bulk.current_slope(v, vt))
+    assert j == pytest.approx(expected + auger_only, rel=1e-9, abs=1e-30)
+    assert float(bulk.current(v, vt)) == pytest.approx(j, rel=1e-12, abs=1e-30)
+    if auger and abs(v) < 1e-3:
+        return  # the fit's |Δn|^0.92 is not twice differentiable at 0: no difference quotient
+    h = 1e-6
+    numeric = (float(bulk.current(v + h, vt)) - float(bulk.current(v - h, vt))) / (2 * h)
+    # the difference quotient is only as good as its rounding: ~eps·|J|/h
+    assert slope == pytest.approx(numeric, rel=1e-5, abs=1e-10 * abs(j) / h + 1e-20)
+
+
+@settings(max_examples=40, deadline=None)
+@given(jl=st.floats(50.0, 600.0), current=st.floats(-100.0, 600.0),
+       tau=st.sampled_from([1e-7, 1e-4]), s=st.sampled_from([0.0, 100.0]),
+       doping=st.sampled_from([0.0, 1e16]))
+def test_junction_voltage_with_srh_solves_the_balance(jl, current, tau, s, doping):
+    # The balance J = J_L − J0·(e^{qV/kT} − 1) − J_SRH(V), solved by brentq on the textbook rate
+    vt = K_B_EV * 300.0
+    j0 = 1e-12
+    bulk = srh_only(1e10, doping, False, tau, s, 150.0).subcell(0)
+    v = float(junction_voltage(current, jl, j0, 0.0, 1.0, vt, True, math.inf, (bulk,)))
+    if current >= jl:
+        return  # beyond the photocurrent: the diode's own continuation
+
+    def balance(x):
+        return (jl - j0 * math.expm1(x / vt) - current
+                - 1.602176634e-19 * 1e4 * srh_rate(1e10, doping, False, x, vt, tau, s, 150e-4))
+
+    assert v == pytest.approx(optimize.brentq(balance, -5.0, 1.2, xtol=1e-13), abs=1e-9)
+
+
+def test_a_lifetime_in_a_front_absorber_lowers_a_stack_with_an_auger_back(am15g):
+    # Different kinds of bulk recombination in one stack (SRH in front, Auger behind): both
+    # connections fall, 2T ≤ 4T, and the front Voc drops by the textbook amount's order
+    from tandem.design.matching import Conditions, StackDesign, stack_performance
+
+    pk = tandem.load_absorber("perovskite-wide")
+    srh = replace(pk, ere=1.0, bulk=BulkSpec(None, 1e5, 300.0, 0.0, True, 1e-6, 0.0))
+    design = StackDesign(srh, tandem.load_absorber("silicon"))
+    cond = Conditions(am15g)
+    d = np.array([300.0, 500.0, 700.0])
+    perf = stack_performance(design, cond, 1.68, d, 110e3)
+    plain = stack_performance(replace(design, front=replace(srh, bulk=None)), cond, 1.68, d, 110e3)
+    assert np.all(perf.p_2t <= perf.p_4t * (1 + 1e-12))
+    assert np.all(perf.p_4t < plain.p_4t) and np.all(perf.voc[:, 0] < plain.voc[:, 0])
+
+
+def test_srh_keys_are_checked(tmp_path):
+    si = (tandem.bundled_absorbers()["silicon"]).read_text()
+
+    def parse(text):
+        p = tmp_path / "si.toml"
+        p.write_text(text)
+        return tandem.parse_absorber(p)
+
+    srh = si.replace('auger = "richter-2012"', 'srh_lifetime_s = 1e-3\n'
+                     'surface_recombination_velocity_cm_per_s = 2.5')
+    spec = parse(srh).bulk
+    assert spec.model is None and spec.srh_lifetime_s == 1e-3 and spec.surface_velocity_cm_s == 2.5
+    assert "bulk lifetime 0.001 s, surfaces 2.5 cm/s each" in parse(srh).bulk_note()
+    with pytest.raises(TandemInputError, match=r"srh_lifetime_s.*1e-3 for 1 ms"):
+        parse(srh.replace("srh_lifetime_s = 1e-3", "srh_lifetime_s = 1000"))
+    with pytest.raises(TandemInputError, match=r"surface_recombination_velocity_cm_per_s.*outside"):
+        parse(srh.replace("= 2.5", "= -1"))
+    with pytest.raises(TandemInputError, match=r"recombination.*states no recombination"):
+        parse(si.replace('auger = "richter-2012"', ""))

@@ -55,9 +55,11 @@ SCHEMA: Schema = {
         "voc_deficit_V": ("num", False),  # refused with the new names (it was ambiguous)
         "collection_length_nm": ("num", False),
     },
-    # intrinsic recombination in the bulk (see tandem.physics.recombination)
+    # bulk and surface recombination (see tandem.physics.recombination)
     "recombination": {
-        "auger": ("str", True),
+        "auger": ("str", False),
+        "srh_lifetime_s": ("num", False),
+        "surface_recombination_velocity_cm_per_s": ("num", False),
         "intrinsic_density_per_cm3": ("num", True),
         "intrinsic_density_temperature_K": ("num", True),
         "doping_per_cm3": ("num", False),
@@ -245,8 +247,8 @@ def parse_absorber(path: Path) -> Absorber:
         return absorber
     if bulk is not None:
         c.fail("electrical.gap_voltage_offset_V", "cannot be turned into an ERE for an absorber "
-               "with a [recombination] section (its Auger loss depends on the operating point)",
-               "give ere or nonradiative_voc_loss_V (the defect recombination besides Auger)")
+               "with a [recombination] section (its loss there depends on the operating point)",
+               "give ere or nonradiative_voc_loss_V (the recombination the section does not state)")
     voc_rad = radiative_voc(absorber)
     if value - offset >= voc_rad:
         c.fail("electrical.gap_voltage_offset_V", f"= {offset:g} V puts Voc ({value - offset:.3f} V) "
@@ -275,16 +277,29 @@ def radiative_voc(absorber: Absorber) -> float:
 
 
 def _bulk_spec(c: Checker) -> BulkSpec | None:
-    """The [recombination] section: an Auger parametrisation, n_i where it was stated, doping."""
+    """The [recombination] section: an Auger parametrisation and/or SRH lifetime and surface
+    velocity, n_i where it was stated, doping."""
     if "recombination" not in c.data:
         return None
-    for key in ("auger", "intrinsic_density_per_cm3", "intrinsic_density_temperature_K"):
+    for key in ("intrinsic_density_per_cm3", "intrinsic_density_temperature_K"):
         if c.get("recombination", key) is None:
-            c.fail(f"recombination.{key}", "is missing", "intrinsic recombination needs auger, "
+            c.fail(f"recombination.{key}", "is missing", "bulk recombination needs "
                    "intrinsic_density_per_cm3 and intrinsic_density_temperature_K")
     name = c.get("recombination", "auger")
-    if name not in AUGER_MODELS:
+    if name is not None and name not in AUGER_MODELS:
         c.fail("recombination.auger", f"= {name!r} is not known", f"use one of {', '.join(AUGER_MODELS)}")
+    # an SRH lifetime beyond a second, or below a picosecond, is a unit slip (µs or ms given)
+    tau = c.positive("recombination", "srh_lifetime_s", "seconds (did you mean 1e-3 for 1 ms?)",
+                     low=1e-12, high=1.0)
+    velocity = c.get("recombination", "surface_recombination_velocity_cm_per_s")
+    # 0 (ideal passivation) up to the carriers' thermal velocity, about 1e7 cm/s
+    if velocity is not None and not (math.isfinite(velocity) and 0 <= velocity <= 1e7):
+        c.fail("recombination.surface_recombination_velocity_cm_per_s",
+               f"= {velocity:g} is outside 0–1e7", "give each surface's velocity in cm/s "
+               "(did you mean 10 for 0.1 m/s?)")
+    if name is None and tau is None and velocity is None:
+        c.fail("recombination", "states no recombination",
+               "give auger, srh_lifetime_s or surface_recombination_velocity_cm_per_s")
     n_i = c.positive("recombination", "intrinsic_density_per_cm3", "cm^-3 (silicon: about 1e10)",
                      low=1e-10, high=1e20)
     t_ref = c.positive("recombination", "intrinsic_density_temperature_K",
@@ -300,7 +315,9 @@ def _bulk_spec(c: Checker) -> BulkSpec | None:
     if doping == 0 and kind is not None:
         c.fail("recombination.doping_type", "is given for an undoped bulk",
                "remove it, or give doping_per_cm3")
-    return BulkSpec(AUGER_MODELS[name], float(n_i), float(t_ref), float(doping), kind != "p")
+    return BulkSpec(None if name is None else AUGER_MODELS[name], float(n_i), float(t_ref),
+                    float(doping), kind != "p", math.inf if tau is None else float(tau),
+                    0.0 if velocity is None else float(velocity))
 
 
 # --------------------------------------------------------------------------------------

@@ -111,15 +111,24 @@ class Absorber:
         return alpha
 
     def bulk_note(self) -> str | None:
-        """What the absorber's intrinsic recombination is, in one line (None without)."""
+        """What the absorber's bulk and surface recombination is, in one line (None without)."""
         if self.bulk is None:
             return None
         b = self.bulk
         doping = ("undoped" if b.doping_cm3 == 0 else
                   f"{'n' if b.n_type else 'p'}-type {b.doping_cm3:.3g} cm⁻³")
-        return (f"{self.key}: Auger recombination in its bulk ({b.model.name}, {doping}, n_i "
-                f"{b.n_i_cm3:.3g} cm⁻³ at {b.n_i_temperature_K:g} K) beside its radiative "
-                f"emission; its ERE {self.ere:g} describes the other (defect) recombination")
+        state = [f"{doping}, n_i {b.n_i_cm3:.3g} cm⁻³ at {b.n_i_temperature_K:g} K"]
+        kinds = []
+        if b.model is not None:  # the state is said once, with the first kind
+            kinds.append(f"Auger recombination in its bulk ({b.model.name}, {state.pop()})")
+        srh = [f"bulk lifetime {b.srh_lifetime_s:.3g} s"] if math.isfinite(b.srh_lifetime_s) else []
+        if b.surface_velocity_cm_s > 0:
+            srh.append(f"surfaces {b.surface_velocity_cm_s:.3g} cm/s each")
+        if srh:
+            kinds.append(f"SRH recombination ({', '.join(srh + state)})")
+        other = "other (defect)" if not srh else "remaining"
+        return (f"{self.key}: {' and '.join(kinds)} beside its radiative emission; its ERE "
+                f"{self.ere:g} describes the {other} recombination")
 
     def gap_shift_eV(self, temperature_K) -> np.ndarray | float:
         """Gap change from 298.15 K with the description's temperature coefficient [eV]."""

@@ -249,8 +249,10 @@ def absorber_summary(a) -> dict:
         "ere": a.ere,
         "ere_origin": a.ere_origin,
         "collection_length_nm": a.collection_length_nm,
-        "auger": None if a.bulk is None else {
-            "model": a.bulk.model.name,
+        "recombination": None if a.bulk is None else {
+            "auger": None if a.bulk.model is None else a.bulk.model.name,
+            "srh_lifetime_s": a.bulk.srh_lifetime_s if math.isfinite(a.bulk.srh_lifetime_s) else None,
+            "surface_recombination_velocity_cm_per_s": a.bulk.surface_velocity_cm_s,
             "intrinsic_density_per_cm3": a.bulk.n_i_cm3,
             "intrinsic_density_temperature_K": a.bulk.n_i_temperature_K,
             "doping_per_cm3": a.bulk.doping_cm3,

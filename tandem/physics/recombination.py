@@ -1,4 +1,4 @@
-"""Intrinsic (Auger) recombination in an absorber's bulk, as a current through its junction.
+"""Recombination in an absorber's bulk and at its surfaces, as a current through its junction.
 
 A junction at voltage V splits the quasi-Fermi levels by qV, so n·p = n_i²·e^{qV/kT}; with
 background doping the equilibrium densities are n0, p0 (n0·p0 = n_i²) and the excess density
@@ -16,12 +16,23 @@ IEEE J. Photovolt. 3 (2013) 1184):
 
 (densities in cm⁻³). In undoped silicon under light (n ≈ p ≈ Δn) it grows as Δn^2.92, so a
 thicker wafer absorbs more but recombines more: the best thickness is a result.
+
+Defect (Shockley–Read–Hall) recombination through a mid-gap level with equal capture, in the
+bulk (lifetime τ = τ_n0 = τ_p0) and at the two surfaces (velocity S each), adds
+
+    J_SRH = q·(W/τ + 2S)·(n·p − n_i²)/(n + p + 2n_i)
+
+(Shockley & Read, Phys. Rev. 87 (1952) 835; Hall, Phys. Rev. 87 (1952) 387; the surface form
+of Stevenson & Keyes, Physica 20 (1954) 1041 — common practice). At low injection in a doped
+bulk it is the familiar 1/τ_eff = 1/τ + 2S/W; in an undoped bulk under light it is an
+ideality-2 diode, J0 = q·n_i·(W/τ + 2S)/2.
 """
 
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass
+import math
+from dataclasses import dataclass, fields
 
 import numpy as np
 
@@ -85,110 +96,119 @@ def equilibrium_densities(n_i, doping_cm3, n_type: bool):
 
 @dataclass(frozen=True)
 class BulkRecombination:
-    """Auger recombination of each subcell's bulk; arrays broadcast against (..., m).
+    """Auger and SRH recombination of each subcell; arrays broadcast against (..., m).
 
-    A subcell without it has ``width_cm`` 0. :meth:`current` is J_A(V) [A/m²].
+    A subcell without either has ``width_cm`` and ``srh_velocity`` 0. :meth:`current` is
+    J(V) [A/m²].
     """
 
-    model: AugerModel
     width_cm: np.ndarray
     n_i: np.ndarray  #: intrinsic density at the cell temperature [cm⁻³]
     n0: np.ndarray
     p0: np.ndarray
-    low: np.ndarray  #: the doping part of the bracket, model.low_injection(n0, p0)
+    low: np.ndarray  #: the doping part of the Auger bracket, AugerModel.low_injection(n0, p0)
+    injection: np.ndarray  #: the Auger bracket's coefficient of Δn^exponent (0 without Auger)
+    exponent: np.ndarray
+    srh_velocity: np.ndarray  #: W/τ + 2S [cm/s] (0 without SRH)
 
     @functools.cached_property
     def _constants(self):
-        """n_i², n0 + p0 and (n0 + p0)², computed once."""
-        s = self.n0 + self.p0
-        return self.n_i**2, s, s * s
+        """n_i², n0 + p0 and (n0 − p0)², computed once."""
+        return self.n_i**2, self.n0 + self.p0, (self.n0 - self.p0) ** 2
 
     def _excess(self, x):
-        """Δn and n·p − n_i² at reduced voltage x = qV/kT [cm⁻³, cm⁻⁶]; Δn keeps the sign
-        of V (a cancellation-free root of the quadratic)."""
-        ni2, s, s2 = self._constants
+        """Δn, n·p − n_i² and n + p at reduced voltage x = qV/kT [cm⁻³, cm⁻⁶, cm⁻³].
+
+        n + p = √((n0 − p0)² + 4n_i²e^x) (from (n0 + Δn)(p0 + Δn) = n_i²e^x), free of the
+        cancellation (n0 + p0) + 2Δn suffers in reverse bias; Δn keeps the sign of V."""
+        ni2, s, d2 = self._constants
         drive = ni2 * np.expm1(x)  # n·p − n_i²
-        return 2 * drive / (s + np.sqrt(s2 + 4 * drive)), drive
+        total = np.sqrt(d2 + 4 * ni2 * np.exp(x))
+        return 2 * drive / (s + total), drive, total
 
     def current(self, voltage, vt):
-        """J_A = q·W·R at junction voltage ``voltage`` and thermal voltage ``vt`` [A/m²]."""
-        dn, drive = self._excess(np.asarray(voltage) / vt)
-        rate = drive * (self.low + self.model.injection * np.abs(dn) ** self.model.injection_exponent)
-        return (Q * CM2_PER_M2 * self.width_cm) * rate  # no term where the width is 0
+        """J = q·W·R_Auger + J_SRH at junction voltage ``voltage`` and thermal voltage ``vt``
+        [A/m²]."""
+        dn, drive, total = self._excess(np.asarray(voltage) / vt)
+        rate = drive * (self.low + self.injection * np.abs(dn) ** self.exponent)
+        srh = self.srh_velocity * drive / (total + 2 * self.n_i)
+        return (Q * CM2_PER_M2) * (self.width_cm * rate + srh)  # no term where both are 0
 
     def current_slope(self, voltage, vt):
-        """(J_A, dJ_A/dV) from one evaluation of the densities, for Newton steps."""
+        """(J, dJ/dV) from one evaluation of the densities, for Newton steps."""
         x = np.asarray(voltage) / vt
-        m = self.model
-        ni2, s, _ = self._constants
+        ni2 = self._constants[0]
         with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-            dn, drive = self._excess(x)
+            dn, drive, total = self._excess(x)
             e = ni2 * np.exp(x)  # d(n·p)/dx
-            ddn = e / (s + 2 * dn)
-            bracket = self.low + m.injection * np.abs(dn) ** m.injection_exponent
-            d_bracket = np.where(dn != 0, m.injection * m.injection_exponent
-                                 * np.abs(dn) ** (m.injection_exponent - 1) * np.sign(dn) * ddn, 0.0)
-            qw = Q * CM2_PER_M2 * self.width_cm  # no term where the width is 0
-            return qw * drive * bracket, qw * (e * bracket + drive * d_bracket) / vt
+            ddn = e / total  # dΔn/dx
+            power = np.abs(dn) ** self.exponent
+            bracket = self.low + self.injection * power
+            d_bracket = np.where(dn != 0, self.injection * self.exponent * power / dn * ddn, 0.0)
+            denominator = total + 2 * self.n_i  # n + p + 2n_i
+            srh = self.srh_velocity * drive / denominator
+            d_srh = self.srh_velocity * (e - 2 * drive * ddn / denominator) / denominator
+            qc = Q * CM2_PER_M2
+            return (qc * (self.width_cm * drive * bracket + srh),
+                    qc * (self.width_cm * (e * bracket + drive * d_bracket) + d_srh) / vt)
 
     def subcell(self, index) -> "BulkRecombination":
         """The arrays at ``index`` of the subcell axis (an int, or a slice keeping it)."""
         def pick(a):
             a = np.asarray(a, dtype=float)
             return a[..., index] if a.ndim else a
-        return BulkRecombination(self.model, pick(self.width_cm), pick(self.n_i), pick(self.n0),
-                                 pick(self.p0), pick(self.low))
+        return BulkRecombination(*(pick(getattr(self, f.name)) for f in fields(self)))
 
     def active(self, index) -> bool:
-        """Whether subcell ``index`` has a bulk term anywhere in the sweep."""
-        return bool(np.any(np.asarray(self.width_cm)[..., index] > 0))
+        """Whether subcell ``index`` has a bulk or surface term anywhere in the sweep."""
+        width = np.asarray(self.width_cm)[..., index]
+        srh = np.asarray(self.srh_velocity)[..., index]
+        return bool(np.any((width > 0) & (self.injection[..., index] + self.low[..., index] > 0))
+                    or np.any(srh > 0))
 
 
 @dataclass(frozen=True)
 class BulkSpec:
-    """An absorber's intrinsic recombination as its file states it."""
+    """An absorber's bulk and surface recombination as its file states it."""
 
-    model: AugerModel
+    model: AugerModel | None  #: the Auger parametrisation (None: no Auger term)
     n_i_cm3: float  #: intrinsic carrier density at ``n_i_temperature_K`` [cm⁻³]
     n_i_temperature_K: float
     doping_cm3: float = 0.0  #: net background doping [cm⁻³]
     n_type: bool = True
+    srh_lifetime_s: float = math.inf  #: bulk SRH lifetime τ_n0 = τ_p0, mid-gap level [s]
+    surface_velocity_cm_s: float = 0.0  #: SRH velocity of each of the two surfaces [cm/s]
+
+    def srh_velocity(self, width_cm):
+        """W/τ + 2S [cm/s]: the SRH rate per unit of (n·p − n_i²)/(n + p + 2n_i)."""
+        return np.asarray(width_cm) / self.srh_lifetime_s + 2 * self.surface_velocity_cm_s
 
 
 def stack_bulk(specs, widths_nm, gaps_at_ref_eV, gaps_eV, temperature_K) -> BulkRecombination | None:
-    """The Auger recombination of subcells (front first) for :func:`~tandem.physics.stack.evaluate_stack`.
+    """The bulk and surface recombination of subcells (front first) for
+    :func:`~tandem.physics.stack.evaluate_stack`.
 
     ``specs`` holds a :class:`BulkSpec` or None per subcell; ``widths_nm``, ``gaps_at_ref_eV``
     (each gap at its spec's n_i temperature) and ``gaps_eV`` (at the cell temperature)
     broadcast against the sweep's leading axes. None when no subcell has a spec.
     """
-    present = [s for s in specs if s is not None]
-    if not present:
+    if all(s is None for s in specs):
         return None
-    model = present[0].model
-    if any(s.model is not model for s in present):
-        raise ValueError("subcells with different Auger parametrisations")
     t = np.asarray(temperature_K, dtype=float)
-    width, n_i, n0, p0 = [], [], [], []
+    parts = []  # per subcell: width, n_i, n0, p0, low, injection, exponent, srh velocity
     for s, w, g_ref, g in zip(specs, widths_nm, gaps_at_ref_eV, gaps_eV):
-        if s is None:  # no bulk term: zero width (a tiny n_i keeps the arithmetic finite)
-            ni = np.ones_like(t)
-            width.append(0.0 * np.asarray(w, dtype=float))
-            n_i.append(ni)
-            n0.append(ni)
-            p0.append(ni)
+        w_cm = np.asarray(w, dtype=float) * 1e-7
+        if s is None:  # no term: zero coefficients (a unit n_i keeps the arithmetic finite)
+            one = np.ones_like(t)
+            parts.append((0.0 * w_cm, one, one, one, 0.0, 0.0, 1.0, 0.0))
             continue
         ni = intrinsic_density(s.n_i_cm3, s.n_i_temperature_K, g_ref, g, t)
-        a, b = equilibrium_densities(ni, s.doping_cm3, s.n_type)
-        width.append(np.asarray(w, dtype=float) * 1e-7)
-        n_i.append(ni)
-        n0.append(a)
-        p0.append(b)
-    shape = np.broadcast_shapes(*(np.shape(x) for x in width + n_i))
-
-    def stacked(parts):
-        return np.stack([np.broadcast_to(p, shape) for p in parts], axis=-1)
-
-    n0s, p0s = stacked(n0), stacked(p0)
-    return BulkRecombination(model, stacked(width), stacked(n_i), n0s, p0s,
-                             model.low_injection(n0s, p0s))
+        n0, p0 = equilibrium_densities(ni, s.doping_cm3, s.n_type)
+        m = s.model
+        auger = (0.0, 0.0, 1.0) if m is None else (m.low_injection(n0, p0), m.injection,
+                                                    m.injection_exponent)
+        parts.append((w_cm, ni, n0, p0, *auger, s.srh_velocity(w_cm)))
+    shape = np.broadcast_shapes(*(np.shape(x) for part in parts for x in part))
+    columns = [np.stack([np.broadcast_to(np.asarray(p[k], dtype=float), shape) for p in parts],
+                        axis=-1) for k in range(8)]
+    return BulkRecombination(*columns)
