@@ -19,7 +19,7 @@ _WHERE = {
     "Light": "jobs.inputs", "OperatingPoint": "jobs.inputs", "Sweep": "jobs.inputs",
     "gap_range": "jobs.inputs", "gap_values": "jobs.inputs", "thickness_axis": "jobs.inputs",
     "limit": "jobs.limit", "match": "jobs.match", "gap_map": "jobs.gap_map",
-    "energy_yield": "jobs.energy_yield", "fabrication_spread": "jobs.spread",
+    "energy_yield": "jobs.energy_yield", "energy_yield_stack": "jobs.energy_yield", "fabrication_spread": "jobs.spread",
     "LimitResult": "jobs.limit", "MatchStudy": "jobs.match", "MapResult": "jobs.gap_map",
     "YieldResult": "jobs.energy_yield", "SpreadResult": "jobs.spread",
     "match_stack": "jobs.stack_match", "StackMatchResult": "jobs.stack_match",

@@ -1,6 +1,7 @@
 """Real-sky spectra, energy yield and fabrication scatter."""
 
 import json
+import re
 
 import numpy as np
 import pandas as pd
@@ -358,3 +359,78 @@ def test_cloudy_hours_are_bluer_than_clear_ones_but_not_clear_sky_blue():
     g173 = tandem.reference_spectrum("am1.5g").photon_flux()
     assert clear == pytest.approx(ape(g173.energy, g173.flux), abs=0.03)
     assert clear + 0.02 < overcast < 2.05
+
+
+# --- a layer stack's energy ---------------------------------------------------------------
+
+@pytest.mark.parametrize("temperature", [298.15, 338.15])
+def test_stack_yield_under_a_constant_spectrum_is_its_efficiency_times_insolation(temperature):
+    # The yield of a layer stack goes through the same thin-film budget that is checked
+    # against tmm (test_thinfilm, test_wafer): under a constant AM1.5G day its energy is the
+    # stack's efficiency at that cell temperature times the insolation, thickness by thickness
+    from tandem.design.layerstack import evaluate_budget, photon_budget
+    from tandem.design.yields import StackYield
+    from tandem.physics.stack import IDEAL
+
+    series, flux = constant_series(6, temperature)
+    stack = tandem.load_stack("wide-gap-on-silicon-wafer")
+    design = StackYield(stack)
+    thick = np.array([250.0, 340.0, 600.0])
+    sweep = yield_sweep(design, series, [design.front_gap_eV], thick, design.back_thickness_nm, flux)
+    budget = photon_budget(stack, flux.energy, thick, {}, temperature)
+    perf = evaluate_budget(stack, budget, flux, temperature, 1.0, IDEAL)[0]
+    assert sweep.energy_2t[0] == pytest.approx(perf.efficiency_2t * series.insolation_kWh_m2, rel=1e-9)
+    assert sweep.energy_4t[0] == pytest.approx(perf.efficiency_4t * series.insolation_kWh_m2, rel=1e-9)
+    if temperature > 300:  # the heat reaches the optics and the diodes: less energy than at 25 °C
+        cool = yield_sweep(design, constant_series(6)[0], [design.front_gap_eV], thick,
+                           design.back_thickness_nm, flux)
+        assert np.all(sweep.energy_4t < 0.97 * cool.energy_4t)
+
+
+def test_stack_yield_reports_the_stacks_am15g_efficiency():
+    # The AM1.5G column of a stack's yield is what `match --stack` reports at that thickness
+    site = Site("invented field", 38.0, -4.0, 600.0, 30.0, 180.0, "Etc/GMT-1")
+    series = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 60))
+    matched = tandem.match_stack("organic-pair", points=30).match.best
+    y = tandem.energy_yield_stack("organic-pair", series, others=matched.others,
+                                  front_thicknesses_nm=[matched.front_thickness_nm])
+    assert float(y.sweep.efficiency_am15_2t[0, 0]) == pytest.approx(matched.efficiency_2t, rel=1e-9)
+    s = y.summary()
+    assert s["stack"] == "organic-pair" and s["front"] == tandem.load_stack("organic-pair").front.absorber.key
+    assert 0 < s["energy_optimum"]["energy_2t_kWh_m2"] <= s["energy_optimum"]["energy_4t_kWh_m2"]
+    # by default the other layers are the matched design's, and its thickness is on the axis
+    default = tandem.energy_yield_stack("organic-pair", series, thickness_points=4)
+    layers = default.summary()["stack_layers_nm"]
+    assert layers.pop("origin") == "AM1.5G-matched"
+    assert layers == pytest.approx({k: round(v, 1) for k, v in matched.others.items()})
+    assert np.any(np.isclose(default.sweep.thicknesses, matched.front_thickness_nm, rtol=1e-6))
+
+
+def test_stack_yield_inputs_are_checked(summer_day):
+    import dataclasses
+
+    with pytest.raises(tandem.TandemInputError, match="reflectance with a layer stack"):
+        tandem.energy_yield_stack("organic-pair", summer_day, tandem.OperatingPoint(reflectance=0.02))
+    with pytest.raises(tandem.TandemInputError, match="'spacer' is not a swept layer"):
+        tandem.energy_yield_stack("organic-pair", summer_day, others={"spacer": 10.0})
+    swept = tandem.load_stack("organic-pair").swept[0].name
+    with pytest.raises(tandem.TandemInputError, match=re.escape(f"{swept} 500 nm is outside its sweep")):
+        tandem.energy_yield_stack("organic-pair", summer_day, others={swept: 500.0})
+    bifacial = dataclasses.replace(summer_day, rear_ratio=np.full(summer_day.times.size, 0.1))
+    with pytest.raises(tandem.TandemInputError, match="bifacial site"):
+        tandem.energy_yield_stack("organic-pair", bifacial, front_thicknesses_nm=[100.0])
+
+
+def test_yield_cli_with_a_stack(tmp_path):
+    args = ["yield", "--stack", "organic-pair", "--latitude", "38", "--longitude", "-4",
+            "--period", "day:2026-06-21", "--points", "4", "-o", str(tmp_path / "s")]
+    res = runner.invoke(app, args + ["--json", "-q"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    assert data["stack"] == "organic-pair" and data["grid"]["front_gaps"] == 1
+    assert (tmp_path / "s-map.png").stat().st_size > 20_000
+    for extra, message in ((["perovskite-wide", "silicon"], "FRONT and BACK with --stack"),
+                           (["--front-gaps", "1.6:1.7:0.05"], "--front-gaps with --stack"),
+                           (["--reflectance", "0.03"], "reflectance with a layer stack")):
+        res = runner.invoke(app, args[:1] + extra + args[1:] + ["--overwrite"])
+        assert res.exit_code != 0 and message in res.output, res.output

@@ -22,6 +22,9 @@ def energy_yield(
         back: Annotated[Optional[str], typer.Argument(help="Back absorber.", show_default=False)] = None,
         scenario: Annotated[Optional[str], plain_option(help="Take site, weather, losses and absorbers from "
                                                 "this scenario.")] = None,
+        stack: Annotated[Optional[str], plain_option(help="A layer stack (bundled name or .toml) instead "
+                                             "of FRONT BACK: its thin films solved and its wafer "
+                                             "traced at every cell temperature.")] = None,
         latitude: Annotated[Optional[float], plain_option(help="Site latitude in ° north.")] = None,
         longitude: Annotated[Optional[float], plain_option(help="Site longitude in ° east.")] = None,
         altitude: Annotated[float, plain_option(help="Site altitude in m.")] = 0.0,
@@ -51,6 +54,8 @@ def energy_yield(
       tandem yield --scenario perovskite-silicon-rooftop
 
       tandem yield perovskite-wide silicon --latitude 40 --longitude -105 --timezone Etc/GMT+7
+
+      tandem yield --stack wide-gap-on-silicon-wafer --scenario perovskite-silicon-rooftop
     """
 
     from tandem.jobs.inputs import parse_temperature
@@ -62,6 +67,12 @@ def energy_yield(
                    for x in ("-day.png", "-monthly.png", "-map.png", "-energy.nc",
                              "-series.parquet")], overwrite)
     back_d = back_thickness and parse_thickness(back_thickness, "--back-thickness")
+    if stack is not None:  # the stack file fixes the absorbers, their gaps and the wafer
+        for name, value in (("FRONT and BACK", front or back), ("--front-gaps", front_gaps),
+                            ("--back-thickness", back_thickness)):
+            if value:
+                raise TandemInputError(f"{name} with --stack: the stack file sets the absorbers, "
+                                       "their gaps and the wafer; drop it (or edit the stack)")
     notes: list[str] = []
     if scenario is not None:  # the scenario's inputs; options typed beside it replace them
         from tandem.study.sources import load_scenario
@@ -87,9 +98,18 @@ def energy_yield(
         backs = sc.sweep().back_thicknesses_nm
         a_front, a_back = front or sc.fronts[0], back or sc.backs[0]
         back_d = back_d or (backs[0] if backs else None)
-    elif front is None or back is None or latitude is None or longitude is None:
-        raise TandemInputError("give FRONT and BACK absorbers with --latitude and --longitude, "
-                               "or --scenario")
+        if stack is not None:  # the stack's layers are its optical losses
+            import dataclasses
+
+            flat = {k: 0.0 for k in ("reflectance", "front_parasitic", "interlayer_parasitic")
+                    if str(getattr(operating, k)).strip() not in ("0", "0.0")}
+            operating = dataclasses.replace(operating, **flat)
+            notes.append(f"--stack {stack} replaces the scenario's absorbers"
+                         + (f" and its flat {', '.join(k.replace('_', ' ') for k in flat)}"
+                            if flat else ""))
+    elif (stack is None and (front is None or back is None)) or latitude is None or longitude is None:
+        raise TandemInputError("give FRONT and BACK absorbers (or --stack FILE) with --latitude "
+                               "and --longitude, or --scenario")
     else:
         reference, operating = build_light(o), build_operating(o)
         site = tandem.Site("site", latitude, longitude, altitude, tilt, azimuth, timezone,
@@ -102,21 +122,36 @@ def energy_yield(
     thick = front_thickness and parse_range(front_thickness, "--front-thickness",
                                             lambda t: parse_thickness(t, "--front-thickness"))[:2]
     with progress_bar(quiet or json_out, "energy yield") as bar:
-        result = tandem.energy_yield(
-            a_front, a_back, series, operating, back_thickness_nm=back_d, reference=reference,
-            front_gaps_eV=parse_gap_option(front_gaps, "--front-gaps"),
-            front_thicknesses_nm=thick and tandem.thickness_axis(*thick, points, "--front-thickness",
-                                                                 most=400),
-            thickness_points=points,
-            progress=progress_callback(bar), allow_large=large)
+        if stack is not None:
+            result = tandem.energy_yield_stack(
+                stack, series, operating, reference=reference, thickness_points=points,
+                front_thicknesses_nm=thick and tandem.thickness_axis(
+                    *thick, points, "--front-thickness", most=400),
+                progress=progress_callback(bar), allow_large=large)
+        else:
+            result = tandem.energy_yield(
+                a_front, a_back, series, operating, back_thickness_nm=back_d, reference=reference,
+                front_gaps_eV=parse_gap_option(front_gaps, "--front-gaps"),
+                front_thicknesses_nm=thick and tandem.thickness_axis(
+                    *thick, points, "--front-thickness", most=400),
+                thickness_points=points,
+                progress=progress_callback(bar), allow_large=large)
     s = result.summary()
     s["scenario_overrides"] = notes
     s["outputs"] = [str(p) for p in result.write(output, overwrite)]
     if json_out:
         return emit_json(s)
     say(*notes)
+    layers = dict(s["stack_layers_nm"] or {})
+    origin = layers.pop("origin", None)
+    if layers:
+        say(f"other layers of the stack ({origin}): "
+            + ", ".join(f"{k} {v:g} nm" for k, v in layers.items()))
     eo = s["energy_optimum"]
-    out.print(render_table(f"Energy yield: {s['front']} over {s['back']}", [
+    title = f"{s['front']} over {s['back']}"
+    if s["stack"]:
+        title = f"stack {s['stack']} ({title})"
+    out.print(render_table(f"Energy yield: {title}", [
         ("design", lambda r: r["design"]), ("front gap eV", field_text("front_gap_eV", "{:.3f}")),
         ("front nm", field_text("front_thickness_nm", "{:.0f}")),
         ("2T energy", lambda r: energy_text(r["energy_2t_kWh_m2"])),

@@ -252,7 +252,9 @@ class StackMatch:
                              self.temperature_K)
 
 
-def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):
+def evaluate_budget(stack, budget, flux, temperature_K, ideality, electrical):
+    """The stack's electrical result from a photon budget under ``flux``: (performance,
+    parasitic, reflected and transmitted currents)."""
     usable = usable_from_eV(stack, temperature_K)
     j_light, j0, parasitic, reflected, transmitted = budget_currents(budget, flux, temperature_K,
                                                                      usable)
@@ -273,8 +275,8 @@ def _evaluate(stack, budget, flux, temperature_K, ideality, electrical):
 
 def _point(stack, flux, others, d, temperature_K, ideality, electrical, matched):
     budget = photon_budget(stack, flux.energy, [d], others, temperature_K)
-    perf, parasitic, reflected, transmitted = _evaluate(stack, budget, flux, temperature_K,
-                                                        ideality, electrical)
+    perf, parasitic, reflected, transmitted = evaluate_budget(stack, budget, flux, temperature_K,
+                                                              ideality, electrical)
     return StackPoint(dict(others), float(d), perf.j_light[0], float(perf.efficiency_2t[0]),
                       float(perf.efficiency_4t[0]), float(perf.voc_2t[0]),
                       {k: float(v[0]) for k, v in parasitic.items()}, float(reflected[0]), matched,
@@ -355,7 +357,7 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
     grids, crossings = [], []
     for n, others in enumerate(combos, 1):
         budget = photon_budget(stack, flux.energy, grid, others, temperature_K)
-        perf = _evaluate(stack, budget, flux, temperature_K, ideality, electrical)[0]
+        perf = evaluate_budget(stack, budget, flux, temperature_K, ideality, electrical)[0]
         grids.append((others, perf.j_light, perf.efficiency_2t, perf.efficiency_4t))
         diff = perf.j_light[:, 0] - perf.j_light[:, 1]
         for i in np.flatnonzero(np.sign(diff[:-1]) * np.sign(diff[1:]) < 0):

@@ -7,17 +7,22 @@ optics are computed once per bin and J0 at three temperatures per bin (interpola
 each step); the spectra are held in a reduced basis (:meth:`~tandem.design.sky.SpectralSeries.
 photon_basis`) whose rank is set by a photocurrent error bound, so photocurrents for all
 steps of a bin are two small matrix products.
+
+A design is a pair of absorbers (:class:`~tandem.design.matching.StackDesign`, optics-lite)
+or a layer stack (:class:`StackYield`, thin-film optics with the wafer traced); only the
+subcells' absorptance differs between them.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-from typing import Callable
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Callable, Union
 
 import numpy as np
 import pandas as pd
 
 from tandem.physics import detailed_balance as db
+from tandem.optics.absorbers import absorbers_bulk
 from tandem.design.matching import (Conditions, StackDesign, design_bulk, evaluate_design,
                                     rear_absorptance, stack_integrands, stack_performance)
 from tandem.core.errors import TandemInputError
@@ -25,6 +30,46 @@ from tandem.design.sky import FluxBasis, SpectralSeries
 from tandem.physics.spectra import PhotonFlux, reference_flux_on, trapezoid_weights
 from tandem.physics.stack import IDEAL, Electrical, evaluate_stack
 from tandem.core.units import Q
+
+if TYPE_CHECKING:
+    from tandem.design.layerstack import LayerStack
+    from tandem.optics.absorbers import Absorber
+
+
+@dataclass(frozen=True)
+class StackYield:
+    """A layer stack as a yield design: its front absorber's thickness is what the yield
+    sweeps; every other layer keeps its thickness in ``others`` (swept layers) or the file."""
+
+    stack: LayerStack
+    others: dict = field(default_factory=dict)  #: swept layer name → thickness [nm]
+    origin: str = "given"  #: where ``others`` came from, for the output
+
+    @property
+    def front(self) -> Absorber:
+        a = self.stack.front.absorber
+        assert a is not None  # the front and back roles are absorbers (checked on reading)
+        return a
+
+    @property
+    def back(self) -> Absorber:
+        a = self.stack.back.absorber
+        assert a is not None
+        return a
+
+    @property
+    def front_gap_eV(self) -> float:
+        """The front absorber's gap in the stack at 298.15 K [eV]."""
+        layer = self.stack.front
+        return float(layer.gap_eV if layer.gap_eV is not None else self.front.gap_eV)
+
+    @property
+    def back_thickness_nm(self) -> float:
+        layer = self.stack.back
+        return float(self.others.get(layer.name, layer.thickness_nm))
+
+
+YieldDesign = Union[StackDesign, StackYield]
 
 
 @dataclass(frozen=True)
@@ -49,7 +94,7 @@ class YieldSweep:
     energy_4t: np.ndarray
     insolation: float  #: [kWh/m²]
     series: SpectralSeries
-    design: StackDesign
+    design: YieldDesign
     back_thickness_nm: float
     efficiency_am15_2t: np.ndarray  #: (n_g, n_d) under AM1.5G at 298.15 K, fraction
     basis_rank: int = 0  #: rank of the spectra's reduced basis (:class:`~tandem.design.sky.FluxBasis`)
@@ -116,6 +161,19 @@ def _interpolate_j0(j0_nodes, weights):
     return np.where(positive, np.exp(logs @ weights.T), 0.0)
 
 
+def _subcells(design: YieldDesign, energy, gap, thickness, back_d, t_bin):
+    """What each subcell collects per incident photon (n_d, nE) at the bin's temperature: the
+    optics-lite pair's or the layer stack's (thin films, the wafer traced)."""
+    if isinstance(design, StackYield):
+        from tandem.design.layerstack import photon_budget
+
+        budget = photon_budget(design.stack, energy, thickness, design.others, t_bin)
+        return budget.front, budget.back
+    parts = stack_integrands(design, energy, gap, back_d, None, t_bin)
+    absorbed, transmitted = parts.transfer(thickness)
+    return absorbed * parts.front_weight, transmitted * parts.back_weight
+
+
 def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thickness, back_d,
                      ideality, electrical, rear=None, open_share=0.0):
     """The stack over the steps of one temperature bin, for one gap and thicknesses (n_d,).
@@ -126,22 +184,26 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
     (n_d, n_h), J_L (n_d, n_h, 2)).
     """
     t_bin, idx, t_cell = step_bin
-    parts = stack_integrands(design, flux.energy, gap, back_d, None, t_bin)
-    absorbed, transmitted = parts.transfer(thickness)
-    fw, bw = weights_e * parts.front_weight, weights_e * parts.back_weight
+    front, back = _subcells(design, flux.energy, gap, thickness, back_d, t_bin)
+    front, back = front * weights_e, back * weights_e
     coeff = flux.coefficients(idx).T  # (r, n_h)
-    jl = np.stack([(absorbed @ (flux.basis * fw).T) @ coeff,
-                   (transmitted @ (flux.basis * bw).T) @ coeff], axis=-1)
+    jl = np.stack([(front @ flux.basis.T) @ coeff, (back @ flux.basis.T) @ coeff], axis=-1)
     nodes, lagrange = _j0_nodes(t_cell)
     bb = db.blackbody_photon_flux(flux.energy, nodes[:, None])  # (m, nE)
-    j0 = np.stack([_interpolate_j0(absorbed @ (bb * fw).T, lagrange),
-                   _interpolate_j0(transmitted @ (bb * bw).T, lagrange)], axis=-1)
+    j0 = np.stack([_interpolate_j0(front @ bb.T, lagrange),
+                   _interpolate_j0(back @ bb.T, lagrange)], axis=-1)
     reference = None
     if ideality != 1.0:  # the non-radiative diode fixed under AM1.5G, 1 sun, at every step
         phi = reference_flux_on(flux.energy).flux
-        reference = np.stack([absorbed @ (phi * fw), transmitted @ (phi * bw)], axis=-1)
+        reference = np.stack([front @ phi, back @ phi], axis=-1)
         reference = np.broadcast_to(reference[:, None, :], jl.shape)
-    bulk = design_bulk(design, gap, np.asarray(thickness, dtype=float)[:, None], back_d, t_cell)
+    d = np.asarray(thickness, dtype=float)[:, None]
+    if isinstance(design, StackYield):  # the stack's own gaps, at their thicknesses
+        bulk = absorbers_bulk((design.front, design.back), (gap, design.stack.back.gap_eV),
+                              (d, back_d), t_cell)
+        design = StackDesign(design.front, design.back)  # its electrical side is the pair's
+    else:
+        bulk = design_bulk(design, gap, d, back_d, t_cell)
     if rear is None:
         return evaluate_design(design, jl, j0, t_cell, 1.0, ideality, electrical, reference,
                                bulk), jl
@@ -161,7 +223,7 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
     return perf, jl
 
 
-def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
+def yield_sweep(design: YieldDesign, series: SpectralSeries, gaps, thicknesses,
                 back_thickness_nm: float, reference: PhotonFlux, ideality: float = 1.0,
                 electrical: Electrical = IDEAL, bin_K: float = 2.0,
                 progress: Callable[[int, int], None] | None = None,
@@ -176,6 +238,10 @@ def yield_sweep(design: StackDesign, series: SpectralSeries, gaps, thicknesses,
     for d in thicknesses:
         design.front.check_thickness(float(d), "front thickness", allow_outside)
     design.back.check_thickness(float(back_thickness_nm), "back thickness", allow_outside)
+    if isinstance(design, StackYield) and series.rear_ratio is not None:
+        raise TandemInputError(f"stack '{design.stack.key}' on a bifacial site: the light reaching "
+                               "a stack's rear is not modelled; give the site bifaciality 0, or "
+                               "FRONT and BACK absorbers instead of the stack")
     with _one_blas_thread():
         return _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference,
                             ideality, electrical, bin_K, progress)
@@ -208,14 +274,26 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
             done += 1
             if progress:
                 progress(done, total)
-    cond = Conditions(reference, 298.15, ideality, electrical)
-    am15 = np.array([stack_performance(design, cond, g, thicknesses, back_thickness_nm).efficiency_2t
-                     for g in gaps])
+    am15 = np.array([_am15_efficiency(design, reference, g, thicknesses, back_thickness_nm,
+                                      ideality, electrical) for g in gaps])
     return YieldSweep(gaps, thicknesses, e2, e4, series.insolation_kWh_m2, series, design,
                       float(back_thickness_nm), am15, flux.rank, flux.bound)
 
 
-def hourly(design: StackDesign, series: SpectralSeries, gap: float, thickness: float,
+def _am15_efficiency(design: YieldDesign, reference, gap, thicknesses, back_d, ideality,
+                     electrical) -> np.ndarray:
+    """Two-terminal efficiency under the reference spectrum at 298.15 K, per thickness."""
+    if isinstance(design, StackYield):
+        from tandem.design.layerstack import evaluate_budget, photon_budget
+
+        budget = photon_budget(design.stack, reference.energy, thicknesses, design.others)
+        return evaluate_budget(design.stack, budget, reference, 298.15, ideality,
+                               electrical)[0].efficiency_2t
+    cond = Conditions(reference, 298.15, ideality, electrical)
+    return stack_performance(design, cond, gap, thicknesses, back_d).efficiency_2t
+
+
+def hourly(design: YieldDesign, series: SpectralSeries, gap: float, thickness: float,
            back_thickness_nm: float, ideality: float = 1.0, electrical: Electrical = IDEAL,
            bin_K: float = 2.0) -> HourlyDesign:
     """One design at every time step of the series."""

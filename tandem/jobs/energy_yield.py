@@ -230,3 +230,79 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     return YieldResult(sweep, best)
 
 
+
+
+def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint(), *,
+                       front_thicknesses_nm=None, thickness_points: int = 16, others=None,
+                       reference: Light = Light(), progress: Progress | None = None,
+                       allow_large: bool = False) -> YieldResult:
+    """Energy of a layer stack over a spectral series, for its front absorber's thickness.
+
+    The stack's thin films are solved and its wafer traced at every cell-temperature bin
+    (normal incidence; the cover's angular loss is in the series), so the energy-optimal
+    front thickness of a real stack can be compared with its AM1.5G match.
+
+    Parameters
+    ----------
+    stack : LayerStack or str
+        A stack description (bundled name or .toml); its gaps are fixed by the file.
+    front_thicknesses_nm : array, optional
+        Default: ``thickness_points`` log-spaced across the front's sweep in the stack file
+        (or the absorber's range).
+    others : dict, optional
+        Thicknesses [nm] of the stack's other swept layers (a layer left out: the geometric
+        middle of its range). Default: those of the design ``match --stack`` chooses under
+        the reference spectrum at 25 °C, whose front thickness then joins the default axis.
+
+    Examples
+    --------
+    >>> import tandem
+    >>> site = tandem.Site('field', latitude=38.5, longitude=-3.0, timezone='Etc/GMT-1')
+    >>> y = tandem.energy_yield_stack('organic-pair', tandem.site_series(site, period='day:2026-06-21'),
+    ...                               front_thicknesses_nm=[80.0, 120.0])
+    >>> y.summary()['stack']
+    'organic-pair'
+    """
+    from tandem.core.errors import TandemInputError
+    from tandem.design.yields import StackYield, hourly, yield_sweep
+    from tandem.jobs.inputs import thickness_axis
+    from tandem.jobs.stack_match import stack_input
+
+    stack = stack_input(stack, operating)
+    swept = {x.name: x for x in stack.swept}
+    matched = None
+    if others is None:  # the design `match --stack` chooses under the reference spectrum
+        from tandem.design.layerstack import match_in_stack
+
+        matched = match_in_stack(stack, reference.photon_flux(), 298.15, 24, operating.ideality,
+                                 operating.electrical).best
+        others = matched.others
+    others = dict(others)
+    for name, value in others.items():
+        if name not in swept:
+            raise TandemInputError(f"others: '{name}' is not a swept layer of stack '{stack.key}'"
+                                   f" ({', '.join(swept) or 'it sweeps none'})")
+        lo, hi = swept[name].sweep_nm or (0.0, 0.0)
+        if not (lo <= float(value) <= hi):
+            raise TandemInputError(f"others: {name} {value:g} nm is outside its sweep "
+                                   f"{lo:g}–{hi:g} nm in the stack file")
+    others = {name: float(others.get(name, x.thickness_nm)) for name, x in swept.items()}
+    design = StackYield(stack, others, "given" if matched is None else "AM1.5G-matched")
+    if front_thicknesses_nm is None:
+        lo, hi = stack.front.sweep_nm or design.front.thickness_range_nm
+        thick = thickness_axis(lo, hi, thickness_points, most=MAX_YIELD_THICKNESSES)
+        if matched is not None:  # the AM1.5G-matched thickness itself is on the axis
+            thick = np.union1d(thick, [matched.front_thickness_nm])
+    else:
+        thick = np.atleast_1d(np.asarray(front_thicknesses_nm, dtype=float))
+    gaps = np.array([design.front_gap_eV])
+    check_work("yield", series.times.size * thick.size * 4, allow_large=allow_large,
+               what="step × design evaluations (a layer stack costs about four)")
+    back_d = design.back_thickness_nm
+    sweep = yield_sweep(design, series, gaps, thick, back_d, reference.photon_flux(),
+                        operating.ideality, operating.electrical, progress=progress,
+                        allow_outside=operating.allow_outside_range)
+    best = hourly(design, series, gaps[0], sweep.thicknesses[sweep.optimum[1]], back_d,
+                  operating.ideality, operating.electrical)
+    return YieldResult(sweep, best)
+

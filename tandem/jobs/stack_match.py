@@ -82,6 +82,31 @@ class StackMatchResult(ResultDisplay):
         return draw_photon_budget(self, ax)
 
 
+def stack_input(stack, operating: OperatingPoint):
+    """The layer stack a job works on (a LayerStack, bundled name or .toml), with the operating
+    point's ERE in place of its absorbers'. Flat optical losses are refused: the stack's
+    layers are its losses."""
+    from dataclasses import replace
+
+    from tandem.core.errors import TandemInputError
+    from tandem.design.layerstack import LayerStack
+    from tandem.design.stack_files import load_stack
+
+    flat = [k for k in ("reflectance", "front_parasitic", "interlayer_parasitic")
+            if str(getattr(operating, k)).strip() not in ("0", "0.0")]
+    if flat:
+        raise TandemInputError(f"{', '.join(k.replace('_', ' ') for k in flat)} with a layer stack: "
+                               "the stack computes reflection and parasitic absorption layer by "
+                               "layer; leave them at 0")
+    stack = stack if isinstance(stack, LayerStack) else load_stack(stack)
+    if operating.ere is not None:  # the operating point's ERE replaces the absorbers'
+        ere = operating.ere * 2 if len(operating.ere) == 1 else operating.ere
+        layers = tuple(replace(x, absorber=replace(x.absorber, ere=ere[("front", "back").index(x.role)]))
+                       if x.role != "parasitic" else x for x in stack.layers)
+        stack = replace(stack, layers=layers)
+    return stack
+
+
 def match_stack(stack, light: Light = Light(), operating: OperatingPoint = OperatingPoint(), *,
                 points: int = 120, progress: Progress | None = None) -> StackMatchResult:
     """Current-match the front absorber of a layer stack, thin-film interference included.
@@ -107,17 +132,11 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
     from dataclasses import replace
 
     from tandem.core.errors import TandemInputError
-    from tandem.design.layerstack import LayerStack, match_in_stack
-    from tandem.design.stack_files import load_stack
+    from tandem.design.layerstack import match_in_stack
 
-    stack = stack if isinstance(stack, LayerStack) else load_stack(stack)
+    stack = stack_input(stack, operating)
     if not (isinstance(points, int) and 8 <= points <= 2000):
         raise TandemInputError(f"points {points!r}: give 8 to 2000 front thicknesses")
-    if operating.ere is not None:  # the operating point's ERE replaces the absorbers'
-        ere = operating.ere * 2 if len(operating.ere) == 1 else operating.ere
-        layers = tuple(replace(x, absorber=replace(x.absorber, ere=ere[("front", "back").index(x.role)]))
-                       if x.role != "parasitic" else x for x in stack.layers)
-        stack = replace(stack, layers=layers)
     combos = int(np.prod([x.points for x in stack.swept])) if stack.swept else 1
     check_work("match", combos * points * 20, what="layer-stack evaluations")
     flux = light.photon_flux()

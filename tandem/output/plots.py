@@ -313,25 +313,52 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False,
 
 
 def draw_yield_map(sweep, ax=None) -> Figure:
-    """Two-terminal energy over front gap × thickness, with both optima marked."""
+    """Two-terminal energy over front gap × thickness, with both optima marked; along the one
+    swept axis (2T and 4T energy) when the other holds one value."""
     fig, ax = plt.subplots(figsize=(6.5, 4.6)) if ax is None else (ax.figure, ax)
+    i, j = sweep.optimum
+    a, b = sweep.am15_optimum
     if sweep.gaps.size > 1 and sweep.thicknesses.size > 1:
         D, G = np.meshgrid(sweep.thicknesses, sweep.gaps)
         filled = ax.contourf(D, G, sweep.energy_2t, levels=20, cmap="viridis")
         fig.colorbar(filled, ax=ax, label="two-terminal energy [kWh/m²]")
         ax.set_xscale("log")
-        ax.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+        _plain_log_ticks(ax.xaxis)
+        ax.plot([sweep.thicknesses[j]], [sweep.gaps[i]], "r*", ms=12, label="energy optimum")
+        ax.plot([sweep.thicknesses[b]], [sweep.gaps[a]], "wo", ms=7, mec="k",
+                label="AM1.5G optimum")
+        ax.set_xlabel("front thickness [nm]")
+        ax.set_ylabel("front gap at 25 °C [eV]")
+        ax.legend(fontsize=8, loc="lower right")
+        return fig
+    along_gap = sweep.thicknesses.size == 1 and sweep.gaps.size > 1
+    x = sweep.gaps if along_gap else sweep.thicknesses
+    e2, e4 = np.ravel(sweep.energy_2t), np.ravel(sweep.energy_4t)
+    ax.plot(x, e2, "o-", ms=3, color=FRONT_COLOUR, label="two-terminal")
+    ax.plot(x, e4, "o-", ms=3, color=BACK_COLOUR, label="four-terminal")
+    k, m = (i, a) if along_gap else (j, b)
+    ax.plot([x[k]], [e2[k]], "r*", ms=12, label="energy optimum (2T)")
+    ax.plot([x[m]], [e2[m]], "wo", ms=7, mec="k", label="AM1.5G optimum (2T)")
+    if along_gap:
+        ax.set_xlabel("front gap at 25 °C [eV]")
+        ax.set_title(f"front {sweep.thicknesses[0]:.0f} nm", fontsize=9)
     else:
-        ax.plot(sweep.thicknesses if sweep.gaps.size == 1 else sweep.gaps,
-                np.ravel(sweep.energy_2t), color=FRONT_COLOUR)
-    i, j = sweep.optimum
-    a, b = sweep.am15_optimum
-    ax.plot([sweep.thicknesses[j]], [sweep.gaps[i]], "r*", ms=12, label="energy optimum")
-    ax.plot([sweep.thicknesses[b]], [sweep.gaps[a]], "wo", ms=7, mec="k", label="AM1.5G optimum")
-    ax.set_xlabel("front thickness [nm]")
-    ax.set_ylabel("front gap at 25 °C [eV]")
-    ax.legend(fontsize=8, loc="lower right")
+        ax.set_xscale("log")
+        _plain_log_ticks(ax.xaxis)
+        ax.set_xlabel("front thickness [nm]")
+        ax.set_title(f"front gap {sweep.gaps[0]:.3f} eV at 25 °C", fontsize=9)
+    ax.set_ylabel("energy [kWh/m²]")
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=8, loc="best")
     return fig
+
+
+def _plain_log_ticks(axis) -> None:
+    """Thickness ticks on a log axis as plain numbers (200, not 2×10²); minor ticks labelled
+    at 2, 3 and 5 × 10ⁿ only, so that labels never run into each other."""
+    axis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+    axis.set_minor_formatter(matplotlib.ticker.FuncFormatter(
+        lambda v, _: f"{v:g}" if v > 0 and f"{v:.0e}"[0] in "235" else ""))
 
 
 def scatter_figure(result, terminals, target_pct, path, overwrite: bool = False) -> Path:
