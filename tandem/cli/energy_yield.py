@@ -74,6 +74,8 @@ def energy_yield(
                 raise TandemInputError(f"{name} with --stack: the stack file sets the absorbers, "
                                        "their gaps and the wafer; drop it (or edit the stack)")
     notes: list[str] = []
+    a_front: str | tandem.Absorber | None
+    a_back: str | tandem.Absorber | None
     if scenario is not None:  # the scenario's inputs; options typed beside it replace them
         from tandem.study.sources import load_scenario
 
@@ -129,6 +131,7 @@ def energy_yield(
                     *thick, points, "--front-thickness", most=400),
                 progress=progress_callback(bar), allow_large=large)
         else:
+            assert a_front is not None and a_back is not None  # required above without --stack
             result = tandem.energy_yield(
                 a_front, a_back, series, operating, back_thickness_nm=back_d, reference=reference,
                 front_gaps_eV=parse_gap_option(front_gaps, "--front-gaps"),

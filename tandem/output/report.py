@@ -317,13 +317,16 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
                            "insolation_kWh_m2": round(float(best.irradiance[sel] @ best.step_hours[sel]) / 1000, 3)})
     front_limits = float(np.sum(best.step_hours[best.j_front < best.j_back] * best.irradiance[best.j_front < best.j_back])
                          / max(np.sum(best.step_hours * best.irradiance), 1e-300))
-    stack = getattr(sweep.design, "stack", None)  # a layer stack's yield names the stack
+    from tandem.design.yields import StackYield
+
+    d = sweep.design  # a layer stack's yield names the stack and its other layers
+    layers = ({"origin": d.origin, **{k: round(v, 1) for k, v in d.others.items()}}
+              if isinstance(d, StackYield) else None)
     return {
-        "front": sweep.design.front.key,
-        "back": sweep.design.back.key,
-        "stack": None if stack is None else stack.key,
-        "stack_layers_nm": None if stack is None else {
-            "origin": sweep.design.origin, **{k: round(v, 1) for k, v in sweep.design.others.items()}},
+        "front": d.front.key,
+        "back": d.back.key,
+        "stack": d.stack.key if isinstance(d, StackYield) else None,
+        "stack_layers_nm": layers,
         "source": sweep.series.source,
         "source_notes": list(sweep.series.notes),
         "steps": int(sweep.series.times.size),
