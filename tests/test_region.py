@@ -214,3 +214,41 @@ def test_region_command_writes_its_folder_and_resumes(tmp_path, monkeypatch):
     assert second["sites"] == first["sites"] or all(
         {k: v for k, v in a.items() if k != "seconds"} == {k: v for k, v in b.items() if k != "seconds"}
         for a, b in zip(first["sites"], second["sites"]))
+
+
+def test_a_stack_region_site_is_the_stacks_yield_there(tmp_path):
+    # Each site of a stack region is the stack's own yield at that site (the same engine and
+    # thin-film optics, checked in test_sky_yield), and the job says which stack it ran
+    from tandem.design.sky import Site
+    from tandem.jobs.region import SiteSpec, region_job, site_year
+
+    job = region_job(None, None, stack="organic-pair", period="day:2026-06-21",
+                     thickness_points=3)
+    spec = SiteSpec("Porto Brisa", 38.7, -9.1, 50.0, "Etc/GMT-1")
+    record = site_year(spec, job)
+    site = Site(spec.name, spec.latitude, spec.longitude, spec.altitude_m, 38.7, 180.0, spec.zone)
+    series = clear_sky_series(site, parse_period("day:2026-06-21", spec.zone, 60))
+    y = tandem.energy_yield_stack("organic-pair", series, others=job.stack.others,
+                                  front_thicknesses_nm=job.thicknesses_nm)
+    eo = y.summary()["energy_optimum"]
+    assert record["energy_2t_kWh_m2"] == pytest.approx(eo["energy_2t_kWh_m2"], abs=5e-4)
+    assert record["front_thickness_nm"] == pytest.approx(eo["front_thickness_nm"], abs=0.05)
+    result = run_region([spec], job, tmp_path / "r", workers=1)
+    summary = result.summary()
+    assert summary["stack"] == "organic-pair" and summary["stack_layers_nm"]["origin"] == "AM1.5G-matched"
+    # the stack's other layers are part of what a resume must match
+    other = replace(job, stack=replace(job.stack, others={k: v * 1.1 for k, v in job.stack.others.items()}))
+    assert other.job_fingerprint() != job.job_fingerprint()
+
+
+@pytest.mark.parametrize("extra, message", [
+    (dict(front="perovskite-wide"), "FRONT and BACK with a layer stack"),
+    (dict(front_gaps_eV=[1.7]), "front gaps with a layer stack"),
+    (dict(rows=Rows()), "bifacial rows with a layer stack")])
+def test_a_stack_region_refuses_what_the_stack_sets(extra, message):
+    from tandem.jobs.region import region_job
+
+    args = dict(front=None, back=None, stack="organic-pair", others={})
+    args.update(extra)
+    with pytest.raises(tandem.TandemInputError, match=message):
+        region_job(args.pop("front"), args.pop("back"), **args)

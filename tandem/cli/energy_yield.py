@@ -12,7 +12,8 @@ import tandem
 from tandem.cli.options import (Json, Large, Overwrite, Quiet, build_light, build_operating,
                                 check_outputs, emit_json, energy_text, field_text, given, out,
                                 over_scenario, parse_gap_option, parse_range, parse_thickness,
-                                plain_option, progress_bar, progress_callback, render_table, say)
+                                plain_option, progress_bar, progress_callback, render_table, say,
+                                stack_over_scenario)
 from tandem.core.errors import TandemInputError
 
 
@@ -100,15 +101,9 @@ def energy_yield(
         backs = sc.sweep().back_thicknesses_nm
         a_front, a_back = front or sc.fronts[0], back or sc.backs[0]
         back_d = back_d or (backs[0] if backs else None)
-        if stack is not None:  # the stack's layers are its optical losses
-            import dataclasses
-
-            flat = {k: 0.0 for k in ("reflectance", "front_parasitic", "interlayer_parasitic")
-                    if str(getattr(operating, k)).strip() not in ("0", "0.0")}
-            operating = dataclasses.replace(operating, **flat)
-            notes.append(f"--stack {stack} replaces the scenario's absorbers"
-                         + (f" and its flat {', '.join(k.replace('_', ' ') for k in flat)}"
-                            if flat else ""))
+        if stack is not None:
+            operating, note = stack_over_scenario(stack, operating)
+            notes.append(note)
     elif (stack is None and (front is None or back is None)) or latitude is None or longitude is None:
         raise TandemInputError("give FRONT and BACK absorbers (or --stack FILE) with --latitude "
                                "and --longitude, or --scenario")

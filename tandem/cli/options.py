@@ -397,3 +397,16 @@ def design_columns(columns=None):
         from tandem.output.report import DESIGN_COLUMNS as columns
     return [(c.short, field_text(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"),
              not c.compact) for c in columns if c.terminal]
+
+
+def stack_over_scenario(stack: str, operating):
+    """A scenario's operating point for a layer stack given beside it, and the note saying
+    so: the stack replaces the scenario's absorbers and its flat optical losses (the stack's
+    layers are its losses)."""
+    import dataclasses
+
+    flat = {k: 0.0 for k in ("reflectance", "front_parasitic", "interlayer_parasitic")
+            if str(getattr(operating, k)).strip() not in ("0", "0.0")}
+    note = (f"--stack {stack} replaces the scenario's absorbers"
+            + (f" and its flat {', '.join(k.replace('_', ' ') for k in flat)}" if flat else ""))
+    return dataclasses.replace(operating, **flat), note

@@ -12,7 +12,7 @@ import tandem
 from tandem.cli.options import (Json, Quiet, build_light, build_operating, emit_json, err,
                                 given, out, over_scenario, parse_gap_option, parse_range,
                                 parse_thickness, plain_option, progress_bar, progress_callback,
-                                render_table, say)
+                                render_table, say, stack_over_scenario)
 from tandem.core.errors import TandemInputError
 
 
@@ -23,6 +23,9 @@ def region(
         scenario: Annotated[Optional[str], plain_option(help="Take absorbers, spectrum, losses, "
                                                 "electrical values, back thickness and period "
                                                 "from this scenario.")] = None,
+        stack: Annotated[Optional[str], plain_option(help="A layer stack (bundled name or .toml) instead "
+                                             "of FRONT BACK: its films solved and wafer traced "
+                                             "at every site.")] = None,
         sites: Annotated[Optional[str], plain_option(help="CSV of sites: name, latitude, longitude"
                                              "[, altitude_m, timezone, weather]; or demo-sites.")] = None,
         latitudes: Annotated[Optional[str], plain_option(help="Clear-sky grid instead of a site list: "
@@ -64,6 +67,8 @@ def region(
       tandem region perovskite-wide silicon --sites sites.csv --scheduler tcp://10.0.0.5:8786
 
       tandem region --scenario perovskite-silicon-rooftop --sites demo-sites
+
+      tandem region --stack wide-gap-on-silicon-wafer --sites demo-sites
     """
 
     from tandem.jobs.region import grid_sites, read_sites, region_job, run_region, write_region_outputs
@@ -107,13 +112,16 @@ def region(
             notes.append(unused)
         if back_d is not None:
             sweep["back_thickness_nm"] = back_d
+        if stack is not None:
+            operating, note = stack_over_scenario(stack, operating)
+            notes.append(note)
         job = sc.region_job(front, back, light, operating, period if given("period") else None,
-                            step if given("step") else None, **sweep)
-    elif front is None or back is None:
-        raise TandemInputError("give FRONT and BACK absorbers, or --scenario")
+                            step if given("step") else None, stack=stack, **sweep)
+    elif stack is None and (front is None or back is None):
+        raise TandemInputError("give FRONT and BACK absorbers (or --stack FILE), or --scenario")
     else:
         job = region_job(front, back, build_operating(o), back_thickness_nm=back_d, period=period,
-                         step_minutes=step, reference=build_light(o), **sweep)
+                         step_minutes=step, reference=build_light(o), stack=stack, **sweep)
     folder = Path(out_folder or default)
     with progress_bar(quiet or json_out, "sites") as bar:
         result = run_region(specs, job, folder, scheduler, workers, progress_callback(bar), overwrite)
@@ -135,7 +143,11 @@ def region(
         cols += [("bifacial gap eV", lambda r: f"{r['bifacial_front_gap_eV']:.3f}"),
                  ("bifacial nm", lambda r: f"{r['bifacial_front_thickness_nm']:.0f}"),
                  ("bifacial 2T", lambda r: f"{r['bifacial_energy_2t_kWh_m2']:.1f}")]
-    out.print(render_table(f"Energy-optimal {job.front.key} over {job.back.key}, {len(specs)} sites",
+    pair = f"{job.front.key} over {job.back.key}"
+    if job.stack is not None:
+        pair = f"stack {job.stack.stack.key} ({pair}; other layers {job.stack.origin}: " + (
+            ", ".join(f"{k} {v:g} nm" for k, v in job.stack.others.items()) or "none swept") + ")"
+    out.print(render_table(f"Energy-optimal {pair}, {len(specs)} sites",
                      cols, s["sites"], "energies per m² of module over the period"))
     first = s["sites"][0]
     say(f"AM1.5G-optimal design: {first['am15g_front_gap_eV']:.3f} eV, "

@@ -263,8 +263,33 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
     >>> y.summary()['stack']
     'organic-pair'
     """
+    from tandem.design.yields import hourly, yield_sweep
+
+    design, thick = stack_yield_design(stack, operating, reference, others, front_thicknesses_nm,
+                                       thickness_points, MAX_YIELD_THICKNESSES)
+    gaps = np.array([design.front_gap_eV])
+    check_work("yield", series.times.size * thick.size * 4, allow_large=allow_large,
+               what="step × design evaluations (a layer stack costs about four)")
+    back_d = design.back_thickness_nm
+    sweep = yield_sweep(design, series, gaps, thick, back_d, reference.photon_flux(),
+                        operating.ideality, operating.electrical, progress=progress,
+                        allow_outside=operating.allow_outside_range)
+    best = hourly(design, series, gaps[0], sweep.thicknesses[sweep.optimum[1]], back_d,
+                  operating.ideality, operating.electrical)
+    return YieldResult(sweep, best)
+
+
+
+def stack_yield_design(stack, operating: OperatingPoint, reference: Light, others=None,
+                       front_thicknesses_nm=None, thickness_points: int = 16,
+                       most_points: int = MAX_YIELD_THICKNESSES):
+    """A layer stack as a yield design, and the front thicknesses [nm] a yield sweeps.
+
+    ``others`` (swept layer → nm) default to the design ``match --stack`` chooses under the
+    reference light at 25 °C, whose front thickness then joins the default axis
+    (``thickness_points`` log-spaced across the front's sweep in the stack file)."""
     from tandem.core.errors import TandemInputError
-    from tandem.design.yields import StackYield, hourly, yield_sweep
+    from tandem.design.yields import StackYield
     from tandem.jobs.inputs import thickness_axis
     from tandem.jobs.stack_match import stack_input
 
@@ -290,19 +315,9 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
     design = StackYield(stack, others, "given" if matched is None else "AM1.5G-matched")
     if front_thicknesses_nm is None:
         lo, hi = stack.front.sweep_nm or design.front.thickness_range_nm
-        thick = thickness_axis(lo, hi, thickness_points, most=MAX_YIELD_THICKNESSES)
+        thick = thickness_axis(lo, hi, thickness_points, most=most_points)
         if matched is not None:  # the AM1.5G-matched thickness itself is on the axis
             thick = np.union1d(thick, [matched.front_thickness_nm])
     else:
         thick = np.atleast_1d(np.asarray(front_thicknesses_nm, dtype=float))
-    gaps = np.array([design.front_gap_eV])
-    check_work("yield", series.times.size * thick.size * 4, allow_large=allow_large,
-               what="step × design evaluations (a layer stack costs about four)")
-    back_d = design.back_thickness_nm
-    sweep = yield_sweep(design, series, gaps, thick, back_d, reference.photon_flux(),
-                        operating.ideality, operating.electrical, progress=progress,
-                        allow_outside=operating.allow_outside_range)
-    best = hourly(design, series, gaps[0], sweep.thicknesses[sweep.optimum[1]], back_d,
-                  operating.ideality, operating.electrical)
-    return YieldResult(sweep, best)
-
+    return design, thick

@@ -31,6 +31,7 @@ from tandem.optics.absorbers import Absorber
 
 if TYPE_CHECKING:  # for annotations only: no import cost at run time
     from tandem.design.sky import Rows
+    from tandem.design.yields import StackYield
 
 REGION_FORMAT = "tandem-region/1"
 SITE_COLUMNS = ("name", "latitude", "longitude", "altitude_m", "timezone", "weather")
@@ -73,6 +74,7 @@ class RegionJob:
     reference: Light | None = None  #: the comparison design's light (default AM1.5G)
     cell_temperature_K: float | None = None  #: one cell temperature instead of SAPM per step
     cover_index: float = 1.526  #: the front cover's index, for the incidence-angle loss (1: none)
+    stack: StackYield | None = None  #: a layer stack instead of the optics-lite pair
 
     def fingerprint(self, spec: SiteSpec) -> str:
         """SHA-256 of everything that changes a site's numbers (resume only on a match)."""
@@ -91,21 +93,42 @@ class RegionJob:
                            "albedo": self.albedo, "rows": repr(self.rows),
                            "reference": repr(self.reference),
                            "cell_temperature_K": self.cell_temperature_K,
-                           "cover_index": self.cover_index}, sort_keys=True)
+                           "cover_index": self.cover_index,
+                           "stack": None if self.stack is None else _stack_text(self.stack)},
+                          sort_keys=True)
         return hashlib.sha256(text.encode()).hexdigest()
 
 
-def region_job(front: Absorber | str, back: Absorber | str,
+def _stack_text(design: StackYield) -> dict:
+    """What a stack job's numbers depend on, as data: the stack file, every layer's resolved
+    optical data (tables by their content), the other layers' thicknesses."""
+    layers = [{"name": x.name, "thickness_nm": x.thickness_nm, "sweep_nm": x.sweep_nm,
+               "coherent": x.coherent, "role": x.role, "source": x.source, "gap_eV": x.gap_eV,
+               "constant": repr(x.constant), "light_trapping": x.light_trapping,
+               "absorber": None if x.absorber is None else x.absorber.path.read_text(encoding="utf-8"),
+               "table": None if x.table is None else hashlib.sha256(
+                   np.ascontiguousarray(x.table[0]).tobytes()
+                   + np.ascontiguousarray(x.table[1]).tobytes()).hexdigest()}
+              for x in design.stack.layers]
+    return {"file": design.stack.path.read_text(encoding="utf-8"), "layers": layers,
+            "ambient": design.stack.ambient_index, "exit": repr(design.stack.exit_index),
+            "others": design.others}
+
+
+def region_job(front: Absorber | str | None, back: Absorber | str | None,
                operating: OperatingPoint = OperatingPoint(), *, front_gaps_eV=None,
                thickness_points: int = 16, back_thickness_nm: float | None = None,
                period: str = "year:2026", step_minutes: float = 60.0,
                tilt: str | float = "latitude", albedo: float = 0.2, rows=None,
                reference=None, cell_temperature_K: float | None = None,
-               cover_index: float = 1.526) -> RegionJob:
+               cover_index: float = 1.526, stack=None, others=None) -> RegionJob:
     """What every site of a region computes, checked once (the same axes as a yield).
 
     ``tilt`` is degrees (0–90) or 'latitude' (tilt = |latitude|, facing the equator);
-    ``thickness_points`` front thicknesses (2–100) span the front's range.
+    ``thickness_points`` front thicknesses (2–100) span the front's range. ``stack`` (a
+    LayerStack, bundled name or .toml) replaces FRONT and BACK: every site sweeps its front
+    absorber's thickness with the films solved and the wafer traced, the other swept layers
+    at ``others`` or the AM1.5G-matched design's (:func:`~tandem.energy_yield_stack`).
 
     Examples
     --------
@@ -118,11 +141,31 @@ def region_job(front: Absorber | str, back: Absorber | str,
     from tandem.jobs.common import absorber_pair
     from tandem.jobs.energy_yield import yield_axes
 
-    a_front, a_back = absorber_pair(front, back, operating)
-    gaps, thick = yield_axes(a_front, a_back, front_gaps_eV, None, thickness_points, most_points=100)
+    design = None
+    if stack is not None:
+        given = [name for name, value in (("FRONT and BACK", front or back),
+                                          ("front gaps", front_gaps_eV),
+                                          ("back thickness", back_thickness_nm),
+                                          ("bifacial rows", rows)) if value is not None]
+        if given:
+            raise TandemInputError(f"{', '.join(given)} with a layer stack: the stack file sets "
+                                   "the absorbers, their gaps and the wafer, and light reaching "
+                                   "its rear is not modelled; drop them")
+        from tandem.jobs.energy_yield import stack_yield_design
+
+        design, thick = stack_yield_design(stack, operating, reference or Light(), others, None,
+                                           thickness_points, most_points=100)
+        a_front, a_back = design.front, design.back
+        gaps, back_d = np.array([design.front_gap_eV]), design.back_thickness_nm
+    else:
+        if front is None or back is None:
+            raise TandemInputError("give FRONT and BACK absorbers, or a layer stack")
+        a_front, a_back = absorber_pair(front, back, operating)
+        gaps, thick = yield_axes(a_front, a_back, front_gaps_eV, None, thickness_points,
+                                 most_points=100)
+        back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
     for g in gaps:
         a_front.check_gap(float(g), operating.allow_outside_range)
-    back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
     a_back.check_thickness(back_d, "back thickness", operating.allow_outside_range)
     if tilt != "latitude":
         try:
@@ -140,7 +183,7 @@ def region_job(front: Absorber | str, back: Absorber | str,
     parse_period(period, "UTC", step_minutes)
     return RegionJob(a_front, a_back, operating, tuple(map(float, gaps)), tuple(map(float, thick)),
                      back_d, period, float(step_minutes), str(tilt), float(albedo), rows,
-                     reference, cell_temperature_K, float(cover_index))
+                     reference, cell_temperature_K, float(cover_index), design)
 
 
 def _file_sha(path: str | None) -> str | None:
@@ -253,7 +296,7 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
                 cover_index=job.cover_index)
     reference = (job.reference.photon_flux() if job.reference is not None
                  else load_spectrum("am1.5g").photon_flux())
-    design = StackDesign(job.front, job.back, *job.operating.losses_on(reference.energy))
+    design = job.stack or StackDesign(job.front, job.back, *job.operating.losses_on(reference.energy))
     gaps, thick = np.array(job.gaps_eV), np.array(job.thicknesses_nm)
     out = {"name": spec.name, "latitude": spec.latitude, "longitude": spec.longitude,
            "altitude_m": spec.altitude_m, "timezone": spec.zone, "tilt_deg": tilt,
@@ -314,6 +357,9 @@ class RegionResult(ResultDisplay):
                                      if self.records else None),
                 "front": self.job.front.key if self.job else None,
                 "back": self.job.back.key if self.job else None,
+                "stack": self.job.stack.stack.key if self.job and self.job.stack else None,
+                "stack_layers_nm": dict(self.job.stack.others, origin=self.job.stack.origin)
+                if self.job and self.job.stack else None,
                 "bifacial": bool(self.job and self.job.rows), "caution": CAUTION}
 
     def to_frame(self):

@@ -245,6 +245,10 @@ class Scenario:
         from tandem.jobs.region import region_job
 
         own_period, own_step = self.clear_sky_period()
+        if job.get("stack") is not None:  # the stack replaces the scenario's absorbers
+            return region_job(front, back, operating or self.operating(),
+                              reference=light or self.light(), period=period or own_period,
+                              step_minutes=step_minutes or own_step, **job)
         backs = self.back_thicknesses_nm()
         job.setdefault("back_thickness_nm", backs[0] if backs else None)
         return region_job(front or self.fronts[0], back or self.backs[0],
