@@ -434,3 +434,51 @@ def test_yield_cli_with_a_stack(tmp_path):
                            (["--reflectance", "0.03"], "reflectance with a layer stack")):
         res = runner.invoke(app, args[:1] + extra + args[1:] + ["--overwrite"])
         assert res.exit_code != 0 and message in res.output, res.output
+
+
+# --- a layer stack's fabrication spread ----------------------------------------------------
+
+def test_stack_spread_without_spread_is_the_matched_design():
+    # σ = 0: every device is the design `match --stack` reports (its thin-film budget is
+    # checked against tmm in test_thinfilm and test_wafer)
+    best = tandem.match_stack("organic-pair", points=24).match.best
+    s = tandem.fabrication_spread_stack("organic-pair", thickness_sigma_pct=0.0, samples=5)
+    assert np.allclose(s.spread.efficiency_2t, best.efficiency_2t, rtol=1e-9, atol=0)
+    assert s.spread.nominal_2t == pytest.approx(best.efficiency_2t, rel=1e-9)
+    assert s.summary()["std_pct"] == 0.0 and s.summary()["nominal_origin"] == "matched"
+
+
+def test_stack_spread_draws_every_film_and_solves_each_device_as_alone():
+    from tandem.design.layerstack import evaluate_budget, photon_budget
+    from tandem.physics.stack import IDEAL
+
+    stack = tandem.load_stack("organic-pair")
+    s = tandem.fabrication_spread_stack(stack, samples=300, seed=7, front_thickness_nm=150.0,
+                                        others={})
+    films = {x.name: x.thickness_nm for x in stack.layers if x.coherent and x.role != "front"}
+    assert set(s.spread.layers_nm) == set(films)  # thick incoherent layers keep their thickness
+    for name, d in s.spread.layers_nm.items():  # N(d, 5 % of d), independently drawn
+        assert np.std(d) / films[name] == pytest.approx(0.05, rel=0.2)
+    assert np.all(s.spread.efficiency_2t <= s.spread.efficiency_4t * (1 + 1e-12))
+    flux = tandem.Light().photon_flux()
+    for i in (0, 1, 299):  # the broadcast solve of a chunk equals each device solved alone
+        others = {k: float(v[i]) for k, v in s.spread.layers_nm.items()}
+        budget = photon_budget(stack, flux.energy, [s.spread.front_thickness_nm[i]], others)
+        alone = evaluate_budget(stack, budget, flux, 298.15, 1.0, IDEAL)[0]
+        assert s.spread.efficiency_2t[i] == pytest.approx(float(alone.efficiency_2t[0]), rel=1e-10)
+    again = tandem.fabrication_spread_stack(stack, samples=300, seed=7, front_thickness_nm=150.0,
+                                            others={})
+    assert np.array_equal(again.spread.efficiency_2t, s.spread.efficiency_2t)
+
+
+def test_spread_cli_with_a_stack(tmp_path):
+    res = runner.invoke(app, ["spread", "--stack", "organic-pair", "--samples", "20",
+                              "--thickness", "150nm", "--json"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    assert data["stack"] == "organic-pair" and data["front_thickness_nm"] == 150.0
+    for extra, message in ((["organic-wide", "organic-narrow"], "FRONT and BACK with --stack"),
+                           (["--gap-sigma", "0.02"], "--gap-sigma with --stack"),
+                           (["--gap", "1.8"], "--gap with --stack")):
+        res = runner.invoke(app, ["spread", *extra, "--stack", "organic-pair"])
+        assert res.exit_code != 0 and message in res.output, res.output

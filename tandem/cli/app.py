@@ -338,8 +338,10 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
 @friendly
 @shared
 def fabrication_spread(
-        front: Annotated[str, typer.Argument(help="Front absorber.", show_default=False)],
-        back: Annotated[str, typer.Argument(help="Back absorber.", show_default=False)],
+        front: Annotated[Optional[str], typer.Argument(help="Front absorber.", show_default=False)] = None,
+        back: Annotated[Optional[str], typer.Argument(help="Back absorber.", show_default=False)] = None,
+        stack: Annotated[Optional[str], plain_option(help="A layer stack (bundled name or .toml) instead "
+                                             "of FRONT BACK: every thin film's thickness spread.")] = None,
         gap: Annotated[Optional[float], plain_option(help="Design front gap in eV.")] = None,
         thickness: Annotated[Optional[str], plain_option(help="Design front thickness, e.g. 800nm.")] = None,
         back_thickness: Annotated[Optional[str], plain_option(help="Back thickness, e.g. 160um.")] = None,
@@ -349,7 +351,7 @@ def fabrication_spread(
         seed: Annotated[int, plain_option(help="Random seed (same seed, same devices).")] = 1,
         target: Annotated[Optional[float], plain_option(help="Efficiency target in %.")] = None,
         plot: Plot = None, overwrite: Overwrite = False, large: Large = False,
-        json_out: Json = False, *, o):
+        quiet: Quiet = False, json_out: Json = False, *, o):
     """How fabrication spread in gap and thickness spreads the efficiency of a design.
 
     Examples:
@@ -357,14 +359,33 @@ def fabrication_spread(
       tandem spread perovskite-wide silicon --gap 1.72 --thickness 1000nm --target 37.5
 
       tandem spread organic-wide organic-narrow --thickness-sigma 10 --json
+
+      tandem spread --stack wide-gap-on-silicon-wafer --samples 500
     """
     check_outputs([plot], overwrite, plot=True)
-    result = tandem.fabrication_spread(
-        front, back, build_light(o), build_operating(o), front_gap_eV=gap,
-        front_thickness_nm=thickness and parse_thickness(thickness, "--thickness"),
-        back_thickness_nm=back_thickness and parse_thickness(back_thickness, "--back-thickness"),
-        gap_sigma_eV=gap_sigma, thickness_sigma_pct=thickness_sigma, samples=samples, seed=seed,
-        target_pct=target, allow_large=large)
+    design_d = thickness and parse_thickness(thickness, "--thickness")
+    if stack is not None:
+        for name, value in (("FRONT and BACK", front or back), ("--gap", gap),
+                            ("--back-thickness", back_thickness),
+                            ("--gap-sigma", gap_sigma if given("gap_sigma") else None)):
+            if value is not None:
+                raise TandemInputError(f"{name} with --stack: the stack file sets the absorbers, "
+                                       "their gaps and the wafer (its films' thicknesses are "
+                                       "what spreads); drop it")
+        with progress_bar(quiet or json_out, "devices") as bar:
+            result = tandem.fabrication_spread_stack(
+                stack, build_light(o), build_operating(o), front_thickness_nm=design_d,
+                thickness_sigma_pct=thickness_sigma, samples=samples, seed=seed,
+                target_pct=target, progress=progress_callback(bar), allow_large=large)
+    elif front is None or back is None:
+        raise TandemInputError("give FRONT and BACK absorbers, or --stack FILE")
+    else:
+        result = tandem.fabrication_spread(
+            front, back, build_light(o), build_operating(o), front_gap_eV=gap,
+            front_thickness_nm=design_d,
+            back_thickness_nm=back_thickness and parse_thickness(back_thickness, "--back-thickness"),
+            gap_sigma_eV=gap_sigma, thickness_sigma_pct=thickness_sigma, samples=samples, seed=seed,
+            target_pct=target, allow_large=large)
     s = result.summary()
     if plot:
         from tandem.output.plots import save_figure
@@ -378,11 +399,20 @@ def fabrication_spread(
         ("percentile_90_pct", "90th percentile %"))]
     if target is not None:
         cols.append(("≥ target", field_text("share_at_or_above_target_pct", "{:.1f} %")))
-    out.print(render_table(f"Fabrication spread: {s['front']} over {s['back']}, {samples:,} devices "
+    title = f"{s['front']} over {s['back']}"
+    if s.get("stack"):
+        title = f"stack {s['stack']} ({title})"
+    out.print(render_table(f"Fabrication spread: {title}, {samples:,} devices "
                      f"({o['terminals']}T)", cols, [s]))
-    say(f"design: front gap {s['front_gap_eV']:.3f} eV ± {gap_sigma:g} eV, thickness "
-         f"{s['front_thickness_nm']:.0f} nm ± {thickness_sigma:g} %; seed {seed}",
-         *[f"wrote {p}" for p in s.get("outputs", [])])
+    if s.get("stack"):
+        design = (f"design ({s['nominal_origin']}): front {s['front_thickness_nm']:.0f} nm, "
+                  + ", ".join(f"{k} {v:g} nm" for k, v in s["layers_nm"].items())
+                  + f", each ± {thickness_sigma:g} %; gap {s['front_gap_eV']:.3f} eV fixed by "
+                  f"the stack file; seed {seed}")
+    else:
+        design = (f"design: front gap {s['front_gap_eV']:.3f} eV ± {gap_sigma:g} eV, thickness "
+                  f"{s['front_thickness_nm']:.0f} nm ± {thickness_sigma:g} %; seed {seed}")
+    say(design, *[f"wrote {p}" for p in s.get("outputs", [])])
     out.print(f"[dim]{escape(tandem.CAUTION)}[/]")
 
 

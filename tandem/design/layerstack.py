@@ -177,10 +177,11 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
     parasitic = {x.name: np.broadcast_to(absorbed[x.name], shape) for x in stack.layers
                  if x.role == "parasitic"}
     back = stack.back
+    back_d = others.get(back.name, back.thickness_nm)  # per device (n_d, 1) in a spread
     return PhotonBudget(e, np.broadcast_to(absorbed[stack.front.name], shape),
                         np.broadcast_to(absorbed[stack.back.name], shape), parasitic,
                         reflected, transmitted,
-                        (d_front[:, 0], others.get(back.name, back.thickness_nm)))
+                        (d_front[:, 0], back_d[:, 0] if np.ndim(back_d) == 2 else back_d))
 
 
 def budget_currents(budget: PhotonBudget, flux, temperature_K: float, usable_from_eV: float = 0.0):

@@ -1,13 +1,14 @@
 """Fabrication scatter: the efficiency distribution when gap and thickness vary.
 
-Front gap and front thickness (and optionally the back gap) are drawn from normal
-distributions around a design (seeded, reproducible); every sample is evaluated with the
-optics-lite model and the detailed-balance engine, in chunks.
+Front gap and front thickness are drawn from normal distributions around a design (seeded,
+reproducible); every sample is evaluated with the optics-lite model and the detailed-balance
+engine, in chunks. For a layer stack (:func:`scatter_stack`) every thin film's thickness is
+drawn independently and each chunk of devices is one thin-film solve, wafer traced.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -24,6 +25,7 @@ class ScatterResult:
     efficiency_4t: np.ndarray
     nominal_2t: float
     nominal_4t: float
+    layers_nm: dict = field(default_factory=dict)  #: a stack's other films: name → samples [nm]
 
     def stats(self, terminals: int = 2, target_pct: float | None = None) -> dict:
         eff = 100 * (self.efficiency_2t if terminals == 2 else self.efficiency_4t)
@@ -81,3 +83,48 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
     nominal = stack_performance(design, cond, front_gap, front_thickness_nm, back_thickness_nm)
     return ScatterResult(gaps, thick, e2, e4, float(nominal.efficiency_2t),
                          float(nominal.efficiency_4t))
+
+
+def _draw_thickness(rng, nominal_nm: float, sigma_pct: float, samples: int) -> np.ndarray:
+    """Thicknesses ~ N(d, σ·d) [nm], floored at 10⁻³·d (a film cannot be thinner than nothing)."""
+    d = nominal_nm * (1 + sigma_pct / 100 * rng.standard_normal(samples))
+    return np.maximum(d, 1e-3 * nominal_nm)
+
+
+def scatter_stack(stack, flux, temperature_K: float, ideality: float, electrical,
+                  nominal_nm: dict, thickness_sigma_pct: float = 5.0, samples: int = 2000,
+                  seed: int = 1, chunk: int = 200, progress=None) -> ScatterResult:
+    """Every thin film of a layer stack (the coherent layers, front absorber included) drawn
+    ~ N(d, σ·d) independently around ``nominal_nm`` (layer name → nm); thick incoherent
+    layers (glass, the wafer) keep their thickness. Each chunk is one broadcast thin-film
+    solve (:func:`~tandem.design.layerstack.photon_budget`)."""
+    from tandem.design.layerstack import evaluate_budget, photon_budget
+
+    if not (np.isfinite(thickness_sigma_pct) and 0 <= thickness_sigma_pct <= 100):
+        raise TandemInputError(f"thickness σ {thickness_sigma_pct:g} %: give 0 to 100 %")
+    if not 1 <= samples <= 1_000_000:
+        raise TandemInputError(f"samples {samples}: give 1 to 1,000,000 devices")
+    if not (isinstance(seed, (int, np.integer)) and 0 <= seed < 2**63):
+        raise TandemInputError(f"seed {seed}: give a whole number from 0 up")
+    rng = np.random.default_rng(seed)
+    front = stack.front.name
+    films = [x.name for x in stack.layers if x.coherent]
+    draws = {name: _draw_thickness(rng, nominal_nm[name], thickness_sigma_pct, samples)
+             for name in films}
+    fixed = {k: v for k, v in nominal_nm.items() if k not in draws and k != front}
+    e2, e4 = np.empty(samples), np.empty(samples)
+    for start in range(0, samples, chunk):
+        sl = slice(start, start + chunk)
+        others = {**fixed, **{k: v[sl, None] for k, v in draws.items() if k != front}}
+        budget = photon_budget(stack, flux.energy, draws[front][sl], others, temperature_K)
+        perf = evaluate_budget(stack, budget, flux, temperature_K, ideality, electrical)[0]
+        e2[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_4t
+        if progress:
+            progress(min(start + chunk, samples), samples)
+    budget = photon_budget(stack, flux.energy, [nominal_nm[front]],
+                           {k: v for k, v in nominal_nm.items() if k != front}, temperature_K)
+    nominal = evaluate_budget(stack, budget, flux, temperature_K, ideality, electrical)[0]
+    gap = stack.front.gap_eV if stack.front.gap_eV is not None else stack.front.absorber.gap_eV
+    return ScatterResult(np.full(samples, float(gap)), draws[front], e2, e4,
+                         float(nominal.efficiency_2t[0]), float(nominal.efficiency_4t[0]),
+                         {k: v for k, v in draws.items() if k != front})

@@ -288,13 +288,11 @@ def stack_yield_design(stack, operating: OperatingPoint, reference: Light, other
     ``others`` (swept layer → nm) default to the design ``match --stack`` chooses under the
     reference light at 25 °C, whose front thickness then joins the default axis
     (``thickness_points`` log-spaced across the front's sweep in the stack file)."""
-    from tandem.core.errors import TandemInputError
     from tandem.design.yields import StackYield
     from tandem.jobs.inputs import thickness_axis
-    from tandem.jobs.stack_match import stack_input
+    from tandem.jobs.stack_match import stack_input, swept_thicknesses
 
     stack = stack_input(stack, operating)
-    swept = {x.name: x for x in stack.swept}
     matched = None
     if others is None:  # the design `match --stack` chooses under the reference spectrum
         from tandem.design.layerstack import match_in_stack
@@ -302,17 +300,8 @@ def stack_yield_design(stack, operating: OperatingPoint, reference: Light, other
         matched = match_in_stack(stack, reference.photon_flux(), 298.15, 24, operating.ideality,
                                  operating.electrical).best
         others = matched.others
-    others = dict(others)
-    for name, value in others.items():
-        if name not in swept:
-            raise TandemInputError(f"others: '{name}' is not a swept layer of stack '{stack.key}'"
-                                   f" ({', '.join(swept) or 'it sweeps none'})")
-        lo, hi = swept[name].sweep_nm or (0.0, 0.0)
-        if not (lo <= float(value) <= hi):
-            raise TandemInputError(f"others: {name} {value:g} nm is outside its sweep "
-                                   f"{lo:g}–{hi:g} nm in the stack file")
-    others = {name: float(others.get(name, x.thickness_nm)) for name, x in swept.items()}
-    design = StackYield(stack, others, "given" if matched is None else "AM1.5G-matched")
+    design = StackYield(stack, swept_thicknesses(stack, others),
+                        "given" if matched is None else "AM1.5G-matched")
     if front_thicknesses_nm is None:
         lo, hi = stack.front.sweep_nm or design.front.thickness_range_nm
         thick = thickness_axis(lo, hi, thickness_points, most=most_points)

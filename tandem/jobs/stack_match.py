@@ -107,6 +107,23 @@ def stack_input(stack, operating: OperatingPoint):
     return stack
 
 
+def swept_thicknesses(stack, others: dict) -> dict:
+    """Every swept layer's thickness [nm] (besides the front absorber): ``others`` checked
+    against the stack's sweeps, a layer left out at the middle of its range."""
+    from tandem.core.errors import TandemInputError
+
+    swept = {x.name: x for x in stack.swept}
+    for name, value in others.items():
+        if name not in swept:
+            raise TandemInputError(f"others: '{name}' is not a swept layer of stack '{stack.key}'"
+                                   f" ({', '.join(swept) or 'it sweeps none'})")
+        lo, hi = swept[name].sweep_nm or (0.0, 0.0)
+        if not (lo <= float(value) <= hi):
+            raise TandemInputError(f"others: {name} {value:g} nm is outside its sweep "
+                                   f"{lo:g}–{hi:g} nm in the stack file")
+    return {name: float(others.get(name, x.thickness_nm)) for name, x in swept.items()}
+
+
 def match_stack(stack, light: Light = Light(), operating: OperatingPoint = OperatingPoint(), *,
                 points: int = 120, progress: Progress | None = None) -> StackMatchResult:
     """Current-match the front absorber of a layer stack, thin-film interference included.

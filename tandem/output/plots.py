@@ -373,9 +373,10 @@ def draw_spread(result, terminals=2, target_pct=None, ax=None) -> Figure:
     fig, ax = plt.subplots(figsize=(6.5, 4)) if ax is None else (ax.figure, ax)
     ax.hist(eff, bins=60, color=FRONT_COLOUR, alpha=0.8)
     p10, p50, p90 = np.percentile(eff, [10, 50, 90])
-    for v, name in ((p10, "10th pct"), (p50, "median"), (p90, "90th pct")):
-        ax.axvline(v, color="0.3", ls=":", lw=1)
-        ax.text(v, ax.get_ylim()[1] * 0.95, f" {name}", fontsize=8)
+    # the percentiles in the legend, not beside their lines: close lines would overprint
+    for k, v in enumerate((p10, p50, p90)):
+        ax.axvline(v, color="0.3", ls=":", lw=1, label=None if k else
+                   f"10th / median / 90th percentile: {p10:.2f} / {p50:.2f} / {p90:.2f} %")
     ax.axvline(nominal, color="k", lw=1.2, label=f"nominal {nominal:.2f} %")
     if target_pct is not None:
         share = 100 * np.mean(eff >= target_pct)
@@ -383,6 +384,8 @@ def draw_spread(result, terminals=2, target_pct=None, ax=None) -> Figure:
                    label=f"target {target_pct:g} %: {share:.1f} % of devices reach it")
     ax.set_xlabel(f"{terminals}-terminal efficiency [%]")
     ax.set_ylabel("devices")
+    ax.yaxis.set_major_locator(matplotlib.ticker.MaxNLocator(integer=True))
+    ax.set_ylim(top=ax.get_ylim()[1] * 1.3)  # room for the legend above the bars
     ax.legend(fontsize=8, loc="upper left")
     fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
     return fig
