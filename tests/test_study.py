@@ -274,3 +274,36 @@ def test_a_stack_reading_its_own_files_is_refused_in_a_study(tmp_path):
     path.write_text(STACK_STUDY.replace('stacks = ["all-thin-film-pair"]', 'stacks = ["mine.toml"]'))
     with pytest.raises(tandem.TandemInputError, match="reads a file of its own"):
         load_scenario(path)
+
+
+def test_a_stack_in_a_study_with_a_site_and_a_spread(tmp_path):
+    # A stack row gets the same site energy and spread columns as a pair row, each equal to
+    # the stack's own yield and spread jobs for its best design
+    path = tmp_path / "s.toml"
+    path.write_text(STACK_STUDY.replace('front = ["perovskite-wide"]', 'front = ["perovskite-wide"]')
+                    .replace('stacks = ["all-thin-film-pair"]', 'stacks = ["organic-pair"]')
+                    + '''
+[site]
+name = "Invented field"
+latitude = 38.0
+longitude = -4.0
+timezone = "Etc/GMT-1"
+
+[weather]
+period = "day:2026-06-21"
+
+[spread]
+thickness_sigma_pct = 5
+samples = 40
+seed = 3
+''')
+    scenario = load_scenario(path)
+    study = run_study(scenario)
+    row = next(r for r in study.rows if r.get("stack") == "organic-pair")
+    best = study.stacks["organic-pair"].best
+    y = tandem.energy_yield_stack("organic-pair", scenario.series(), others=best.others,
+                                  front_thicknesses_nm=[best.front_thickness_nm])
+    assert row["energy_2t_kWh_m2"] == pytest.approx(float(y.sweep.energy_2t[0, 0]), abs=1e-3)
+    s = tandem.fabrication_spread_stack("organic-pair", samples=40, seed=3, others=best.others,
+                                        front_thickness_nm=best.front_thickness_nm)
+    assert row["median_pct"] == s.summary()["median_pct"]

@@ -100,7 +100,9 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
 
         stacks[key] = match_in_stack(stack, flux, operating.temperature_K, sweep.thickness_points,
                                      operating.ideality, operating.electrical)
-        rows.append(_stack_row(key, stacks[key]))
+        row = _stack_row(key, stacks[key])
+        _stack_site_and_spread(scenario, stacks[key], series, flux, operating, row)
+        rows.append(row)
     key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
     rows.sort(key=lambda r: r[key], reverse=True)
     for rank, row in enumerate(rows, 1):
@@ -139,6 +141,36 @@ def _stack_row(key: str, m) -> dict:
             "front_thickness_window_lo_nm": None, "front_thickness_window_hi_nm": None,
             "front_gap_window_lo_eV": None, "front_gap_window_hi_eV": None,
             "front_file": front.absorber.key, "back_file": stack.back.absorber.key}
+
+
+def _stack_site_and_spread(scenario: Scenario, m, series, flux, operating, row: dict) -> None:
+    """A stack row's energy at the scenario's site and its fabrication spread, as for pairs:
+    the best design's films solved at every step's cell temperature, and every film's
+    thickness drawn with the [spread] σ (the stack file fixes the gap: no gap spread)."""
+    best, stack = m.best, m.stack
+    if series is not None:
+        from tandem.design.yields import StackYield, hourly
+
+        design = StackYield(stack, best.others, "matched")
+        h = hourly(design, series, design.front_gap_eV, best.front_thickness_nm,
+                   design.back_thickness_nm, operating.ideality, operating.electrical)
+        row["energy_2t_kWh_m2"] = round(float(h.p_2t @ h.step_hours) / 1000, 3)
+        row["energy_4t_kWh_m2"] = round(float(h.p_4t @ h.step_hours) / 1000, 3)
+    if "spread" in scenario.data:
+        from tandem.design.scatter import scatter_stack
+
+        sc = scenario.data["spread"]
+        nominal = {x.name: x.thickness_nm for x in stack.layers}
+        nominal.update(best.others)
+        nominal[stack.front.name] = best.front_thickness_nm
+        spread = scatter_stack(stack, flux, operating.temperature_K, operating.ideality,
+                               operating.electrical, nominal,
+                               float(sc.get("thickness_sigma_pct", 5.0)),
+                               int(sc.get("samples", 1000)), int(sc.get("seed", 1)))
+        st = spread.stats(scenario.terminals, sc.get("target_pct"))
+        row.update({k: st[k] for k in ("percentile_10_pct", "median_pct", "percentile_90_pct")})
+        if "share_at_or_above_target_pct" in st:
+            row["share_at_target_pct"] = st["share_at_or_above_target_pct"]
 
 
 def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, losses, cond,
