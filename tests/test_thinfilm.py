@@ -228,10 +228,10 @@ def test_stack_results_stay_inside_physics(extra_n, extra_k, extra_d, front_d, t
     total = budget.front + budget.back + budget.reflected + budget.transmitted + sum(
         budget.parasitic.values())
     np.testing.assert_allclose(total, 1.0, rtol=0, atol=1e-12)
-    from tandem.design.layerstack import _evaluate
+    from tandem.design.layerstack import evaluate_budget
     from tandem.physics.stack import IDEAL
 
-    perf = _evaluate(stack, budget, flux, temperature, 1.0, IDEAL)[0]
+    perf = evaluate_budget(stack, budget, flux, temperature, 1.0, IDEAL)[0]
     assert perf.efficiency_2t[0] <= perf.efficiency_4t[0] * (1 + 1e-9)
     assert perf.efficiency_4t[0] <= global_4t_limit(280.0) * (1 + 1e-9)
     gaps = [stack.front.absorber.gap_eV + stack.front.absorber.gap_shift_eV(temperature),
