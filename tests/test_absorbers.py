@@ -259,7 +259,7 @@ def test_an_unknown_model_lists_the_registered_ones(step_model, tmp_path):
     path = _step_file(tmp_path)
     path.write_text(path.read_text().replace('"step-test"', '"stepp"'))
     with pytest.raises(tandem.TandemInputError, match="'stepp' is not known; use one of direct, "
-                       "indirect, table, database, bands, step-test"):
+                       "indirect, table, database, nk, bands, step-test"):
         tandem.parse_absorber(path)
 
 
@@ -346,3 +346,56 @@ def test_ambiguous_or_impossible_voltage_losses_are_refused(tmp_path, electrical
     with pytest.raises(tandem.TandemInputError, match=re.escape(message)) as info:
         tandem.load_absorber(_perovskite_with(tmp_path, electrical, f"f{len(electrical)}"))
     assert "\n" not in str(info.value)
+
+
+# --- n,k tables in absorber files -----------------------------------------------------------
+
+def _silicon_from_nk(tmp_path, rows=None):
+    """The bundled silicon, with its optical constants as a user's n,k CSV (written from the
+    database entry it cites: Green, Sol. Energy Mater. Sol. Cells 92 (2008) 1305)."""
+    from tandem.optics.database import database_index
+
+    wl, nk = database_index("main/Si/Green-2008")
+    lines = rows if rows is not None else [f"{w:g},{v.real:.10g},{v.imag:.10g}" for w, v in zip(wl, nk)]
+    (tmp_path / "si-nk.csv").write_text("wavelength_nm,n,k\n" + "\n".join(lines) + "\n")
+    text = (tandem.core.files.bundled_dir("absorbers") / "silicon.toml").read_text()
+    text = text.replace('model = "database"\ndatabase = "main/Si/Green-2008"',
+                        'model = "nk"\nnk_table = "si-nk.csv"')
+    (tmp_path / "si.toml").write_text(text)
+    return tandem.load_absorber(tmp_path / "si.toml")
+
+
+def test_an_nk_table_gives_the_alpha_and_index_of_its_data(tmp_path):
+    # α = 4πk/λ from the user's table equals the database model's α of the same data, and a
+    # layer stack takes n(λ) from the table: the bundled wafer stack's photon budget is the
+    # database absorber's to the table's 10 significant digits
+    from dataclasses import replace
+
+    from tandem.design.layerstack import photon_budget
+
+    si_nk, si_db = _silicon_from_nk(tmp_path), tandem.load_absorber("silicon")
+    for wavelength in (400, 600, 800, 1000, 1100, 1300):
+        assert alpha_at(si_nk, wavelength) == pytest.approx(alpha_at(si_db, wavelength), rel=1e-8)
+    assert si_nk.edge.index is not None and si_nk.edge.origin == "n,k table si-nk.csv"
+    stack = tandem.load_stack("wide-gap-on-silicon-wafer")
+    swapped = replace(stack, layers=tuple(replace(x, absorber=si_nk) if x.role == "back" else x
+                                          for x in stack.layers))
+    energy = np.linspace(1.0, 3.5, 200)
+    a, b = (photon_budget(s, energy, [325.0], {"ITO electrode": 60.0}) for s in (stack, swapped))
+    np.testing.assert_allclose(b.back, a.back, rtol=1e-7, atol=1e-12)
+    np.testing.assert_allclose(b.front, a.front, rtol=1e-7, atol=1e-12)
+    # and a constant n would not do: n from the table is what moved the wafer's light
+    flat = replace(stack, layers=tuple(replace(x, absorber=replace(si_db, index_entry=None))
+                                       if x.role == "back" else x for x in stack.layers))
+    c = photon_budget(flat, energy, [325.0], {"ITO electrode": 60.0})
+    assert np.max(np.abs(c.back - a.back)) > 1e-4
+
+
+@pytest.mark.parametrize("rows, message", [
+    (["500,4.3,0", "900,3.6,0"], "fewer than two rows with k > 0"),
+    (["0.5,4.3,0.07", "0.9,3.6,0.0002"], "wavelengths look like µm"),
+    (["500,4.3", "900,3.6"], "three numeric columns|at least two rows"),
+    (["500,-4.3,0.1", "900,3.6,0.2"], "n ≤ 0 or k < 0")])
+def test_bad_nk_tables_are_one_line(tmp_path, rows, message):
+    with pytest.raises(tandem.TandemInputError, match=message):
+        _silicon_from_nk(tmp_path, rows)

@@ -54,11 +54,15 @@ class StackLayer:
     light_trapping: str | None = None  #: for an incoherent back absorber (default: its file's)
 
     def real_index(self, wavelength_nm):
-        """n of an absorber layer: from the database entry its α comes from (dispersive, held
-        at the entry's ends), else the file's constant ``refractive_index``. k always follows
-        the absorber's α (k = αλ/4π), so α stays the one the rest of the tool uses."""
+        """n of an absorber layer: from the n,k table or database entry its α comes from
+        (dispersive, held at the table's ends), else the file's constant ``refractive_index``.
+        k always follows the absorber's α (k = αλ/4π), so α stays the one the rest of the
+        tool uses."""
         a = self.absorber
         assert a is not None  # only absorber layers ask
+        table = getattr(a.edge, "index", None)
+        if table is not None:
+            return np.interp(wavelength_nm, *table)
         if a.index_entry is None:
             return a.refractive_index
         from tandem.optics.database import database_index

@@ -229,35 +229,12 @@ def _optical_constants(path: Path, where: str, nk) -> dict:
 
 
 def _read_nk_csv(path, where, file):
-    import csv
+    from tandem.optics.database import NkTableError, read_nk_table
 
-    rows = []
     try:
-        with open(file, newline="", encoding="utf-8") as fh:
-            for line in csv.reader(fh):
-                if not line or line[0].strip().startswith("#"):
-                    continue
-                try:
-                    rows.append([float(v) for v in line[:3]])
-                except ValueError:
-                    if rows:  # a header is allowed only before the numbers
-                        raise
-    except (ValueError, UnicodeDecodeError, OSError):
-        _fail(path, f"{where}.nk", f"file '{file.name}' is not three numeric columns",
-              "give wavelength nm, n, k per row")
-    data = np.array(rows, dtype=float)
-    if data.ndim != 2 or data.shape[0] < 2 or data.shape[1] != 3 or not np.isfinite(data).all():
-        _fail(path, f"{where}.nk", f"file '{file.name}' needs at least two rows of wavelength nm, "
-              "n, k", "check the file")
-    order = np.argsort(data[:, 0])
-    data = data[order]
-    if np.any(np.diff(data[:, 0]) <= 0) or data[0, 0] <= 0 or np.any(data[:, 1] <= 0) \
-            or np.any(data[:, 2] < 0):
-        _fail(path, f"{where}.nk", f"file '{file.name}' has repeated wavelengths, n ≤ 0 or k < 0",
-              "give distinct positive wavelengths [nm], n > 0 and k ≥ 0")
-    if data[-1, 0] < 50:
-        _fail(path, f"{where}.nk", f"file '{file.name}' wavelengths look like µm", "give them in nm")
-    return data[:, 0], data[:, 1] + 1j * data[:, 2]
+        return read_nk_table(file)
+    except NkTableError as exc:
+        _fail(path, f"{where}.nk", f"file {exc.args[0]}", exc.args[1])
 
 
 # --------------------------------------------------------------------------------------

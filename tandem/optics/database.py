@@ -1,4 +1,5 @@
-"""Published optical constants from the refractive-index database (offline, CC0).
+"""Optical constants: published ones from the refractive-index database (offline, CC0), and
+n,k tables a user gives (wavelength nm, n, k).
 """
 
 from __future__ import annotations
@@ -79,3 +80,40 @@ def database_index(entry: str):
         k = np.zeros_like(n)
     keep = np.isfinite(n) & np.isfinite(k)
     return wavelength[keep], n[keep] + 1j * np.maximum(k[keep], 0.0)
+
+
+class NkTableError(ValueError):
+    """An n,k table that cannot be used: (problem, fix)."""
+
+
+def read_nk_table(file: Path) -> tuple[np.ndarray, np.ndarray]:
+    """(wavelength nm ascending, ñ = n + ik) from a CSV of wavelength [nm], n, k per row (a
+    header line allowed before the numbers; '#' lines skipped). Raises :class:`NkTableError`."""
+    import csv
+
+    rows = []
+    try:
+        with open(file, newline="", encoding="utf-8") as fh:
+            for line in csv.reader(fh):
+                if not line or line[0].strip().startswith("#"):
+                    continue
+                try:
+                    rows.append([float(v) for v in line[:3]])
+                except ValueError:
+                    if rows:  # a header is allowed only before the numbers
+                        raise
+    except (ValueError, UnicodeDecodeError, OSError):
+        raise NkTableError(f"'{file.name}' is not three numeric columns",
+                           "give wavelength nm, n, k per row") from None
+    data = np.array(rows, dtype=float)
+    if data.ndim != 2 or data.shape[0] < 2 or data.shape[1] != 3 or not np.isfinite(data).all():
+        raise NkTableError(f"'{file.name}' needs at least two rows of wavelength nm, n, k",
+                           "check the file")
+    data = data[np.argsort(data[:, 0])]
+    if np.any(np.diff(data[:, 0]) <= 0) or data[0, 0] <= 0 or np.any(data[:, 1] <= 0) \
+            or np.any(data[:, 2] < 0):
+        raise NkTableError(f"'{file.name}' has repeated wavelengths, n ≤ 0 or k < 0",
+                           "give distinct positive wavelengths [nm], n > 0 and k ≥ 0")
+    if data[-1, 0] < 50:
+        raise NkTableError(f"'{file.name}' wavelengths look like µm", "give them in nm")
+    return data[:, 0], data[:, 1] + 1j * data[:, 2]

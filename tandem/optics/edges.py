@@ -23,7 +23,7 @@ import numpy as np
 from tandem.core.errors import TandemInputError
 from tandem.core.toml_files import Checker
 from tandem.core.units import HC_EV_NM
-from tandem.optics.database import database_alpha
+from tandem.optics.database import NkTableError, database_alpha, read_nk_table
 from tandem.physics.columns import parse_two_columns, read_data_text
 
 
@@ -77,6 +77,8 @@ class TabulatedEdge:
     alpha_per_cm: np.ndarray  #: positive [cm⁻¹]
     urbach_energy_eV: float  #: slope of the extrapolated tail [eV]
     origin: str  #: where the table came from
+    #: (wavelength nm ascending, n) when the table gave n too: the absorber's dispersive n
+    index: tuple[np.ndarray, np.ndarray] | None = None
 
     def alpha(self, energy_eV, gap_eV=None):  # the gap of a table is fixed by its data
         energy = np.asarray(energy_eV, dtype=float)
@@ -291,10 +293,38 @@ def _read_database(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge
     return TabulatedEdge(energy, alpha, urbach_eV, f"refractive-index database {entry}")
 
 
+def _read_nk(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
+    """An n,k table (wavelength nm, n, k): α = 4πk/λ where k > 0, and n for layer stacks."""
+    rel = c.get("absorption", "nk_table")
+    if rel is None:
+        c.fail("absorption.nk_table", "is missing", "give the CSV of wavelength nm, n, k")
+    path = c.path.parent / rel
+    if not path.is_file():
+        c.fail("absorption.nk_table", f"= '{path.name}' not found next to the absorber file",
+               "put the CSV beside the .toml or fix the path")
+    try:
+        wavelength, nk = read_nk_table(path)
+    except NkTableError as exc:
+        c.fail("absorption.nk_table", exc.args[0], exc.args[1])
+    alpha = 4 * np.pi * nk.imag / (wavelength * 1e-7)  # [cm⁻¹], λ in cm
+    keep = alpha > 0  # below the gap k = 0: the Urbach tail extends α there
+    if np.count_nonzero(keep) < 2:
+        c.fail("absorption.nk_table", f"'{path.name}' has fewer than two rows with k > 0",
+               "give the absorbing range: α = 4πk/λ needs k > 0")
+    energy = HC_EV_NM / wavelength[keep]
+    if energy.max() < 0.3 or energy.min() > 4.5:
+        c.fail("absorption.nk_table", f"'{path.name}' absorbs only at {energy.min():.3g}–"
+               f"{energy.max():.3g} eV, none of the solar spectrum (0.3–4.5 eV)", "check the unit")
+    order = np.argsort(energy)
+    return TabulatedEdge(energy[order], alpha[keep][order], urbach_eV, f"n,k table {rel}",
+                         (wavelength, nk.real))
+
+
 _POWER_LAW_KEYS = {"alpha_at_gap_per_cm": "num", "strength_per_cm": "num"}
 register_edge_model("direct", ParametricEdge, _read_power_law("direct"), _POWER_LAW_KEYS)
 register_edge_model("indirect", ParametricEdge, _read_power_law("indirect"), _POWER_LAW_KEYS)
 register_edge_model("table", TabulatedEdge, _read_table,
                     {"table": "str", "table_axis": "str"}, data_file_key="table")
 register_edge_model("database", TabulatedEdge, _read_database, {"database": "str"})
+register_edge_model("nk", TabulatedEdge, _read_nk, {"nk_table": "str"}, data_file_key="nk_table")
 register_edge_model("bands", BandEdge, _read_bands, {"bands": "bandlist"})
