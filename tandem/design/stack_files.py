@@ -9,7 +9,6 @@ import difflib
 import math
 from pathlib import Path
 
-import numpy as np
 
 from tandem.core.errors import TandemInputError
 from tandem.core.files import bundled_dir
