@@ -22,7 +22,8 @@ runner = CliRunner()
 
 
 def test_spectrl2_under_g173_conditions_matches_the_standard(am15g):
-    # ASTM G173-03 conditions: air mass 1.5 (apparent zenith 48.236° with Kasten-Young),
+    # ASTM G173-03 conditions: air mass 1.5 (zenith 48.236° as the standard's SMARTS input
+    # states it, recalled; the Kasten–Young air mass there is 1.4993),
     # a surface tilted 37° towards the sun, sea level, aerosol optical depth 0.084 at
     # 500 nm, 1.4164 cm of water, 0.3438 atm-cm of ozone (the standard's SMARTS inputs).
     site = Site("G173", 0.0, 0.0, 0.0, 37.0, 180.0, "UTC", 0.2, G173_AEROSOL_500NM,

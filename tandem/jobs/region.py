@@ -94,7 +94,10 @@ class RegionJob:
                            "reference": repr(self.reference),
                            "cell_temperature_K": self.cell_temperature_K,
                            "cover_index": self.cover_index,
-                           "stack": None if self.stack is None else _stack_text(self.stack)},
+                           "stack": None if self.stack is None else _stack_text(self.stack),
+                           # files named by path count by content, and the tool by version
+                           "files": _input_files_sha(self.operating, self.reference),
+                           "version": _tandem_version()},
                           sort_keys=True)
         return hashlib.sha256(text.encode()).hexdigest()
 
@@ -184,6 +187,22 @@ def region_job(front: Absorber | str | None, back: Absorber | str | None,
     return RegionJob(a_front, a_back, operating, tuple(map(float, gaps)), tuple(map(float, thick)),
                      back_d, period, float(step_minutes), str(tilt), float(albedo), rows,
                      reference, cell_temperature_K, float(cover_index), design)
+
+
+def _input_files_sha(operating: OperatingPoint, reference: Light | None) -> dict:
+    """SHA-256 of every input file a region job names by path: a spectrum CSV and spectral
+    loss CSVs (a resumed site must have used the same numbers, not just the same names)."""
+    named = {k: getattr(operating, k) for k in ("reflectance", "front_parasitic",
+                                                "interlayer_parasitic")}
+    if reference is not None:
+        named["spectrum"] = reference.source
+    return {k: _file_sha(v) for k, v in named.items() if isinstance(v, str) and Path(v).is_file()}
+
+
+def _tandem_version() -> str:
+    from tandem import __version__
+
+    return __version__
 
 
 def _file_sha(path: str | None) -> str | None:

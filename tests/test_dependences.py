@@ -1,0 +1,195 @@
+"""Each physical dependence past the engine pinned to an outside value or a closed form: a
+flipped sign, a dropped factor or a wrong unit in spectra, sky, yield, region or the jobs makes
+one of these fail (the checks a mutation run found missing)."""
+
+import math
+from dataclasses import replace
+
+import numpy as np
+import pandas as pd
+import pytest
+
+import tandem
+from tandem.core.units import K_B_EV
+from tandem.design.sky import Site, clear_sky_series, parse_period, standard_zenith_deg
+
+
+# --- light ----------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("source", ["am1.5g", "csv"])
+def test_concentration_multiplies_the_light_and_adds_kT_ln_X_to_voc(source, tmp_path):
+    # Ideal diode (Shockley): Voc = (kT/q)·ln(1 + Jsc/J0) with Jsc ∝ X, so 3 suns add
+    # (kT/q)·ln 3 — for the reference spectra and a user's CSV alike (a 1.6 eV cell, > 9 kT
+    # below its gap in both). At 100 suns a 1.34 eV cell comes within 5.4 kT of its gap,
+    # where the tool uses the exact (Bose–Einstein) emission: its Voc is then the root of
+    # Würfel's law, integrated here on its own.
+    from scipy import integrate, optimize
+
+    if source == "csv":
+        g173 = tandem.reference_spectrum("am1.5g")
+        keep = (g173.wavelength_nm >= 300) & (g173.wavelength_nm <= 2500)
+        lines = [f"{w:g},{v:.8g}" for w, v in zip(g173.wavelength_nm[keep], g173.irradiance[keep])]
+        (tmp_path / "sun.csv").write_text("wavelength_nm,irradiance\n" + "\n".join(lines) + "\n")
+        source = str(tmp_path / "sun.csv")
+    gap, vt = 1.34, K_B_EV * 298.15
+
+    def cell(g, x):
+        return tandem.limit(g, tandem.Light(source=source, concentration=x)).design.performance
+
+    one, hundred = cell(gap, 1.0), cell(gap, 100.0)
+    assert float(hundred.irradiance) == pytest.approx(100 * float(one.irradiance), rel=1e-12)
+    assert float(hundred.jsc[0]) == pytest.approx(100 * float(one.jsc[0]), rel=1e-12)
+    assert float(cell(1.6, 3.0).voc[0] - cell(1.6, 1.0).voc[0]) == pytest.approx(
+        vt * math.log(3.0), rel=1e-9)
+    # Würfel, J. Phys. C 15 (1982) 3967: emission ∝ ∫ E²/(e^{(E−qV)/kT} − 1) dE above the gap,
+    # scaled by the tool's Boltzmann J0 = C·∫ E²·e^{−E/kT} dE
+    top = gap + 80 * vt
+
+    def moment(v, exact=True):
+        f = ((lambda e: e * e / math.expm1((e - v) / vt)) if exact else
+             (lambda e: e * e * math.exp(-(e - v) / vt)))
+        return integrate.quad(f, gap, top, epsabs=0, epsrel=1e-13, limit=200)[0]
+
+    c = float(one.j0[0]) / moment(0.0, exact=False)
+    jsc = float(hundred.jsc[0])
+    voc = optimize.brentq(lambda v: c * (moment(v) - moment(0.0)) - jsc, 1.0, gap - 1e-3,
+                          xtol=1e-14)
+    assert float(hundred.voc[0]) == pytest.approx(voc, abs=1e-9)
+    assert voc < 1.34 - 5 * vt  # and there the Boltzmann law would be 58 µV too high
+    assert vt * math.log(100.0) - (voc - float(one.voc[0])) == pytest.approx(58e-6, rel=0.05)
+
+
+def test_series_jsc_is_the_limiting_subcells_and_ff_is_its_definition():
+    # A series stack at short circuit carries the smaller photocurrent (the other subcell is
+    # forward biased; the limiting one reverse biased by at most kT·ln 2 — its J0 is ~1e-17 of
+    # J_L); FF = P/(Voc·Jsc) by definition
+    r = tandem.limit([1.73, 0.94])
+    p = r.design.performance
+    assert float(p.jsc_2t) == pytest.approx(float(np.min(p.j_light)), rel=1e-12)
+    assert float(p.ff_2t) == pytest.approx(float(p.p_2t / (p.voc_2t * p.jsc_2t)), rel=1e-12)
+    s = r.summary()
+    assert s["jsc_mA_cm2"] == pytest.approx(float(np.min(p.j_light)) / 10, abs=1e-4)
+    assert s["limiting_subcell"] == ("front" if p.j_light[0] < p.j_light[1] else "back")
+
+
+def test_a_hot_cells_photocurrent_is_that_of_its_shifted_gap():
+    # The perovskite widens with heat (its file: +0.25 meV/K, cited there): at 65 °C its
+    # photocurrent is the one of a gap 10 meV wider at 25 °C. A flipped sign gives the gap
+    # 10 meV narrower and ~0.2 mA/cm² more.
+    from tandem.design.matching import Conditions, StackDesign, design_currents
+
+    pk, si = tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon")
+    design = StackDesign(pk, si)
+    flux = tandem.Light().photon_flux()
+    hot = design_currents(design, Conditions(flux, 338.15), 1.68, np.array([500.0]), 160e3)[0]
+    shift = float(pk.gap_shift_eV(338.15))
+    assert shift == pytest.approx(pk.gap_temperature_coefficient_eV_K * 40.0) and shift > 0
+    cool = design_currents(design, Conditions(flux, 298.15), 1.68 + shift, np.array([500.0]), 160e3)[0]
+    assert float(hot[0, 0]) == pytest.approx(float(cool[0, 0]), rel=1e-12)
+
+
+# --- sky and time ---------------------------------------------------------------------------
+
+def test_air_mass_is_kasten_young():
+    # Kasten & Young, Appl. Opt. 28 (1989) 4735 (coefficients recalled): AM(z) =
+    # 1/(cos z + 0.50572·(96.07995° − z)^−1.6364), z the apparent zenith. Solved here on its
+    # own for AM 1.5 (48.259°); a plane-parallel 1/cos z would put it at 48.190°
+    from scipy.optimize import brentq
+
+    def kasten_young(z):
+        return 1 / (math.cos(math.radians(z)) + 0.50572 * (96.07995 - z) ** -1.6364)
+
+    zenith = brentq(lambda z: kasten_young(z) - 1.5, 40.0, 55.0, xtol=1e-13)
+    assert standard_zenith_deg() == pytest.approx(zenith, abs=1e-9)
+    assert abs(zenith - math.degrees(math.acos(1 / 1.5))) > 0.05
+
+
+def test_a_day_is_a_local_day_and_etc_gmt_signs_are_posix():
+    # IANA 'Etc/GMT+7' is UTC−7 (POSIX sign convention): a local day there starts at 07:00 UTC
+    times = parse_period("day:2026-06-21", "Etc/GMT+7", 60)
+    assert times.size == 24
+    assert times[0] == pd.Timestamp("2026-06-21 00:30", tz="Etc/GMT+7")
+    assert times[0].tz_convert("UTC") == pd.Timestamp("2026-06-21 07:30", tz="UTC")
+
+
+def test_the_brightest_clear_hour_is_around_solar_noon():
+    # At the standard meridian of its zone (−105° for UTC−7) solar noon is 12:00 local minus
+    # the equation of time (≈ −2 min on 21 June): a south-facing module is brightest at noon
+    site = Site("meridian field", 35.0, -105.0, 0.0, 30.0, 180.0, "Etc/GMT+7")
+    series = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 30))
+    brightest = series.times[int(np.argmax(series.step_irradiance))]
+    assert abs(brightest.hour + brightest.minute / 60 - 12.0) <= 0.5
+
+
+def test_insolation_does_not_depend_on_the_step_length():
+    # Σ G·Δt converges to the day's integral: 60- and 15-minute steps agree within 1 %
+    site = Site("invented field", 38.0, -4.0, 600.0, 30.0, 180.0, "Etc/GMT-1")
+    coarse = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 60))
+    fine = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 15))
+    assert fine.step_hours[0] == pytest.approx(0.25)
+    assert coarse.insolation_kWh_m2 == pytest.approx(fine.insolation_kWh_m2, rel=0.01)
+
+
+# --- yield and region -----------------------------------------------------------------------
+
+def test_an_open_rear_emits_even_in_the_dark():
+    # Reciprocity (Rau 2007): a rear face open to light is open to emission. With no rear
+    # light at all, an open rear only adds dark current to the back subcell, so the energy
+    # falls — by a few per mille for a radiative silicon back (about kT·ln 2 of its Voc)
+    from tandem.design.matching import StackDesign
+    from tandem.design.yields import yield_sweep
+
+    site = Site("invented field", 38.0, -4.0, 600.0, 30.0, 180.0, "Etc/GMT-1")
+    series = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 60))
+    design = StackDesign(replace(tandem.load_absorber("perovskite-wide"), ere=1.0),
+                         replace(tandem.load_absorber("silicon"), ere=1.0, bulk=None))
+    flux = tandem.Light().photon_flux()
+    mono = yield_sweep(design, series, [1.70], [600.0], 160e3, flux)
+    dark_rear = replace(series, rear_ratio=np.zeros(series.times.size), bifaciality=1.0)
+    opened = yield_sweep(design, dark_rear, [1.70], [600.0], 160e3, flux)
+    loss = 1 - float(opened.energy_4t[0, 0] / mono.energy_4t[0, 0])
+    assert 1e-3 < loss < 0.03
+
+
+def test_a_region_resume_key_follows_the_step_and_the_weather_files_content(tmp_path):
+    # A resumed site must have been computed from the same inputs: the time step and the
+    # weather file's bytes (not its name) are part of the key
+    from tandem.jobs.region import SiteSpec, region_job
+
+    job = region_job("perovskite-wide", "silicon", front_gaps_eV=[1.7], thickness_points=2)
+    assert replace(job, step_minutes=15.0).job_fingerprint() != job.job_fingerprint()
+    weather = tmp_path / "w.csv"
+    weather.write_text("a,b\n1,2\n")
+    spec = SiteSpec("x", 10.0, 10.0, 0.0, "", str(weather))
+    before = job.fingerprint(spec)
+    weather.write_text("a,b\n1,3\n")
+    assert job.fingerprint(spec) != before
+
+
+def test_a_region_resume_key_follows_input_files_by_content_and_the_version(tmp_path, monkeypatch):
+    # Halving a spectrum file under the same name, or changing a loss CSV, or a new tandem
+    # version, must not resume sites computed before
+    from tandem.jobs.region import region_job
+
+    g173 = tandem.reference_spectrum("am1.5g")
+    sun = tmp_path / "sun.csv"
+
+    def write(scale):
+        sun.write_text("wavelength_nm,irradiance\n" + "\n".join(
+            f"{w:g},{scale * v:.8g}" for w, v in zip(g173.wavelength_nm, g173.irradiance)) + "\n")
+
+    write(1.0)
+    job = region_job("perovskite-wide", "silicon", front_gaps_eV=[1.7], thickness_points=2,
+                     reference=tandem.Light(source=str(sun)))
+    before = job.job_fingerprint()
+    write(0.5)
+    assert job.job_fingerprint() != before
+    loss = tmp_path / "r.csv"
+    loss.write_text("wavelength_nm,reflectance\n300,0.02\n2000,0.02\n")
+    lossy = replace(job, operating=tandem.OperatingPoint(reflectance=str(loss)))
+    first = lossy.job_fingerprint()
+    loss.write_text("wavelength_nm,reflectance\n300,0.04\n2000,0.04\n")
+    assert lossy.job_fingerprint() != first
+    now = job.job_fingerprint()
+    monkeypatch.setattr(tandem, "__version__", "99.0")
+    assert job.job_fingerprint() != now
