@@ -193,3 +193,27 @@ def test_a_region_resume_key_follows_input_files_by_content_and_the_version(tmp_
     now = job.job_fingerprint()
     monkeypatch.setattr(tandem, "__version__", "99.0")
     assert job.job_fingerprint() != now
+
+
+def test_a_flat_loss_file_equals_the_same_flat_fraction_in_yield_and_region(tmp_path):
+    # A loss CSV is resampled onto each grid it meets (the series' and the reference's): a
+    # file holding 3 % everywhere gives exactly what the number 0.03 gives
+    from tandem.jobs.region import SiteSpec, region_job, site_year
+
+    loss = tmp_path / "r.csv"
+    loss.write_text("wavelength_nm,reflectance\n280,0.03\n4000,0.03\n")
+    site = Site("invented field", 38.0, -4.0, 600.0, 30.0, 180.0, "Etc/GMT-1")
+    series = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 60))
+    kw = dict(front_gaps_eV=[1.7], front_thicknesses_nm=[400.0, 800.0])
+    by_file = tandem.energy_yield("perovskite-wide", "silicon", series,
+                                  tandem.OperatingPoint(reflectance=str(loss)), **kw)
+    by_number = tandem.energy_yield("perovskite-wide", "silicon", series,
+                                    tandem.OperatingPoint(reflectance=0.03), **kw)
+    np.testing.assert_allclose(by_file.sweep.energy_2t, by_number.sweep.energy_2t, rtol=1e-12)
+    np.testing.assert_allclose(by_file.sweep.efficiency_am15_2t,
+                               by_number.sweep.efficiency_am15_2t, rtol=1e-12)
+    spec = SiteSpec("x", 38.0, -4.0, 600.0, "Etc/GMT-1")
+    records = [site_year(spec, region_job("perovskite-wide", "silicon", tandem.OperatingPoint(
+        reflectance=value), front_gaps_eV=[1.7], thickness_points=2, period="day:2026-06-21"))
+        for value in (str(loss), 0.03)]
+    assert records[0]["energy_2t_kWh_m2"] == pytest.approx(records[1]["energy_2t_kWh_m2"], rel=1e-12)

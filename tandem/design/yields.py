@@ -227,8 +227,13 @@ def yield_sweep(design: YieldDesign, series: SpectralSeries, gaps, thicknesses,
                 back_thickness_nm: float, reference: PhotonFlux, ideality: float = 1.0,
                 electrical: Electrical = IDEAL, bin_K: float = 2.0,
                 progress: Callable[[int, int], None] | None = None,
-                allow_outside: bool = False) -> YieldSweep:
-    """Energy over the series for every front gap × front thickness, 2T and 4T [kWh/m²]."""
+                allow_outside: bool = False,
+                reference_design: StackDesign | None = None) -> YieldSweep:
+    """Energy over the series for every front gap × front thickness, 2T and 4T [kWh/m²].
+
+    A pair's spectral losses are arrays on the series' energy grid (``series.energy``);
+    ``reference_design`` holds the same losses on the reference spectrum's grid, for the
+    AM1.5G comparison (default: ``design``, right when its losses are flat)."""
     gaps = np.atleast_1d(np.asarray(gaps, dtype=float))
     thicknesses = np.atleast_1d(np.asarray(thicknesses, dtype=float))
     if not np.all(thicknesses > 0):
@@ -244,7 +249,7 @@ def yield_sweep(design: YieldDesign, series: SpectralSeries, gaps, thicknesses,
                                "FRONT and BACK absorbers instead of the stack")
     with _one_blas_thread():
         return _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference,
-                            ideality, electrical, bin_K, progress)
+                            ideality, electrical, bin_K, progress, reference_design or design)
 
 
 def _one_blas_thread():
@@ -256,7 +261,7 @@ def _one_blas_thread():
 
 
 def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference, ideality,
-                 electrical, bin_K, progress) -> YieldSweep:
+                 electrical, bin_K, progress, reference_design) -> YieldSweep:
     flux = series.photon_basis()
     w = trapezoid_weights(flux.energy) * Q
     e2 = np.zeros((gaps.size, thicknesses.size))
@@ -274,8 +279,8 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
             done += 1
             if progress:
                 progress(done, total)
-    am15 = np.array([_am15_efficiency(design, reference, g, thicknesses, back_thickness_nm,
-                                      ideality, electrical) for g in gaps])
+    am15 = np.array([_am15_efficiency(reference_design, reference, g, thicknesses,
+                                      back_thickness_nm, ideality, electrical) for g in gaps])
     return YieldSweep(gaps, thicknesses, e2, e4, series.insolation_kWh_m2, series, design,
                       float(back_thickness_nm), am15, flux.rank, flux.bound)
 

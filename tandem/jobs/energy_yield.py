@@ -221,9 +221,12 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
     check_work("yield", series.times.size * gaps.size * thick.size, allow_large=allow_large,
                what="step × design evaluations")
-    sweep = yield_sweep(design, series, gaps, thick, back_d, reference.photon_flux(),
+    flux = reference.photon_flux()
+    sweep = yield_sweep(design, series, gaps, thick, back_d, flux,
                         operating.ideality, operating.electrical, progress=progress,
-                        allow_outside=operating.allow_outside_range)
+                        allow_outside=operating.allow_outside_range,
+                        reference_design=StackDesign(a_front, a_back,
+                                                     *operating.losses_on(flux.energy)))
     i, j = sweep.optimum
     best = hourly(design, series, sweep.gaps[i], sweep.thicknesses[j], back_d,
                   operating.ideality, operating.electrical)

@@ -315,7 +315,8 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
                 cover_index=job.cover_index)
     reference = (job.reference.photon_flux() if job.reference is not None
                  else load_spectrum("am1.5g").photon_flux())
-    design = job.stack or StackDesign(job.front, job.back, *job.operating.losses_on(reference.energy))
+    # a pair's spectral losses on each grid they meet: the series' and the reference's
+    at_reference = StackDesign(job.front, job.back, *job.operating.losses_on(reference.energy))
     gaps, thick = np.array(job.gaps_eV), np.array(job.thicknesses_nm)
     out = {"name": spec.name, "latitude": spec.latitude, "longitude": spec.longitude,
            "altitude_m": spec.altitude_m, "timezone": spec.zone, "tilt_deg": tilt,
@@ -329,9 +330,13 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
         if job.cell_temperature_K is not None:
             series = replace(series, cell_temperature_K=np.full(series.times.size,
                                                                 job.cell_temperature_K))
+        design = job.stack or replace(at_reference, **dict(zip(
+            ("reflectance", "front_parasitic", "interlayer_parasitic"),
+            job.operating.losses_on(series.energy))))
         sweep = yield_sweep(design, series, gaps, thick, job.back_thickness_nm, reference,
                             job.operating.ideality, job.operating.electrical,
-                            allow_outside=job.operating.allow_outside_range)
+                            allow_outside=job.operating.allow_outside_range,
+                            reference_design=at_reference)
         i, j = sweep.optimum
         a, b = sweep.am15_optimum
         out.update({
