@@ -169,12 +169,12 @@ def test_examples_run(script, tmp_path):
     assert out.stdout.strip() and (tmp_path / "f.png").stat().st_size > 10_000
 
 
-def test_readme_python_api_runs_as_printed(tmp_path, monkeypatch):
-    text = (ROOT / "README.md").read_text()
-    block = text.split("## Python API", 1)[1].split("```python\n", 1)[1].split("```", 1)[0]
+def test_docs_python_api_runs_as_printed(tmp_path, monkeypatch):
+    text = (ROOT / "docs" / "python-api.md").read_text()
+    block = text.split("# Python API", 1)[1].split("```python\n", 1)[1].split("```", 1)[0]
     monkeypatch.chdir(tmp_path)
     namespace: dict = {}
-    exec(compile(block, "README.md (Python API)", "exec"), namespace)
+    exec(compile(block, "docs/python-api.md", "exec"), namespace)
     assert round(namespace["r"].summary()["efficiency_pct"], 2) == 45.04
     assert (tmp_path / "gap-map.nc").stat().st_size > 10_000
     assert len(namespace["region"].records) == 2 and (tmp_path / "region-out" / "sites").is_dir()

@@ -193,5 +193,5 @@ def test_region_scenario_takes_its_inputs_and_names_what_it_does_not_use(tmp_pat
 def test_region_needs_absorbers_or_a_scenario(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     res = runner.invoke(app, ["region", "--latitudes", "0:10:10", "--longitudes", "0:0:1"])
-    assert res.exit_code == 2 and "give FRONT and BACK absorbers, or --scenario" in res.output
+    assert res.exit_code == 2 and "give FRONT and BACK absorbers (or --stack FILE), or --scenario" in res.output
     assert not list(tmp_path.iterdir())

@@ -100,7 +100,7 @@ def list_bundled(json_out: bool) -> None:
     out.print(render_table("Bundled layer stacks (tandem match --stack NAME)", [
         ("name", lambda s: s.key), ("title", lambda s: s.title),
         ("layers", lambda s: str(len(s.layers)))], stacks))
-    say("Add your own: pass the path of a .toml file written to the schemas in the README.")
+    say("Add your own: pass the path of a .toml file written to the schemas in docs/file-formats.md.")
 
 
 def show_absorber(name: str, plot, overwrite: bool, json_out: bool) -> None:

@@ -52,7 +52,7 @@ class Checker:
                 self.fail(key, "is not a known key", fix)
         for section in self.required_sections:
             if section not in self.data:
-                self.fail(section, "is missing", f"add a [{section}] section (see the README)")
+                self.fail(section, "is missing", f"add a [{section}] section (see docs/file-formats.md)")
         for section, keys in schema.items():
             for key, (kind, required) in keys.items():
                 where = self.data if not section else self.data.get(section, {})
@@ -60,7 +60,7 @@ class Checker:
                 if key not in where:
                     present = not section or section in self.data
                     if required and present:
-                        self.fail(name, "is missing", "add it (see the README)")
+                        self.fail(name, "is missing", "add it (see docs/file-formats.md)")
                     continue
                 self.check_kind(name, where[key], kind)
 

@@ -1,6 +1,6 @@
 """Real layer stacks: a two-junction device as the ordered films a lab deposits.
 
-A stack description (TOML, see the README) lists layers from the sun side: a cover, a
+A stack description (TOML, see docs/commands.md, `match --stack`) lists layers from the sun side: a cover, a
 transparent electrode, transport layers, the front absorber, a recombination layer, the
 back absorber. Thin layers are solved coherently, thick ones incoherently
 (:mod:`tandem.optics.thinfilm`); each subcell's absorptance in the stack gives its photocurrent

@@ -83,7 +83,7 @@ def parse_stack(path: Path) -> LayerStack:
                   else f"allowed: {', '.join(sorted(TOP_KEYS))}")
     for key in ("title", "layer"):
         if key not in data:
-            _fail(path, key, "is missing", "add it (see the README's layer-stack example)")
+            _fail(path, key, "is missing", "add it (see the layer-stack example in docs/commands.md)")
     if not isinstance(data["title"], str):
         _fail(path, "title", "must be text", "put it in quotes")
     raw = data["layer"]

@@ -89,8 +89,8 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
         own gap for real absorbers.
     front_absorber, back_absorber : optional
         Move these absorbers' edges to each gap instead of using step absorbers.
-    marks : sequence of (name, gap)
-        Gaps to mark on the figure.
+    marks : list
+        Gaps to mark on the figure, as (label, gap) pairs.
 
     Examples
     --------

@@ -68,7 +68,7 @@ class RegionJob:
     back_thickness_nm: float
     period: str = "year:2026"
     step_minutes: float = 60.0
-    tilt: str = "latitude"  #: 'latitude' (tilt = |latitude|, facing the equator) or degrees
+    tilt: str = "latitude"  #: 'latitude' (tilt = the absolute latitude, facing the equator) or degrees
     albedo: float = 0.2
     rows: Rows | None = None  #: bifacial rows, or None (monofacial)
     reference: Light | None = None  #: the comparison design's light (default AM1.5G)
@@ -127,7 +127,7 @@ def region_job(front: Absorber | str | None, back: Absorber | str | None,
                cover_index: float = 1.526, stack=None, others=None) -> RegionJob:
     """What every site of a region computes, checked once (the same axes as a yield).
 
-    ``tilt`` is degrees (0–90) or 'latitude' (tilt = |latitude|, facing the equator);
+    ``tilt`` is degrees (0–90) or 'latitude' (tilt = the absolute latitude, facing the equator);
     ``thickness_points`` front thicknesses (2–100) span the front's range. ``stack`` (a
     LayerStack, bundled name or .toml) replaces FRONT and BACK: every site sweeps its front
     absorber's thickness with the films solved and the wafer traced, the other swept layers

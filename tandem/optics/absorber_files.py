@@ -1,6 +1,6 @@
 """Absorber descriptions: one TOML file each, validated strictly, resolved to optics.
 
-The schema (documented in the README) is ours. Every field is checked; an unknown key, a
+The schema (documented in docs/file-formats.md) is ours. Every field is checked; an unknown key, a
 missing field or a physically impossible value raises :class:`TandemInputError` naming the
 file, the field and the fix in one line.
 """

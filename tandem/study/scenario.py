@@ -1,6 +1,6 @@
 """Scenario files: the schema, the resolved :class:`Scenario` and its checks.
 
-A scenario (TOML, our own schema, see the README) names the spectrum, temperature, candidate
+A scenario (TOML, our own schema, see docs/commands.md, `tandem study`) names the spectrum, temperature, candidate
 absorbers, sweep settings and what to report; everything it uses is held in memory, so a
 study runs the same from its scenario file or from its manifest.
 """
