@@ -307,3 +307,13 @@ seed = 3
     s = tandem.fabrication_spread_stack("organic-pair", samples=40, seed=3, others=best.others,
                                         front_thickness_nm=best.front_thickness_nm)
     assert row["median_pct"] == s.summary()["median_pct"]
+
+
+def test_one_back_thickness_list_serves_backs_of_different_ranges():
+    # The bundled organic study lists 100–800 nm for an organic back (40–300 nm) and a tin-lead
+    # perovskite (300–2000 nm): each back keeps the thicknesses in its own range, and says so
+    study = run_study(load_scenario("low-cost-organic-pair"))
+    backs = {r["back"]: r["back_thickness_um"] for r in study.rows}
+    assert set(backs) == {"organic-narrow", "perovskite-snpb"}
+    assert backs["organic-narrow"] <= 0.3 and backs["perovskite-snpb"] >= 0.3
+    assert any("perovskite-snpb: back thickness 100, 150, 250 nm left out" in s for s in study.skipped)

@@ -330,7 +330,7 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
          f"{best['limiting_subcell']} subcell limits the current (mismatch {best['mismatch_pct']:.2f} %)",
          *[f"skipped: {n}" for n in result.skipped],
          f"spectrum: {result.spectrum_name}, {result.irradiance:.2f} W/m²; cell {sc.temperature_K:g} K",
-         f"wrote {written}/ (design-table.csv/.md/.tex, loss-breakdown.csv, figures/, manifest.json)")
+         f"wrote {written}/ (report.html, design-table.csv/.md/.tex, loss-breakdown.csv, figures/, manifest.json)")
     out.print(f"[dim]{escape(tandem.CAUTION)}[/]")
 
 

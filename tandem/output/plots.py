@@ -43,18 +43,43 @@ LAYER_COLOURS = ("#ff7f0e", "#2ca02c", "#9467bd", "#8c564b", "#e377c2", "#bcbd22
 DPI = 300  #: print resolution of PNG figures
 
 
-def savefig(fig, target, fmt: str) -> None:
-    """Save at print resolution; SVG keeps its text as text (editable), not as paths."""
+#: while :func:`svg_copies` is active: output file name → the same figure as SVG text
+_SVG_SINK: dict | None = None
+
+
+class svg_copies:
+    """Collect an SVG copy of every figure written inside the block (for a report that
+    inlines them without drawing them twice): ``with svg_copies() as svgs: ...``."""
+
+    def __enter__(self) -> dict:
+        global _SVG_SINK
+        self.previous, _SVG_SINK = _SVG_SINK, {}
+        return _SVG_SINK
+
+    def __exit__(self, *exc) -> None:
+        global _SVG_SINK
+        _SVG_SINK = self.previous
+
+
+def savefig(fig, target, fmt: str, name: str | None = None) -> None:
+    """Save at print resolution; SVG keeps its text as text (editable), not as paths.
+    ``name`` (the output's file name) files an SVG copy while :class:`svg_copies` collects."""
+    import io
+
     import matplotlib
 
     with matplotlib.rc_context({"svg.fonttype": "none"}):
         fig.savefig(target, dpi=DPI, bbox_inches="tight", format=fmt,
                     metadata={"Creator": "tandem"} if fmt in ("svg", "pdf") else {"Software": "tandem"})
+        if _SVG_SINK is not None and name is not None:
+            text = io.StringIO()
+            fig.savefig(text, bbox_inches="tight", format="svg", metadata={"Creator": "tandem"})
+            _SVG_SINK[name] = text.getvalue()
 
 
 def save_figure(fig, path, overwrite):
     def write(tmp: Path):
-        savefig(fig, tmp, Path(path).suffix.lstrip(".") or "png")
+        savefig(fig, tmp, Path(path).suffix.lstrip(".") or "png", Path(path).name)
 
     try:
         return write_whole(path, write, overwrite)
@@ -236,7 +261,7 @@ def map_figures(gap_map, terminals, tolerance_pct, marks, prefix: str | Path,
     fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
     prefix = Path(prefix)
     writers = {
-        prefix.with_suffix(".png"): lambda p: savefig(fig, p, "png"),
+        prefix.with_suffix(".png"): lambda p: savefig(fig, p, "png", prefix.with_suffix(".png").name),
         prefix.with_suffix(".svg"): lambda p: savefig(fig, p, "svg"),
     }
     for suffix, writer in (tables or {}).items():

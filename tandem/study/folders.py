@@ -20,6 +20,7 @@ from tandem.study.sources import read_manifest
 from tandem.study.tables import columns, latex_table, loss_table, markdown_table
 
 STUDY_FILES = ("design-table.csv", "design-table.md", "design-table.tex", "loss-breakdown.csv",
+               "report.html",
                "manifest.json")
 FIGURE_SUFFIXES = (".png", ".svg")
 
@@ -95,10 +96,19 @@ def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
         breakdowns.to_csv(tmp / "loss-breakdown.csv", index=False, float_format="%.6g")
         (tmp / "design-table.md").write_text(markdown_table(study), encoding="utf-8")
         (tmp / "design-table.tex").write_text(latex_table(study), encoding="utf-8")
-        if figures:
-            _write_figures(study, tmp / "figures")
-        (tmp / "manifest.json").write_text(json.dumps(manifest(study, figures), indent=2,
-                                                      ensure_ascii=False) + "\n", encoding="utf-8")
+        from tandem.output.plots import svg_copies
+        from tandem.study.html_report import html_report
+
+        with svg_copies() as svgs:  # the report inlines the figures as drawn for the folder
+            if figures:
+                _write_figures(study, tmp / "figures")
+        record = manifest(study, figures)
+        (tmp / "manifest.json").write_text(json.dumps(record, indent=2, ensure_ascii=False)
+                                           + "\n", encoding="utf-8")
+        name = Path(folder).name
+        (tmp / "report.html").write_text(
+            html_report(study, svgs, record, f"tandem study {name}/manifest.json --out {name}-again"),
+            encoding="utf-8")
 
     return place_folder(folder, build, overwrite, lambda t: study_replace_reason(t, protected))
 

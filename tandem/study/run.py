@@ -60,9 +60,12 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
         design = StackDesign(front, back, *losses)
         from tandem.design.matching import front_gap_grid
 
+        backs = back_thicknesses_for(back, sweep.back_thicknesses_nm, skipped)
+        if backs == []:
+            continue
         gaps = front_gap_grid(front, sweep.front_gap_step_eV)
         gaps = gaps[gaps > back.gap_eV]
-        result = match_currents(design, cond, gaps, sweep.back_thicknesses_nm, None,
+        result = match_currents(design, cond, gaps, backs, None,
                                 sweep.thickness_points, operating.terminals)
         results[(front.key, back.key)] = result
         row = _row(result, scenario.tolerance_pct)
@@ -143,6 +146,25 @@ def _stack_row(key: str, m) -> dict:
             "front_file": front.absorber.key, "back_file": stack.back.absorber.key}
 
 
+def back_thicknesses_for(back, thicknesses_nm, notes: list) -> list | None:
+    """The scenario's back thicknesses that lie in ``back``'s declared range (None: its
+    default). One list serves every back candidate, so a thickness outside one absorber's
+    range is left out for that absorber alone, with a note; none left skips the pair."""
+    if thicknesses_nm is None:
+        return None
+    lo, hi = back.thickness_range_nm
+    inside = [d for d in thicknesses_nm if lo - 1e-9 <= d <= hi + 1e-9]
+    outside = [d for d in thicknesses_nm if d not in inside]
+    if outside:
+        shown = ", ".join(f"{d:g}" for d in outside)
+        note = (f"{back.key}: back thickness {shown} nm left out, outside its range "
+                f"{lo:g}–{hi:g} nm" + ("" if inside else
+                                       " — no thickness left, so its pairs are not compared"))
+        if note not in notes:  # one list for every pair with this back
+            notes.append(note)
+    return inside
+
+
 def _stack_site_and_spread(scenario: Scenario, m, series, flux, operating, row: dict) -> None:
     """A stack row's energy at the scenario's site and its fabrication spread, as for pairs:
     the best design's films solved at every step's cell temperature, and every film's
@@ -204,8 +226,8 @@ def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, loss
             back = replace(back, ere=float(ere[1]))
         gaps = front_gap_grid(front, sweep.front_gap_step_eV)
         result = match_currents(StackDesign(front, back, *losses_v), cond_v, gaps[gaps > back.gap_eV],
-                                sweep.back_thicknesses_nm, None, sweep.thickness_points,
-                                scenario.terminals)
+                                back_thicknesses_for(back, sweep.back_thicknesses_nm, []),
+                                None, sweep.thickness_points, scenario.terminals)
         best = configuration_row(result.configurations[0])
         row[f"variant{index}_front_gap_eV"] = best["front_gap_eV"]
         row[f"variant{index}_front_thickness_nm"] = best["front_thickness_nm"]
