@@ -183,7 +183,7 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
         return emit_json(s)
     f, b, best = s["front"], s["back"], s["configurations"][0]
     out.print(render_table(f"{f['name']} over {b['name']}: best configurations ({s['terminals']}T ranking)",
-                     [("#", lambda r: r["rank"])] + design_columns(),
+                     [("#", lambda r: r["rank"])] + design_columns(rows=s["configurations"]),
                      [dict(c, rank=i) for i, c in enumerate(s["configurations"], 1)],
                      "Jsc in mA/cm²", wide))
     m = s["matched_front_thickness_nm"]
@@ -200,7 +200,8 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
          f"order: {s['order']['reason']}")
     if not s["order"]["given_order_is_better"]:
         sw = s["swapped"]
-        out.print(render_table(f"the better order: {sw['front']} in front", design_columns(),
+        out.print(render_table(f"the better order: {sw['front']} in front",
+                               design_columns(rows=sw["configurations"][:top]),
                          sw["configurations"][:top], wide=wide))
     say(*[f"note: {n}" for n in s["spectrum_notes"] + s["model_notes"]], s["temperature_note"],
          f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K; "
@@ -321,10 +322,11 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
                            "terminals": sc.terminals, "rows": result.rows, "skipped": result.skipped,
                            "spectrum": result.spectrum_name, "temperature_K": sc.temperature_K,
                            "irradiance_W_m2": round(result.irradiance, 3), "caution": tandem.CAUTION})
-    cols = design_columns(columns(result))
+    cols = design_columns(columns(result), result.rows[: sc.top])
     say(sc.data["question"])
     out.print(render_table(f"{sc.data['title']} — ranked designs ({sc.terminals}T)", cols,
-                     result.rows[: sc.top], "limiting: the subcell with the lower photocurrent", wide))
+                     result.rows[: sc.top], "limiting: the subcell with the lower photocurrent", wide,
+                     key_columns=3 + ("stack" in result.rows[0])))
     best = result.rows[0]
     say(f"best: {best['front']} at {best['front_gap_eV']:.3f} eV over {best['back']}; the "
          f"{best['limiting_subcell']} subcell limits the current (mismatch {best['mismatch_pct']:.2f} %)",

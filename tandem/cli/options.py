@@ -265,13 +265,18 @@ def progress_callback(bar):
     return lambda done, total: bar.update(task, completed=done, total=total)
 
 
-def render_table(title, columns, rows, caption=None, wide: bool = False) -> Table:
+def render_table(title, columns, rows, caption=None, wide: bool = False, key_columns: int = 1):
     """A rich table from (heading, function of a row[, optional]) columns; text is never markup.
 
     Optional columns are dropped, last first, and headings broken onto two lines, until the
     table fits the terminal, unless ``wide`` or the output is not a terminal (piped output
-    keeps every column); cells are never cut (they fold if nothing else helps).
+    keeps every column); a column whose values tell two rows apart (a swept back thickness)
+    is never dropped. If it still does not fit, it is printed as several tables, one under
+    the other, each repeating the first ``key_columns`` (the row's name): a number or a name
+    is never cut or folded onto a second line.
     """
+    from rich.console import Group
+
     cells = [[escape(str(c[1](row))) for c in columns] for row in rows]
     headings = [c[0] for c in columns]
     keep = list(range(len(columns)))
@@ -282,25 +287,46 @@ def render_table(title, columns, rows, caption=None, wide: bool = False) -> Tabl
     def width(idx, heads):
         return sum(need(i, heads) + 3 for i in idx) + 1
 
-    fits = True
+    split = False
     if not (wide or not out.is_terminal):
         optional = [i for i, c in enumerate(columns) if len(c) > 2 and c[2]]
-        while width(keep, headings) > out.width and optional:
-            keep.remove(optional.pop())
+
+        def distinct(idx):
+            return len({tuple(r[i] for i in idx) for r in cells})
+
+        rows_apart = distinct(keep)
+        for i in reversed(optional):  # last first; never one that tells two rows apart
+            if width(keep, headings) <= out.width:
+                break
+            trial = [k for k in keep if k != i]
+            if distinct(trial) == rows_apart:
+                keep = trial
         if width(keep, headings) > out.width:
             headings = [h.replace(" ", "\n", 1) for h in headings]
-        fits = width(keep, headings) <= out.width
+        split = width(keep, headings) > out.width
+    parts = [keep]
+    if split:  # side by side it cannot fit: one table under another
+        keys = keep[:key_columns]
+        parts = [list(keys)]
+        for i in keep[key_columns:]:
+            if len(parts[-1]) > len(keys) and width(parts[-1] + [i], headings) > out.width:
+                parts.append(list(keys))
+            parts[-1].append(i)
     dropped = len(columns) - len(keep)
     note = f"{dropped} more column{'s' if dropped > 1 else ''} with --wide" if dropped else None
-    table = Table(title=escape(title), title_justify="left",
-                  caption="; ".join(x for x in (caption, note) if x) or None)
-    for i in keep:  # fold, never cut: a number or a name is printed whole
-        table.add_column(headings[i], justify="right", overflow="fold",
-                         min_width=need(i, headings) if fits else None)
-    for r in cells:
-        table.add_row(*[r[i] for i in keep])
-    return table
-
+    tables = []
+    for n, idx in enumerate(parts):
+        fits = width(idx, headings) <= out.width or not out.is_terminal or wide
+        table = Table(title=escape(title) + (" (continued)" if n else ""), title_justify="left",
+                      caption=("; ".join(x for x in (caption, note) if x) or None)
+                      if n == len(parts) - 1 else None)
+        for i in idx:  # a column wider than the terminal alone folds (text at words)
+            table.add_column(headings[i], justify="right", overflow="fold",
+                             min_width=need(i, headings) if fits else None)
+        for r in cells:
+            table.add_row(*[r[i] for i in idx])
+        tables.append(table)
+    return tables[0] if len(tables) == 1 else Group(*tables)
 
 
 def field_text(key, fmt="{:.2f}", none="—"):
@@ -391,12 +417,18 @@ def run_app(app) -> None:
     sys.exit(code if isinstance(code, int) else 0)
 
 
-def design_columns(columns=None):
-    """Terminal (heading, cell, optional) triples of the design-table columns shown."""
+#: inputs a design table may sweep: shown in any terminal whenever the rows differ in them
+SWEPT_INPUTS = ("back_thickness_um",)
+
+
+def design_columns(columns=None, rows=()):
+    """Terminal (heading, cell, optional) triples of the design-table columns shown; a swept
+    input (several back thicknesses among ``rows``) is never optional."""
     if columns is None:
         from tandem.output.report import DESIGN_COLUMNS as columns
+    swept = {k for k in SWEPT_INPUTS if len({r.get(k) for r in rows}) > 1}
     return [(c.short, field_text(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"),
-             not c.compact) for c in columns if c.terminal]
+             not c.compact and c.key not in swept) for c in columns if c.terminal]
 
 
 def stack_over_scenario(stack: str, operating):

@@ -111,17 +111,19 @@ def show_absorber(name: str, plot, overwrite: bool, json_out: bool) -> None:
     if json_out:
         emit_json(s)
     else:
-        rows: list[tuple[str, object]] = []
+        rows: list[tuple[str, str]] = []
         for k, v in s.items():
             if k in ("sources", "alpha_per_cm"):
                 continue
-            # a nested group (the Auger parameters) as one row per field
-            rows += ([(f"{k}: {kk}", vv) for kk, vv in v.items() if vv is not None]
-                     if isinstance(v, dict) else [(k, v)])
+            # a nested group (the recombination parameters) as one line per field
+            rows += ([(f"{k}: {kk}", _plain(vv)) for kk, vv in v.items() if vv is not None]
+                     if isinstance(v, dict) else [(k, _plain(v))])
         rows += [(f"α at {wl}", f"{v:.3g} cm⁻¹") for wl, v in s["alpha_per_cm"].items()]
         rows += [(f"source: {k}", v) for k, v in s["sources"].items()]
-        out.print(render_table(f"{a.name} ({a.key})", [("field", lambda r: r[0]),
-                                                 ("value", lambda r: r[1])], rows))
+        # field: value lines, not a table: a long value (a path, a citation) wraps at words
+        # onto its own line instead of being folded inside a narrow column
+        out.print(f"[bold]{escape(a.name)} ({escape(a.key)})[/]")
+        say(*(f"{k}: {v}" for k, v in rows))
     if plot:
         from tandem.output.plots import absorber_figure
 
@@ -160,3 +162,16 @@ def show_version(value: bool) -> None:
     if value:
         out.print(f"tandem {tandem.__version__}")
         raise typer.Exit()
+
+
+def _plain(value) -> str:
+    """A value as a reader writes it: no Python reprs (None, 17 significant digits, [a, b])."""
+    if value is None:
+        return "—"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, float):
+        return f"{value:.6g}"
+    if isinstance(value, (list, tuple)):
+        return "–".join(_plain(v) for v in value)
+    return str(value)
