@@ -217,3 +217,35 @@ def test_a_flat_loss_file_equals_the_same_flat_fraction_in_yield_and_region(tmp_
         reflectance=value), front_gaps_eV=[1.7], thickness_points=2, period="day:2026-06-21"))
         for value in (str(loss), 0.03)]
     assert records[0]["energy_2t_kWh_m2"] == pytest.approx(records[1]["energy_2t_kWh_m2"], rel=1e-12)
+
+
+# --- what --outside-range allows is said, never silent ----------------------------------------
+
+def test_designs_outside_declared_ranges_are_flagged_in_match_spread_and_yield(tmp_path):
+    # perovskite-wide declares 1.57–1.923 eV (its composition relation over x = 0–0.6)
+    import json
+
+    from typer.testing import CliRunner
+
+    from tandem.cli.app import app
+
+    runner = CliRunner()
+    res = runner.invoke(app, ["match", "perovskite-wide", "silicon", "--front-gaps",
+                              "1.5:1.6:0.05", "--outside-range", "--points", "20", "--json"])
+    assert res.exit_code == 0, res.output
+    rows = {round(r["front_gap_eV"], 3): r["outside_range"] for r in json.loads(res.stdout)["configurations"]}
+    assert rows[1.6] == [] and rows[1.5] == ["front gap 1.500 eV outside 1.570–1.923 eV"]
+    text = runner.invoke(app, ["match", "perovskite-wide", "silicon", "--front-gaps",
+                               "1.5:1.6:0.05", "--outside-range", "--points", "20", "-q"]).output
+    assert "outside the absorbers' declared ranges" in text and "front gap 1.550 eV outside" in text
+    s = tandem.fabrication_spread("perovskite-wide", "silicon",
+                                  operating=tandem.OperatingPoint(allow_outside_range=True),
+                                  front_gap_eV=1.5, samples=5, gap_sigma_eV=0.0)
+    assert s.summary()["outside_range"] == ["front gap 1.500 eV outside 1.570–1.923 eV"]
+    site = Site("invented field", 38.0, -4.0, 600.0, 30.0, 180.0, "Etc/GMT-1")
+    series = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 60))
+    y = tandem.energy_yield("perovskite-wide", "silicon", series,
+                            tandem.OperatingPoint(allow_outside_range=True),
+                            front_gaps_eV=[1.55], front_thicknesses_nm=[400.0])
+    assert y.summary()["energy_optimum"]["outside_range"] == [
+        "front gap 1.550 eV outside 1.570–1.923 eV"]

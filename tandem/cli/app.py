@@ -182,10 +182,16 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
             s["loss_breakdown"] = show_breakdown(result, losses, overwrite, title, json_out)
         return emit_json(s)
     f, b, best = s["front"], s["back"], s["configurations"][0]
+    outside = [i for i, c in enumerate(s["configurations"], 1) if c["outside_range"]]
     out.print(render_table(f"{f['name']} over {b['name']}: best configurations ({s['terminals']}T ranking)",
-                     [("#", lambda r: r["rank"])] + design_columns(rows=s["configurations"]),
+                     [("#", lambda r: f"{r['rank']}*" if r["outside_range"] else r["rank"])]
+                     + design_columns(rows=s["configurations"]),
                      [dict(c, rank=i) for i, c in enumerate(s["configurations"], 1)],
-                     "Jsc in mA/cm²", wide))
+                     "Jsc in mA/cm²" + ("; * outside the absorbers' declared ranges"
+                                        if outside else ""), wide))
+    if outside:  # allowed by --outside-range, never silent: what lies outside, row by row
+        say(*(f"* #{i}: " + "; ".join(s["configurations"][i - 1]["outside_range"])
+              for i in outside))
     m = s["matched_front_thickness_nm"]
     b4, tol = s["best_4t"], s["tolerance"]
     dw, gw = tol["front_thickness_window_nm"], tol["front_gap_window_eV"]
@@ -414,7 +420,8 @@ def fabrication_spread(
     else:
         design = (f"design: front gap {s['front_gap_eV']:.3f} eV ± {gap_sigma:g} eV, thickness "
                   f"{s['front_thickness_nm']:.0f} nm ± {thickness_sigma:g} %; seed {seed}")
-    say(design, *[f"wrote {p}" for p in s.get("outputs", [])])
+    say(design, *[f"* outside the declared range (--outside-range): {x}" for x in
+                  s.get("outside_range", [])], *[f"wrote {p}" for p in s.get("outputs", [])])
     out.print(f"[dim]{escape(tandem.CAUTION)}[/]")
 
 

@@ -157,6 +157,8 @@ def energy_yield(
         ("2T η_E %", field_text("energy_weighted_efficiency_2t_pct")),
         ("AM1.5G 2T %", field_text("efficiency_am15g_2t_pct"))], result.design_rows(),
         "η_E: energy-weighted efficiency (energy ÷ plane-of-array insolation)"))
+    say(*[f"* the energy-optimal design is outside the declared range (--outside-range): {x}"
+          for x in eo["outside_range"]])
     e4 = s["energy_optimum_4t"]
     say(f"{s['source']}: {s['steps']:,} steps, {energy_text(s['insolation_kWh_m2'])} on the module plane; "
          f"spectra in a rank-{s['spectral_basis']['rank']} basis (photocurrents within "

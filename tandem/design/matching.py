@@ -197,6 +197,21 @@ def evaluate_design(design: StackDesign, j_light, j0_rad, temperature_K, irradia
                           design.front.refractive_index, reference_j_light, bulk)
 
 
+def outside_ranges(design: StackDesign, front_gap_eV, front_thickness_nm,
+                   back_thickness_nm) -> list[str]:
+    """What of a design lies outside the ranges its absorber files declare (a design only
+    ``--outside-range`` allows), one phrase each; empty when all is inside."""
+    checks = [("front gap", front_gap_eV, design.front.gap_range_eV, "eV", "{:.3f}"),
+              ("front thickness", front_thickness_nm, design.front.thickness_range_nm, "nm", "{:.0f}"),
+              ("back thickness", back_thickness_nm, design.back.thickness_range_nm, "nm", "{:.0f}")]
+    out = []
+    for what, value, (lo, hi), unit, fmt in checks:
+        if value is not None and not lo * (1 - 1e-9) - 1e-9 <= value <= hi * (1 + 1e-9) + 1e-9:
+            out.append(f"{what} {fmt.format(value)} {unit} outside {fmt.format(lo)}–"
+                       f"{fmt.format(hi)} {unit}")
+    return out
+
+
 @dataclass(frozen=True)
 class Configuration:
     """One front gap, front thickness and back thickness with its performance."""

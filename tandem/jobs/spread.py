@@ -95,9 +95,12 @@ def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light
     cond = Conditions(flux, operating.temperature_K, operating.ideality, operating.electrical,
                       operating.allow_outside_range)
     result = scatter(design, cond, g, d, bd, gap_sigma_eV, thickness_sigma_pct, samples, seed)
+    from tandem.design.matching import outside_ranges
+
     settings = {"front": a_front.key, "back": a_back.key, "front_gap_eV": g,
                 "front_thickness_nm": d, "gap_sigma_eV": gap_sigma_eV,
-                "thickness_sigma_pct": thickness_sigma_pct, "seed": seed}
+                "thickness_sigma_pct": thickness_sigma_pct, "seed": seed,
+                "outside_range": outside_ranges(design, g, d, bd)}
     return SpreadResult(result, operating.terminals, target_pct, settings)
 
 

@@ -155,7 +155,7 @@ def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_p
     >>> s['front']['key'], s['terminals']
     ('gainp', 2)
     """
-    from tandem.design.matching import temperature_note, tolerance_windows
+    from tandem.design.matching import outside_ranges, temperature_note, tolerance_windows
     from tandem.physics.checks import electrical_notes
 
     best = result.configurations[0]
@@ -165,7 +165,9 @@ def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_p
         "front": _absorber(result.design.front),
         "back": _absorber(result.design.back),
         "terminals": result.terminals,
-        "configurations": [configuration_row(c) for c in result.configurations[:top]],
+        "configurations": [dict(configuration_row(c), outside_range=outside_ranges(
+            result.design, c.front_gap_eV, c.front_thickness_nm, c.back_thickness_nm))
+            for c in result.configurations[:top]],
         "matched_front_thickness_nm": (None if best.matched_front_thickness_nm is None
                                        else _r(best.matched_front_thickness_nm, 1)),
         "note": best.match_note if best.matched_front_thickness_nm is None else None,
@@ -317,6 +319,7 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
                            "insolation_kWh_m2": round(float(best.irradiance[sel] @ best.step_hours[sel]) / 1000, 3)})
     front_limits = float(np.sum(best.step_hours[best.j_front < best.j_back] * best.irradiance[best.j_front < best.j_back])
                          / max(np.sum(best.step_hours * best.irradiance), 1e-300))
+    from tandem.design.matching import outside_ranges
     from tandem.design.yields import StackYield
 
     d = sweep.design  # a layer stack's yield names the stack and its other layers
@@ -334,6 +337,8 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
         "energy_optimum": {
             "front_gap_eV": round(float(sweep.gaps[i]), 4),
             "front_thickness_nm": round(float(sweep.thicknesses[j]), 1),
+            "outside_range": outside_ranges(d, float(sweep.gaps[i]), float(sweep.thicknesses[j]),
+                                            sweep.back_thickness_nm),
             "energy_2t_kWh_m2": round(e2, 3),
             "energy_4t_kWh_m2": round(e4, 3),
             "energy_weighted_efficiency_2t_pct": round(100 * e2 / sweep.insolation, 3),
