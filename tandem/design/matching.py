@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
-from typing import Callable, Sequence
+from typing import Callable, Protocol, Sequence
 
 import numpy as np
 
@@ -197,7 +197,17 @@ def evaluate_design(design: StackDesign, j_light, j0_rad, temperature_K, irradia
                           design.front.refractive_index, reference_j_light, bulk)
 
 
-def outside_ranges(design: StackDesign, front_gap_eV, front_thickness_nm,
+class AbsorberPair(Protocol):
+    """Anything with a front and a back absorber (a pair, a layer stack's yield design)."""
+
+    @property
+    def front(self) -> Absorber: ...
+
+    @property
+    def back(self) -> Absorber: ...
+
+
+def outside_ranges(design: AbsorberPair, front_gap_eV, front_thickness_nm,
                    back_thickness_nm) -> list[str]:
     """What of a design lies outside the ranges its absorber files declare (a design only
     ``--outside-range`` allows), one phrase each; empty when all is inside."""
