@@ -110,3 +110,22 @@ def test_full_concentration_is_computed_below_the_gap():
     data = json.loads(res.stdout)
     assert data["efficiency_pct"] == pytest.approx(40.75, abs=0.1)
     assert 1.099 < data["voc_V"] <= 1.1
+
+
+def test_gaps_take_their_unit_and_refuse_a_wavelength_or_a_dash_range():
+    # 1.7eV and 1700meV are the gap 1.7 eV; 700 nm is refused with its energy (hc/λ =
+    # 1239.84 eV·nm / 700 nm = 1.771 eV, CODATA constants); '1.6-1.8' is told the range syntax
+    plain = json.loads(run("limit", "1.7", "--json").stdout)["efficiency_pct"]
+    for text in ("1.7eV", "1700meV"):
+        assert json.loads(run("limit", text, "--json").stdout)["efficiency_pct"] == plain
+    res = run("limit", "700nm")
+    assert res.exit_code == 2 and "700 nm is 1.771 eV" in res.output
+    res = run("match", "perovskite-wide", "silicon", "--front-gaps", "1.6-1.8")
+    assert res.exit_code == 2 and "a range is LO:HI:STEP, e.g. 1.6:1.8:0.02" in res.output
+
+
+def test_on_off_flags_show_no_value_placeholder_in_help():
+    lines = run("match", "--help").output.splitlines()
+    for flag in ("--json", "--quiet", "--wide", "--large"):
+        shown = [line for line in lines if f"{flag} " in line]
+        assert shown and not any("VALUE" in line or "<bool>" in line for line in shown), shown

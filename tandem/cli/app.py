@@ -14,7 +14,7 @@ import typer
 from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (SHARED, Json, Large, Losses, Overwrite, Plot,  # noqa: F401
+from tandem.cli.options import (flag_option, parse_gap, SHARED, Json, Large, Losses, Overwrite, Plot,  # noqa: F401
                                 Quiet, Wide, build_light, build_operating, check_outputs,
                                 design_columns, emit_json, energy_text, err, field_text, friendly,
                                 given, out, over_scenario, parse_floats, parse_gap_option,
@@ -43,9 +43,10 @@ def _root(version: Annotated[Optional[bool], typer.Option(
 @app.command()
 @friendly
 @shared
-def limit(gaps: Annotated[list[float], typer.Argument(
-        help="Band gap(s) in eV: one for a single junction, two for a stack (front first).",
-        show_default=False)], plot: Plot = None, losses: Losses = None,
+def limit(gap_text: Annotated[list[str], typer.Argument(
+        metavar="GAP [GAP2]",
+        help="Band gap(s) in eV (1.7 or 1.7eV): one for a single junction, two for a stack "
+             "(front first).", show_default=False)], plot: Plot = None, losses: Losses = None,
         overwrite: Overwrite = False, json_out: Json = False, *, o):
     """Detailed-balance limit of a single junction or a two-junction stack of step absorbers.
 
@@ -60,6 +61,7 @@ def limit(gaps: Annotated[list[float], typer.Argument(
       tandem limit 1.1 -s blackbody --concentration 1000 --json
     """
     check_outputs([plot, losses], overwrite, plot=True)
+    gaps = [parse_gap(g, "GAP") for g in gap_text]
     result = tandem.limit(gaps, build_light(o), build_operating(o))
     s = result.summary()
     if plot:
@@ -229,7 +231,7 @@ def gap_map(front: Annotated[Optional[str], plain_option("--front", help="Front 
             back_absorber: Annotated[Optional[str], plain_option(help="Likewise for the back.")] = None,
             front_thickness: Annotated[Optional[str], plain_option(help="Front thickness with absorbers.")] = None,
             back_thickness: Annotated[Optional[str], plain_option(help="Back thickness with absorbers.")] = None,
-            rematch: Annotated[bool, plain_option(help="With absorbers: re-match the front thickness at "
+            rematch: Annotated[bool, flag_option(help="With absorbers: re-match the front thickness at "
                                           "every gap pair.")] = False,
             mark: Annotated[Optional[str], plain_option(help="Absorbers to mark, comma-separated.")] = None,
             tolerance: Annotated[float, plain_option(help="Loss in % absolute defining the window.")] = 1.0,
@@ -293,12 +295,12 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
         "Default: wide-gap-partner-for-silicon.", show_default=False)] = None,
         out_dir: Annotated[Optional[str], plain_option("--out", help="Study folder to write. Default: "
                                                "study-<scenario name>.")] = None,
-        overwrite: Annotated[bool, plain_option(help="Replace an existing study folder (only one "
+        overwrite: Annotated[bool, flag_option(help="Replace an existing study folder (only one "
                                         "written by 'tandem study').")] = False,
-        accept_edited: Annotated[bool, plain_option(help="Re-run a manifest whose checksum no longer "
+        accept_edited: Annotated[bool, flag_option(help="Re-run a manifest whose checksum no longer "
                                             "matches (it was edited).")] = False,
-        figures: Annotated[bool, plain_option(help="Write the figures.")] = True,
-        list_all: Annotated[bool, plain_option("--list", help="List the bundled scenarios.")] = False,
+        figures: Annotated[bool, flag_option(help="Write the figures.")] = True,
+        list_all: Annotated[bool, flag_option("--list", help="List the bundled scenarios.")] = False,
         quiet: Quiet = False, wide: Wide = False, json_out: Json = False):
     """Run a whole design study and write its folder (tables, figures, manifest).
 

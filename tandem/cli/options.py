@@ -35,6 +35,12 @@ def plain_option(*names, **kw):
     return typer.Option(*names, **kw)
 
 
+def flag_option(*names, **kw):
+    """An on/off flag: no value placeholder in the help (``--json``, not ``--json VALUE``)."""
+    kw.setdefault("metavar", "")
+    return typer.Option(*names, **kw)
+
+
 Spectrum = Annotated[str, plain_option("--spectrum", "-s", help="am1.5g, am1.5d, am0, blackbody, or a CSV "
                                "file (wavelength nm, W m^-2 nm^-1).")]
 Concentration = Annotated[float, plain_option(help="Suns of concentration (blackbody: up to about 46,200).")]
@@ -44,7 +50,7 @@ Irradiance = Annotated[Optional[float], plain_option(help="Rescale the spectrum 
 Temperature = Annotated[Optional[str], plain_option(help="Cell temperature with its unit, e.g. 298.15K or "
                                             "25C (default 25C; yield: the SAPM model per step).",
                                             metavar="TEMP")]
-OutsideRange = Annotated[bool, plain_option("--outside-range", help="Accept gaps and thicknesses outside the "
+OutsideRange = Annotated[bool, flag_option("--outside-range", help="Accept gaps and thicknesses outside the "
                                     "absorbers' declared ranges (reported).")]
 Terminals = Annotated[int, plain_option("--terminals", "-t", help="2 (series, one current) or 4 "
                                 "(independent); ranks designs.")]
@@ -53,7 +59,7 @@ Ere = Annotated[Optional[str], plain_option(help="External radiative efficiency 
 Ideality = Annotated[float, plain_option(help="Ideality of the non-radiative diode (radiative is n = 1).")]
 Coupling = Annotated[float, plain_option(help="Luminescent coupling: share of the front's emission towards "
                                  "the back that the back collects (implies --rear-emission).")]
-RearEmission = Annotated[bool, plain_option("--rear-emission", help="Count the front's emission towards "
+RearEmission = Annotated[bool, flag_option("--rear-emission", help="Count the front's emission towards "
                                     "the back (n^2 x front face) as a loss.")]
 FrontIndex = Annotated[float, plain_option(help="Refractive index of a step-absorber front (rear emission).")]
 Series = Annotated[float, plain_option(help="Series resistance in ohm cm^2.")]
@@ -62,13 +68,13 @@ Reflectance = Annotated[str, plain_option(help="Front reflectance: a fraction, o
                                   "fraction.")]
 FrontParasitic = Annotated[str, plain_option(help="Absorbed in the front contact: fraction or CSV.")]
 InterParasitic = Annotated[str, plain_option(help="Absorbed between the subcells: fraction or CSV.")]
-Json = Annotated[bool, plain_option("--json", help="Print one JSON object on stdout only.")]
-Quiet = Annotated[bool, plain_option("--quiet", "-q", help="No progress bar.")]
+Json = Annotated[bool, flag_option("--json", help="Print one JSON object on stdout only.")]
+Quiet = Annotated[bool, flag_option("--quiet", "-q", help="No progress bar.")]
 Losses = Annotated[Optional[str], plain_option(help="Write the loss-breakdown waterfall to FILE (PNG or "
                                        "SVG) and print its table.", metavar="FILE")]
-Overwrite = Annotated[bool, plain_option(help="Replace outputs this command wrote before.")]
-Wide = Annotated[bool, plain_option("--wide", help="Show every column, however wide the table.")]
-Large = Annotated[bool, plain_option("--large", help="Run even if the estimate is over 10 minutes or 2 GiB.")]
+Overwrite = Annotated[bool, flag_option(help="Replace outputs this command wrote before.")]
+Wide = Annotated[bool, flag_option("--wide", help="Show every column, however wide the table.")]
+Large = Annotated[bool, flag_option("--large", help="Run even if the estimate is over 10 minutes or 2 GiB.")]
 Plot = Annotated[Optional[str], plain_option(help="Write the figure to this PNG or SVG file.")]
 
 #: the shared option names (a test checks every computing command takes all of them)
@@ -234,14 +240,41 @@ def parse_range(text: str, option: str, parse=float) -> tuple:
         raise TandemInputError(f"{option} '{text}': give numbers as low:high or low:high:step") from None
 
 
+def parse_gap(text: str, option: str) -> float:
+    """'1.7', '1.7eV' or '1700meV' → eV; a wavelength ('700nm') is refused with its energy."""
+    import re
+
+    t = str(text).strip()
+    m = re.fullmatch(r"([-+0-9.eE]+?)\s*(ev|mev|nm)?", t, flags=re.IGNORECASE)
+    try:
+        value = float(m.group(1)) if m else float("nan")
+    except ValueError:
+        value = float("nan")
+    unit = (m.group(2) or "ev").lower() if m else "ev"
+    if not math.isfinite(value):
+        raise TandemInputError(f"{option} '{text}': give a band gap in eV, e.g. 1.7 or 1.7eV")
+    if unit == "nm":
+        hint = f"; {value:g} nm is {1239.84198 / value:.3f} eV" if value > 0 else ""
+        raise TandemInputError(f"{option} '{text}': a band gap is an energy in eV, not a "
+                               f"wavelength{hint} — give that")
+    return value / 1000.0 if unit == "mev" else value
+
+
 def parse_gap_option(text, option, default_step=0.02):
     """'1.7' (one gap), '1.6,1.7' (gaps) or 'LO:HI[:STEP]' (a range) → gaps [eV], or None."""
+    import re
+
     from tandem.jobs.inputs import gap_range, gap_values
 
     if text is None:
         return None
     if ":" not in text:
-        return gap_values(parse_floats(text, option), option)
+        if re.fullmatch(r"\s*[0-9.]+\s*(ev)?\s*-\s*[0-9.]+\s*(ev)?\s*", text, re.IGNORECASE):
+            lo, hi = (x.strip() for x in text.split("-"))
+            raise TandemInputError(f"{option} '{text}': a range is LO:HI:STEP, e.g. {lo}:{hi}:0.02 "
+                                   "(or list gaps with commas)")
+        return gap_values(tuple(parse_gap(x, option) for x in text.split(",") if x.strip()),
+                          option)
     lo, hi, *step = parse_range(text, option)
     return gap_range(lo, hi, step[0] if step else default_step, option)
 
@@ -376,8 +409,9 @@ def check_outputs(paths, overwrite: bool, plot: bool = False) -> None:
 
 
 def energy_text(kwh: float) -> str:
-    """An energy with digits enough for the period: Wh/m² below 10 kWh/m²."""
-    return f"{1000 * kwh:.0f} Wh/m²" if abs(kwh) < 10 else f"{kwh:.1f} kWh/m²"
+    """An energy in kWh/m² (one unit in every output), with digits enough for the period:
+    three decimals below 10 kWh/m² (a day), one above (a year)."""
+    return f"{kwh:.3f} kWh/m²" if abs(kwh) < 10 else f"{kwh:.1f} kWh/m²"
 
 
 def friendly(command):

@@ -9,7 +9,7 @@ import typer
 from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (Json, Quiet, build_light, build_operating, emit_json, err,
+from tandem.cli.options import (flag_option, Json, Quiet, build_light, build_operating, emit_json, err,
                                 given, out, over_scenario, parse_gap_option, parse_range,
                                 parse_thickness, plain_option, progress_bar, progress_callback,
                                 render_table, say, stack_over_scenario)
@@ -40,7 +40,7 @@ def region(
         front_gaps: Annotated[Optional[str], plain_option(help="Front gaps LO:HI:STEP in eV.")] = None,
         points: Annotated[int, plain_option(help="Front thicknesses in the sweep.")] = 16,
         back_thickness: Annotated[Optional[str], plain_option(help="Back thickness, e.g. 160um.")] = None,
-        bifacial: Annotated[bool, plain_option(help="Also bifacial rows: rear light on the back subcell.")] = False,
+        bifacial: Annotated[bool, flag_option(help="Also bifacial rows: rear light on the back subcell.")] = False,
         gcr: Annotated[float, plain_option(help="Bifacial rows: ground coverage ratio.")] = 0.4,
         row_height: Annotated[float, plain_option(help="Bifacial rows: module height above ground in m.")] = 1.5,
         pitch: Annotated[float, plain_option(help="Bifacial rows: row pitch in m.")] = 5.0,
@@ -51,9 +51,9 @@ def region(
                                                  "e.g. tcp://10.0.0.5:8786.")] = None,
         out_folder: Annotated[Optional[str], plain_option("--out", help="Region folder (default: "
                                                   "region-<sites>).")] = None,
-        grids: Annotated[bool, plain_option(help="Keep every site's gap × thickness energy grid in "
+        grids: Annotated[bool, flag_option(help="Keep every site's gap × thickness energy grid in "
                                     "region.nc.")] = False,
-        overwrite: Annotated[bool, plain_option(help="Replace a region folder tandem wrote (every site "
+        overwrite: Annotated[bool, flag_option(help="Replace a region folder tandem wrote (every site "
                                         "is computed again).")] = False,
         quiet: Quiet = False, json_out: Json = False, *, o):
     """Energy-optimal front gap and thickness at many sites, on a dask cluster.
