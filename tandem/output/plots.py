@@ -349,9 +349,11 @@ def draw_yield_map(sweep, ax=None) -> Figure:
         fig.colorbar(filled, ax=ax, label="two-terminal energy [kWh/m²]")
         ax.set_xscale("log")
         _plain_log_ticks(ax.xaxis)
-        ax.plot([sweep.thicknesses[j]], [sweep.gaps[i]], "r*", ms=12, label="energy optimum")
+        # an optimum on the edge of the sweep stays whole (not clipped by the axes)
+        ax.plot([sweep.thicknesses[j]], [sweep.gaps[i]], "r*", ms=12, label="energy optimum",
+                clip_on=False, zorder=5)
         ax.plot([sweep.thicknesses[b]], [sweep.gaps[a]], "wo", ms=7, mec="k",
-                label="AM1.5G optimum")
+                label="AM1.5G optimum", clip_on=False, zorder=5)
         ax.set_xlabel("front thickness [nm]")
         ax.set_ylabel("front gap at 25 °C [eV]")
         ax.legend(fontsize=8, loc="lower right")
@@ -434,6 +436,19 @@ def draw_limit(result, ax=None) -> Figure:
         ax.plot(v, j * MA_CM2_PER_A_M2, color=colours[i], label=f"{name} {result.gaps_eV[i]:.3f} eV")
         ax.plot([perf.v_own[i]], [perf.j_own[i] * MA_CM2_PER_A_M2], "o", color=colours[i])
     if result.n_subcells == 2:
+        from tandem.physics.detailed_balance import two_diode_voltage
+
+        # the series stack: one current through both, the voltages add (ideal diodes, as the
+        # subcell curves; resistances and coupling move only the starred point)
+        # currents dense near the limiting photocurrent, where the knee is; at short circuit
+        # the limiting subcell is reverse biased and the stack carries its photocurrent
+        j_min = float(np.min(perf.j_light))
+        j = j_min * (1 - np.geomspace(1e-12, 1.0, 400))
+        v = sum(two_diode_voltage(j, perf.j_light[i], perf.j0_radiative[i],
+                                  perf.j0_nonradiative[i], perf.ideality, result.temperature_K)
+                for i in range(2))
+        ax.plot(np.concatenate([[0.0], v]), np.concatenate([[j_min], j]) * MA_CM2_PER_A_M2,
+                color="k", lw=1.2, label="series stack (2T)")
         ax.plot([float(perf.v_2t)], [float(perf.j_2t) * MA_CM2_PER_A_M2], "k*", ms=11,
                 label=f"series maximum power: {100 * float(perf.efficiency_2t):.2f} %")
     ax.set_xlabel("voltage [V]")

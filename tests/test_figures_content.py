@@ -1,0 +1,50 @@
+"""Figures checked by what they show (read back from the matplotlib objects), not by size."""
+
+import numpy as np
+import pytest
+
+import tandem
+
+
+def _line(ax, label):
+    return next(line for line in ax.get_lines() if line.get_label() == label)
+
+
+def test_the_limit_figure_draws_the_series_stack_through_its_own_points():
+    # The series curve ends at the stack's Voc (the subcells' open-circuit voltages add: one
+    # current, zero, through both) and starts at the limiting photocurrent at short circuit
+    r = tandem.limit([1.73, 1.12])
+    p = r.design.performance
+    ax = r.plot().axes[0]
+    stack = _line(ax, "series stack (2T)")
+    v, j = stack.get_xdata(), stack.get_ydata()
+    assert v[0] == 0.0 and j[0] == pytest.approx(float(np.min(p.j_light)) / 10, rel=1e-12)
+    assert float(np.max(v)) == pytest.approx(float(p.voc[0] + p.voc[1]), rel=1e-6)
+    assert float(np.max(v)) == pytest.approx(float(p.voc_2t), rel=1e-6)
+    star = next(line for line in ax.get_lines() if line.get_label().startswith("series maximum"))
+    assert float(star.get_xdata()[0]) == pytest.approx(float(p.v_2t))
+    assert {line.get_label() for line in ax.get_lines()} >= {"front 1.730 eV", "back 1.120 eV"}
+
+
+def test_the_spread_figure_names_its_percentiles_in_the_legend():
+    s = tandem.fabrication_spread("perovskite-wide", "silicon", samples=200, target_pct=37.0)
+    ax = s.plot().axes[0]
+    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    p10, p50, p90 = np.percentile(100 * s.spread.efficiency_2t, [10, 50, 90])
+    assert f"10th / median / 90th percentile: {p10:.2f} / {p50:.2f} / {p90:.2f} %" in labels
+    assert any(label.startswith("target 37 %") for label in labels)
+    assert ax.get_xlabel() == "2-terminal efficiency [%]"
+
+
+def test_a_yield_maps_optimum_on_the_edge_is_drawn_whole():
+    from tandem.design.sky import Site, clear_sky_series, parse_period
+
+    site = Site("invented field", 38.0, -4.0, 600.0, 30.0, 180.0, "Etc/GMT-1")
+    series = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 60))
+    y = tandem.energy_yield("perovskite-wide", "silicon", series, front_gaps_eV=[1.66, 1.72],
+                            front_thicknesses_nm=[300.0, 1500.0])
+    ax = y.plot().axes[0]
+    star = _line(ax, "energy optimum")
+    i, j = y.sweep.optimum
+    assert star.get_xdata()[0] == y.sweep.thicknesses[j] and star.get_ydata()[0] == y.sweep.gaps[i]
+    assert star.get_clip_on() is False
