@@ -48,3 +48,17 @@ def test_a_yield_maps_optimum_on_the_edge_is_drawn_whole():
     i, j = y.sweep.optimum
     assert star.get_xdata()[0] == y.sweep.thicknesses[j] and star.get_ydata()[0] == y.sweep.gaps[i]
     assert star.get_clip_on() is False
+
+
+def test_a_waterfall_names_the_steps_too_small_to_draw():
+    # a radiative cell has no non-radiative loss: that step is zero, so it gets no bar, and
+    # the figure says which steps it left out instead of dropping them silently
+    b = tandem.limit(1.34).loss_breakdown()
+    from tandem.output.plots import draw_loss_breakdown
+
+    ax = draw_loss_breakdown(b).axes[0]
+    ticks = [t.get_text() for t in ax.get_xticklabels()]
+    small = [s.name for s in b.steps[:-1] if abs(s.power_W_m2) <= 1e-4 * b.incident_W_m2]
+    assert small and not set(small) & set(ticks)
+    notes = " ".join(t.get_text() for t in ax.texts)
+    assert all(name in notes for name in small) and "not drawn" in notes

@@ -600,10 +600,19 @@ def draw_loss_breakdown(breakdown, title: str = "", ax=None) -> Figure:
     ax.set_ylim(0, 108)
     ax.grid(alpha=0.3, axis="y")
     ax.set_title(title or "where the incident power goes", fontsize=10)
+    remarks = []
     if breakdown.mismatch_W_m2 is not None:  # the cost of series connection, beside the steps
-        ax.text(0.99, 0.97, f"at the two-terminal operating point; four terminals would give "
-                f"{100 * breakdown.mismatch_W_m2 / incident:.2f} % more (current mismatch)",
-                transform=ax.transAxes, ha="right", va="top", fontsize=7, color="0.3")
+        remarks.append(f"at the two-terminal operating point; four terminals would give "
+                       f"{100 * breakdown.mismatch_W_m2 / incident:.2f} % more (current mismatch)")
+    small = [s for s in breakdown.steps[:-1] if s not in steps]
+    if small:  # too small for a bar: named, never silently left out
+        remarks.append("not drawn, under 0.01 % each: " + ", ".join(s.name for s in small))
+    if remarks:  # between the title and the bars, clear of the bars' labels
+        ax.set_title(title or "where the incident power goes", fontsize=10,
+                     pad=6 + 9 * len(remarks))
+        ax.annotate("\n".join(remarks), (0.5, 1.0), xycoords="axes fraction",
+                    xytext=(0, 3), textcoords="offset points", ha="center", va="bottom",
+                    fontsize=7, color="0.3")
     fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7,
              color="0.4")
     fig.tight_layout()
