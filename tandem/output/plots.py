@@ -282,6 +282,13 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False,
 
     prefix = Path(prefix)
     figs = {}
+    i, j = sweep.optimum
+    stack = getattr(sweep.design, "stack", None)
+    pair = (f"{sweep.design.front.name} over {sweep.design.back.name}"
+            + (f" (stack {stack.key})" if stack is not None else ""))
+    # every figure says which design, where: the series' source names the site or file
+    heading = (f"{pair}: front {sweep.gaps[i]:.3f} eV, {sweep.thicknesses[j]:.0f} nm "
+               f"(energy-optimal)\n{sweep.series.source}")
     # --- a day: the one with the most light, which shows the noon peak and the red mornings
     days = best.times.normalize()
     daily = {d: float((best.irradiance * best.step_hours)[days == d].sum()) for d in days.unique()}
@@ -309,6 +316,7 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False,
                   fontsize=8)
     ax2.set_xlabel(f"time of day [h], {day.date()} ({best.times.tz})")
     ax2.grid(alpha=0.3)
+    fig.suptitle(heading, fontsize=8)
     figs["-day"] = fig
     # --- monthly energy
     months = best.times.month
@@ -322,12 +330,12 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False,
     ax.set_xticks(x, [["Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct",
                        "Nov", "Dec"][m - 1] for m in ms])
     ax.set_ylabel("energy [kWh/m²]")
-    ax.set_title(f"front {sweep.gaps[sweep.optimum[0]]:.3f} eV, "
-                 f"{sweep.thicknesses[sweep.optimum[1]]:.0f} nm", fontsize=9)
+    ax.set_title(heading, fontsize=8)
     ax.legend(fontsize=8)
     ax.grid(alpha=0.3, axis="y")
     figs["-monthly"] = fig
     figs["-map"] = draw_yield_map(sweep)
+    figs["-map"].suptitle(f"{pair}\n{sweep.series.source}", fontsize=8)
     for f in figs.values():
         f.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
     writers = {}
