@@ -569,9 +569,15 @@ def draw_region(result, ax=None) -> Figure:
         points = ax2.scatter(frame["longitude"], frame["latitude"], c=frame["front_gap_eV"],
                              cmap="viridis", s=60, edgecolor="k", lw=0.4)
         fig.colorbar(points, ax=ax2, label="energy-optimal front gap [eV]")
+        ax2.margins(x=0.12, y=0.08)
+        middle = 0.5 * (float(frame["longitude"].min()) + float(frame["longitude"].max()))
         for _, row in frame.iterrows() if len(frame) <= 30 else ():
+            # names on the side away from the colour bar: a right-hand site is labelled to
+            # its left, so no name runs under the bar
+            right = float(row["longitude"]) > middle
             ax2.annotate(str(row["name"]), (row["longitude"], row["latitude"]), fontsize=7,
-                         xytext=(4, 3), textcoords="offset points")
+                         xytext=(-4 if right else 4, 3), textcoords="offset points",
+                         ha="right" if right else "left")
         ax2.set_xlabel("longitude [°]")
         ax2.set_ylabel("latitude [°]")
         ax2.grid(alpha=0.3)
