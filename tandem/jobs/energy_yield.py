@@ -89,7 +89,7 @@ class YieldResult(ResultDisplay):
         return ds
 
     def plot(self, ax=None):
-        from tandem.output.plots import draw_yield_map
+        from tandem.output.sky_plots import draw_yield_map
 
         return draw_yield_map(self.sweep, ax)
 
@@ -99,7 +99,7 @@ class YieldResult(ResultDisplay):
         from pathlib import Path
 
         from tandem.core.files import STAMP, write_parquet
-        from tandem.output.plots import yield_figures
+        from tandem.output.sky_plots import yield_figures
 
         prefix = Path(prefix)
         grid = self.to_dataset()[["energy_2t", "energy_4t", "efficiency_am15g_2t"]]

@@ -426,7 +426,7 @@ class RegionResult(ResultDisplay):
         return xr.Dataset(data, coords=coords, attrs=attrs)
 
     def plot(self, ax=None):
-        from tandem.output.plots import draw_region
+        from tandem.output.sky_plots import draw_region
 
         return draw_region(self, ax)
 

@@ -57,7 +57,7 @@ class SpreadResult(ResultDisplay):
         return frame_dataset(self.to_frame(), "sample", self.dataset_attrs())
 
     def plot(self, ax=None):
-        from tandem.output.plots import draw_spread
+        from tandem.output.sky_plots import draw_spread
 
         return draw_spread(self.spread, self.terminals, self.target_pct, ax)
 
