@@ -62,3 +62,23 @@ def test_a_waterfall_names_the_steps_too_small_to_draw():
     assert small and not set(small) & set(ticks)
     notes = " ".join(t.get_text() for t in ax.texts)
     assert all(name in notes for name in small) and "not drawn" in notes
+
+
+def test_the_pair_comparison_shows_each_pairs_best_design():
+    from tandem.output.plots import draw_pair_comparison
+    from tandem.study.run import run_study
+    from tandem.study.sources import load_scenario
+
+    study = run_study(load_scenario("low-cost-organic-pair"))
+    ax = draw_pair_comparison(study.results).axes[0]
+    for (front, back), r in study.results.items():
+        best = r.configurations[0]
+        curve = next(line for line in ax.get_lines()
+                     if line.get_label().startswith(f"{front} over {back} "))
+        assert f"({best.front_gap_eV:.3f} eV)" in curve.get_label()
+        # the star is the refined best design; the swept curve peaks just below it
+        star = next(line for line in ax.get_lines() if line.get_marker() == "*"
+                    and line.get_color() == curve.get_color())
+        assert float(star.get_ydata()[0]) == pytest.approx(100 * best.efficiency_2t, rel=1e-12)
+        peak = float(np.max(curve.get_ydata()))
+        assert 100 * best.efficiency_2t - 0.05 < peak <= 100 * best.efficiency_2t * (1 + 1e-9)

@@ -336,6 +336,8 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
                      result.rows[: sc.top], "limiting: the subcell with the lower photocurrent", wide,
                      key_columns=3 + ("stack" in result.rows[0])))
     best = result.rows[0]
+    say(*(f"#{r['rank']} has no current match: {r['match_note']}" for r in result.rows[: sc.top]
+          if r.get("match_note")))
     say(f"best: {best['front']} at {best['front_gap_eV']:.3f} eV over {best['back']}; the "
          f"{best['limiting_subcell']} subcell limits the current (mismatch {best['mismatch_pct']:.2f} %)",
          *[f"skipped: {n}" for n in result.skipped],

@@ -188,7 +188,7 @@ def draw_map(gap_map, terminals, tolerance_pct=1.0, marks=(), ax=None) -> Figure
     return _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax)
 
 
-def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None):
+def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None, note=None):
     from tandem.design.matching import tolerance_window
 
     eff = 100 * gap_map.efficiency(terminals)
@@ -247,17 +247,20 @@ def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None):
             ax.text(bg[-1], gap, f"{name} ", ha="right", va="bottom", fontsize=7, color="white")
     ax.set_xlabel("back gap [eV]")
     ax.set_ylabel("front gap [eV]")
-    ax.set_title(f"{gap_map.spectrum}, cell {gap_map.temperature_K:g} K — red: equal currents; "
+    ax.set_title((f"{note}\n" if note else "")
+                 + f"{gap_map.spectrum}, cell {gap_map.temperature_K:g} K — red: equal currents; "
                  f"orange dashed: within {tolerance_pct:g} % of best", fontsize=8)
     return fig
 
 
 def map_figures(gap_map, terminals, tolerance_pct, marks, prefix: str | Path,
-                overwrite: bool = False, tables: dict | None = None) -> list[Path]:
-    """PNG and SVG of the map, plus any ``tables`` {suffix: writer}, written as one group."""
+                overwrite: bool = False, tables: dict | None = None,
+                note: str | None = None) -> list[Path]:
+    """PNG and SVG of the map, plus any ``tables`` {suffix: writer}, written as one group;
+    ``note`` heads the title (what the map is, where that is not obvious)."""
     from tandem.core.files import write_all_whole
 
-    fig = _map_axes_figure(gap_map, terminals, tolerance_pct, marks)
+    fig = _map_axes_figure(gap_map, terminals, tolerance_pct, marks, note=note)
     fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
     prefix = Path(prefix)
     writers = {
@@ -387,6 +390,39 @@ def draw_photon_budget(result, ax=None) -> Figure:
         fig.tight_layout()
     return fig
 
+
+
+def draw_pair_comparison(results: dict, terminals: int = 2, ax=None) -> Figure:
+    """The candidate pairs side by side: each pair's efficiency against front thickness at its
+    best front gap (its best sweep), the current-matched thickness marked with a circle and
+    the best design with a star."""
+    fig, ax = plt.subplots(figsize=(7.5, 4.6)) if ax is None else (ax.figure, ax)
+    colours = (FRONT_COLOUR, BACK_COLOUR) + LAYER_COLOURS
+    for k, ((front, back), r) in enumerate(results.items()):
+        sweep, best = r.best_sweep, r.configurations[0]
+        eff = 100 * (sweep.performance.efficiency_2t if terminals == 2
+                     else sweep.performance.efficiency_4t)
+        colour = colours[k % len(colours)]
+        ax.plot(sweep.front_thickness_nm, eff, color=colour, lw=1.4,
+                label=f"{front} over {back} ({sweep.front_gap_eV:.3f} eV)")
+        best_eff = 100 * (best.efficiency_2t if terminals == 2 else best.efficiency_4t)
+        ax.plot([best.front_thickness_nm], [best_eff], "*", color=colour, ms=11, mec="k",
+                mew=0.5, clip_on=False, zorder=5)
+        if best.matched_front_thickness_nm is not None:
+            ax.plot([best.matched_front_thickness_nm],
+                    [np.interp(best.matched_front_thickness_nm, sweep.front_thickness_nm, eff)],
+                    "o", mfc="white", mec=colour, ms=6, zorder=5)
+    ax.set_xscale("log")
+    ax.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+    ax.set_xlabel("front thickness [nm]")
+    ax.set_ylabel(f"{terminals}-terminal efficiency [%]")
+    ax.set_title("candidate pairs at their best front gap — star: best design; circle: "
+                 "current-matched thickness", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7, loc="best")
+    fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7,
+             color="0.4")
+    return fig
 
 
 def draw_loss_breakdown(breakdown, title: str = "", ax=None) -> Figure:

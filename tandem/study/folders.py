@@ -119,6 +119,11 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
     from tandem.output.plots import breakdown_figure, map_figures, match_figure
 
     folder.mkdir()
+    if study.results:  # the candidates side by side, before each pair's own figures
+        from tandem.output.plots import draw_pair_comparison, save_figure
+
+        save_figure(draw_pair_comparison(study.results, study.scenario.terminals),
+                    folder / "compare-pairs.png", False)
     for (front, back), result in study.results.items():
         match_figure(result, folder / f"match-{front}-over-{back}.png",
                      tolerance=tolerance_windows(result, study.scenario.tolerance_pct))
@@ -135,10 +140,16 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
         fg, bg = axes
         flux = study.scenario.light().photon_flux()
         gap_map = step_gap_map(flux, fg, bg, study.scenario.temperature_K)
-        marks = ([(a.key, a.gap_eV, "front") for a in study.scenario.fronts]
-                 + [(a.key, a.gap_eV, "back") for a in study.scenario.backs])
+        # the chosen designs' gaps (each front at its best row's gap), not the files' defaults
+        chosen = {}
+        for row in study.rows:
+            chosen.setdefault((row["front"], "front"), row["front_gap_eV"])
+            chosen.setdefault((row["back"], "back"), row["back_gap_eV"])
+        marks = [(key, gap, role) for (key, role), gap in chosen.items()]
         map_figures(gap_map, study.scenario.terminals, study.scenario.tolerance_pct, marks,
-                    folder / "gap-map")
+                    folder / "gap-map", note="radiative limit of step absorbers (ideal: not the "
+                    "candidates' optics and losses, which the table holds); lines: the chosen "
+                    "designs' gaps")
 
 
 def study_rows_equal(a: list[dict], b: list[dict], tol: float = 1e-9) -> bool:

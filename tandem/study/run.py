@@ -129,7 +129,10 @@ def _stack_row(key: str, m) -> dict:
     j = np.asarray(best.j_light) / 10
     low = float(j.min())
     front = stack.front
-    return {"rank": 0, "front": front.absorber.key, "back": stack.back.absorber.key,
+    back = stack.back
+    return {"rank": 0, "front": front.absorber.key, "back": back.absorber.key,
+            "back_gap_eV": round(back.gap_eV or back.absorber.gap_eV, 4),
+            "match_note": None if best.matched else "no current match in the swept thicknesses",
             "stack": key, "front_gap_eV": round(front.gap_eV or front.absorber.gap_eV, 4),
             "front_composition": None, "front_thickness_nm": round(best.front_thickness_nm, 1),
             "matched_front_thickness_nm": round(best.front_thickness_nm, 1) if best.matched else None,
@@ -237,8 +240,11 @@ def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, loss
 def _row(result: MatchResult, tolerance_pct: float) -> dict:
     best = result.configurations[0]
     windows = tolerance_windows(result, tolerance_pct)
-    row = {"rank": 0, "front": result.design.front.key, "back": result.design.back.key}
+    row = {"rank": 0, "front": result.design.front.key, "back": result.design.back.key,
+           "back_gap_eV": round(result.design.back.gap_eV, 4)}
     row.update(configuration_row(best))
+    # why a row has no current match (the front limits at every thickness in range, ...)
+    row["match_note"] = best.match_note if best.matched_front_thickness_nm is None else None
     lo, hi = windows["front_thickness_window_nm"]
     row["front_thickness_window_lo_nm"], row["front_thickness_window_hi_nm"] = round(lo, 1), round(hi, 1)
     gw = windows["front_gap_window_eV"] or (None, None)
