@@ -141,7 +141,7 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
         flux = study.scenario.light().photon_flux()
         gap_map = step_gap_map(flux, fg, bg, study.scenario.temperature_K)
         # the chosen designs' gaps (each front at its best row's gap), not the files' defaults
-        chosen = {}
+        chosen: dict[tuple[str, str], float] = {}
         for row in study.rows:
             chosen.setdefault((row["front"], "front"), row["front_gap_eV"])
             chosen.setdefault((row["back"], "back"), row["back_gap_eV"])
