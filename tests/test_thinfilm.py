@@ -81,6 +81,24 @@ def test_random_stacks_agree_with_tmm(coherent_only):
                 assert ours.absorptance[i][k] == pytest.approx(a, abs=1e-9)
 
 
+def test_a_bragg_mirror_of_more_than_64_layers_agrees_with_tmm():
+    # 36 pairs of quarter-wave high/low-index layers (72 layers): numpy's broadcast of more
+    # than 64 arrays once failed here. tmm's coh_tmm is the reference; at its design
+    # wavelength a quarter-wave stack of many pairs reflects nearly all light (its stop band;
+    # Hecht, Optics, recalled)
+    centre = 600.0
+    n_hi, n_lo = 2.3 + 1e-4j, 1.45
+    layers = [(n, centre / (4 * n.real), True) for _ in range(36) for n in (n_hi, n_lo)]
+    wavelengths = np.array([450.0, 600.0, 750.0])
+    ours = solve(layers, 1.0, 1.52, wavelengths)
+    for k, lam in enumerate(wavelengths):
+        ref = tmm.coh_tmm("s", [1.0, *[n for n, _, _ in layers], 1.52],
+                          [np.inf, *[d for _, d, _ in layers], np.inf], 0, lam)
+        assert ours.reflectance[k] == pytest.approx(ref["R"], abs=1e-9)
+        assert ours.transmittance[k] == pytest.approx(ref["T"], abs=1e-9)
+    assert ours.reflectance[1] > 0.99
+
+
 def test_every_photon_once_and_lossless_stacks_absorb_nothing():
     rng = np.random.default_rng(7)
     wavelengths = np.linspace(300, 2000, 301)

@@ -266,7 +266,8 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm, 
         f, b = arriving[g]
         for k, i in enumerate(members):
             absorbed[i] = f * fwd[g]["A"][k] + b * bwd[g]["A"][len(members) - 1 - k]
-    shape = np.broadcast(reflectance, lam, np.asarray(kappa), *absorbed).shape
+    # np.broadcast takes at most 64 arrays: a 32-pair Bragg mirror has more layers
+    shape = np.broadcast_shapes(*(np.shape(x) for x in (reflectance, lam, kappa, *absorbed)))
     return Optics(np.broadcast_to(reflectance, shape), np.broadcast_to(transmittance, shape),
                   tuple(np.broadcast_to(a, shape) for a in absorbed))
 
