@@ -317,3 +317,22 @@ def test_one_back_thickness_list_serves_backs_of_different_ranges():
     assert set(backs) == {"organic-narrow", "perovskite-snpb"}
     assert backs["organic-narrow"] <= 0.3 and backs["perovskite-snpb"] >= 0.3
     assert any("perovskite-snpb: back thickness 100, 150, 250 nm left out" in s for s in study.skipped)
+
+
+def test_overwrite_never_deletes_a_figure_the_study_did_not_write(tmp_path):
+    # a user's own PNG dropped into figures/ is not the study's: --overwrite refuses (it once
+    # deleted it, since it looked at the file's suffix only); the study's own figures are listed
+    # in its manifest
+    import shutil
+
+    study = run_study(load_scenario("low-cost-organic-pair"))
+    out = write_study(study, tmp_path / "s")
+    record = json.loads((out / "manifest.json").read_text())["record"]
+    assert record["figure_files"] == sorted(p.name for p in (out / "figures").iterdir())
+    mine = out / "figures" / "my-sketch.png"
+    shutil.copy(out / "figures" / record["figure_files"][0], mine)
+    with pytest.raises(tandem.TandemInputError, match="my-sketch.png', which 'tandem study' did not write"):
+        write_study(study, out, overwrite=True)
+    assert mine.is_file()
+    mine.unlink()
+    assert write_study(study, out, overwrite=True) == out

@@ -50,13 +50,16 @@ def study_replace_reason(target: Path, protected=()) -> str | None:
                     "it: choose another --out")
     manifest_path = target / "manifest.json"
     try:
-        read_manifest(manifest_path)
+        record = read_manifest(manifest_path)
     except TandemInputError:
         return (f"'{target}' is not a tandem study folder (no valid manifest.json); --overwrite "
                 "replaces only folders written by 'tandem study'")
+    # the figures the study recorded writing (folders from before that record: any figure)
+    written = record.get("record", {}).get("figure_files")
     for entry in sorted(target.iterdir()):
         if entry.name == "figures" and entry.is_dir() and not entry.is_symlink():
-            odd = [f for f in entry.iterdir() if f.suffix not in FIGURE_SUFFIXES or not f.is_file()]
+            odd = [f for f in entry.iterdir() if f.suffix not in FIGURE_SUFFIXES or not f.is_file()
+                   or (written is not None and f.name not in written)]
             if odd:
                 return (f"'{target}' holds '{odd[0].relative_to(target)}', which 'tandem study' "
                         "did not write; move it or choose another --out")
@@ -102,7 +105,8 @@ def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
         with svg_copies() as svgs:  # the report inlines the figures as drawn for the folder
             if figures:
                 _write_figures(study, tmp / "figures")
-        record = manifest(study, figures)
+        written = sorted(p.name for p in (tmp / "figures").iterdir()) if figures else []
+        record = manifest(study, figures, written)
         (tmp / "manifest.json").write_text(json.dumps(record, indent=2, ensure_ascii=False)
                                            + "\n", encoding="utf-8")
         name = Path(folder).name

@@ -20,7 +20,7 @@ from tandem.study.scenario import (
 )
 
 
-def manifest(study: StudyResult, figures: bool = True) -> dict:
+def manifest(study: StudyResult, figures: bool = True, figure_files=()) -> dict:
     """The study's manifest: every input as data, a record of the result, and checksums.
 
     ``inputs`` holds everything that changes a number (scenario text, absorber files and their
@@ -66,6 +66,8 @@ def manifest(study: StudyResult, figures: bool = True) -> dict:
             "skipped_pairs": study.skipped,
             "sky": study.sky,
             "figures_written": bool(figures),
+            # the files in figures/ this study wrote: --overwrite replaces these and no others
+            "figure_files": sorted(figure_files),
             "python": platform.python_version(),
             "packages": versions,
         },
