@@ -1,5 +1,6 @@
 """Intrinsic (Auger) recombination: the published silicon limit, closed forms, and bounds."""
 
+import functools
 import math
 from dataclasses import replace
 
@@ -167,13 +168,19 @@ def test_a_silicon_back_sweep_is_bounded_and_consistent(am15g):
     assert np.all(perf.p_4t < plain.p_4t) and np.all(perf.voc[:, 1] < plain.voc[:, 1])
 
 
-def test_recombination_section_is_checked(tmp_path):
-    si = (tandem.bundled_absorbers()["silicon"]).read_text()
+SILICON_TEXT = (tandem.bundled_absorbers()["silicon"]).read_text()
 
-    def parse(text):
-        p = tmp_path / "si.toml"
-        p.write_text(text)
-        return tandem.parse_absorber(p)
+
+def parse_absorber_text(folder, text):
+    """An absorber file written from ``text`` into ``folder``, parsed."""
+    path = folder / "si.toml"
+    path.write_text(text)
+    return tandem.parse_absorber(path)
+
+
+def test_recombination_section_is_checked(tmp_path):
+    si = SILICON_TEXT
+    parse = functools.partial(parse_absorber_text, tmp_path)
 
     assert parse(si).bulk.model is RICHTER
     with pytest.raises(TandemInputError, match=r"recombination.auger.*richter-2012"):
@@ -302,12 +309,8 @@ def test_a_lifetime_in_a_front_absorber_lowers_a_stack_with_an_auger_back(am15g)
 
 
 def test_srh_keys_are_checked(tmp_path):
-    si = (tandem.bundled_absorbers()["silicon"]).read_text()
-
-    def parse(text):
-        p = tmp_path / "si.toml"
-        p.write_text(text)
-        return tandem.parse_absorber(p)
+    si = SILICON_TEXT
+    parse = functools.partial(parse_absorber_text, tmp_path)
 
     srh = si.replace('auger = "richter-2012"', 'srh_lifetime_s = 1e-3\n'
                      'surface_recombination_velocity_cm_per_s = 2.5')

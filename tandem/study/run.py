@@ -75,10 +75,9 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
         if series is not None:
             from tandem.design.yields import hourly
 
-            h = hourly(design, series, best.front_gap_eV, best.front_thickness_nm,
-                       best.back_thickness_nm, operating.ideality, operating.electrical)
-            row["energy_2t_kWh_m2"] = round(float(h.p_2t @ h.step_hours) / 1000, 3)
-            row["energy_4t_kWh_m2"] = round(float(h.p_4t @ h.step_hours) / 1000, 3)
+            row.update(_energy_columns(hourly(
+                design, series, best.front_gap_eV, best.front_thickness_nm,
+                best.back_thickness_nm, operating.ideality, operating.electrical)))
         if "spread" in scenario.data:
             from tandem.design.scatter import scatter
 
@@ -88,10 +87,7 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
                              float(sc.get("gap_sigma_eV", 0.01)) if front.edge.movable else 0.0,
                              float(sc.get("thickness_sigma_pct", 5.0)), int(sc.get("samples", 1000)),
                              int(sc.get("seed", 1)))
-            st = spread.stats(scenario.terminals, sc.get("target_pct"))
-            row.update({k: st[k] for k in ("percentile_10_pct", "median_pct", "percentile_90_pct")})
-            if "share_at_or_above_target_pct" in st:
-                row["share_at_target_pct"] = st["share_at_or_above_target_pct"]
+            row.update(_spread_columns(spread, scenario))
         rows.append(row)
         if progress:
             progress(n, len(pairs))
@@ -168,6 +164,21 @@ def back_thicknesses_for(back, thicknesses_nm, notes: list) -> list | None:
     return inside
 
 
+def _energy_columns(h) -> dict:
+    """A design's energy over the scenario's period, 2T and 4T [kWh/m²] (row columns)."""
+    return {"energy_2t_kWh_m2": round(float(h.p_2t @ h.step_hours) / 1000, 3),
+            "energy_4t_kWh_m2": round(float(h.p_4t @ h.step_hours) / 1000, 3)}
+
+
+def _spread_columns(spread, scenario: Scenario) -> dict:
+    """A design's fabrication-spread percentiles (and share at the target) as row columns."""
+    st = spread.stats(scenario.terminals, scenario.data["spread"].get("target_pct"))
+    out = {k: st[k] for k in ("percentile_10_pct", "median_pct", "percentile_90_pct")}
+    if "share_at_or_above_target_pct" in st:
+        out["share_at_target_pct"] = st["share_at_or_above_target_pct"]
+    return out
+
+
 def _stack_site_and_spread(scenario: Scenario, m, series, flux, operating, row: dict) -> None:
     """A stack row's energy at the scenario's site and its fabrication spread, as for pairs:
     the best design's films solved at every step's cell temperature, and every film's
@@ -177,10 +188,9 @@ def _stack_site_and_spread(scenario: Scenario, m, series, flux, operating, row: 
         from tandem.design.yields import StackYield, hourly
 
         design = StackYield(stack, best.others, "matched")
-        h = hourly(design, series, design.front_gap_eV, best.front_thickness_nm,
-                   design.back_thickness_nm, operating.ideality, operating.electrical)
-        row["energy_2t_kWh_m2"] = round(float(h.p_2t @ h.step_hours) / 1000, 3)
-        row["energy_4t_kWh_m2"] = round(float(h.p_4t @ h.step_hours) / 1000, 3)
+        row.update(_energy_columns(hourly(
+            design, series, design.front_gap_eV, best.front_thickness_nm,
+            design.back_thickness_nm, operating.ideality, operating.electrical)))
     if "spread" in scenario.data:
         from tandem.design.scatter import scatter_stack
 
@@ -192,10 +202,7 @@ def _stack_site_and_spread(scenario: Scenario, m, series, flux, operating, row: 
                                operating.electrical, nominal,
                                float(sc.get("thickness_sigma_pct", 5.0)),
                                int(sc.get("samples", 1000)), int(sc.get("seed", 1)))
-        st = spread.stats(scenario.terminals, sc.get("target_pct"))
-        row.update({k: st[k] for k in ("percentile_10_pct", "median_pct", "percentile_90_pct")})
-        if "share_at_or_above_target_pct" in st:
-            row["share_at_target_pct"] = st["share_at_or_above_target_pct"]
+        row.update(_spread_columns(spread, scenario))
 
 
 def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, losses, cond,
