@@ -259,3 +259,18 @@ def test_a_range_triple_given_as_gaps_is_refused_with_the_helper_named():
 def test_gap_map_and_yield_read_gaps_alike():
     m = tandem.gap_map(front_gaps_eV=[1.70, 1.75], back_gaps_eV=[1.12])
     assert m.gap_map.front_gaps.tolist() == [1.70, 1.75] and m.gap_map.back_gaps.tolist() == [1.12]
+
+
+@pytest.mark.parametrize("call", [
+    lambda: tandem.limit(1.34, tandem.OperatingPoint()),
+    lambda: tandem.match("perovskite-wide", "silicon", "am1.5g"),
+    lambda: tandem.gap_map(tandem.OperatingPoint()),
+    lambda: tandem.fabrication_spread("perovskite-wide", "silicon", tandem.OperatingPoint()),
+    lambda: tandem.match_stack("organic-pair", tandem.OperatingPoint()),
+    lambda: tandem.fabrication_spread_stack("organic-pair", light=tandem.OperatingPoint()),
+])
+def test_a_typed_input_of_the_wrong_kind_is_one_line(call):
+    # an OperatingPoint passed where the Light goes (by position) once ended in an
+    # AttributeError deep in the job
+    with pytest.raises(tandem.TandemInputError, match=r"not a tandem\.(Light|OperatingPoint); pass"):
+        call()

@@ -56,6 +56,20 @@ def conditions_attrs(light_name: str, temperature_K: float, terminals: int, **ex
     return attrs
 
 
+def check_types(**inputs) -> None:
+    """Refuse, in one line, a typed input of the wrong kind (a Light where an OperatingPoint
+    belongs, say: easy to pass by position), instead of a traceback deep in the job."""
+    from tandem.core.errors import TandemInputError
+    from tandem.jobs.inputs import Light
+
+    kinds = {"light": Light, "reference": Light, "operating": OperatingPoint}
+    for name, value in inputs.items():
+        kind = kinds[name]
+        if value is not None and not isinstance(value, kind):
+            raise TandemInputError(f"{name}: got {type(value).__name__}, not a tandem.{kind.__name__}; "
+                                   f"pass {name}=tandem.{kind.__name__}(...) by keyword")
+
+
 def as_absorber(a: Absorber | str) -> Absorber:
     return a if isinstance(a, Absorber) else load_absorber(a)
 

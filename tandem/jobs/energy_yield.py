@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from tandem.design.matching import StackDesign
-from tandem.jobs.common import Progress, ResultDisplay, absorber_pair, check_work
+from tandem.jobs.common import check_types, Progress, ResultDisplay, absorber_pair, check_work
 from tandem.jobs.inputs import Light, OperatingPoint, gap_values, thickness_axis
 from tandem.optics.absorbers import Absorber
 from tandem.output.report import yield_summary
@@ -212,6 +212,7 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     >>> y.summary()['energy_optimum']['energy_4t_kWh_m2'] >= y.summary()['energy_optimum']['energy_2t_kWh_m2']
     True
     """
+    check_types(operating=operating, reference=reference)
     from tandem.design.yields import hourly, yield_sweep
 
     a_front, a_back = absorber_pair(front, back, operating)
@@ -266,6 +267,7 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
     >>> y.summary()['stack']
     'organic-pair'
     """
+    check_types(operating=operating, reference=reference)
     from tandem.design.yields import hourly, yield_sweep
 
     design, thick = stack_yield_design(stack, operating, reference, others, front_thicknesses_nm,

@@ -16,7 +16,8 @@ from tandem.design.maps import (
     step_gap_map,
 )
 from tandem.design.matching import Conditions, StackDesign
-from tandem.jobs.common import Progress, ResultDisplay, absorber_pair, check_work, conditions_attrs
+from tandem.jobs.common import (Progress, ResultDisplay, absorber_pair, check_types, check_work,
+                                conditions_attrs)
 from tandem.jobs.inputs import Light, OperatingPoint, gap_range, gap_values
 from tandem.optics.absorbers import Absorber
 from tandem.output.report import map_summary
@@ -99,6 +100,7 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
     >>> m.summary()["optimum"]["front_gap_eV"]
     1.75
     """
+    check_types(light=light, operating=operating)
     fronts = (gap_range(*DEFAULT_FRONT) if front_gaps_eV is None
               else gap_values(front_gaps_eV, "front gaps"))
     backs = None if back_gaps_eV is None else gap_values(back_gaps_eV, "back gaps")

@@ -8,7 +8,7 @@ from typing import Sequence
 import numpy as np
 
 from tandem.core.errors import TandemInputError
-from tandem.jobs.common import ResultDisplay, blackbody_of, frame
+from tandem.jobs.common import check_types, ResultDisplay, blackbody_of, frame
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.output.report import design_summary
 from tandem.physics.limit import DesignResult, detailed_balance_limit
@@ -110,6 +110,7 @@ def limit(gaps: Sequence[float] | float, light: Light = Light(),
     >>> round(100 * limit(1.34, operating=OperatingPoint(temperature_K=300)).efficiency, 1)
     33.7
     """
+    check_types(light=light, operating=operating)
     try:
         gaps = [float(g) for g in np.atleast_1d(np.asarray(gaps, dtype=float))]
     except (TypeError, ValueError):

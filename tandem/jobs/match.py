@@ -15,7 +15,7 @@ from tandem.design.matching import (
     tolerance_windows,
     which_in_front,
 )
-from tandem.jobs.common import (
+from tandem.jobs.common import (check_types,
     Progress,
     ResultDisplay,
     absorber_pair,
@@ -131,6 +131,7 @@ def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
     >>> study.summary()["order"]["recommended_front"]
     'perovskite-wide'
     """
+    check_types(light=light, operating=operating)
     a_front, a_back = absorber_pair(front, back, operating)
     gaps = sweep.gaps()
     n_gaps = len(gaps) if gaps is not None else (

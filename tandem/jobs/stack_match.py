@@ -7,7 +7,8 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tandem.jobs.common import Progress, ResultDisplay, check_work, conditions_attrs, frame
+from tandem.jobs.common import (Progress, ResultDisplay, check_types, check_work,
+                                conditions_attrs, frame)
 from tandem.jobs.inputs import Light, OperatingPoint, Sweep
 from tandem.jobs.match import match
 
@@ -146,6 +147,7 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
     >>> abs(best['jsc_front_mA_cm2'] - best['jsc_back_mA_cm2']) < 1e-3
     True
     """
+    check_types(light=light, operating=operating)
     from dataclasses import replace
 
     from tandem.core.errors import TandemInputError
