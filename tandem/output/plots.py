@@ -130,7 +130,7 @@ def draw_match(result: MatchResult, tolerance=None, ax=None) -> Figure:
     back_d = sweep.back_thickness_nm
     back_text = f"{back_d / 1000:g} µm" if back_d >= 10_000 else f"{back_d:.0f} nm"
     ax1.set_title(f"front gap {sweep.front_gap_eV:.3f} eV, back {back_text}", fontsize=10)
-    ax1.legend(fontsize=8, loc="lower center", framealpha=0.9)
+    ax1.legend(fontsize=8, loc="best", framealpha=0.9)  # where it covers the least
     ax1.grid(alpha=0.3)
     if ax2 is None:
         return fig
@@ -152,7 +152,9 @@ def draw_match(result: MatchResult, tolerance=None, ax=None) -> Figure:
     ax2.set_ylim(0, 1.05)
     ax2.set_title(f"at front {best.front_thickness_nm:.0f} nm: 2T {100 * best.efficiency_2t:.1f} %,"
                   f" 4T {100 * best.efficiency_4t:.1f} %", fontsize=10)
-    ax2.legend(fontsize=8, loc="upper right", framealpha=0.9)
+    # the EQEs fill the panel: their legend goes under it, covering no curve
+    ax2.legend(fontsize=8, loc="upper center", bbox_to_anchor=(0.5, -0.16), ncol=3,
+               frameon=False)
     ax2.grid(alpha=0.3)
     fig.suptitle("Modelling limits, not measurements", fontsize=8, x=0.99, ha="right", color="0.4")
     return fig
