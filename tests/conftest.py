@@ -18,3 +18,36 @@ settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "ci"))
 def am15g():
     """ASTM G173-03 global tilt as photon flux."""
     return tandem.reference_spectrum("am1.5g").photon_flux()
+
+
+# Tests write into their own temporary folders, never into the project: a file that appears in
+# the working tree during the run (untracked and not ignored) fails the session, named.
+_ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
+
+
+def _untracked() -> set[str] | None:
+    import subprocess
+
+    try:
+        out = subprocess.run(["git", "status", "--porcelain", "--untracked-files=all"], cwd=_ROOT,
+                             capture_output=True, text=True, timeout=60)
+    except (OSError, subprocess.TimeoutExpired):
+        return None
+    if out.returncode != 0:  # not a git checkout (an installed copy): nothing to watch
+        return None
+    return {line[3:] for line in out.stdout.splitlines() if line.startswith("??")}
+
+
+def pytest_sessionstart(session):
+    session.config._untracked_before = _untracked()
+
+
+def pytest_sessionfinish(session, exitstatus):
+    before = getattr(session.config, "_untracked_before", None)
+    after = _untracked()
+    if before is None or after is None:
+        return
+    written = sorted(after - before)
+    if written:
+        print(f"\ntests wrote into the project: {', '.join(written[:10])}")
+        session.exitstatus = 1

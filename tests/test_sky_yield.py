@@ -161,15 +161,28 @@ def test_unreadable_weather_file(tmp_path):
     assert "weather file" in res.stderr and "cannot be read" in res.stderr
 
 
-def test_spectrum_folder_with_mixed_units(tmp_path):
-    folder = tmp_path / "spectra"
-    folder.mkdir()
-    (folder / "2026-06-21T11-00.csv").write_text("wavelength_nm,irradiance\n400,1.0\n800,1.2\n1200,0.6\n")
-    (folder / "2026-06-21T12-00.csv").write_text("wavelength_um,irradiance\n0.4,1.0\n0.8,1.2\n1.2,0.6\n")
+def test_a_spectrum_folder_may_mix_files_headed_in_nm_and_um(tmp_path, monkeypatch):
+    # every file is read in its own header's units; µm values under no header are refused,
+    # naming the file
+    monkeypatch.chdir(tmp_path)
+    site = Site("field", 40.0, 0.0)
+    folders = {}
+    for name, second in (("nm", "wavelength_nm,irradiance\n400,1.0\n800,1.2\n1200,0.6\n"),
+                         ("mixed", "wavelength_um,irradiance_W_m2_um\n0.4,1000\n0.8,1200\n1.2,600\n")):
+        folder = tmp_path / name
+        folder.mkdir()
+        (folder / "2026-06-21T11-00.csv").write_text("wavelength_nm,irradiance\n400,1.0\n800,1.2\n1200,0.6\n")
+        (folder / "2026-06-21T12-00.csv").write_text(second)
+        folders[name] = tandem.folder_series(site, folder)
+    assert folders["mixed"].insolation_kWh_m2 == pytest.approx(folders["nm"].insolation_kWh_m2, rel=1e-12)
+    bare = tmp_path / "bare"
+    bare.mkdir()
+    (bare / "2026-06-21T12-00.csv").write_text("0.4,1.0\n0.8,1.2\n1.2,0.6\n")
     res = runner.invoke(app, ["yield", "perovskite-wide", "silicon", "--latitude", "40",
-                              "--longitude", "0", "--spectra", str(folder)])
+                              "--longitude", "0", "--spectra", str(bare)])
     assert res.exit_code == 2
-    assert "mixes units" in res.stderr and "give every file in nm" in res.stderr
+    assert "2026-06-21T12-00.csv" in res.stderr and "looks like µm" in res.stderr
+    assert not list(tmp_path.glob("yield-*"))  # refused before anything is written
 
 
 def test_yield_cli_json_and_figures(tmp_path):

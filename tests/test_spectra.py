@@ -131,3 +131,26 @@ def test_reciprocity_dark_current_does_not_depend_on_where_the_spectrum_stops():
         j0.append(j0_rad[0])
     assert j0[1][1] == pytest.approx(j0[0][1], rel=2e-3)  # back (silicon)
     assert j0[1][0] == pytest.approx(j0[0][0], rel=2e-3)  # front
+
+
+def test_a_spectrum_header_states_its_units(tmp_path):
+    # The same G173 light written in nm and W m⁻² nm⁻¹, in µm and W m⁻² µm⁻¹ (headed so), gives
+    # the same 1000.37 W/m² (ASTM G173-03); µm values without a header are refused, not read as nm
+    g173 = tandem.reference_spectrum("am1.5g")
+    wl, irr = g173.wavelength_nm, g173.irradiance
+
+    def write(name, header, x, y):
+        path = tmp_path / name
+        path.write_text(header + "\n".join(f"{a:.6g},{b:.8g}" for a, b in zip(x, y)) + "\n")
+        return tandem.read_spectrum_csv(path)
+
+    nm = write("nm.csv", "wavelength_nm,irradiance_W_m2_nm\n", wl, irr)
+    for header in ("wavelength_um,irradiance_W_m2_um\n", "wavelength [um],irradiance [W/m2/um]\n",
+                   "wavelength (µm);E (W m-2 µm-1)\n".replace(";", ",")):
+        um = write("um.csv", header, wl / 1e3, irr * 1e3)
+        assert um.integrated_irradiance == pytest.approx(nm.integrated_irradiance, rel=1e-6)
+        assert um.integrated_irradiance == pytest.approx(1000.37, abs=0.05)
+    with pytest.raises(tandem.TandemInputError, match="looks like µm; head the first column wavelength_um"):
+        write("bare.csv", "", wl / 1e3, irr * 1e3)
+    with pytest.raises(tandem.TandemInputError, match="the header says µm but the wavelengths run to"):
+        write("liar.csv", "wavelength_um,irradiance\n", wl, irr)

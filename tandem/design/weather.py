@@ -198,15 +198,9 @@ def folder_series(site: Site, folder: str | Path) -> SpectralSeries:
             raise TandemInputError(f"spectrum folder '{folder}': file '{f.name}' has no time stamp "
                                    "in its name; name files like 2026-06-21T12-00.csv")
         stamps.append(pd.Timestamp("{}-{}-{}T{}:{}".format(*m.groups()), tz=site.timezone))
+        # each file in its own header's units (read_spectrum_csv converts them, and refuses
+        # µm values under no header), so a folder may mix files headed nm and µm
         spectra.append(read_spectrum_csv(f))
-    units = ["µm" if s.wavelength_nm[-1] < 50 else "nm" for s in spectra]
-    if len(set(units)) > 1:
-        odd = files[units.index("µm" if units.count("µm") < units.count("nm") else "nm")]
-        raise TandemInputError(f"spectrum folder '{folder}' mixes units: '{odd.name}' has "
-                               "wavelengths in a different range from the others; give every file "
-                               "in nm and W m^-2 nm^-1")
-    if units[0] == "µm":
-        raise TandemInputError(f"spectrum folder '{folder}': wavelengths look like µm; give them in nm")
     order = np.argsort(stamps)
     times = pd.DatetimeIndex([stamps[i] for i in order])
     if times.has_duplicates:

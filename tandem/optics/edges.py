@@ -206,28 +206,14 @@ def table_units(text: str, axis: str) -> tuple[float, float]:
     """
     import re
 
-    header = None
-    for raw in text.lstrip("\ufeff").splitlines():
-        line = raw.strip()
-        if not line or line.startswith("#"):
-            continue
-        cells = [x for x in re.split(r"[,;\t]+", line) if x.strip()]
-        if len(cells) == 1:  # separated by spaces only: 'wavelength (nm) alpha (cm-1)'
-            cells = []
-            for token in line.split():
-                if cells and token[0] in "([":
-                    cells[-1] += " " + token
-                else:
-                    cells.append(token)
-        try:
-            [float(x) for x in cells]
-        except ValueError:
-            header = cells
-        break
+    from tandem.physics.columns import header_cells
+
+    header = header_cells(text)
     if header is None:
         return 1.0, 1.0
     if len(header) != 2:
-        raise TableHeaderError(f"has the header '{line[:60]}', which does not name two columns",
+        raise TableHeaderError(f"has the header '{' '.join(header)[:60]}', which does not name "
+                               "two columns",
                                "head them e.g. wavelength_nm,alpha_per_cm")
     first, second = (h.strip().lower() for h in header)
     words = re.split(r"[^a-zµ]+", first)

@@ -91,3 +91,47 @@ def parse_two_columns(text: str, where: str, x_name: str, y_name: str, rising: b
     if len(rows) < 2:
         raise TandemInputError(f"{where}: needs at least two data rows of {x_name} and {y_name}")
     return np.array(rows)
+
+
+def header_cells(text: str) -> list[str] | None:
+    """The cells of a data file's header line (its first line that is not blank, a comment or
+    numbers), or None without one. Cells split at commas, semicolons or tabs; a header split by
+    spaces only keeps a bracketed unit with its name ('wavelength (nm)')."""
+    import re
+
+    for raw in text.lstrip("\ufeff").splitlines():
+        line = raw.strip()
+        if not line or line.startswith("#"):
+            continue
+        cells = [x for x in re.split(r"[,;\t]+", line) if x.strip()]
+        if len(cells) == 1:
+            cells = []
+            for token in line.split():
+                if cells and token[0] in "([":
+                    cells[-1] += " " + token
+                else:
+                    cells.append(token)
+        try:
+            [float(x) for x in cells]
+        except ValueError:
+            return cells
+        return None
+    return None
+
+
+def spectrum_units(text: str) -> tuple[float, float]:
+    """Factors taking a spectrum file's columns to nm and W m⁻² nm⁻¹, from its header
+    (``wavelength_um``, ``irradiance [W/m2/um]``, ``W m-2 µm-1`` ...); without one, nm and
+    W m⁻² nm⁻¹, as the format says. The wavelengths' range must agree with their unit."""
+    import re
+
+    header = header_cells(text)
+    x_scale = y_scale = 1.0
+    if header is not None and len(header) >= 2:
+        first, second = (h.strip().lower().replace("µ", "u") for h in header[:2])
+        if re.search(r"\b(um|micron|microns)\b|_um\b|\(um\)|\[um\]", first.replace("_", " _")):
+            x_scale = 1e3
+        # per µm: '/um', 'um-1', 'um^-1', 'um⁻¹', '_um' at the end of a unit run
+        if re.search(r"(/\s*um\b|\bum\s*(\^?-1|⁻¹)|_um\b)", second):
+            y_scale = 1e-3
+    return x_scale, y_scale

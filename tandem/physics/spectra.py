@@ -16,7 +16,7 @@ import numpy as np
 
 from tandem.core.errors import TandemInputError
 from tandem.core.units import BB_FLUX_PREFACTOR, HC_EV_NM, K_B_EV, Q, SUN_DILUTION
-from tandem.physics.columns import MAX_ROWS, read_data_text, parse_two_columns
+from tandem.physics.columns import MAX_ROWS, parse_two_columns, read_data_text, spectrum_units
 
 #: Names of the bundled reference spectra and the pvlib column of ASTM G173-03 for each.
 REFERENCE_SPECTRA = {
@@ -361,6 +361,8 @@ def blackbody_sun(
 def read_spectrum_csv(path: str | Path) -> Spectrum:
     """Read a user's two-column spectrum: wavelength [nm], spectral irradiance [W m⁻² nm⁻¹].
 
+    A header stating other units (``wavelength_um``, ``irradiance [W/m2/um]``) is converted;
+    wavelengths that can only be µm under no header are refused with the fix.
     Columns are separated by a comma, semicolon, tab or spaces; one header line is allowed;
     lines starting with ``#`` are comments. Wavelengths must rise strictly; irradiance must
     be finite and non-negative. Any bad row raises :class:`TandemInputError` naming it.
@@ -382,9 +384,19 @@ def read_spectrum_csv(path: str | Path) -> Spectrum:
 def parse_spectrum_text(text: str, where_label: str, name: str) -> Spectrum:
     """The two-column spectrum in ``text`` (see :func:`read_spectrum_csv`); ``where_label``
     names its origin in messages, ``name`` becomes the spectrum's name."""
-    data = parse_two_columns(text, f"spectrum file '{where_label}'", "wavelength [nm]",
-                             "irradiance [W m^-2 nm^-1]", rising=True, y_min=0.0)
-    spectrum = Spectrum(name=name, wavelength_nm=data[:, 0], irradiance=data[:, 1])
+    label = f"spectrum file '{where_label}'"
+    data = parse_two_columns(text, label, "wavelength [nm]", "irradiance [W m^-2 nm^-1]",
+                             rising=True, y_min=0.0)
+    x_scale, y_scale = spectrum_units(text)  # a header's units are converted
+    wavelength, irradiance = data[:, 0] * x_scale, data[:, 1] * y_scale
+    top = float(wavelength[-1])
+    if x_scale == 1.0 and top < 100.0:  # no solar spectrum ends below 100 nm
+        raise TandemInputError(f"{label}: the wavelengths run only to {top:g}, which looks like "
+                               "µm; head the first column wavelength_um, or give nm")
+    if x_scale != 1.0 and top > 1e5:
+        raise TandemInputError(f"{label}: the header says µm but the wavelengths run to "
+                               f"{top / 1e3:g} µm; head the column wavelength_nm, or give µm")
+    spectrum = Spectrum(name=name, wavelength_nm=wavelength, irradiance=irradiance)
     if not spectrum.integrated_irradiance > 0:
         raise TandemInputError(f"spectrum file '{where_label}': irradiance is zero everywhere; "
                                "check the second column")
