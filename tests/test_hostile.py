@@ -291,3 +291,30 @@ def test_overwrite_replaces_only_what_tandem_wrote(name, tmp_path, monkeypatch):
     user_file.unlink()
     assert runner.invoke(app, args).exit_code == 0
     assert runner.invoke(app, args).exit_code == 0
+
+
+@pytest.mark.parametrize("encoding", ["ascii", "latin-1"])
+def test_an_output_that_cannot_encode_units_gets_replacements_not_a_traceback(encoding):
+    # µ, ², – and box lines in an ASCII or Latin-1 pipe once raised UnicodeEncodeError half-way
+    # through a table
+    import os
+    import subprocess
+    import sys
+
+    env = dict(os.environ, PYTHONIOENCODING=encoding)
+    done = subprocess.run([sys.executable, "-m", "tandem", "absorbers"], capture_output=True,
+                          env=env, timeout=120)
+    assert done.returncode == 0, done.stderr.decode(encoding, "replace")[-2000:]
+    assert b"Traceback" not in done.stderr and b"silicon" in done.stdout
+
+
+def test_a_closed_stdout_ends_quietly():
+    # started with stdout closed (`>&-`), Python has no sys.stdout at all: the console setup
+    # once raised AttributeError at import
+    import shlex
+    import subprocess
+    import sys
+
+    command = f"{shlex.quote(sys.executable)} -m tandem limit 1.34 >&-"
+    done = subprocess.run(["bash", "-c", command], stderr=subprocess.PIPE, timeout=120)
+    assert b"Traceback" not in done.stderr, done.stderr[-2000:]

@@ -21,9 +21,29 @@ from rich.table import Table
 import tandem
 from tandem.core.errors import TandemInputError
 
+def _is_terminal(stream) -> bool:
+    """Whether ``stream`` is a terminal; False for a closed or missing one (no traceback)."""
+    try:
+        return bool(stream is not None and stream.isatty())
+    except (AttributeError, ValueError, OSError):
+        return False
+
+
 # A terminal gets tables that fit its width; piped output is never cut (no width limit).
-out = Console(width=None if sys.stdout.isatty() else 100_000)
-err = Console(stderr=True, width=None if sys.stderr.isatty() else 100_000)
+out = Console(width=None if _is_terminal(sys.stdout) else 100_000)
+err = Console(stderr=True, width=None if _is_terminal(sys.stderr) else 100_000)
+
+
+def _plain_encoding() -> None:
+    """An output that cannot encode µ, ² or – (an ASCII or Latin-1 terminal or pipe) gets a
+    replacement character for them instead of a UnicodeEncodeError half-way through a table."""
+    for stream in (sys.stdout, sys.stderr):
+        encoding = (getattr(stream, "encoding", None) or "").lower().replace("-", "")
+        if stream is not None and "utf" not in encoding and hasattr(stream, "reconfigure"):
+            try:
+                stream.reconfigure(errors="replace")
+            except (ValueError, OSError):
+                pass
 
 # --------------------------------------------------------------------------------------
 # Options declared once
@@ -438,6 +458,7 @@ def friendly(command):
 def run_app(app) -> None:
     """Run the typer app so that usage errors are one line (exit 2) and Ctrl-C is exit 130."""
     click = _click()
+    _plain_encoding()
     try:
         code = typer.main.get_command(app).main(prog_name="tandem", standalone_mode=False)
     except click.exceptions.UsageError as exc:
