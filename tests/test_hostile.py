@@ -318,3 +318,17 @@ def test_a_closed_stdout_ends_quietly():
     command = f"{shlex.quote(sys.executable)} -m tandem limit 1.34 >&-"
     done = subprocess.run(["bash", "-c", command], stderr=subprocess.PIPE, timeout=120)
     assert b"Traceback" not in done.stderr, done.stderr[-2000:]
+
+
+def test_names_with_terminal_codes_or_emoji_codes_print_as_text(tmp_path):
+    # an absorber name holding ESC, BEL and ':x:' once reached the terminal raw (colours,
+    # a bell, an emoji); now every control character shows as \xNN and ':x:' stays ':x:'
+    text = (Path(__file__).resolve().parents[1] / "absorbers" / "cdte.toml").read_text()
+    lines = [line if not line.startswith("name = ") else
+             'name = "evil\\u001b[31mRED\\u0007 :x: film"' for line in text.splitlines()]
+    path = tmp_path / "evil.toml"
+    path.write_text("\n".join(lines) + "\n")
+    res = CliRunner().invoke(app, ["absorbers", str(path)])
+    assert res.exit_code == 0, res.output
+    assert "\x1b" not in res.output and "\x07" not in res.output
+    assert "evil\\x1b[31mRED\\x07 :x: film" in res.output

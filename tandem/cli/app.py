@@ -11,10 +11,9 @@ from pathlib import Path
 from typing import Annotated, Optional
 
 import typer
-from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (flag_option, parse_gap, SHARED, Json, Large, Losses, Overwrite, Plot,  # noqa: F401
+from tandem.cli.options import (escape, flag_option, parse_gap, SHARED, Json, Large, Losses, Overwrite, Plot,  # noqa: F401
                                 Quiet, Wide, build_light, build_operating, check_outputs,
                                 design_columns, emit_json, energy_text, err, field_text, friendly,
                                 given, out, over_scenario, parse_floats, parse_gap_option,

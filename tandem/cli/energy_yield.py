@@ -6,10 +6,9 @@ from pathlib import Path
 from typing import Annotated, Optional
 
 import typer
-from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (Json, Large, Overwrite, Quiet, build_light, build_operating,
+from tandem.cli.options import (escape, Json, Large, Overwrite, Quiet, build_light, build_operating,
                                 check_outputs, emit_json, energy_text, field_text, given, out,
                                 over_scenario, parse_gap_option, parse_range, parse_thickness,
                                 plain_option, progress_bar, progress_callback, render_table, say,

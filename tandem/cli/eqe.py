@@ -4,10 +4,9 @@ from __future__ import annotations
 
 from typing import Annotated, Optional
 
-from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (Json, Overwrite, Plot, argument, emit_json, parse_floats, build_light,
+from tandem.cli.options import (escape, Json, Overwrite, Plot, argument, emit_json, parse_floats, build_light,
                                 build_operating, plain_option, say, render_table, parse_thickness, write_plot,
                                 check_outputs, out)
 

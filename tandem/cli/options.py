@@ -10,16 +10,27 @@ from __future__ import annotations
 import functools
 import json
 import math
+import re
 import sys
 from typing import Annotated, Optional
 
 import typer
 from rich.console import Console
-from rich.markup import escape
+from rich.markup import escape as _markup_escape
 from rich.table import Table
 
 import tandem
 from tandem.core.errors import TandemInputError
+
+#: control characters (ESC, BEL, ...) in names and file content: shown as \xNN, never sent
+_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f]")
+
+
+def escape(text) -> str:
+    """Text from files and users, printed as text: rich markup escaped and control characters
+    shown as ``\x1b`` (a name holding ESC or BEL cannot drive the terminal)."""
+    return _markup_escape(_CONTROL.sub(lambda m: f"\\x{ord(m.group()):02x}", str(text)))
+
 
 def _is_terminal(stream) -> bool:
     """Whether ``stream`` is a terminal; False for a closed or missing one (no traceback)."""
@@ -30,8 +41,9 @@ def _is_terminal(stream) -> bool:
 
 
 # A terminal gets tables that fit its width; piped output is never cut (no width limit).
-out = Console(width=None if _is_terminal(sys.stdout) else 100_000)
-err = Console(stderr=True, width=None if _is_terminal(sys.stderr) else 100_000)
+# emoji off: ':x:' in a file name or message stays ':x:'
+out = Console(width=None if _is_terminal(sys.stdout) else 100_000, emoji=False)
+err = Console(stderr=True, width=None if _is_terminal(sys.stderr) else 100_000, emoji=False)
 
 
 def _plain_encoding() -> None:

@@ -6,10 +6,9 @@ from pathlib import Path
 from typing import Annotated, Optional
 
 import typer
-from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (flag_option, Json, Quiet, build_light, build_operating, emit_json, err,
+from tandem.cli.options import (escape, flag_option, Json, Quiet, build_light, build_operating, emit_json, err,
                                 given, out, over_scenario, parse_gap_option, parse_range,
                                 parse_thickness, plain_option, progress_bar, progress_callback,
                                 render_table, say, stack_over_scenario)

@@ -5,10 +5,9 @@ Parse, call the library, render; no physics here.
 
 from __future__ import annotations
 
-from rich.markup import escape
 
 import tandem
-from tandem.cli.options import (progress_callback, emit_json, build_light, build_operating, progress_bar, say,
+from tandem.cli.options import (escape, progress_callback, emit_json, build_light, build_operating, progress_bar, say,
                                 render_table, check_outputs, err, out)
 from tandem.core.errors import TandemInputError
 
