@@ -252,3 +252,22 @@ def test_a_stack_region_refuses_what_the_stack_sets(extra, message):
     args.update(extra)
     with pytest.raises(tandem.TandemInputError, match=message):
         region_job(args.pop("front"), args.pop("back"), **args)
+
+
+@pytest.mark.parametrize("address", ["http://10.0.0.5:8786", "not a url", "inproc://x",
+                                     "tcp://", "tcp://host", "tcp://host:99999", "tcp://h:1/path"])
+def test_a_bad_scheduler_address_is_one_line_and_leaves_nothing(address, sites, job, tmp_path):
+    with pytest.raises(tandem.TandemInputError, match="give tcp://HOST:PORT"):
+        run_region(sites, job, tmp_path / "r", scheduler=address)
+    assert not (tmp_path / "r").exists()
+
+
+def test_an_unanswering_scheduler_leaves_no_folder_behind(sites, job, tmp_path):
+    import socket
+
+    with socket.socket() as s:  # a free port nobody listens on
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    with pytest.raises(tandem.TandemInputError, match="no dask scheduler answers"):
+        run_region(sites[:1], job, tmp_path / "r", scheduler=f"tcp://127.0.0.1:{port}")
+    assert not (tmp_path / "r").exists()

@@ -479,9 +479,12 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
     folder = Path(folder)
     if not sites:
         raise TandemInputError("the region has no sites")
+    if scheduler is not None:
+        check_scheduler_address(scheduler)
     reason = region_folder_reason(folder, job, overwrite)
     if reason:
         raise TandemInputError(reason)
+    created = not folder.exists()
     if not folder.exists():
         check_output_folder(folder)
         (folder / "sites").mkdir(parents=True)
@@ -515,7 +518,14 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
         for spec in todo:
             finished(spec, site_year(spec, job))
     elif todo:
-        _run_distributed(todo, job, scheduler, workers, finished)
+        try:
+            _run_distributed(todo, job, scheduler, workers, finished)
+        except TandemInputError:
+            if created and not computed:  # nothing of this run to resume: leave no folder
+                import shutil
+
+                shutil.rmtree(folder, ignore_errors=True)
+            raise
     ordered = [records[s.name] for s in sites]
     for r in ordered:
         r.pop("fingerprint", None)
@@ -540,6 +550,23 @@ def write_region_outputs(result: RegionResult, grids: bool = False) -> list[Path
         folder / "region.csv": lambda tmp: write_csv(frame, tmp),
         folder / "region.png": lambda tmp: savefig(figure, tmp, "png"),
     }, overwrite=True)
+
+
+def check_scheduler_address(address: str) -> None:
+    """A dask scheduler address as ``tcp://HOST:PORT`` or ``tls://HOST:PORT``, or one line
+    saying so (before any folder is made or connection tried)."""
+    from urllib.parse import urlsplit
+
+    try:
+        parts = urlsplit(str(address))
+        port = parts.port
+    except ValueError:
+        port, parts = None, None
+    if (parts is None or parts.scheme not in ("tcp", "tls") or not parts.hostname
+            or port is None or parts.path not in ("", "/") or parts.query or parts.username):
+        raise TandemInputError(f"--scheduler '{address}': give tcp://HOST:PORT (or tls://HOST:PORT "
+                               "with certificates in dask's configuration), e.g. "
+                               "tcp://10.0.0.5:8786")
 
 
 def _run_distributed(todo, job, scheduler, workers, finished) -> None:
