@@ -332,3 +332,11 @@ def test_names_with_terminal_codes_or_emoji_codes_print_as_text(tmp_path):
     assert res.exit_code == 0, res.output
     assert "\x1b" not in res.output and "\x07" not in res.output
     assert "evil\\x1b[31mRED\\x07 :x: film" in res.output
+
+
+def test_two_outputs_of_one_command_may_not_share_a_file(tmp_path, monkeypatch):
+    # `--plot same.png --losses same.png` once wrote the plot, then failed on the waterfall
+    monkeypatch.chdir(tmp_path)
+    res = CliRunner().invoke(app, ["limit", "1.34", "--plot", "same.png", "--losses", "./same.png"])
+    assert res.exit_code == 2 and "are the same file" in res.output
+    assert not list(tmp_path.iterdir())

@@ -426,11 +426,19 @@ def check_outputs(paths, overwrite: bool, plot: bool = False) -> None:
     does not exist yet (or --overwrite), its name is not too long, a figure has a known type."""
     from pathlib import Path
 
+    import os
+
     from tandem.core.files import check_new_output, check_output_folder
 
-    for p in paths:
-        if p is None:
-            continue
+    given = [p for p in paths if p is not None]
+    seen: dict[str, str] = {}
+    for p in given:  # two outputs of one command never share a file (one would overwrite the other)
+        key = os.path.normcase(os.path.abspath(p))
+        if key in seen:
+            raise TandemInputError(f"outputs '{seen[key]}' and '{p}' are the same file; give each "
+                                   "its own name")
+        seen[key] = str(p)
+    for p in given:
         path = Path(p)
         if not path.name or path.name in (".", ".."):
             raise TandemInputError(f"output '{p}': give a file name")
