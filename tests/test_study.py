@@ -155,6 +155,8 @@ BAD = [
      "'map.front_gaps_eV' is now called map.front_gap_range_eV"),
     ("[report]", "[report]\ncolour = 1", "'report.colour' is not a known key"),
     ("[candidates]", "[candidate]", "'candidate' is not a known key"),
+    # half a row was accepted (and rounded down)
+    ("[report]", "[report]\ntop = 0.5", "'report.top' = 0.5 is not a whole number of rows"),
 ]
 
 

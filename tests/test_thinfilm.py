@@ -300,6 +300,10 @@ def test_stack_fields_that_would_be_ignored_are_refused(tmp_path, am15g):
     (tmp_path / "uv.toml").write_text(wafer.replace('nk = [1.75, 0.002]', 'nk = "uv.csv"'))
     with pytest.raises(tandem.TandemInputError, match="has n,k for 100–200 nm, none of the usable"):
         tandem.match_stack(load_stack(tmp_path / "uv.toml"), points=8)
+    organic = (root / "organic-pair.toml").read_text()  # 7.5 points was once taken as 7
+    (tmp_path / "half.toml").write_text(organic.replace("points = 5", "points = 7.5", 1))
+    with pytest.raises(tandem.TandemInputError, match="points' = 7.5 is not a whole number"):
+        load_stack(tmp_path / "half.toml")
 
 
 def test_no_match_note_names_the_thickness_range_swept(tmp_path):

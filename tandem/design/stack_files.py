@@ -166,7 +166,10 @@ def _layer(path: Path, i: int, x: dict) -> StackLayer:
         sweep, thickness = (lo, hi), math.sqrt(lo * hi)
     else:
         thickness, sweep = _number(path, f"{where}.thickness_nm", t, 0.1, 1e8, "nm"), None
-    points = int(_number(path, f"{where}.points", x.get("points", 7), 2, 200, "a count"))
+    points = _number(path, f"{where}.points", x.get("points", 7), 2, 200, "a count")
+    if not points.is_integer():  # 7.5 was once taken as 7
+        _fail(path, f"{where}.points", f"= {points:g} is not a whole number", "give a count, e.g. 7")
+    points = int(points)
     coherent = x.get("coherent", True)
     if not isinstance(coherent, bool):
         _fail(path, f"{where}.coherent", "must be true or false", "write true or false")

@@ -355,10 +355,12 @@ def resolve(path: Path, key: str, text: str, absorber_source, file_source, stack
             if n > MAX_GAPS:
                 c.fail(f"map.{k}", f"= {v} has {n:,} points", f"give a coarser step (at most "
                        f"{MAX_GAPS:,} points)")
-    for k in ("top", "tolerance_pct"):
-        v = c.get("report", k)
-        if v is not None and not v > 0:
-            c.fail(f"report.{k}", f"= {v:g} must be positive", "give a positive number")
+    top = c.get("report", "top")
+    if top is not None and not (float(top).is_integer() and 1 <= top <= 10_000):
+        c.fail("report.top", f"= {top:g} is not a whole number of rows in 1–10000", "give e.g. 10")
+    tol = c.get("report", "tolerance_pct")
+    if tol is not None and not tol > 0:
+        c.fail("report.tolerance_pct", f"= {tol:g} must be positive", "give a positive number")
     weather = data.get("weather", {})
     if weather and "site" not in data:
         c.fail("weather", "needs a [site] section", "add [site] with latitude and longitude")
