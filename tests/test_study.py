@@ -338,3 +338,23 @@ def test_overwrite_never_deletes_a_figure_the_study_did_not_write(tmp_path):
     assert mine.is_file()
     mine.unlink()
     assert write_study(study, out, overwrite=True) == out
+
+
+def test_a_manifests_stack_text_never_names_a_file(tmp_path):
+    # an edited manifest (checksums recomputed, or --accept-edited) whose stack text points an
+    # n,k table at an absolute path once read that file from disk
+    path = tmp_path / "s.toml"
+    path.write_text(STACK_STUDY)
+    study = run_study(load_scenario(path))
+    out = write_study(study, tmp_path / "out", figures=False)
+    (tmp_path / "secret.csv").write_text("wavelength_nm,n,k\n300,1.5,0\n2000,1.5,0\n")
+    manifest = json.loads((out / "manifest.json").read_text())
+    stack = manifest["inputs"]["stacks"]["all-thin-film-pair"]
+    stack["text"] = stack["text"].replace('"database:main/Ag/Johnson"', f'"{tmp_path / "secret.csv"}"')
+    (out / "manifest.json").write_text(json.dumps(manifest))
+    from tandem.study.scenario import refuse_stack_files
+
+    with pytest.raises(tandem.TandemInputError, match="reads a file of its own"):
+        refuse_stack_files("all-thin-film-pair", stack["text"])
+    with pytest.raises(tandem.TandemInputError, match="reads a file of its own"):
+        run_study(load_scenario(out / "manifest.json", accept_edited=True))

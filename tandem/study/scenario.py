@@ -86,6 +86,27 @@ MANIFEST_FORMAT = "tandem-study-manifest/2"
 MAX_EMBEDDED_BYTES = 64 * 2**20  #: a weather file or spectra folder larger than this is refused
 
 
+def refuse_stack_files(key: str, text: str) -> None:
+    """A stack held as text (in a scenario or manifest) names no file: its layers take bundled
+    absorbers, constants or the database. Checked on the text, before anything is read, so
+    that nothing in a manifest is ever used as a path."""
+    import tomllib
+
+    try:
+        layers = tomllib.loads(text).get("layer", [])
+    except tomllib.TOMLDecodeError:
+        return  # the parser says what is wrong, in its own words
+    for x in layers if isinstance(layers, list) else []:
+        nk, absorber = x.get("nk"), x.get("absorber")
+        if (isinstance(nk, str) and not nk.startswith("database:")) or (
+                isinstance(absorber, str) and (absorber.endswith(".toml") or "/" in absorber
+                                               or "\\" in absorber)):
+            raise TandemInputError(f"stack '{key}': its layer '{x.get('name')}' reads a file of "
+                                   "its own; in a study a stack's layers take bundled absorbers, "
+                                   "constants or the database, so that the manifest re-runs it "
+                                   "anywhere")
+
+
 @dataclass(frozen=True)
 class Scenario:
     """A resolved scenario: every name looked up, every value checked, every file read.
@@ -116,6 +137,7 @@ class Scenario:
         out = {}
         with tempfile.TemporaryDirectory(prefix="tandem-stacks-") as tmp:
             for i, (key, rec) in enumerate(self.stack_records.items()):
+                refuse_stack_files(key, rec["text"])
                 folder = Path(tmp) / f"stack-{i}"
                 folder.mkdir()
                 out[key] = replace(parse_stack(materialise(folder, f"{key}.toml", rec["text"])),
