@@ -274,3 +274,18 @@ def test_a_typed_input_of_the_wrong_kind_is_one_line(call):
     # AttributeError deep in the job
     with pytest.raises(tandem.TandemInputError, match=r"not a tandem\.(Light|OperatingPoint); pass"):
         call()
+
+
+def test_the_absorber_listing_names_each_bundled_stack_as_parsed():
+    # the listing reads stack files as text (fast); it must say what the parser reads
+    import json
+
+    from typer.testing import CliRunner
+
+    from tandem.cli.app import app
+
+    listed = json.loads(CliRunner().invoke(app, ["absorbers", "--json"]).stdout)["stacks"]
+    for entry in listed:
+        stack = tandem.load_stack(entry["name"])
+        assert entry["title"] == stack.title and entry["layers"] == [x.name for x in stack.layers]
+    assert {e["name"] for e in listed} == set(tandem.bundled_stacks())

@@ -83,12 +83,19 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str 
 
 def list_bundled(json_out: bool) -> None:
     """The bundled absorber descriptions and layer stacks."""
+    import tomllib
+
     found = [tandem.load_absorber(k) for k in tandem.bundled_absorbers()]
-    stacks = [tandem.load_stack(k) for k in tandem.bundled_stacks()]
+    # a listing needs each stack's title and layer names, not its optics: read the text only
+    # (resolving the database's n,k tables took about 2 s)
+    stacks = []
+    for key, path in tandem.bundled_stacks().items():
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+        stacks.append({"name": key, "title": data.get("title", key),
+                       "layers": [x.get("name", "?") for x in data.get("layer", [])]})
     if json_out:
         return emit_json({"absorbers": [tandem.absorber_summary(a) for a in found],
-                           "stacks": [{"name": s.key, "title": s.title,
-                                       "layers": [x.name for x in s.layers]} for s in stacks]})
+                           "stacks": stacks})
     out.print(render_table("Bundled absorbers", [
         ("name", lambda a: a.key), ("description", lambda a: a.name),
         ("gap eV", lambda a: "{:.2f}–{:.2f}".format(*a.gap_range_eV) if a.tunable
@@ -97,8 +104,8 @@ def list_bundled(json_out: bool) -> None:
          else f"{a.thickness_nm:g} nm"),
         ("trapping", lambda a: a.light_trapping), ("ERE", lambda a: f"{a.ere:.1e}")], found))
     out.print(render_table("Bundled layer stacks (tandem match --stack NAME)", [
-        ("name", lambda s: s.key), ("title", lambda s: s.title),
-        ("layers", lambda s: str(len(s.layers)))], stacks))
+        ("name", lambda s: s["name"]), ("title", lambda s: s["title"]),
+        ("layers", lambda s: str(len(s["layers"])))], stacks))
     say("Add your own: pass the path of a .toml file written to the schemas in docs/file-formats.md.")
 
 
