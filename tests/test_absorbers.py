@@ -399,3 +399,16 @@ def test_an_nk_table_gives_the_alpha_and_index_of_its_data(tmp_path):
 def test_bad_nk_tables_are_one_line(tmp_path, rows, message):
     with pytest.raises(tandem.TandemInputError, match=message):
         _silicon_from_nk(tmp_path, rows)
+
+
+def test_an_nk_table_headed_in_um_is_converted(tmp_path):
+    from tandem.optics.database import read_nk_table
+
+    (tmp_path / "nm.csv").write_text("wavelength_nm,n,k\n400,2.5,0.3\n800,2.4,0.01\n")
+    (tmp_path / "um.csv").write_text("wavelength_um,n,k\n0.4,2.5,0.3\n0.8,2.4,0.01\n")
+    (tmp_path / "bare.csv").write_text("0.4,2.5,0.3\n0.8,2.4,0.01\n")
+    a, b = read_nk_table(tmp_path / "nm.csv"), read_nk_table(tmp_path / "um.csv")
+    np.testing.assert_allclose(a[0], b[0])
+    np.testing.assert_allclose(a[1], b[1])
+    with pytest.raises(Exception, match="look like µm"):
+        read_nk_table(tmp_path / "bare.csv")

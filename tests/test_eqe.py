@@ -157,3 +157,28 @@ def test_eqe_command_with_a_site_year(tmp_path, monkeypatch):
     assert 0 <= s["year"]["share_of_light_with_front_limiting_pct"] <= 100
     bad = CliRunner().invoke(app, ["eqe", "front.csv", "back.csv", "--voc", "1.2"])
     assert bad.exit_code == 2 and "give FRONT,BACK in V" in bad.stderr
+
+
+def test_an_eqe_header_states_its_units(tmp_path):
+    # the same EQE in nm and fraction, in µm (headed wavelength_um) and in percent (headed
+    # 'EQE (%)') gives the same photocurrent; a weak cell's percent column (max 3) is read as
+    # percent when the header says so, and refused when it does not (the unit is never guessed)
+    import tandem.design.eqe as eqe_mod
+
+    wl = np.array([300.0, 500.0, 700.0, 800.0, 900.0])
+    q = np.array([0.5, 0.9, 0.85, 0.4, 0.01])
+
+    def write(name, header, x, y):
+        path = tmp_path / name
+        path.write_text(header + "\n".join(f"{a:g},{b:g}" for a, b in zip(x, y)) + "\n")
+        return eqe_mod.read_eqe(path)
+
+    base = write("nm.csv", "wavelength_nm,eqe\n", wl, q)
+    for header, x, y in (("wavelength_um,eqe\n", wl / 1e3, q), ("wavelength_nm,EQE (%)\n", wl, 100 * q)):
+        other = write("other.csv", header, x, y)
+        np.testing.assert_allclose(other.energy_eV, base.energy_eV, rtol=1e-12)
+        np.testing.assert_allclose(other.eqe, base.eqe, rtol=1e-12)
+    weak = write("weak.csv", "wavelength_nm,EQE (%)\n", wl, 3 * q)
+    assert float(weak.eqe.max()) == pytest.approx(0.027)
+    with pytest.raises(tandem.TandemInputError, match="head the column 'EQE \\(%\\)'"):
+        write("weak2.csv", "wavelength_nm,eqe\n", wl, 3 * q)

@@ -23,7 +23,7 @@ from pathlib import Path
 import numpy as np
 
 from tandem.core.errors import TandemInputError
-from tandem.physics.columns import read_two_columns
+from tandem.physics.columns import header_cells, parse_two_columns, read_data_text, spectrum_units
 from tandem.physics.spectra import PhotonFlux
 from tandem.core.units import BB_FLUX_PREFACTOR, HC_EV_NM, K_B_EV, Q
 
@@ -62,19 +62,29 @@ class MeasuredEQE:
 def read_eqe(path: str | Path, name: str | None = None, temperature_K: float = 298.15) -> MeasuredEQE:
     """An EQE file: wavelength [nm], EQE as a fraction (0–1) or percent (0–100).
 
-    A column whose largest value lies between 1 and 5 is refused: it could be percent of a
-    weak cell or a fraction above one, and the unit is never guessed.
+    A header states units: wavelengths in µm (``wavelength_um``) are converted, an EQE column
+    headed ``%`` or ``percent`` is percent. Unheaded, a column whose largest value lies between
+    1 and 5 is refused: it could be percent of a weak cell or a fraction above one, and the
+    unit is never guessed.
     """
-    data = read_two_columns(path, "EQE file", "wavelength [nm]", "EQE", rising=False, y_min=0.0)
-    wl, values = data[:, 0], data[:, 1]
+    path, text = read_data_text(path, "EQE file", "wavelength [nm], EQE")
+    data = parse_two_columns(text, f"EQE file '{path}'", "wavelength [nm]", "EQE", rising=False,
+                             y_min=0.0)
+    x_scale = spectrum_units(text)[0]  # a header in µm is converted
+    wl, values = data[:, 0] * x_scale, data[:, 1]
+    header = header_cells(text) or []
+    said_percent = len(header) > 1 and ("%" in header[1] or "percent" in header[1].lower())
     top = float(values.max())
-    if top <= 1.0:
+    if said_percent and top <= 100.0:  # a header saying percent settles even a weak cell
+        eqe, unit = values / 100.0, "percent"
+    elif top <= 1.0:
         eqe, unit = values, "fraction"
     elif 5.0 <= top <= 100.0:
         eqe, unit = values / 100.0, "percent"
     else:
         raise TandemInputError(f"EQE file '{path}': the EQE column reaches {top:g}; give fractions "
-                               "(0–1) or percent (0–100, e.g. 85 for 0.85)")
+                               "(0–1) or percent (0–100, e.g. 85 for 0.85; head the column "
+                               "'EQE (%)' to say so)")
     if wl.max() < 50:
         raise TandemInputError(f"EQE file '{path}': wavelengths end at {wl.max():g}; did you mean "
                                f"{wl.max() * 1000:g} nm? give them in nm")

@@ -88,7 +88,8 @@ class NkTableError(ValueError):
 
 def read_nk_table(file: Path) -> tuple[np.ndarray, np.ndarray]:
     """(wavelength nm ascending, ñ = n + ik) from a CSV of wavelength [nm], n, k per row (a
-    header line allowed before the numbers; '#' lines skipped). Raises :class:`NkTableError`."""
+    header line allowed before the numbers, one in µm converted; '#' lines skipped). Raises
+    :class:`NkTableError`."""
     import csv
 
     rows = []
@@ -109,6 +110,12 @@ def read_nk_table(file: Path) -> tuple[np.ndarray, np.ndarray]:
     if data.ndim != 2 or data.shape[0] < 2 or data.shape[1] != 3 or not np.isfinite(data).all():
         raise NkTableError(f"'{file.name}' needs at least two rows of wavelength nm, n, k",
                            "check the file")
+    from tandem.physics.columns import spectrum_units
+
+    try:  # a header in µm ('wavelength_um', 'wavelength [um]') is converted
+        data[:, 0] *= spectrum_units(Path(file).read_text(encoding="utf-8"))[0]
+    except (OSError, UnicodeDecodeError):
+        pass
     data = data[np.argsort(data[:, 0])]
     if np.any(np.diff(data[:, 0]) <= 0) or data[0, 0] <= 0 or np.any(data[:, 1] <= 0) \
             or np.any(data[:, 2] < 0):
