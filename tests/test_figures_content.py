@@ -82,3 +82,17 @@ def test_the_pair_comparison_shows_each_pairs_best_design():
         assert float(star.get_ydata()[0]) == pytest.approx(100 * best.efficiency_2t, rel=1e-12)
         peak = float(np.max(curve.get_ydata()))
         assert 100 * best.efficiency_2t - 0.05 < peak <= 100 * best.efficiency_2t * (1 + 1e-9)
+
+
+def test_a_design_outside_the_declared_ranges_says_so_on_its_figure():
+    m = tandem.match("perovskite-wide", "silicon",
+                     operating=tandem.OperatingPoint(allow_outside_range=True),
+                     sweep=tandem.Sweep(front_gaps_eV=[1.5], thickness_points=10))
+    texts = " ".join(t.get_text() for t in m.plot().texts)
+    assert "outside the absorbers' declared ranges: front gap 1.500 eV outside 1.570–1.923 eV" in texts
+    s = tandem.fabrication_spread("perovskite-wide", "silicon", samples=20, front_gap_eV=1.5,
+                                  operating=tandem.OperatingPoint(allow_outside_range=True))
+    assert any("front gap 1.500 eV outside" in t.get_text() for t in s.plot().texts)
+    inside = tandem.match("perovskite-wide", "silicon", sweep=tandem.Sweep(front_gaps_eV=[1.7],
+                                                                            thickness_points=10))
+    assert "outside" not in " ".join(t.get_text() for t in inside.plot().texts)

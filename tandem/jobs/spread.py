@@ -59,7 +59,8 @@ class SpreadResult(ResultDisplay):
     def plot(self, ax=None):
         from tandem.output.sky_plots import draw_spread
 
-        return draw_spread(self.spread, self.terminals, self.target_pct, ax)
+        return draw_spread(self.spread, self.terminals, self.target_pct, ax,
+                           self.settings.get("outside_range", ()))
 
 
 def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light = Light(),

@@ -157,6 +157,13 @@ def draw_match(result: MatchResult, tolerance=None, ax=None) -> Figure:
                frameon=False)
     ax2.grid(alpha=0.3)
     fig.suptitle("Modelling limits, not measurements", fontsize=8, x=0.99, ha="right", color="0.4")
+    from tandem.design.matching import outside_ranges
+
+    outside = outside_ranges(result.design, best.front_gap_eV, best.front_thickness_nm,
+                             best.back_thickness_nm)
+    if outside:  # allowed by --outside-range, and said on the figure as in the table
+        fig.text(0.01, 0.99, "outside the absorbers' declared ranges: " + "; ".join(outside),
+                 ha="left", va="top", fontsize=8, color="#b00000")
     return fig
 
 

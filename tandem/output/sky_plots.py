@@ -27,8 +27,13 @@ def yield_figures(sweep, best, prefix: str | Path, overwrite: bool = False,
     pair = (f"{sweep.design.front.name} over {sweep.design.back.name}"
             + (f" (stack {stack.key})" if stack is not None else ""))
     # every figure says which design, where: the series' source names the site or file
+    from tandem.design.matching import outside_ranges
+
+    outside = outside_ranges(sweep.design, float(sweep.gaps[i]), float(sweep.thicknesses[j]),
+                             sweep.back_thickness_nm)
     heading = (f"{pair}: front {sweep.gaps[i]:.3f} eV, {sweep.thicknesses[j]:.0f} nm "
-               f"(energy-optimal)\n{sweep.series.source}")
+               f"(energy-optimal)\n{sweep.series.source}"
+               + ("\noutside the absorbers' declared ranges: " + "; ".join(outside) if outside else ""))
     # --- a day: the one with the most light, which shows the noon peak and the red mornings
     days = best.times.normalize()
     daily = {d: float((best.irradiance * best.step_hours)[days == d].sum()) for d in days.unique()}
@@ -136,7 +141,7 @@ def _plain_log_ticks(axis) -> None:
         lambda v, _: f"{v:g}" if v > 0 and f"{v:.0e}"[0] in "235" else ""))
 
 
-def draw_spread(result, terminals=2, target_pct=None, ax=None) -> Figure:
+def draw_spread(result, terminals=2, target_pct=None, ax=None, outside=()) -> Figure:
     """Histogram of the fabrication spread with its percentiles, the nominal and a target."""
     eff = 100 * (result.efficiency_2t if terminals == 2 else result.efficiency_4t)
     nominal = 100 * (result.nominal_2t if terminals == 2 else result.nominal_4t)
@@ -158,6 +163,9 @@ def draw_spread(result, terminals=2, target_pct=None, ax=None) -> Figure:
     ax.set_ylim(top=ax.get_ylim()[1] * 1.3)  # room for the legend above the bars
     ax.legend(fontsize=8, loc="upper left")
     fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7, color="0.4")
+    if outside:  # allowed by --outside-range, and said on the figure
+        fig.text(0.01, 0.99, "outside the absorbers' declared ranges: " + "; ".join(outside),
+                 ha="left", va="top", fontsize=8, color="#b00000")
     return fig
 
 
