@@ -358,3 +358,18 @@ def test_a_manifests_stack_text_never_names_a_file(tmp_path):
         refuse_stack_files("all-thin-film-pair", stack["text"])
     with pytest.raises(tandem.TandemInputError, match="reads a file of its own"):
         run_study(load_scenario(out / "manifest.json", accept_edited=True))
+
+
+def test_every_bundled_scenarios_candidates_can_all_be_swept():
+    # each front and back of each bundled scenario has a front gap above some back's gap and at
+    # least one of the listed back thicknesses in its range (one bundled study failed outright
+    # on that before running a single pair); cheap: no sweep is run
+    from tandem.study.run import back_thicknesses_for
+
+    for name in bundled_scenarios():
+        sc = load_scenario(name)
+        backs = sc.sweep().back_thicknesses_nm
+        for back in sc.backs:
+            assert back_thicknesses_for(back, backs, []) != [], (name, back.key)
+        for front in sc.fronts:
+            assert any(front.gap_range_eV[1] > b.gap_eV for b in sc.backs), (name, front.key)
