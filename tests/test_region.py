@@ -262,8 +262,12 @@ def test_a_bad_scheduler_address_is_one_line_and_leaves_nothing(address, sites, 
     assert not (tmp_path / "r").exists()
 
 
-def test_an_unanswering_scheduler_leaves_no_folder_behind(sites, job, tmp_path):
+def test_an_unanswering_scheduler_leaves_no_folder_behind(sites, job, tmp_path, monkeypatch):
     import socket
+
+    import tandem.jobs.region as region
+
+    monkeypatch.setattr(region, "SCHEDULER_TIMEOUT_S", 2)  # the wait, not the refusal, is long
 
     with socket.socket() as s:  # a free port nobody listens on
         s.bind(("127.0.0.1", 0))

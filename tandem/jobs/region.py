@@ -26,6 +26,7 @@ import numpy as np
 from tandem.core.errors import TandemInputError
 from tandem.core.files import STAMP, check_output_folder, write_whole
 from tandem.jobs.common import ResultDisplay
+from tandem.jobs.fingerprints import file_sha, input_files_sha, stack_text, tandem_version
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.optics.absorbers import Absorber
 
@@ -34,6 +35,7 @@ if TYPE_CHECKING:  # for annotations only: no import cost at run time
     from tandem.design.yields import StackYield
 
 REGION_FORMAT = "tandem-region/1"
+SCHEDULER_TIMEOUT_S = 20  #: how long to wait for a scheduler to answer
 SITE_COLUMNS = ("name", "latitude", "longitude", "altitude_m", "timezone", "weather")
 _NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 ._+-]{0,63}$")
 
@@ -78,7 +80,7 @@ class RegionJob:
 
     def fingerprint(self, spec: SiteSpec) -> str:
         """SHA-256 of everything that changes a site's numbers (resume only on a match)."""
-        text = json.dumps({"site": asdict(spec), "weather": _file_sha(spec.weather),
+        text = json.dumps({"site": asdict(spec), "weather": file_sha(spec.weather),
                            "job": self.job_fingerprint()}, sort_keys=True)
         return hashlib.sha256(text.encode()).hexdigest()
 
@@ -94,28 +96,12 @@ class RegionJob:
                            "reference": repr(self.reference),
                            "cell_temperature_K": self.cell_temperature_K,
                            "cover_index": self.cover_index,
-                           "stack": None if self.stack is None else _stack_text(self.stack),
+                           "stack": None if self.stack is None else stack_text(self.stack),
                            # files named by path count by content, and the tool by version
-                           "files": _input_files_sha(self.operating, self.reference),
-                           "version": _tandem_version()},
+                           "files": input_files_sha(self.operating, self.reference),
+                           "version": tandem_version()},
                           sort_keys=True)
         return hashlib.sha256(text.encode()).hexdigest()
-
-
-def _stack_text(design: StackYield) -> dict:
-    """What a stack job's numbers depend on, as data: the stack file, every layer's resolved
-    optical data (tables by their content), the other layers' thicknesses."""
-    layers = [{"name": x.name, "thickness_nm": x.thickness_nm, "sweep_nm": x.sweep_nm,
-               "coherent": x.coherent, "role": x.role, "source": x.source, "gap_eV": x.gap_eV,
-               "constant": repr(x.constant), "light_trapping": x.light_trapping,
-               "absorber": None if x.absorber is None else x.absorber.path.read_text(encoding="utf-8"),
-               "table": None if x.table is None else hashlib.sha256(
-                   np.ascontiguousarray(x.table[0]).tobytes()
-                   + np.ascontiguousarray(x.table[1]).tobytes()).hexdigest()}
-              for x in design.stack.layers]
-    return {"file": design.stack.path.read_text(encoding="utf-8"), "layers": layers,
-            "ambient": design.stack.ambient_index, "exit": repr(design.stack.exit_index),
-            "others": design.others}
 
 
 def region_job(front: Absorber | str | None, back: Absorber | str | None,
@@ -187,33 +173,6 @@ def region_job(front: Absorber | str | None, back: Absorber | str | None,
     return RegionJob(a_front, a_back, operating, tuple(map(float, gaps)), tuple(map(float, thick)),
                      back_d, period, float(step_minutes), str(tilt), float(albedo), rows,
                      reference, cell_temperature_K, float(cover_index), design)
-
-
-def _input_files_sha(operating: OperatingPoint, reference: Light | None) -> dict:
-    """SHA-256 of every input file a region job names by path: a spectrum CSV and spectral
-    loss CSVs (a resumed site must have used the same numbers, not just the same names)."""
-    named = {k: getattr(operating, k) for k in ("reflectance", "front_parasitic",
-                                                "interlayer_parasitic")}
-    if reference is not None:
-        named["spectrum"] = reference.source
-    return {k: _file_sha(v) for k, v in named.items() if isinstance(v, str) and Path(v).is_file()}
-
-
-def _tandem_version() -> str:
-    from tandem import __version__
-
-    return __version__
-
-
-def _file_sha(path: str | None) -> str | None:
-    if not path:
-        return None
-    try:
-        return hashlib.sha256(Path(path).read_bytes()).hexdigest()
-    except OSError:
-        return None
-
-
 
 
 def read_sites(path: str | Path) -> list[SiteSpec]:
@@ -575,7 +534,7 @@ def _run_distributed(todo, job, scheduler, workers, finished) -> None:
 
     if scheduler:
         try:
-            client = Client(scheduler, timeout="20s")
+            client = Client(scheduler, timeout=f"{SCHEDULER_TIMEOUT_S}s")
         except OSError as exc:
             raise TandemInputError(f"no dask scheduler answers at '{scheduler}' ({exc}); check "
                                    "the address, e.g. tcp://10.0.0.5:8786") from None
