@@ -275,3 +275,19 @@ def test_an_unanswering_scheduler_leaves_no_folder_behind(sites, job, tmp_path, 
     with pytest.raises(tandem.TandemInputError, match="no dask scheduler answers"):
         run_region(sites[:1], job, tmp_path / "r", scheduler=f"tcp://127.0.0.1:{port}")
     assert not (tmp_path / "r").exists()
+
+
+def test_a_region_site_outside_the_declared_ranges_says_so(tmp_path):
+    from tandem.jobs.region import SiteSpec, region_job, site_year
+
+    spec = SiteSpec("Porto Brisa", 38.7, -9.1, 50.0, "Etc/GMT-1")
+    outside = region_job("perovskite-wide", "silicon", OperatingPoint(allow_outside_range=True),
+                         front_gaps_eV=[1.5], thickness_points=2, period="day:2026-06-21")
+    record = site_year(spec, outside)
+    assert record["outside_range"] == "front gap 1.500 eV outside 1.570–1.923 eV"
+    inside = region_job("perovskite-wide", "silicon", front_gaps_eV=[1.7], thickness_points=2,
+                        period="day:2026-06-21")
+    assert site_year(spec, inside)["outside_range"] == ""
+    result = run_region([spec], outside, tmp_path / "r", workers=1)
+    written = write_region_outputs(result)
+    assert any(p.name == "region.nc" for p in written)

@@ -149,6 +149,8 @@ def region(
     out.print(render_table(f"Energy-optimal {pair}, {len(specs)} sites",
                      cols, s["sites"], "energies per m² of module over the period"))
     first = s["sites"][0]
+    say(*(f"* {r['name']}: the energy-optimal design is outside the declared ranges "
+          f"(--outside-range): {r['outside_range']}" for r in s["sites"] if r.get("outside_range")))
     say(f"AM1.5G-optimal design: {first['am15g_front_gap_eV']:.3f} eV, "
          f"{first['am15g_front_thickness_nm']:.0f} nm (its energy at each site: the 'AM1.5G design 2T' column)",
          f"computed {len(s['computed'])} sites, resumed {len(s['resumed'])}; "

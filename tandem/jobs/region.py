@@ -261,7 +261,7 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
     """The energy-optimal design at one site, monofacial (and bifacial with ``job.rows``)."""
     import time
 
-    from tandem.design.matching import StackDesign
+    from tandem.design.matching import StackDesign, outside_ranges
     from tandem.design.sky import Site, clear_sky_series, parse_period
     from tandem.design.weather import weather_series
     from tandem.design.yields import yield_sweep
@@ -306,6 +306,10 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
             f"{label}mismatch_loss_kWh_m2": float(sweep.energy_4t[i, j] - sweep.energy_2t[i, j]),
             f"{label}am15g_design_energy_2t_kWh_m2": float(sweep.energy_2t[a, b]),
             f"{label}energy_2t_grid": sweep.energy_2t.tolist(),
+            # what --outside-range let the energy-optimal design take ("" when all is inside)
+            f"{label}outside_range": "; ".join(outside_ranges(
+                design, float(sweep.gaps[i]), float(sweep.thicknesses[j]),
+                job.back_thickness_nm)),
         })
         if not label:
             out.update({"am15g_front_gap_eV": float(sweep.gaps[a]),
