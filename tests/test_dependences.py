@@ -249,3 +249,8 @@ def test_designs_outside_declared_ranges_are_flagged_in_match_spread_and_yield(t
                             front_gaps_eV=[1.55], front_thicknesses_nm=[400.0])
     assert y.summary()["energy_optimum"]["outside_range"] == [
         "front gap 1.550 eV outside 1.570–1.923 eV"]
+    # a map moves the gaps on purpose; what --outside-range lets it take is the thickness
+    m = tandem.gap_map(operating=tandem.OperatingPoint(allow_outside_range=True),
+                       front_gaps_eV=[1.7], front_absorber="perovskite-wide",
+                       back_absorber="silicon", front_thickness_nm=3000.0)
+    assert m.summary()["outside_range"] == ["front thickness 3000 nm outside 100–1500 nm"]

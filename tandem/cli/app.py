@@ -283,7 +283,9 @@ def gap_map(front: Annotated[Optional[str], plain_option("--front", help="Front 
          f"within {tolerance:g} % abs of best: front gap {fw[0]:.3f}–{fw[1]:.3f} eV"
          + ("" if bw is None else f", back gap {bw[0]:.3f}–{bw[1]:.3f} eV"),
          f"{s['valid_pairs']:,} gap pairs computed (front above back, below degeneracy); {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m², cell "
-         f"{s['temperature_K']:g} K", "wrote " + ", ".join(s["outputs"]))
+         f"{s['temperature_K']:g} K",
+         *[f"* outside the declared range (--outside-range): {x}" for x in s["outside_range"]],
+         "wrote " + ", ".join(s["outputs"]))
     out.print(f"[dim]{escape(s['caution'])}[/]")
 
 

@@ -41,9 +41,13 @@ class MapResult(ResultDisplay):
     marks: tuple = ()
     front_thickness_nm: np.ndarray | None = None
     ere: tuple | None = None
+    #: what --outside-range let the map's absorbers take (their thicknesses; the gaps move on
+    #: purpose), one phrase each
+    outside_range: tuple = ()
 
     def summary(self) -> dict:
-        return map_summary(self.gap_map, self.terminals, self.tolerance_pct)
+        return dict(map_summary(self.gap_map, self.terminals, self.tolerance_pct),
+                    outside_range=list(self.outside_range))
 
     def to_frame(self):
         """One row per valid gap pair."""
@@ -131,6 +135,12 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
                       operating.allow_outside_range)
     result, used = absorber_gap_map(design, cond, fronts, backs, front_thickness_nm,
                                     back_thickness_nm, rematch, progress=progress)
-    return MapResult(result, operating.terminals, tolerance_pct, marks, used)
+    from tandem.design.matching import outside_ranges
+
+    outside = outside_ranges(design, None, None if rematch else (
+        design.front.thickness_nm if front_thickness_nm is None else float(front_thickness_nm)),
+        design.back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm))
+    return MapResult(result, operating.terminals, tolerance_pct, marks, used,
+                     outside_range=tuple(outside))
 
 
