@@ -10,6 +10,7 @@ from __future__ import annotations
 import functools
 import json
 import math
+import os
 import re
 import sys
 from typing import Annotated, Optional
@@ -274,8 +275,6 @@ def parse_range(text: str, option: str, parse=float) -> tuple:
 
 def parse_gap(text: str, option: str) -> float:
     """'1.7', '1.7eV' or '1700meV' → eV; a wavelength ('700nm') is refused with its energy."""
-    import re
-
     t = str(text).strip()
     m = re.fullmatch(r"([-+0-9.eE]+?)\s*(ev|mev|nm)?", t, flags=re.IGNORECASE)
     try:
@@ -294,8 +293,6 @@ def parse_gap(text: str, option: str) -> float:
 
 def parse_gap_option(text, option, default_step=0.02):
     """'1.7' (one gap), '1.6,1.7' (gaps) or 'LO:HI[:STEP]' (a range) → gaps [eV], or None."""
-    import re
-
     from tandem.jobs.inputs import gap_range, gap_values
 
     if text is None:
@@ -426,8 +423,6 @@ def check_outputs(paths, overwrite: bool, plot: bool = False) -> None:
     does not exist yet (or --overwrite), its name is not too long, a figure has a known type."""
     from pathlib import Path
 
-    import os
-
     from tandem.core.files import check_new_output, check_output_folder
 
     given = [p for p in paths if p is not None]
@@ -512,8 +507,7 @@ def stack_over_scenario(stack: str, operating):
     layers are its losses)."""
     import dataclasses
 
-    flat = {k: 0.0 for k in ("reflectance", "front_parasitic", "interlayer_parasitic")
-            if str(getattr(operating, k)).strip() not in ("0", "0.0")}
+    flat = {k: 0.0 for k in operating.optical_losses_given()}
     note = (f"--stack {stack} replaces the scenario's absorbers"
             + (f" and its flat {', '.join(k.replace('_', ' ') for k in flat)}" if flat else ""))
     return dataclasses.replace(operating, **flat), note

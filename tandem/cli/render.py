@@ -21,8 +21,7 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str 
                                "and thicknesses from the stack file (sweep a layer with "
                                "thickness_nm = [thin, thick]) and reports its losses layer by "
                                "layer; drop them")
-    if any(str(o[k]).strip() not in ("0", "0.0", "0%") for k in
-           ("reflectance", "front_parasitic", "interlayer_parasitic")):
+    if build_operating(o).optical_losses_given():
         raise TandemInputError("--stack computes reflection and parasitic absorption layer by "
                                "layer; drop --reflectance, --front-parasitic and "
                                "--interlayer-parasitic")

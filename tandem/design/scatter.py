@@ -43,6 +43,20 @@ class ScatterResult:
         return out
 
 
+def _check_draws(samples: int, seed: int) -> None:
+    """How many devices and which seed, for any spread: one line when out of range."""
+    if not 1 <= samples <= 1_000_000:
+        raise TandemInputError(f"samples {samples}: give 1 to 1,000,000 devices")
+    if not (isinstance(seed, (int, np.integer)) and 0 <= seed < 2**63):
+        raise TandemInputError(f"seed {seed}: give a whole number from 0 up")
+
+
+def _draw_thickness(rng, nominal_nm: float, sigma_pct: float, samples: int) -> np.ndarray:
+    """Thicknesses ~ N(d, σ·d) [nm], floored at 10⁻³·d (a film cannot be thinner than nothing)."""
+    d = nominal_nm * (1 + sigma_pct / 100 * rng.standard_normal(samples))
+    return np.maximum(d, 1e-3 * nominal_nm)
+
+
 def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thickness_nm: float,
             back_thickness_nm: float, gap_sigma_eV: float = 0.01, thickness_sigma_pct: float = 5.0,
             samples: int = 2000, seed: int = 1, chunk: int = 500) -> ScatterResult:
@@ -50,8 +64,7 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
     if not (gap_sigma_eV >= 0 and thickness_sigma_pct >= 0):
         raise TandemInputError("fabrication spreads must be zero or positive (gap σ in eV, "
                                "thickness σ in %)")
-    if not 1 <= samples <= 1_000_000:
-        raise TandemInputError(f"samples {samples}: give 1 to 1,000,000 devices")
+    _check_draws(samples, seed)
     if not (np.isfinite(gap_sigma_eV) and np.isfinite(thickness_sigma_pct)
             and gap_sigma_eV <= 0.5 and thickness_sigma_pct <= 100):
         raise TandemInputError(f"fabrication spreads gap σ {gap_sigma_eV:g} eV, thickness σ "
@@ -59,14 +72,11 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
     design.front.check_gap(front_gap, cond.allow_outside_range)
     design.front.check_thickness(front_thickness_nm, "front thickness", cond.allow_outside_range)
     design.back.check_thickness(back_thickness_nm, "back thickness", cond.allow_outside_range)
-    if not (isinstance(seed, (int, np.integer)) and 0 <= seed < 2**63):
-        raise TandemInputError(f"seed {seed}: give a whole number from 0 up")
     if gap_sigma_eV > 0:
         design.front.check_gap(front_gap + 1e-3, True)  # a tabulated edge cannot move
     rng = np.random.default_rng(seed)
     gaps = front_gap + gap_sigma_eV * rng.standard_normal(samples)
-    thick = front_thickness_nm * (1 + thickness_sigma_pct / 100 * rng.standard_normal(samples))
-    thick = np.maximum(thick, 1e-3 * front_thickness_nm)  # a film cannot be thinner than nothing
+    thick = _draw_thickness(rng, front_thickness_nm, thickness_sigma_pct, samples)
     e2, e4 = np.empty(samples), np.empty(samples)
     for start in range(0, samples, chunk):
         sl = slice(start, start + chunk)
@@ -85,29 +95,25 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
                          float(nominal.efficiency_4t))
 
 
-def _draw_thickness(rng, nominal_nm: float, sigma_pct: float, samples: int) -> np.ndarray:
-    """Thicknesses ~ N(d, σ·d) [nm], floored at 10⁻³·d (a film cannot be thinner than nothing)."""
-    d = nominal_nm * (1 + sigma_pct / 100 * rng.standard_normal(samples))
-    return np.maximum(d, 1e-3 * nominal_nm)
-
-
 def scatter_stack(stack, flux, temperature_K: float, ideality: float, electrical,
-                  nominal_nm: dict, thickness_sigma_pct: float = 5.0, samples: int = 2000,
-                  seed: int = 1, chunk: int = 200, progress=None) -> ScatterResult:
+                  front_thickness_nm: float, others: dict, thickness_sigma_pct: float = 5.0,
+                  samples: int = 2000, seed: int = 1, chunk: int = 200,
+                  progress=None) -> ScatterResult:
     """Every thin film of a layer stack (the coherent layers, front absorber included) drawn
-    ~ N(d, σ·d) independently around ``nominal_nm`` (layer name → nm); thick incoherent
-    layers (glass, the wafer) keep their thickness. Each chunk is one broadcast thin-film
-    solve (:func:`~tandem.design.layerstack.photon_budget`)."""
+    ~ N(d, σ·d) independently around the design: the front absorber at
+    ``front_thickness_nm``, the swept layers at ``others`` (name → nm), every other layer at
+    its file's thickness; thick incoherent layers (glass, the wafer) keep theirs. Each chunk
+    is one broadcast thin-film solve (:func:`~tandem.design.layerstack.photon_budget`)."""
     from tandem.design.layerstack import evaluate_budget, photon_budget
 
     if not (np.isfinite(thickness_sigma_pct) and 0 <= thickness_sigma_pct <= 100):
         raise TandemInputError(f"thickness σ {thickness_sigma_pct:g} %: give 0 to 100 %")
-    if not 1 <= samples <= 1_000_000:
-        raise TandemInputError(f"samples {samples}: give 1 to 1,000,000 devices")
-    if not (isinstance(seed, (int, np.integer)) and 0 <= seed < 2**63):
-        raise TandemInputError(f"seed {seed}: give a whole number from 0 up")
-    rng = np.random.default_rng(seed)
+    _check_draws(samples, seed)
     front = stack.front.name
+    nominal_nm = {x.name: x.thickness_nm for x in stack.layers}
+    nominal_nm.update(others)
+    nominal_nm[front] = float(front_thickness_nm)
+    rng = np.random.default_rng(seed)
     films = [x.name for x in stack.layers if x.coherent]
     draws = {name: _draw_thickness(rng, nominal_nm[name], thickness_sigma_pct, samples)
              for name in films}

@@ -236,6 +236,20 @@ class OperatingPoint:
         r, pf, pi = values
         return (1 - r) * (1 - pf), (1 - r) * (1 - pf) * (1 - pi)
 
+    def optical_losses_given(self) -> list[str]:
+        """The optical losses this operating point sets: a CSV, or a fraction other than 0
+        (a layer stack computes its own, so it refuses them)."""
+        given = []
+        for k in ("reflectance", "front_parasitic", "interlayer_parasitic"):
+            v = getattr(self, k)
+            try:
+                is_zero = float(v) == 0.0
+            except (TypeError, ValueError):
+                is_zero = False  # a file of spectral losses
+            if not is_zero:
+                given.append(k)
+        return given
+
     def losses_on(self, energy_eV):
         """(reflectance, front parasitic, interlayer parasitic) on the energy grid."""
         from tandem.optics.losses import loss_on_grid

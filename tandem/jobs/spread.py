@@ -63,6 +63,14 @@ class SpreadResult(ResultDisplay):
                            self.settings.get("outside_range", ()))
 
 
+def _check_target(target_pct: float | None) -> None:
+    """An efficiency target in (0, 100) %, or none."""
+    if target_pct is not None and not (np.isfinite(target_pct) and 0 < target_pct < 100):
+        from tandem.core.errors import TandemInputError
+
+        raise TandemInputError(f"target {target_pct:g} %: give an efficiency between 0 and 100 %")
+
+
 def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light = Light(),
                        operating: OperatingPoint = OperatingPoint(), *,
                        front_gap_eV: float | None = None, front_thickness_nm: float | None = None,
@@ -84,10 +92,7 @@ def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light
 
     a_front, a_back = absorber_pair(front, back, operating)
     check_work("spread", samples, allow_large=allow_large, what="devices")
-    if target_pct is not None and not (np.isfinite(target_pct) and 0 < target_pct < 100):
-        from tandem.core.errors import TandemInputError
-
-        raise TandemInputError(f"target {target_pct:g} %: give an efficiency between 0 and 100 %")
+    _check_target(target_pct)
     flux = light.photon_flux()
     g = a_front.gap_eV if front_gap_eV is None else float(front_gap_eV)
     flux.check_gap(g, "front gap")
@@ -129,7 +134,6 @@ def fabrication_spread_stack(stack, light: Light = Light(),
     ('organic-pair', True)
     """
     check_types(light=light, operating=operating)
-    from tandem.core.errors import TandemInputError
     from tandem.design.scatter import scatter_stack
     from tandem.jobs.stack_match import stack_input, swept_thicknesses
 
@@ -137,8 +141,7 @@ def fabrication_spread_stack(stack, light: Light = Light(),
     # a layer stack costs about 500 optics-lite devices per device (measured: 62 ms each)
     check_work("spread", 500 * samples, allow_large=allow_large,
                what="device-equivalents (a layer-stack device costs about 500)")
-    if target_pct is not None and not (np.isfinite(target_pct) and 0 < target_pct < 100):
-        raise TandemInputError(f"target {target_pct:g} %: give an efficiency between 0 and 100 %")
+    _check_target(target_pct)
     flux = light.photon_flux()
     origin = "given"
     if front_thickness_nm is None or others is None:
@@ -151,15 +154,14 @@ def fabrication_spread_stack(stack, light: Light = Light(),
         others = best.others if others is None else others
     d = float(front_thickness_nm)
     stack.front.absorber.check_thickness(d, "front thickness", operating.allow_outside_range)
-    nominal = {x.name: x.thickness_nm for x in stack.layers}
-    nominal.update(swept_thicknesses(stack, others))
-    nominal[stack.front.name] = d
+    others = swept_thicknesses(stack, others)
     result = scatter_stack(stack, flux, operating.temperature_K, operating.ideality,
-                           operating.electrical, nominal, thickness_sigma_pct, samples, seed,
+                           operating.electrical, d, others, thickness_sigma_pct, samples, seed,
                            progress=progress)
     settings = {"front": stack.front.absorber.key, "back": stack.back.absorber.key,
                 "stack": stack.key, "nominal_origin": origin,
                 "front_gap_eV": float(result.front_gap_eV[0]), "front_thickness_nm": d,
-                "layers_nm": {k: round(float(nominal[k]), 2) for k in result.layers_nm},
+                "layers_nm": {x.name: round(float(others.get(x.name, x.thickness_nm)), 2)
+                              for x in stack.layers if x.name in result.layers_nm},
                 "gap_sigma_eV": 0.0, "thickness_sigma_pct": thickness_sigma_pct, "seed": seed}
     return SpreadResult(result, operating.terminals, target_pct, settings)

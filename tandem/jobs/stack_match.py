@@ -93,8 +93,7 @@ def stack_input(stack, operating: OperatingPoint):
     from tandem.design.layerstack import LayerStack
     from tandem.design.stack_files import load_stack
 
-    flat = [k for k in ("reflectance", "front_parasitic", "interlayer_parasitic")
-            if str(getattr(operating, k)).strip() not in ("0", "0.0")]
+    flat = operating.optical_losses_given()
     if flat:
         raise TandemInputError(f"{', '.join(k.replace('_', ' ') for k in flat)} with a layer stack: "
                                "the stack computes reflection and parasitic absorption layer by "

@@ -195,11 +195,8 @@ def _stack_site_and_spread(scenario: Scenario, m, series, flux, operating, row: 
         from tandem.design.scatter import scatter_stack
 
         sc = scenario.data["spread"]
-        nominal = {x.name: x.thickness_nm for x in stack.layers}
-        nominal.update(best.others)
-        nominal[stack.front.name] = best.front_thickness_nm
         spread = scatter_stack(stack, flux, operating.temperature_K, operating.ideality,
-                               operating.electrical, nominal,
+                               operating.electrical, best.front_thickness_nm, best.others,
                                float(sc.get("thickness_sigma_pct", 5.0)),
                                int(sc.get("samples", 1000)), int(sc.get("seed", 1)))
         row.update(_spread_columns(spread, scenario))
