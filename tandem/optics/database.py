@@ -92,17 +92,19 @@ def read_nk_table(file: Path) -> tuple[np.ndarray, np.ndarray]:
     :class:`NkTableError`."""
     import csv
 
+    from tandem.physics.columns import spectrum_units
+
     rows = []
     try:
-        with open(file, newline="", encoding="utf-8") as fh:
-            for line in csv.reader(fh):
-                if not line or line[0].strip().startswith("#"):
-                    continue
-                try:
-                    rows.append([float(v) for v in line[:3]])
-                except ValueError:
-                    if rows:  # a header is allowed only before the numbers
-                        raise
+        text = Path(file).read_text(encoding="utf-8")  # read once: numbers and header
+        for line in csv.reader(text.splitlines()):
+            if not line or line[0].strip().startswith("#"):
+                continue
+            try:
+                rows.append([float(v) for v in line[:3]])
+            except ValueError:
+                if rows:  # a header is allowed only before the numbers
+                    raise
     except (ValueError, UnicodeDecodeError, OSError):
         raise NkTableError(f"'{file.name}' is not three numeric columns",
                            "give wavelength nm, n, k per row") from None
@@ -110,12 +112,7 @@ def read_nk_table(file: Path) -> tuple[np.ndarray, np.ndarray]:
     if data.ndim != 2 or data.shape[0] < 2 or data.shape[1] != 3 or not np.isfinite(data).all():
         raise NkTableError(f"'{file.name}' needs at least two rows of wavelength nm, n, k",
                            "check the file")
-    from tandem.physics.columns import spectrum_units
-
-    try:  # a header in µm ('wavelength_um', 'wavelength [um]') is converted
-        data[:, 0] *= spectrum_units(Path(file).read_text(encoding="utf-8"))[0]
-    except (OSError, UnicodeDecodeError):
-        pass
+    data[:, 0] *= spectrum_units(text)[0]  # a header in µm ('wavelength_um') is converted
     data = data[np.argsort(data[:, 0])]
     if np.any(np.diff(data[:, 0]) <= 0) or data[0, 0] <= 0 or np.any(data[:, 1] <= 0) \
             or np.any(data[:, 2] < 0):

@@ -16,6 +16,7 @@ p = 1/2 direct, p = 2 indirect/amorphous).
 from __future__ import annotations
 
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Callable, ClassVar, Protocol
 
 import numpy as np
@@ -187,8 +188,7 @@ def _read_bands(c: Checker, urbach_eV: float, onset_eV: float) -> BandEdge:
 
 
 #: Units a table's header may state, as the factor to nm, eV or cm⁻¹.
-_X_UNITS = {"wavelength_nm": {"nm": 1.0, "um": 1e3, "µm": 1e3, "micron": 1e3},
-            "energy_eV": {"ev": 1.0, "mev": 1e-3}}
+_ENERGY_UNITS = {"ev": 1.0, "mev": 1e-3}
 _ALPHA_UNITS = {"cm": 1.0, "m": 1e-2, "um": 1e4, "µm": 1e4, "mm": 10.0}
 
 
@@ -206,7 +206,7 @@ def table_units(text: str, axis: str) -> tuple[float, float]:
     """
     import re
 
-    from tandem.physics.columns import header_cells
+    from tandem.physics.columns import header_cells, wavelength_factor
 
     header = header_cells(text)
     if header is None:
@@ -225,12 +225,28 @@ def table_units(text: str, axis: str) -> tuple[float, float]:
     if axis == "energy_eV" and says_wavelength and not says_energy:
         raise TableHeaderError(f"heads its first column '{header[0].strip()}' while table_axis "
                                "is energy_eV", "remove table_axis (wavelengths in nm)")
-    units = _X_UNITS[axis]
-    x_scale = next((units[w] for w in words if w in units), 1.0)
+    x_scale = (wavelength_factor(first) if axis == "wavelength_nm"
+               else next((_ENERGY_UNITS[w] for w in words if w in _ENERGY_UNITS), 1.0))
     # the α column: 'alpha_per_m', 'alpha [1/m]', 'alpha (m^-1)', 'a_cm-1' ...
     unit = re.search(r"(?:per[_ ]?|1/|/)(cm|mm|um|µm|m)\b|\b(cm|mm|um|µm|m)\s*(?:\^?-1|⁻¹)", second)
     alpha_scale = _ALPHA_UNITS[unit.group(1) or unit.group(2)] if unit else 1.0
     return x_scale, alpha_scale
+
+
+def _beside(c: Checker, key: str, rel: str) -> Path:
+    """The data file ``[absorption] key`` names, beside the absorber file (or one line)."""
+    path = c.path.parent / rel
+    if not path.is_file():
+        c.fail(f"absorption.{key}", f"= '{path.name}' not found next to the absorber file",
+               "put the CSV beside the .toml or fix the path")
+    return path
+
+
+def _refuse_outside_sun(c: Checker, key: str, path: Path, energy, verb: str, likely: str) -> None:
+    """A table whose energies meet none of any solar spectrum (0.3–4.5 eV) is a unit mistake."""
+    if energy.max() < 0.3 or energy.min() > 4.5:
+        c.fail(f"absorption.{key}", f"'{path.name}' {verb} {energy.min():.3g}–{energy.max():.3g} "
+               "eV, none of the solar spectrum (0.3–4.5 eV)", likely)
 
 
 def _read_table(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
@@ -240,10 +256,7 @@ def _read_table(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
     axis = c.get("absorption", "table_axis", "wavelength_nm")
     if axis not in ("wavelength_nm", "energy_eV"):
         c.fail("absorption.table_axis", f"= {axis!r} is not known", "use 'wavelength_nm' or 'energy_eV'")
-    path = c.path.parent / rel
-    if not path.is_file():
-        c.fail("absorption.table", f"= '{path.name}' not found next to the absorber file",
-               "put the CSV beside the .toml or fix the path")
+    path = _beside(c, "table", rel)
     x_name = "wavelength [nm]" if axis == "wavelength_nm" else "energy [eV]"
     # one read: the numbers, and the header that states their units
     path, text = read_data_text(path, "absorption table", f"{x_name}, alpha [cm^-1]")
@@ -255,12 +268,11 @@ def _read_table(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
         c.fail("absorption.table", f"'{path.name}' {exc.args[0]}", exc.args[1])
     x, alpha = data[:, 0] * x_scale, data[:, 1] * alpha_scale
     energy = HC_EV_NM / x if axis == "wavelength_nm" else x
-    if energy.max() < 0.3 or energy.min() > 4.5:  # none of any solar spectrum
-        likely = ("wavelengths in µm? head the column wavelength_um, or give nm"
-                  if axis == "wavelength_nm" and x.max() < 20 else
-                  "energies in eV? check table_axis" if axis == "energy_eV" else "check the unit")
-        c.fail("absorption.table", f"'{path.name}' covers {energy.min():.3g}–{energy.max():.3g} "
-               "eV, none of the solar spectrum (0.3–4.5 eV)", likely)
+    _refuse_outside_sun(c, "table", path, energy, "covers",
+                        "wavelengths in µm? head the column wavelength_um, or give nm"
+                        if axis == "wavelength_nm" and x.max() < 20 else
+                        "energies in eV? check table_axis" if axis == "energy_eV" else
+                        "check the unit")
     order = np.argsort(energy)
     if np.any(np.diff(energy[order]) <= 0):
         c.fail("absorption.table", f"'{path.name}' repeats a point", "remove duplicate rows")
@@ -284,10 +296,7 @@ def _read_nk(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
     rel = c.get("absorption", "nk_table")
     if rel is None:
         c.fail("absorption.nk_table", "is missing", "give the CSV of wavelength nm, n, k")
-    path = c.path.parent / rel
-    if not path.is_file():
-        c.fail("absorption.nk_table", f"= '{path.name}' not found next to the absorber file",
-               "put the CSV beside the .toml or fix the path")
+    path = _beside(c, "nk_table", rel)
     try:
         wavelength, nk = read_nk_table(path)
     except NkTableError as exc:
@@ -298,9 +307,7 @@ def _read_nk(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
         c.fail("absorption.nk_table", f"'{path.name}' has fewer than two rows with k > 0",
                "give the absorbing range: α = 4πk/λ needs k > 0")
     energy = HC_EV_NM / wavelength[keep]
-    if energy.max() < 0.3 or energy.min() > 4.5:
-        c.fail("absorption.nk_table", f"'{path.name}' absorbs only at {energy.min():.3g}–"
-               f"{energy.max():.3g} eV, none of the solar spectrum (0.3–4.5 eV)", "check the unit")
+    _refuse_outside_sun(c, "nk_table", path, energy, "absorbs only at", "check the unit")
     order = np.argsort(energy)
     return TabulatedEdge(energy[order], alpha[keep][order], urbach_eV, f"n,k table {rel}",
                          (wavelength, nk.real))

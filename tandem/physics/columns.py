@@ -119,6 +119,19 @@ def header_cells(text: str) -> list[str] | None:
     return None
 
 
+#: wavelength units a header may state, as the factor to nm
+WAVELENGTH_UNITS = {"nm": 1.0, "um": 1e3, "µm": 1e3, "micron": 1e3, "microns": 1e3}
+
+
+def wavelength_factor(cell: str) -> float:
+    """The factor to nm of a header cell naming a wavelength unit ('wavelength_um',
+    'wavelength [µm]', 'lambda (nm)'); 1 when it names none."""
+    import re
+
+    words = re.split(r"[^a-zµ]+", cell.strip().lower())
+    return next((WAVELENGTH_UNITS[w] for w in words if w in WAVELENGTH_UNITS), 1.0)
+
+
 def spectrum_units(text: str) -> tuple[float, float]:
     """Factors taking a spectrum file's columns to nm and W m⁻² nm⁻¹, from its header
     (``wavelength_um``, ``irradiance [W/m2/um]``, ``W m-2 µm-1`` ...); without one, nm and
@@ -129,8 +142,7 @@ def spectrum_units(text: str) -> tuple[float, float]:
     x_scale = y_scale = 1.0
     if header is not None and len(header) >= 2:
         first, second = (h.strip().lower().replace("µ", "u") for h in header[:2])
-        if re.search(r"\b(um|micron|microns)\b|_um\b|\(um\)|\[um\]", first.replace("_", " _")):
-            x_scale = 1e3
+        x_scale = wavelength_factor(first)
         # per µm: '/um', 'um-1', 'um^-1', 'um⁻¹', '_um' at the end of a unit run
         if re.search(r"(/\s*um\b|\bum\s*(\^?-1|⁻¹)|_um\b)", second):
             y_scale = 1e-3
