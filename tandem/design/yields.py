@@ -132,6 +132,11 @@ def _bins(series: SpectralSeries, width_K):
         yield float(t[idx].mean()), idx, t[idx]
 
 
+def bin_count(series: SpectralSeries, width_K: float = 2.0) -> int:
+    """How many cell-temperature bins :func:`_bins` makes of the series."""
+    return int(np.unique(np.round(np.asarray(series.cell_temperature_K) / width_K)).size)
+
+
 def _j0_nodes(t_cell):
     """Chebyshev temperatures spanning the bin's steps, and the Lagrange weights (n_h, m)
     that interpolate a function of 1/T at each step from them.

@@ -234,8 +234,6 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     return YieldResult(sweep, best)
 
 
-
-
 def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint(), *,
                        front_thicknesses_nm=None, thickness_points: int = 16, others=None,
                        reference: Light = Light(), progress: Progress | None = None,
@@ -273,8 +271,10 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
     design, thick = stack_yield_design(stack, operating, reference, others, front_thicknesses_nm,
                                        thickness_points, MAX_YIELD_THICKNESSES)
     gaps = np.array([design.front_gap_eV])
-    check_work("yield", series.times.size * thick.size * 4, allow_large=allow_large,
-               what="step × design evaluations (a layer stack costs about four)")
+    from tandem.design.yields import bin_count
+
+    check_work("yield --stack", bin_count(series) * thick.size, allow_large=allow_large,
+               what="temperature bin × front thickness solves (films and wafer each)")
     back_d = design.back_thickness_nm
     sweep = yield_sweep(design, series, gaps, thick, back_d, reference.photon_flux(),
                         operating.ideality, operating.electrical, progress=progress,
@@ -282,7 +282,6 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
     best = hourly(design, series, gaps[0], sweep.thicknesses[sweep.optimum[1]], back_d,
                   operating.ideality, operating.electrical)
     return YieldResult(sweep, best)
-
 
 
 def stack_yield_design(stack, operating: OperatingPoint, reference: Light, others=None,
