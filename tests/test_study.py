@@ -237,6 +237,18 @@ def test_the_study_writes_each_designs_loss_breakdown(small):
         assert (out / "figures" / f"losses-{front}-over-{back}.png").stat().st_size > 10_000
 
 
+def test_study_figures_and_captions_name_the_absorbers_not_their_file_keys(small):
+    import re
+
+    _, study, out = small
+    report = (out / "report.html").read_text(encoding="utf-8")
+    captions = re.findall(r"<figcaption>(.*?)\(<code>", report)
+    for (front, back), r in study.results.items():
+        title = f"{r.design.front.name} over {r.design.back.name}"
+        assert sum(title in c for c in captions) == 2  # its match and its loss waterfall
+        assert not any(f"{front} over {back}" in c for c in captions)
+
+
 STACK_STUDY = """title = "Optics-lite pair against a real layer stack"
 question = "How far does a real stack fall below the optics-lite design of the same absorbers?"
 

@@ -39,6 +39,11 @@ class StackDesign:
     def swapped(self) -> StackDesign:
         return replace(self, front=self.back, back=self.front)
 
+    @property
+    def title(self) -> str:
+        """The pair as figures and reports name it: the absorbers' names, not their file keys."""
+        return f"{self.front.name} over {self.back.name}"
+
 
 @dataclass(frozen=True)
 class Conditions:

@@ -407,13 +407,13 @@ def draw_pair_comparison(results: dict, terminals: int = 2, ax=None) -> Figure:
     the best design with a star."""
     fig, ax = plt.subplots(figsize=(7.5, 4.6)) if ax is None else (ax.figure, ax)
     colours = (FRONT_COLOUR, BACK_COLOUR) + LAYER_COLOURS
-    for k, ((front, back), r) in enumerate(results.items()):
+    for k, r in enumerate(results.values()):
         sweep, best = r.best_sweep, r.configurations[0]
         eff = 100 * (sweep.performance.efficiency_2t if terminals == 2
                      else sweep.performance.efficiency_4t)
         colour = colours[k % len(colours)]
         ax.plot(sweep.front_thickness_nm, eff, color=colour, lw=1.4,
-                label=f"{front} over {back} ({sweep.front_gap_eV:.3f} eV)")
+                label=f"{r.design.title} ({sweep.front_gap_eV:.3f} eV)")
         best_eff = 100 * (best.efficiency_2t if terminals == 2 else best.efficiency_4t)
         ax.plot([best.front_thickness_nm], [best_eff], "*", color=colour, ms=11, mec="k",
                 mew=0.5, clip_on=False, zorder=5)

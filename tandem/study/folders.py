@@ -132,7 +132,7 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
         match_figure(result, folder / f"match-{front}-over-{back}.png",
                      tolerance=tolerance_windows(result, study.scenario.tolerance_pct))
         breakdown_figure(match_breakdown(result), folder / f"losses-{front}-over-{back}.png",
-                         f"{front} over {back}: where the incident power goes")
+                         f"{result.design.title}: where the incident power goes")
     for key, m in study.stacks.items():
         from types import SimpleNamespace
 

@@ -47,11 +47,14 @@ _CAPTIONS = (("compare-pairs", "The candidate pairs side by side: efficiency aga
                          "map), the candidates marked"))
 
 
-def _caption(name: str) -> str:
+def _caption(name: str, titles: dict[str, str]) -> str:
+    """A figure's caption from its file name; ``titles`` names a pair's file stem
+    (``front-over-back``) by its absorbers' names, as the figures themselves do."""
     stem = name.rsplit(".", 1)[0]
     for prefix, text in _CAPTIONS:
         if stem.startswith(prefix):
-            what = stem[len(prefix):].replace("-over-", " over ")
+            what = stem[len(prefix):]
+            what = titles.get(what, what.replace("-over-", " over "))
             return f"{text}{': ' + what if what else ''}."
     return stem
 
@@ -103,8 +106,10 @@ def html_report(study: StudyResult, svgs: dict[str, str], manifest: dict, rerun:
         conditions.append(("fabrication spread", f"front gap σ {s.get('gap_sigma_eV', 0.01):g} eV "
                                                  f"(pairs), thickness σ {s.get('thickness_sigma_pct', 5.0):g} %, "
                                                  f"{s.get('samples', 1000)} devices, seed {s.get('seed', 1)}"))
+    titles = {f"{f}-over-{b}": r.design.title for (f, b), r in study.results.items()}
+    titles.update((key, m.stack.title) for key, m in study.stacks.items())
     figures = "\n".join(
-        f'<figure id="figure-{n}">{_inline_svg(svg, n)}<figcaption>{e(_caption(name))} '
+        f'<figure id="figure-{n}">{_inline_svg(svg, n)}<figcaption>{e(_caption(name, titles))} '
         f"(<code>figures/{e(name)}</code>)</figcaption></figure>"
         for n, (name, svg) in enumerate(sorted(svgs.items(), key=_figure_order), 1))
     tool = manifest.get("tool", {})
