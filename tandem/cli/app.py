@@ -177,7 +177,7 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
     s = result.summary()
     if plot:
         write_plot(result, plot, overwrite)
-    title = f"{result.design.title}, the best configuration"
+    title = f"{result.result.design.title}, the best configuration"
     if json_out:
         if losses:
             s["loss_breakdown"] = show_breakdown(result, losses, overwrite, title, json_out)
