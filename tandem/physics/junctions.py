@@ -55,6 +55,14 @@ class _Cells:
                                 self.b[..., i], self.n, self.vt, self.ideal, self.r_shunt,
                                 self._terms[i])
 
+    def current(self, i: int, v, extra=0.0):
+        """Current out of subcell i's junction at junction voltage ``v`` (its diodes, shunt and
+        extra terms, with ``extra`` photocurrent), explicit in ``v`` [A/m²]."""
+        x = v / self.vt
+        return (self.j_light[..., i] + extra - self.a[..., i] * np.expm1(x)
+                - self.b[..., i] * np.expm1(x / self.n) - v / self.r_shunt
+                - sum(t.current(v, self.vt) for t in self._terms[i]))
+
     def alone(self, i: int) -> "_Cells":
         """Subcell i as a one-cell chain (no coupling)."""
         return _Cells(self.j_light[..., i:i + 1], self.a[..., i:i + 1], self.b[..., i:i + 1],
@@ -154,6 +162,16 @@ def _bisect(f, lo, hi, iterations: int = 52):
         above = f(mid) > 0
         lo, hi = np.where(above, mid, lo), np.where(above, hi, mid)
     return 0.5 * (lo + hi)
+
+
+def _bounded_maximum(power, lo, hi):
+    """:func:`~tandem.physics.detailed_balance.golden_maximum` that also tries both ends: a
+    maximum on the boundary (a junction held at open circuit, where its current is steep in
+    its voltage) is then taken exactly, not 2e-7 of the bracket short of it."""
+    x = db.golden_maximum(power, lo, hi, iterations=GOLDEN_STEPS)
+    for end in (lo, hi):
+        x = np.where(power(end) > power(x), end, x)
+    return x
 
 
 def _chain_maximum(chain_voltage, j_high, r_series: float):
@@ -331,3 +349,102 @@ def _series_along(cells: _Cells, k: int, j_high, r_series: float):
     j, v, vk = np.where(dead, 0.0, j), np.where(dead, 0.0, v), np.where(dead, 0.0, vk)
     v_sub = np.stack([vk if i == k else cells.voltage(i, j) for i in range(m)], axis=-1)
     return j, v, j * v, v_sub, np.maximum(voc, 0.0), np.where(alive, current(v_sc), 0.0)
+
+
+def _three_terminal(cells: _Cells, r_series_stack: float, r_middle: float, reverse: bool):
+    """Two subcells with a third (middle) contact and two independent loads, the stack's
+    resistance shared as its contacts share it.
+
+    Lumped circuit (after Warren et al., Sustainable Energy Fuels 2 (2018) 1141, recalled):
+    the top circuit carries R_s/2, the bottom circuit R_s/2 (so with the middle contact
+    open the series chain carries R_s, as with two terminals), and the middle contact its own
+    R_m. Its current is the difference J_f − J_b of the subcell currents in the series type
+    (``reverse`` False: the back's polarity continues the front's) and their sum in the
+    reverse type. The power V_f·J_f + V_b·J_b − (R_s/2)(J_f² + J_b²) − R_m·J_m² is
+    maximised over both junction voltages, each between short and open circuit, so every
+    junction delivers power: an inner golden search over the back's voltage (the power is
+    concave in its current, hence unimodal in its voltage) inside one over the front's.
+    Currents are explicit in junction voltage, so no step solves a diode; coupling hands the
+    back the front's emission at the front's voltage.
+
+    Returns p (...), j (..., 2) the subcell currents, v (..., 2) the two loads' voltages
+    (top to middle, back circuit) [W/m², A/m², V].
+    """
+    r = r_series_stack / 2
+    zeros = np.zeros(cells.j_light.shape[:-1])
+
+    def middle(jf, jb):
+        return jf + jb if reverse else jf - jb
+
+    def back_light(vf):
+        return cells.back_gain(vf) if cells.coupled else 0.0
+
+    def back_voltage(vf, jf):
+        gain = back_light(vf)
+
+        def power(vb):
+            jb = cells.current(1, vb, gain)
+            return vb * jb - r * jb**2 - r_middle * middle(jf, jb) ** 2
+
+        voc_b = np.maximum(cells.voltage(1, 0.0, gain), 0.0) + zeros
+        return _bounded_maximum(power, zeros, voc_b)
+
+    def operating(vf):
+        jf = cells.current(0, vf)
+        vb = back_voltage(vf, jf)
+        jb = cells.current(1, vb, back_light(vf))
+        jm = middle(jf, jb)
+        return jf, jb, jm, vb
+
+    def total(vf):
+        jf, jb, jm, vb = operating(vf)
+        return vf * jf + vb * jb - r * (jf**2 + jb**2) - r_middle * jm**2
+
+    voc_f = np.maximum(cells.voltage(0, 0.0), 0.0) + zeros
+    vf = _bounded_maximum(total, zeros, voc_f)
+    jf, jb, jm, vb = operating(vf)
+    load_f = vf - r * jf - r_middle * jm
+    load_b = vb - r * jb + (-r_middle * jm if reverse else r_middle * jm)
+    p = load_f * jf + load_b * jb
+    dead = ~(p > 0)
+    j = np.where(dead[..., None], 0.0, np.stack([jf, jb], -1))
+    v = np.where(dead[..., None], 0.0, np.stack([load_f, load_b], -1))
+    return np.where(dead, 0.0, p), j, v
+
+
+def _voltage_matched(cells: _Cells, r_series_stack: float, ratio: tuple[int, int]):
+    """Strings of m front subcells and of n back subcells in parallel at one voltage
+    V = m·V_f = n·V_b (a four-terminal module wired without separate electronics); each
+    circuit carries R_s/2 as in four terminals. Power per stack P_f(V_f) + P_b(V_b), maximised
+    over the front's junction voltage by golden section; the back's junction voltage for its
+    terminal voltage V_b = (m/n)·V_f by bisection (the terminal voltage rises with it).
+
+    Returns p (...), v (..., 2) the subcells' terminal voltages [W/m², V].
+    """
+    m, n = ratio
+    r = r_series_stack / 2
+    zeros = np.zeros(cells.j_light.shape[:-1])
+
+    def operating(vf):
+        jf = cells.current(0, vf)
+        v_front = vf - r * jf
+        target = v_front * m / n
+        gain = cells.back_gain(vf) if cells.coupled else 0.0
+        if r == 0:
+            vb = target
+        else:
+            voc_b = cells.voltage(1, 0.0, gain) + zeros
+            vb = _bisect(lambda v: target - v + r * cells.current(1, v, gain),
+                         np.minimum(target, voc_b), np.maximum(target, voc_b))
+        return jf, v_front, cells.current(1, vb, gain), target
+
+    def total(vf):
+        jf, v_front, jb, v_back = operating(vf)
+        return jf * v_front + jb * v_back
+
+    voc_f = np.maximum(cells.voltage(0, 0.0), 0.0) + zeros
+    vf = db.golden_maximum(total, zeros, voc_f, iterations=GOLDEN_STEPS)
+    jf, v_front, jb, v_back = operating(vf)
+    p = jf * v_front + jb * v_back
+    dead = ~(p > 0)
+    return np.where(dead, 0.0, p), np.where(dead[..., None], 0.0, np.stack([v_front, v_back], -1))

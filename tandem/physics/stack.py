@@ -16,7 +16,14 @@ from tandem.core.errors import TandemInputError
 from tandem.core.units import K_B_EV
 from tandem.physics import detailed_balance as db
 from tandem.physics.emission import StepEmission
-from tandem.physics.junctions import _Cells, _coupled_four_terminal, _own_mpp, _series_general
+from tandem.physics.junctions import (
+    _Cells,
+    _coupled_four_terminal,
+    _own_mpp,
+    _series_general,
+    _three_terminal,
+    _voltage_matched,
+)
 from tandem.physics.recombination import BulkRecombination
 from tandem.physics.spectra import PhotonFlux
 
@@ -43,6 +50,15 @@ class Electrical:
         its front-face emission for index n) as a loss. Off: the published convention of
         emission through the front only (a perfect selective reflector between the subcells,
         De Vos 1980).
+    middle_contact : three terminals only: ``"s"`` (series type: the back continues the
+        front's polarity, the middle contact carries the difference of the subcell currents)
+        or ``"r"`` (reverse type: the back's polarity is reversed, the middle contact carries
+        their sum).
+    middle_resistance_ohm_cm2 : three terminals only: the middle contact's own resistance
+        [Ω·cm²], beside R_s/2 in each circuit (see :func:`~tandem.physics.junctions._three_terminal`).
+        0: three terminals reach the four-terminal power.
+    string_ratio : (m, n): strings of m front and n back subcells in series, in parallel at
+        one voltage (voltage matching of a four-terminal module); None: not computed.
 
     Examples
     --------
@@ -55,6 +71,9 @@ class Electrical:
     series_resistance_ohm_cm2: float = 0.0
     shunt_resistance_ohm_cm2: float = math.inf
     rear_emission: bool = False
+    middle_contact: str = "s"
+    middle_resistance_ohm_cm2: float = 0.0
+    string_ratio: tuple[int, int] | None = None
 
     def __post_init__(self):
         if not 0.0 <= self.coupling <= 1.0:
@@ -65,6 +84,18 @@ class Electrical:
         if not self.shunt_resistance_ohm_cm2 > 0:
             raise TandemInputError(f"shunt resistance {self.shunt_resistance_ohm_cm2:g} Ω·cm²: "
                                    "give a positive value (inf for none)")
+        if self.middle_contact not in ("s", "r"):
+            raise TandemInputError(f"middle contact {self.middle_contact!r}: choose s (series "
+                                   "type) or r (reverse type)")
+        if not (self.middle_resistance_ohm_cm2 >= 0 and math.isfinite(self.middle_resistance_ohm_cm2)):
+            raise TandemInputError(f"middle-contact resistance {self.middle_resistance_ohm_cm2:g} "
+                                   "Ω·cm²: give a finite value ≥ 0")
+        if self.string_ratio is not None and not (
+                len(self.string_ratio) == 2
+                and all(isinstance(k, int) and not isinstance(k, bool) and 1 <= k <= 20
+                        for k in self.string_ratio)):
+            raise TandemInputError(f"string ratio {self.string_ratio!r}: give two whole numbers "
+                                   "of cells from 1 to 20, front:back, e.g. 1:2")
 
     @property
     def resistive(self) -> bool:
@@ -113,6 +144,11 @@ class StackPerformance:
     irradiance: float  #: incident power [W/m²]
     bulk: BulkRecombination | None = None  #: Auger recombination in the subcells' bulk
     emission: StepEmission | None = None  #: exact emission's excess where it was used
+    p_3t: np.ndarray | None = None  #: (...) three-terminal maximum power (two subcells)
+    j_3t: np.ndarray | None = None  #: (..., m) each subcell's current there
+    v_3t: np.ndarray | None = None  #: (..., m) the two loads' voltages there (top, back)
+    p_vm: np.ndarray | None = None  #: (...) voltage-matched strings' power (a string ratio set)
+    v_vm: np.ndarray | None = None  #: (..., m) each subcell's terminal voltage there
 
     @property
     def j0(self) -> np.ndarray:
@@ -127,6 +163,21 @@ class StackPerformance:
     @property
     def efficiency_2t(self) -> np.ndarray:
         return self.p_2t / self.irradiance
+
+    @property
+    def efficiency_3t(self) -> np.ndarray:
+        return self.power(3) / self.irradiance
+
+    def power(self, terminals: int) -> np.ndarray:
+        """Maximum power with 2 (series), 3 (middle contact) or 4 terminals [W/m²]."""
+        if terminals == 3:
+            if self.p_3t is None:
+                raise TandemInputError("three terminals need two subcells")
+            return self.p_3t
+        return self.p_2t if terminals == 2 else self.p_4t
+
+    def efficiency(self, terminals: int) -> np.ndarray:
+        return self.power(terminals) / self.irradiance
 
     @property
     def efficiency_4t(self) -> np.ndarray:
@@ -339,9 +390,20 @@ def _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, emission, irradi
         jsc_2t = np.min(jl_s, axis=-1)
     else:
         j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t = _series_general(cells, r_series)
+    p_3t = j_3t = v_3t = p_vm = v_vm = None
+    if m == 2:
+        r_middle = electrical.middle_resistance_ohm_cm2 * OHM_CM2
+        if r_middle > 0:
+            p_3t, j_3t, v_3t = _three_terminal(cells, r_series, r_middle,
+                                               electrical.middle_contact == "r")
+        else:  # no middle-contact loss: each circuit at its own maximum, as with four
+            p_3t, j_3t, v_3t = np.sum(p_own, axis=-1), j_own, v_own
+        if electrical.string_ratio is not None:
+            p_vm, v_vm = _voltage_matched(cells, r_series, electrical.string_ratio)
     return StackPerformance(j_light, j0_rad + j0_rear, j0_nr, float(ideality), voc, jsc, p_own,
                             j_own, v_own, j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t,
-                            float(irradiance), bulk, emission)
+                            float(irradiance), bulk, emission, p_3t=p_3t, j_3t=j_3t, v_3t=v_3t,
+                            p_vm=p_vm, v_vm=v_vm)
 
 
 def reference_current_above(gap_eV) -> np.ndarray:
