@@ -83,7 +83,19 @@ def limit(gap_text: Annotated[list[str], typer.Argument(
     if two:
         verb = "limits the current" if s["terminals"] == 2 else "would limit in series"
         say(f"limiting subcell: {s['limiting_subcell']} {verb} (mismatch {s['mismatch_pct']:.2f} %); "
-             f"2T {s['efficiency_2t_pct']:.2f} %, 4T {s['efficiency_4t_pct']:.2f} %")
+             f"2T {s['efficiency_2t_pct']:.2f} %, "
+             + (f"3T {s['efficiency_3t_pct']:.2f} %, " if "efficiency_3t_pct" in s else "")
+             + f"4T {s['efficiency_4t_pct']:.2f} %")
+        if "three_terminal" in s:
+            t = s["three_terminal"]
+            say(f"three terminals ({t['middle_contact']}, middle contact {t['middle_resistance_ohm_cm2']:g} "
+                f"Ω·cm²): front load {t['front_load_V']:.3f} V at {t['front_current_mA_cm2']:.2f} mA/cm², "
+                f"back load {t['back_load_V']:.3f} V at {t['back_current_mA_cm2']:.2f} mA/cm², middle "
+                f"contact {t['middle_current_mA_cm2']:.2f} mA/cm²")
+        if "voltage_matched" in s:
+            vm = s["voltage_matched"]
+            say(f"voltage-matched strings {vm['ratio']} (front:back cells): {vm['efficiency_pct']:.2f} % "
+                f"at {vm['string_V']:.3f} V a string (front {vm['front_V']:.3f} V, back {vm['back_V']:.3f} V)")
     say(f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K",
          *[f"note: {n}" for n in s["spectrum_notes"] + s["model_notes"]])
     if losses:
@@ -268,9 +280,13 @@ def gap_map(front: Annotated[Optional[str], plain_option("--front", help="Front 
             rematch=rematch, tolerance_pct=tolerance, marks=marks, progress=progress_callback(bar),
             allow_large=large)
     s, table = result.summary(), result.to_frame()
+    el = build_operating(o).electrical
+    note = (f"three terminals, {el.middle_contact}-type: middle contact {el.middle_resistance_ohm_cm2:g} "
+            f"Ω·cm², series {el.series_resistance_ohm_cm2:g} Ω·cm² (R_s/2 a circuit)"
+            if o["terminals"] == 3 else None)
     written = map_figures(result.gap_map, o["terminals"], tolerance, marks, output, overwrite, {
         ".csv": lambda p: write_csv(table, p),
-        ".parquet": lambda p: write_parquet(table, p)})
+        ".parquet": lambda p: write_parquet(table, p)}, note=note)
     s["outputs"] = [str(p) for p in written]
     if json_out:
         return emit_json(s)
@@ -280,6 +296,8 @@ def gap_map(front: Annotated[Optional[str], plain_option("--front", help="Front 
          f"eV / back {opt['back_gap_eV']:.3f} eV (2T {opt['efficiency_2t_pct']:.2f} %, 4T "
          f"{opt['efficiency_4t_pct']:.2f} %; limiting subcell {opt['limiting_subcell']}, mismatch "
          f"{opt['mismatch_pct']:.2f} %)",
+         *([f"three terminals recover up to {s['largest_3t_gain_over_2t_pct_abs']:.2f} % abs over two "
+            "(second panel of the figure)"] if o["terminals"] == 3 else []),
          f"within {tolerance:g} % abs of best: front gap {fw[0]:.3f}–{fw[1]:.3f} eV"
          + ("" if bw is None else f", back gap {bw[0]:.3f}–{bw[1]:.3f} eV"),
          f"{s['valid_pairs']:,} gap pairs computed (front above back, below degeneracy); {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m², cell "

@@ -158,6 +158,13 @@ def energy_yield(
         "η_E: energy-weighted efficiency (energy ÷ plane-of-array insolation)"))
     say(*[f"* the energy-optimal design is outside the declared range (--outside-range): {x}"
           for x in eo["outside_range"]])
+    if len(s["connections"]) > 2:  # three terminals or voltage-matched strings asked for
+        out.print(render_table("Energy by connection, each at its own energy-optimal design", [
+            ("connection", lambda r: r["connection"]),
+            ("energy", lambda r: energy_text(r["energy_kWh_m2"])),
+            ("η_E %", field_text("energy_weighted_efficiency_pct")),
+            ("front gap eV", field_text("front_gap_eV", "{:.3f}")),
+            ("front nm", field_text("front_thickness_nm", "{:.0f}"))], s["connections"]))
     e4 = s["energy_optimum_4t"]
     say(f"{s['source']}: {s['steps']:,} steps, {energy_text(s['insolation_kWh_m2'])} on the module plane; "
          f"spectra in a rank-{s['spectral_basis']['rank']} basis (photocurrents within "

@@ -85,8 +85,16 @@ Temperature = Annotated[Optional[str], plain_option(help="Cell temperature with 
                                             metavar="TEMP")]
 OutsideRange = Annotated[bool, flag_option("--outside-range", help="Accept gaps and thicknesses outside the "
                                     "absorbers' declared ranges (reported).")]
-Terminals = Annotated[int, plain_option("--terminals", "-t", help="2 (series, one current) or 4 "
-                                "(independent); ranks designs.")]
+Terminals = Annotated[int, plain_option("--terminals", "-t", help="2 (series, one current), 3 (a "
+                                "middle contact, two loads) or 4 (independent); ranks designs.")]
+MiddleContact = Annotated[str, plain_option("--middle-contact", help="Three terminals: s (series type, "
+                                   "the middle contact carries the subcells' current difference) or "
+                                   "r (reverse type: their sum).")]
+MiddleResistance = Annotated[float, plain_option("--middle-resistance", help="Three terminals: the "
+                                      "middle contact's resistance in ohm cm^2 (0: 3T reaches 4T).")]
+StringRatio = Annotated[Optional[str], plain_option("--string-ratio", help="Also report voltage-matched "
+                                        "strings: M:N front:back cells in series per string, e.g. 1:2.",
+                                        metavar="M:N")]
 Ere = Annotated[Optional[str], plain_option(help="External radiative efficiency in (0, 1]: one value or "
                                     "front,back; overrides the absorbers' own.")]
 Ideality = Annotated[float, plain_option(help="Ideality of the non-radiative diode (radiative is n = 1).")]
@@ -114,7 +122,8 @@ Plot = Annotated[Optional[str], plain_option(help="Write the figure to this PNG 
 SHARED = ("spectrum", "concentration", "sun_temperature", "irradiance", "temperature",
           "terminals", "ere", "ideality", "coupling", "rear_emission", "front_index",
           "series_resistance", "shunt_resistance", "reflectance", "front_parasitic",
-          "interlayer_parasitic", "outside_range")
+          "interlayer_parasitic", "outside_range", "middle_contact", "middle_resistance",
+          "string_ratio")
 
 
 def argument(text: str):
@@ -137,7 +146,8 @@ def build_operating(o: dict, temperature_default: float = 298.15) -> tandem.Oper
         temperature_K=t, terminals=o["terminals"], ideality=o["ideality"],
         ere=None if o["ere"] is None else parse_floats(o["ere"], "--ere"),
         electrical=Electrical(o["coupling"], o["series_resistance"], o["shunt_resistance"],
-                              o["rear_emission"]),
+                              o["rear_emission"], o["middle_contact"], o["middle_resistance"],
+                              parse_string_ratio(o["string_ratio"])),
         front_index=o["front_index"], reflectance=o["reflectance"],
         front_parasitic=o["front_parasitic"], interlayer_parasitic=o["interlayer_parasitic"],
         allow_outside_range=o["outside_range"])
@@ -168,7 +178,10 @@ OPERATING_FIELDS = {
     "outside_range": "allow_outside_range", "coupling": "electrical.coupling",
     "rear_emission": "electrical.rear_emission",
     "series_resistance": "electrical.series_resistance_ohm_cm2",
-    "shunt_resistance": "electrical.shunt_resistance_ohm_cm2"}
+    "shunt_resistance": "electrical.shunt_resistance_ohm_cm2",
+    "middle_contact": "electrical.middle_contact",
+    "middle_resistance": "electrical.middle_resistance_ohm_cm2",
+    "string_ratio": "electrical.string_ratio"}
 #: shared option -> the Light field it sets
 LIGHT_FIELDS = {"spectrum": "source", "concentration": "concentration",
                 "sun_temperature": "sun_temperature_K", "irradiance": "irradiance_W_m2"}
@@ -223,7 +236,8 @@ def shared(command):
                 "series_resistance": (Series, 0.0), "shunt_resistance": (Shunt, math.inf),
                 "reflectance": (Reflectance, "0"), "front_parasitic": (FrontParasitic, "0"),
                 "interlayer_parasitic": (InterParasitic, "0"),
-                "outside_range": (OutsideRange, False)}
+                "outside_range": (OutsideRange, False), "middle_contact": (MiddleContact, "s"),
+                "middle_resistance": (MiddleResistance, 0.0), "string_ratio": (StringRatio, None)}
     sig = inspect.signature(command, eval_str=True)  # typer reads __signature__ as it stands
     own = [p for p in sig.parameters.values() if p.name != "o"]
     extra = [inspect.Parameter(k, inspect.Parameter.KEYWORD_ONLY, annotation=a, default=d)
@@ -237,6 +251,17 @@ def shared(command):
     setattr(wrapper, "__signature__", sig.replace(parameters=[
         p.replace(kind=inspect.Parameter.KEYWORD_ONLY) for p in own] + extra))
     return wrapper
+
+
+def parse_string_ratio(text: str | None) -> tuple[int, int] | None:
+    """'1:2' → (1, 2): front and back cells in series per voltage-matched string."""
+    if text is None:
+        return None
+    parts = str(text).replace(" ", "").split(":")
+    if len(parts) != 2 or not all(p.isdigit() for p in parts):
+        raise TandemInputError(f"--string-ratio '{text}': give front:back cells per string as "
+                               "two whole numbers, e.g. 1:2")
+    return int(parts[0]), int(parts[1])
 
 
 def parse_floats(text: str, option: str) -> tuple[float, ...]:

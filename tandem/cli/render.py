@@ -147,8 +147,9 @@ def show_breakdown(result, path, overwrite: bool, title: str, json_out: bool) ->
     if json_out:
         return {"incident_W_m2": b.incident_W_m2, "steps": rows, "mismatch_W_m2": mismatch,
                 "figure": str(written)}
-    where = "the two-terminal operating point" if b.mismatch_W_m2 is not None else \
-        "each subcell's own maximum power point"
+    where = ("the two-terminal operating point" if b.mismatch_W_m2 is not None else
+             "the two loads' joint maximum power point" if b.terminals == 3 else
+             "each subcell's own maximum power point")
     out.print(render_table("where the incident power goes", [
         ("step", lambda r: r["step"]), ("W/m²", lambda r: f"{r['power_W_m2']:.2f}"),
         ("%", lambda r: f"{r['share_pct']:.2f}"), ("equation", lambda r: r["equation"])], rows,

@@ -4,7 +4,8 @@ The steps follow the published analysis of detailed-balance losses (Hirst & Ekin
 Prog. Photovolt. 19 (2011) 286), extended to real cells (optical loss, non-radiative
 recombination and voltage, resistance) and to stacks. Each connection is taken at its own
 operating point: four terminals at every subcell's own maximum power point, two terminals at
-the series maximum power point (one current J through every subcell). With subcell i's gap
+the series maximum power point (one current J through every subcell), three at the two loads'
+joint maximum. With subcell i's gap
 E_g,i, its EQE in the stack, photocurrent J_L,i, current J_i and junction voltage V_j,i:
 
 - below the gaps: ∫_{E<E_g,back} E·Φ·(1 − ΣEQE) dE — photons no subcell takes;
@@ -27,8 +28,10 @@ E_g,i, its EQE in the stack, photocurrent J_L,i, current J_i and junction voltag
 - operating point: Σ (V_oc,i − V_j,i)·J_i — the drop from open circuit to the operating
   voltage (for a two-terminal stack this holds the cost of current mismatch: the subcell
   with spare photocurrent runs near its open circuit, the limiting one below its own V_mp);
-- series resistance: J²·R_s (two terminals) or Σ J_i²·R_s/m (four; the stack's R_s shared
-  between the m circuits);
+- series resistance: J²·R_s (two terminals) or Σ J_i²·R_s/m (three and four; the stack's R_s
+  shared between the m circuits);
+- middle contact (three terminals): R_m·J_m², its current the difference of the subcell
+  currents (series type) or their sum (reverse type), each junction at its own voltage;
 - output: the design's power.
 
 Every step is ≥ 0 at these operating points. The current-mismatch cost of a two-terminal
@@ -129,6 +132,15 @@ def loss_breakdown(energy, flux, irradiance: float, eqe, gaps_eV, perf: StackPer
         j = np.full(m, float(perf.j_2t))
         v_j = np.asarray(perf.v_2t_sub, float)
         resistive = float(j[0] ** 2 * rs)
+    elif terminals == 3 and m == 2:  # two loads; R_s/2 a circuit and the middle contact's R_m
+        j = np.asarray(perf.j_3t, float)
+        reverse = electrical.middle_contact == "r"
+        j_middle = j[0] + j[1] if reverse else j[0] - j[1]
+        r_middle = electrical.middle_resistance_ohm_cm2 * 1e-4
+        v_j = (np.asarray(perf.v_3t, float) + j * rs / 2
+               + r_middle * j_middle * np.array([1.0, 1.0 if reverse else -1.0]))
+        resistive = float(np.sum(j**2) * rs / 2)
+        middle = r_middle * j_middle**2
     else:  # each subcell's own circuit carries R_s/m
         j = np.asarray(perf.j_own, float)
         v_j = np.asarray(perf.v_own, float) + j * rs / m
@@ -185,12 +197,18 @@ def loss_breakdown(energy, flux, irradiance: float, eqe, gaps_eV, perf: StackPer
                               "Σ (Eg,i − qVoc,rad,i)·J_i/q, qVoc,rad = kT·ln(J_L/J0,rad + 1) "
                               "(exact emission near the gap)",
                               deficit))
-    p_out = float(np.sum(v_j * j)) - resistive
+    middle = middle if terminals == 3 and m == 2 else 0.0
+    p_out = float(np.sum(v_j * j)) - resistive - middle
     steps += [
         LossStep("non-radiative voltage loss", "Σ (Voc,rad,i − Voc,i)·J_i",
                  float(np.sum((voc_rad - voc) * j))),
         LossStep("operating point", "Σ (Voc,i − V_j,i)·J_i", float(np.sum((voc - v_j) * j))),
-        LossStep("series resistance", "J²·R_s (2T) or Σ J_i²·R_s/m (4T)", resistive),
+        LossStep("series resistance", "J²·R_s (2T) or Σ J_i²·R_s/m (3T, 4T)", resistive),
+    ]
+    if terminals == 3 and m == 2:
+        steps.append(LossStep("middle contact", "R_m·J_m², J_m = J_f ∓ J_b (s-type: −, r-type: +)",
+                              float(middle)))
+    steps += [
         LossStep("output", "P_2T = J·(ΣV_j,i − J·R_s)" if series else "P = Σ J_i·V_i", p_out),
     ]
     mismatch = float(perf.p_4t - perf.p_2t) if series else None

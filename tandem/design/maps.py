@@ -34,8 +34,13 @@ class GapMap:
     temperature_K: float
     spectrum: str
     irradiance: float
+    efficiency_3t: np.ndarray | None = None  #: (nf, nb) with a middle contact
 
     def efficiency(self, terminals: int) -> np.ndarray:
+        if terminals == 3:
+            if self.efficiency_3t is None:
+                raise TandemInputError("this map holds no three-terminal efficiencies")
+            return self.efficiency_3t
         return self.efficiency_2t if terminals == 2 else self.efficiency_4t
 
     def optimum(self, terminals: int) -> tuple[int, int]:
@@ -70,7 +75,7 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
     valid = f > b
     pairs = np.stack([f[valid], b[valid]], axis=-1)
     i_front, i_back = np.nonzero(valid)
-    fields = {k: np.full(f.shape, np.nan) for k in ("e2", "e4", "jf", "jb", "voc")}
+    fields = {k: np.full(f.shape, np.nan) for k in ("e2", "e3", "e4", "jf", "jb", "voc")}
     out = {k: np.empty(len(pairs)) for k in fields}
     ere = np.asarray(ere, dtype=float)
     # Photons above a gap and the Bose integral from a gap depend on one gap only: computed once
@@ -102,6 +107,7 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
                                                 electrical or IDEAL, front_index, reference,
                                                 emission=emission)
         out["e2"][sl] = perf.efficiency_2t
+        out["e3"][sl] = perf.efficiency_3t
         out["e4"][sl] = perf.efficiency_4t
         out["jf"][sl] = perf.j_light[:, 0]
         out["jb"][sl] = perf.j_light[:, 1]
@@ -111,7 +117,8 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
     for k in fields:
         fields[k][valid] = out[k]
     return GapMap(front_gaps, back_gaps, fields["e2"], fields["e4"], fields["jf"], fields["jb"],
-                  fields["voc"], float(temperature_K), photon_flux.name, photon_flux.irradiance)
+                  fields["voc"], float(temperature_K), photon_flux.name, photon_flux.irradiance,
+                  fields["e3"])
 
 
 def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thickness_nm=None,
@@ -141,7 +148,7 @@ def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thick
     thinnest, thickest = front.thickness_range_nm
     grid = np.geomspace(thinnest, thickest, thickness_points)
     shape = (front_gaps.size, back_gaps.size)
-    e2, e4, jf, jb, voc, used = (np.full(shape, np.nan) for _ in range(6))
+    e2, e3, e4, jf, jb, voc, used = (np.full(shape, np.nan) for _ in range(7))
     total, done = shape[0] * shape[1], 0
     for j, gb in enumerate(back_gaps):
         for i, gf in enumerate(front_gaps):
@@ -155,18 +162,20 @@ def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thick
                                               gb)
                 d = matched if matched is not None else float(grid[np.argmax(sweep.p_2t)])
             perf = stack_performance(design, conditions, gf, d, d_back, gb)
-            e2[i, j], e4[i, j] = perf.efficiency_2t, perf.efficiency_4t
+            e2[i, j], e3[i, j], e4[i, j] = (perf.efficiency_2t, perf.efficiency_3t,
+                                            perf.efficiency_4t)
             jf[i, j], jb[i, j] = perf.j_light
             voc[i, j], used[i, j] = perf.voc_2t, d
             if progress and (done % 10 == 0 or done == total):
                 progress(done, total)
     cond = conditions
     return GapMap(front_gaps, back_gaps, e2, e4, jf, jb, voc, cond.temperature_K,
-                  cond.photon_flux.name, cond.photon_flux.irradiance), used
+                  cond.photon_flux.name, cond.photon_flux.irradiance, e3), used
 
 
-def map_table(gap_map: GapMap, front_thickness_nm=None):
-    """The map as a tidy table: one row per valid gap pair (pandas DataFrame)."""
+def map_table(gap_map: GapMap, front_thickness_nm=None, terminals: int = 2):
+    """The map as a tidy table: one row per valid gap pair (pandas DataFrame); the
+    three-terminal column when ``terminals`` is 3."""
     import pandas as pd
 
     f, b = np.meshgrid(gap_map.front_gaps, gap_map.back_gaps, indexing="ij")
@@ -177,6 +186,7 @@ def map_table(gap_map: GapMap, front_thickness_nm=None):
         "back_gap_eV": b[valid],
         "efficiency_2t_pct": 100 * gap_map.efficiency_2t[valid],
         "efficiency_4t_pct": 100 * gap_map.efficiency_4t[valid],
+        **({"efficiency_3t_pct": 100 * gap_map.efficiency(3)[valid]} if terminals == 3 else {}),
         "jsc_front_mA_cm2": jf / 10,
         "jsc_back_mA_cm2": jb / 10,
         "voc_2t_V": gap_map.voc_2t[valid],

@@ -84,6 +84,8 @@ class HourlyDesign:
     irradiance: np.ndarray  #: [W/m²]
     cell_temperature_K: np.ndarray
     step_hours: np.ndarray
+    p_3t: np.ndarray | None = None  #: three terminals (the electrical's middle contact) [W/m²]
+    p_vm: np.ndarray | None = None  #: voltage-matched strings (the electrical's string ratio)
 
 
 @dataclass(frozen=True)
@@ -99,6 +101,12 @@ class YieldSweep:
     efficiency_am15_2t: np.ndarray  #: (n_g, n_d) under AM1.5G at 298.15 K, fraction
     basis_rank: int = 0  #: rank of the spectra's reduced basis (:class:`~tandem.design.sky.FluxBasis`)
     basis_bound: float = 0.0  #: its largest relative photocurrent error bound per step
+    energy_3t: np.ndarray | None = None  #: (n_g, n_d) three terminals [kWh/m²]
+    energy_vm: np.ndarray | None = None  #: (n_g, n_d) voltage-matched strings (a ratio given)
+
+    def optimum_of(self, energy: np.ndarray) -> tuple[int, int]:
+        i, j = np.unravel_index(int(np.nanargmax(energy)), energy.shape)
+        return int(i), int(j)
 
     @property
     def optimum(self) -> tuple[int, int]:
@@ -270,7 +278,8 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
     flux = series.photon_basis()
     w = trapezoid_weights(flux.energy) * Q
     e2 = np.zeros((gaps.size, thicknesses.size))
-    e4 = np.zeros_like(e2)
+    e3, e4 = np.zeros_like(e2), np.zeros_like(e2)
+    evm = None if electrical.string_ratio is None else np.zeros_like(e2)
     bins = list(_bins(series, bin_K))
     total, done = len(bins) * gaps.size, 0
     for step_bin in bins:
@@ -280,14 +289,17 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
                                        back_thickness_nm, ideality, electrical, series.rear_ratio,
                                        series.bifaciality)
             e2[i] += perf.p_2t @ hours / 1000.0
+            e3[i] += perf.power(3) @ hours / 1000.0
             e4[i] += perf.p_4t @ hours / 1000.0
+            if evm is not None:
+                evm[i] += perf.p_vm @ hours / 1000.0
             done += 1
             if progress:
                 progress(done, total)
     am15 = np.array([_am15_efficiency(reference_design, reference, g, thicknesses,
                                       back_thickness_nm, ideality, electrical) for g in gaps])
     return YieldSweep(gaps, thicknesses, e2, e4, series.insolation_kWh_m2, series, design,
-                      float(back_thickness_nm), am15, flux.rank, flux.bound)
+                      float(back_thickness_nm), am15, flux.rank, flux.bound, e3, evm)
 
 
 def _am15_efficiency(design: YieldDesign, reference, gap, thicknesses, back_d, ideality,
@@ -317,14 +329,17 @@ def _hourly(design, series, gap, thickness, back_thickness_nm, ideality, electri
     flux = series.photon_basis()
     w = trapezoid_weights(flux.energy) * Q
     n = series.times.size
-    out = {k: np.zeros(n) for k in ("p2", "p4", "jf", "jb")}
+    out = {k: np.zeros(n) for k in ("p2", "p3", "p4", "pvm", "jf", "jb")}
     for step_bin in _bins(series, bin_K):
         idx = step_bin[1]
         perf, jl = _bin_performance(design, flux, w, step_bin, gap,
                                     np.array([thickness]), back_thickness_nm, ideality, electrical,
                                     series.rear_ratio, series.bifaciality)
-        out["p2"][idx], out["p4"][idx] = perf.p_2t[0], perf.p_4t[0]
+        out["p2"][idx], out["p3"][idx], out["p4"][idx] = perf.p_2t[0], perf.power(3)[0], perf.p_4t[0]
+        if perf.p_vm is not None:
+            out["pvm"][idx] = perf.p_vm[0]
         out["jf"][idx], out["jb"][idx] = jl[0, :, 0], jl[0, :, 1]
     return HourlyDesign(series.times, out["p2"], out["p4"], out["jf"], out["jb"],
                         series.step_irradiance,
-                        series.cell_temperature_K, series.step_hours)
+                        series.cell_temperature_K, series.step_hours, out["p3"],
+                        out["pvm"] if electrical.string_ratio is not None else None)

@@ -74,6 +74,20 @@ def check_types(**inputs) -> None:
                                    f"pass {name}=tandem.{kind.__name__}(...) by keyword")
 
 
+def check_connection(operating: OperatingPoint, job: str, three: bool = False,
+                     strings: bool = False) -> None:
+    """Refuse, in one line, three terminals or voltage-matched strings where ``job`` does not
+    compute them (rather than ranking by another connection in silence)."""
+    from tandem.core.errors import TandemInputError
+
+    if operating.terminals == 3 and not three:
+        raise TandemInputError(f"{job} does not compute three terminals yet: use --terminals 2 "
+                               "or 4 (limit, map and yield take 3)")
+    if operating.electrical.string_ratio is not None and not strings:
+        raise TandemInputError(f"{job} does not compute voltage-matched strings: drop "
+                               "--string-ratio (limit and yield take it)")
+
+
 def as_absorber(a: Absorber | str) -> Absorber:
     return a if isinstance(a, Absorber) else load_absorber(a)
 

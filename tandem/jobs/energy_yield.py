@@ -33,9 +33,11 @@ class YieldResult(ResultDisplay):
 
     sweep: YieldSweep
     best: HourlyDesign
+    terminals: int = 2  #: 3: three terminals join the connections (table, frame, dataset)
+    string_ratio: tuple[int, int] | None = None  #: voltage-matched strings join them
 
     def summary(self) -> dict:
-        return yield_summary(self.sweep, self.best)
+        return yield_summary(self.sweep, self.best, self.terminals, self.string_ratio)
 
     def to_frame(self):
         """The energy-optimal design step by step: powers [W/m²], photocurrents [mA/cm²]."""
@@ -43,6 +45,8 @@ class YieldResult(ResultDisplay):
 
         b = self.best
         return pd.DataFrame({"p_2t_W_m2": b.p_2t, "p_4t_W_m2": b.p_4t,
+                             **({"p_3t_W_m2": b.p_3t} if self.terminals == 3 else {}),
+                             **({"p_voltage_matched_W_m2": b.p_vm} if self.string_ratio else {}),
                              "jsc_front_mA_cm2": b.j_front / 10, "jsc_back_mA_cm2": b.j_back / 10,
                              "irradiance_W_m2": b.irradiance,
                              "cell_temperature_K": b.cell_temperature_K,
@@ -72,6 +76,10 @@ class YieldResult(ResultDisplay):
         ds = xr.Dataset(
             {"energy_2t": (dims, s.energy_2t, {"units": "kWh/m2"}),
              "energy_4t": (dims, s.energy_4t, {"units": "kWh/m2"}),
+             **({"energy_3t": (dims, s.energy_3t, {"units": "kWh/m2"})}
+                if self.terminals == 3 else {}),
+             **({"energy_voltage_matched": (dims, s.energy_vm, {"units": "kWh/m2"})}
+                if self.string_ratio else {}),
              "efficiency_am15g_2t": (dims, 100 * s.efficiency_am15_2t, {"units": "%"}),
              **series},
             coords={"front_gap": ("front_gap", s.gaps, {"units": "eV", "note": "at 298.15 K"}),
@@ -231,7 +239,7 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     i, j = sweep.optimum
     best = hourly(design, series, sweep.gaps[i], sweep.thicknesses[j], back_d,
                   operating.ideality, operating.electrical)
-    return YieldResult(sweep, best)
+    return YieldResult(sweep, best, operating.terminals, operating.electrical.string_ratio)
 
 
 def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint(), *,
@@ -281,7 +289,7 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
                         allow_outside=operating.allow_outside_range)
     best = hourly(design, series, gaps[0], sweep.thicknesses[sweep.optimum[1]], back_d,
                   operating.ideality, operating.electrical)
-    return YieldResult(sweep, best)
+    return YieldResult(sweep, best, operating.terminals, operating.electrical.string_ratio)
 
 
 def stack_yield_design(stack, operating: OperatingPoint, reference: Light, others=None,

@@ -7,7 +7,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tandem.jobs.common import check_types, ResultDisplay, as_absorber, frame
+from tandem.jobs.common import check_connection, check_types, ResultDisplay, as_absorber, frame
 from tandem.jobs.inputs import Light, OperatingPoint
 
 if TYPE_CHECKING:  # for annotations only: no import cost at run time
@@ -104,6 +104,7 @@ def measured_eqe(front, back, light: Light = Light(), operating: OperatingPoint 
     True
     """
     check_types(light=light, operating=operating)
+    check_connection(operating, "eqe")
     from tandem.design.eqe import MeasuredEQE, matching_thickness, read_eqe, subcell_from_eqe
 
     t = operating.temperature_K

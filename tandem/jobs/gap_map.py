@@ -16,7 +16,7 @@ from tandem.design.maps import (
     step_gap_map,
 )
 from tandem.design.matching import Conditions, StackDesign
-from tandem.jobs.common import (Progress, ResultDisplay, absorber_pair, check_types, check_work,
+from tandem.jobs.common import (Progress, ResultDisplay, absorber_pair, check_connection, check_types, check_work,
                                 conditions_attrs)
 from tandem.jobs.inputs import Light, OperatingPoint, gap_range, gap_values
 from tandem.optics.absorbers import Absorber
@@ -51,7 +51,7 @@ class MapResult(ResultDisplay):
 
     def to_frame(self):
         """One row per valid gap pair."""
-        return map_table(self.gap_map, self.front_thickness_nm)
+        return map_table(self.gap_map, self.front_thickness_nm, self.terminals)
 
     def to_dataset(self):
         import xarray as xr
@@ -61,6 +61,8 @@ class MapResult(ResultDisplay):
         return xr.Dataset(
             {"efficiency_2t": (dims, 100 * m.efficiency_2t, {"units": "%"}),
              "efficiency_4t": (dims, 100 * m.efficiency_4t, {"units": "%"}),
+             **({"efficiency_3t": (dims, 100 * m.efficiency(3), {"units": "%"})}
+                if self.terminals == 3 else {}),
              "jsc_front": (dims, m.j_front / 10, {"units": "mA/cm2"}),
              "jsc_back": (dims, m.j_back / 10, {"units": "mA/cm2"}),
              "voc_2t": (dims, m.voc_2t, {"units": "V"})},
@@ -105,6 +107,7 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
     1.75
     """
     check_types(light=light, operating=operating)
+    check_connection(operating, "map", three=True)
     fronts = (gap_range(*DEFAULT_FRONT) if front_gaps_eV is None
               else gap_values(front_gaps_eV, "front gaps"))
     backs = None if back_gaps_eV is None else gap_values(back_gaps_eV, "back gaps")

@@ -163,7 +163,8 @@ class OperatingPoint:
     temperature_K : float
         Cell temperature [K]; absorbers' gaps move with their temperature coefficients.
     terminals : int
-        2 (series, one current) or 4 (each subcell at its own maximum power point).
+        2 (series, one current), 3 (a middle contact and two loads; its type and resistance
+        in ``electrical``) or 4 (each subcell at its own maximum power point).
     ere : tuple of float or None
         External radiative efficiency of step absorbers [-], one value or front, back.
         Real absorbers carry their own in their description.
@@ -198,9 +199,13 @@ class OperatingPoint:
 
     def __post_init__(self):
         check_temperature(float(self.temperature_K), "cell temperature")
-        if self.terminals not in (2, 4):
-            raise TandemInputError(f"terminals {self.terminals!r}: choose 2 (series) or 4 "
-                                   "(independent)")
+        if self.terminals not in (2, 3, 4):
+            raise TandemInputError(f"terminals {self.terminals!r}: choose 2 (series), 3 (middle "
+                                   "contact) or 4 (independent)")
+        el = self.electrical
+        if self.terminals != 3 and (el.middle_contact != "s" or el.middle_resistance_ohm_cm2 > 0):
+            raise TandemInputError("the middle contact's type and resistance apply to three "
+                                   f"terminals: add --terminals 3 (now {self.terminals})")
         check_ideality(float(self.ideality))
         check_front_index(float(self.front_index))
         if self.ere is not None:

@@ -15,7 +15,7 @@ from tandem.design.matching import (
     tolerance_windows,
     which_in_front,
 )
-from tandem.jobs.common import (check_types,
+from tandem.jobs.common import (check_connection, check_types,
     Progress,
     ResultDisplay,
     absorber_pair,
@@ -132,6 +132,7 @@ def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
     'perovskite-wide'
     """
     check_types(light=light, operating=operating)
+    check_connection(operating, "match")
     a_front, a_back = absorber_pair(front, back, operating)
     gaps = sweep.gaps()
     n_gaps = len(gaps) if gaps is not None else (

@@ -127,8 +127,10 @@ def region_job(front: Absorber | str | None, back: Absorber | str | None,
     (2, 3, 160000.0)
     """
     from tandem.design.sky import parse_period
-    from tandem.jobs.common import absorber_pair
+    from tandem.jobs.common import absorber_pair, check_connection
     from tandem.jobs.energy_yield import yield_axes
+
+    check_connection(operating, "region")
 
     design = None
     if stack is not None:

@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from tandem.design.matching import Conditions, StackDesign
-from tandem.jobs.common import check_types, ResultDisplay, absorber_pair, check_work, frame
+from tandem.jobs.common import check_connection, check_types, ResultDisplay, absorber_pair, check_work, frame
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.optics.absorbers import Absorber
 
@@ -88,6 +88,7 @@ def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light
     0.0
     """
     check_types(light=light, operating=operating)
+    check_connection(operating, "spread")
     from tandem.design.scatter import scatter
 
     a_front, a_back = absorber_pair(front, back, operating)
@@ -134,6 +135,7 @@ def fabrication_spread_stack(stack, light: Light = Light(),
     ('organic-pair', True)
     """
     check_types(light=light, operating=operating)
+    check_connection(operating, "spread")
     from tandem.design.scatter import scatter_stack
     from tandem.jobs.stack_match import stack_input, swept_thicknesses
 

@@ -7,7 +7,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tandem.jobs.common import (Progress, ResultDisplay, check_types, check_work,
+from tandem.jobs.common import (Progress, ResultDisplay, check_connection, check_types, check_work,
                                 conditions_attrs, frame)
 from tandem.jobs.inputs import Light, OperatingPoint, Sweep
 from tandem.jobs.match import match
@@ -147,6 +147,7 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
     True
     """
     check_types(light=light, operating=operating)
+    check_connection(operating, "match --stack")
     from dataclasses import replace
 
     from tandem.core.errors import TandemInputError

@@ -208,6 +208,8 @@ def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None, note=Non
         ax.plot(fg, 100 * gap_map.efficiency_2t[:, 0], color=FRONT_COLOUR, label="two-terminal")
         ax.plot(fg, 100 * gap_map.efficiency_4t[:, 0], color=BACK_COLOUR, ls="--",
                 label="four-terminal")
+        if terminals == 3:
+            ax.plot(fg, eff[:, 0], color="0.2", ls="-.", label="three-terminal")
         lo, hi = tolerance_window(fg, eff[:, 0], tolerance_pct)
         ax.axvspan(lo, hi, color="0.9", label=f"within {tolerance_pct:g} % of best: "
                    f"{lo:.3f}–{hi:.3f} eV")
@@ -226,8 +228,26 @@ def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None, note=Non
         ax.legend(fontsize=8)
         ax.grid(alpha=0.3)
         return fig
-    fig, ax = plt.subplots(figsize=(7, 5.6)) if ax is None else (ax.figure, ax)
+    gain_ax = None
+    if ax is not None:
+        fig = ax.figure
+    elif terminals == 3:  # beside the map, what the middle contact recovers over two terminals
+        fig, (ax, gain_ax) = plt.subplots(1, 2, figsize=(13, 5.6))
+    else:
+        fig, ax = plt.subplots(figsize=(7, 5.6))
     B, F = np.meshgrid(bg, fg)
+    if gain_ax is not None:
+        gain = 100 * (gap_map.efficiency_3t - gap_map.efficiency_2t)
+        steps = matplotlib.ticker.MaxNLocator(12).tick_values(0, max(np.nanmax(gain), 0.1))
+        shade = gain_ax.contourf(B, F, gain, levels=steps, cmap="magma")
+        fig.colorbar(shade, ax=gain_ax, label="3T − 2T efficiency [% abs]")
+        balance = gap_map.j_front - gap_map.j_back
+        if np.nanmin(balance) < 0 < np.nanmax(balance):
+            gain_ax.contour(B, F, balance, levels=[0], colors="cyan", linewidths=1.0)
+        gain_ax.set_xlabel("back gap [eV]")
+        gain_ax.set_ylabel("front gap [eV]")
+        gain_ax.set_title("what three terminals recover over two (cyan: equal currents)",
+                          fontsize=8)
     best = np.nanmax(eff)
     levels = np.arange(np.floor(np.nanmin(eff)), np.ceil(best) + 0.5, 0.5)
     filled = ax.contourf(B, F, eff, levels=levels, cmap="viridis")

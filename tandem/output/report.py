@@ -33,6 +33,33 @@ def _r(x, digits=4):
     return round(x, digits) if math.isfinite(x) else None
 
 
+def _three_terminal_keys(result: DesignResult) -> dict:
+    """The middle-contact connection and its two loads (``limit --terminals 3``)."""
+    perf, el = result.performance, result.electrical
+    assert perf.j_3t is not None and perf.v_3t is not None  # two subcells: computed
+    jf, jb = perf.j_3t
+    return {"efficiency_3t_pct": _r(100 * perf.efficiency_3t),
+            "three_terminal": {
+                "middle_contact": {"s": "series type", "r": "reverse type"}[el.middle_contact],
+                "middle_resistance_ohm_cm2": el.middle_resistance_ohm_cm2,
+                "front_load_V": _r(perf.v_3t[0]), "back_load_V": _r(perf.v_3t[1]),
+                "front_current_mA_cm2": _r(jf * MA_CM2_PER_A_M2),
+                "back_current_mA_cm2": _r(jb * MA_CM2_PER_A_M2),
+                "middle_current_mA_cm2": _r((jf + jb if el.middle_contact == "r" else jf - jb)
+                                            * MA_CM2_PER_A_M2)}}
+
+
+def _string_keys(result: DesignResult) -> dict:
+    """Voltage-matched strings of the stack's subcells (``--string-ratio``)."""
+    perf = result.performance
+    assert result.electrical.string_ratio is not None and perf.p_vm is not None
+    assert perf.v_vm is not None
+    m, n = result.electrical.string_ratio
+    return {"voltage_matched": {"ratio": f"{m}:{n}", "efficiency_pct": _r(100 * perf.p_vm / perf.irradiance),
+                                "front_V": _r(perf.v_vm[0]), "back_V": _r(perf.v_vm[1]),
+                                "string_V": _r(m * perf.v_vm[0])}}
+
+
 def design_summary(result: DesignResult) -> dict:
     """The keys documented for ``tandem limit --json``.
 
@@ -75,6 +102,8 @@ def design_summary(result: DesignResult) -> dict:
         "mismatch_pct": _r(100 * perf.mismatch, 3) if two else None,
         "efficiency_2t_pct": _r(100 * perf.efficiency_2t) if two else None,
         "efficiency_4t_pct": _r(100 * perf.efficiency_4t) if two else None,
+        **(_three_terminal_keys(result) if two and result.terminals == 3 else {}),
+        **(_string_keys(result) if two and result.electrical.string_ratio else {}),
         "temperature_K": result.temperature_K,
         "irradiance_W_m2": _r(irr, 3),
         "spectrum": result.spectrum_name,
@@ -287,6 +316,7 @@ def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
             "terminals": terminals,
             "efficiency_2t_pct": round(float(100 * gap_map.efficiency_2t[i, j]), 4),
             "efficiency_4t_pct": round(float(100 * gap_map.efficiency_4t[i, j]), 4),
+            **({"efficiency_3t_pct": round(float(eff[i, j]), 4)} if terminals == 3 else {}),
             "limiting_subcell": "front" if jf <= jb else "back",
             "mismatch_pct": round(float(100 * abs(jf - jb) / min(jf, jb)), 3),
         },
@@ -295,6 +325,8 @@ def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
             "front_gap_window_eV": [round(v, 4) for v in front_window],
             "back_gap_window_eV": None if back_window is None else [round(v, 4) for v in back_window],
         },
+        **({"largest_3t_gain_over_2t_pct_abs": round(float(np.nanmax(
+            100 * (gap_map.efficiency_3t - gap_map.efficiency_2t))), 4)} if terminals == 3 else {}),
         "grid_points": gap_map.grid_points,
         "valid_pairs": int(np.isfinite(gap_map.efficiency_2t).sum()),
         "spectrum": gap_map.spectrum,
@@ -304,7 +336,27 @@ def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
     }
 
 
-def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
+def connection_rows(sweep: YieldSweep, terminals: int = 2, ratio=None) -> list[dict]:
+    """Energy of each connection at its own energy-optimal design: two and four terminals,
+    three when asked (``terminals`` 3), voltage-matched strings when a ``ratio`` is given."""
+    energies = [("2T (series)", sweep.energy_2t)]
+    if terminals == 3 and sweep.energy_3t is not None:
+        energies.append(("3T (middle contact)", sweep.energy_3t))
+    energies.append(("4T (independent)", sweep.energy_4t))
+    if ratio is not None and sweep.energy_vm is not None:
+        energies.append((f"voltage-matched {ratio[0]}:{ratio[1]}", sweep.energy_vm))
+    rows = []
+    for name, energy in energies:
+        i, j = sweep.optimum_of(energy)
+        rows.append({"connection": name, "energy_kWh_m2": round(float(energy[i, j]), 3),
+                     "energy_weighted_efficiency_pct": round(100 * float(energy[i, j])
+                                                            / sweep.insolation, 3),
+                     "front_gap_eV": round(float(sweep.gaps[i]), 4),
+                     "front_thickness_nm": round(float(sweep.thicknesses[j]), 1)})
+    return rows
+
+
+def yield_summary(sweep: YieldSweep, best: HourlyDesign, terminals: int = 2, ratio=None) -> dict:
     """Totals and optima in display units (the `tandem yield --json` keys)."""
     i, j = sweep.optimum
     a, b = sweep.am15_optimum
@@ -359,6 +411,7 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign) -> dict:
             "energy_2t_kWh_m2": round(float(sweep.energy_2t[a, b]), 3),
             "energy_4t_kWh_m2": round(float(sweep.energy_4t[a, b]), 3),
         },
+        "connections": connection_rows(sweep, terminals, ratio),
         "back_thickness_um": round(sweep.back_thickness_nm / 1000.0, 4),
         "monthly": monthly,
         "grid": {"front_gaps": int(sweep.gaps.size), "front_thicknesses": int(sweep.thicknesses.size)},

@@ -58,8 +58,7 @@ class DesignResult:
 
     @property
     def power(self) -> float:
-        perf = self.performance
-        return float(perf.p_2t if self.terminals == 2 else perf.p_4t)
+        return float(self.performance.power(self.terminals))
 
     @property
     def efficiency(self) -> float:
@@ -70,6 +69,9 @@ class DesignResult:
         perf = self.performance
         if self.terminals == 2:
             return perf.j_2t * perf.v_2t_sub
+        if self.terminals == 3:  # what each load takes (the middle contact's drop shared)
+            assert perf.j_3t is not None and perf.v_3t is not None  # two subcells: computed
+            return perf.j_3t * perf.v_3t
         return perf.p_own
 
 
@@ -102,8 +104,12 @@ def detailed_balance_limit(
     if not 1 <= len(gaps) <= 2:
         raise TandemInputError(f"{len(gaps)} gaps given; give one gap (single junction) or two, "
                                "front (sunward) first")
-    if terminals not in (2, 4):
-        raise TandemInputError(f"terminals {terminals}: choose 2 (series) or 4 (independent)")
+    if terminals not in (2, 3, 4) or (terminals == 3 and len(gaps) != 2):
+        raise TandemInputError(f"terminals {terminals}: choose 2 (series), 3 (middle contact, "
+                               "two gaps) or 4 (independent)")
+    if electrical.string_ratio is not None and len(gaps) != 2:
+        raise TandemInputError("voltage-matched strings need two gaps (front, back): drop "
+                               "--string-ratio for a single junction")
     check_ideality(ideality)
     check_front_index(front_index)
     check_gap_order(gaps)
@@ -117,7 +123,7 @@ def detailed_balance_limit(
                                    "would get no light; give the front a wider gap")
         swapped = step_stack(photon_flux, np.array(gaps[::-1]), temperature_K,
                              ere_values[::-1], ideality, electrical, front_index, absorbed_share)
-        eff = float(swapped.p_2t if terminals == 2 else swapped.p_4t) / swapped.irradiance
+        eff = float(swapped.efficiency(terminals))
         raise TandemInputError(
             f"front gap {gaps[0]:g} eV is below back gap {gaps[1]:g} eV: the order looks "
             f"inverted (the sunward cell needs the wider gap); swapped, {gaps[1]:g}/{gaps[0]:g} eV "

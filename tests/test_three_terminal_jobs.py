@@ -1,0 +1,128 @@
+"""Three terminals and voltage-matched strings through the jobs and the command line: the
+numbers they print equal the engine's (itself checked against scipy in
+tests/test_three_terminal.py), the loss breakdown adds up, and what a job cannot compute is
+refused in one line."""
+
+import json
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from typer.testing import CliRunner
+
+import tandem
+from tandem.cli.app import app
+from tandem.physics.stack import Electrical
+
+runner = CliRunner()
+
+
+@pytest.fixture(scope="module")
+def flux():
+    return tandem.reference_spectrum("am1.5g").photon_flux()
+
+
+def _json(args):
+    res = runner.invoke(app, args)
+    assert res.exit_code == 0, res.output
+    return json.loads(res.stdout)
+
+
+def test_limit_with_three_terminals_prints_the_engines_numbers(flux):
+    s = _json(["limit", "1.73", "0.94", "--terminals", "3", "--middle-resistance", "5",
+               "--series-resistance", "1", "--string-ratio", "1:2", "--temperature", "300K",
+               "--json"])
+    el = Electrical(series_resistance_ohm_cm2=1.0, middle_resistance_ohm_cm2=5.0,
+                    string_ratio=(1, 2))
+    perf = tandem.step_stack(flux, np.array([1.73, 0.94]), 300.0, electrical=el)
+    assert s["efficiency_pct"] == s["efficiency_3t_pct"] == pytest.approx(
+        100 * float(perf.efficiency_3t), abs=1e-4)
+    assert s["efficiency_2t_pct"] < s["efficiency_pct"] < s["efficiency_4t_pct"]
+    # each load's share adds to the stack; the series type's middle contact carries J_f − J_b
+    assert sum(c["efficiency_pct"] for c in s["subcells"]) == pytest.approx(s["efficiency_pct"],
+                                                                           abs=2e-4)
+    t = s["three_terminal"]
+    assert t["middle_current_mA_cm2"] == pytest.approx(
+        t["front_current_mA_cm2"] - t["back_current_mA_cm2"], abs=2e-4)
+    vm = s["voltage_matched"]
+    assert vm["efficiency_pct"] == pytest.approx(100 * float(perf.p_vm) / flux.irradiance, abs=1e-4)
+    assert vm["string_V"] == pytest.approx(2 * vm["back_V"], abs=2e-4)  # 1 front = 2 backs
+
+
+@settings(max_examples=25, deadline=None)
+@given(r_s=st.floats(0.0, 3.0), r_m=st.floats(0.0, 50.0), kind=st.sampled_from("sr"),
+       front=st.floats(1.5, 2.0), back=st.floats(0.8, 1.3))
+def test_the_three_terminal_breakdown_adds_up_and_no_step_is_negative(flux, r_s, r_m, kind,
+                                                                    front, back):
+    el = Electrical(series_resistance_ohm_cm2=r_s, middle_resistance_ohm_cm2=r_m,
+                    middle_contact=kind)
+    r = tandem.limit([front, back], operating=tandem.OperatingPoint(terminals=3, electrical=el))
+    b = r.loss_breakdown()
+    steps = {s.name: s.power_W_m2 for s in b.steps}
+    assert sum(steps.values()) == pytest.approx(b.incident_W_m2, rel=1e-9)  # output included
+    assert steps["output"] == pytest.approx(r.design.power, rel=1e-9)
+    assert all(v >= -1e-9 * b.incident_W_m2 for v in steps.values())
+    jf, jb = r.design.performance.j_3t
+    j_middle = jf + jb if kind == "r" else jf - jb
+    assert steps["middle contact"] == pytest.approx(r_m * 1e-4 * j_middle**2, rel=1e-12, abs=1e-12)
+
+
+def test_a_three_terminal_map_shows_what_three_terminals_recover(tmp_path):
+    op = tandem.OperatingPoint(terminals=3, electrical=Electrical(
+        series_resistance_ohm_cm2=1.0, middle_resistance_ohm_cm2=5.0))
+    fronts, backs = tandem.gap_range(1.5, 1.9, 0.1), tandem.gap_range(0.9, 1.2, 0.1)
+    m = tandem.gap_map(operating=op, front_gaps_eV=fronts, back_gaps_eV=backs)
+    ds = m.to_dataset()
+    e2, e3, e4 = (ds[f"efficiency_{k}t"].values for k in (2, 3, 4))
+    assert np.all(e2 <= e3 + 1e-9) and np.all(e3 <= e4 + 1e-9)  # series type
+    assert m.summary()["optimum"]["efficiency_pct"] == pytest.approx(np.nanmax(e3), abs=1e-4)
+    assert "efficiency_3t_pct" in m.to_frame()
+    free = tandem.gap_map(operating=tandem.OperatingPoint(terminals=3), front_gaps_eV=fronts,
+                          back_gaps_eV=backs).to_dataset()
+    assert np.array_equal(free["efficiency_3t"].values, free["efficiency_4t"].values,
+                          equal_nan=True)
+    fig = m.plot()  # one axes given: the map; the CLI's figure adds the gain panel
+    assert fig.axes
+    from tandem.output.plots import _map_axes_figure
+
+    fig = _map_axes_figure(m.gap_map, 3, 1.0, ())
+    labels = [a.get_ylabel() for a in fig.axes]
+    assert "3T − 2T efficiency [% abs]" in labels and "3-terminal efficiency [%]" in labels
+
+
+def test_a_yield_tables_each_connection_at_its_own_optimum():
+    site = tandem.Site("field", latitude=38.5, longitude=-3.0, timezone="Etc/GMT-1")
+    series = tandem.site_series(site, period="day:2026-06-21")
+    op = tandem.OperatingPoint(terminals=3, electrical=Electrical(
+        series_resistance_ohm_cm2=1.0, middle_resistance_ohm_cm2=3.0, string_ratio=(1, 2)))
+    y = tandem.energy_yield("perovskite-wide", "silicon", series, op,
+                            front_gaps_eV=[1.68, 1.76], front_thicknesses_nm=[500.0, 900.0])
+    rows = {r["connection"]: r for r in y.summary()["connections"]}
+    e = {k[:2]: rows[k]["energy_kWh_m2"] for k in rows}
+    assert e["2T"] <= e["3T"] <= e["4T"] and rows["voltage-matched 1:2"]["energy_kWh_m2"] <= e["4T"]
+    # energy = Σ P·Δt over the steps, for the energy-optimal design hour by hour
+    b = y.best
+    assert float(y.sweep.energy_3t[y.sweep.optimum]) == pytest.approx(
+        float(b.p_3t @ b.step_hours) / 1000, rel=1e-9)
+    assert "energy_3t" in y.to_dataset() and "p_voltage_matched_W_m2" in y.to_frame()
+
+
+@pytest.mark.parametrize("args, message", [
+    (["match", "perovskite-wide", "silicon", "--terminals", "3"], "match does not compute three"),
+    (["match", "perovskite-wide", "silicon", "--string-ratio", "1:2"], "voltage-matched"),
+    (["spread", "perovskite-wide", "silicon", "--terminals", "3"], "spread does not compute three"),
+    (["map", "--string-ratio", "1:2"], "map does not compute voltage-matched"),
+    (["limit", "1.73", "0.94", "--middle-resistance", "2"], "add --terminals 3"),
+    (["limit", "1.73", "0.94", "--middle-contact", "r"], "add --terminals 3"),
+    (["limit", "1.73", "0.94", "--terminals", "3", "--middle-contact", "x"], "middle contact 'x'"),
+    (["limit", "1.3", "--terminals", "3"], "3 (middle contact, two gaps)"),
+    (["limit", "1.3", "--string-ratio", "1:2"], "need two gaps"),
+    (["limit", "1.73", "0.94", "--string-ratio", "0:2"], "string ratio"),
+    (["limit", "1.73", "0.94", "--string-ratio", "1/2"], "--string-ratio '1/2'"),
+])
+def test_what_a_job_cannot_compute_is_one_line(args, message):
+    res = runner.invoke(app, args)
+    assert res.exit_code != 0
+    assert message in res.output and "Traceback" not in res.output
+    assert len(res.output.strip().splitlines()) == 1
