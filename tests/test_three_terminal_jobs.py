@@ -109,9 +109,9 @@ def test_a_yield_tables_each_connection_at_its_own_optimum():
 
 
 @pytest.mark.parametrize("args, message", [
-    (["match", "perovskite-wide", "silicon", "--terminals", "3"], "match does not compute three"),
+    (["match", "--stack", "organic-pair", "--terminals", "3"], "match --stack does not compute three"),
     (["match", "perovskite-wide", "silicon", "--string-ratio", "1:2"], "voltage-matched"),
-    (["spread", "perovskite-wide", "silicon", "--terminals", "3"], "spread does not compute three"),
+    (["spread", "perovskite-wide", "silicon", "--string-ratio", "1:2"], "spread does not compute"),
     (["map", "--string-ratio", "1:2"], "map does not compute voltage-matched"),
     (["limit", "1.73", "0.94", "--middle-resistance", "2"], "add --terminals 3"),
     (["limit", "1.73", "0.94", "--middle-contact", "r"], "add --terminals 3"),
@@ -126,3 +126,24 @@ def test_what_a_job_cannot_compute_is_one_line(args, message):
     assert res.exit_code != 0
     assert message in res.output and "Traceback" not in res.output
     assert len(res.output.strip().splitlines()) == 1
+
+
+def test_match_and_spread_rank_by_three_terminals():
+    op = tandem.OperatingPoint(terminals=3, electrical=Electrical(
+        series_resistance_ohm_cm2=1.0, middle_resistance_ohm_cm2=5.0))
+    sweep = tandem.Sweep(front_gaps_eV=[1.70, 1.80], thickness_points=12)
+    m = tandem.match("perovskite-wide", "silicon", operating=op, sweep=sweep)
+    rows = m.summary()["configurations"]
+    e3 = [r["efficiency_3t_pct"] for r in rows]
+    assert e3 == sorted(e3, reverse=True)
+    assert all(r["efficiency_2t_pct"] <= r["efficiency_3t_pct"] <= r["efficiency_4t_pct"]
+               for r in rows)  # series type
+    assert "efficiency_3t" in m.to_dataset()
+    two = tandem.match("perovskite-wide", "silicon", sweep=sweep).summary()["configurations"]
+    assert "efficiency_3t_pct" not in two[0]  # the column comes with the ranking
+    s = tandem.fabrication_spread("perovskite-wide", "silicon", operating=op, samples=40,
+                                  front_gap_eV=rows[0]["front_gap_eV"],
+                                  front_thickness_nm=rows[0]["front_thickness_nm"])
+    stats = s.summary()
+    assert stats["nominal_pct"] == pytest.approx(rows[0]["efficiency_3t_pct"], abs=2e-4)
+    assert "efficiency_3t_pct" in s.to_frame()

@@ -523,7 +523,8 @@ def design_columns(columns=None, rows=()):
         from tandem.output.report import DESIGN_COLUMNS as columns
     swept = {k for k in SWEPT_INPUTS if len({r.get(k) for r in rows}) > 1}
     return [(c.short, field_text(c.key, c.fmt, "none" if c.key.startswith("matched") else "—"),
-             not c.compact and c.key not in swept) for c in columns if c.terminal]
+             not c.compact and c.key not in swept) for c in columns
+            if c.terminal and (not c.three or any(c.key in r for r in rows))]
 
 
 def stack_over_scenario(stack: str, operating):

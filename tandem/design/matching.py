@@ -247,6 +247,14 @@ class Configuration:
     def efficiency_4t(self) -> float:
         return float(self.performance.efficiency_4t)
 
+    def efficiency(self, terminals: int) -> float:
+        """Efficiency with 2, 3 or 4 terminals [-]."""
+        return float(self.performance.efficiency(terminals))
+
+
+#: a connection in words, as rankings and verdicts name it
+CONNECTION = {2: "two-terminal", 3: "three-terminal", 4: "four-terminal"}
+
 
 @dataclass(frozen=True)
 class ThicknessSweep:
@@ -314,7 +322,7 @@ def _best_thickness(design, cond, gap, d_grid, back_d, p, terminals) -> float:
     for _ in range(4):
         x = np.linspace(a, b, 17)
         perf = stack_performance(design, cond, gap, np.exp(x), back_d)
-        q = perf.p_2t if terminals == 2 else perf.p_4t
+        q = perf.power(terminals)
         k = int(np.argmax(q))
         if q[k] > best_p:
             best_d, best_p = float(np.exp(x[k])), float(q[k])
@@ -406,8 +414,9 @@ def match_currents(
     if not 5 <= thickness_points <= 5000:
         raise TandemInputError(f"thickness points {thickness_points}: give between 5 and 5000")
     check_design_inputs(design, cond, gaps, backs, (lo, hi))
-    if terminals not in (2, 4):
-        raise TandemInputError(f"terminals {terminals}: choose 2 (series) or 4 (independent)")
+    if terminals not in (2, 3, 4):
+        raise TandemInputError(f"terminals {terminals}: choose 2 (series), 3 (middle contact) or "
+                               "4 (independent)")
     d_grid = np.geomspace(lo, hi, thickness_points)
     configs: list[Configuration] = []
     sweeps: list[ThicknessSweep] = []
@@ -422,7 +431,7 @@ def match_currents(
             _check_light(design, cond, gap, perf.j_light, lo, hi)
             sweeps.append(ThicknessSweep(float(gap), float(back_d), d_grid, perf))
             matched, note = matched_thickness(design, cond, gap, d_grid, back_d, perf.j_light)
-            power = perf.p_2t if terminals == 2 else perf.p_4t
+            power = perf.power(terminals)
             d_best = _best_thickness(design, cond, gap, d_grid, back_d, power, terminals)
             at_best = stack_performance(design, cond, gap, d_best, back_d)
             configs.append(Configuration(float(gap), composition, d_best, float(back_d), at_best,
@@ -436,8 +445,7 @@ def match_currents(
             done += 1
             if progress:
                 progress(done, total)
-    key = (lambda c: c.efficiency_2t) if terminals == 2 else (lambda c: c.efficiency_4t)
-    order = sorted(range(len(configs)), key=lambda i: key(configs[i]), reverse=True)
+    order = sorted(range(len(configs)), key=lambda i: configs[i].efficiency(terminals), reverse=True)
     assert best4 is not None  # at least one gap and one back thickness were evaluated
     return MatchResult(design, cond, [configs[i] for i in order], sweeps[order[0]], best4,
                        terminals, n_evaluated=total * thickness_points, sweeps=tuple(sweeps))
@@ -459,12 +467,11 @@ class OrderVerdict:
 def which_in_front(chosen: MatchResult, swapped: MatchResult) -> OrderVerdict:
     """Compare both orders by their best efficiency of the chosen kind (2T or 4T)."""
     def best(r: MatchResult) -> float:
-        c = r.configurations[0]
-        return c.efficiency_2t if r.terminals == 2 else c.efficiency_4t
+        return r.configurations[0].efficiency(r.terminals)
 
     a, b = best(chosen), best(swapped)
     f, k = chosen.design.front, chosen.design.back
-    kind = "two-terminal" if chosen.terminals == 2 else "four-terminal"
+    kind = CONNECTION[chosen.terminals]
     winner, loser = (f, k) if a >= b else (k, f)
     gap_w = chosen.configurations[0].front_gap_eV if a >= b else swapped.configurations[0].front_gap_eV
     gap_l = k.gap_eV if a >= b else f.gap_eV
@@ -485,7 +492,7 @@ def tolerance_windows(result: MatchResult, loss_pct: float = 1.0) -> dict:
     """
     sweep = result.best_sweep
     perf = sweep.performance
-    eff = 100 * (perf.efficiency_2t if result.terminals == 2 else perf.efficiency_4t)
+    eff = 100 * perf.efficiency(result.terminals)
     d_window = tolerance_window(np.log(sweep.front_thickness_nm), eff, loss_pct)
     best = result.configurations[0]
     same_back = sorted((c for c in result.configurations
@@ -494,8 +501,7 @@ def tolerance_windows(result: MatchResult, loss_pct: float = 1.0) -> dict:
     gap_window = None
     if len(same_back) > 1:
         gaps = np.array([c.front_gap_eV for c in same_back])
-        effs = 100 * np.array([c.efficiency_2t if result.terminals == 2 else c.efficiency_4t
-                               for c in same_back])
+        effs = 100 * np.array([c.efficiency(result.terminals) for c in same_back])
         gap_window = tolerance_window(gaps, effs, loss_pct)
     return {
         "loss_pct_abs": loss_pct,

@@ -26,14 +26,30 @@ class ScatterResult:
     nominal_2t: float
     nominal_4t: float
     layers_nm: dict = field(default_factory=dict)  #: a stack's other films: name → samples [nm]
+    efficiency_3t: np.ndarray | None = None  #: with a middle contact (the electrical's)
+    nominal_3t: float | None = None
+
+    def efficiency(self, terminals: int) -> np.ndarray:
+        """Every device's efficiency with 2, 3 or 4 terminals [-]."""
+        e = {2: self.efficiency_2t, 3: self.efficiency_3t, 4: self.efficiency_4t}[terminals]
+        if e is None:
+            raise TandemInputError("this spread holds no three-terminal efficiencies")
+        return e
+
+    def nominal(self, terminals: int) -> float:
+        """The undrawn design's efficiency with 2, 3 or 4 terminals [-]."""
+        e = {2: self.nominal_2t, 3: self.nominal_3t, 4: self.nominal_4t}[terminals]
+        if e is None:
+            raise TandemInputError("this spread holds no three-terminal efficiencies")
+        return e
 
     def stats(self, terminals: int = 2, target_pct: float | None = None) -> dict:
-        eff = 100 * (self.efficiency_2t if terminals == 2 else self.efficiency_4t)
+        eff = 100 * self.efficiency(terminals)
         # statistical percentiles (10 % of devices fall below percentile_10); not the
         # exceedance "P90" of energy-yield reports, hence the explicit names
         p10, p50, p90 = np.percentile(eff, [10, 50, 90])
         out = {"samples": int(eff.size), "terminals": terminals,
-               "nominal_pct": round(100 * (self.nominal_2t if terminals == 2 else self.nominal_4t), 4),
+               "nominal_pct": round(100 * self.nominal(terminals), 4),
                "mean_pct": round(float(eff.mean()), 4), "std_pct": round(float(eff.std()), 4),
                "percentile_10_pct": round(float(p10), 4), "median_pct": round(float(p50), 4),
                "percentile_90_pct": round(float(p90), 4)}
@@ -77,7 +93,7 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
     rng = np.random.default_rng(seed)
     gaps = front_gap + gap_sigma_eV * rng.standard_normal(samples)
     thick = _draw_thickness(rng, front_thickness_nm, thickness_sigma_pct, samples)
-    e2, e4 = np.empty(samples), np.empty(samples)
+    e2, e3, e4 = np.empty(samples), np.empty(samples), np.empty(samples)
     for start in range(0, samples, chunk):
         sl = slice(start, start + chunk)
         # optics per sample (each has its own gap), the engine once per chunk
@@ -89,10 +105,11 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
         bulk = design_bulk(design, gaps[sl], thick[sl], back_thickness_nm, cond.temperature_K)
         perf = evaluate_design(design, jl, j0, cond.temperature_K, cond.photon_flux.irradiance,
                                cond.ideality, cond.electrical, reference, bulk)
-        e2[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_4t
+        e2[sl], e3[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_3t, perf.efficiency_4t
     nominal = stack_performance(design, cond, front_gap, front_thickness_nm, back_thickness_nm)
     return ScatterResult(gaps, thick, e2, e4, float(nominal.efficiency_2t),
-                         float(nominal.efficiency_4t))
+                         float(nominal.efficiency_4t), efficiency_3t=e3,
+                         nominal_3t=float(nominal.efficiency_3t))
 
 
 def scatter_stack(stack, flux, temperature_K: float, ideality: float, electrical,
@@ -118,13 +135,13 @@ def scatter_stack(stack, flux, temperature_K: float, ideality: float, electrical
     draws = {name: _draw_thickness(rng, nominal_nm[name], thickness_sigma_pct, samples)
              for name in films}
     fixed = {k: v for k, v in nominal_nm.items() if k not in draws and k != front}
-    e2, e4 = np.empty(samples), np.empty(samples)
+    e2, e3, e4 = np.empty(samples), np.empty(samples), np.empty(samples)
     for start in range(0, samples, chunk):
         sl = slice(start, start + chunk)
         others = {**fixed, **{k: v[sl, None] for k, v in draws.items() if k != front}}
         budget = photon_budget(stack, flux.energy, draws[front][sl], others, temperature_K)
         perf = evaluate_budget(stack, budget, flux, temperature_K, ideality, electrical)[0]
-        e2[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_4t
+        e2[sl], e3[sl], e4[sl] = perf.efficiency_2t, perf.efficiency_3t, perf.efficiency_4t
         if progress:
             progress(min(start + chunk, samples), samples)
     budget = photon_budget(stack, flux.energy, [nominal_nm[front]],
@@ -133,4 +150,5 @@ def scatter_stack(stack, flux, temperature_K: float, ideality: float, electrical
     gap = stack.front.gap_eV if stack.front.gap_eV is not None else stack.front.absorber.gap_eV
     return ScatterResult(np.full(samples, float(gap)), draws[front], e2, e4,
                          float(nominal.efficiency_2t[0]), float(nominal.efficiency_4t[0]),
-                         {k: v for k, v in draws.items() if k != front})
+                         {k: v for k, v in draws.items() if k != front}, e3,
+                         float(nominal.efficiency_3t[0]))

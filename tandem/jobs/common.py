@@ -81,11 +81,11 @@ def check_connection(operating: OperatingPoint, job: str, three: bool = False,
     from tandem.core.errors import TandemInputError
 
     if operating.terminals == 3 and not three:
-        raise TandemInputError(f"{job} does not compute three terminals yet: use --terminals 2 "
-                               "or 4 (limit, map and yield take 3)")
+        raise TandemInputError(f"{job} does not compute three terminals: use --terminals 2 or 4 "
+                               "(limit, match, map, spread, yield and region take 3)")
     if operating.electrical.string_ratio is not None and not strings:
         raise TandemInputError(f"{job} does not compute voltage-matched strings: drop "
-                               "--string-ratio (limit and yield take it)")
+                               "--string-ratio (limit, yield and region take it)")
 
 
 def as_absorber(a: Absorber | str) -> Absorber:

@@ -53,7 +53,7 @@ class MatchStudy(ResultDisplay):
 
     def to_frame(self):
         """Every configuration, best first (the design-table columns)."""
-        return frame([configuration_row(c) for c in self.result.configurations])
+        return frame([configuration_row(c, self.result.terminals) for c in self.result.configurations])
 
     def to_dataset(self):
         """Photocurrents and efficiencies over front gap × back thickness × front thickness."""
@@ -64,19 +64,22 @@ class MatchStudy(ResultDisplay):
         backs = sorted({s.back_thickness_nm for s in sweeps})
         d = sweeps[0].front_thickness_nm
         shape = (len(gaps), len(backs), d.size)
-        data = {k: np.full(shape, np.nan) for k in ("jf", "jb", "e2", "e4")}
+        data = {k: np.full(shape, np.nan) for k in ("jf", "jb", "e2", "e3", "e4")}
         for s in sweeps:
             i, j = gaps.index(s.front_gap_eV), backs.index(s.back_thickness_nm)
             p = s.performance
             data["jf"][i, j], data["jb"][i, j] = p.j_light[:, 0] / 10, p.j_light[:, 1] / 10
             data["e2"][i, j], data["e4"][i, j] = 100 * p.efficiency_2t, 100 * p.efficiency_4t
+            data["e3"][i, j] = 100 * p.efficiency_3t
         dims = ("front_gap", "back_thickness", "front_thickness")
         cond = self.result.conditions
         ds = xr.Dataset(
             {"jsc_front": (dims, data["jf"], {"units": "mA/cm2"}),
              "jsc_back": (dims, data["jb"], {"units": "mA/cm2"}),
              "efficiency_2t": (dims, data["e2"], {"units": "%"}),
-             "efficiency_4t": (dims, data["e4"], {"units": "%"})},
+             "efficiency_4t": (dims, data["e4"], {"units": "%"}),
+             **({"efficiency_3t": (dims, data["e3"], {"units": "%"})}
+                if self.result.terminals == 3 else {})},
             coords={"front_gap": ("front_gap", gaps, {"units": "eV", "note": "at 298.15 K"}),
                     "back_thickness": ("back_thickness", backs, {"units": "nm"}),
                     "front_thickness": ("front_thickness", d, {"units": "nm"})},
@@ -132,7 +135,7 @@ def match(front: Absorber | str, back: Absorber | str, light: Light = Light(),
     'perovskite-wide'
     """
     check_types(light=light, operating=operating)
-    check_connection(operating, "match")
+    check_connection(operating, "match", three=True)
     a_front, a_back = absorber_pair(front, back, operating)
     gaps = sweep.gaps()
     n_gaps = len(gaps) if gaps is not None else (

@@ -130,7 +130,7 @@ def region_job(front: Absorber | str | None, back: Absorber | str | None,
     from tandem.jobs.common import absorber_pair, check_connection
     from tandem.jobs.energy_yield import yield_axes
 
-    check_connection(operating, "region")
+    check_connection(operating, "region", three=True, strings=True)
 
     design = None
     if stack is not None:
@@ -306,6 +306,10 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
             f"{label}energy_2t_kWh_m2": float(sweep.energy_2t[i, j]),
             f"{label}energy_4t_kWh_m2": float(sweep.energy_4t[i, j]),
             f"{label}mismatch_loss_kWh_m2": float(sweep.energy_4t[i, j] - sweep.energy_2t[i, j]),
+            **({f"{label}energy_3t_kWh_m2": float(sweep.energy_3t[i, j])}
+               if job.operating.terminals == 3 and sweep.energy_3t is not None else {}),
+            **({f"{label}energy_voltage_matched_kWh_m2": float(sweep.energy_vm[i, j])}
+               if sweep.energy_vm is not None else {}),
             f"{label}am15g_design_energy_2t_kWh_m2": float(sweep.energy_2t[a, b]),
             f"{label}energy_2t_grid": sweep.energy_2t.tolist(),
             # what --outside-range let the energy-optimal design take ("" when all is inside)

@@ -48,6 +48,7 @@ class SpreadResult(ResultDisplay):
         return frame({"front_gap_eV": s.front_gap_eV, "front_thickness_nm": s.front_thickness_nm,
                       **{f"{name} [nm]": d for name, d in s.layers_nm.items()},
                       "efficiency_2t_pct": 100 * s.efficiency_2t,
+                      **({"efficiency_3t_pct": 100 * s.efficiency(3)} if self.terminals == 3 else {}),
                       "efficiency_4t_pct": 100 * s.efficiency_4t})
 
     def to_dataset(self):
@@ -88,7 +89,7 @@ def fabrication_spread(front: Absorber | str, back: Absorber | str, light: Light
     0.0
     """
     check_types(light=light, operating=operating)
-    check_connection(operating, "spread")
+    check_connection(operating, "spread", three=True)
     from tandem.design.scatter import scatter
 
     a_front, a_back = absorber_pair(front, back, operating)
@@ -135,7 +136,7 @@ def fabrication_spread_stack(stack, light: Light = Light(),
     ('organic-pair', True)
     """
     check_types(light=light, operating=operating)
-    check_connection(operating, "spread")
+    check_connection(operating, "spread", three=True)
     from tandem.design.scatter import scatter_stack
     from tandem.jobs.stack_match import stack_input, swept_thicknesses
 

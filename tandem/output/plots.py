@@ -150,8 +150,9 @@ def draw_match(result: MatchResult, tolerance=None, ax=None) -> Figure:
     ax2.set_xlabel("wavelength [nm]")
     ax2.set_ylabel("absorptance collected (EQE) [-]")
     ax2.set_ylim(0, 1.05)
+    three = f" 3T {100 * best.efficiency(3):.1f} %," if result.terminals == 3 else ""
     ax2.set_title(f"at front {best.front_thickness_nm:.0f} nm: 2T {100 * best.efficiency_2t:.1f} %,"
-                  f" 4T {100 * best.efficiency_4t:.1f} %", fontsize=10)
+                  f"{three} 4T {100 * best.efficiency_4t:.1f} %", fontsize=10)
     # the EQEs fill the panel: their legend goes under it, covering no curve
     ax2.legend(fontsize=8, loc="upper center", bbox_to_anchor=(0.5, -0.16), ncol=3,
                frameon=False)
@@ -429,12 +430,11 @@ def draw_pair_comparison(results: dict, terminals: int = 2, ax=None) -> Figure:
     colours = (FRONT_COLOUR, BACK_COLOUR) + LAYER_COLOURS
     for k, r in enumerate(results.values()):
         sweep, best = r.best_sweep, r.configurations[0]
-        eff = 100 * (sweep.performance.efficiency_2t if terminals == 2
-                     else sweep.performance.efficiency_4t)
+        eff = 100 * sweep.performance.efficiency(terminals)
         colour = colours[k % len(colours)]
         ax.plot(sweep.front_thickness_nm, eff, color=colour, lw=1.4,
                 label=f"{r.design.title} ({sweep.front_gap_eV:.3f} eV)")
-        best_eff = 100 * (best.efficiency_2t if terminals == 2 else best.efficiency_4t)
+        best_eff = 100 * best.efficiency(terminals)
         ax.plot([best.front_thickness_nm], [best_eff], "*", color=colour, ms=11, mec="k",
                 mew=0.5, clip_on=False, zorder=5)
         if best.matched_front_thickness_nm is not None:

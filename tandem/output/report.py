@@ -128,6 +128,7 @@ class Column:
     value: Callable | None = None  #: configuration -> value (None: the study fills it)
     terminal: bool = True  #: shown in terminal tables
     compact: bool = True  #: kept when the terminal is narrow (the others need --wide or room)
+    three: bool = False  #: only when three terminals rank the designs
 
 
 def _limiting(c):
@@ -157,14 +158,18 @@ DESIGN_COLUMNS = [
     Column("ff_2t_pct", "FF 2T [%]", "FF 2T %", "{:.1f}", lambda c: _r(100 * c.performance.ff_2t, 3), compact=False),
     Column("efficiency_2t_pct", "2T [%]", "2T %", "{:.2f}",
            lambda c: _r(100 * c.performance.efficiency_2t)),
+    Column("efficiency_3t_pct", "3T [%]", "3T %", "{:.2f}",
+           lambda c: _r(100 * c.performance.efficiency_3t), three=True),
     Column("efficiency_4t_pct", "4T [%]", "4T %", "{:.2f}",
            lambda c: _r(100 * c.performance.efficiency_4t)),
 ]
 
 
-def configuration_row(c) -> dict:
-    """One configuration as a row of :data:`DESIGN_COLUMNS` (display units)."""
-    return {col.key: col.value(c) for col in DESIGN_COLUMNS if col.value is not None}
+def configuration_row(c, terminals: int = 2) -> dict:
+    """One configuration as a row of :data:`DESIGN_COLUMNS` (display units); the
+    three-terminal column only when three terminals rank the designs."""
+    return {col.key: col.value(c) for col in DESIGN_COLUMNS
+            if col.value is not None and (terminals == 3 or not col.three)}
 
 
 def _absorber(a) -> dict:
@@ -194,13 +199,13 @@ def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_p
         "front": _absorber(result.design.front),
         "back": _absorber(result.design.back),
         "terminals": result.terminals,
-        "configurations": [dict(configuration_row(c), outside_range=outside_ranges(
+        "configurations": [dict(configuration_row(c, result.terminals), outside_range=outside_ranges(
             result.design, c.front_gap_eV, c.front_thickness_nm, c.back_thickness_nm))
             for c in result.configurations[:top]],
         "matched_front_thickness_nm": (None if best.matched_front_thickness_nm is None
                                        else _r(best.matched_front_thickness_nm, 1)),
         "note": best.match_note if best.matched_front_thickness_nm is None else None,
-        "best_4t": configuration_row(result.best_4t),
+        "best_4t": configuration_row(result.best_4t, result.terminals),
         "tolerance": {
             "loss_pct_abs": tolerance_pct,
             "front_thickness_window_nm": [_r(v, 1) for v in windows["front_thickness_window_nm"]],
@@ -234,7 +239,8 @@ def match_summary(result, swapped=None, verdict=None, top: int = 10, tolerance_p
         summary["swapped"] = {
             "front": swapped.design.front.key,
             "back": swapped.design.back.key,
-            "configurations": [configuration_row(c) for c in swapped.configurations[:top]],
+            "configurations": [configuration_row(c, swapped.terminals)
+                               for c in swapped.configurations[:top]],
         }
     return summary
 

@@ -143,8 +143,8 @@ def _plain_log_ticks(axis) -> None:
 
 def draw_spread(result, terminals=2, target_pct=None, ax=None, outside=()) -> Figure:
     """Histogram of the fabrication spread with its percentiles, the nominal and a target."""
-    eff = 100 * (result.efficiency_2t if terminals == 2 else result.efficiency_4t)
-    nominal = 100 * (result.nominal_2t if terminals == 2 else result.nominal_4t)
+    eff = 100 * result.efficiency(terminals)
+    nominal = 100 * result.nominal(terminals)
     fig, ax = plt.subplots(figsize=(6.5, 4)) if ax is None else (ax.figure, ax)
     ax.hist(eff, bins=60, color=FRONT_COLOUR, alpha=0.8)
     p10, p50, p90 = np.percentile(eff, [10, 50, 90])

@@ -16,14 +16,8 @@ from tandem.core.errors import TandemInputError
 from tandem.core.units import K_B_EV
 from tandem.physics import detailed_balance as db
 from tandem.physics.emission import StepEmission
-from tandem.physics.junctions import (
-    _Cells,
-    _coupled_four_terminal,
-    _own_mpp,
-    _series_general,
-    _three_terminal,
-    _voltage_matched,
-)
+from tandem.physics.connections import three_terminal, voltage_matched
+from tandem.physics.junctions import _Cells, _coupled_four_terminal, _own_mpp, _series_general
 from tandem.physics.recombination import BulkRecombination
 from tandem.physics.spectra import PhotonFlux
 
@@ -55,7 +49,7 @@ class Electrical:
         or ``"r"`` (reverse type: the back's polarity is reversed, the middle contact carries
         their sum).
     middle_resistance_ohm_cm2 : three terminals only: the middle contact's own resistance
-        [Ω·cm²], beside R_s/2 in each circuit (see :func:`~tandem.physics.junctions._three_terminal`).
+        [Ω·cm²], beside R_s/2 in each circuit (see :func:`~tandem.physics.connections.three_terminal`).
         0: three terminals reach the four-terminal power.
     string_ratio : (m, n): strings of m front and n back subcells in series, in parallel at
         one voltage (voltage matching of a four-terminal module); None: not computed.
@@ -394,12 +388,12 @@ def _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, emission, irradi
     if m == 2:
         r_middle = electrical.middle_resistance_ohm_cm2 * OHM_CM2
         if r_middle > 0:
-            p_3t, j_3t, v_3t = _three_terminal(cells, r_series, r_middle,
-                                               electrical.middle_contact == "r")
+            p_3t, j_3t, v_3t = three_terminal(cells, r_series, r_middle,
+                                              electrical.middle_contact == "r", v_2t_sub)
         else:  # no middle-contact loss: each circuit at its own maximum, as with four
             p_3t, j_3t, v_3t = np.sum(p_own, axis=-1), j_own, v_own
         if electrical.string_ratio is not None:
-            p_vm, v_vm = _voltage_matched(cells, r_series, electrical.string_ratio)
+            p_vm, v_vm = voltage_matched(cells, r_series, electrical.string_ratio)
     return StackPerformance(j_light, j0_rad + j0_rear, j0_nr, float(ideality), voc, jsc, p_own,
                             j_own, v_own, j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t,
                             float(irradiance), bulk, emission, p_3t=p_3t, j_3t=j_3t, v_3t=v_3t,

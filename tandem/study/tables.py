@@ -26,7 +26,7 @@ def variant_columns(scenario: Scenario) -> list:
 TABLE_COLUMNS = ([Column("rank", "rank", "#", "{}"), Column("front", "front", "front", "{}"),
                   Column("back", "back", "back", "{}"),
                   Column("back_gap_eV", "back gap [eV]", "back eV", "{:.3f}", compact=False)]
-                 + [c for c in DESIGN_COLUMNS if c.key != "front_composition"]
+                 + [c for c in DESIGN_COLUMNS if c.key != "front_composition" and not c.three]
                  + [Column("match_note", "why no current match", "no match because", "{}",
                            terminal=False)]
                  + [Column("front_thickness_window_lo_nm", "thickness window from [nm]", "window from nm",
