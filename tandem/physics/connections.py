@@ -70,7 +70,6 @@ def three_terminal(cells: _Cells, r_series_stack: float, r_middle: float, revers
     """
     r = r_series_stack / 2
     sigma = -1.0 if reverse else 1.0
-    zeros = np.zeros(cells.j_light.shape[:-1])
     low = np.minimum(np.broadcast_to(floor, cells.j_light.shape), 0.0)
     if cells.coupled:
         vf, vb = _nested(cells, r, r_middle, sigma, low)
