@@ -144,7 +144,7 @@ BAD = [
     ('front = ["perovskite-wide", "gainp"]', 'front = ["perovskite-wide", "unobtainium"]',
      "'candidates.front' names 'unobtainium'"),
     ("[stack]\nreflectance = 0.02", "[stack]\nreflectance = 1.5", "'stack.reflectance' = 1.5"),
-    ("[stack]", "[stack]\nterminals = 3", "'stack.terminals' = 3"),
+    ("[stack]", "[stack]\nterminals = 5", "'stack.terminals' = 5 is not 2, 3 or 4"),
     ("thickness_points = 20", "thickness_points = 2", "'sweep.thickness_points'"),
     ("front_gap_range_eV = [1.5, 2.0, 0.05]", "front_gap_range_eV = [2.0, 1.5, 0.05]",
      "'map.front_gap_range_eV'"),
@@ -157,6 +157,11 @@ BAD = [
     ("[candidates]", "[candidate]", "'candidate' is not a known key"),
     # half a row was accepted (and rounded down)
     ("[report]", "[report]\ntop = 0.5", "'report.top' = 0.5 is not a whole number of rows"),
+    # the middle contact belongs to three terminals; layer stacks rank by two or four
+    ("[report]", "[electrical]\nmiddle_resistance_ohm_cm2 = 2\n[report]",
+     "'electrical.middle_resistance_ohm_cm2' applies to three terminals"),
+    ("reflectance = 0.02\n\n[candidates]", "reflectance = 0.02\nterminals = 3\n\n[candidates]\n"
+     "stacks = [\"organic-pair\"]", "'candidates.stacks' are ranked by 2 or 4 terminals"),
 ]
 
 
@@ -385,3 +390,21 @@ def test_every_bundled_scenarios_candidates_can_all_be_swept():
             assert back_thicknesses_for(back, backs, []) != [], (name, back.key)
         for front in sc.fronts:
             assert any(front.gap_range_eV[1] > b.gap_eV for b in sc.backs), (name, front.key)
+
+
+def test_a_three_terminal_study_ranks_by_its_own_column(tmp_path):
+    text = SMALL.replace("reflectance = 0.02", "reflectance = 0.02\nterminals = 3").replace(
+        "[report]", "[electrical]\nseries_resistance_ohm_cm2 = 1\nmiddle_resistance_ohm_cm2 = 5\n"
+        "[report]")
+    path = tmp_path / "three.toml"
+    path.write_text(text)
+    study = run_study(load_scenario(path))
+    e3 = [r["efficiency_3t_pct"] for r in study.rows]
+    assert e3 == sorted(e3, reverse=True)
+    assert all(r["efficiency_2t_pct"] <= r["efficiency_3t_pct"] <= r["efficiency_4t_pct"]
+               for r in study.rows)
+    out = write_study(study, tmp_path / "out", figures=False)
+    import pandas as pd
+
+    assert "efficiency_3t_pct" in pd.read_csv(out / "design-table.csv").columns
+    assert "3T [%]" in (out / "design-table.md").read_text()

@@ -77,7 +77,8 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
 
             row.update(_energy_columns(hourly(
                 design, series, best.front_gap_eV, best.front_thickness_nm,
-                best.back_thickness_nm, operating.ideality, operating.electrical)))
+                best.back_thickness_nm, operating.ideality, operating.electrical),
+                operating.terminals))
         if "spread" in scenario.data:
             from tandem.design.scatter import scatter
 
@@ -102,7 +103,7 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
         row = _stack_row(key, stacks[key])
         _stack_site_and_spread(scenario, stacks[key], series, flux, operating, row)
         rows.append(row)
-    key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
+    key = f"efficiency_{scenario.terminals}t_pct"
     rows.sort(key=lambda r: r[key], reverse=True)
     for rank, row in enumerate(rows, 1):
         row["rank"] = rank
@@ -164,10 +165,14 @@ def back_thicknesses_for(back, thicknesses_nm, notes: list) -> list | None:
     return inside
 
 
-def _energy_columns(h) -> dict:
-    """A design's energy over the scenario's period, 2T and 4T [kWh/m²] (row columns)."""
-    return {"energy_2t_kWh_m2": round(float(h.p_2t @ h.step_hours) / 1000, 3),
-            "energy_4t_kWh_m2": round(float(h.p_4t @ h.step_hours) / 1000, 3)}
+def _energy_columns(h, terminals: int = 2) -> dict:
+    """A design's energy over the scenario's period, 2T and 4T (and 3T where three terminals
+    rank) [kWh/m²] (row columns)."""
+    out = {"energy_2t_kWh_m2": round(float(h.p_2t @ h.step_hours) / 1000, 3),
+           "energy_4t_kWh_m2": round(float(h.p_4t @ h.step_hours) / 1000, 3)}
+    if terminals == 3:
+        out["energy_3t_kWh_m2"] = round(float(h.p_3t @ h.step_hours) / 1000, 3)
+    return out
 
 
 def _spread_columns(spread, scenario: Scenario) -> dict:
@@ -224,7 +229,7 @@ def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, loss
     ere = [variant.get("ere_front", ere[0]), variant.get("ere_back", ere[1])]
     by_pair = {(r["front"], r["back"]): r for r in rows if "stack" not in r}
     absorbers = {a.key: a for a in scenario.fronts + scenario.backs}
-    key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
+    key = f"efficiency_{scenario.terminals}t_pct"
     for (f_key, b_key), row in by_pair.items():
         front, back = absorbers[f_key], absorbers[b_key]
         if ere[0] is not None:
@@ -235,7 +240,7 @@ def _run_variant(scenario: Scenario, index: int, variant: dict, rows: list, loss
         result = match_currents(StackDesign(front, back, *losses_v), cond_v, gaps[gaps > back.gap_eV],
                                 back_thicknesses_for(back, sweep.back_thicknesses_nm, []),
                                 None, sweep.thickness_points, scenario.terminals)
-        best = configuration_row(result.configurations[0])
+        best = configuration_row(result.configurations[0], scenario.terminals)
         row[f"variant{index}_front_gap_eV"] = best["front_gap_eV"]
         row[f"variant{index}_front_thickness_nm"] = best["front_thickness_nm"]
         row[f"variant{index}_{key}"] = best[key]
@@ -246,7 +251,7 @@ def _row(result: MatchResult, tolerance_pct: float) -> dict:
     windows = tolerance_windows(result, tolerance_pct)
     row = {"rank": 0, "front": result.design.front.key, "back": result.design.back.key,
            "back_gap_eV": round(result.design.back.gap_eV, 4)}
-    row.update(configuration_row(best))
+    row.update(configuration_row(best, result.terminals))
     # why a row has no current match (the front limits at every thickness in range, ...)
     row["match_note"] = best.match_note if best.matched_front_thickness_nm is None else None
     lo, hi = windows["front_thickness_window_nm"]

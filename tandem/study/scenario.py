@@ -66,7 +66,8 @@ SCENARIO_SCHEMA = {
                 "samples": ("num", False), "seed": ("num", False), "target_pct": ("num", False)},
     "electrical": {"coupling": ("num", False), "series_resistance_ohm_cm2": ("num", False),
                    "shunt_resistance_ohm_cm2": ("num", False), "rear_emission": ("bool", False),
-                   "ideality": ("num", False)},
+                   "ideality": ("num", False), "middle_contact": ("str", False),
+                   "middle_resistance_ohm_cm2": ("num", False)},
 }
 
 #: keys an earlier release read, refused with their new name: (section, old) -> (new, how)
@@ -212,7 +213,8 @@ class Scenario:
         return Electrical(float(e.get("coupling", 0.0)),
                           float(e.get("series_resistance_ohm_cm2", 0.0)),
                           float(e.get("shunt_resistance_ohm_cm2", float("inf"))),
-                          bool(e.get("rear_emission", False)))
+                          bool(e.get("rear_emission", False)), str(e.get("middle_contact", "s")),
+                          float(e.get("middle_resistance_ohm_cm2", 0.0)))
 
     def site_series(self, period: str | None = None, step_minutes: float | None = None):
         """:meth:`series`, refused in one line when the scenario has no [site]; a period or
@@ -351,9 +353,17 @@ def resolve(path: Path, key: str, text: str, absorber_source, file_source, stack
     if variants is not None:
         _check_variants(c, variants)
     check_temperature(float(c.get("spectrum", "temperature_K", 298.15)), "spectrum.temperature_K")
-    if c.get("stack", "terminals", 2) not in (2, 4):
-        c.fail("stack.terminals", f"= {c.get('stack', 'terminals')!r} is not 2 or 4",
-               "use 2 (series) or 4 (independent)")
+    terminals = c.get("stack", "terminals", 2)
+    if terminals not in (2, 3, 4):
+        c.fail("stack.terminals", f"= {terminals!r} is not 2, 3 or 4",
+               "use 2 (series), 3 (middle contact) or 4 (independent)")
+    middle = [k for k in ("middle_contact", "middle_resistance_ohm_cm2")
+              if c.get("electrical", k) is not None]
+    if middle and terminals != 3:
+        c.fail(f"electrical.{middle[0]}", "applies to three terminals", "set stack.terminals = 3")
+    if terminals == 3 and c.get("candidates", "stacks"):
+        c.fail("candidates.stacks", "are ranked by 2 or 4 terminals",
+               "set stack.terminals = 2 or 4, or leave the layer stacks out")
     for k in ("reflectance", "front_parasitic", "interlayer_parasitic"):
         v = c.get("stack", k)
         if v is not None and not 0 <= v < 1:

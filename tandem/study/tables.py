@@ -10,8 +10,8 @@ from tandem.study.scenario import Scenario
 
 def variant_columns(scenario: Scenario) -> list:
     """One column group per [[variants]] entry: its best front gap, thickness, efficiency."""
-    key = "efficiency_2t_pct" if scenario.terminals == 2 else "efficiency_4t_pct"
-    t = "2T" if scenario.terminals == 2 else "4T"
+    key = f"efficiency_{scenario.terminals}t_pct"
+    t = f"{scenario.terminals}T"
     out = []
     for i, v in enumerate(scenario.data.get("variants", []), 1):
         name = v["name"]
@@ -41,6 +41,7 @@ TABLE_COLUMNS = ([Column("rank", "rank", "#", "{}"), Column("front", "front", "f
                     Column("back_file", "back file", "back file", "{}", terminal=False)])
 OPTIONAL_COLUMNS = [
     Column("energy_2t_kWh_m2", "energy 2T [kWh/m²]", "2T kWh/m²", "{:.1f}"),
+    Column("energy_3t_kWh_m2", "energy 3T [kWh/m²]", "3T kWh/m²", "{:.1f}"),
     Column("energy_4t_kWh_m2", "energy 4T [kWh/m²]", "4T kWh/m²", "{:.1f}"),
     Column("percentile_10_pct", "10th percentile [%]", "10th pct %", "{:.2f}"),
     Column("median_pct", "median [%]", "median %", "{:.2f}"),
@@ -52,7 +53,9 @@ OPTIONAL_COLUMNS = [
 def columns(study) -> list:
     """The table's columns: the fixed ones and those the scenario's options produced."""
     stack = [Column("stack", "layer stack", "stack", "{}")] if study.stacks else []
-    return (TABLE_COLUMNS[:3] + stack + TABLE_COLUMNS[3:]
+    three = [c for c in DESIGN_COLUMNS if c.three] if study.scenario.terminals == 3 else []
+    at = next(i for i, c in enumerate(TABLE_COLUMNS) if c.key == "efficiency_4t_pct")
+    return (TABLE_COLUMNS[:3] + stack + TABLE_COLUMNS[3:at] + three + TABLE_COLUMNS[at:]
             + [c for c in OPTIONAL_COLUMNS if c.key in study.rows[0]]
             + variant_columns(study.scenario))
 
