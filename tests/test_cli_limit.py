@@ -58,7 +58,7 @@ def test_table_output_names_limiting_subcell():
     (["limit", "1.73", "1.12", "--ere", "1.5"], "ERE 1.5 is outside (0, 1]"),
     (["limit", "1.73", "1.12", "--ere", "0.1,0.1,0.1"], "ERE has 3 values"),
     (["limit", "1.73", "1.12", "--ere", "x"], "--ere 'x'"),
-    (["limit", "1.73", "1.12", "-t", "5"], "terminals 5: choose 2"),
+    (["limit", "1.73", "1.12", "-t", "5"], "--terminals '5': choose 2"),
     (["limit", "1.73", "1.12", "-s", "missing.csv"], "not found"),
     (["limit", "1.3", "-s", "blackbody", "--concentration", "1e6"],
      "thermodynamic maximum 46,238.8×"),

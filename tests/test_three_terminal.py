@@ -148,13 +148,16 @@ def _reference_vm(jl, j0, r, ratio):
 @pytest.mark.parametrize("ratio", [(1, 1), (1, 2), (2, 3), (3, 5)])
 @pytest.mark.parametrize("r_s", [0.0, 1.5])
 def test_voltage_matched_strings_equal_an_independent_optimisation(flux, ratio, r_s):
-    el = Electrical(series_resistance_ohm_cm2=r_s, string_ratio=ratio)
+    el = Electrical(series_resistance_ohm_cm2=r_s, string_ratios=(ratio, (2, 5)))
     perf = tandem.step_stack(flux, np.array([1.73, 0.94]), T, electrical=el)
     expected = _reference_vm(perf.j_light, perf.j0, r_s * OHM_CM2 / 2, ratio)
-    assert float(perf.p_vm) == pytest.approx(expected, rel=1e-9)
-    assert float(perf.p_vm) <= float(perf.p_4t) * (1 + 1e-12)
+    assert float(perf.p_vm[0]) == pytest.approx(expected, rel=1e-9)
+    assert float(perf.p_vm[0]) <= float(perf.p_4t) * (1 + 1e-12)
     m, n = ratio  # the string voltage is common: m·V_f = n·V_b
-    assert m * float(perf.v_vm[0]) == pytest.approx(n * float(perf.v_vm[1]), rel=1e-9)
+    assert m * float(perf.v_vm[0, 0]) == pytest.approx(n * float(perf.v_vm[0, 1]), rel=1e-9)
+    alone = tandem.step_stack(flux, np.array([1.73, 0.94]), T, electrical=Electrical(
+        series_resistance_ohm_cm2=r_s, string_ratios=((2, 5),)))
+    assert float(perf.p_vm[1]) == float(alone.p_vm[0])  # each ratio its own, in order
 
 
 def test_voltage_matching_reaches_four_terminals_when_the_voltages_are_in_the_ratio(flux):
@@ -163,18 +166,19 @@ def test_voltage_matching_reaches_four_terminals_when_the_voltages_are_in_the_ra
     front = optimize.brentq(lambda g: (lambda p: p.v_own[0] - 2 * p.v_own[1])(
         tandem.step_stack(flux, np.array([g, back]), T)), 1.4, 2.4, xtol=1e-13)
     perf = tandem.step_stack(flux, np.array([front, back]), T,
-                             electrical=Electrical(string_ratio=(1, 2)))
-    assert float(perf.p_vm) == pytest.approx(float(perf.p_4t), rel=1e-10)
+                             electrical=Electrical(string_ratios=((1, 2),)))
+    assert float(perf.p_vm[0]) == pytest.approx(float(perf.p_4t), rel=1e-10)
     other = tandem.step_stack(flux, np.array([front, back]), T,
-                              electrical=Electrical(string_ratio=(2, 3)))
-    assert float(other.p_vm) < float(perf.p_4t) * (1 - 1e-3)
+                              electrical=Electrical(string_ratios=((2, 3),)))
+    assert float(other.p_vm[0]) < float(perf.p_4t) * (1 - 1e-3)
 
 
 @pytest.mark.parametrize("bad, message", [
     (dict(middle_contact="x"), "middle contact 'x'"),
     (dict(middle_resistance_ohm_cm2=-1.0), "middle-contact resistance -1"),
-    (dict(string_ratio=(0, 2)), "string ratio"),
-    (dict(string_ratio=(1.5, 2)), "string ratio"),
+    (dict(string_ratios=((0, 2),)), "string ratio"),
+    (dict(string_ratios=((1.5, 2),)), "string ratio"),
+    (dict(string_ratios=((1, 2), (1, 2))), "each once"),
 ])
 def test_bad_three_terminal_inputs_are_one_line(bad, message):
     with pytest.raises(tandem.TandemInputError, match=message):

@@ -34,7 +34,7 @@ def test_limit_with_three_terminals_prints_the_engines_numbers(flux):
                "--series-resistance", "1", "--string-ratio", "1:2", "--temperature", "300K",
                "--json"])
     el = Electrical(series_resistance_ohm_cm2=1.0, middle_resistance_ohm_cm2=5.0,
-                    string_ratio=(1, 2))
+                    string_ratios=((1, 2),))
     perf = tandem.step_stack(flux, np.array([1.73, 0.94]), 300.0, electrical=el)
     assert s["efficiency_pct"] == s["efficiency_3t_pct"] == pytest.approx(
         100 * float(perf.efficiency_3t), abs=1e-4)
@@ -45,8 +45,8 @@ def test_limit_with_three_terminals_prints_the_engines_numbers(flux):
     t = s["three_terminal"]
     assert t["middle_current_mA_cm2"] == pytest.approx(
         t["front_current_mA_cm2"] - t["back_current_mA_cm2"], abs=2e-4)
-    vm = s["voltage_matched"]
-    assert vm["efficiency_pct"] == pytest.approx(100 * float(perf.p_vm) / flux.irradiance, abs=1e-4)
+    vm = s["voltage_matched"][0]
+    assert vm["efficiency_pct"] == pytest.approx(100 * float(perf.p_vm[0]) / flux.irradiance, abs=1e-4)
     assert vm["string_V"] == pytest.approx(2 * vm["back_V"], abs=2e-4)  # 1 front = 2 backs
 
 
@@ -95,17 +95,21 @@ def test_a_yield_tables_each_connection_at_its_own_optimum():
     site = tandem.Site("field", latitude=38.5, longitude=-3.0, timezone="Etc/GMT-1")
     series = tandem.site_series(site, period="day:2026-06-21")
     op = tandem.OperatingPoint(terminals=3, electrical=Electrical(
-        series_resistance_ohm_cm2=1.0, middle_resistance_ohm_cm2=3.0, string_ratio=(1, 2)))
+        series_resistance_ohm_cm2=1.0, middle_resistance_ohm_cm2=3.0, string_ratios=((1, 2), (2, 3))))
     y = tandem.energy_yield("perovskite-wide", "silicon", series, op,
                             front_gaps_eV=[1.68, 1.76], front_thicknesses_nm=[500.0, 900.0])
     rows = {r["connection"]: r for r in y.summary()["connections"]}
     e = {k[:2]: rows[k]["energy_kWh_m2"] for k in rows}
     assert e["2T"] <= e["3T"] <= e["4T"] and rows["voltage-matched 1:2"]["energy_kWh_m2"] <= e["4T"]
+    best = max(("1:2", "2:3"), key=lambda k: rows[f"voltage-matched {k}"]["energy_kWh_m2"])
+    assert y.summary()["best_string_ratio"] == best
     # energy = Σ P·Δt over the steps, for the energy-optimal design hour by hour
     b = y.best
     assert float(y.sweep.energy_3t[y.sweep.optimum]) == pytest.approx(
         float(b.p_3t @ b.step_hours) / 1000, rel=1e-9)
-    assert "energy_3t" in y.to_dataset() and "p_voltage_matched_W_m2" in y.to_frame()
+    ds = y.to_dataset()
+    assert "energy_3t" in ds and list(ds["string_ratio"].values) == ["1:2", "2:3"]
+    assert "p_voltage_matched_2:3_W_m2" in y.to_frame()
 
 
 @pytest.mark.parametrize("args, message", [
@@ -120,6 +124,7 @@ def test_a_yield_tables_each_connection_at_its_own_optimum():
     (["limit", "1.3", "--string-ratio", "1:2"], "need two gaps"),
     (["limit", "1.73", "0.94", "--string-ratio", "0:2"], "string ratio"),
     (["limit", "1.73", "0.94", "--string-ratio", "1/2"], "--string-ratio '1/2'"),
+    (["limit", "1.73", "0.94", "--string-ratio", "1:2,1:2"], "each once"),
 ])
 def test_what_a_job_cannot_compute_is_one_line(args, message):
     res = runner.invoke(app, args)
@@ -147,3 +152,19 @@ def test_match_and_spread_rank_by_three_terminals():
     stats = s.summary()
     assert stats["nominal_pct"] == pytest.approx(rows[0]["efficiency_3t_pct"], abs=2e-4)
     assert "efficiency_3t_pct" in s.to_frame()
+
+
+def test_yield_compares_the_connections_it_is_given(tmp_path):
+    args = ["yield", "--latitude", "38.5", "--longitude", "-3", "--timezone", "Etc/GMT-1",
+            "--period", "day:2026-06-21", "--front-gaps", "1.70:1.76:0.06", "--points", "2",
+            "--series-resistance", "1", "--middle-resistance", "2", "--string-ratio", "best",
+            "-o", str(tmp_path / "y"), "--json", "perovskite-wide", "silicon"]
+    s = _json([*args, "--terminals", "2,3,4"])
+    names = [r["connection"] for r in s["connections"]]
+    assert names[:3] == ["2T (series)", "3T (middle contact)", "4T (independent)"]
+    assert len(names) == 3 + 7 and s["best_string_ratio"] in {n.split()[-1] for n in names[3:]}
+    energies = {r["connection"]: r["energy_kWh_m2"] for r in s["connections"]}
+    assert energies[f"voltage-matched {s['best_string_ratio']}"] == max(
+        v for k, v in energies.items() if k.startswith("voltage"))
+    res = runner.invoke(app, ["limit", "1.73", "0.94", "--terminals", "2,3"])
+    assert res.exit_code != 0 and "a list such as 2,3,4 is for yield and region" in res.output

@@ -92,8 +92,7 @@ def limit(gap_text: Annotated[list[str], typer.Argument(
                 f"Ω·cm²): front load {t['front_load_V']:.3f} V at {t['front_current_mA_cm2']:.2f} mA/cm², "
                 f"back load {t['back_load_V']:.3f} V at {t['back_current_mA_cm2']:.2f} mA/cm², middle "
                 f"contact {t['middle_current_mA_cm2']:.2f} mA/cm²")
-        if "voltage_matched" in s:
-            vm = s["voltage_matched"]
+        for vm in s.get("voltage_matched", []):
             say(f"voltage-matched strings {vm['ratio']} (front:back cells): {vm['efficiency_pct']:.2f} % "
                 f"at {vm['string_V']:.3f} V a string (front {vm['front_V']:.3f} V, back {vm['back_V']:.3f} V)")
     say(f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K",

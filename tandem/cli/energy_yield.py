@@ -164,7 +164,9 @@ def energy_yield(
             ("energy", lambda r: energy_text(r["energy_kWh_m2"])),
             ("η_E %", field_text("energy_weighted_efficiency_pct")),
             ("front gap eV", field_text("front_gap_eV", "{:.3f}")),
-            ("front nm", field_text("front_thickness_nm", "{:.0f}"))], s["connections"]))
+            ("front nm", field_text("front_thickness_nm", "{:.0f}"))], s["connections"],
+            None if s["best_string_ratio"] is None
+            else f"best string ratio over the period: {s['best_string_ratio']} (front:back cells)"))
     e4 = s["energy_optimum_4t"]
     say(f"{s['source']}: {s['steps']:,} steps, {energy_text(s['insolation_kWh_m2'])} on the module plane; "
          f"spectra in a rank-{s['spectral_basis']['rank']} basis (photocurrents within "

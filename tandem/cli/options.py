@@ -85,15 +85,17 @@ Temperature = Annotated[Optional[str], plain_option(help="Cell temperature with 
                                             metavar="TEMP")]
 OutsideRange = Annotated[bool, flag_option("--outside-range", help="Accept gaps and thicknesses outside the "
                                     "absorbers' declared ranges (reported).")]
-Terminals = Annotated[int, plain_option("--terminals", "-t", help="2 (series, one current), 3 (a "
-                                "middle contact, two loads) or 4 (independent); ranks designs.")]
+Terminals = Annotated[str, plain_option("--terminals", "-t", help="2 (series, one current), 3 (a "
+                                "middle contact, two loads) or 4 (independent); ranks designs. "
+                                "yield and region take a list (2,3,4): the connections to compare.")]
 MiddleContact = Annotated[str, plain_option("--middle-contact", help="Three terminals: s (series type, "
                                    "the middle contact carries the subcells' current difference) or "
                                    "r (reverse type: their sum).")]
 MiddleResistance = Annotated[float, plain_option("--middle-resistance", help="Three terminals: the "
                                       "middle contact's resistance in ohm cm^2 (0: 3T reaches 4T).")]
 StringRatio = Annotated[Optional[str], plain_option("--string-ratio", help="Also report voltage-matched "
-                                        "strings: M:N front:back cells in series per string, e.g. 1:2.",
+                                        "strings: M:N front:back cells in series per string, e.g. 1:2; "
+                                        "several as 1:2,2:3, or best (seven simple ratios).",
                                         metavar="M:N")]
 Ere = Annotated[Optional[str], plain_option(help="External radiative efficiency in (0, 1]: one value or "
                                     "front,back; overrides the absorbers' own.")]
@@ -147,7 +149,7 @@ def build_operating(o: dict, temperature_default: float = 298.15) -> tandem.Oper
         ere=None if o["ere"] is None else parse_floats(o["ere"], "--ere"),
         electrical=Electrical(o["coupling"], o["series_resistance"], o["shunt_resistance"],
                               o["rear_emission"], o["middle_contact"], o["middle_resistance"],
-                              parse_string_ratio(o["string_ratio"])),
+                              parse_string_ratios(o["string_ratio"])),
         front_index=o["front_index"], reflectance=o["reflectance"],
         front_parasitic=o["front_parasitic"], interlayer_parasitic=o["interlayer_parasitic"],
         allow_outside_range=o["outside_range"])
@@ -181,7 +183,7 @@ OPERATING_FIELDS = {
     "shunt_resistance": "electrical.shunt_resistance_ohm_cm2",
     "middle_contact": "electrical.middle_contact",
     "middle_resistance": "electrical.middle_resistance_ohm_cm2",
-    "string_ratio": "electrical.string_ratio"}
+    "string_ratio": "electrical.string_ratios"}
 #: shared option -> the Light field it sets
 LIGHT_FIELDS = {"spectrum": "source", "concentration": "concentration",
                 "sun_temperature": "sun_temperature_K", "irradiance": "irradiance_W_m2"}
@@ -230,7 +232,7 @@ def shared(command):
 
     defaults = {"spectrum": (Spectrum, "am1.5g"), "concentration": (Concentration, 1.0),
                 "sun_temperature": (SunTemperature, 6000.0), "irradiance": (Irradiance, None),
-                "temperature": (Temperature, None), "terminals": (Terminals, 2),
+                "temperature": (Temperature, None), "terminals": (Terminals, "2"),
                 "ere": (Ere, None), "ideality": (Ideality, 1.0), "coupling": (Coupling, 0.0),
                 "rear_emission": (RearEmission, False), "front_index": (FrontIndex, 3.5),
                 "series_resistance": (Series, 0.0), "shunt_resistance": (Shunt, math.inf),
@@ -246,6 +248,7 @@ def shared(command):
     @functools.wraps(command)
     def wrapper(*args, **kwargs):
         o = {k: kwargs.pop(k) for k in SHARED}
+        o["terminals"] = parse_terminals(o["terminals"], command.__name__ in COMPARING)
         return command(*args, o=o, **kwargs)
 
     setattr(wrapper, "__signature__", sig.replace(parameters=[
@@ -253,15 +256,43 @@ def shared(command):
     return wrapper
 
 
-def parse_string_ratio(text: str | None) -> tuple[int, int] | None:
-    """'1:2' → (1, 2): front and back cells in series per voltage-matched string."""
+#: ``--string-ratio best``: the simple ratios of front to back cells a wide-gap front over a
+#: narrow-gap back can use (front voltages about 1 to 3 times the back's)
+BEST_RATIOS = ((1, 1), (3, 4), (2, 3), (3, 5), (1, 2), (2, 5), (1, 3))
+
+
+#: commands whose --terminals may list the connections to compare (2 and 4 are always shown)
+COMPARING = ("energy_yield", "region")
+
+
+def parse_terminals(text, listing: bool = False) -> int:
+    """'2', '3' or '4' → that connection; a list such as '2,3,4' (``listing`` commands only)
+    → 3 if it holds 3 (the connection those commands add to 2 and 4), else 2."""
+    items = [t.strip() for t in str(text).split(",") if t.strip()]
+    if not items or any(t not in ("2", "3", "4") for t in items):
+        raise TandemInputError(f"--terminals '{text}': choose 2 (series), 3 (middle contact) or "
+                               "4 (independent)")
+    if len(items) > 1 and not listing:
+        raise TandemInputError(f"--terminals '{text}': give one connection (a list such as "
+                               "2,3,4 is for yield and region)")
+    return 3 if "3" in items else int(items[0]) if len(items) == 1 else 2
+
+
+def parse_string_ratios(text: str | None) -> tuple[tuple[int, int], ...]:
+    """'1:2' → ((1, 2),), '1:2,2:3' → both, 'best' → :data:`BEST_RATIOS`: front and back
+    cells in series per voltage-matched string."""
     if text is None:
-        return None
-    parts = str(text).replace(" ", "").split(":")
-    if len(parts) != 2 or not all(p.isdigit() for p in parts):
-        raise TandemInputError(f"--string-ratio '{text}': give front:back cells per string as "
-                               "two whole numbers, e.g. 1:2")
-    return int(parts[0]), int(parts[1])
+        return ()
+    if str(text).strip().lower() == "best":
+        return BEST_RATIOS
+    ratios = []
+    for item in str(text).replace(" ", "").split(","):
+        parts = item.split(":")
+        if len(parts) != 2 or not all(p.isdigit() for p in parts):
+            raise TandemInputError(f"--string-ratio '{text}': give front:back cells per string as "
+                                   "two whole numbers, e.g. 1:2 (several: 1:2,2:3; or best)")
+        ratios.append((int(parts[0]), int(parts[1])))
+    return tuple(ratios)
 
 
 def parse_floats(text: str, option: str) -> tuple[float, ...]:

@@ -85,7 +85,7 @@ class HourlyDesign:
     cell_temperature_K: np.ndarray
     step_hours: np.ndarray
     p_3t: np.ndarray | None = None  #: three terminals (the electrical's middle contact) [W/m²]
-    p_vm: np.ndarray | None = None  #: voltage-matched strings (the electrical's string ratio)
+    p_vm: np.ndarray | None = None  #: (n, k) voltage-matched strings, per string ratio
 
 
 @dataclass(frozen=True)
@@ -102,7 +102,7 @@ class YieldSweep:
     basis_rank: int = 0  #: rank of the spectra's reduced basis (:class:`~tandem.design.sky.FluxBasis`)
     basis_bound: float = 0.0  #: its largest relative photocurrent error bound per step
     energy_3t: np.ndarray | None = None  #: (n_g, n_d) three terminals [kWh/m²]
-    energy_vm: np.ndarray | None = None  #: (n_g, n_d) voltage-matched strings (a ratio given)
+    energy_vm: np.ndarray | None = None  #: (n_g, n_d, k) voltage-matched strings, per ratio
 
     def optimum_of(self, energy: np.ndarray) -> tuple[int, int]:
         i, j = np.unravel_index(int(np.nanargmax(energy)), energy.shape)
@@ -279,7 +279,8 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
     w = trapezoid_weights(flux.energy) * Q
     e2 = np.zeros((gaps.size, thicknesses.size))
     e3, e4 = np.zeros_like(e2), np.zeros_like(e2)
-    evm = None if electrical.string_ratio is None else np.zeros_like(e2)
+    k = len(electrical.string_ratios)
+    evm = np.zeros(e2.shape + (k,)) if k else None
     bins = list(_bins(series, bin_K))
     total, done = len(bins) * gaps.size, 0
     for step_bin in bins:
@@ -292,7 +293,7 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
             e3[i] += perf.power(3) @ hours / 1000.0
             e4[i] += perf.p_4t @ hours / 1000.0
             if evm is not None:
-                evm[i] += perf.p_vm @ hours / 1000.0
+                evm[i] += np.einsum("dsk,s->dk", perf.p_vm, hours) / 1000.0
             done += 1
             if progress:
                 progress(done, total)
@@ -329,7 +330,8 @@ def _hourly(design, series, gap, thickness, back_thickness_nm, ideality, electri
     flux = series.photon_basis()
     w = trapezoid_weights(flux.energy) * Q
     n = series.times.size
-    out = {k: np.zeros(n) for k in ("p2", "p3", "p4", "pvm", "jf", "jb")}
+    out = {k: np.zeros(n) for k in ("p2", "p3", "p4", "jf", "jb")}
+    out["pvm"] = np.zeros((n, len(electrical.string_ratios)))
     for step_bin in _bins(series, bin_K):
         idx = step_bin[1]
         perf, jl = _bin_performance(design, flux, w, step_bin, gap,
@@ -342,4 +344,4 @@ def _hourly(design, series, gap, thickness, back_thickness_nm, ideality, electri
     return HourlyDesign(series.times, out["p2"], out["p4"], out["jf"], out["jb"],
                         series.step_irradiance,
                         series.cell_temperature_K, series.step_hours, out["p3"],
-                        out["pvm"] if electrical.string_ratio is not None else None)
+                        out["pvm"] if electrical.string_ratios else None)

@@ -83,7 +83,7 @@ def check_connection(operating: OperatingPoint, job: str, three: bool = False,
     if operating.terminals == 3 and not three:
         raise TandemInputError(f"{job} does not compute three terminals: use --terminals 2 or 4 "
                                "(limit, match, map, spread, yield and region take 3)")
-    if operating.electrical.string_ratio is not None and not strings:
+    if operating.electrical.string_ratios and not strings:
         raise TandemInputError(f"{job} does not compute voltage-matched strings: drop "
                                "--string-ratio (limit, yield and region take it)")
 

@@ -34,10 +34,10 @@ class YieldResult(ResultDisplay):
     sweep: YieldSweep
     best: HourlyDesign
     terminals: int = 2  #: 3: three terminals join the connections (table, frame, dataset)
-    string_ratio: tuple[int, int] | None = None  #: voltage-matched strings join them
+    string_ratios: tuple = ()  #: voltage-matched strings of these (m, n) ratios join them
 
     def summary(self) -> dict:
-        return yield_summary(self.sweep, self.best, self.terminals, self.string_ratio)
+        return yield_summary(self.sweep, self.best, self.terminals, self.string_ratios)
 
     def to_frame(self):
         """The energy-optimal design step by step: powers [W/m²], photocurrents [mA/cm²]."""
@@ -46,7 +46,8 @@ class YieldResult(ResultDisplay):
         b = self.best
         return pd.DataFrame({"p_2t_W_m2": b.p_2t, "p_4t_W_m2": b.p_4t,
                              **({"p_3t_W_m2": b.p_3t} if self.terminals == 3 else {}),
-                             **({"p_voltage_matched_W_m2": b.p_vm} if self.string_ratio else {}),
+                             **{f"p_voltage_matched_{m}:{n}_W_m2": np.asarray(b.p_vm)[:, k]
+                                for k, (m, n) in enumerate(self.string_ratios)},
                              "jsc_front_mA_cm2": b.j_front / 10, "jsc_back_mA_cm2": b.j_back / 10,
                              "irradiance_W_m2": b.irradiance,
                              "cell_temperature_K": b.cell_temperature_K,
@@ -78,13 +79,16 @@ class YieldResult(ResultDisplay):
              "energy_4t": (dims, s.energy_4t, {"units": "kWh/m2"}),
              **({"energy_3t": (dims, s.energy_3t, {"units": "kWh/m2"})}
                 if self.terminals == 3 else {}),
-             **({"energy_voltage_matched": (dims, s.energy_vm, {"units": "kWh/m2"})}
-                if self.string_ratio else {}),
+             **({"energy_voltage_matched": (dims + ("string_ratio",), s.energy_vm,
+                                            {"units": "kWh/m2"})} if self.string_ratios else {}),
              "efficiency_am15g_2t": (dims, 100 * s.efficiency_am15_2t, {"units": "%"}),
              **series},
             coords={"front_gap": ("front_gap", s.gaps, {"units": "eV", "note": "at 298.15 K"}),
                     "front_thickness": ("front_thickness", s.thicknesses, {"units": "nm"}),
-                    "time": ("time", utc.to_numpy(), {"long_name": "middle of the step, UTC"})},
+                    "time": ("time", utc.to_numpy(), {"long_name": "middle of the step, UTC"}),
+                    **({"string_ratio": ("string_ratio", [f"{m}:{n}" for m, n in self.string_ratios],
+                                         {"long_name": "front:back cells per string"})}
+                       if self.string_ratios else {})},
             attrs={"source": s.series.source, "insolation_kWh_m2": float(s.insolation),
                    "front": s.design.front.key, "back": s.design.back.key,
                    "back_thickness_nm": float(s.back_thickness_nm), "site_time_zone": zone,
@@ -239,7 +243,7 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     i, j = sweep.optimum
     best = hourly(design, series, sweep.gaps[i], sweep.thicknesses[j], back_d,
                   operating.ideality, operating.electrical)
-    return YieldResult(sweep, best, operating.terminals, operating.electrical.string_ratio)
+    return YieldResult(sweep, best, operating.terminals, operating.electrical.string_ratios)
 
 
 def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint(), *,
@@ -289,7 +293,7 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
                         allow_outside=operating.allow_outside_range)
     best = hourly(design, series, gaps[0], sweep.thicknesses[sweep.optimum[1]], back_d,
                   operating.ideality, operating.electrical)
-    return YieldResult(sweep, best, operating.terminals, operating.electrical.string_ratio)
+    return YieldResult(sweep, best, operating.terminals, operating.electrical.string_ratios)
 
 
 def stack_yield_design(stack, operating: OperatingPoint, reference: Light, others=None,

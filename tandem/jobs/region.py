@@ -308,8 +308,8 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
             f"{label}mismatch_loss_kWh_m2": float(sweep.energy_4t[i, j] - sweep.energy_2t[i, j]),
             **({f"{label}energy_3t_kWh_m2": float(sweep.energy_3t[i, j])}
                if job.operating.terminals == 3 and sweep.energy_3t is not None else {}),
-            **({f"{label}energy_voltage_matched_kWh_m2": float(sweep.energy_vm[i, j])}
-               if sweep.energy_vm is not None else {}),
+            **{f"{label}energy_voltage_matched_{m}:{n}_kWh_m2": float(np.asarray(sweep.energy_vm)[i, j, k])
+               for k, (m, n) in enumerate(job.operating.electrical.string_ratios)},
             f"{label}am15g_design_energy_2t_kWh_m2": float(sweep.energy_2t[a, b]),
             f"{label}energy_2t_grid": sweep.energy_2t.tolist(),
             # what --outside-range let the energy-optimal design take ("" when all is inside)

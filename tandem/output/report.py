@@ -50,14 +50,14 @@ def _three_terminal_keys(result: DesignResult) -> dict:
 
 
 def _string_keys(result: DesignResult) -> dict:
-    """Voltage-matched strings of the stack's subcells (``--string-ratio``)."""
+    """Voltage-matched strings of the stack's subcells, one entry per ratio (``--string-ratio``)."""
     perf = result.performance
-    assert result.electrical.string_ratio is not None and perf.p_vm is not None
-    assert perf.v_vm is not None
-    m, n = result.electrical.string_ratio
-    return {"voltage_matched": {"ratio": f"{m}:{n}", "efficiency_pct": _r(100 * perf.p_vm / perf.irradiance),
-                                "front_V": _r(perf.v_vm[0]), "back_V": _r(perf.v_vm[1]),
-                                "string_V": _r(m * perf.v_vm[0])}}
+    assert perf.p_vm is not None and perf.v_vm is not None
+    return {"voltage_matched": [
+        {"ratio": f"{m}:{n}", "efficiency_pct": _r(100 * perf.p_vm[k] / perf.irradiance),
+         "front_V": _r(perf.v_vm[k, 0]), "back_V": _r(perf.v_vm[k, 1]),
+         "string_V": _r(m * perf.v_vm[k, 0])}
+        for k, (m, n) in enumerate(result.electrical.string_ratios)]}
 
 
 def design_summary(result: DesignResult) -> dict:
@@ -103,7 +103,7 @@ def design_summary(result: DesignResult) -> dict:
         "efficiency_2t_pct": _r(100 * perf.efficiency_2t) if two else None,
         "efficiency_4t_pct": _r(100 * perf.efficiency_4t) if two else None,
         **(_three_terminal_keys(result) if two and result.terminals == 3 else {}),
-        **(_string_keys(result) if two and result.electrical.string_ratio else {}),
+        **(_string_keys(result) if two and result.electrical.string_ratios else {}),
         "temperature_K": result.temperature_K,
         "irradiance_W_m2": _r(irr, 3),
         "spectrum": result.spectrum_name,
@@ -342,15 +342,16 @@ def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
     }
 
 
-def connection_rows(sweep: YieldSweep, terminals: int = 2, ratio=None) -> list[dict]:
+def connection_rows(sweep: YieldSweep, terminals: int = 2, ratios=()) -> list[dict]:
     """Energy of each connection at its own energy-optimal design: two and four terminals,
-    three when asked (``terminals`` 3), voltage-matched strings when a ``ratio`` is given."""
+    three when asked (``terminals`` 3), voltage-matched strings for each of ``ratios``."""
     energies = [("2T (series)", sweep.energy_2t)]
     if terminals == 3 and sweep.energy_3t is not None:
         energies.append(("3T (middle contact)", sweep.energy_3t))
     energies.append(("4T (independent)", sweep.energy_4t))
-    if ratio is not None and sweep.energy_vm is not None:
-        energies.append((f"voltage-matched {ratio[0]}:{ratio[1]}", sweep.energy_vm))
+    if sweep.energy_vm is not None:
+        energies += [(f"voltage-matched {m}:{n}", sweep.energy_vm[..., k])
+                     for k, (m, n) in enumerate(ratios)]
     rows = []
     for name, energy in energies:
         i, j = sweep.optimum_of(energy)
@@ -362,7 +363,15 @@ def connection_rows(sweep: YieldSweep, terminals: int = 2, ratio=None) -> list[d
     return rows
 
 
-def yield_summary(sweep: YieldSweep, best: HourlyDesign, terminals: int = 2, ratio=None) -> dict:
+def _best_ratio(sweep: YieldSweep, ratios) -> str | None:
+    """The string ratio whose voltage-matched energy is highest at its own optimum."""
+    if not ratios or sweep.energy_vm is None:
+        return None
+    k = int(np.argmax([np.nanmax(sweep.energy_vm[..., k]) for k in range(len(ratios))]))
+    return f"{ratios[k][0]}:{ratios[k][1]}"
+
+
+def yield_summary(sweep: YieldSweep, best: HourlyDesign, terminals: int = 2, ratios=()) -> dict:
     """Totals and optima in display units (the `tandem yield --json` keys)."""
     i, j = sweep.optimum
     a, b = sweep.am15_optimum
@@ -417,7 +426,8 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign, terminals: int = 2, rat
             "energy_2t_kWh_m2": round(float(sweep.energy_2t[a, b]), 3),
             "energy_4t_kWh_m2": round(float(sweep.energy_4t[a, b]), 3),
         },
-        "connections": connection_rows(sweep, terminals, ratio),
+        "connections": connection_rows(sweep, terminals, ratios),
+        "best_string_ratio": _best_ratio(sweep, ratios),
         "back_thickness_um": round(sweep.back_thickness_nm / 1000.0, 4),
         "monthly": monthly,
         "grid": {"front_gaps": int(sweep.gaps.size), "front_thicknesses": int(sweep.thicknesses.size)},

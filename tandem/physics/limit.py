@@ -107,7 +107,7 @@ def detailed_balance_limit(
     if terminals not in (2, 3, 4) or (terminals == 3 and len(gaps) != 2):
         raise TandemInputError(f"terminals {terminals}: choose 2 (series), 3 (middle contact, "
                                "two gaps) or 4 (independent)")
-    if electrical.string_ratio is not None and len(gaps) != 2:
+    if electrical.string_ratios and len(gaps) != 2:
         raise TandemInputError("voltage-matched strings need two gaps (front, back): drop "
                                "--string-ratio for a single junction")
     check_ideality(ideality)

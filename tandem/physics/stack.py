@@ -51,8 +51,9 @@ class Electrical:
     middle_resistance_ohm_cm2 : three terminals only: the middle contact's own resistance
         [Ω·cm²], beside R_s/2 in each circuit (see :func:`~tandem.physics.connections.three_terminal`).
         0: three terminals reach the four-terminal power.
-    string_ratio : (m, n): strings of m front and n back subcells in series, in parallel at
-        one voltage (voltage matching of a four-terminal module); None: not computed.
+    string_ratios : ((m, n), ...): strings of m front and n back subcells in series, in
+        parallel at one voltage (voltage matching of a four-terminal module), one result per
+        ratio; empty: not computed.
 
     Examples
     --------
@@ -67,7 +68,7 @@ class Electrical:
     rear_emission: bool = False
     middle_contact: str = "s"
     middle_resistance_ohm_cm2: float = 0.0
-    string_ratio: tuple[int, int] | None = None
+    string_ratios: tuple[tuple[int, int], ...] = ()
 
     def __post_init__(self):
         if not 0.0 <= self.coupling <= 1.0:
@@ -84,12 +85,14 @@ class Electrical:
         if not (self.middle_resistance_ohm_cm2 >= 0 and math.isfinite(self.middle_resistance_ohm_cm2)):
             raise TandemInputError(f"middle-contact resistance {self.middle_resistance_ohm_cm2:g} "
                                    "Ω·cm²: give a finite value ≥ 0")
-        if self.string_ratio is not None and not (
-                len(self.string_ratio) == 2
-                and all(isinstance(k, int) and not isinstance(k, bool) and 1 <= k <= 20
-                        for k in self.string_ratio)):
-            raise TandemInputError(f"string ratio {self.string_ratio!r}: give two whole numbers "
-                                   "of cells from 1 to 20, front:back, e.g. 1:2")
+        for ratio in self.string_ratios:
+            if not (isinstance(ratio, tuple) and len(ratio) == 2
+                    and all(isinstance(k, int) and not isinstance(k, bool) and 1 <= k <= 20
+                            for k in ratio)):
+                raise TandemInputError(f"string ratio {ratio!r}: give two whole numbers of cells "
+                                       "from 1 to 20, front:back, e.g. 1:2")
+        if len(set(self.string_ratios)) != len(self.string_ratios) or len(self.string_ratios) > 12:
+            raise TandemInputError(f"string ratios {self.string_ratios!r}: give up to 12, each once")
 
     @property
     def resistive(self) -> bool:
@@ -141,8 +144,8 @@ class StackPerformance:
     p_3t: np.ndarray | None = None  #: (...) three-terminal maximum power (two subcells)
     j_3t: np.ndarray | None = None  #: (..., m) each subcell's current there
     v_3t: np.ndarray | None = None  #: (..., m) the two loads' voltages there (top, back)
-    p_vm: np.ndarray | None = None  #: (...) voltage-matched strings' power (a string ratio set)
-    v_vm: np.ndarray | None = None  #: (..., m) each subcell's terminal voltage there
+    p_vm: np.ndarray | None = None  #: (..., k) voltage-matched strings' power, per string ratio
+    v_vm: np.ndarray | None = None  #: (..., k, m) each subcell's terminal voltage there
 
     @property
     def j0(self) -> np.ndarray:
@@ -392,8 +395,10 @@ def _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, emission, irradi
                                               electrical.middle_contact == "r", v_2t_sub)
         else:  # no middle-contact loss: each circuit at its own maximum, as with four
             p_3t, j_3t, v_3t = np.sum(p_own, axis=-1), j_own, v_own
-        if electrical.string_ratio is not None:
-            p_vm, v_vm = voltage_matched(cells, r_series, electrical.string_ratio)
+        if electrical.string_ratios:
+            strings = [voltage_matched(cells, r_series, ratio) for ratio in electrical.string_ratios]
+            p_vm = np.stack([p for p, _ in strings], -1)
+            v_vm = np.stack([v for _, v in strings], -2)
     return StackPerformance(j_light, j0_rad + j0_rear, j0_nr, float(ideality), voc, jsc, p_own,
                             j_own, v_own, j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t,
                             float(irradiance), bulk, emission, p_3t=p_3t, j_3t=j_3t, v_3t=v_3t,
