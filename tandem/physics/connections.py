@@ -186,8 +186,12 @@ def _junction_at_terminal(cells: _Cells, i: int, target, r: float, gain=0.0, v_o
     f(V_j) = V_j − r·J(V_j) − target rises and is convex (J is concave in V_j), so Newton's
     method from a point where f ≥ 0 (the larger of the target and the open circuit) falls
     monotonically onto the root, in a few steps. ``v_open``: the junction's open circuit, if
-    known."""
+    known. The start is the lower of that point and target + r·J_L (f ≥ 0 there too, as no
+    junction at a voltage ≥ 0 delivers more than its photocurrent): about r·(J_L − J) above
+    the root, two or three steps."""
     v = np.maximum(target, cells.voltage(i, 0.0, gain) if v_open is None else v_open)
+    near = target + r * (cells.j_light[..., i] + gain)
+    v = np.where(near >= 0, np.minimum(v, near), v)
     for _ in range(100):
         x = v / cells.vt
         j = cells.current(i, v, gain)
