@@ -125,11 +125,12 @@ def _newton(cells, r_series_stack, r_middle, sigma, low):
         step = np.where(np.isfinite(step), step, 0.0)
         scale = np.abs(np.stack([jf, jb], -1)) + 1e-3  # A/m²: the size of a gradient term
         # stationary: the gradient vanishes, or a Newton step on a concave patch is under
-        # 1 nV (the power is then exact to ~|H|·δV², 10⁻¹¹ W/m²; an Auger term's gradient
-        # carries rounding of 10⁻⁸ of the current, so it alone cannot say so)
+        # 0.1 µV (the power is then exact to ~|H|·δV², under 10⁻⁹ W/m²; an Auger term's
+        # gradient carries rounding of 10⁻⁸ of the current, which keeps its Newton steps
+        # near 10⁻⁹ V however long they run, so the gradient alone cannot say so)
         concave_here = joint | (~both & np.all(~free | (diagonal < 0), axis=-1))
         settled = (np.all(~free | (np.abs(g) <= 1e-9 * scale), axis=-1)
-                   | (concave_here & (np.max(np.abs(step), axis=-1) < 1e-9)))
+                   | (concave_here & (np.max(np.abs(step), axis=-1) < 1e-7)))
         t = np.ones(zeros.shape)
         pending = ~settled
         new = v.copy()
