@@ -168,3 +168,23 @@ def test_yield_compares_the_connections_it_is_given(tmp_path):
         v for k, v in energies.items() if k.startswith("voltage"))
     res = runner.invoke(app, ["limit", "1.73", "0.94", "--terminals", "2,3"])
     assert res.exit_code != 0 and "a list such as 2,3,4 is for yield and region" in res.output
+
+
+def test_a_region_site_records_the_connections_of_its_yield():
+    """A site's record equals the yield of the same day at its 2T energy optimum."""
+    from tandem.jobs.region import SiteSpec, region_job, site_year
+
+    op = tandem.OperatingPoint(terminals=3, electrical=Electrical(
+        series_resistance_ohm_cm2=1.0, middle_resistance_ohm_cm2=2.0, string_ratios=((1, 2),)))
+    job = region_job("perovskite-wide", "silicon", op, front_gaps_eV=[1.70, 1.76],
+                     thickness_points=2, period="day:2026-06-21")
+    record = site_year(SiteSpec("Porto Brisa", 38.7, -9.1, 50.0, "Etc/GMT-1"), job)
+    assert (record["energy_2t_kWh_m2"] <= record["energy_3t_kWh_m2"]
+            <= record["energy_4t_kWh_m2"])
+    assert record["energy_voltage_matched_1:2_kWh_m2"] <= record["energy_4t_kWh_m2"]
+    site = tandem.Site("Porto Brisa", 38.7, -9.1, 50.0, tilt_deg=38.7, timezone="Etc/GMT-1")
+    y = tandem.energy_yield("perovskite-wide", "silicon",
+                            tandem.site_series(site, period="day:2026-06-21"), op,
+                            front_gaps_eV=[1.70, 1.76], front_thicknesses_nm=job.thicknesses_nm)
+    i, j = y.sweep.optimum
+    assert record["energy_3t_kWh_m2"] == pytest.approx(float(y.sweep.energy_3t[i, j]), rel=1e-9)

@@ -137,6 +137,10 @@ def region(
             ("2T kWh/m²", lambda r: f"{r['energy_2t_kWh_m2']:.1f}"),
             ("4T kWh/m²", lambda r: f"{r['energy_4t_kWh_m2']:.1f}"),
             ("mismatch kWh/m²", lambda r: f"{r['mismatch_loss_kWh_m2']:.1f}"),
+            *([("3T kWh/m²", lambda r: f"{r['energy_3t_kWh_m2']:.1f}")]
+              if job.operating.terminals == 3 else []),
+            *[(f"VM {m}:{n} kWh/m²", lambda r, key=f"energy_voltage_matched_{m}:{n}_kWh_m2":
+               f"{r[key]:.1f}") for m, n in job.operating.electrical.string_ratios],
             ("AM1.5G design 2T", lambda r: f"{r['am15g_design_energy_2t_kWh_m2']:.1f}")]
     if bifacial:
         cols += [("bifacial gap eV", lambda r: f"{r['bifacial_front_gap_eV']:.3f}"),
