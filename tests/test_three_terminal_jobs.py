@@ -114,6 +114,7 @@ def test_a_yield_tables_each_connection_at_its_own_optimum():
 
 @pytest.mark.parametrize("args, message", [
     (["match", "--stack", "organic-pair", "--terminals", "3"], "match --stack does not compute three"),
+    (["match", "--stack", "organic-pair", "--terminals", "4"], "drop --terminals 4"),
     (["match", "perovskite-wide", "silicon", "--string-ratio", "1:2"], "voltage-matched"),
     (["spread", "perovskite-wide", "silicon", "--string-ratio", "1:2"], "spread does not compute"),
     (["map", "--string-ratio", "1:2"], "map does not compute voltage-matched"),

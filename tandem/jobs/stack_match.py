@@ -151,6 +151,10 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
     from dataclasses import replace
 
     from tandem.core.errors import TandemInputError
+
+    if operating.terminals == 4:  # it ranks current matches; 4T is reported beside each
+        raise TandemInputError("match --stack finds current matches (two terminals) and reports "
+                               "the four-terminal efficiency beside each; drop --terminals 4")
     from tandem.design.layerstack import match_in_stack
 
     stack = stack_input(stack, operating)
