@@ -12,7 +12,8 @@ from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import PhotonFlux
 from tandem.physics import detailed_balance as db
 from tandem.physics.emission import StepEmission
-from tandem.physics.stack import IDEAL, StackPerformance, evaluate_stack, reference_current_above
+from tandem.physics.stack import (IDEAL, StackPerformance, by_connection, evaluate_stack,
+                                  reference_current_above)
 
 #: Default map ranges (low, high, step) [eV]: wide-gap fronts over the usual back-cell gaps.
 DEFAULT_FRONT = (1.40, 2.30, 0.01)
@@ -37,11 +38,8 @@ class GapMap:
     efficiency_3t: np.ndarray | None = None  #: (nf, nb) with a middle contact
 
     def efficiency(self, terminals: int) -> np.ndarray:
-        if terminals == 3:
-            if self.efficiency_3t is None:
-                raise TandemInputError("this map holds no three-terminal efficiencies")
-            return self.efficiency_3t
-        return self.efficiency_2t if terminals == 2 else self.efficiency_4t
+        return by_connection(terminals, self.efficiency_2t, self.efficiency_3t,
+                             self.efficiency_4t, "this map")
 
     def optimum(self, terminals: int) -> tuple[int, int]:
         eff = self.efficiency(terminals)

@@ -15,6 +15,7 @@ import numpy as np
 from tandem.design.matching import (Conditions, StackDesign, design_bulk, design_currents,
                                     evaluate_design, stack_performance)
 from tandem.core.errors import TandemInputError
+from tandem.physics.stack import by_connection
 
 
 @dataclass(frozen=True)
@@ -31,17 +32,13 @@ class ScatterResult:
 
     def efficiency(self, terminals: int) -> np.ndarray:
         """Every device's efficiency with 2, 3 or 4 terminals [-]."""
-        e = {2: self.efficiency_2t, 3: self.efficiency_3t, 4: self.efficiency_4t}[terminals]
-        if e is None:
-            raise TandemInputError("this spread holds no three-terminal efficiencies")
-        return e
+        return by_connection(terminals, self.efficiency_2t, self.efficiency_3t,
+                             self.efficiency_4t, "this spread")
 
     def nominal(self, terminals: int) -> float:
         """The undrawn design's efficiency with 2, 3 or 4 terminals [-]."""
-        e = {2: self.nominal_2t, 3: self.nominal_3t, 4: self.nominal_4t}[terminals]
-        if e is None:
-            raise TandemInputError("this spread holds no three-terminal efficiencies")
-        return e
+        return by_connection(terminals, self.nominal_2t, self.nominal_3t, self.nominal_4t,
+                             "this spread")
 
     def stats(self, terminals: int = 2, target_pct: float | None = None) -> dict:
         eff = 100 * self.efficiency(terminals)

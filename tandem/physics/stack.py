@@ -107,6 +107,15 @@ class Electrical:
 IDEAL = Electrical()
 
 
+def by_connection(terminals: int, two, three, four, holder: str):
+    """The value for 2, 3 or 4 terminals, refused in one line where ``holder`` (what holds
+    the values, in words) has no three-terminal value (None)."""
+    value = {2: two, 3: three, 4: four}[terminals]
+    if value is None:
+        raise TandemInputError(f"{holder} holds no three-terminal values")
+    return value
+
+
 @dataclass(frozen=True)
 class StackPerformance:
     """Arrays describing a sweep of stacks; subcells on the last axis where it applies.
@@ -167,11 +176,8 @@ class StackPerformance:
 
     def power(self, terminals: int) -> np.ndarray:
         """Maximum power with 2 (series), 3 (middle contact) or 4 terminals [W/m²]."""
-        if terminals == 3:
-            if self.p_3t is None:
-                raise TandemInputError("three terminals need two subcells")
-            return self.p_3t
-        return self.p_2t if terminals == 2 else self.p_4t
+        return by_connection(terminals, self.p_2t, self.p_3t, self.p_4t,
+                             "a single junction (three terminals need two subcells)")
 
     def efficiency(self, terminals: int) -> np.ndarray:
         return self.power(terminals) / self.irradiance
