@@ -158,12 +158,12 @@ def test_match_and_spread_rank_by_three_terminals():
 def test_yield_compares_the_connections_it_is_given(tmp_path):
     args = ["yield", "--latitude", "38.5", "--longitude", "-3", "--timezone", "Etc/GMT-1",
             "--period", "day:2026-06-21", "--front-gaps", "1.70:1.76:0.06", "--points", "2",
-            "--series-resistance", "1", "--middle-resistance", "2", "--string-ratio", "best",
+            "--series-resistance", "1", "--middle-resistance", "2", "--string-ratio", "1:2,2:5,1:3",
             "-o", str(tmp_path / "y"), "--json", "perovskite-wide", "silicon"]
     s = _json([*args, "--terminals", "2,3,4"])
     names = [r["connection"] for r in s["connections"]]
     assert names[:3] == ["2T (series)", "3T (middle contact)", "4T (independent)"]
-    assert len(names) == 3 + 7 and s["best_string_ratio"] in {n.split()[-1] for n in names[3:]}
+    assert len(names) == 3 + 3 and s["best_string_ratio"] in {n.split()[-1] for n in names[3:]}
     energies = {r["connection"]: r["energy_kWh_m2"] for r in s["connections"]}
     assert energies[f"voltage-matched {s['best_string_ratio']}"] == max(
         v for k, v in energies.items() if k.startswith("voltage"))
@@ -189,3 +189,11 @@ def test_a_region_site_records_the_connections_of_its_yield():
                             front_gaps_eV=[1.70, 1.76], front_thicknesses_nm=job.thicknesses_nm)
     i, j = y.sweep.optimum
     assert record["energy_3t_kWh_m2"] == pytest.approx(float(y.sweep.energy_3t[i, j]), rel=1e-9)
+
+
+def test_best_names_seven_simple_string_ratios():
+    from tandem.cli.options import BEST_RATIOS, parse_string_ratios
+
+    assert parse_string_ratios("best") == BEST_RATIOS and len(BEST_RATIOS) == 7
+    assert parse_string_ratios("1:2, 2:3") == ((1, 2), (2, 3))
+    assert all(1 <= n / m <= 3 for m, n in BEST_RATIOS)  # back cells per front cell
