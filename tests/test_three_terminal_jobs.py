@@ -117,7 +117,7 @@ def test_a_yield_tables_each_connection_at_its_own_optimum():
     (["match", "--stack", "organic-pair", "--terminals", "4"], "drop --terminals 4"),
     (["match", "perovskite-wide", "silicon", "--string-ratio", "1:2"], "voltage-matched"),
     (["spread", "perovskite-wide", "silicon", "--string-ratio", "1:2"], "spread does not compute"),
-    (["map", "--string-ratio", "1:2"], "map does not compute voltage-matched"),
+    (["map", "--string-ratio", "1:2", "--front-absorber", "perovskite-wide"], "give both a front"),
     (["limit", "1.73", "0.94", "--middle-resistance", "2"], "add --terminals 3"),
     (["limit", "1.73", "0.94", "--middle-contact", "r"], "add --terminals 3"),
     (["limit", "1.73", "0.94", "--terminals", "3", "--middle-contact", "x"], "middle contact 'x'"),
@@ -197,3 +197,28 @@ def test_best_names_seven_simple_string_ratios():
     assert parse_string_ratios("best") == BEST_RATIOS and len(BEST_RATIOS) == 7
     assert parse_string_ratios("1:2, 2:3") == ((1, 2), (2, 3))
     assert all(1 <= n / m <= 3 for m, n in BEST_RATIOS)  # back cells per front cell
+
+
+def test_a_map_of_string_ratios_names_where_each_wins():
+    op = tandem.OperatingPoint(electrical=Electrical(string_ratios=((1, 2), (2, 3), (1, 1))))
+    fronts, backs = tandem.gap_range(1.5, 2.1, 0.1), tandem.gap_range(0.9, 1.2, 0.1)
+    m = tandem.gap_map(operating=op, front_gaps_eV=fronts, back_gaps_eV=backs)
+    vm = m.gap_map.efficiency_vm
+    assert vm.shape == (fronts.size, backs.size, 3)
+    assert np.all(np.nan_to_num(vm) <= np.nan_to_num(m.gap_map.efficiency_4t)[..., None] + 1e-12)
+    # each pair's value is the engine's for that pair (step_stack, its own evaluation)
+    flux = tandem.reference_spectrum("am1.5g").photon_flux()
+    i, j = 3, 1
+    perf = tandem.step_stack(flux, np.array([fronts[i], backs[j]]), 298.15,
+                             electrical=op.electrical)
+    assert vm[i, j] == pytest.approx(np.asarray(perf.p_vm) / flux.irradiance, rel=1e-9)
+    s = m.summary()
+    assert set(s["voltage_matched_at_optimum_pct"]) == {"1:2", "2:3", "1:1"}
+    assert "efficiency_voltage_matched_2:3_pct" in m.to_frame()
+    from tandem.output.plots import _map_axes_figure
+
+    fig = _map_axes_figure(m.gap_map, 2, 1.0, ())
+    labels = [a.get_ylabel() for a in fig.axes]
+    assert "best voltage-matched − 2T efficiency [% abs]" in labels
+    named = {t.get_text() for a in fig.axes for t in a.texts}
+    assert named & {"1:2", "2:3"}  # the ratios are named where they win

@@ -297,6 +297,10 @@ def gap_map(front: Annotated[Optional[str], plain_option("--front", help="Front 
          f"{opt['mismatch_pct']:.2f} %)",
          *([f"three terminals recover up to {s['largest_3t_gain_over_2t_pct_abs']:.2f} % abs over two "
             "(second panel of the figure)"] if o["terminals"] == 3 else []),
+         *([f"voltage-matched strings recover up to {s['largest_string_gain_over_2t_pct_abs']:.2f} % abs "
+            "over two (best ratio at each pair; last panel), at the optimum "
+            + ", ".join(f"{k} {v:.2f} %" for k, v in s["voltage_matched_at_optimum_pct"].items())]
+           if "largest_string_gain_over_2t_pct_abs" in s else []),
          f"within {tolerance:g} % abs of best: front gap {fw[0]:.3f}–{fw[1]:.3f} eV"
          + ("" if bw is None else f", back gap {bw[0]:.3f}–{bw[1]:.3f} eV"),
          f"{s['valid_pairs']:,} gap pairs computed (front above back, below degeneracy); {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m², cell "

@@ -36,6 +36,8 @@ class GapMap:
     spectrum: str
     irradiance: float
     efficiency_3t: np.ndarray | None = None  #: (nf, nb) with a middle contact
+    efficiency_vm: np.ndarray | None = None  #: (nf, nb, k) voltage-matched strings, per ratio
+    string_ratios: tuple = ()  #: the (m, n) ratios of ``efficiency_vm``
 
     def efficiency(self, terminals: int) -> np.ndarray:
         return by_connection(terminals, self.efficiency_2t, self.efficiency_3t,
@@ -74,6 +76,9 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
     pairs = np.stack([f[valid], b[valid]], axis=-1)
     i_front, i_back = np.nonzero(valid)
     fields = {k: np.full(f.shape, np.nan) for k in ("e2", "e3", "e4", "jf", "jb", "voc")}
+    ratios = (electrical or IDEAL).string_ratios
+    vm = np.full(f.shape + (len(ratios),), np.nan)
+    out_vm = np.empty((len(pairs), len(ratios)))
     out = {k: np.empty(len(pairs)) for k in fields}
     ere = np.asarray(ere, dtype=float)
     # Photons above a gap and the Bose integral from a gap depend on one gap only: computed once
@@ -110,13 +115,16 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
         out["jf"][sl] = perf.j_light[:, 0]
         out["jb"][sl] = perf.j_light[:, 1]
         out["voc"][sl] = perf.voc_2t
+        if ratios:
+            out_vm[sl] = np.asarray(perf.p_vm) / photon_flux.irradiance
         if progress:
             progress(min(start + chunk, len(pairs)), len(pairs))
     for k in fields:
         fields[k][valid] = out[k]
+    vm[valid] = out_vm
     return GapMap(front_gaps, back_gaps, fields["e2"], fields["e4"], fields["jf"], fields["jb"],
                   fields["voc"], float(temperature_K), photon_flux.name, photon_flux.irradiance,
-                  fields["e3"])
+                  fields["e3"], vm if ratios else None, tuple(ratios))
 
 
 def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thickness_nm=None,
@@ -147,6 +155,8 @@ def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thick
     grid = np.geomspace(thinnest, thickest, thickness_points)
     shape = (front_gaps.size, back_gaps.size)
     e2, e3, e4, jf, jb, voc, used = (np.full(shape, np.nan) for _ in range(7))
+    ratios = conditions.electrical.string_ratios
+    vm = np.full(shape + (len(ratios),), np.nan)
     total, done = shape[0] * shape[1], 0
     for j, gb in enumerate(back_gaps):
         for i, gf in enumerate(front_gaps):
@@ -163,12 +173,15 @@ def absorber_gap_map(design, conditions, front_gaps, back_gaps=None, front_thick
             e2[i, j], e3[i, j], e4[i, j] = (perf.efficiency_2t, perf.efficiency_3t,
                                             perf.efficiency_4t)
             jf[i, j], jb[i, j] = perf.j_light
+            if ratios:
+                vm[i, j] = np.asarray(perf.p_vm) / perf.irradiance
             voc[i, j], used[i, j] = perf.voc_2t, d
             if progress and (done % 10 == 0 or done == total):
                 progress(done, total)
     cond = conditions
     return GapMap(front_gaps, back_gaps, e2, e4, jf, jb, voc, cond.temperature_K,
-                  cond.photon_flux.name, cond.photon_flux.irradiance, e3), used
+                  cond.photon_flux.name, cond.photon_flux.irradiance, e3,
+                  vm if ratios else None, tuple(ratios)), used
 
 
 def map_table(gap_map: GapMap, front_thickness_nm=None, terminals: int = 2):
@@ -185,6 +198,8 @@ def map_table(gap_map: GapMap, front_thickness_nm=None, terminals: int = 2):
         "efficiency_2t_pct": 100 * gap_map.efficiency_2t[valid],
         "efficiency_4t_pct": 100 * gap_map.efficiency_4t[valid],
         **({"efficiency_3t_pct": 100 * gap_map.efficiency(3)[valid]} if terminals == 3 else {}),
+        **{f"efficiency_voltage_matched_{m}:{n}_pct": 100 * np.asarray(gap_map.efficiency_vm)[valid, k]
+           for k, (m, n) in enumerate(gap_map.string_ratios)},
         "jsc_front_mA_cm2": jf / 10,
         "jsc_back_mA_cm2": jb / 10,
         "voc_2t_V": gap_map.voc_2t[valid],

@@ -85,7 +85,7 @@ def check_connection(operating: OperatingPoint, job: str, three: bool = False,
                                "(limit, match, map, spread, yield and region take 3)")
     if operating.electrical.string_ratios and not strings:
         raise TandemInputError(f"{job} does not compute voltage-matched strings: drop "
-                               "--string-ratio (limit, yield and region take it)")
+                               "--string-ratio (limit, map, yield and region take it)")
 
 
 def as_absorber(a: Absorber | str) -> Absorber:

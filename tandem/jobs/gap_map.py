@@ -107,7 +107,7 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
     1.75
     """
     check_types(light=light, operating=operating)
-    check_connection(operating, "map", three=True)
+    check_connection(operating, "map", three=True, strings=True)
     fronts = (gap_range(*DEFAULT_FRONT) if front_gaps_eV is None
               else gap_values(front_gaps_eV, "front gaps"))
     backs = None if back_gaps_eV is None else gap_values(back_gaps_eV, "back gaps")

@@ -229,26 +229,23 @@ def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None, note=Non
         ax.legend(fontsize=8)
         ax.grid(alpha=0.3)
         return fig
-    gain_ax = None
+    # beside the map, what a middle contact and voltage-matched strings recover over two
+    panels = ([("3t", 100 * (gap_map.efficiency(3) - gap_map.efficiency_2t))] if terminals == 3
+              else [])
+    if gap_map.efficiency_vm is not None:
+        panels.append(("vm", 100 * (np.nanmax(gap_map.efficiency_vm, axis=-1)
+                                    - gap_map.efficiency_2t)))
     if ax is not None:
-        fig = ax.figure
-    elif terminals == 3:  # beside the map, what the middle contact recovers over two terminals
-        fig, (ax, gain_ax) = plt.subplots(1, 2, figsize=(13, 5.6))
+        fig, extra = ax.figure, []
+    elif panels:
+        fig, axes = plt.subplots(1, 1 + len(panels), figsize=(6.5 + 6 * len(panels), 5.6))
+        ax, extra = axes[0], list(axes[1:])
     else:
         fig, ax = plt.subplots(figsize=(7, 5.6))
+        extra = []
     B, F = np.meshgrid(bg, fg)
-    if gain_ax is not None:
-        gain = 100 * (gap_map.efficiency_3t - gap_map.efficiency_2t)
-        steps = matplotlib.ticker.MaxNLocator(12).tick_values(0, max(np.nanmax(gain), 0.1))
-        shade = gain_ax.contourf(B, F, gain, levels=steps, cmap="magma")
-        fig.colorbar(shade, ax=gain_ax, label="3T − 2T efficiency [% abs]")
-        balance = gap_map.j_front - gap_map.j_back
-        if np.nanmin(balance) < 0 < np.nanmax(balance):
-            gain_ax.contour(B, F, balance, levels=[0], colors="cyan", linewidths=1.0)
-        gain_ax.set_xlabel("back gap [eV]")
-        gain_ax.set_ylabel("front gap [eV]")
-        gain_ax.set_title("what three terminals recover over two (cyan: equal currents)",
-                          fontsize=8)
+    for gain_ax, (kind, gain) in zip(extra, panels):
+        _gain_panel(fig, gain_ax, B, F, gain, gap_map, kind)
     best = np.nanmax(eff)
     levels = np.arange(np.floor(np.nanmin(eff)), np.ceil(best) + 0.5, 0.5)
     filled = ax.contourf(B, F, eff, levels=levels, cmap="viridis")
@@ -278,9 +275,40 @@ def _map_axes_figure(gap_map, terminals, tolerance_pct, marks, ax=None, note=Non
     ax.set_xlabel("back gap [eV]")
     ax.set_ylabel("front gap [eV]")
     ax.set_title((f"{note}\n" if note else "")
-                 + f"{gap_map.spectrum}, cell {gap_map.temperature_K:g} K — red: equal currents; "
+                 + f"{gap_map.spectrum}, cell {gap_map.temperature_K:g} K\nred: equal currents; "
                  f"orange dashed: within {tolerance_pct:g} % of best", fontsize=8)
     return fig
+
+
+def _gain_panel(fig, ax, B, F, gain, gap_map, kind: str) -> None:
+    """What three terminals (``kind`` '3t', never negative) or the best of the voltage-matched
+    string ratios ('vm', which can fall below two terminals: a diverging scale, and each ratio
+    named where it is the best) recover over two terminals [% abs]."""
+    if kind == "3t":
+        steps = matplotlib.ticker.MaxNLocator(12).tick_values(0, max(np.nanmax(gain), 0.1))
+        shade = ax.contourf(B, F, gain, levels=steps, cmap="magma")
+        label, title = "3T − 2T efficiency [% abs]", "what three terminals recover over two"
+    else:
+        reach = max(np.nanmax(np.abs(gain)), 0.1)
+        steps = matplotlib.ticker.MaxNLocator(16, symmetric=True).tick_values(-reach, reach)
+        shade = ax.contourf(B, F, gain, levels=steps, cmap="RdBu_r")
+        label = "best voltage-matched − 2T efficiency [% abs]"
+        title = "what voltage-matched strings recover over two (best ratio, named where it wins)"
+        best = np.nanargmax(np.where(np.isnan(gap_map.efficiency_vm), -np.inf,
+                                     gap_map.efficiency_vm), axis=-1)
+        for k, (m, n) in enumerate(gap_map.string_ratios):
+            where = (best == k) & np.isfinite(gain)
+            if where.sum() >= 4:  # name the ratio at the middle of where it wins
+                ax.text(np.median(B[where]), np.median(F[where]), f"{m}:{n}", fontsize=8,
+                        ha="center", va="center", color="k",
+                        bbox={"boxstyle": "round", "fc": "white", "ec": "none", "alpha": 0.7})
+    fig.colorbar(shade, ax=ax, label=label)
+    balance = gap_map.j_front - gap_map.j_back
+    if np.nanmin(balance) < 0 < np.nanmax(balance):
+        ax.contour(B, F, balance, levels=[0], colors="cyan", linewidths=1.0)
+    ax.set_xlabel("back gap [eV]")
+    ax.set_ylabel("front gap [eV]")
+    ax.set_title(f"{title}\ncyan: equal currents", fontsize=8)
 
 
 def map_figures(gap_map, terminals, tolerance_pct, marks, prefix: str | Path,

@@ -304,6 +304,18 @@ def absorber_summary(a) -> dict:
     return out
 
 
+def _string_map_keys(gap_map: GapMap, i: int, j: int) -> dict:
+    """Voltage-matched strings on a map: each ratio at the optimum, and the most they recover
+    over two terminals anywhere (the best ratio at each gap pair)."""
+    if gap_map.efficiency_vm is None:
+        return {}
+    vm = 100 * gap_map.efficiency_vm
+    gain = np.nanmax(vm, axis=-1) - 100 * gap_map.efficiency_2t
+    return {"voltage_matched_at_optimum_pct": {f"{m}:{n}": round(float(vm[i, j, k]), 4)
+                                               for k, (m, n) in enumerate(gap_map.string_ratios)},
+            "largest_string_gain_over_2t_pct_abs": round(float(np.nanmax(gain)), 4)}
+
+
 def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
     """Optimum and tolerance windows of a map, in display units."""
     from tandem.design.matching import tolerance_window
@@ -333,6 +345,7 @@ def map_summary(gap_map: GapMap, terminals: int, tolerance_pct: float) -> dict:
         },
         **({"largest_3t_gain_over_2t_pct_abs": round(float(np.nanmax(
             100 * (gap_map.efficiency_3t - gap_map.efficiency_2t))), 4)} if terminals == 3 else {}),
+        **_string_map_keys(gap_map, i, j),
         "grid_points": gap_map.grid_points,
         "valid_pairs": int(np.isfinite(gap_map.efficiency_2t).sum()),
         "spectrum": gap_map.spectrum,
