@@ -222,3 +222,13 @@ def test_a_map_of_string_ratios_names_where_each_wins():
     assert "best voltage-matched − 2T efficiency [% abs]" in labels
     named = {t.get_text() for a in fig.axes for t in a.texts}
     assert named & {"1:2", "2:3"}  # the ratios are named where they win
+
+
+def test_strings_that_would_drive_a_back_past_its_gap_turn_away_from_it(flux):
+    """2:3 strings of a 2.3 eV front put about 1.3 V on a 0.8 eV back: the back cannot hold
+    it (its exact emission diverges at the gap), so the strings settle at a lower voltage."""
+    el = Electrical(series_resistance_ohm_cm2=1.0, string_ratios=((2, 3), (1, 2)))
+    perf = tandem.step_stack(flux, np.array([2.3, 0.8]), 298.15, electrical=el)
+    assert np.all(np.isfinite(perf.p_vm)) and np.all(perf.p_vm > 0)
+    assert np.all(perf.p_vm <= perf.p_4t * (1 + 1e-12))
+    assert np.all(perf.v_vm[:, 1] < 0.8)  # no back above its gap

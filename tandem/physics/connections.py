@@ -199,7 +199,11 @@ def _junction_at_terminal(cells: _Cells, i: int, target, r: float, gain=0.0, v_o
         slope = (cells.a[..., i] * np.exp(x) + cells.b[..., i] * np.exp(x / cells.n) / cells.n) / cells.vt
         slope = slope + 1.0 / cells.r_shunt + sum(t.current_slope(v, cells.vt)[1]
                                                   for t in cells._terms[i])
-        new = np.minimum(v - (v - r * j - target) / (1.0 + r * slope), v)
+        with np.errstate(invalid="ignore"):
+            new = np.minimum(v - (v - r * j - target) / (1.0 + r * slope), v)
+        # a target above the gap (a step absorber's exact emission is infinite there): no
+        # root; v stays, its current is −∞ and the caller's search turns away from it
+        new = np.where(np.isfinite(new), new, v)
         done = np.max(np.abs(new - v) - 1e-12 * np.abs(v), initial=0.0) < 1e-13
         v = new
         if done:
@@ -232,7 +236,9 @@ def voltage_matched(cells: _Cells, r_series_stack: float, ratio: tuple[int, int]
 
     def total(vf):
         jf, v_front, jb, v_back = operating(vf)
-        return jf * v_front + jb * v_back
+        with np.errstate(invalid="ignore"):
+            p = jf * v_front + jb * v_back
+        return np.where(np.isnan(p), -np.inf, p)  # a back driven past its gap
 
     voc_f = np.maximum(cells.voltage(0, 0.0), 0.0) + zeros
     vf = db.golden_maximum(total, zeros, voc_f, iterations=GOLDEN_STEPS)
