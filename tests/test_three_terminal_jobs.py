@@ -232,3 +232,28 @@ def test_strings_that_would_drive_a_back_past_its_gap_turn_away_from_it(flux):
     assert np.all(np.isfinite(perf.p_vm)) and np.all(perf.p_vm > 0)
     assert np.all(perf.p_vm <= perf.p_4t * (1 + 1e-12))
     assert np.all(perf.v_vm[:, 1] < 0.8)  # no back above its gap
+
+
+def test_a_yields_work_estimate_counts_what_its_connections_cost(monkeypatch):
+    """The estimate scales by the measured cost (×1.7 with a middle contact, +0.8 a ratio):
+    read back from the refusal of a run over a limit lowered for the test."""
+    import re
+
+    import tandem.jobs.common as common
+
+    site = tandem.Site("field", latitude=38.5, longitude=-3.0, timezone="Etc/GMT-1")
+    series = tandem.site_series(site, period="day:2026-06-21")
+    monkeypatch.setattr(common, "LIMIT_SECONDS", 1e-9)
+
+    def counted(electrical, terminals=2):
+        op = tandem.OperatingPoint(terminals=terminals, electrical=electrical)
+        with pytest.raises(tandem.TandemInputError) as refused:
+            tandem.energy_yield("perovskite-wide", "silicon", series, op,
+                                front_gaps_eV=[1.66, 1.7, 1.74, 1.78],
+                                front_thicknesses_nm=np.geomspace(300.0, 1200.0, 10))
+        return float(re.search(r"has ([\d,.]+) ", str(refused.value)).group(1).replace(",", ""))
+
+    base = counted(Electrical())
+    assert counted(Electrical(middle_resistance_ohm_cm2=2.0), 3) == pytest.approx(1.7 * base, rel=0.01)
+    assert counted(Electrical(string_ratios=((1, 2), (2, 3)))) == pytest.approx(2.6 * base, rel=0.01)
+    assert counted(Electrical(), 3) == base  # no middle-contact loss: 3T is 4T, free
