@@ -20,12 +20,30 @@ Progress = Callable[[int, int], None]
 
 #: Measured throughput on the 2-core reference machine (tests/benchmarks/run.py; rounded down):
 #: configurations per second for each job, and the limits beyond which a run must be asked for.
-RATES = {"map": 3.0e5, "match": 1.0e4, "spread": 8.0e3, "yield": 1.0e6,
+RATES = {"map": 3.0e5, "match": 1.0e4, "spread": 8.0e3,
+         # a clear year (4,451 steps × 11 gaps × 16 thicknesses), perovskite over CIGS: 1.9 s,
+         # 408,000 a second (the 1e6 used before predated recombination in the bulk, below)
+         "yield": 4.0e5,
          # a layer stack's yield solves its films and traces its wafer per temperature bin and
          # front thickness: 25 of them a second for the bundled wafer stack (12 bins × 8
          # thicknesses of a June day in 3.9 s, measured here)
          "yield --stack": 20.0}
 LIMIT_SECONDS, LIMIT_BYTES = 600.0, 2 * 2**30
+
+
+#: A pair whose absorber has bulk recombination (Auger, SRH: the bundled silicon) solves the
+#: full balance at every step: the same year over silicon took 17.4 s, 45,000 a second (9×)
+BULK_COST = 9.0
+#: Series or shunt resistance (the general search): the silicon year 16.9 → 23.5 s (1.4×)
+RESISTIVE_COST = 1.4
+
+
+def yield_cost(operating: OperatingPoint, front: Absorber, back: Absorber) -> float:
+    """How many times a plain pair's yield (``RATES["yield"]``) one with these absorbers and
+    options costs: bulk recombination, resistances, connections (all measured)."""
+    bulk = front.bulk is not None or back.bulk is not None
+    return ((BULK_COST if bulk else 1.0) * (RESISTIVE_COST if operating.electrical.resistive else 1.0)
+            * connection_cost(operating))
 
 
 def connection_cost(operating: OperatingPoint) -> float:

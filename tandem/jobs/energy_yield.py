@@ -9,7 +9,7 @@ import numpy as np
 
 from tandem.design.matching import StackDesign
 from tandem.jobs.common import (check_types, Progress, ResultDisplay, absorber_pair, check_work,
-                                connection_cost)
+                                connection_cost, yield_cost)
 from tandem.jobs.inputs import Light, OperatingPoint, gap_values, thickness_axis
 from tandem.optics.absorbers import Absorber
 from tandem.output.report import yield_summary
@@ -233,8 +233,8 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
     design = StackDesign(a_front, a_back, *operating.losses_on(energy))
     gaps, thick = yield_axes(a_front, a_back, front_gaps_eV, front_thicknesses_nm, thickness_points)
     back_d = a_back.thickness_nm if back_thickness_nm is None else float(back_thickness_nm)
-    check_work("yield", series.times.size * gaps.size * thick.size * connection_cost(operating),
-               allow_large=allow_large,
+    check_work("yield", series.times.size * gaps.size * thick.size
+               * yield_cost(operating, a_front, a_back), allow_large=allow_large,
                what="step × design evaluations")
     flux = reference.photon_flux()
     sweep = yield_sweep(design, series, gaps, thick, back_d, flux,
