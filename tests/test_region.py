@@ -291,3 +291,19 @@ def test_a_region_site_outside_the_declared_ranges_says_so(tmp_path):
     result = run_region([spec], outside, tmp_path / "r", workers=1)
     written = write_region_outputs(result)
     assert any(p.name == "region.nc" for p in written)
+
+
+def test_a_region_over_ten_minutes_on_its_workers_is_refused_before_any_work(tmp_path):
+    """43,681 clear-sky site-years over silicon: about 4e5 s of one core (its yield's measured
+    rate and costs); refused in one line, nothing written, --large named."""
+    from typer.testing import CliRunner
+
+    from tandem.cli.app import app
+
+    out = tmp_path / "huge"
+    res = CliRunner().invoke(app, ["region", "perovskite-wide", "silicon", "--latitudes",
+                                   "-60:60:1", "--longitudes", "-180:180:1", "--workers", "2",
+                                   "--out", str(out)])
+    assert res.exit_code == 2 and len(res.output.strip().splitlines()) == 1
+    assert "43,681 sites on 2 local workers" in res.output and "pass --large" in res.output
+    assert not out.exists()

@@ -2,13 +2,14 @@
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 from typing import Annotated, Optional
 
 import typer
 
 import tandem
-from tandem.cli.options import (escape, flag_option, Json, Quiet, build_light, build_operating, emit_json, err,
+from tandem.cli.options import (escape, flag_option, Json, Large, Quiet, build_light, build_operating, emit_json, err,
                                 given, out, over_scenario, parse_gap_option, parse_range,
                                 parse_thickness, plain_option, progress_bar, progress_callback,
                                 render_table, say, stack_over_scenario)
@@ -54,7 +55,7 @@ def region(
                                     "region.nc.")] = False,
         overwrite: Annotated[bool, flag_option(help="Replace a region folder tandem wrote (every site "
                                         "is computed again).")] = False,
-        quiet: Quiet = False, json_out: Json = False, *, o):
+        large: Large = False, quiet: Quiet = False, json_out: Json = False, *, o):
     """Energy-optimal front gap and thickness at many sites, on a dask cluster.
 
     Each site's year is one task; an interrupted run resumes where it stopped. Examples:
@@ -122,11 +123,19 @@ def region(
         job = region_job(front, back, build_operating(o), back_thickness_nm=back_d, period=period,
                          step_minutes=step, reference=build_light(o), stack=stack, **sweep)
     folder = Path(out_folder or default)
+    from tandem.jobs.common import check_seconds, region_seconds
+
+    seconds = region_seconds(job, specs)
+    if scheduler is None:  # a local cluster's size is known; a remote one's is its owner's
+        cores = workers or os.cpu_count() or 1
+        check_seconds("region", seconds / cores, f"{len(specs):,} sites on {cores} local "
+                      f"worker{'s' if cores > 1 else ''}", large)
     with progress_bar(quiet or json_out, "sites") as bar:
         result = run_region(specs, job, folder, scheduler, workers, progress_callback(bar), overwrite)
     written = write_region_outputs(result, grids)
     s = result.summary()
     s["scenario_overrides"] = notes
+    s["work_estimate_core_seconds"] = round(seconds, 1)
     s["outputs"] = [str(p) for p in written]
     if json_out:
         return emit_json(s)
@@ -158,7 +167,8 @@ def region(
     say(f"AM1.5G-optimal design: {first['am15g_front_gap_eV']:.3f} eV, "
          f"{first['am15g_front_thickness_nm']:.0f} nm (its energy at each site: the 'AM1.5G design 2T' column)",
          f"computed {len(s['computed'])} sites, resumed {len(s['resumed'])}; "
-         f"{s['seconds_per_site']:.2f} s per site in a worker")
+         f"{s['seconds_per_site']:.2f} s per site in a worker (estimated "
+         f"{s['work_estimate_core_seconds'] / max(len(specs), 1):.2f})")
     err.print(f"wrote {escape(str(folder))}/ (sites/, region.nc, region.csv, region.png)")
     out.print(f"[dim]{escape(tandem.CAUTION)} Clear skies have no clouds.[/]")
 

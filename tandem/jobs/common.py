@@ -46,6 +46,43 @@ def yield_cost(operating: OperatingPoint, front: Absorber, back: Absorber) -> fl
             * connection_cost(operating))
 
 
+#: A region site's work besides its sweep (its spectra, the AM1.5G comparison, its record):
+#: 0.6–2 s measured for a day, a month and a year in one process, 3.5 s for a day in a fresh
+#: local worker
+SITE_SECONDS = 2.0
+
+
+def region_seconds(job, specs) -> float:
+    """One core's seconds for every site of a region: each site's daylight steps (half of the
+    period's, or of a weather file's 8,760 hours) × the designs at the yield's measured rate
+    and costs, twice with bifacial rows, plus :data:`SITE_SECONDS`. Measured at one site over
+    perovskite-wide: a year over silicon estimated 17.6 s + 2, ran 19.7 s; over CIGS 2.0 + 2,
+    ran 2.1 s."""
+    from tandem.design.sky import parse_period
+
+    clear = parse_period(job.period, "UTC", job.step_minutes).size / 2
+    designs = len(job.gaps_eV) * len(job.thicknesses_nm)
+    if job.stack is not None:  # films and wafer per temperature bin (about 20 a year)
+        per_step = len(job.thicknesses_nm) * 20 / RATES["yield --stack"] / max(clear, 1.0)
+    else:
+        per_step = designs * yield_cost(job.operating, job.front, job.back) / RATES["yield"]
+    rows = 2 if job.rows is not None else 1
+    return sum((8760 / 2 if spec.weather else clear) * per_step * rows + SITE_SECONDS
+               for spec in specs)
+
+
+def check_seconds(job: str, seconds: float, what: str, allow_large: bool = False) -> None:
+    """Refuse, with the estimate, a run predicted to take over 10 minutes (``what`` says how
+    it was counted); ``allow_large`` (``--large``) lifts the limit."""
+    from tandem.core.errors import TandemInputError
+
+    if allow_large or seconds <= LIMIT_SECONDS:
+        return
+    raise TandemInputError(f"this {job} is {what}: about {seconds:,.0f} s, over the limit of "
+                           f"{LIMIT_SECONDS / 60:.0f} min; narrow it, or pass --large to run it "
+                           "anyway")
+
+
 def connection_cost(operating: OperatingPoint) -> float:
     """How many times the two- and four-terminal yield a yield with these connections costs.
 
