@@ -29,6 +29,9 @@ RATES = {"map": 3.0e5, "match": 1.0e4, "spread": 8.0e3,
          # thicknesses of a June day in 3.9 s, measured here)
          "yield --stack": 20.0}
 LIMIT_SECONDS, LIMIT_BYTES = 600.0, 2 * 2**30
+#: A gap map's memory at its peak, per grid point: the grids, a chunk's arrays, the table and
+#: its files (a 901 × 701 map measured 183 MB above the command's own 199 MB: 290 bytes)
+MAP_BYTES = 300.0
 
 
 #: A pair whose absorber has bulk recombination (Auger, SRH: the bundled silicon) solves the

@@ -16,8 +16,8 @@ from tandem.design.maps import (
     step_gap_map,
 )
 from tandem.design.matching import Conditions, StackDesign
-from tandem.jobs.common import (Progress, ResultDisplay, absorber_pair, check_connection, check_types, check_work,
-                                conditions_attrs)
+from tandem.jobs.common import (MAP_BYTES, Progress, ResultDisplay, absorber_pair, check_connection,
+                                check_types, check_work, conditions_attrs)
 from tandem.jobs.inputs import Light, OperatingPoint, gap_range, gap_values
 from tandem.optics.absorbers import Absorber
 from tandem.output.report import map_summary
@@ -116,9 +116,7 @@ def gap_map(light: Light = Light(), operating: OperatingPoint = OperatingPoint()
     n_backs = 1 if backs is None else backs.size
     per_pair = 60 * 30 if (front_absorber is not None and rematch) else (
         30 if front_absorber is not None else 1)  # optics per pair cost about this many steps
-    # memory: about 290 bytes a grid point at its peak (the grids, the chunk's arrays, the
-    # table and its files; a 901 × 701 map measured 183 MB above the command's own 199 MB)
-    check_work("map", fronts.size * n_backs * per_pair, 300.0 * fronts.size * n_backs,
+    check_work("map", fronts.size * n_backs * per_pair, MAP_BYTES * fronts.size * n_backs,
                allow_large=allow_large, what="gap-pair evaluations")
     flux = light.photon_flux()
     marks = tuple(marks)
