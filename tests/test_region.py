@@ -307,3 +307,45 @@ def test_a_region_over_ten_minutes_on_its_workers_is_refused_before_any_work(tmp
     assert res.exit_code == 2 and len(res.output.strip().splitlines()) == 1
     assert "43,681 sites on 2 local workers" in res.output and "pass --large" in res.output
     assert not out.exists()
+
+
+def _day_job():
+    f, b = tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon")
+    return RegionJob(f, b, OperatingPoint(), (1.70, 1.76), (500.0, 1000.0), 160e3,
+                     period="day:2026-06-21")
+
+
+def test_one_run_at_a_time_writes_a_region_folder(sites, tmp_path):
+    """A live run's lock refuses a second in one line; a killed run's lock is taken over, and
+    the lock is gone when the run ends."""
+    import os
+    import subprocess
+    import sys
+
+    from tandem.core.files import LOCK_NAME
+
+    folder = tmp_path / "region"
+    run_region(sites[:1], _day_job(), folder, workers=1)  # a region folder, as a run leaves it
+    (folder / LOCK_NAME).write_text(str(os.getppid()))  # a live process that is not us
+    with pytest.raises(tandem.TandemInputError, match="being written by another tandem run"):
+        run_region(sites[:1], _day_job(), folder, workers=1)
+    ended = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"],
+                           capture_output=True, text=True).stdout.strip()
+    (folder / LOCK_NAME).write_text(ended)  # a run that was killed
+    result = run_region(sites[:2], _day_job(), folder, workers=1)
+    assert result.computed == [sites[1].name] and not (folder / LOCK_NAME).exists()
+
+
+def test_an_edited_site_record_is_computed_again(sites, tmp_path):
+    import json
+
+    folder = tmp_path / "region"
+    first = run_region(sites[:2], _day_job(), folder, workers=1)
+    path = folder / "sites" / f"{sites[0].name}.json"
+    record = json.loads(path.read_text())
+    true = record["energy_2t_kWh_m2"]
+    record["energy_2t_kWh_m2"] = 2 * true  # a hand edit (the fingerprint still matches)
+    path.write_text(json.dumps(record))
+    again = run_region(sites[:2], _day_job(), folder, workers=1)
+    assert again.computed == [sites[0].name] and again.reused == [sites[1].name]
+    assert again.to_frame()["energy_2t_kWh_m2"].tolist() == first.to_frame()["energy_2t_kWh_m2"].tolist()

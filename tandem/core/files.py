@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import shutil
@@ -362,3 +363,37 @@ def write_csv(frame, path) -> None:
     from pyarrow import csv
 
     csv.write_csv(pa.Table.from_pandas(frame, preserve_index=False), str(path))
+
+
+LOCK_NAME = ".tandem-lock"
+
+
+@contextlib.contextmanager
+def folder_lock(folder: Path, what: str):
+    """Hold ``folder``/.tandem-lock (this process's id) while writing into ``folder``: a
+    second run finds it and is refused in one line; a lock whose process has ended (a killed
+    run) is taken over. Removed on the way out, whatever happens."""
+    lock = Path(folder) / LOCK_NAME
+    for _ in range(3):
+        try:
+            fd = os.open(lock, os.O_CREAT | os.O_EXCL | os.O_WRONLY)
+        except FileExistsError:
+            try:
+                pid = int(lock.read_text(encoding="utf-8").strip() or 0)
+            except (OSError, ValueError):
+                pid = 0
+            if pid and pid != os.getpid() and _alive(pid):
+                raise TandemInputError(f"{what} '{folder}' is being written by another tandem "
+                                       f"run (process {pid}); wait for it to finish or choose "
+                                       "another --out") from None
+            lock.unlink(missing_ok=True)  # stale: its process has ended
+            continue
+        with os.fdopen(fd, "w", encoding="utf-8") as handle:
+            handle.write(str(os.getpid()))
+        break
+    else:
+        raise TandemInputError(f"{what} '{folder}': could not take its lock; try again")
+    try:
+        yield
+    finally:
+        lock.unlink(missing_ok=True)

@@ -24,8 +24,10 @@ from typing import TYPE_CHECKING, Any, Callable
 import numpy as np
 
 from tandem.core.errors import TandemInputError
-from tandem.core.files import STAMP, check_output_folder, write_whole
+from tandem.core.files import STAMP, check_output_folder
 from tandem.jobs.common import ResultDisplay
+from tandem.jobs.region_folder import (REGION_FORMAT, _clear_region_folder, _digest, _read_record,
+                                       _write_json, region_folder_reason)
 from tandem.jobs.fingerprints import file_sha, input_files_sha, stack_text, tandem_version
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.optics.absorbers import Absorber
@@ -34,7 +36,6 @@ if TYPE_CHECKING:  # for annotations only: no import cost at run time
     from tandem.design.sky import Rows
     from tandem.design.yields import StackYield
 
-REGION_FORMAT = "tandem-region/1"
 SCHEDULER_TIMEOUT_S = 20  #: how long to wait for a scheduler to answer
 SITE_COLUMNS = ("name", "latitude", "longitude", "altitude_m", "timezone", "weather")
 _NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 ._+-]{0,63}$")
@@ -400,39 +401,6 @@ class RegionResult(ResultDisplay):
         return draw_region(self, ax)
 
 
-def region_folder_reason(folder: Path, job: RegionJob, overwrite: bool = False) -> str | None:
-    """None if ``folder`` may be used, else why not: it is new, or a region folder tandem
-    wrote for the same job (a resumed run), or for another job with ``overwrite``."""
-    marker = folder / "region.json"
-    if not os.path.lexists(folder):
-        return None
-    if not folder.is_dir() or folder.is_symlink():
-        return f"'{folder}' is not a folder; choose another --out"
-    try:
-        meta = json.loads(marker.read_text(encoding="utf-8"))
-        ok = meta.get("format") == REGION_FORMAT and meta.get("written_by") == STAMP
-    except (OSError, ValueError, AttributeError):
-        ok, meta = False, {}
-    if not ok:
-        return (f"'{folder}' exists and is not a region folder tandem wrote; choose another --out "
-                "(tandem writes into, resumes and replaces only its own region folders)")
-    if meta.get("job") != job.job_fingerprint() and not overwrite:
-        return (f"region folder '{folder}' holds a region with other inputs; choose another "
-                "--out, or pass --overwrite to replace it")
-    return None
-
-
-def _clear_region_folder(folder: Path) -> None:
-    """Remove what tandem wrote in a region folder (and nothing else)."""
-    from tandem.core.files import written_by_tandem
-
-    for path in list((folder / "sites").glob("*.json")) + [folder / n for n in REGION_FILES]:
-        if written_by_tandem(path):
-            path.unlink()
-
-
-REGION_FILES = ("region.nc", "region.csv", "region.png", "region.json")
-
 
 def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
                scheduler: str | None = None, workers: int | None = None,
@@ -454,10 +422,22 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
     if reason:
         raise TandemInputError(reason)
     created = not folder.exists()
-    if not folder.exists():
+    if created:
         check_output_folder(folder)
-        (folder / "sites").mkdir(parents=True)
-    elif overwrite:  # --overwrite always recomputes: nothing of the old run is read back
+        (folder / "sites").mkdir(parents=True, exist_ok=True)
+    from tandem.core.files import folder_lock
+
+    with folder_lock(folder, "region folder"):  # one run at a time writes a region folder
+        if (folder / "region.json").exists():  # what another run wrote before this one waited
+            reason = region_folder_reason(folder, job, overwrite)
+            if reason:
+                raise TandemInputError(reason)
+        return _run_locked(sites, job, folder, scheduler, workers, progress, overwrite, created)
+
+
+def _run_locked(sites, job, folder, scheduler, workers, progress, overwrite, created):
+    """:func:`run_region` holding the folder's lock."""
+    if overwrite:  # --overwrite always recomputes: nothing of the old run is read back
         _clear_region_folder(folder)
     (folder / "sites").mkdir(exist_ok=True)
     _write_json(folder / "region.json", {"format": REGION_FORMAT, "written_by": STAMP,
@@ -475,6 +455,7 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
 
     def finished(spec: SiteSpec, record: dict) -> None:
         record.update(fingerprint=job.fingerprint(spec), written_by=STAMP)
+        record["digest"] = _digest(record)
         _write_json(folder / "sites" / f"{spec.name}.json", record)
         records[spec.name] = record
         computed.append(spec.name)
@@ -499,6 +480,7 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
     for r in ordered:
         r.pop("fingerprint", None)
         r.pop("written_by", None)
+        r.pop("digest", None)
     return RegionResult(ordered, computed, reused, folder, job)
 
 
@@ -565,21 +547,3 @@ def _run_distributed(todo, job, scheduler, workers, finished) -> None:
         client.close()
         if cluster is not None:
             cluster.close()
-
-
-def _read_record(folder: Path, spec: SiteSpec, job: RegionJob) -> dict | None:
-    path = folder / "sites" / f"{spec.name}.json"
-    try:
-        record = json.loads(path.read_text(encoding="utf-8"))
-    except (OSError, ValueError):
-        return None
-    if record.get("fingerprint") != job.fingerprint(spec):
-        return None  # inputs changed: computed again
-    return record
-
-
-def _write_json(path: Path, payload: dict) -> None:
-    def write(tmp: Path) -> None:
-        tmp.write_text(json.dumps(payload, indent=1) + "\n", encoding="utf-8")
-
-    write_whole(path, write, overwrite=True)
