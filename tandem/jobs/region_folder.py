@@ -8,17 +8,13 @@ import hashlib
 import json
 import os
 from pathlib import Path
-from typing import TYPE_CHECKING
 
 from tandem.core.files import STAMP, write_whole
-
-if TYPE_CHECKING:
-    from tandem.jobs.region import RegionJob, SiteSpec
 
 REGION_FORMAT = "tandem-region/1"
 
 
-def region_folder_reason(folder: Path, job: RegionJob, overwrite: bool = False) -> str | None:
+def region_folder_reason(folder: Path, job, overwrite: bool = False) -> str | None:
     """None if ``folder`` may be used, else why not: it is new, or a region folder tandem
     wrote for the same job (a resumed run), or for another job with ``overwrite``."""
     marker = folder / "region.json"
@@ -52,7 +48,9 @@ def _clear_region_folder(folder: Path) -> None:
 REGION_FILES = ("region.nc", "region.csv", "region.png", "region.json")
 
 
-def _read_record(folder: Path, spec: SiteSpec, job: RegionJob) -> dict | None:
+def _read_record(folder: Path, spec, job) -> dict | None:
+    """A site's record (``spec``: a SiteSpec) if its inputs match ``job`` (a RegionJob) and its
+    numbers their digest, else None (computed again)."""
     path = folder / "sites" / f"{spec.name}.json"
     try:
         record = json.loads(path.read_text(encoding="utf-8"))
