@@ -128,7 +128,7 @@ def region(
     seconds = region_seconds(job, specs)
     if scheduler is None:  # a local cluster's size is known; a remote one's is its owner's
         cores = workers or os.cpu_count() or 1
-        check_seconds("region", seconds / cores, f"{len(specs):,} sites on {cores} local "
+        check_seconds("region", seconds / cores, f"is {len(specs):,} sites on {cores} local "
                       f"worker{'s' if cores > 1 else ''}", large)
     with progress_bar(quiet or json_out, "sites") as bar:
         result = run_region(specs, job, folder, scheduler, workers, progress_callback(bar), overwrite)

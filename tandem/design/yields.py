@@ -104,24 +104,23 @@ class YieldSweep:
     energy_3t: np.ndarray | None = None  #: (n_g, n_d) three terminals [kWh/m²]
     energy_vm: np.ndarray | None = None  #: (n_g, n_d, k) voltage-matched strings, per ratio
 
-    def optimum_of(self, energy: np.ndarray) -> tuple[int, int]:
-        i, j = np.unravel_index(int(np.nanargmax(energy)), energy.shape)
+    @staticmethod
+    def optimum_of(values: np.ndarray) -> tuple[int, int]:
+        """(gap, thickness) indices of the largest of ``values`` over the sweep."""
+        i, j = np.unravel_index(int(np.nanargmax(values)), values.shape)
         return int(i), int(j)
 
     @property
     def optimum(self) -> tuple[int, int]:
-        i, j = np.unravel_index(int(np.nanargmax(self.energy_2t)), self.energy_2t.shape)
-        return int(i), int(j)
+        return self.optimum_of(self.energy_2t)
 
     @property
     def optimum_4t(self) -> tuple[int, int]:
-        i, j = np.unravel_index(int(np.nanargmax(self.energy_4t)), self.energy_4t.shape)
-        return int(i), int(j)
+        return self.optimum_of(self.energy_4t)
 
     @property
     def am15_optimum(self) -> tuple[int, int]:
-        i, j = np.unravel_index(int(np.nanargmax(self.efficiency_am15_2t)), self.energy_2t.shape)
-        return int(i), int(j)
+        return self.optimum_of(self.efficiency_am15_2t)
 
 
 #: Cell temperatures per bin at which J0 is computed; it is interpolated between them.

@@ -64,26 +64,15 @@ def region_seconds(job, specs) -> float:
     from tandem.design.sky import parse_period
 
     clear = parse_period(job.period, "UTC", job.step_minutes).size / 2
-    designs = len(job.gaps_eV) * len(job.thicknesses_nm)
-    if job.stack is not None:  # films and wafer per temperature bin (about 20 a year)
-        per_step = len(job.thicknesses_nm) * 20 / RATES["yield --stack"] / max(clear, 1.0)
-    else:
-        per_step = designs * yield_cost(job.operating, job.front, job.back) / RATES["yield"]
     rows = 2 if job.rows is not None else 1
-    return sum((8760 / 2 if spec.weather else clear) * per_step * rows + SITE_SECONDS
-               for spec in specs)
 
+    def sweep(steps: float) -> float:
+        if job.stack is not None:  # films and wafer per temperature bin (about 20 a year)
+            return len(job.thicknesses_nm) * 20 / RATES["yield --stack"]
+        designs = len(job.gaps_eV) * len(job.thicknesses_nm)
+        return steps * designs * yield_cost(job.operating, job.front, job.back) / RATES["yield"]
 
-def check_seconds(job: str, seconds: float, what: str, allow_large: bool = False) -> None:
-    """Refuse, with the estimate, a run predicted to take over 10 minutes (``what`` says how
-    it was counted); ``allow_large`` (``--large``) lifts the limit."""
-    from tandem.core.errors import TandemInputError
-
-    if allow_large or seconds <= LIMIT_SECONDS:
-        return
-    raise TandemInputError(f"this {job} is {what}: about {seconds:,.0f} s, over the limit of "
-                           f"{LIMIT_SECONDS / 60:.0f} min; narrow it, or pass --large to run it "
-                           "anyway")
+    return sum(sweep(8760 / 2 if spec.weather else clear) * rows + SITE_SECONDS for spec in specs)
 
 
 def connection_cost(operating: OperatingPoint) -> float:
@@ -91,8 +80,8 @@ def connection_cost(operating: OperatingPoint) -> float:
 
     Measured for a clear year at 38.5° N, perovskite over Auger silicon, R_s 1 Ω·cm²: 26.7 s
     for 2T and 4T, 44.6 s with a middle-contact resistance (×1.7), 48.5 s with one string
-    ratio (+0.8 a ratio). A map or a match costs less more (map ×1.1 and +0.3 a ratio, match
-    ×1.3 with a middle contact), so their estimates leave it out.
+    ratio (+0.8 a ratio). Maps and matches pay less for them (a map ×1.1 and +0.3 a ratio, a
+    match ×1.3 with a middle contact), so their estimates leave it out.
     """
     el = operating.electrical
     middle = operating.terminals == 3 and el.middle_resistance_ohm_cm2 > 0
@@ -106,16 +95,25 @@ def check_work(job: str, count: float, bytes_needed: float = 0.0, allow_large: b
     ``count`` is the number of configurations (gap pairs, devices, step × design), ``bytes``
     the largest array the run holds. ``allow_large`` (``--large``) lifts the limit.
     """
+    check_seconds(job, count / RATES[job], f"has {count:,.0f} {what}", allow_large, bytes_needed)
+
+
+def check_seconds(job: str, seconds: float, what: str, allow_large: bool = False,
+                  bytes_needed: float | None = None) -> None:
+    """Refuse, with the estimate, a run predicted to take over 10 minutes (or, where
+    ``bytes_needed`` is estimated, 2 GiB); ``what`` says how it was counted ("has 12 pairs",
+    "is 40 sites on 2 local workers"). ``allow_large`` (``--large``) lifts the limit."""
     from tandem.core.errors import TandemInputError
 
-    seconds = count / RATES[job]
-    if allow_large or (seconds <= LIMIT_SECONDS and bytes_needed <= LIMIT_BYTES):
+    if allow_large or (seconds <= LIMIT_SECONDS
+                       and (bytes_needed is None or bytes_needed <= LIMIT_BYTES)):
         return
-    raise TandemInputError(
-        f"this {job} has {count:,.0f} {what}: about {seconds:,.0f} s and "
-        f"{bytes_needed / 2**20:,.0f} MiB on a 2-core laptop, over the limit of "
-        f"{LIMIT_SECONDS / 60:.0f} min and {LIMIT_BYTES / 2**30:.0f} GiB; narrow it, or pass "
-        "--large to run it anyway")
+    memory, limit = ("", "") if bytes_needed is None else (
+        f" and {bytes_needed / 2**20:,.0f} MiB on a 2-core laptop",
+        f" and {LIMIT_BYTES / 2**30:.0f} GiB")
+    raise TandemInputError(f"this {job} {what}: about {seconds:,.0f} s{memory}, over the limit of "
+                           f"{LIMIT_SECONDS / 60:.0f} min{limit}; narrow it, or pass --large to "
+                           "run it anyway")
 
 
 def frame(rows):

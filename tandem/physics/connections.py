@@ -29,20 +29,22 @@ def _bounded_maximum(power, lo, hi):
     return x
 
 
-def _slopes(cells: _Cells, i: int, v):
-    """Subcell i's current at junction voltage ``v`` and its first two derivatives
-    (J, dJ/dV, d²J/dV²): the diodes' in closed form, an extra term's second derivative by a
-    central difference of its analytic slope over 10⁻⁶·kT/q."""
+def _slopes(cells: _Cells, i: int, v, extra=0.0, second: bool = True):
+    """Subcell i's current at junction voltage ``v`` (with ``extra`` photocurrent) and its
+    first two derivatives (J, dJ/dV, d²J/dV²; the last None unless ``second``): the diodes'
+    in closed form, an extra term's second derivative by a central difference of its
+    analytic slope over 10⁻⁶·kT/q."""
     vt, n = cells.vt, cells.n
     a, b = cells.a[..., i], cells.b[..., i]
     ea, eb = a * np.exp(v / vt), b * np.exp(v / (n * vt))
-    j = cells.current(i, v)
+    j = cells.current(i, v, extra)
     d1 = -(ea / vt + eb / (n * vt)) - 1.0 / cells.r_shunt
-    d2 = -(ea / vt**2 + eb / (n * vt) ** 2)
+    d2 = -(ea / vt**2 + eb / (n * vt) ** 2) if second else None
     h = 1e-6 * vt
     for term in cells._terms[i]:
         d1 = d1 - term.current_slope(v, vt)[1]
-        d2 = d2 - (term.current_slope(v + h, vt)[1] - term.current_slope(v - h, vt)[1]) / (2 * h)
+        if second:
+            d2 = d2 - (term.current_slope(v + h, vt)[1] - term.current_slope(v - h, vt)[1]) / (2 * h)
     return j, d1, d2
 
 
@@ -194,13 +196,9 @@ def _junction_at_terminal(cells: _Cells, i: int, target, r: float, gain=0.0, v_o
     near = target + r * (cells.j_light[..., i] + gain)
     v = np.where(near >= 0, np.minimum(v, near), v)
     for _ in range(100):
-        x = v / cells.vt
-        j = cells.current(i, v, gain)
-        slope = (cells.a[..., i] * np.exp(x) + cells.b[..., i] * np.exp(x / cells.n) / cells.n) / cells.vt
-        slope = slope + 1.0 / cells.r_shunt + sum(t.current_slope(v, cells.vt)[1]
-                                                  for t in cells._terms[i])
+        j, dj, _ = _slopes(cells, i, v, gain, second=False)
         with np.errstate(invalid="ignore"):
-            new = np.minimum(v - (v - r * j - target) / (1.0 + r * slope), v)
+            new = np.minimum(v - (v - r * j - target) / (1.0 - r * dj), v)
         # a target above the gap (a step absorber's exact emission is infinite there): no
         # root; v stays, its current is −∞ and the caller's search turns away from it
         new = np.where(np.isfinite(new), new, v)

@@ -307,14 +307,10 @@ def _series_along(cells: _Cells, k: int, j_high, r_series: float):
     so no step solves for k's voltage; J falls as V_k rises, so the terminal voltage rises
     and the power keeps its single maximum along V_k. Same results as the current search.
     """
-    jl, vt, m = cells.j_light, cells.vt, cells.j_light.shape[-1]
-    terms = cells._terms[k]
-    g_shunt = 1.0 / cells.r_shunt
+    m = cells.j_light.shape[-1]
 
     def current(vk):
-        x = vk / vt
-        return (jl[..., k] - cells.a[..., k] * np.expm1(x) - cells.b[..., k] * np.expm1(x / cells.n)
-                - vk * g_shunt - sum(t.current(vk, vt) for t in terms))
+        return cells.current(k, vk)
 
     def others(j):
         return sum(cells.voltage(i, j) for i in range(m) if i != k)
