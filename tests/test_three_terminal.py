@@ -176,6 +176,8 @@ def test_voltage_matching_reaches_four_terminals_when_the_voltages_are_in_the_ra
 @pytest.mark.parametrize("bad, message", [
     (dict(middle_contact="x"), "middle contact 'x'"),
     (dict(middle_resistance_ohm_cm2=-1.0), "middle-contact resistance -1"),
+    (dict(middle_resistance_ohm_cm2=float("nan")), "middle-contact resistance nan"),
+    (dict(middle_resistance_ohm_cm2=1e100), "a larger one carries no current"),
     (dict(string_ratios=((0, 2),)), "string ratio"),
     (dict(string_ratios=((1.5, 2),)), "string ratio"),
     (dict(string_ratios=((1, 2), (1, 2))), "each once"),

@@ -28,6 +28,11 @@ OHM_CM2 = 1e-4  #: 1 Ω·cm² in Ω·m²
 DEFAULT_FRONT_INDEX = 3.5
 
 
+#: The largest middle-contact resistance taken [Ω·cm²]: there the three-terminal stack is the
+#: series stack to 10⁻⁵ (tested); far above it the search's Hessian overflows (10¹⁰⁰ gave 0 %)
+MAX_MIDDLE_OHM_CM2 = 1e7
+
+
 @dataclass(frozen=True)
 class Electrical:
     """Emission conventions and electrical effects; all off by default.
@@ -82,9 +87,10 @@ class Electrical:
         if self.middle_contact not in ("s", "r"):
             raise TandemInputError(f"middle contact {self.middle_contact!r}: choose s (series "
                                    "type) or r (reverse type)")
-        if not (self.middle_resistance_ohm_cm2 >= 0 and math.isfinite(self.middle_resistance_ohm_cm2)):
+        if not 0 <= self.middle_resistance_ohm_cm2 <= MAX_MIDDLE_OHM_CM2:
             raise TandemInputError(f"middle-contact resistance {self.middle_resistance_ohm_cm2:g} "
-                                   "Ω·cm²: give a finite value ≥ 0")
+                                   f"Ω·cm²: give 0 to {MAX_MIDDLE_OHM_CM2:.0e} (a larger one "
+                                   "carries no current: that is two terminals)")
         for ratio in self.string_ratios:
             if not (isinstance(ratio, tuple) and len(ratio) == 2
                     and all(isinstance(k, int) and not isinstance(k, bool) and 1 <= k <= 20
