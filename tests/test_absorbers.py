@@ -259,7 +259,7 @@ def test_an_unknown_model_lists_the_registered_ones(step_model, tmp_path):
     path = _step_file(tmp_path)
     path.write_text(path.read_text().replace('"step-test"', '"stepp"'))
     with pytest.raises(tandem.TandemInputError, match="'stepp' is not known; use one of direct, "
-                       "indirect, table, database, nk, bands, step-test"):
+                       "indirect, table, database, nk, bands, tauc-lorentz, step-test"):
         tandem.parse_absorber(path)
 
 

@@ -9,6 +9,7 @@ refusal of another model's keys, gap sweeps and study manifests all follow from 
 References
 ----------
 F. Urbach, Phys. Rev. 92 (1953) 1324, doi:10.1103/PhysRev.92.1324 (exponential tail).
+G. E. Jellison, F. A. Modine, Appl. Phys. Lett. 69 (1996) 371 (Tauc–Lorentz oscillator).
 J. Tauc, R. Grigorovici, A. Vancu, Phys. Status Solidi 15 (1966) 627 (power-law edges,
 p = 1/2 direct, p = 2 indirect/amorphous).
 """
@@ -25,6 +26,7 @@ from tandem.core.errors import TandemInputError
 from tandem.core.toml_files import Checker
 from tandem.core.units import HC_EV_NM
 from tandem.optics.database import NkTableError, database_alpha, read_nk_table
+from tandem.optics.oscillators import index_from_epsilon, tauc_lorentz_epsilon
 from tandem.physics.columns import parse_two_columns, read_data_text
 
 
@@ -117,6 +119,81 @@ class BandEdge:
         at_onset = self._bands(np.array(self.onset_eV))
         tail = at_onset * np.exp(np.minimum(energy - self.onset_eV, 0.0) / self.urbach_energy_eV)
         return np.where(energy < self.onset_eV, tail, self._bands(energy))
+
+
+@dataclass(frozen=True)
+class TaucLorentzEdge:
+    """α(E) and n(λ) from a Tauc–Lorentz oscillator (:mod:`tandem.optics.oscillators`), with
+    an Urbach tail below the energy E_t where the oscillator's own logarithmic slope
+    d ln α/dE falls to 1/E_U: α and its slope are continuous there.
+
+    The oscillator alone has α ∝ (E − E_g)² at its gap (no tail, zero at E_g); joining the
+    tail where the slopes agree is this tool's choice, in the spirit of the Urbach-extended
+    oscillator models (e.g. Ferlauto et al., J. Appl. Phys. 92 (2002) 2424, recalled).
+    Layer stacks take n (and k = αλ/4π) from the same ε, so n and α come from one
+    Kramers–Kronig-consistent source.
+    """
+
+    movable: ClassVar[bool] = False  #: the oscillator fixes the gap
+
+    amplitude_eV: float  #: A
+    resonance_eV: float  #: E₀
+    broadening_eV: float  #: C
+    eps_infinity: float  #: ε∞
+    gap_eV: float  #: the Tauc gap E_g
+    urbach_energy_eV: float  #: E_U of the tail below E_t
+    join_eV: float  #: E_t, where the tail takes over
+    #: (wavelength nm ascending, n) of the oscillator: the absorber's dispersive n in stacks
+    index: tuple[np.ndarray, np.ndarray]
+
+    @property
+    def origin(self) -> str:
+        return (f"Tauc–Lorentz oscillator (A {self.amplitude_eV:g} eV, E0 {self.resonance_eV:g} eV, "
+                f"C {self.broadening_eV:g} eV, ε∞ {self.eps_infinity:g}); Urbach tail below "
+                f"{self.join_eV:.3f} eV")
+
+    @staticmethod
+    def oscillator_alpha(energy_eV, amplitude_eV, resonance_eV, broadening_eV, gap_eV,
+                         eps_infinity) -> np.ndarray:
+        """α = 4πk/λ [cm⁻¹] of the oscillator alone (no tail)."""
+        energy = np.asarray(energy_eV, dtype=float)
+        k = index_from_epsilon(tauc_lorentz_epsilon(energy, amplitude_eV, resonance_eV,
+                                                    broadening_eV, gap_eV, eps_infinity)).imag
+        return 4 * np.pi * k * energy / (HC_EV_NM * 1e-7)  # λ [cm] = hc/E
+
+    @classmethod
+    def build(cls, amplitude_eV, resonance_eV, broadening_eV, eps_infinity, gap_eV,
+              urbach_energy_eV) -> "TaucLorentzEdge":
+        """The edge with its join E_t (the first energy above E_g where the slopes agree)."""
+        from scipy.optimize import brentq
+
+        pars = (amplitude_eV, resonance_eV, broadening_eV, gap_eV, eps_infinity)
+
+        def excess_slope(e):  # d ln α/dE − 1/E_U, by a central difference well inside (E_g, e)
+            h = 1e-4 * (e - gap_eV)
+            lo, hi = cls.oscillator_alpha(np.array([e - h, e + h]), *pars)
+            return (np.log(hi) - np.log(lo)) / (2 * h) - 1.0 / urbach_energy_eV
+
+        # near E_g α ∝ (E − E_g)²: the slope 2/(E − E_g) starts far above 1/E_U and falls
+        grid = gap_eV + np.geomspace(1e-6, 8.0, 400)
+        slope = np.array([excess_slope(e) for e in grid])
+        below = np.flatnonzero(slope < 0)
+        join = (float(brentq(excess_slope, grid[below[0] - 1], grid[below[0]], xtol=1e-12))
+                if below.size else float(grid[-1]))
+        wavelength = np.geomspace(100.0, 20000.0, 4000)  # past the spectra's 280–4000 nm
+        n = index_from_epsilon(tauc_lorentz_epsilon(HC_EV_NM / wavelength, *pars[:4],
+                                                    eps_infinity)).real
+        return cls(float(amplitude_eV), float(resonance_eV), float(broadening_eV),
+                   float(eps_infinity), float(gap_eV), float(urbach_energy_eV), join, (wavelength, n))
+
+    def alpha(self, energy_eV, gap_eV=None):  # the oscillator fixes the gap
+        energy = np.asarray(energy_eV, dtype=float)
+        pars = (self.amplitude_eV, self.resonance_eV, self.broadening_eV, self.gap_eV,
+                self.eps_infinity)
+        at_join = self.oscillator_alpha(np.array(self.join_eV), *pars)
+        tail = at_join * np.exp(np.minimum(energy - self.join_eV, 0.0) / self.urbach_energy_eV)
+        return np.where(energy < self.join_eV, tail,
+                        self.oscillator_alpha(np.maximum(energy, self.join_eV), *pars))
 
 
 @dataclass(frozen=True)
@@ -313,6 +390,23 @@ def _read_nk(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
                          (wavelength, nk.real))
 
 
+def _read_tauc_lorentz(c: Checker, urbach_eV: float, gap_eV: float) -> TaucLorentzEdge:
+    """A Tauc–Lorentz oscillator: its gap is [gap] value_eV, the rest in [absorption]."""
+    amplitude, resonance, broadening = _need(
+        c, "tauc-lorentz", ("amplitude_eV", "resonance_eV", "broadening_eV"), "eV", 1e-3, 1e4)
+    eps_inf = c.get("absorption", "eps_infinity")
+    if eps_inf is None:
+        c.fail("absorption.eps_infinity", "is missing", "give the oscillator's ε∞ (often 1–4)")
+    eps_inf = float(c.positive("absorption", "eps_infinity", "as a number (often 1–4)", high=50.0))
+    if not resonance > gap_eV:
+        c.fail("absorption.resonance_eV", f"= {resonance:g} eV is not above the gap ({gap_eV:g} eV)",
+               "give the Lorentz resonance E0 above [gap] value_eV (the Tauc gap)")
+    if not broadening < 2 * resonance:
+        c.fail("absorption.broadening_eV", f"= {broadening:g} eV is not below 2 × resonance_eV "
+               f"({2 * resonance:g} eV)", "the Tauc–Lorentz form needs C < 2·E0; check the fit")
+    return TaucLorentzEdge.build(amplitude, resonance, broadening, eps_inf, gap_eV, urbach_eV)
+
+
 _POWER_LAW_KEYS = {"alpha_at_gap_per_cm": "num", "strength_per_cm": "num"}
 register_edge_model("direct", ParametricEdge, _read_power_law("direct"), _POWER_LAW_KEYS)
 register_edge_model("indirect", ParametricEdge, _read_power_law("indirect"), _POWER_LAW_KEYS)
@@ -321,3 +415,6 @@ register_edge_model("table", TabulatedEdge, _read_table,
 register_edge_model("database", TabulatedEdge, _read_database, {"database": "str"})
 register_edge_model("nk", TabulatedEdge, _read_nk, {"nk_table": "str"}, data_file_key="nk_table")
 register_edge_model("bands", BandEdge, _read_bands, {"bands": "bandlist"})
+register_edge_model("tauc-lorentz", TaucLorentzEdge, _read_tauc_lorentz,
+                    {"amplitude_eV": "num", "resonance_eV": "num", "broadening_eV": "num",
+                     "eps_infinity": "num"})
