@@ -146,7 +146,8 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
           tolerance: Annotated[float, plain_option(help="Loss in % absolute defining the windows.")] = 1.0,
           budget: Annotated[Optional[str], plain_option(
               help="With --stack: write where the photons go in the best design, per "
-                   "wavelength, as CSV.", metavar="FILE.csv")] = None,
+                   "wavelength, as CSV; as .nc (NetCDF) with each absorber's generation "
+                   "profile too.", metavar="FILE.csv|.nc")] = None,
           plot: Plot = None, losses: Losses = None, overwrite: Overwrite = False,
           quiet: Quiet = False, large: Large = False, wide: Wide = False, json_out: Json = False,
           *, o):

@@ -27,8 +27,9 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str 
                                "--interlayer-parasitic")
     loaded = tandem.load_stack(stack)
     figure = plot or f"photons-{loaded.key}.png"
-    if budget is not None and not budget.lower().endswith(".csv"):
-        raise TandemInputError(f"--budget '{budget}': give a .csv file name")
+    if budget is not None and not budget.lower().endswith((".csv", ".nc")):
+        raise TandemInputError(f"--budget '{budget}': give a .csv file name (the per-wavelength "
+                               "table) or .nc (NetCDF: the table and the generation profiles)")
     check_outputs([figure], overwrite, plot=True)
     check_outputs([budget], overwrite)
     with progress_bar(quiet or json_out, "matching") as bar:
@@ -41,8 +42,13 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str 
     if budget is not None:
         from tandem.core.files import write_csv, write_whole
 
-        table = result.budget_frame()
-        s["outputs"].append(str(write_whole(budget, lambda p: write_csv(table, p), overwrite)))
+        if budget.lower().endswith(".nc"):
+            dataset = result.budget_dataset()
+            write = lambda p: dataset.to_netcdf(p, engine="scipy")  # noqa: E731
+        else:
+            table = result.budget_frame()
+            write = lambda p: write_csv(table, p)  # noqa: E731
+        s["outputs"].append(str(write_whole(budget, write, overwrite)))
     if json_out:
         return emit_json(s)
     swept = [k for k in s["best"] if k.endswith("[nm]")]
@@ -74,10 +80,17 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str 
          + "".join(f", {k.replace(' [nm]', '')} {s['best_4t'][k]:.0f} nm" for k in swept),
          "optics-lite (no interference, no layer losses) matches at "
          + (f"{lite:.0f} nm" if lite else "no thickness in range"),
+         *[f"generation in {g['layer']}: half of its carriers within {_depth(g['half_depth_nm'])} "
+           f"of its sun side, peak {g['peak_per_cm3_s']:.2e} cm⁻³s⁻¹ at {_depth(g['peak_depth_nm'])}"
+           for g in s["generation"] if g["half_depth_nm"] is not None],
          *[f"note: {n}" for n in s["notes"]],
          f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K")
     err.print(f"wrote {escape(', '.join(s['outputs']))}")
     out.print(f"[dim]{escape(s['caution'])}[/]")
+
+
+def _depth(nm: float) -> str:
+    return f"{nm / 1000:.1f} µm" if nm >= 10_000 else f"{nm:.0f} nm"
 
 
 def list_bundled(json_out: bool) -> None:

@@ -30,7 +30,7 @@ import numpy as np
 from tandem.physics import detailed_balance as db
 from tandem.optics.absorbers import Absorber, absorbers_bulk
 from tandem.core.errors import TandemInputError
-from tandem.physics.spectra import trapezoid_weights
+from tandem.physics.spectra import PhotonFlux, trapezoid_weights
 from tandem.physics.stack import evaluate_stack
 from tandem.optics.thinfilm import Layer, index_from_alpha, stack_optics
 from tandem.optics.wafer import trace_wafer
@@ -145,13 +145,18 @@ class PhotonBudget:
     reflected: np.ndarray  #: reflected, plus what escapes a Lambertian wafer
     transmitted: np.ndarray  #: out through the exit medium
     thickness_nm: tuple = (None, None)  #: (front (n_d,), back) absorber thicknesses [nm]
+    #: absorber name → (depths [nm] (nz,), absorbed fraction per nm (nz, n_d, nE)), when asked
+    profiles: dict = field(default_factory=dict)
 
 
 def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | None = None,
-                  temperature_K: float = 298.15) -> PhotonBudget:
+                  temperature_K: float = 298.15, depth_points: int = 0) -> PhotonBudget:
     """Absorptance of every layer for front thicknesses (n_d,) on the energy grid (nE,).
 
     ``others`` maps a swept layer's name to its thickness [nm] (default: its middle).
+    ``depth_points`` > 0 (one front thickness only) also gives each absorber's absorbed
+    fraction per nm on that many depths (``profiles``): from the coherent solution's field
+    in a film, from the traced light in a wafer.
     """
     e = np.asarray(energy, dtype=float)
     wavelength = HC_EV_NM / e
@@ -163,7 +168,15 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
                    d_front if x.role == "front" else others.get(x.name, x.thickness_nm),
                    x.coherent) for x in layers]
     exit_index = wafer.index(e, temperature_K) if wafer is not None else stack.exit_index
-    optics = stack_optics(films, stack.ambient_index, exit_index, wavelength)
+    depths = {}
+    if depth_points:
+        if d_front.size != 1:
+            raise ValueError("depth profiles are for one design at a time")
+        for x in (stack.front, stack.back):
+            d = float(d_front[0, 0]) if x.role == "front" else float(others.get(x.name, x.thickness_nm))
+            depths[x.name] = np.linspace(0.0, d, depth_points) if x.coherent else wafer_depths(d, depth_points)
+    optics = stack_optics(films, stack.ambient_index, exit_index, wavelength, depths={
+        i: depths[x.name] for i, x in enumerate(layers) if x.name in depths})
     shape = optics.reflectance.shape
     absorbed = dict(zip((x.name for x in layers), optics.absorptance))
     reflected = np.array(optics.reflectance)
@@ -173,7 +186,10 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
         assert a is not None  # a wafer is an absorber layer
         traced = trace_wafer(films, stack.ambient_index, exit_index,
                              others.get(wafer.name, wafer.thickness_nm),
-                             wafer.light_trapping or a.light_trapping, transmitted, wavelength)
+                             wafer.light_trapping or a.light_trapping, transmitted, wavelength,
+                             depths_nm=depths.get(wafer.name),
+                             film_depths={i: depths[x.name] for i, x in enumerate(layers)
+                                          if x.name in depths})
         absorbed[wafer.name] = traced.wafer
         for x, extra in zip(layers, traced.films):  # light coming back up through the films
             absorbed[x.name] = absorbed[x.name] + extra
@@ -182,10 +198,50 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
                  if x.role == "parasitic"}
     back = stack.back
     back_d = others.get(back.name, back.thickness_nm)  # per device (n_d, 1) in a spread
+    index = {x.name: i for i, x in enumerate(layers)}
+    profiles = {}
+    for name, z in depths.items():
+        if wafer is not None and name == wafer.name:
+            profiles[name] = (z, traced.profile)
+        else:  # the sunlight's pass, and the light coming back from a wafer behind
+            returning = 0.0 if wafer is None else traced.film_profiles[index[name]]
+            profiles[name] = (z, optics.profiles[index[name]] + returning)
     return PhotonBudget(e, np.broadcast_to(absorbed[stack.front.name], shape),
                         np.broadcast_to(absorbed[stack.back.name], shape), parasitic,
                         reflected, transmitted,
-                        (d_front[:, 0], back_d[:, 0] if np.ndim(back_d) == 2 else back_d))
+                        (d_front[:, 0], back_d[:, 0] if np.ndim(back_d) == 2 else back_d),
+                        profiles)
+
+
+def wafer_depths(thickness_nm: float, points: int) -> np.ndarray:
+    """Depths [nm] crowded geometrically towards both faces of a wafer (from 0.1 nm), where
+    strongly absorbed light (1/α of 10 nm in the blue) and grazing returning light are."""
+    near = np.geomspace(0.1, thickness_nm / 2, max((points - 2) // 2, 2))
+    return np.unique(np.concatenate([[0.0], near, thickness_nm - near, [thickness_nm]]))
+
+
+def profile_figures(depth_nm, generation) -> dict:
+    """What a device engineer reads off a generation profile: the carriers made per cm² and
+    second (∫G dz), the peak rate and its depth, and the depth within which half are made."""
+    from scipy.integrate import cumulative_simpson
+
+    z, g = np.asarray(depth_nm, dtype=float), np.asarray(generation, dtype=float)
+    made = cumulative_simpson(g, x=z * 1e-7, initial=0.0)  # [cm⁻²s⁻¹], z in cm
+    peak = int(np.argmax(g))
+    return {"carriers_per_cm2_s": float(made[-1]), "peak_per_cm3_s": float(g[peak]),
+            "peak_depth_nm": float(z[peak]),
+            "half_depth_nm": float(np.interp(0.5 * made[-1], made, z)) if made[-1] > 0 else None}
+
+
+def generation_profiles(budget: PhotonBudget, flux) -> dict:
+    """Each absorber's photogeneration rate G(z) under ``flux``, summed over the spectrum:
+    {absorber name: (depth [nm] (nz,), G [cm⁻³ s⁻¹] (nz,))} for the first design of a budget
+    made with ``depth_points``. Every absorbed photon makes one electron–hole pair, so
+    ∫G dz = J_L/q of the absorber."""
+    phi = np.interp(budget.energy, flux.energy, flux.flux) * trapezoid_weights(budget.energy)
+    # absorbed per nm per m² of sun → per cm³: 1e7 nm/cm × 1e-4 m²/cm²
+    return {name: (z, 1e3 * (np.reshape(per_nm, (len(z), -1, budget.energy.size))[:, 0] @ phi))
+            for name, (z, per_nm) in budget.profiles.items()}
 
 
 def budget_currents(budget: PhotonBudget, flux, temperature_K: float, usable_from_eV: float = 0.0):
@@ -248,13 +304,24 @@ class StackMatch:
     temperature_K: float
     irradiance: float
     energy: np.ndarray  #: the spectrum's energy grid [eV]
+    flux: PhotonFlux | None = None  #: the spectrum
+
+    #: depths on which the best design's generation profiles are given
+    PROFILE_POINTS = 201
 
     @functools.cached_property
     def best_budget(self) -> PhotonBudget:
-        """Where the photons go in the best design, on the spectrum's grid (computed once)."""
+        """Where the photons go in the best design, on the spectrum's grid, with each
+        absorber's depth profile (computed once)."""
         b = self.best
         return photon_budget(self.stack, self.energy, [b.front_thickness_nm], b.others,
-                             self.temperature_K)
+                             self.temperature_K, depth_points=self.PROFILE_POINTS)
+
+    @property
+    def best_generation(self) -> dict:
+        """Each absorber's generation rate G(z) in the best design (:func:`generation_profiles`)."""
+        assert self.flux is not None  # match_in_stack keeps the spectrum
+        return generation_profiles(self.best_budget, self.flux)
 
 
 def evaluate_budget(stack, budget, flux, temperature_K, ideality, electrical):
@@ -393,4 +460,4 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
     best_4t = _refined_4t(stack, flux, grids[k4][0], grid, i4, temperature_K, ideality,
                           electrical)
     return StackMatch(stack, grid, grids, crossings, best, best_4t, tuple(notes),
-                      float(temperature_K), float(flux.irradiance), flux.energy)
+                      float(temperature_K), float(flux.irradiance), flux.energy, flux)

@@ -77,6 +77,52 @@ class StackMatchResult(ResultDisplay):
                    "reflected_or_escaped": b.reflected[0], "transmitted": b.transmitted[0]}
         return pd.DataFrame(columns).iloc[::-1].reset_index(drop=True)
 
+    def budget_dataset(self):
+        """The best design's photon budget and generation profiles as a CF-style Dataset:
+        ``absorptance`` (layer × wavelength: each absorber and every other layer),
+        ``reflected_or_escaped`` and ``transmitted`` (they add to 1 at every wavelength), the
+        incident ``photon_flux``, and each absorber's generation rate G(z) on its own depth axis
+        (``generation_front``/``generation_back``, cm⁻³ s⁻¹, from its sun side)."""
+        import xarray as xr
+
+        from tandem.core.files import STAMP
+        from tandem.core.units import HC_EV_NM
+
+        m = self.match
+        b = m.best_budget
+        assert m.flux is not None  # match_in_stack keeps the spectrum
+        order = np.argsort(HC_EV_NM / b.energy)  # ascending wavelength
+        names = [m.stack.front.name, m.stack.back.name, *b.parasitic]
+        absorbed = np.stack([b.front[0], b.back[0], *(v[0] for v in b.parasitic.values())])
+        flux = np.interp(b.energy, m.flux.energy, m.flux.flux) * b.energy / HC_EV_NM  # per nm
+        wavelength = ("wavelength", (HC_EV_NM / b.energy)[order],
+                      {"units": "nm", "long_name": "vacuum wavelength"})
+        data = {
+            "absorptance": (("layer", "wavelength"), absorbed[:, order],
+                            {"units": "1", "long_name": "share of the incident photons absorbed in the layer"}),
+            "reflected_or_escaped": ("wavelength", np.asarray(b.reflected[0])[order],
+                                     {"units": "1", "long_name": "share reflected, or escaping back out through the front"}),
+            "transmitted": ("wavelength", np.asarray(b.transmitted[0])[order],
+                            {"units": "1", "long_name": "share leaving through the back of the stack"}),
+            "photon_flux": ("wavelength", flux[order],
+                            {"units": "m-2 s-1 nm-1", "long_name": "incident photon flux per wavelength"}),
+        }
+        coords: dict = {"wavelength": wavelength, "layer": ("layer", np.array(names, dtype=str),
+                                                            {"long_name": "layer of the stack"})}
+        for role, x in (("front", m.stack.front), ("back", m.stack.back)):
+            z, g = m.best_generation[x.name]
+            coords[f"depth_{role}"] = (f"depth_{role}", z, {
+                "units": "nm", "long_name": f"depth in {x.name} from its sun side"})
+            data[f"generation_{role}"] = (f"depth_{role}", g, {
+                "units": "cm-3 s-1", "long_name": f"photogeneration rate in {x.name}"})
+        best = m.best
+        attrs = conditions_attrs(self.spectrum, m.temperature_K, 2, stack=m.stack.key,
+                                 front_thickness_nm=float(best.front_thickness_nm),
+                                 **{f"{k}_nm": float(v) for k, v in best.others.items()})
+        attrs.update(Conventions="CF-1.8", title=f"photon budget of {m.stack.title}",
+                     source=STAMP, written_by=STAMP)
+        return xr.Dataset(data, coords=coords, attrs=attrs)
+
     def plot(self, ax=None):
         from tandem.output.plots import draw_photon_budget
 

@@ -29,7 +29,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -58,6 +58,8 @@ class Optics:
     reflectance: np.ndarray
     transmittance: np.ndarray  #: into the exit medium
     absorptance: tuple[np.ndarray, ...]  #: one per layer, in order from the sun
+    #: {layer number: absorbed fraction per nm at the depths asked (nz, …, nE)}
+    profiles: dict = field(default_factory=dict)
 
 
 POLARISATIONS = ("s", "p")
@@ -98,7 +100,7 @@ def _flux(n, q, v, w, pol):
     return np.real(f * (v + w) * np.conj(v - w))
 
 
-def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s"):
+def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s", depths=None):
     """A coherent stack between two semi-infinite media.
 
     Parameters
@@ -110,11 +112,13 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s"):
     kappa : float or array broadcastable with the rest
         The in-plane wavevector n₀ sin θ₀ [-] (0: normal incidence).
     pol : 's' or 'p'
+    depths : optional sequence of L depth arrays [nm] (or None per layer): where to give the
+        absorbed fraction per nm (``G``, one (nz, …, nE) array per layer asked, else None)
 
     Returns
     -------
     dict with R, T, the flux entering from the front (``entering``; 1 − R for a lossless
-    incident medium) and ``A``, a list of the L layers' absorptances.
+    incident medium), ``A``, a list of the L layers' absorptances, and ``G``.
     """
     if pol not in POLARISATIONS:
         raise ValueError(f"pol must be 's' or 'p', not {pol!r}")
@@ -144,14 +148,36 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s"):
     transmittance = np.abs(t) ** 2 * np.real(_flux_factor(n[-1], q[-1], pol)) / incident
     entering = _flux(n[0], q[0], 1, r, pol) / incident
     # amplitudes at the start of each layer, from the exit backwards: vw_j = M_j · vw_{j+1}
-    absorbed = []
+    absorbed, density = [], []
     v, w = t, np.zeros_like(t)
     for j in range(layers, 0, -1):
         a, b, c, d = mats[j - 1]
         v, w = a * v + b * w, c * v + d * w
         absorbed.append(_absorbed_in_layer(n[j], q[j], incident, v, w, thicknesses_nm[j - 1],
                                            lam, pol))
-    return {"R": np.abs(r) ** 2, "T": transmittance, "entering": entering, "A": absorbed[::-1]}
+        z = None if depths is None else depths[j - 1]
+        density.append(None if z is None else
+                       _absorbed_at_depth(n[j], q[j], incident, v, w, z, lam, pol))
+    return {"R": np.abs(r) ** 2, "T": transmittance, "entering": entering, "A": absorbed[::-1],
+            "G": density[::-1]}
+
+
+def _absorbed_at_depth(n, q, incident, v, w, depth_nm, wavelength_nm, pol="s"):
+    """The integrand of :func:`_absorbed_in_layer`: the fraction of the incident flux absorbed
+    per nm at each depth z (nz,) → (nz, …, nE): c·(|v|²e^{−2k''z} + |w|²e^{2k''z}) +
+    2Re(c_x v w̄ e^{2ik'z}) (Byrnes, arXiv:1603.02720, absorption at a depth)."""
+    kz = 2 * np.pi * q / wavelength_nm
+    k1, k2 = np.real(kz), np.imag(kz)
+    batch = max(np.ndim(kz), np.ndim(v), np.ndim(w))  # depth leads every other axis
+    z = np.asarray(depth_nm, dtype=float).reshape((-1,) + (1,) * batch)
+    if pol == "s":
+        c = c_x = np.imag(q * kz)
+    else:
+        f = _flux_factor(n, q, pol)
+        c, c_x = 2 * k2 * np.real(f), -2 * k1 * np.imag(f)
+    local = (c * (np.abs(v) ** 2 * np.exp(-2 * k2 * z) + np.abs(w) ** 2 * np.exp(2 * k2 * z))
+             + 2 * np.real(c_x * v * np.conj(w) * np.exp(2j * k1 * z)))
+    return local / incident
 
 
 def _absorbed_in_layer(n, q, incident, v, w, thickness_nm, wavelength_nm, pol="s"):
@@ -190,7 +216,7 @@ def _absorbed_in_layer(n, q, incident, v, w, thickness_nm, wavelength_nm, pol="s
 
 
 def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm, kappa=0.0,
-                 pol="s") -> Optics:
+                 pol="s", depths: dict | None = None) -> Optics:
     """Reflectance, transmittance and each layer's absorptance of a partly coherent stack,
     for light arriving with in-plane wavevector ``kappa`` = n₀ sin θ₀ and polarisation ``pol``.
 
@@ -198,6 +224,10 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm, 
     front and from the back (:func:`coherent`), then intensities are chained through the
     incoherent layers with the 2×2 intensity matrices of Byrnes (arXiv:1603.02720, §5); one
     pass through an incoherent layer transmits exp(−4π·Im q·d/λ).
+
+    ``depths`` {layer number: depths [nm]} asks for the absorbed fraction per nm in coherent
+    layers (``Optics.profiles``, (nz, …, nE) each): the front and back solves' densities,
+    weighted by the light arriving from each side, as their absorptances are.
     """
     lam = np.asarray(wavelength_nm, dtype=float)
     media = [Layer(np.asarray(ambient_index, dtype=complex), np.inf, False)]
@@ -219,8 +249,11 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm, 
         n_in, n_out = media[g].index, media[g + 1].index
         ns = [layers[i].index for i in members]
         ds = [layers[i].thickness_nm for i in members]
-        fwd.append(coherent([n_in, *ns, n_out], ds, lam, kappa, pol))
-        bwd.append(coherent([n_out, *ns[::-1], n_in], ds[::-1], lam, kappa, pol))
+        zs = [(depths or {}).get(i) for i in members]
+        fwd.append(coherent([n_in, *ns, n_out], ds, lam, kappa, pol, zs))
+        mirrored = [None if z is None else np.asarray(d, dtype=float).item() - np.asarray(z, dtype=float)
+                    for z, d in zip(zs, ds)]  # depth from the layer's back
+        bwd.append(coherent([n_out, *ns[::-1], n_in], ds[::-1], lam, kappa, pol, mirrored[::-1]))
     passes = [None] + [np.maximum(np.exp(-4 * np.pi * np.asarray(m.thickness_nm, float)
                                          * np.imag(normal_index(m.index, kappa)) / lam), MIN_PASS)
                        for m in media[1:-1]] + [None]
@@ -262,14 +295,21 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm, 
         front_side = fwd[i]["entering"] if groups[i] else fwd[i]["T"]
         leaving = f * front_side - b * bwd[i]["T"]
         absorbed[incoherent_at[i]] = entering[i] - leaving
+    profiles = {}
     for g, members in enumerate(groups):
         f, b = arriving[g]
         for k, i in enumerate(members):
             absorbed[i] = f * fwd[g]["A"][k] + b * bwd[g]["A"][len(members) - 1 - k]
+            if fwd[g]["G"][k] is not None:
+                profiles[i] = f * fwd[g]["G"][k] + b * bwd[g]["G"][len(members) - 1 - k]
+    unasked = set(depths or {}) - set(profiles)
+    if unasked:
+        raise ValueError(f"depth profiles are for coherent layers, not layers {sorted(unasked)}")
     # np.broadcast takes at most 64 arrays: a 32-pair Bragg mirror has more layers
     shape = np.broadcast_shapes(*(np.shape(x) for x in (reflectance, lam, kappa, *absorbed)))
     return Optics(np.broadcast_to(reflectance, shape), np.broadcast_to(transmittance, shape),
-                  tuple(np.broadcast_to(a, shape) for a in absorbed))
+                  tuple(np.broadcast_to(a, shape) for a in absorbed),
+                  {i: np.broadcast_to(p, p.shape[:1] + shape) for i, p in profiles.items()})
 
 
 def index_from_alpha(alpha_per_cm, wavelength_nm, n_real):

@@ -32,7 +32,7 @@ medium in front (where the reflectance has its kinks), so a few nodes per interv
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -86,6 +86,10 @@ class WaferLight:
     films: tuple[np.ndarray, ...]  #: extra absorption in each front film (sun-side order)
     escaped: np.ndarray  #: out through the front films into the ambient
     transmitted: np.ndarray  #: out through the rear (single pass only)
+    #: absorbed per nm at the depths asked (nz, …, nE), from the front of the wafer
+    profile: np.ndarray | None = None
+    #: {film number: the returning light absorbed per nm at its depths asked (nz, …, nE)}
+    film_profiles: dict = field(default_factory=dict)
 
 
 def hemisphere_nodes(n_wafer, critical_indices, per_interval: int = NODES_PER_INTERVAL):
@@ -122,7 +126,8 @@ def hemisphere_nodes(n_wafer, critical_indices, per_interval: int = NODES_PER_IN
 
 
 def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, rear: str,
-                entering, wavelength_nm, per_interval: int | None = None) -> WaferLight:
+                entering, wavelength_nm, per_interval: int | None = None,
+                depths_nm=None, film_depths: dict | None = None) -> WaferLight:
     """Absorption in a thick wafer and the light it sends back through the films in front.
 
     Parameters
@@ -134,6 +139,12 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     rear : 'single-pass', 'double-pass' or 'lambertian'
     entering : the light entering the wafer at normal incidence (…, nE) [fraction of the sun]
     wavelength_nm : (nE,)
+    depths_nm : optional depths (nz,) from the wafer's front where ``profile`` gives the light
+        absorbed per nm: the first pass α·e^{−αz}, then at every angle node the light going up
+        from the rear, (α/μ)·e^{−α(d−z)/μ}, and what the films send back down, (α/μ)·e^{−αz/μ}
+        (each the integrand of the sums above, so the profile integrates to ``wafer``).
+    film_depths : optional {film number (sun order): depths from its sun side [nm]}: where
+        ``film_profiles`` gives the returning light each coherent film absorbs per nm.
     """
     if rear not in LIGHT_TRAPPING:
         raise ValueError(f"rear must be one of {LIGHT_TRAPPING}, not {rear!r}")
@@ -145,12 +156,18 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     wafer = entering * -np.expm1(-alpha_d)  # the first pass, at normal incidence
     zero = np.zeros(np.broadcast(entering, lam).shape)
     films_extra = [zero.copy() for _ in films]
+    profile, film_profiles = None, {k: np.zeros(np.shape(z) + zero.shape)
+                                    for k, z in (film_depths or {}).items()}
+    if depths_nm is not None:
+        z = np.asarray(depths_nm, dtype=float).reshape((-1,) + (1,) * np.ndim(zero))
+        alpha = alpha_d / float(thickness_nm)  # [1/nm]
+        profile = entering * alpha * np.exp(-alpha * z) * np.ones_like(zero)
     if rear == "single-pass":
-        return WaferLight(wafer, tuple(films_extra), zero, entering * down)
+        return WaferLight(wafer, tuple(films_extra), zero, entering * down, profile, film_profiles)
     escaped = zero.copy()
     live = np.flatnonzero(down > NEGLIGIBLE_PASS)  # energies where light comes back at all
     if live.size == 0:
-        return WaferLight(wafer, tuple(films_extra), escaped, zero)
+        return WaferLight(wafer, tuple(films_extra), escaped, zero, profile, film_profiles)
     lam_l, n_l, ad = lam[live], n_w[live], alpha_d[live]
     # the films' response at each angle node varies slowly with energy: solve it on a coarse
     # grid and interpolate linearly (which keeps R + T + ΣA = 1); the wafer's own attenuation
@@ -166,8 +183,13 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
         nodes, weights = hemisphere_nodes(n_c, critical, per_interval or NODES_PER_INTERVAL)
     batch = np.ndim(entering) - 1
     kappa = (n_c * np.sqrt(nodes)).reshape(len(nodes), *([1] * batch), coarse.size)
-    response = [stack_optics(reversed_films, n_c, ambient_index, lam[live[coarse]], kappa, pol)
-                for pol in POLARISATIONS]
+    last = len(films) - 1  # the films met from inside: film k is number last − k, depth d − z
+    inside = {last - k: np.asarray(films[k].thickness_nm, dtype=float).item() - np.asarray(z, dtype=float)
+              for k, z in (film_depths or {}).items()}
+    response = [stack_optics(reversed_films, n_c, ambient_index, lam[live[coarse]], kappa, pol,
+                             depths=inside) for pol in POLARISATIONS]
+    film_density = {k: np.mean([o.profiles[last - k] for o in response], axis=0)
+                    for k in film_profiles}  # (nz, nodes, …, coarse)
     reflect = np.mean([o.reflectance for o in response], axis=0)  # s and p averaged
     escape = np.mean([o.transmittance for o in response], axis=0)
     absorb = [np.mean([o.absorptance[k] for o in response], axis=0)
@@ -177,6 +199,9 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     shape = np.broadcast_shapes(reflect.shape[1:-1] + (lam_l.size,), entering.shape[:-1] + (1,))
     returned, in_wafer, out = np.zeros(shape), np.zeros(shape), np.zeros(shape)
     in_films = [np.zeros(shape) for _ in films]
+    if profile is not None:  # per unit leaving the rear, as in_wafer
+        a_l, d = ad / float(thickness_nm), float(thickness_nm)
+        depth_live = np.zeros(z.shape[:1] + shape)
     for i in range(len(nodes)):
         w, u = to_fine(weights[i]), to_fine(nodes[i])
         up = np.exp(-ad / np.sqrt(1 - u))  # one pass at angle θ (the nodes avoid u = 1)
@@ -186,10 +211,19 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
         out += w * up * to_fine(escape[i])
         for k, a in enumerate(absorb):
             in_films[k] += w * up * to_fine(a[i])
+        for k, density in film_density.items():
+            film_profiles[k][..., live] += w * up * to_fine(density[:, i])
+        if profile is not None:
+            per_nm = a_l / np.sqrt(1 - u)
+            depth_live += w * per_nm * (np.exp(-per_nm * (d - z)) + up * r * np.exp(-per_nm * z))
     # (1 − ρ > 0 unless light could circle forever with no loss and no exit)
     leaving_rear = entering[..., live] * down[live] / np.maximum(1 - returned, np.finfo(float).tiny)
     wafer[..., live] += leaving_rear * in_wafer
     escaped[..., live] = leaving_rear * out
     for k, a in enumerate(in_films):
         films_extra[k][..., live] = leaving_rear * a
-    return WaferLight(wafer, tuple(films_extra), escaped, zero)
+    if profile is not None:
+        profile[..., live] += leaving_rear * depth_live
+    for k in film_profiles:
+        film_profiles[k][..., live] *= leaving_rear
+    return WaferLight(wafer, tuple(films_extra), escaped, zero, profile, film_profiles)

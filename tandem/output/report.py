@@ -466,7 +466,7 @@ def stack_summary(result) -> dict:
 
     best = m.best
     losses = {k: round(v / 10, 3) for k, v in best.parasitic.items()}
-    from tandem.design.layerstack import usable_from_eV
+    from tandem.design.layerstack import profile_figures, usable_from_eV
 
     return {
         "stack": m.stack.key, "title": m.stack.title,
@@ -478,6 +478,10 @@ def stack_summary(result) -> dict:
         "best_4t": point(m.best_4t),
         "matches": [point(p) for p in m.crossings],
         "parasitic_loss_mA_cm2": losses,
+        "generation": [{"layer": name, "role": role, **{
+            k: (None if v is None else float(f"{v:.5g}"))
+            for k, v in profile_figures(*m.best_generation[name]).items()}}
+            for role, name in (("front", m.stack.front.name), ("back", m.stack.back.name))],
         "reflected_or_escaped_mA_cm2": round(best.reflected / 10, 3),
         "transmitted_mA_cm2": round(best.transmitted / 10, 3),
         "losses_counted_above_eV": round(usable_from_eV(m.stack, m.temperature_K), 4),
