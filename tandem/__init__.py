@@ -30,7 +30,7 @@ _WHERE = {
     "Absorber": "optics.absorbers", "bundled_absorbers": "optics.absorber_files", "load_absorber": "optics.absorber_files",
     "parse_absorber": "optics.absorber_files",
     "Site": "design.sky", "clear_sky_series": "design.sky", "weather_series": "design.weather", "folder_series": "design.weather",
-    "parse_period": "design.sky", "SpectralSeries": "design.sky",
+    "parse_period": "design.sky", "SpectralSeries": "design.series",
     "site_from_location": "design.sky", "weather_frame_series": "design.weather",
     "site_series": "jobs.energy_yield", "region_job": "jobs.region",
     "PhotonFlux": "physics.spectra", "Spectrum": "physics.spectra", "blackbody_sun": "physics.spectra",

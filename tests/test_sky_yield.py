@@ -13,7 +13,8 @@ import tandem.core.units
 from tandem.cli.app import app
 from tandem.design.matching import Conditions, StackDesign, stack_performance
 from tandem.design.scatter import scatter
-from tandem.design.sky import G173_AEROSOL_500NM, G173_OZONE_ATM_CM, G173_WATER_CM, Site, SpectralSeries, clear_sky_series, common_grid, parse_period, spectrl2_poa
+from tandem.design.series import SpectralSeries
+from tandem.design.sky import G173_AEROSOL_500NM, G173_OZONE_ATM_CM, G173_WATER_CM, Site, clear_sky_series, common_grid, parse_period, spectrl2_poa
 from tandem.design.weather import weather_series
 from tandem.physics.spectra import Spectrum
 from tandem.design.yields import hourly, yield_sweep
@@ -220,7 +221,7 @@ def test_scatter_cli(tmp_path):
 def test_reduced_basis_bound_holds_for_any_absorptance(summer_day):
     """The Cauchy–Schwarz bound |ΔJ| ≤ q (Σw)^½ ‖ΔΦ‖_w (any inner-product space) holds
     for random absorptances at a deliberately loose tolerance, and is tight enough to matter."""
-    from tandem.design.sky import reduced_basis
+    from tandem.design.series import reduced_basis
     from tandem.physics.spectra import trapezoid_weights
 
     full = summer_day.photon_basis(0.0)

@@ -150,13 +150,15 @@ class PhotonBudget:
 
 
 def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | None = None,
-                  temperature_K: float = 298.15, depth_points: int = 0) -> PhotonBudget:
+                  temperature_K: float = 298.15, depth_points: int = 0,
+                  angle_deg: float = 0.0) -> PhotonBudget:
     """Absorptance of every layer for front thicknesses (n_d,) on the energy grid (nE,).
 
     ``others`` maps a swept layer's name to its thickness [nm] (default: its middle).
     ``depth_points`` > 0 (one front thickness only) also gives each absorber's absorbed
     fraction per nm on that many depths (``profiles``): from the coherent solution's field
-    in a film, from the traced light in a wafer.
+    in a film, from the traced light in a wafer. ``angle_deg``: the sunlight's angle of
+    incidence in the ambient medium (s and p averaged; 0 is normal incidence, solved once).
     """
     e = np.asarray(energy, dtype=float)
     wavelength = HC_EV_NM / e
@@ -175,8 +177,11 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
         for x in (stack.front, stack.back):
             d = float(d_front[0, 0]) if x.role == "front" else float(others.get(x.name, x.thickness_nm))
             depths[x.name] = np.linspace(0.0, d, depth_points) if x.coherent else wafer_depths(d, depth_points)
-    optics = stack_optics(films, stack.ambient_index, exit_index, wavelength, depths={
-        i: depths[x.name] for i, x in enumerate(layers) if x.name in depths})
+    kappa = float(np.real(stack.ambient_index)) * math.sin(math.radians(angle_deg))
+    pols = ("s",) if kappa == 0 else ("s", "p")  # at normal incidence s and p are one
+    solved = [stack_optics(films, stack.ambient_index, exit_index, wavelength, kappa, pol, depths={
+        i: depths[x.name] for i, x in enumerate(layers) if x.name in depths}) for pol in pols]
+    optics = solved[0] if len(solved) == 1 else _mean_optics(solved)
     shape = optics.reflectance.shape
     absorbed = dict(zip((x.name for x in layers), optics.absorptance))
     reflected = np.array(optics.reflectance)
@@ -189,7 +194,7 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
                              wafer.light_trapping or a.light_trapping, transmitted, wavelength,
                              depths_nm=depths.get(wafer.name),
                              film_depths={i: depths[x.name] for i, x in enumerate(layers)
-                                          if x.name in depths})
+                                          if x.name in depths}, incidence_kappa=kappa)
         absorbed[wafer.name] = traced.wafer
         for x, extra in zip(layers, traced.films):  # light coming back up through the films
             absorbed[x.name] = absorbed[x.name] + extra
@@ -211,6 +216,18 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
                         reflected, transmitted,
                         (d_front[:, 0], back_d[:, 0] if np.ndim(back_d) == 2 else back_d),
                         profiles)
+
+
+def _mean_optics(solved):
+    """s and p averaged (unpolarised sunlight)."""
+    from tandem.optics.thinfilm import Optics
+
+    def mean(get):
+        return np.mean([get(o) for o in solved], axis=0)
+
+    return Optics(mean(lambda o: o.reflectance), mean(lambda o: o.transmittance),
+                  tuple(mean(lambda o, k=k: o.absorptance[k]) for k in range(len(solved[0].absorptance))),
+                  {i: mean(lambda o, i=i: o.profiles[i]) for i in solved[0].profiles})
 
 
 def wafer_depths(thickness_nm: float, points: int) -> np.ndarray:

@@ -1,6 +1,6 @@
 """Measured skies: typical-year weather files, pvlib weather frames, folders of spectra.
 
-Each gives a :class:`~tandem.design.sky.SpectralSeries` like the clear skies do: SPECTRL2's
+Each gives a :class:`~tandem.design.series.SpectralSeries` like the clear skies do: SPECTRL2's
 shape anchored to ASTM G173-03, scaled to the measured plane-of-array irradiance, or the
 measured spectra themselves.
 """
@@ -17,7 +17,8 @@ from tandem.core.errors import TandemInputError
 
 #: Atmosphere of ASTM G173-03 (the standard's stated SMARTS inputs), used as defaults.
 from tandem.design.cover import cover_note, incidence_factors
-from tandem.design.sky import (Rows, Site, SpectralSeries, anchored_parts, cell_temperature_K,
+from tandem.design.series import SpectralSeries
+from tandem.design.sky import (Rows, Site, anchored_parts, cell_temperature_K,
                                common_grid, rear_ratio, rows_note, solar_position)
 from tandem.physics.spectra import (
     read_spectrum_csv,

@@ -1,10 +1,10 @@
 """Energy yield over a period: which front gap and thickness give the most kWh.
 
 For every front gap × front thickness the stack is evaluated at every time step of a
-:class:`~tandem.design.sky.SpectralSeries`, at that step's cell temperature (gaps shifted by each
+:class:`~tandem.design.series.SpectralSeries`, at that step's cell temperature (gaps shifted by each
 absorber's temperature coefficient). Steps are grouped into cell-temperature bins so that
 optics are computed once per bin and J0 at three temperatures per bin (interpolated to
-each step); the spectra are held in a reduced basis (:meth:`~tandem.design.sky.SpectralSeries.
+each step); the spectra are held in a reduced basis (:meth:`~tandem.design.series.SpectralSeries.
 photon_basis`) whose rank is set by a photocurrent error bound, so photocurrents for all
 steps of a bin are two small matrix products.
 
@@ -26,7 +26,7 @@ from tandem.optics.absorbers import absorbers_bulk
 from tandem.design.matching import (Conditions, StackDesign, design_bulk, evaluate_design,
                                     rear_absorptance, stack_integrands, stack_performance)
 from tandem.core.errors import TandemInputError
-from tandem.design.sky import FluxBasis, SpectralSeries
+from tandem.design.series import FluxBasis, SpectralSeries
 from tandem.physics.spectra import PhotonFlux, reference_flux_on, trapezoid_weights
 from tandem.physics.stack import IDEAL, Electrical, evaluate_stack
 from tandem.core.units import Q
@@ -99,7 +99,7 @@ class YieldSweep:
     design: YieldDesign
     back_thickness_nm: float
     efficiency_am15_2t: np.ndarray  #: (n_g, n_d) under AM1.5G at 298.15 K, fraction
-    basis_rank: int = 0  #: rank of the spectra's reduced basis (:class:`~tandem.design.sky.FluxBasis`)
+    basis_rank: int = 0  #: rank of the spectra's reduced basis (:class:`~tandem.design.series.FluxBasis`)
     basis_bound: float = 0.0  #: its largest relative photocurrent error bound per step
     energy_3t: np.ndarray | None = None  #: (n_g, n_d) three terminals [kWh/m²]
     energy_vm: np.ndarray | None = None  #: (n_g, n_d, k) voltage-matched strings, per ratio

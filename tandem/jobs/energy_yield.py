@@ -206,7 +206,7 @@ def energy_yield(front: Absorber | str, back: Absorber | str, series,
 
     Parameters
     ----------
-    series : tandem.design.sky.SpectralSeries
+    series : tandem.design.series.SpectralSeries
         Plane-of-array spectra and cell temperatures (``tandem.design.sky.clear_sky_series``,
         ``weather_series`` or ``folder_series``).
     front_gaps_eV : array, optional

@@ -89,7 +89,7 @@ def measured_eqe(front, back, light: Light = Light(), operating: OperatingPoint 
     front_absorber / back_absorber with its thickness : optional
         The limiting subcell's absorber description and present thickness [nm]: the
         thickness that would match the currents, scaling the EQE by the absorber's model.
-    series : tandem.design.sky.SpectralSeries, optional
+    series : tandem.design.series.SpectralSeries, optional
         A site's period: currents step by step, hours the front limits, mismatch loss.
 
     Examples

@@ -127,7 +127,8 @@ def hemisphere_nodes(n_wafer, critical_indices, per_interval: int = NODES_PER_IN
 
 def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, rear: str,
                 entering, wavelength_nm, per_interval: int | None = None,
-                depths_nm=None, film_depths: dict | None = None) -> WaferLight:
+                depths_nm=None, film_depths: dict | None = None,
+                incidence_kappa: float = 0.0) -> WaferLight:
     """Absorption in a thick wafer and the light it sends back through the films in front.
 
     Parameters
@@ -145,22 +146,26 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
         (each the integrand of the sums above, so the profile integrates to ``wafer``).
     film_depths : optional {film number (sun order): depths from its sun side [nm]}: where
         ``film_profiles`` gives the returning light each coherent film absorbs per nm.
+    incidence_kappa : n₀ sin θ₀ of the sunlight (0: normal incidence): the first pass crosses
+        the wafer at its refracted angle, cos θ_w = √(1 − (κ/n_w)²), and a mirror sends it
+        back at that angle (a randomising rear forgets it).
     """
     if rear not in LIGHT_TRAPPING:
         raise ValueError(f"rear must be one of {LIGHT_TRAPPING}, not {rear!r}")
     lam = np.asarray(wavelength_nm, dtype=float)
     n_w = np.asarray(wafer_index, dtype=complex) * np.ones_like(lam)
     alpha_d = 4 * np.pi * n_w.imag / lam * float(thickness_nm)  # α·d [-]
-    down = np.exp(-alpha_d)
+    first_u = (float(incidence_kappa) / n_w.real) ** 2  # sin²θ_w of the first pass
+    down = np.exp(-alpha_d / np.sqrt(1 - first_u))
     entering = np.asarray(entering, dtype=float)
-    wafer = entering * -np.expm1(-alpha_d)  # the first pass, at normal incidence
+    wafer = entering * -np.expm1(-alpha_d / np.sqrt(1 - first_u))  # the first pass
     zero = np.zeros(np.broadcast(entering, lam).shape)
     films_extra = [zero.copy() for _ in films]
     profile, film_profiles = None, {k: np.zeros(np.shape(z) + zero.shape)
                                     for k, z in (film_depths or {}).items()}
     if depths_nm is not None:
         z = np.asarray(depths_nm, dtype=float).reshape((-1,) + (1,) * np.ndim(zero))
-        alpha = alpha_d / float(thickness_nm)  # [1/nm]
+        alpha = alpha_d / float(thickness_nm) / np.sqrt(1 - first_u)  # along the path [1/nm]
         profile = entering * alpha * np.exp(-alpha * z) * np.ones_like(zero)
     if rear == "single-pass":
         return WaferLight(wafer, tuple(films_extra), zero, entering * down, profile, film_profiles)
@@ -176,8 +181,8 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     reversed_films = [Layer(_take(x.index, live[coarse]), x.thickness_nm, x.coherent)
                       for x in films[::-1]]
     n_c = n_l.real[coarse]
-    if rear == "double-pass":
-        nodes, weights = np.zeros((1, coarse.size)), np.ones((1, coarse.size))
+    if rear == "double-pass":  # the mirror returns the first pass's angle
+        nodes, weights = first_u[live[coarse]][None, :], np.ones((1, coarse.size))
     else:
         critical = [ambient_index] + [np.real(x.index) for x in reversed_films]
         nodes, weights = hemisphere_nodes(n_c, critical, per_interval or NODES_PER_INTERVAL)
