@@ -73,6 +73,9 @@ def energy_yield(
             if value:
                 raise TandemInputError(f"{name} with --stack: the stack file sets the absorbers, "
                                        "their gaps and the wafer; drop it (or edit the stack)")
+        if given("cover_index"):
+            raise TandemInputError("--cover-index with --stack: the stack's own layers take the "
+                                   "light at its angles; put a cover glass in the stack file")
     notes: list[str] = []
     a_front: str | tandem.Absorber | None
     a_back: str | tandem.Absorber | None

@@ -96,6 +96,9 @@ def region(
                  cover_index=cover_index,
                  rows=Rows(gcr, row_height, pitch, bifaciality) if bifacial else None)
     back_d = parse_thickness(back_thickness, "--back-thickness") if back_thickness else None
+    if stack is not None and given("cover_index"):
+        raise TandemInputError("--cover-index with --stack: the stack's own layers take the "
+                               "light at its angles; put a cover glass in the stack file")
     notes: list[str] = []
     if scenario is not None:  # the scenario's inputs; options typed beside it replace them
         from tandem.study.sources import load_scenario

@@ -36,3 +36,8 @@ def cover_note(cover_index: float) -> str:
         return "no front cover: no incidence-angle loss"
     return (f"front cover of index {cover_index:g}: incidence-angle loss of direct and "
             "diffuse light (physical model, De Soto 2006; diffuse by Marion 2017; pvlib)")
+
+
+def is_cover_note(text: str) -> bool:
+    """Whether a series note is :func:`cover_note`'s (a layer stack replaces it with its own)."""
+    return text.startswith(("no front cover:", "front cover of index "))

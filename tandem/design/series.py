@@ -106,6 +106,12 @@ class SpectralSeries:
     #: share of each step's plane-of-array light the front cover lets through (its
     #: incidence-angle loss); the spectra are the light past the cover, None: no cover
     past_cover: np.ndarray | None = None
+    #: each step's angle of incidence on the plane [°], where the sky model knows it
+    aoi_deg: np.ndarray | None = None
+    #: (n_t, k) factors of the direct beam and of the sky and ground light as they arrive
+    #: (before any cover), for layer stacks that take each at its own angles; or None
+    arriving_direct: np.ndarray | None = None
+    arriving_diffuse: np.ndarray | None = None
 
     @classmethod
     def from_spectra(cls, times, wavelength_nm, irradiance, cell_temperature_K, step_hours,
@@ -131,13 +137,36 @@ class SpectralSeries:
         """
         cache = self.__dict__.setdefault("_bases", {})  # the series is frozen: compute once
         if tolerance not in cache:
+            energy, rows = self._energy_rows()
+            cache[tolerance] = reduced_basis(energy, self.coefficients, rows, tolerance)
+        return cache[tolerance]
+
+    @property
+    def has_parts(self) -> bool:
+        """Whether the arriving direct and diffuse light and the angles are known."""
+        return self.arriving_direct is not None and self.aoi_deg is not None
+
+    def parts_basis(self, tolerance: float = BASIS_TOLERANCE) -> FluxBasis:
+        """The arriving direct beam (rows 0…n_t − 1) and diffuse light (rows n_t…2n_t − 1) in
+        one reduced basis on :meth:`photon_basis`'s energy grid, with the same bound."""
+        if not self.has_parts:
+            raise ValueError("this series does not know its direct and diffuse parts")
+        cache = self.__dict__.setdefault("_part_bases", {})
+        if tolerance not in cache:
+            energy, rows = self._energy_rows()
+            parts = np.concatenate([self.arriving_direct, self.arriving_diffuse])
+            cache[tolerance] = reduced_basis(energy, parts, rows, tolerance)
+        return cache[tolerance]
+
+    def _energy_rows(self):
+        """(energy grid, the basis rows as photon fluxes on it), computed once."""
+        if "_rows_on_energy" not in self.__dict__:
             weights = self.step_hours / max(float(np.sum(self.step_hours)), 1e-300)
             grid = conserving_grid(self.wavelength_nm, (weights @ self.coefficients) @ self.basis)
             rows = self.basis if grid.size == self.wavelength_nm.size else \
                 np.stack([np.interp(grid, self.wavelength_nm, b) for b in self.basis])
-            energy, flux_basis = to_energy(grid, rows)
-            cache[tolerance] = reduced_basis(energy, self.coefficients, flux_basis, tolerance)
-        return cache[tolerance]
+            self.__dict__["_rows_on_energy"] = to_energy(grid, rows)
+        return self.__dict__["_rows_on_energy"]
 
     @property
     def energy(self) -> np.ndarray:

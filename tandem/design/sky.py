@@ -221,7 +221,9 @@ def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=N
     site altitude; the direct, sky and ground parts weighted by :func:`incidence_factors`.
     With ``broadband`` a third item gives SPECTRL2's own direct normal and diffuse horizontal
     irradiance of each step, {'dni', 'dhi'}, and the plane-of-array irradiance before and past
-    the cover, {'poa', 'poa_past_cover'} [W/m²]. With ``parts`` the second item is instead a
+    the cover, {'poa', 'poa_past_cover'} [W/m²], and the spectra of the direct beam and of the
+    sky and ground light as they arrive, before any cover, {'arriving_direct',
+    'arriving_diffuse'} (n, 122) [W m⁻² nm⁻¹]. With ``parts`` the second item is instead a
     dict of the direct, sky-diffuse and ground-reflected spectra past the cover.
     """
     import pvlib
@@ -251,6 +253,8 @@ def spectrl2_poa(site: Site, apparent_zenith, aoi, dayofyear, relative_airmass=N
     totals = {k: np.trapezoid(part(k), wl, axis=-1) for k in ("dni", "dhi")}
     totals["poa"] = np.trapezoid(part("poa_global"), wl, axis=-1)
     totals["poa_past_cover"] = np.trapezoid(poa, wl, axis=-1)
+    totals["arriving_direct"] = np.clip(part("poa_direct"), 0.0, None)
+    totals["arriving_diffuse"] = np.clip(part("poa_sky_diffuse") + part("poa_ground_diffuse"), 0.0, None)
     return wl, poa, totals
 
 
@@ -316,6 +320,8 @@ def anchored_factors(site: Site, apparent_zenith, aoi, dayofyear, with_broadband
         return grid, ratio, basis
     broadband = {k: np.concatenate([c[2][k] for c in chunks])
                  for k in ("dni", "dhi", "poa", "poa_past_cover")}
+    for k in ("arriving_direct", "arriving_diffuse"):  # spectra: anchored as the ratios are
+        broadband[k] = _per_standard(np.concatenate([c[2][k] for c in chunks]))
     return grid, ratio, basis, broadband
 
 
@@ -416,7 +422,8 @@ def clear_sky_series(site: Site, times: pd.DatetimeIndex, rows: Rows | None = No
                            f"ambient {site.ambient_temperature_C:g} °C, wind "
                            f"{site.wind_speed_m_s:g} m/s, SAPM {SAPM_MOUNT}", cover_note(site.cover_index))
                           + rows_note(rows), rear, rows.bifaciality if rows else 0.0,
-                          past_cover if site.cover_index != 1.0 else None)
+                          past_cover if site.cover_index != 1.0 else None, aoi[up].to_numpy(),
+                          broadband["arriving_direct"], broadband["arriving_diffuse"])
 
 
 def rows_note(rows: Rows | None) -> tuple[str, ...]:

@@ -146,7 +146,17 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
     total = ratio @ band
     ok = total > 0
     # a part SPECTRL2 lacks (direct light with its sun below the horizon) goes to the others
-    ratio = ratio * np.where(ok, past[use] / np.where(ok, total, 1.0), 0.0)[:, None]
+    rescale = np.where(ok, past[use] / np.where(ok, total, 1.0), 0.0)[:, None]
+    ratio = ratio * rescale
+    # the same light as it arrives, before the cover's factor of each part (for layer stacks,
+    # whose own layers take each part at its angles); clouds come through the sky's factor
+    def arriving(*keys, factor):
+        safe = np.where(factor > 0, factor, 1.0)
+        return sum(scaled(k) for k in keys) * rescale / np.atleast_1d(safe)[..., None]
+
+    arriving_direct = arriving("direct", factor=direct[use])
+    arriving_diffuse = (arriving("sky", "cloud", factor=np.asarray(sky))
+                        + arriving("ground", factor=np.asarray(ground)))
     past_cover = np.where(poa[use] > 0, past[use] / np.where(poa[use] > 0, poa[use], 1.0), 1.0)
     temps = cell_temperature_K(poa[use], data["temp_air"].to_numpy()[use],
                                data["wind_speed"].to_numpy()[use])
@@ -160,7 +170,8 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
     return SpectralSeries(times[use][ok], grid, ratio[ok], basis, temps[ok],
                           np.full(int(ok.sum()), step_h), f"{source} at {site.name}", notes, rear,
                           rows.bifaciality if rows else 0.0,
-                          past_cover[ok] if site.cover_index != 1.0 else None)
+                          past_cover[ok] if site.cover_index != 1.0 else None,
+                          aoi.to_numpy()[use][ok], arriving_direct[ok], arriving_diffuse[ok])
 
 
 def _hours_between(times: pd.DatetimeIndex) -> np.ndarray:

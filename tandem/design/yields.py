@@ -186,20 +186,42 @@ def _subcells(design: YieldDesign, energy, gap, thickness, back_d, t_bin):
     return absorbed * parts.front_weight, transmitted * parts.back_weight
 
 
+def _stack_sky(design: YieldDesign, series: SpectralSeries, energy, thicknesses):
+    """A layer stack's light at its angles (:mod:`tandem.design.stack_angles`): (the arriving
+    direct and diffuse light's basis, steps, ΔA table, angles), or None at normal incidence
+    (an optics-lite pair, or a series whose parts are unknown: measured spectra)."""
+    if not (isinstance(design, StackYield) and series.has_parts):
+        return None
+    from tandem.design.stack_angles import angle_table
+
+    return (series.parts_basis(), series.times.size,
+            angle_table(design.stack, design.others, energy, thicknesses), series.aoi_deg)
+
+
 def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thickness, back_d,
-                     ideality, electrical, rear=None, open_share=0.0):
+                     ideality, electrical, rear=None, open_share=0.0, sky=None):
     """The stack over the steps of one temperature bin, for one gap and thicknesses (n_d,).
 
     The gaps are shifted to the bin's mean temperature; J0 and the diodes use each step's
     own temperature. Photocurrents are two small products through the reduced basis:
     (n_d × nE)·(nE × r), then (n_d × r)·(r × n_h). Returns (performance with arrays
-    (n_d, n_h), J_L (n_d, n_h, 2)).
+    (n_d, n_h), J_L (n_d, n_h, 2)). ``sky`` (:func:`_stack_sky`): a stack takes the arriving
+    direct light at each step's angle and the diffuse light over the hemisphere.
     """
     t_bin, idx, t_cell = step_bin
     front, back = _subcells(design, flux.energy, gap, thickness, back_d, t_bin)
     front, back = front * weights_e, back * weights_e
-    coeff = flux.coefficients(idx).T  # (r, n_h)
-    jl = np.stack([(front @ flux.basis.T) @ coeff, (back @ flux.basis.T) @ coeff], axis=-1)
+    if sky is None:
+        basis, coeff = flux.basis, flux.coefficients(idx).T  # (r, n_h)
+    else:
+        parts, steps = sky[0], sky[1]
+        c_direct, c_diffuse = parts.coefficients(idx).T, parts.coefficients(steps + idx).T
+        basis, coeff = parts.basis, c_direct + c_diffuse
+    jl = np.stack([(front @ basis.T) @ coeff, (back @ basis.T) @ coeff], axis=-1)
+    if sky is not None:
+        from tandem.design.stack_angles import angled_currents
+
+        jl = jl + angled_currents(sky[2], weights_e, basis, c_direct, c_diffuse, sky[3][idx])
     nodes, lagrange = _j0_nodes(t_cell)
     bb = db.blackbody_photon_flux(flux.energy, nodes[:, None])  # (m, nE)
     j0 = np.stack([_interpolate_j0(front @ bb.T, lagrange),
@@ -282,12 +304,13 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
     evm = np.zeros(e2.shape + (k,)) if k else None
     bins = list(_bins(series, bin_K))
     total, done = len(bins) * gaps.size, 0
+    sky = _stack_sky(design, series, flux.energy, thicknesses)
     for step_bin in bins:
         hours = series.step_hours[step_bin[1]]
         for i, gap in enumerate(gaps):
             perf, _ = _bin_performance(design, flux, w, step_bin, gap, thicknesses,
                                        back_thickness_nm, ideality, electrical, series.rear_ratio,
-                                       series.bifaciality)
+                                       series.bifaciality, sky)
             e2[i] += perf.p_2t @ hours / 1000.0
             e3[i] += perf.power(3) @ hours / 1000.0
             e4[i] += perf.p_4t @ hours / 1000.0
@@ -298,8 +321,9 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
                 progress(done, total)
     am15 = np.array([_am15_efficiency(reference_design, reference, g, thicknesses,
                                       back_thickness_nm, ideality, electrical) for g in gaps])
+    used = flux if sky is None else sky[0]  # the basis the photocurrents came through
     return YieldSweep(gaps, thicknesses, e2, e4, series.insolation_kWh_m2, series, design,
-                      float(back_thickness_nm), am15, flux.rank, flux.bound, e3, evm)
+                      float(back_thickness_nm), am15, used.rank, used.bound, e3, evm)
 
 
 def _am15_efficiency(design: YieldDesign, reference, gap, thicknesses, back_d, ideality,
@@ -331,11 +355,12 @@ def _hourly(design, series, gap, thickness, back_thickness_nm, ideality, electri
     n = series.times.size
     out = {k: np.zeros(n) for k in ("p2", "p3", "p4", "jf", "jb")}
     out["pvm"] = np.zeros((n, len(electrical.string_ratios)))
+    sky = _stack_sky(design, series, flux.energy, np.array([thickness]))
     for step_bin in _bins(series, bin_K):
         idx = step_bin[1]
         perf, jl = _bin_performance(design, flux, w, step_bin, gap,
                                     np.array([thickness]), back_thickness_nm, ideality, electrical,
-                                    series.rear_ratio, series.bifaciality)
+                                    series.rear_ratio, series.bifaciality, sky)
         out["p2"][idx], out["p3"][idx], out["p4"][idx] = perf.p_2t[0], perf.power(3)[0], perf.p_4t[0]
         if perf.p_vm is not None:
             out["pvm"][idx] = perf.p_vm[0]

@@ -287,9 +287,11 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
     gaps = np.array([design.front_gap_eV])
     from tandem.design.yields import bin_count
 
-    check_work("yield --stack", bin_count(series) * thick.size * connection_cost(operating),
-               allow_large=allow_large,
-               what="temperature bin × front thickness solves (films and wafer each)")
+    from tandem.design.stack_angles import angle_solves
+
+    check_work("yield --stack", (bin_count(series) + angle_solves(series)) * thick.size
+               * connection_cost(operating), allow_large=allow_large,
+               what="(temperature bin + angle) × front thickness solves (films and wafer each)")
     back_d = design.back_thickness_nm
     sweep = yield_sweep(design, series, gaps, thick, back_d, reference.photon_flux(),
                         operating.ideality, operating.electrical, progress=progress,

@@ -384,6 +384,19 @@ def _best_ratio(sweep: YieldSweep, ratios) -> str | None:
     return f"{ratios[k][0]}:{ratios[k][1]}"
 
 
+def _source_notes(sweep: YieldSweep) -> list[str]:
+    """The series' notes; a layer stack's own layers replace the cover's angular loss."""
+    from tandem.design.yields import StackYield
+
+    notes = list(sweep.series.notes)
+    if not isinstance(sweep.design, StackYield):
+        return notes
+    from tandem.design.cover import is_cover_note
+    from tandem.design.stack_angles import stack_light_note
+
+    return [n for n in notes if not is_cover_note(n)] + [stack_light_note(sweep.series)]
+
+
 def yield_summary(sweep: YieldSweep, best: HourlyDesign, terminals: int = 2, ratios=()) -> dict:
     """Totals and optima in display units (the `tandem yield --json` keys)."""
     i, j = sweep.optimum
@@ -411,7 +424,7 @@ def yield_summary(sweep: YieldSweep, best: HourlyDesign, terminals: int = 2, rat
         "stack": d.stack.key if isinstance(d, StackYield) else None,
         "stack_layers_nm": layers,
         "source": sweep.series.source,
-        "source_notes": list(sweep.series.notes),
+        "source_notes": _source_notes(sweep),
         "steps": int(sweep.series.times.size),
         "insolation_kWh_m2": round(sweep.insolation, 3),
         "energy_optimum": {

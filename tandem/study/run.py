@@ -113,10 +113,20 @@ def run_study(scenario: Scenario, progress: Callable[[int, int], None] | None = 
     return StudyResult(scenario, spectrum.name, spectrum.notes, spectrum.integrated_irradiance,
                        spectrum.energy_range_eV, rows, results, skipped,
                        None if series is None else {"source": series.source,
-                                                    "notes": list(series.notes),
+                                                    "notes": _site_notes(series, stacks),
                                                     "steps": int(series.times.size),
                                                     "insolation_kWh_m2": round(series.insolation_kWh_m2, 3)},
                        stacks)
+
+
+def _site_notes(series, stacks) -> list[str]:
+    """The site's notes; stack rows take the light at its angles with their own layers."""
+    notes = list(series.notes)
+    if stacks:
+        from tandem.design.stack_angles import stack_light_note
+
+        notes.append(f"layer-stack rows: {stack_light_note(series)}")
+    return notes
 
 
 def _stack_row(key: str, m) -> dict:
