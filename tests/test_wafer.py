@@ -101,6 +101,22 @@ def test_lambertian_rear_behind_an_index_matched_front_is_lamberts_law():
     np.testing.assert_allclose(out.wafer + out.escaped, 1.0, atol=1e-14)
 
 
+@pytest.mark.parametrize("rear", ["double-pass", "lambertian"])
+def test_a_lossy_rear_behind_an_index_matched_front_is_the_closed_form(rear):
+    """A rear reflecting R_b (absorbing 1 − R_b) behind a wafer with nothing reflecting at its
+    front: the light reaches the rear once, e^{−αd}; the rear absorbs (1 − R_b)e^{−αd} and
+    returns R_b e^{−αd}, which a mirror sends straight up (absorbing 1 − e^{−αd}) and a
+    Lambertian rear isotropically (absorbing 1 − 2E₃(αd), Lambert's cosine law)."""
+    n_w = 3.6 + 1j * KAPPA
+    ad = _alpha_d(n_w, 160e3)
+    out = trace_wafer([], 3.6, n_w, 160e3, rear, np.ones(WAVELENGTHS.size), WAVELENGTHS,
+                      rear_reflectance=0.9)
+    second = -np.expm1(-ad) if rear == "double-pass" else 1 - 2 * expn(3, ad)
+    np.testing.assert_allclose(out.rear, 0.1 * np.exp(-ad), rtol=1e-12)
+    np.testing.assert_allclose(out.wafer, -np.expm1(-ad) + 0.9 * np.exp(-ad) * second,
+                               rtol=5e-5, atol=1e-12)
+
+
 def test_mirror_rear_is_the_incoherent_series():
     """A specular mirror behind a wafer under a film stack: the textbook geometric series of
     incoherent reflections, with the films' normal-incidence reflectance from inside."""
@@ -180,16 +196,21 @@ def test_hemisphere_weights_integrate_exactly_and_split_at_critical_angles():
 
 
 @settings(max_examples=40, deadline=None)
-@example(2.0, 2.225073858507e-311, 5.0, -2.0, "lambertian", 20e3)  # a denormal k: found by CI
+@example(2.0, 2.225073858507e-311, 5.0, -2.0, "lambertian", 20e3, 1.0)  # a denormal k: found by CI
 @given(st.floats(1.3, 2.6), st.floats(0.0, 0.2), st.floats(5.0, 300.0), st.floats(-9.0, -2.0),
-       st.sampled_from(["single-pass", "double-pass", "lambertian"]), st.floats(20e3, 300e3))
-def test_every_photon_is_counted_once(n_film, k_film, d_film, log_kappa, rear, d_wafer):
+       st.sampled_from(["single-pass", "double-pass", "lambertian"]), st.floats(20e3, 300e3),
+       st.floats(0.05, 1.0))
+def test_every_photon_is_counted_once(n_film, k_film, d_film, log_kappa, rear, d_wafer, r_rear):
     """Whatever the films and the rear, the light entering the wafer is absorbed in it,
-    absorbed in a film, escapes or leaves through the back: the shares add to 1, none < 0."""
+    absorbed in a film or the rear reflector, escapes or leaves through the back: the shares
+    add to 1, none < 0."""
     films = _layers([(1.52, 3e6, False), (n_film + 1j * k_film, d_film, True)])
     n_w = 3.6 + 1j * 10 ** log_kappa * np.ones(WAVELENGTHS.size)
-    out = trace_wafer(films, 1.0, n_w, d_wafer, rear, np.ones(WAVELENGTHS.size), WAVELENGTHS)
+    out = trace_wafer(films, 1.0, n_w, d_wafer, rear, np.ones(WAVELENGTHS.size), WAVELENGTHS,
+                      rear_reflectance=1.0 if rear == "single-pass" else r_rear)
     parts = [out.wafer, out.escaped, out.transmitted, *out.films]
+    if out.rear is not None:
+        parts.append(out.rear)
     np.testing.assert_allclose(sum(parts), 1.0, atol=1e-12)
     assert all(np.all(p >= -1e-15) for p in parts)
 
@@ -215,3 +236,51 @@ def test_returning_light_costs_the_bundled_stack_what_the_issue_measured():
         return sum(float(v[0]) for v in budget_currents(budget, flux, 298.15, 1.12)[2].values())
 
     assert 3.5 < parasitic(stack) - parasitic(no_return) < 6.5  # A/m², i.e. 0.35–0.65 mA/cm²
+
+
+def _wafer_stack(tmp_path, line, name="lossy"):
+    import tandem.core.files
+
+    text = (tandem.core.files.bundled_dir("stacks") / "wide-gap-on-silicon-wafer.toml").read_text()
+    assert 'absorber = "silicon"' in text
+    text = text.replace('absorber = "silicon"', f'absorber = "silicon"\n{line}')
+    (tmp_path / f"{name}.toml").write_text(text)
+    return tmp_path / f"{name}.toml"
+
+
+def test_a_stacks_rear_reflector_loss_is_its_own_row_and_every_photon_counts(tmp_path):
+    import tandem
+    from tandem.design.layerstack import photon_budget
+
+    energy = np.linspace(1.0, 1.4, 41)
+    lossless = tandem.load_stack("wide-gap-on-silicon-wafer")
+    lossy = tandem.load_stack(_wafer_stack(tmp_path, "rear_reflectance = 0.95"))
+    a, b = (photon_budget(s, energy, [325.0]) for s in (lossless, lossy))
+    assert "rear reflector" in b.parasitic and "rear reflector" not in a.parasitic
+    total = b.front + b.back + sum(b.parasitic.values()) + b.reflected + b.transmitted
+    np.testing.assert_allclose(total, 1.0, atol=1e-12)
+    assert np.all(b.back <= a.back + 1e-15) and np.max(a.back - b.back) > 1e-3  # weak light loses
+    assert np.max(b.parasitic["rear reflector"]) > 0.01
+
+
+@pytest.mark.parametrize("line, message", [
+    ("rear_reflectance = 0", "above 0"), ("rear_reflectance = 1.2", "outside 0–1"),
+    ('rear_reflectance = "high"', "must be a number"),
+    ('light_trapping = "single-pass"\nrear_reflectance = 0.9', "single-pass wafer")])
+def test_an_impossible_rear_reflector_is_one_line(tmp_path, line, message):
+    import tandem
+
+    with pytest.raises(tandem.TandemInputError, match=message) as err:
+        tandem.load_stack(_wafer_stack(tmp_path, line))
+    assert "rear_reflectance" in str(err.value) and "\n" not in str(err.value)
+
+
+def test_a_rear_reflector_on_a_thin_film_is_refused(tmp_path):
+    import tandem
+    import tandem.core.files
+
+    text = (tandem.core.files.bundled_dir("stacks") / "wide-gap-on-silicon-wafer.toml").read_text()
+    text = text.replace('absorber = "perovskite-wide"', 'absorber = "perovskite-wide"\nrear_reflectance = 0.9')
+    (tmp_path / "film.toml").write_text(text)
+    with pytest.raises(tandem.TandemInputError, match="only for the reflector behind an incoherent"):
+        tandem.load_stack(tmp_path / "film.toml")

@@ -52,6 +52,7 @@ class StackLayer:
     constant: complex | None = None
     table: tuple[np.ndarray, np.ndarray] | None = None  #: (wavelength nm ascending, ñ)
     light_trapping: str | None = None  #: for an incoherent back absorber (default: its file's)
+    rear_reflectance: float = 1.0  #: of the reflector behind an incoherent back absorber
 
     def real_index(self, wavelength_nm):
         """n of an absorber layer: from the n,k table or database entry its α comes from
@@ -194,13 +195,17 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
                              wafer.light_trapping or a.light_trapping, transmitted, wavelength,
                              depths_nm=depths.get(wafer.name),
                              film_depths={i: depths[x.name] for i, x in enumerate(layers)
-                                          if x.name in depths}, incidence_kappa=kappa)
+                                          if x.name in depths}, incidence_kappa=kappa,
+                             rear_reflectance=wafer.rear_reflectance)
         absorbed[wafer.name] = traced.wafer
         for x, extra in zip(layers, traced.films):  # light coming back up through the films
             absorbed[x.name] = absorbed[x.name] + extra
         reflected, transmitted = reflected + traced.escaped, traced.transmitted
     parasitic = {x.name: np.broadcast_to(absorbed[x.name], shape) for x in stack.layers
                  if x.role == "parasitic"}
+    if wafer is not None and wafer.rear_reflectance < 1:  # the reflector's own loss
+        lost = traced.rear if traced.rear is not None else np.zeros(shape)  # none reached it
+        parasitic[rear_reflector_name(stack)] = np.broadcast_to(lost, shape)
     back = stack.back
     back_d = others.get(back.name, back.thickness_nm)  # per device (n_d, 1) in a spread
     index = {x.name: i for i, x in enumerate(layers)}
@@ -216,6 +221,12 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
                         reflected, transmitted,
                         (d_front[:, 0], back_d[:, 0] if np.ndim(back_d) == 2 else back_d),
                         profiles)
+
+
+def rear_reflector_name(stack: LayerStack) -> str:
+    """The loss table's name for what a wafer's rear reflector absorbs."""
+    names = {x.name for x in stack.layers}
+    return "rear reflector" if "rear reflector" not in names else f"rear reflector of {stack.back.name}"
 
 
 def _mean_optics(solved):

@@ -21,7 +21,7 @@ from tandem.optics.database import database_index
 ROLES = ("front", "back", "parasitic")
 TOP_KEYS = {"title", "description", "ambient_index", "exit_index", "layer", "sources"}
 LAYER_KEYS = {"name", "thickness_nm", "points", "nk", "absorber", "gap_eV", "coherent", "role",
-              "light_trapping"}
+              "light_trapping", "rear_reflectance"}
 #: Coherent layers thicker than this are refused: their fringes are finer than any
 #: spectrum's grid and a real film of that size is not coherent (mark it incoherent).
 MAX_COHERENT_NM = 20_000.0
@@ -184,8 +184,17 @@ def _layer(path: Path, i: int, x: dict) -> StackLayer:
     if trapping is not None and (role != "back" or coherent):
         _fail(path, f"{where}.light_trapping", "is only for an incoherent back absorber",
               "set role = \"back\" and coherent = false, or remove it")
+    rear = x.get("rear_reflectance")
+    if rear is not None:
+        rear = _number(path, f"{where}.rear_reflectance", rear, 0.0, 1.0, "a fraction (0.95: 5 % "
+                       "absorbed in the rear at each bounce)")
+        if rear == 0 or role != "back" or coherent:
+            _fail(path, f"{where}.rear_reflectance", "is only for the reflector behind an "
+                  "incoherent back absorber, above 0", "set role = \"back\" and coherent = false, "
+                  "or light_trapping = \"single-pass\" for no reflector")
     fields = dict(name=name, thickness_nm=thickness, sweep_nm=sweep, points=points,
-                  coherent=coherent, role=role, light_trapping=trapping)
+                  coherent=coherent, role=role, light_trapping=trapping,
+                  rear_reflectance=1.0 if rear is None else rear)
     if "absorber" in x:
         if not isinstance(x["absorber"], str):
             _fail(path, f"{where}.absorber", "must be a name or path", "put it in quotes")
@@ -203,6 +212,10 @@ def _layer(path: Path, i: int, x: dict) -> StackLayer:
             text = str(exc).split(" (or allow it")[0]
             raise TandemInputError(text if text.startswith("stack file") else
                                    f"stack file '{path}': {text}") from None
+        if rear is not None and (trapping or absorber.light_trapping) == "single-pass":
+            _fail(path, f"{where}.rear_reflectance", "is given for a single-pass wafer (no "
+                  "reflector behind it)", "use light_trapping = \"lambertian\" or \"double-pass\", "
+                  "or remove rear_reflectance")
         return StackLayer(source=f"absorber {absorber.key}", absorber=absorber, gap_eV=gap,
                           **fields)
     if "gap_eV" in x:

@@ -90,6 +90,8 @@ class WaferLight:
     profile: np.ndarray | None = None
     #: {film number: the returning light absorbed per nm at its depths asked (nz, …, nE)}
     film_profiles: dict = field(default_factory=dict)
+    #: absorbed in the rear reflector (…, nE) (None: a lossless rear, or no reflector)
+    rear: np.ndarray | None = None
 
 
 def hemisphere_nodes(n_wafer, critical_indices, per_interval: int = NODES_PER_INTERVAL):
@@ -128,7 +130,7 @@ def hemisphere_nodes(n_wafer, critical_indices, per_interval: int = NODES_PER_IN
 def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, rear: str,
                 entering, wavelength_nm, per_interval: int | None = None,
                 depths_nm=None, film_depths: dict | None = None,
-                incidence_kappa: float = 0.0) -> WaferLight:
+                incidence_kappa: float = 0.0, rear_reflectance: float = 1.0) -> WaferLight:
     """Absorption in a thick wafer and the light it sends back through the films in front.
 
     Parameters
@@ -149,6 +151,9 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     incidence_kappa : n₀ sin θ₀ of the sunlight (0: normal incidence): the first pass crosses
         the wafer at its refracted angle, cos θ_w = √(1 − (κ/n_w)²), and a mirror sends it
         back at that angle (a randomising rear forgets it).
+    rear_reflectance : R_b of the reflector (0 < R_b ≤ 1): at every bounce it returns R_b of
+        the light reaching it and absorbs the rest, so U = R_b·T·e^{−αd}/(1 − R_b·ρ) and the
+        rear absorbs (1 − R_b)/R_b·U (``rear``).
     """
     if rear not in LIGHT_TRAPPING:
         raise ValueError(f"rear must be one of {LIGHT_TRAPPING}, not {rear!r}")
@@ -222,7 +227,9 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
             per_nm = a_l / np.sqrt(1 - u)
             depth_live += w * per_nm * (np.exp(-per_nm * (d - z)) + up * r * np.exp(-per_nm * z))
     # (1 − ρ > 0 unless light could circle forever with no loss and no exit)
-    leaving_rear = entering[..., live] * down[live] / np.maximum(1 - returned, np.finfo(float).tiny)
+    r_b = float(rear_reflectance)
+    leaving_rear = (r_b * entering[..., live] * down[live]
+                    / np.maximum(1 - r_b * returned, np.finfo(float).tiny))
     wafer[..., live] += leaving_rear * in_wafer
     escaped[..., live] = leaving_rear * out
     for k, a in enumerate(in_films):
@@ -231,4 +238,8 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
         profile[..., live] += leaving_rear * depth_live
     for k in film_profiles:
         film_profiles[k][..., live] *= leaving_rear
-    return WaferLight(wafer, tuple(films_extra), escaped, zero, profile, film_profiles)
+    in_rear = None
+    if r_b < 1:
+        in_rear = zero.copy()
+        in_rear[..., live] = (1 - r_b) / r_b * leaving_rear
+    return WaferLight(wafer, tuple(films_extra), escaped, zero, profile, film_profiles, in_rear)
