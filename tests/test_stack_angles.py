@@ -2,7 +2,6 @@
 diffuse light over the hemisphere, through the stack's own layers (tandem.design.stack_angles)."""
 
 import dataclasses
-import json
 
 import numpy as np
 import pandas as pd
