@@ -98,3 +98,26 @@ def test_a_design_outside_the_declared_ranges_says_so_on_its_figure():
     inside = tandem.match("perovskite-wide", "silicon", sweep=tandem.Sweep(front_gaps_eV=[1.7],
                                                                             thickness_points=10))
     assert "outside" not in " ".join(t.get_text() for t in inside.plot().texts)
+
+
+def test_the_stack_figure_shows_where_each_absorber_makes_its_carriers():
+    # the third panel: each absorber's G(z) on a shared relative depth, its half-depth dotted
+    # where the JSON says, in cm⁻³ s⁻¹ on a log axis
+    from tandem.output.stack_plots import draw_photon_budget
+
+    result = tandem.match_stack("organic-pair", points=20)
+    fig = draw_photon_budget(result)
+    ax = fig.axes[2]
+    assert ax.get_yscale() == "log" and "cm⁻³ s⁻¹" in ax.get_ylabel()
+    assert "share of the absorber's thickness" in ax.get_xlabel()
+    m = result.match
+    summary = {g["layer"]: g for g in result.summary()["generation"]}
+    for layer in (m.stack.front, m.stack.back):
+        thickness = m.best_budget.profiles[layer.name][0][-1]
+        line = next(x for x in ax.get_lines() if x.get_label().startswith(f"{layer.name} ("))
+        x, y = line.get_xdata(), line.get_ydata()
+        assert x[0] == 0 and x[-1] == pytest.approx(1.0)
+        assert np.max(y) == pytest.approx(summary[layer.name]["peak_per_cm3_s"], rel=1e-4)
+        dots = [d for d in ax.get_lines() if d.get_marker() == "o" and d.get_color() == line.get_color()]
+        assert dots[0].get_xdata()[0] == pytest.approx(
+            summary[layer.name]["half_depth_nm"] / thickness, rel=1e-4)

@@ -35,7 +35,7 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str 
     with progress_bar(quiet or json_out, "matching") as bar:
         result = tandem.match_stack(loaded, build_light(o), build_operating(o), points=points,
                                     progress=progress_callback(bar))
-    from tandem.output.plots import stack_figure
+    from tandem.output.stack_plots import stack_figure
 
     s = result.summary()
     s["outputs"] = [str(stack_figure(result, figure, overwrite))]

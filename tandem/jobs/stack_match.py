@@ -124,7 +124,7 @@ class StackMatchResult(ResultDisplay):
         return xr.Dataset(data, coords=coords, attrs=attrs)
 
     def plot(self, ax=None):
-        from tandem.output.plots import draw_photon_budget
+        from tandem.output.stack_plots import draw_photon_budget
 
         return draw_photon_budget(self, ax)
 

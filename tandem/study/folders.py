@@ -136,7 +136,7 @@ def _write_figures(study: StudyResult, folder: Path) -> None:
     for key, m in study.stacks.items():
         from types import SimpleNamespace
 
-        from tandem.output.plots import stack_figure
+        from tandem.output.stack_plots import stack_figure
 
         stack_figure(SimpleNamespace(match=m), folder / f"photons-{key}.png")
     axes = study.scenario.map_gaps()
