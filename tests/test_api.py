@@ -99,8 +99,32 @@ def test_plots_return_figures_and_leave_the_backend_alone():
 def test_datasets_carry_units_and_conditions():
     ds = tandem.gap_map(front_gaps_eV=[1.6, 1.7, 1.8, 1.9], back_gaps_eV=[0.9, 1.0, 1.1, 1.2]).to_dataset()
     assert ds["front_gap"].attrs["units"] == "eV" and ds["efficiency_2t"].attrs["units"] == "%"
-    assert ds.attrs["temperature_K"] == 298.15 and ds.attrs["terminals"] == 2
-    assert "AM1.5G" in ds.attrs["spectrum"]
+    assert float(ds.temperature) == 298.15 and ds.temperature.attrs["units"] == "K"
+    assert int(ds.terminals) == 2 and "AM1.5G" in str(ds.spectrum.values)
+    assert ds.attrs["Conventions"] == "CF-1.8" and ds.attrs["tandem_version"] == tandem.__version__
+    assert all("long_name" in v.attrs for v in ds.variables.values())
+
+
+def test_two_runs_concatenate_along_what_differs_between_them(tmp_path):
+    # the conditions are scalar coordinates: xarray stacks two maps along temperature and
+    # keeps both (as attributes, a concatenation kept the first run's and lost the other's);
+    # the same through NetCDF files read back
+    import xarray as xr
+
+    gaps = dict(front_gaps_eV=[1.6, 1.7, 1.8], back_gaps_eV=[0.9, 1.0, 1.1])
+    maps = [tandem.gap_map(**gaps, operating=tandem.OperatingPoint(temperature_K=t)).to_dataset()
+            for t in (300.0, 330.0)]
+    for i, ds in enumerate(maps):
+        ds.to_netcdf(tmp_path / f"map{i}.nc", engine="scipy")
+    read = [xr.open_dataset(tmp_path / f"map{i}.nc", engine="scipy") for i in range(2)]
+    for pair in (maps, read):
+        both = xr.concat(pair, dim="temperature")
+        assert list(both.temperature.values) == [300.0, 330.0]
+        hot = both.efficiency_2t.sel(temperature=330.0).values
+        np.testing.assert_array_equal(hot, maps[1].efficiency_2t.values)
+        assert np.all(hot < both.efficiency_2t.sel(temperature=300.0).values)  # warmer: less
+    for ds in read:
+        ds.close()
 
 
 def test_yield_dataset_has_the_optimum_along_time_in_utc(tmp_path):

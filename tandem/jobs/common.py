@@ -125,11 +125,14 @@ def frame(rows):
     return pd.DataFrame(rows)
 
 
-def conditions_attrs(light_name: str, temperature_K: float, terminals: int, **extra) -> dict:
-    attrs = {"spectrum": light_name, "temperature_K": float(temperature_K),
-             "terminals": int(terminals)}
-    attrs.update({k: v for k, v in extra.items() if v is not None})
-    return attrs
+def with_conditions(ds, light_name: str, temperature_K: float, terminals: int, **extra):
+    """A result's Dataset with its run's conditions as scalar coordinates (so runs concatenate
+    along them) and ``extra`` attributes (None left out): :func:`tandem.output.datasets.described`."""
+    from tandem.output.datasets import described
+
+    ds.attrs.update({k: v for k, v in extra.items() if v is not None})
+    return described(ds, spectrum=light_name, temperature=float(temperature_K),
+                     terminals=int(terminals))
 
 
 def check_types(**inputs) -> None:
@@ -213,7 +216,9 @@ def frame_dataset(frame, dim: str, attrs: dict | None = None, label: str | None 
                 break
         data = np.array([np.nan if v is None else v for v in values], dtype=float)
         variables[name] = (dim, data, {"units": units} if units else {})
-    return xr.Dataset(variables, coords=coords, attrs=dict(attrs or {}))
+    from tandem.output.datasets import described
+
+    return described(xr.Dataset(variables, coords=coords, attrs=dict(attrs or {})))
 
 
 class ResultDisplay:

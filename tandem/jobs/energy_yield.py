@@ -99,7 +99,9 @@ class YieldResult(ResultDisplay):
         # 1970 overflow 32 bits
         ds["time"].encoding = {"units": "hours since 1970-01-01 00:00:00", "dtype": "f8",
                                "calendar": "proleptic_gregorian"}
-        return ds
+        from tandem.output.datasets import described
+
+        return described(ds)
 
     def plot(self, ax=None):
         from tandem.output.sky_plots import draw_yield_map

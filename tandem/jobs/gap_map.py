@@ -17,7 +17,7 @@ from tandem.design.maps import (
 )
 from tandem.design.matching import Conditions, StackDesign
 from tandem.jobs.common import (MAP_BYTES, Progress, ResultDisplay, absorber_pair, check_connection,
-                                check_types, check_work, conditions_attrs)
+                                check_types, check_work, with_conditions)
 from tandem.jobs.inputs import Light, OperatingPoint, gap_range, gap_values
 from tandem.optics.absorbers import Absorber
 from tandem.output.report import map_summary
@@ -58,7 +58,7 @@ class MapResult(ResultDisplay):
 
         m = self.gap_map
         dims = ("front_gap", "back_gap")
-        return xr.Dataset(
+        return with_conditions(xr.Dataset(
             {"efficiency_2t": (dims, 100 * m.efficiency_2t, {"units": "%"}),
              "efficiency_4t": (dims, 100 * m.efficiency_4t, {"units": "%"}),
              **({"efficiency_3t": (dims, 100 * m.efficiency(3), {"units": "%"})}
@@ -67,10 +67,9 @@ class MapResult(ResultDisplay):
              "jsc_back": (dims, m.j_back / 10, {"units": "mA/cm2"}),
              "voc_2t": (dims, m.voc_2t, {"units": "V"})},
             coords={"front_gap": ("front_gap", m.front_gaps, {"units": "eV"}),
-                    "back_gap": ("back_gap", m.back_gaps, {"units": "eV"})},
-            attrs=conditions_attrs(m.spectrum, m.temperature_K, self.terminals,
-                                    irradiance_W_m2=m.irradiance,
-                                    ere=None if self.ere is None else list(self.ere)))
+                    "back_gap": ("back_gap", m.back_gaps, {"units": "eV"})}),
+            m.spectrum, m.temperature_K, self.terminals, irradiance_W_m2=m.irradiance,
+            ere=None if self.ere is None else list(self.ere))
 
     def plot(self, ax=None):
         from tandem.output.plots import draw_map

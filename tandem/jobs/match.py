@@ -21,7 +21,7 @@ from tandem.jobs.common import (check_connection, check_types,
     absorber_pair,
     blackbody_of,
     check_work,
-    conditions_attrs,
+    with_conditions,
     frame,
 )
 from tandem.jobs.inputs import Light, OperatingPoint, Sweep
@@ -82,13 +82,12 @@ class MatchStudy(ResultDisplay):
                 if self.result.terminals == 3 else {})},
             coords={"front_gap": ("front_gap", gaps, {"units": "eV", "note": "at 298.15 K"}),
                     "back_thickness": ("back_thickness", backs, {"units": "nm"}),
-                    "front_thickness": ("front_thickness", d, {"units": "nm"})},
-            attrs=conditions_attrs(cond.photon_flux.name, cond.temperature_K,
-                                    self.result.terminals, front=self.result.design.front.key,
-                                    back=self.result.design.back.key,
-                                    ere_front=self.result.design.front.ere,
-                                    ere_back=self.result.design.back.ere))
-        return ds
+                    "front_thickness": ("front_thickness", d, {"units": "nm"})})
+        return with_conditions(ds, cond.photon_flux.name, cond.temperature_K,
+                               self.result.terminals, front=self.result.design.front.key,
+                               back=self.result.design.back.key,
+                               ere_front=self.result.design.front.ere,
+                               ere_back=self.result.design.back.ere)
 
     def plot(self, ax=None):
         from tandem.output.plots import draw_match

@@ -393,7 +393,9 @@ class RegionResult(ResultDisplay):
             attrs.update(front=self.job.front.key, back=self.job.back.key, period=self.job.period,
                          step_minutes=float(self.job.step_minutes),
                          bifacial=int(self.job.rows is not None))
-        return xr.Dataset(data, coords=coords, attrs=attrs)
+        from tandem.output.datasets import described
+
+        return described(xr.Dataset(data, coords=coords, attrs=attrs))
 
     def plot(self, ax=None):
         from tandem.output.sky_plots import draw_region

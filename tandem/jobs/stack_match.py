@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from tandem.jobs.common import (Progress, ResultDisplay, check_connection, check_types, check_work,
-                                conditions_attrs, frame)
+                                frame, with_conditions)
 from tandem.jobs.inputs import Light, OperatingPoint, Sweep
 from tandem.jobs.match import match
 
@@ -52,13 +52,12 @@ class StackMatchResult(ResultDisplay):
         coords: dict[str, tuple] = {"front_thickness": ("front_thickness", m.thicknesses_nm, {"units": "nm"})}
         for name in others:
             coords[name] = ("design", [g[0][name] for g in m.grids], {"units": "nm"})
-        return xr.Dataset(
+        return with_conditions(xr.Dataset(
             {"jsc_front": (dims, rows["j"][..., 0] / 10, {"units": "mA/cm2"}),
              "jsc_back": (dims, rows["j"][..., 1] / 10, {"units": "mA/cm2"}),
              "efficiency_2t": (dims, 100 * rows["e2"], {"units": "%"}),
              "efficiency_4t": (dims, 100 * rows["e4"], {"units": "%"})},
-            coords=coords, attrs=conditions_attrs(self.spectrum, m.temperature_K, 2,
-                                                   stack=m.stack.key))
+            coords=coords), self.spectrum, m.temperature_K, 2, stack=m.stack.key)
 
     def budget_frame(self):
         """Where the photons go in the best design, per wavelength: the shares of the incident
@@ -116,12 +115,11 @@ class StackMatchResult(ResultDisplay):
             data[f"generation_{role}"] = (f"depth_{role}", g, {
                 "units": "cm-3 s-1", "long_name": f"photogeneration rate in {x.name}"})
         best = m.best
-        attrs = conditions_attrs(self.spectrum, m.temperature_K, 2, stack=m.stack.key,
-                                 front_thickness_nm=float(best.front_thickness_nm),
-                                 **{f"{k}_nm": float(v) for k, v in best.others.items()})
-        attrs.update(Conventions="CF-1.8", title=f"photon budget of {m.stack.title}",
-                     source=STAMP, written_by=STAMP)
-        return xr.Dataset(data, coords=coords, attrs=attrs)
+        return with_conditions(
+            xr.Dataset(data, coords=coords), self.spectrum, m.temperature_K, 2, stack=m.stack.key,
+            front_thickness_nm=float(best.front_thickness_nm),
+            **{f"{k}_nm": float(v) for k, v in best.others.items()},
+            title=f"photon budget of {m.stack.title}", written_by=STAMP)
 
     def plot(self, ax=None):
         from tandem.output.stack_plots import draw_photon_budget
