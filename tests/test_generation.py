@@ -81,6 +81,19 @@ def test_a_wafers_profile_adds_up_to_its_absorptance(rear):
     np.testing.assert_allclose(simpson(traced.profile, x=z, axis=0), traced.wafer, rtol=1e-9)
 
 
+def test_a_profiles_figures_are_those_of_beer_lambert():
+    # G = G0·e^{−αz} on [0, d]: carriers G0(1 − e^{−αd})/α, peak G0 at z = 0, and half of them
+    # within h = −ln(1 − (1 − e^{−αd})/2)/α (closed form of the integral)
+    alpha, d, g0 = 1 / 150.0, 600.0, 3e21  # [1/nm], [nm], [cm⁻³ s⁻¹]
+    z = np.linspace(0.0, d, 2001)
+    got = profile_figures(z, g0 * np.exp(-alpha * z))
+    assert got["carriers_per_cm2_s"] == pytest.approx(g0 * -np.expm1(-alpha * d) / alpha * 1e-7,
+                                                      rel=1e-9)
+    assert got["peak_per_cm3_s"] == g0 and got["peak_depth_nm"] == 0.0
+    assert got["half_depth_nm"] == pytest.approx(-np.log1p(-(-np.expm1(-alpha * d)) / 2) / alpha,
+                                                 rel=1e-6)
+
+
 @pytest.mark.parametrize("key, tolerance", [("wide-gap-on-silicon-wafer", 1e-4),
                                             ("all-thin-film-pair", 1e-6), ("organic-pair", 1e-6)])
 def test_every_absorbed_photon_makes_one_pair_at_some_depth(key, tolerance):

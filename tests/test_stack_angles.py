@@ -167,3 +167,29 @@ def test_the_cover_index_is_refused_with_a_stack_and_the_note_says_why(tmp_path,
     notes = tandem.energy_yield_stack("organic-pair", plain, others={},
                                       front_thicknesses_nm=[150.0]).summary()["source_notes"]
     assert any("the stack at normal incidence" in n for n in notes)
+
+
+@pytest.mark.parametrize("source", ["clear sky", "weather"])
+def test_the_arriving_light_is_the_same_whatever_cover_the_site_names(source):
+    # the direct and diffuse light a stack takes arrive before any cover: a site's cover index
+    # changes the pair's spectra (the light past the cover) but not these; with no cover their
+    # sum is the series itself (each part's cover factor undone exactly)
+    from tandem.design.weather import weather_frame_series
+
+    times = pd.date_range("2026-03-21 08:30", periods=6, freq="h", tz="Etc/GMT-1")
+    data = pd.DataFrame({"ghi": [300.0, 600.0, 800.0, 850.0, 400.0, 150.0],
+                         "dni": [500.0, 750.0, 850.0, 820.0, 100.0, 0.0],
+                         "dhi": [90.0, 110.0, 120.0, 140.0, 300.0, 150.0],
+                         "temp_air": 15.0, "wind_speed": 2.0}, index=times)
+    made = []
+    for cover in (1.0, 1.526):
+        site = tandem.Site("field", 38.5, -3.0, timezone="Etc/GMT-1", cover_index=cover)
+        made.append(weather_frame_series(site, data) if source == "weather" else
+                    tandem.clear_sky_series(site, times))
+    bare, glass = made
+    np.testing.assert_allclose(glass.arriving_direct, bare.arriving_direct, rtol=1e-10, atol=1e-12)
+    np.testing.assert_allclose(glass.arriving_diffuse, bare.arriving_diffuse, rtol=1e-10, atol=1e-12)
+    np.testing.assert_allclose(bare.arriving_direct + bare.arriving_diffuse, bare.coefficients,
+                               rtol=1e-10, atol=1e-12)
+    assert not np.allclose(glass.coefficients, bare.coefficients, rtol=1e-3)  # the pair's do move
+    assert np.all(bare.arriving_direct >= 0) and np.all(bare.arriving_diffuse >= 0)

@@ -8,6 +8,7 @@ measured spectra themselves.
 from __future__ import annotations
 
 import re
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -127,15 +128,18 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
     # light: that excess takes the clear-sky global shape (the idea of cloud-cover spectral
     # models such as Nann & Riordan, J. Appl. Meteorol. 30 (1991) 447; recalled). Overcast
     # hours come out a little bluer than clear ones, clear-sky diffuse much bluer.
-    grid, ratios, basis = anchored_parts(site, pos["apparent_zenith"].to_numpy()[use],
+    # SPECTRL2's parts as they arrive (one evaluation), then each past the cover by its factor
+    grid, arrive, basis = anchored_parts(replace(site, cover_index=1.0),
+                                         pos["apparent_zenith"].to_numpy()[use],
                                          aoi.to_numpy()[use], times[use].day_of_year.to_numpy())
+    factor = {"direct": direct[use][:, None], "sky": sky, "ground": ground, "cloud": sky}
+    arrive["cloud"] = arrive["direct"] + arrive["sky"]  # clouds scatter both; it comes as sky light
+    ratios = {key: factor[key] * r for key, r in arrive.items()}
     band = np.trapezoid(basis, grid, axis=-1)
     amounts = {key: value[use] for key, value in past_parts.items()}
     model = {key: r @ band for key, r in ratios.items()}
     amounts["sky"] = np.minimum(amounts["sky"], model["sky"])  # the clear-sky share of it
     amounts["cloud"] = past_parts["sky"][use] - amounts["sky"]
-    ratios["cloud"] = ratios["direct"] + ratios["sky"]
-    model["cloud"] = model["direct"] + model["sky"]
 
     def scaled(key):  # the part's SPECTRL2 ratios scaled to the file's amount of it
         have = model[key] > 1e-9
@@ -149,14 +153,13 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
     rescale = np.where(ok, past[use] / np.where(ok, total, 1.0), 0.0)[:, None]
     ratio = ratio * rescale
     # the same light as it arrives, before the cover's factor of each part (for layer stacks,
-    # whose own layers take each part at its angles); clouds come through the sky's factor
-    def arriving(*keys, factor):
-        safe = np.where(factor > 0, factor, 1.0)
-        return sum(scaled(k) for k in keys) * rescale / np.atleast_1d(safe)[..., None]
+    # whose own layers take each part at its angles)
+    def arriving(key):
+        f = np.broadcast_to(factor[key], (ratio.shape[0], 1))
+        return scaled(key) * rescale / np.where(f > 0, f, 1.0)
 
-    arriving_direct = arriving("direct", factor=direct[use])
-    arriving_diffuse = (arriving("sky", "cloud", factor=np.asarray(sky))
-                        + arriving("ground", factor=np.asarray(ground)))
+    arriving_direct = arriving("direct")
+    arriving_diffuse = arriving("sky") + arriving("cloud") + arriving("ground")
     past_cover = np.where(poa[use] > 0, past[use] / np.where(poa[use] > 0, poa[use], 1.0), 1.0)
     temps = cell_temperature_K(poa[use], data["temp_air"].to_numpy()[use],
                                data["wind_speed"].to_numpy()[use])
