@@ -86,6 +86,12 @@ def test_outputs_describe_themselves_and_only_tandem_folders_are_used(sites, job
     assert list(data["site"].values) == ["Mesa Verdeja", "Porto Brisa"]
     assert data["energy_2t"].dims == ("site", "front_gap", "front_thickness")
     assert data["front_gap_eV"].attrs["units"] == "eV"
+    # CF: a site's position as coordinates with their standard names and units
+    assert "latitude" in data.coords and data.latitude.attrs["standard_name"] == "latitude"
+    assert data.longitude.attrs["units"] == "degrees_east"
+    assert list(data.latitude.values) == [s.latitude for s in sites[:2]]
+    assert data.attrs["Conventions"] == "CF-1.8"
+    data.close()
     assert {p.name for p in paths} == {"region.nc", "region.csv", "region.png"}
     foreign = tmp_path / "mine"
     foreign.mkdir()

@@ -380,6 +380,10 @@ class RegionResult(ResultDisplay):
                 values = np.array(["" if v is None else str(v) for v in values])
             data[column] = ("site", values, {"units": unit} if unit else {})
         coords: dict[str, tuple] = {"site": ("site", frame["name"].to_numpy().astype(str))}
+        for axis, unit in (("latitude", "degrees_north"), ("longitude", "degrees_east")):
+            if axis in data:  # CF's coordinates of a site, with their standard names
+                coords[axis] = ("site", data.pop(axis)[1].astype(float),
+                                {"units": unit, "standard_name": axis})
         if grids and self.job is not None:
             coords["front_gap"] = ("front_gap", np.array(self.job.gaps_eV), {"units": "eV"})
             coords["front_thickness"] = ("front_thickness", np.array(self.job.thicknesses_nm),
