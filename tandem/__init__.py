@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import importlib
 
-__version__ = "0.2.0"
+__version__ = "0.3.0"
 
 #: public name -> module that defines it
 _WHERE = {
