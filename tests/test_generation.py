@@ -138,3 +138,13 @@ def test_the_netcdf_budget_is_cf_and_counts_every_photon_once(tmp_path, monkeypa
         summary["best"]["jsc_front_mA_cm2"], rel=1e-3)
     refused = CliRunner().invoke(app, ["match", "--stack", "organic-pair", "--budget", "b.txt"])
     assert refused.exit_code == 2 and ".nc" in refused.output
+
+
+def test_a_budget_in_a_missing_folder_names_the_folder_and_the_file(tmp_path, monkeypatch):
+    from tandem.cli.app import app
+    from typer.testing import CliRunner
+
+    monkeypatch.chdir(tmp_path)
+    run = CliRunner().invoke(app, ["match", "--stack", "organic-pair", "--budget", "nodir/b.nc"])
+    assert run.exit_code == 2 and "nodir' does not exist" in run.output and "'b.nc'" in run.output
+    assert "--out" not in run.output  # match has no --out

@@ -264,8 +264,8 @@ def check_output_folder(target: str | Path) -> Path:
                                "long; give a name under 200 characters")
     parent = target.parent
     if not parent.is_dir():
-        raise TandemInputError(f"folder '{parent}' does not exist; create it first or choose "
-                               "another --out")
+        raise TandemInputError(f"folder '{parent}' does not exist; create it first or write "
+                               f"'{target.name}' somewhere that exists")
     try:
         probe = tempfile.mkdtemp(prefix=f".{target.name[:40]}.probe-", dir=parent)
         os.rmdir(probe)
