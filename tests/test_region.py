@@ -47,14 +47,23 @@ def numbers(result):
     return result.to_frame().drop(columns="seconds")
 
 
-def test_two_worker_cluster_gives_exactly_the_serial_numbers(sites, job, tmp_path):
+@pytest.fixture(scope="module")
+def day_job(job):
+    """The same job over one day: what the folder and cluster logic is tested on (the
+    physics of a month is tested elsewhere, the rules do not depend on the period's length)."""
+    return replace(job, period="day:2026-06-21")
+
+
+def test_two_worker_cluster_gives_exactly_the_serial_numbers(sites, day_job, tmp_path):
+    job = day_job
     serial = run_region(sites, job, tmp_path / "serial", workers=1)
     cluster = run_region(sites, job, tmp_path / "cluster", workers=2)
     pd.testing.assert_frame_equal(numbers(serial), numbers(cluster), check_exact=True)
     assert sorted(cluster.computed) == sorted(s.name for s in sites)
 
 
-def test_an_interrupted_region_resumes_with_only_the_rest(sites, job, tmp_path):
+def test_an_interrupted_region_resumes_with_only_the_rest(sites, day_job, tmp_path):
+    job, sites = day_job, sites[:3]  # two finished, one left: the rules need no more
     folder = tmp_path / "region"
 
     def stop_after_two(done, total):

@@ -281,12 +281,12 @@ def yield_sweep(design: YieldDesign, series: SpectralSeries, gaps, thicknesses,
         raise TandemInputError(f"stack '{design.stack.key}' on a bifacial site: the light reaching "
                                "a stack's rear is not modelled; give the site bifaciality 0, or "
                                "FRONT and BACK absorbers instead of the stack")
-    with _one_blas_thread():
+    with one_blas_thread():
         return _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference,
                             ideality, electrical, bin_K, progress, reference_design or design)
 
 
-def _one_blas_thread():
+def one_blas_thread():
     """The yield's many small matrix products (steps × energies) run fastest on one BLAS
     thread: two threads contend on two busy cores (measured: see DEVELOPERS.md)."""
     from threadpoolctl import threadpool_limits
@@ -343,7 +343,7 @@ def hourly(design: YieldDesign, series: SpectralSeries, gap: float, thickness: f
            back_thickness_nm: float, ideality: float = 1.0, electrical: Electrical = IDEAL,
            bin_K: float = 2.0) -> HourlyDesign:
     """One design at every time step of the series."""
-    with _one_blas_thread():
+    with one_blas_thread():
         return _hourly(design, series, gap, thickness, back_thickness_nm, ideality, electrical,
                        bin_K)
 

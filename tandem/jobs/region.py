@@ -261,7 +261,18 @@ def grid_sites(latitudes: tuple[float, float, float], longitudes: tuple[float, f
 
 
 def site_year(spec: SiteSpec, job: RegionJob) -> dict:
-    """The energy-optimal design at one site, monofacial (and bifacial with ``job.rows``)."""
+    """The energy-optimal design at one site, monofacial (and bifacial with ``job.rows``).
+
+    Every BLAS call of a site runs on one thread, in this process or on a worker: the sky
+    series' matrix products, too, summed in another order on two threads, moved a design's
+    energy in its last bits between a serial and a distributed run."""
+    from tandem.design.yields import one_blas_thread
+
+    with one_blas_thread():
+        return _site_year(spec, job)
+
+
+def _site_year(spec: SiteSpec, job: RegionJob) -> dict:
     import time
 
     from tandem.design.matching import StackDesign, outside_ranges
