@@ -49,6 +49,26 @@ def test_a_stack_at_an_angle_equals_tmm_s_and_p_averaged():
         assert ours.back[0, k] == pytest.approx(absorbed[back], abs=1e-8)
 
 
+def test_the_skys_angle_is_in_air_whatever_the_ambient_medium():
+    # Snell: n·sin θ is kept, so sunlight at 60° in air meets a stack whose ambient is glass
+    # (n 1.52) at arcsin(sin 60°/1.52) there; tmm (Byrnes) solves it from the glass side
+    stack = dataclasses.replace(tandem.load_stack("all-thin-film-pair"), ambient_index=1.52)
+    energy = np.array([1.6, 2.2])
+    ours = photon_budget(stack, energy, [400.0], None, 298.15, angle_deg=60.0)
+    layers = list(stack.layers)
+    n = [1.52] + [x.index(energy) for x in layers] + [stack.exit_index]
+    d = [np.inf] + [400.0 if x.role == "front" else x.thickness_nm for x in layers] + [np.inf]
+    flags = ["i"] + ["c" if x.coherent else "i" for x in layers] + ["i"]
+    front = [i for i, x in enumerate(layers) if x.role == "front"][0]
+    inside = np.arcsin(np.sin(np.radians(60.0)) / 1.52)
+    for k, lam in enumerate(tandem.core.units.HC_EV_NM / energy):
+        index = [np.asarray(x)[k] if np.ndim(x) else x for x in n]
+        absorbed = np.mean([tmm.inc_absorp_in_each_layer(tmm.inc_tmm(p, index, d, flags, inside,
+                                                                     lam))
+                            for p in "sp"], axis=0)[1:-1]
+        assert ours.front[0, k] == pytest.approx(absorbed[front], abs=1e-8)
+
+
 def test_a_wafers_first_pass_crosses_at_the_refracted_angle():
     # Snell and Beer–Lambert: a single pass at sin θ_w = sin θ/n absorbs 1 − e^{−αd/cos θ_w}
     n_w = 3.6 + 1j * np.array([2e-4, 2e-5])

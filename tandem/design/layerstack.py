@@ -159,7 +159,8 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
     ``depth_points`` > 0 (one front thickness only) also gives each absorber's absorbed
     fraction per nm on that many depths (``profiles``): from the coherent solution's field
     in a film, from the traced light in a wafer. ``angle_deg``: the sunlight's angle of
-    incidence in the ambient medium (s and p averaged; 0 is normal incidence, solved once).
+    incidence in air, as a sky model gives it (s and p averaged; 0 is normal incidence,
+    solved once); an ambient medium of index n takes it at arcsin(sin θ/n).
     """
     e = np.asarray(energy, dtype=float)
     wavelength = HC_EV_NM / e
@@ -178,7 +179,8 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
         for x in (stack.front, stack.back):
             d = float(d_front[0, 0]) if x.role == "front" else float(others.get(x.name, x.thickness_nm))
             depths[x.name] = np.linspace(0.0, d, depth_points) if x.coherent else wafer_depths(d, depth_points)
-    kappa = float(np.real(stack.ambient_index)) * math.sin(math.radians(angle_deg))
+    # the sky's angle is in air: n·sin θ is kept across every interface, whatever the ambient
+    kappa = math.sin(math.radians(angle_deg))
     pols = ("s",) if kappa == 0 else ("s", "p")  # at normal incidence s and p are one
     solved = [stack_optics(films, stack.ambient_index, exit_index, wavelength, kappa, pol, depths={
         i: depths[x.name] for i, x in enumerate(layers) if x.name in depths}) for pol in pols]
