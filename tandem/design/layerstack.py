@@ -32,7 +32,7 @@ from tandem.optics.absorbers import Absorber, absorbers_bulk
 from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import PhotonFlux, trapezoid_weights
 from tandem.physics.stack import evaluate_stack
-from tandem.optics.thinfilm import Layer, index_from_alpha, stack_optics
+from tandem.optics.thinfilm import Layer, index_from_alpha, stack_optics, unpolarised
 from tandem.optics.wafer import trace_wafer
 from tandem.core.units import HC_EV_NM, Q
 
@@ -184,7 +184,7 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
     pols = ("s",) if kappa == 0 else ("s", "p")  # at normal incidence s and p are one
     solved = [stack_optics(films, stack.ambient_index, exit_index, wavelength, kappa, pol, depths={
         i: depths[x.name] for i, x in enumerate(layers) if x.name in depths}) for pol in pols]
-    optics = solved[0] if len(solved) == 1 else _mean_optics(solved)
+    optics = solved[0] if len(solved) == 1 else unpolarised(solved)
     shape = optics.reflectance.shape
     absorbed = dict(zip((x.name for x in layers), optics.absorptance))
     reflected = np.array(optics.reflectance)
@@ -229,18 +229,6 @@ def rear_reflector_name(stack: LayerStack) -> str:
     """The loss table's name for what a wafer's rear reflector absorbs."""
     names = {x.name for x in stack.layers}
     return "rear reflector" if "rear reflector" not in names else f"rear reflector of {stack.back.name}"
-
-
-def _mean_optics(solved):
-    """s and p averaged (unpolarised sunlight)."""
-    from tandem.optics.thinfilm import Optics
-
-    def mean(get):
-        return np.mean([get(o) for o in solved], axis=0)
-
-    return Optics(mean(lambda o: o.reflectance), mean(lambda o: o.transmittance),
-                  tuple(mean(lambda o, k=k: o.absorptance[k]) for k in range(len(solved[0].absorptance))),
-                  {i: mean(lambda o, i=i: o.profiles[i]) for i in solved[0].profiles})
 
 
 def wafer_depths(thickness_nm: float, points: int) -> np.ndarray:

@@ -162,6 +162,17 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s", depths=
             "G": density[::-1]}
 
 
+def _absorption_factors(n, q, kz, pol):
+    """(c, c_x) of the absorbed power per depth, c·(|v|²e^{−2k''z} + |w|²e^{2k''z}) +
+    2Re(c_x v w̄ e^{2ik'z}): c = c_x = Im(q k_z) for s; c = 2k''·Re f, c_x = −2k'·Im f for p
+    (f = n·conj(cos θ); Byrnes, arXiv:1603.02720)."""
+    if pol == "s":
+        c = np.imag(q * kz)
+        return c, c
+    f = _flux_factor(n, q, pol)
+    return 2 * np.imag(kz) * np.real(f), -2 * np.real(kz) * np.imag(f)
+
+
 def _absorbed_at_depth(n, q, incident, v, w, depth_nm, wavelength_nm, pol="s"):
     """The integrand of :func:`_absorbed_in_layer`: the fraction of the incident flux absorbed
     per nm at each depth z (nz,) → (nz, …, nE): c·(|v|²e^{−2k''z} + |w|²e^{2k''z}) +
@@ -170,11 +181,7 @@ def _absorbed_at_depth(n, q, incident, v, w, depth_nm, wavelength_nm, pol="s"):
     k1, k2 = np.real(kz), np.imag(kz)
     batch = max(np.ndim(kz), np.ndim(v), np.ndim(w))  # depth leads every other axis
     z = np.asarray(depth_nm, dtype=float).reshape((-1,) + (1,) * batch)
-    if pol == "s":
-        c = c_x = np.imag(q * kz)
-    else:
-        f = _flux_factor(n, q, pol)
-        c, c_x = 2 * k2 * np.real(f), -2 * k1 * np.imag(f)
+    c, c_x = _absorption_factors(n, q, kz, pol)
     local = (c * (np.abs(v) ** 2 * np.exp(-2 * k2 * z) + np.abs(w) ** 2 * np.exp(2 * k2 * z))
              + 2 * np.real(c_x * v * np.conj(w) * np.exp(2j * k1 * z)))
     return local / incident
@@ -205,11 +212,7 @@ def _absorbed_in_layer(n, q, incident, v, w, thickness_nm, wavelength_nm, pol="s
         small = np.abs(x) < 1e-4
         oscillating = d * np.where(small, 1 + 0.5j * x - x * x / 6,
                                    np.expm1(1j * x) / np.where(small, 1.0, 1j * x))
-    if pol == "s":
-        c = c_x = np.imag(q * kz)
-    else:
-        f = _flux_factor(n, q, pol)
-        c, c_x = 2 * k2 * np.real(f), -2 * k1 * np.imag(f)
+    c, c_x = _absorption_factors(n, q, kz, pol)
     # the opaque cap: beyond e^{-35} the backward wave's growth is the cap's, as in δ
     integral = c * (np.abs(v) ** 2 * forward + np.abs(w) ** 2 * backward)
     return (integral + 2 * np.real(c_x * v * np.conj(w) * oscillating)) / incident
@@ -310,6 +313,17 @@ def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm, 
     return Optics(np.broadcast_to(reflectance, shape), np.broadcast_to(transmittance, shape),
                   tuple(np.broadcast_to(a, shape) for a in absorbed),
                   {i: np.broadcast_to(p, p.shape[:1] + shape) for i, p in profiles.items()})
+
+
+def unpolarised(solved: list[Optics]) -> Optics:
+    """The mean of the s and p solutions (unpolarised light): R, T, each absorptance and
+    each depth profile."""
+    def mean(get):
+        return np.mean([get(o) for o in solved], axis=0)
+
+    return Optics(mean(lambda o: o.reflectance), mean(lambda o: o.transmittance),
+                  tuple(mean(lambda o, k=k: o.absorptance[k]) for k in range(len(solved[0].absorptance))),
+                  {i: mean(lambda o, i=i: o.profiles[i]) for i in solved[0].profiles})
 
 
 def index_from_alpha(alpha_per_cm, wavelength_nm, n_real):

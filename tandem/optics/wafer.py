@@ -37,7 +37,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from tandem.optics.absorptance import LIGHT_TRAPPING
-from tandem.optics.thinfilm import POLARISATIONS, Layer, stack_optics
+from tandem.optics.thinfilm import POLARISATIONS, Layer, stack_optics, unpolarised
 
 #: Gauss–Legendre nodes per interval between critical angles (convergence tested).
 NODES_PER_INTERVAL = 8
@@ -161,16 +161,17 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     n_w = np.asarray(wafer_index, dtype=complex) * np.ones_like(lam)
     alpha_d = 4 * np.pi * n_w.imag / lam * float(thickness_nm)  # α·d [-]
     first_u = (float(incidence_kappa) / n_w.real) ** 2  # sin²θ_w of the first pass
-    down = np.exp(-alpha_d / np.sqrt(1 - first_u))
+    first_ad = alpha_d / np.sqrt(1 - first_u)  # α times the first pass's path
+    down = np.exp(-first_ad)
     entering = np.asarray(entering, dtype=float)
-    wafer = entering * -np.expm1(-alpha_d / np.sqrt(1 - first_u))  # the first pass
+    wafer = entering * -np.expm1(-first_ad)  # the first pass
     zero = np.zeros(np.broadcast(entering, lam).shape)
     films_extra = [zero.copy() for _ in films]
     profile, film_profiles = None, {k: np.zeros(np.shape(z) + zero.shape)
                                     for k, z in (film_depths or {}).items()}
     if depths_nm is not None:
         z = np.asarray(depths_nm, dtype=float).reshape((-1,) + (1,) * np.ndim(zero))
-        alpha = alpha_d / float(thickness_nm) / np.sqrt(1 - first_u)  # along the path [1/nm]
+        alpha = first_ad / float(thickness_nm)  # along the path [1/nm]
         profile = entering * alpha * np.exp(-alpha * z) * np.ones_like(zero)
     if rear == "single-pass":
         return WaferLight(wafer, tuple(films_extra), zero, entering * down, profile, film_profiles)
@@ -196,14 +197,11 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     last = len(films) - 1  # the films met from inside: film k is number last − k, depth d − z
     inside = {last - k: np.asarray(films[k].thickness_nm, dtype=float).item() - np.asarray(z, dtype=float)
               for k, z in (film_depths or {}).items()}
-    response = [stack_optics(reversed_films, n_c, ambient_index, lam[live[coarse]], kappa, pol,
-                             depths=inside) for pol in POLARISATIONS]
-    film_density = {k: np.mean([o.profiles[last - k] for o in response], axis=0)
-                    for k in film_profiles}  # (nz, nodes, …, coarse)
-    reflect = np.mean([o.reflectance for o in response], axis=0)  # s and p averaged
-    escape = np.mean([o.transmittance for o in response], axis=0)
-    absorb = [np.mean([o.absorptance[k] for o in response], axis=0)
-              for k in range(len(films))][::-1]  # back to sun-side order
+    response = unpolarised([stack_optics(reversed_films, n_c, ambient_index, lam[live[coarse]],
+                                         kappa, pol, depths=inside) for pol in POLARISATIONS])
+    film_density = {k: response.profiles[last - k] for k in film_profiles}  # (nz, nodes, …, coarse)
+    reflect, escape = response.reflectance, response.transmittance
+    absorb = list(response.absorptance)[::-1]  # back to sun-side order
     to_fine = _interpolation(1 / lam_l[coarse], 1 / lam_l)
     # per unit of light leaving the rear upwards: returned to the rear (ρ), and per sink
     shape = np.broadcast_shapes(reflect.shape[1:-1] + (lam_l.size,), entering.shape[:-1] + (1,))
