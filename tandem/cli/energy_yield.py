@@ -10,6 +10,7 @@ import typer
 import tandem
 from tandem.cli.options import (escape, Json, Large, Overwrite, Quiet, build_light, build_operating,
                                 check_outputs, emit_json, energy_text, field_text, given, out,
+                                refuse_cover_with_stack,
                                 over_scenario, parse_gap_option, parse_range, parse_thickness,
                                 plain_option, progress_bar, progress_callback, render_table, say,
                                 stack_over_scenario)
@@ -73,9 +74,7 @@ def energy_yield(
             if value:
                 raise TandemInputError(f"{name} with --stack: the stack file sets the absorbers, "
                                        "their gaps and the wafer; drop it (or edit the stack)")
-        if given("cover_index"):
-            raise TandemInputError("--cover-index with --stack: the stack's own layers take the "
-                                   "light at its angles; put a cover glass in the stack file")
+        refuse_cover_with_stack(stack)
     notes: list[str] = []
     a_front: str | tandem.Absorber | None
     a_back: str | tandem.Absorber | None

@@ -189,6 +189,13 @@ LIGHT_FIELDS = {"spectrum": "source", "concentration": "concentration",
                 "sun_temperature": "sun_temperature_K", "irradiance": "irradiance_W_m2"}
 
 
+def refuse_cover_with_stack(stack) -> None:
+    """A stack's own layers take the light at its angles: ``--cover-index`` would be unused."""
+    if stack is not None and given("cover_index"):
+        raise TandemInputError("--cover-index with --stack: the stack's own layers take the "
+                               "light at its angles; put a cover glass in the stack file")
+
+
 def over_scenario(o: dict, light: tandem.Light, operating: tandem.OperatingPoint,
                   skip: tuple[str, ...] = ()) -> tuple[tandem.Light, tandem.OperatingPoint, list[str]]:
     """The scenario's light and operating point with every option the user typed applied on

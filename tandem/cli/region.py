@@ -10,7 +10,7 @@ import typer
 
 import tandem
 from tandem.cli.options import (escape, flag_option, Json, Large, Quiet, build_light, build_operating, emit_json, err,
-                                given, out, over_scenario, parse_gap_option, parse_range,
+                                given, out, over_scenario, refuse_cover_with_stack, parse_gap_option, parse_range,
                                 parse_thickness, plain_option, progress_bar, progress_callback,
                                 render_table, say, stack_over_scenario)
 from tandem.core.errors import TandemInputError
@@ -96,9 +96,7 @@ def region(
                  cover_index=cover_index,
                  rows=Rows(gcr, row_height, pitch, bifaciality) if bifacial else None)
     back_d = parse_thickness(back_thickness, "--back-thickness") if back_thickness else None
-    if stack is not None and given("cover_index"):
-        raise TandemInputError("--cover-index with --stack: the stack's own layers take the "
-                               "light at its angles; put a cover glass in the stack file")
+    refuse_cover_with_stack(stack)
     notes: list[str] = []
     if scenario is not None:  # the scenario's inputs; options typed beside it replace them
         from tandem.study.sources import load_scenario

@@ -335,7 +335,7 @@ class StackMatch:
         return photon_budget(self.stack, self.energy, [b.front_thickness_nm], b.others,
                              self.temperature_K, depth_points=self.PROFILE_POINTS)
 
-    @property
+    @functools.cached_property
     def best_generation(self) -> dict:
         """Each absorber's generation rate G(z) in the best design (:func:`generation_profiles`)."""
         assert self.flux is not None  # match_in_stack keeps the spectrum

@@ -47,9 +47,13 @@ def stack_light_note(series) -> str:
     return "the stack at normal incidence: these spectra's direct and diffuse parts are unknown"
 
 
+#: Stack solves per front thickness the angles add (s and p at each node but 0° and 90°)
+ANGLE_SOLVES = 2 * (ANGLE_NODES_DEG.size - 2)
+
+
 def angle_solves(series) -> int:
-    """Stack solves per front thickness the angles add (s and p at each node but 0° and 90°)."""
-    return 2 * (ANGLE_NODES_DEG.size - 2) if series.has_parts else 0
+    """:data:`ANGLE_SOLVES` where the series lets a stack take its angles, else 0."""
+    return ANGLE_SOLVES if series.has_parts else 0
 
 
 def angle_table(stack, others: dict, energy, thicknesses) -> AngleTable:

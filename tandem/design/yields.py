@@ -16,7 +16,7 @@ subcells' absorptance differs between them.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, Callable, Union
+from typing import TYPE_CHECKING, Callable, NamedTuple, Union
 
 import numpy as np
 import pandas as pd
@@ -33,6 +33,7 @@ from tandem.core.units import Q
 
 if TYPE_CHECKING:
     from tandem.design.layerstack import LayerStack
+    from tandem.design.stack_angles import AngleTable
     from tandem.optics.absorbers import Absorber
 
 
@@ -186,16 +187,25 @@ def _subcells(design: YieldDesign, energy, gap, thickness, back_d, t_bin):
     return absorbed * parts.front_weight, transmitted * parts.back_weight
 
 
+class _StackSky(NamedTuple):
+    """A layer stack's light at its angles (:mod:`tandem.design.stack_angles`)."""
+
+    parts: FluxBasis  #: the arriving direct (rows 0…steps − 1) and diffuse light
+    steps: int
+    angles: AngleTable  #: the stack's ΔA at the nodes
+    aoi_deg: np.ndarray  #: each step's angle of incidence
+
+
 def _stack_sky(design: YieldDesign, series: SpectralSeries, energy, thicknesses):
-    """A layer stack's light at its angles (:mod:`tandem.design.stack_angles`): (the arriving
-    direct and diffuse light's basis, steps, ΔA table, angles), or None at normal incidence
-    (an optics-lite pair, or a series whose parts are unknown: measured spectra)."""
+    """:class:`_StackSky` of a layer stack, or None at normal incidence (an optics-lite pair,
+    or a series whose parts are unknown: measured spectra)."""
     if not (isinstance(design, StackYield) and series.has_parts):
         return None
     from tandem.design.stack_angles import angle_table
 
-    return (series.parts_basis(), series.times.size,
-            angle_table(design.stack, design.others, energy, thicknesses), series.aoi_deg)
+    assert series.aoi_deg is not None  # has_parts
+    return _StackSky(series.parts_basis(), series.times.size,
+                     angle_table(design.stack, design.others, energy, thicknesses), series.aoi_deg)
 
 
 def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thickness, back_d,
@@ -214,14 +224,15 @@ def _bin_performance(design, flux: FluxBasis, weights_e, step_bin, gap, thicknes
     if sky is None:
         basis, coeff = flux.basis, flux.coefficients(idx).T  # (r, n_h)
     else:
-        parts, steps = sky[0], sky[1]
-        c_direct, c_diffuse = parts.coefficients(idx).T, parts.coefficients(steps + idx).T
-        basis, coeff = parts.basis, c_direct + c_diffuse
+        c_direct = sky.parts.coefficients(idx).T
+        c_diffuse = sky.parts.coefficients(sky.steps + idx).T
+        basis, coeff = sky.parts.basis, c_direct + c_diffuse
     jl = np.stack([(front @ basis.T) @ coeff, (back @ basis.T) @ coeff], axis=-1)
     if sky is not None:
         from tandem.design.stack_angles import angled_currents
 
-        jl = jl + angled_currents(sky[2], weights_e, basis, c_direct, c_diffuse, sky[3][idx])
+        jl = jl + angled_currents(sky.angles, weights_e, basis, c_direct, c_diffuse,
+                                  sky.aoi_deg[idx])
     nodes, lagrange = _j0_nodes(t_cell)
     bb = db.blackbody_photon_flux(flux.energy, nodes[:, None])  # (m, nE)
     j0 = np.stack([_interpolate_j0(front @ bb.T, lagrange),
@@ -321,7 +332,7 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
                 progress(done, total)
     am15 = np.array([_am15_efficiency(reference_design, reference, g, thicknesses,
                                       back_thickness_nm, ideality, electrical) for g in gaps])
-    used = flux if sky is None else sky[0]  # the basis the photocurrents came through
+    used = flux if sky is None else sky.parts  # the basis the photocurrents came through
     return YieldSweep(gaps, thicknesses, e2, e4, series.insolation_kWh_m2, series, design,
                       float(back_thickness_nm), am15, used.rank, used.bound, e3, evm)
 

@@ -68,10 +68,9 @@ def region_seconds(job, specs) -> float:
 
     def sweep(steps: float) -> float:
         if job.stack is not None:  # films and wafer per temperature bin (about 20 a year)
-            from tandem.design.stack_angles import ANGLE_NODES_DEG  # and per angle, s and p
+            from tandem.design.stack_angles import ANGLE_SOLVES  # and per angle, s and p
 
-            solves = 20 + 2 * (ANGLE_NODES_DEG.size - 2)
-            return len(job.thicknesses_nm) * solves / RATES["yield --stack"]
+            return len(job.thicknesses_nm) * (20 + ANGLE_SOLVES) / RATES["yield --stack"]
         designs = len(job.gaps_eV) * len(job.thicknesses_nm)
         return steps * designs * yield_cost(job.operating, job.front, job.back) / RATES["yield"]
 
