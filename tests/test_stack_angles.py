@@ -213,3 +213,33 @@ def test_the_arriving_light_is_the_same_whatever_cover_the_site_names(source):
                                rtol=1e-10, atol=1e-12)
     assert not np.allclose(glass.coefficients, bare.coefficients, rtol=1e-3)  # the pair's do move
     assert np.all(bare.arriving_direct >= 0) and np.all(bare.arriving_diffuse >= 0)
+
+
+def test_a_stack_yields_work_estimate_counts_its_angle_solves(monkeypatch):
+    # (temperature bins + 2 × 16 oblique nodes) × thicknesses with the sky's parts known;
+    # bins × thicknesses without them: the count the yield hands to its work check
+    import tandem.jobs.energy_yield as job
+    from tandem.design.stack_angles import ANGLE_SOLVES
+    from tandem.design.yields import bin_count
+
+    class Counted(Exception):
+        pass
+
+    def check_work(name, count, *args, **kw):
+        if name == "yield --stack":
+            raise Counted(count)
+
+    monkeypatch.setattr(job, "check_work", check_work)
+    site = tandem.Site("field", latitude=38.5, longitude=-3.0, timezone="Etc/GMT-1")
+    series = tandem.site_series(site, period="day:2026-06-21")
+    flat = dataclasses.replace(series, arriving_direct=None)
+
+    def counted(s):
+        with pytest.raises(Counted) as stopped:
+            tandem.energy_yield_stack("organic-pair", s, others={},
+                                      front_thicknesses_nm=[100.0, 150.0, 200.0])
+        return stopped.value.args[0]
+
+    assert ANGLE_SOLVES == 32
+    assert counted(flat) == 3 * bin_count(series)
+    assert counted(series) == 3 * (bin_count(series) + ANGLE_SOLVES)
