@@ -117,6 +117,52 @@ def test_a_lossy_rear_behind_an_index_matched_front_is_the_closed_form(rear):
                                rtol=5e-5, atol=1e-12)
 
 
+@pytest.mark.parametrize("rear", ["single-pass", "double-pass", "lambertian"])
+def test_a_textured_front_behind_an_index_matched_ambient_is_lamberts_law(rear):
+    """A randomising front with nothing reflecting at it: the light crosses the wafer
+    isotropically, surviving 2E₃(αd) (Lambert's cosine law, Green, Prog. Photovolt. 10 (2002)
+    235): single pass 1 − 2E₃(αd); a mirror keeps each angle, 1 − 2E₃(2αd); a Lambertian rear
+    randomises again, 1 − (2E₃(αd))². A flat front gives less in every case but the strongest
+    absorption."""
+    n_w = 3.6 + 1j * KAPPA
+    ad = _alpha_d(n_w, 160e3)
+    out = trace_wafer([], 3.6, n_w, 160e3, rear, np.ones(WAVELENGTHS.size), WAVELENGTHS,
+                      front="lambertian")
+    expected = {"single-pass": 1 - 2 * expn(3, ad), "double-pass": 1 - 2 * expn(3, 2 * ad),
+                "lambertian": 1 - (2 * expn(3, ad)) ** 2}[rear]
+    np.testing.assert_allclose(out.wafer, expected, rtol=5e-5, atol=1e-12)
+    np.testing.assert_allclose(out.wafer + out.escaped + out.transmitted, 1.0, atol=1e-14)
+    flat = trace_wafer([], 3.6, n_w, 160e3, rear, np.ones(WAVELENGTHS.size), WAVELENGTHS)
+    assert np.all(out.wafer >= flat.wafer - 1e-12) and np.max(out.wafer - flat.wafer) > 1e-3
+
+
+def test_a_textured_front_with_a_lossy_rear_counts_the_rear_once_per_visit():
+    """Index-matched, Lambertian rear R_b: the light reaches the rear once, 2E₃(αd); the rear
+    absorbs (1 − R_b)·2E₃(αd) and the wafer 1 − 2E₃ + R_b·2E₃·(1 − 2E₃) (Lambert's law)."""
+    n_w = 3.6 + 1j * KAPPA
+    d = 2 * expn(3, _alpha_d(n_w, 160e3))
+    out = trace_wafer([], 3.6, n_w, 160e3, "lambertian", np.ones(WAVELENGTHS.size), WAVELENGTHS,
+                      rear_reflectance=0.9, front="lambertian")
+    np.testing.assert_allclose(out.rear, 0.1 * d, rtol=1e-12)
+    np.testing.assert_allclose(out.wafer, 1 - d + 0.9 * d * (1 - d), rtol=5e-5, atol=1e-12)
+
+
+def test_a_textured_fronts_depth_profile_is_lamberts_and_holds_every_absorbed_photon():
+    """Single pass under a randomising front: G(z) = 2α·E₂(αz) per unit entering (the cosine
+    law's depth form), integrating to 1 − 2E₃(αd); with films and a mirror the profile still
+    integrates to what the wafer absorbs."""
+    lam, n_w = np.array([1000.0, 1100.0]), 3.6 + 1j * np.array([1e-4, 1e-6])
+    alpha = 4 * np.pi * n_w.imag / lam
+    z = np.linspace(0.0, 160e3, 40001)
+    single = trace_wafer([], 3.6, n_w, 160e3, "single-pass", np.ones(2), lam, depths_nm=z,
+                         front="lambertian")
+    np.testing.assert_allclose(single.profile, 2 * alpha * expn(2, alpha * z[:, None]), rtol=1e-12)
+    films = _layers([(1.52, 3e6, False), (1.9 + 0.02j, 75.0, True)])
+    mirror = trace_wafer(films, 1.0, n_w, 160e3, "double-pass", np.ones(2), lam, depths_nm=z,
+                         front="lambertian")
+    np.testing.assert_allclose(np.trapezoid(mirror.profile, z, axis=0), mirror.wafer, rtol=1e-6)
+
+
 def test_mirror_rear_is_the_incoherent_series():
     """A specular mirror behind a wafer under a film stack: the textbook geometric series of
     incoherent reflections, with the films' normal-incidence reflectance from inside."""
@@ -135,10 +181,11 @@ def test_mirror_rear_is_the_incoherent_series():
     np.testing.assert_allclose(single.wafer, front.transmittance * (1 - a), rtol=1e-10)
 
 
-def _reference_trace(spec, n_w, d_nm, lam, points=500):
+def _reference_trace(spec, n_w, d_nm, lam, points=500, textured=False):
     """Independent: tmm's R, T, A of the films met from inside the wafer on a dense midpoint
     grid in μ = cos θ (split at the critical angles; d(sin²θ) = 2μ dμ), s and p, then the
-    round-trip series."""
+    round-trip series (Lambertian rear; with ``textured``, a randomising front too: the
+    series runs on the isotropic light going down, D = 2E₃(αd) reaching the rear)."""
     cuts = sorted({0.0, 1.0, *[np.sqrt(1 - min(1.0, (x / n_w.real) ** 2)) for x in (1.0, 1.52)]})
     mu = np.concatenate([lo + (hi - lo) * (np.arange(points) + 0.5) / points
                          for lo, hi in zip(cuts[:-1], cuts[1:])])
@@ -160,6 +207,12 @@ def _reference_trace(spec, n_w, d_nm, lam, points=500):
             R[i] += ref["R"] / 2
             T[i] += ref["T"] / 2
             A[:, i] += np.array(tmm.inc_absorp_in_each_layer(ref)[1:-1]) / 2
+    if textured:
+        d = 2 * expn(3, ad)
+        going_down = 1 / (1 - d * np.sum(du * up * R))  # per unit entering
+        rising = going_down * d
+        return (going_down * (1 - d) + rising * np.sum(du * (1 - up)),
+                rising * np.sum(du * up * T), (rising * (A * du * up).sum(axis=1))[::-1])
     returned = np.sum(du * up * R * up)
     in_wafer = np.sum(du * ((1 - up) + up * R * (1 - up)))
     a = np.exp(-ad)
@@ -168,15 +221,17 @@ def _reference_trace(spec, n_w, d_nm, lam, points=500):
             (leaving * (A * du * up).sum(axis=1))[::-1])
 
 
-@pytest.mark.parametrize("lam, kappa", [(1000.0, 2e-5), (1100.0, 1e-6), (1180.0, 3e-8)])
-def test_lambertian_trace_agrees_with_an_independent_tmm_calculation(lam, kappa):
+@pytest.mark.parametrize("lam, kappa, front", [
+    (1000.0, 2e-5, "flat"), (1100.0, 1e-6, "flat"), (1180.0, 3e-8, "flat"),
+    (1000.0, 2e-5, "lambertian"), (1180.0, 3e-8, "lambertian")])
+def test_lambertian_trace_agrees_with_an_independent_tmm_calculation(lam, kappa, front):
     """Wafer, escaped and film absorption per unit of light entering the wafer within 5e-5 of a
     dense-grid calculation with tmm (independent of our angular quadrature and solver)."""
     spec = [(1.52 + 2e-8j, 3.2e6, False), (1.9 + 0.02j, 75.0, True), (2.0 + 0.01j, 20.0, True)]
     n_w = 3.6 + 1j * kappa
-    wafer, escaped, films = _reference_trace(spec, n_w, 160e3, lam)
+    wafer, escaped, films = _reference_trace(spec, n_w, 160e3, lam, textured=front != "flat")
     ours = trace_wafer(_layers(spec), 1.0, np.array([n_w]), 160e3, "lambertian", np.ones(1),
-                       np.array([lam]))
+                       np.array([lam]), front=front)
     assert ours.wafer[0] == pytest.approx(wafer, abs=5e-5)
     assert ours.escaped[0] == pytest.approx(escaped, abs=5e-5)
     for k in range(len(spec)):
@@ -196,18 +251,19 @@ def test_hemisphere_weights_integrate_exactly_and_split_at_critical_angles():
 
 
 @settings(max_examples=40, deadline=None)
-@example(2.0, 2.225073858507e-311, 5.0, -2.0, "lambertian", 20e3, 1.0)  # a denormal k: found by CI
+@example(2.0, 2.225073858507e-311, 5.0, -2.0, "lambertian", 20e3, 1.0, "flat")  # a denormal k: CI
 @given(st.floats(1.3, 2.6), st.floats(0.0, 0.2), st.floats(5.0, 300.0), st.floats(-9.0, -2.0),
        st.sampled_from(["single-pass", "double-pass", "lambertian"]), st.floats(20e3, 300e3),
-       st.floats(0.05, 1.0))
-def test_every_photon_is_counted_once(n_film, k_film, d_film, log_kappa, rear, d_wafer, r_rear):
+       st.floats(0.05, 1.0), st.sampled_from(["flat", "lambertian"]))
+def test_every_photon_is_counted_once(n_film, k_film, d_film, log_kappa, rear, d_wafer, r_rear,
+                                      front):
     """Whatever the films and the rear, the light entering the wafer is absorbed in it,
     absorbed in a film or the rear reflector, escapes or leaves through the back: the shares
     add to 1, none < 0."""
     films = _layers([(1.52, 3e6, False), (n_film + 1j * k_film, d_film, True)])
     n_w = 3.6 + 1j * 10 ** log_kappa * np.ones(WAVELENGTHS.size)
     out = trace_wafer(films, 1.0, n_w, d_wafer, rear, np.ones(WAVELENGTHS.size), WAVELENGTHS,
-                      rear_reflectance=1.0 if rear == "single-pass" else r_rear)
+                      rear_reflectance=1.0 if rear == "single-pass" else r_rear, front=front)
     parts = [out.wafer, out.escaped, out.transmitted, *out.films]
     if out.rear is not None:
         parts.append(out.rear)
@@ -283,4 +339,41 @@ def test_a_rear_reflector_on_a_thin_film_is_refused(tmp_path):
     text = text.replace('absorber = "perovskite-wide"', 'absorber = "perovskite-wide"\nrear_reflectance = 0.9')
     (tmp_path / "film.toml").write_text(text)
     with pytest.raises(tandem.TandemInputError, match="only for the reflector behind an incoherent"):
+        tandem.load_stack(tmp_path / "film.toml")
+
+
+def test_a_textured_wafer_in_a_stack_gains_weak_light_and_counts_every_photon(tmp_path):
+    import tandem
+    from tandem.design.layerstack import photon_budget
+
+    energy = np.linspace(1.0, 1.4, 41)
+    flat = tandem.load_stack("wide-gap-on-silicon-wafer")
+    textured = tandem.load_stack(_wafer_stack(tmp_path, 'front_texture = "lambertian"'))
+    a, b = (photon_budget(s, energy, [325.0]) for s in (flat, textured))
+    total = b.front + b.back + sum(b.parasitic.values()) + b.reflected + b.transmitted
+    np.testing.assert_allclose(total, 1.0, atol=1e-12)
+    assert np.all(b.back >= a.back - 1e-12) and np.max(b.back - a.back) > 0.01
+    np.testing.assert_allclose(b.front[0][energy > 1.3], a.front[0][energy > 1.3], atol=0.01)
+
+
+@pytest.mark.parametrize("line, message", [('front_texture = "pyramids"', "is unknown"),
+                                           ("front_texture = 1", "is unknown")])
+def test_an_unknown_front_texture_is_one_line(tmp_path, line, message):
+    import tandem
+
+    with pytest.raises(tandem.TandemInputError, match=message) as err:
+        tandem.load_stack(_wafer_stack(tmp_path, line))
+    assert "front_texture" in str(err.value) and "flat or lambertian" in str(err.value)
+    assert "\n" not in str(err.value)
+
+
+def test_a_front_texture_on_a_thin_film_is_refused(tmp_path):
+    import tandem
+    import tandem.core.files
+
+    text = (tandem.core.files.bundled_dir("stacks") / "wide-gap-on-silicon-wafer.toml").read_text()
+    text = text.replace('absorber = "perovskite-wide"',
+                        'absorber = "perovskite-wide"\nfront_texture = "lambertian"')
+    (tmp_path / "film.toml").write_text(text)
+    with pytest.raises(tandem.TandemInputError, match="only for an incoherent back absorber"):
         tandem.load_stack(tmp_path / "film.toml")

@@ -12,7 +12,8 @@ films transmit into it is traced (:mod:`tandem.optics.wafer`): down through the 
 rear (the light-trapping mode names the rear: ``single-pass`` lets the rest out, ``double-pass``
 is a mirror, ``lambertian`` a randomising reflector; the file's mode unless the layer sets
 ``light_trapping``), and back up through the films at every angle, s and p, where the front
-absorber gains from it, the other films absorb part of it, and the rest escapes.
+absorber gains from it, the other films absorb part of it, and the rest escapes. A wafer with
+``front_texture = "lambertian"`` takes the light in randomised (a textured front).
 
 Losses are counted over the photons the stack could use: those above the back absorber's
 gap.
@@ -53,6 +54,7 @@ class StackLayer:
     table: tuple[np.ndarray, np.ndarray] | None = None  #: (wavelength nm ascending, ñ)
     light_trapping: str | None = None  #: for an incoherent back absorber (default: its file's)
     rear_reflectance: float = 1.0  #: of the reflector behind an incoherent back absorber
+    front_texture: str = "flat"  #: 'lambertian': the wafer's front randomises the light
 
     def real_index(self, wavelength_nm):
         """n of an absorber layer: from the n,k table or database entry its α comes from
@@ -198,7 +200,8 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
                              depths_nm=depths.get(wafer.name),
                              film_depths={i: depths[x.name] for i, x in enumerate(layers)
                                           if x.name in depths}, incidence_kappa=kappa,
-                             rear_reflectance=wafer.rear_reflectance)
+                             rear_reflectance=wafer.rear_reflectance,
+                             front=wafer.front_texture)
         absorbed[wafer.name] = traced.wafer
         for x, extra in zip(layers, traced.films):  # light coming back up through the films
             absorbed[x.name] = absorbed[x.name] + extra
@@ -428,6 +431,10 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
     combos = [dict(c) for c in itertools.product(*axes)] if axes else [{}]
     notes = [n for n in (x.absorber.bulk_note() for x in (stack.front, stack.back)
                          if x.absorber is not None) if n]
+    if stack.layers[-1].ends_stack and stack.layers[-1].front_texture == "lambertian":
+        notes.append(f"{stack.layers[-1].name}: textured front: the light enters it randomised; "
+                     "the films are taken flat, so the texture does not lower their reflection "
+                     "of the sunlight (a conservative limit)")
     usable = flux.flux * trapezoid_weights(flux.energy) * (
         flux.energy >= usable_from_eV(stack, temperature_K))
     for x in stack.layers:  # tables held constant beyond their ends: said where it matters

@@ -17,11 +17,12 @@ from tandem.design.layerstack import LayerStack, StackLayer
 from tandem.optics.absorber_files import load_absorber
 from tandem.optics.absorptance import LIGHT_TRAPPING
 from tandem.optics.database import database_index
+from tandem.optics.wafer import FRONT_TEXTURES
 
 ROLES = ("front", "back", "parasitic")
 TOP_KEYS = {"title", "description", "ambient_index", "exit_index", "layer", "sources"}
 LAYER_KEYS = {"name", "thickness_nm", "points", "nk", "absorber", "gap_eV", "coherent", "role",
-              "light_trapping", "rear_reflectance"}
+              "light_trapping", "rear_reflectance", "front_texture"}
 #: Coherent layers thicker than this are refused: their fringes are finer than any
 #: spectrum's grid and a real film of that size is not coherent (mark it incoherent).
 MAX_COHERENT_NM = 20_000.0
@@ -192,9 +193,16 @@ def _layer(path: Path, i: int, x: dict) -> StackLayer:
             _fail(path, f"{where}.rear_reflectance", "is only for the reflector behind an "
                   "incoherent back absorber, above 0", "set role = \"back\" and coherent = false, "
                   "or light_trapping = \"single-pass\" for no reflector")
+    texture = x.get("front_texture", "flat")
+    if texture not in FRONT_TEXTURES:
+        _fail(path, f"{where}.front_texture", f"= {texture!r} is unknown",
+              f"use {' or '.join(FRONT_TEXTURES)}")
+    if "front_texture" in x and (role != "back" or coherent):
+        _fail(path, f"{where}.front_texture", "is only for an incoherent back absorber (a wafer)",
+              "set role = \"back\" and coherent = false, or remove it")
     fields = dict(name=name, thickness_nm=thickness, sweep_nm=sweep, points=points,
                   coherent=coherent, role=role, light_trapping=trapping,
-                  rear_reflectance=1.0 if rear is None else rear)
+                  rear_reflectance=1.0 if rear is None else rear, front_texture=texture)
     if "absorber" in x:
         if not isinstance(x["absorber"], str):
             _fail(path, f"{where}.absorber", "must be a name or path", "put it in quotes")

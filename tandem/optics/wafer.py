@@ -26,6 +26,18 @@ A1720; recalled). It conserves energy exactly; the rear is taken as a lossless r
 the films are met from a lossless medium of the wafer's real index (the wafer's own absorption
 is the e^{−αd/μ} factor).
 
+A textured front (``front = "lambertian"``) randomises the light where it crosses into the
+wafer and where the films reflect it back down: every downward pass is isotropic, surviving
+D = 2E₃(αd) of its light (Lambert's cosine law; E₃ the exponential integral), and the series
+runs on X, the isotropic light going down from the front:
+
+    X = T / (1 − ρ),  ρ = Σᵢ wᵢ uᵢ rᵢ Rᵢ,  uᵢ = e^{−αd/μᵢ}, rᵢ = R_b·D (Lambertian rear)
+    or R_b·uᵢ (mirror), Rᵢ the films' reflectance from inside at node i.
+
+The films are still met as flat layers (a randomising interface just inside them): their
+reflectance of the sunlight is not lowered by the texture, which stays a conservative
+limit of the in-coupling a real texture gives.
+
 The angular integral uses Gauss–Legendre nodes in sin²θ between the critical angles of every
 medium in front (where the reflectance has its kinks), so a few nodes per interval suffice.
 """
@@ -49,6 +61,8 @@ GRAZING_MU = (0.3, 0.1, 0.03, 0.01)
 MERGE_BELOW = 0.02
 #: Energies on which the films' angular response is solved (then interpolated).
 COARSE_ENERGIES = 48
+#: How a wafer's front sends light into it: straight on, or randomised (a textured front).
+FRONT_TEXTURES = ("flat", "lambertian")
 
 
 def _take(index, where):
@@ -130,7 +144,8 @@ def hemisphere_nodes(n_wafer, critical_indices, per_interval: int = NODES_PER_IN
 def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, rear: str,
                 entering, wavelength_nm, per_interval: int | None = None,
                 depths_nm=None, film_depths: dict | None = None,
-                incidence_kappa: float = 0.0, rear_reflectance: float = 1.0) -> WaferLight:
+                incidence_kappa: float = 0.0, rear_reflectance: float = 1.0,
+                front: str = "flat") -> WaferLight:
     """Absorption in a thick wafer and the light it sends back through the films in front.
 
     Parameters
@@ -154,25 +169,43 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     rear_reflectance : R_b of the reflector (0 < R_b ≤ 1): at every bounce it returns R_b of
         the light reaching it and absorbs the rest, so U = R_b·T·e^{−αd}/(1 − R_b·ρ) and the
         rear absorbs (1 − R_b)/R_b·U (``rear``).
+    front : 'flat', or 'lambertian' for a textured front that randomises the light entering
+        the wafer and the light the films reflect back into it (``incidence_kappa`` then
+        matters only for ``entering``).
     """
     if rear not in LIGHT_TRAPPING:
         raise ValueError(f"rear must be one of {LIGHT_TRAPPING}, not {rear!r}")
+    if front not in FRONT_TEXTURES:
+        raise ValueError(f"front must be one of {FRONT_TEXTURES}, not {front!r}")
     lam = np.asarray(wavelength_nm, dtype=float)
     n_w = np.asarray(wafer_index, dtype=complex) * np.ones_like(lam)
     alpha_d = 4 * np.pi * n_w.imag / lam * float(thickness_nm)  # α·d [-]
+    textured = front == "lambertian"
     first_u = (float(incidence_kappa) / n_w.real) ** 2  # sin²θ_w of the first pass
     first_ad = alpha_d / np.sqrt(1 - first_u)  # α times the first pass's path
-    down = np.exp(-first_ad)
     entering = np.asarray(entering, dtype=float)
-    wafer = entering * -np.expm1(-first_ad)  # the first pass
     zero = np.zeros(np.broadcast(entering, lam).shape)
+    if textured:  # an isotropic pass: ∫ e^{−αd/μ} 2μ dμ = 2E₃(αd)
+        from scipy.special import expn
+
+        down = 2 * expn(3, alpha_d)
+        first_absorbed = 1 - down
+    else:
+        down = np.exp(-first_ad)
+        first_absorbed = -np.expm1(-first_ad)
+    wafer = entering * first_absorbed  # the first pass
     films_extra = [zero.copy() for _ in films]
     profile, film_profiles = None, {k: np.zeros(np.shape(z) + zero.shape)
                                     for k, z in (film_depths or {}).items()}
     if depths_nm is not None:
         z = np.asarray(depths_nm, dtype=float).reshape((-1,) + (1,) * np.ndim(zero))
-        alpha = first_ad / float(thickness_nm)  # along the path [1/nm]
-        profile = entering * alpha * np.exp(-alpha * z) * np.ones_like(zero)
+        if textured:  # ∫ (α/μ)e^{−αz/μ} 2μ dμ = 2α·E₂(αz), integrating to 1 − 2E₃(αd)
+            alpha = alpha_d / float(thickness_nm)
+            first_profile = 2 * alpha * expn(2, alpha * z)
+        else:
+            alpha = first_ad / float(thickness_nm)  # along the path [1/nm]
+            first_profile = alpha * np.exp(-alpha * z)
+        profile = entering * first_profile * np.ones_like(zero)
     if rear == "single-pass":
         return WaferLight(wafer, tuple(films_extra), zero, entering * down, profile, film_profiles)
     escaped = zero.copy()
@@ -187,7 +220,7 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     reversed_films = [Layer(_take(x.index, live[coarse]), x.thickness_nm, x.coherent)
                       for x in films[::-1]]
     n_c = n_l.real[coarse]
-    if rear == "double-pass":  # the mirror returns the first pass's angle
+    if rear == "double-pass" and not textured:  # the mirror returns the first pass's angle
         nodes, weights = first_u[live[coarse]][None, :], np.ones((1, coarse.size))
     else:
         critical = [ambient_index] + [np.real(x.index) for x in reversed_films]
@@ -203,9 +236,10 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     reflect, escape = response.reflectance, response.transmittance
     absorb = list(response.absorptance)[::-1]  # back to sun-side order
     to_fine = _interpolation(1 / lam_l[coarse], 1 / lam_l)
-    # per unit of light leaving the rear upwards: returned to the rear (ρ), and per sink
+    # per unit of light leaving the rear upwards (flat front), or of isotropic light going
+    # down from the front (textured): returned to the same place (ρ), and per sink
     shape = np.broadcast_shapes(reflect.shape[1:-1] + (lam_l.size,), entering.shape[:-1] + (1,))
-    returned, in_wafer, out = np.zeros(shape), np.zeros(shape), np.zeros(shape)
+    returned, in_wafer, out, reached = (np.zeros(shape) for _ in range(4))
     in_films = [np.zeros(shape) for _ in films]
     if profile is not None:  # per unit leaving the rear, as in_wafer
         a_l, d = ad / float(thickness_nm), float(thickness_nm)
@@ -214,30 +248,45 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
         w, u = to_fine(weights[i]), to_fine(nodes[i])
         up = np.exp(-ad / np.sqrt(1 - u))  # one pass at angle θ (the nodes avoid u = 1)
         r = to_fine(reflect[i])
-        returned += w * up * r * up
-        in_wafer += w * ((1 - up) + up * r * (1 - up))
-        out += w * up * to_fine(escape[i])
+        # light leaving the rear upwards at this node (per unit of the state), and arriving
+        # at the front: a mirror under a textured front returns each angle as it came down
+        rising = w * up if textured and rear == "double-pass" else w
+        arriving = rising * up
+        reached += w * up
+        returned += arriving * (r if textured else r * up)
+        in_wafer += rising * (1 - up) + (0 if textured else arriving * r * (1 - up))
+        out += arriving * to_fine(escape[i])
         for k, a in enumerate(absorb):
-            in_films[k] += w * up * to_fine(a[i])
+            in_films[k] += arriving * to_fine(a[i])
         for k, density in film_density.items():
-            film_profiles[k][..., live] += w * up * to_fine(density[:, i])
+            film_profiles[k][..., live] += arriving * to_fine(density[:, i])
         if profile is not None:
             per_nm = a_l / np.sqrt(1 - u)
-            depth_live += w * per_nm * (np.exp(-per_nm * (d - z)) + up * r * np.exp(-per_nm * z))
+            rise = rising * per_nm * np.exp(-per_nm * (d - z))
+            depth_live += rise if textured else rise + arriving * r * per_nm * np.exp(-per_nm * z)
     # (1 − ρ > 0 unless light could circle forever with no loss and no exit)
-    r_b = float(rear_reflectance)
-    leaving_rear = (r_b * entering[..., live] * down[live]
-                    / np.maximum(1 - r_b * returned, np.finfo(float).tiny))
-    wafer[..., live] += leaving_rear * in_wafer
+    r_b, tiny = float(rear_reflectance), np.finfo(float).tiny
+    if textured:
+        # X, the isotropic light going down from the front: T/(1 − ρ); the rear returns R_b·D
+        # of it (a mirror with the nodes' own shares, scaled to D exactly: every photon once)
+        d_l = down[live]
+        per_x = r_b * (d_l if rear == "lambertian" else d_l / np.maximum(reached, tiny))
+        first = entering[..., live] / np.maximum(1 - per_x * returned, tiny)
+        leaving_rear, reaching_rear = first * per_x, first * d_l
+    else:
+        first = entering[..., live]
+        leaving_rear = r_b * first * down[live] / np.maximum(1 - r_b * returned, tiny)
+        reaching_rear = leaving_rear / r_b
+    wafer[..., live] = first * first_absorbed[live] + leaving_rear * in_wafer
     escaped[..., live] = leaving_rear * out
     for k, a in enumerate(in_films):
         films_extra[k][..., live] = leaving_rear * a
     if profile is not None:
-        profile[..., live] += leaving_rear * depth_live
+        profile[..., live] = first * first_profile[..., live] + leaving_rear * depth_live
     for k in film_profiles:
         film_profiles[k][..., live] *= leaving_rear
     in_rear = None
     if r_b < 1:
         in_rear = zero.copy()
-        in_rear[..., live] = (1 - r_b) / r_b * leaving_rear
+        in_rear[..., live] = (1 - r_b) * reaching_rear
     return WaferLight(wafer, tuple(films_extra), escaped, zero, profile, film_profiles, in_rear)
