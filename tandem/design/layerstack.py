@@ -22,8 +22,9 @@ gap.
 from __future__ import annotations
 
 import functools
+import itertools
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -33,7 +34,8 @@ from tandem.optics.absorbers import Absorber, absorbers_bulk
 from tandem.core.errors import TandemInputError
 from tandem.physics.spectra import PhotonFlux, trapezoid_weights
 from tandem.physics.stack import evaluate_stack
-from tandem.optics.thinfilm import Layer, index_from_alpha, stack_optics, unpolarised
+from tandem.optics.thinfilm import (MAX_SPREAD_NODES, Layer, index_from_alpha, spread_nodes,
+                                     stack_optics, unpolarised)
 from tandem.optics.wafer import trace_wafer
 from tandem.core.units import HC_EV_NM, Q
 
@@ -55,6 +57,8 @@ class StackLayer:
     light_trapping: str | None = None  #: for an incoherent back absorber (default: its file's)
     rear_reflectance: float = 1.0  #: of the reflector behind an incoherent back absorber
     front_texture: str = "flat"  #: 'lambertian': the wafer's front randomises the light
+    #: a coherent film's thickness varies uniformly over ±spread/2 across the cell [nm]
+    thickness_spread_nm: float = 0.0
 
     def real_index(self, wavelength_nm):
         """n of an absorber layer: from the n,k table or database entry its α comes from
@@ -164,6 +168,10 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
     incidence in air, as a sky model gives it (s and p averaged; 0 is normal incidence,
     solved once); an ambient medium of index n takes it at arcsin(sin θ/n).
     """
+    spread = [x for x in stack.layers if x.thickness_spread_nm > 0]
+    if spread:
+        return _area_average(stack, spread, energy, front_thickness_nm, others or {},
+                             temperature_K, depth_points, angle_deg)
     e = np.asarray(energy, dtype=float)
     wavelength = HC_EV_NM / e
     d_front = np.atleast_1d(np.asarray(front_thickness_nm, dtype=float))[:, None]
@@ -226,6 +234,56 @@ def photon_budget(stack: LayerStack, energy, front_thickness_nm, others: dict | 
                         reflected, transmitted,
                         (d_front[:, 0], back_d[:, 0] if np.ndim(back_d) == 2 else back_d),
                         profiles)
+
+
+def _area_average(stack: LayerStack, spread: list, energy, front_thickness_nm, others: dict,
+                  temperature_K: float, depth_points: int, angle_deg: float) -> PhotonBudget:
+    """The budget of a stack whose spread films vary in thickness across the cell: the
+    weighted mean of fixed-thickness stacks at the nodes of :func:`spread_nodes` (each place
+    coherent, the cell their area average). A spread film's depth profile is averaged at the
+    same share of each place's thickness, scaled so that ∫G dz still counts every pair."""
+    e = np.asarray(energy, dtype=float)
+    wavelength = HC_EV_NM / e
+    axes = []
+    for x in spread:
+        offsets, weights, fringes = spread_nodes(x.thickness_spread_nm, wavelength,
+                                                 np.real(x.index(e, temperature_K)))
+        if offsets.size > MAX_SPREAD_NODES:
+            raise TandemInputError(
+                f"stack '{stack.key}': layer '{x.name}': thickness_spread_nm = "
+                f"{x.thickness_spread_nm:g} spans {fringes:.1f} fringes at {wavelength.min():.0f} nm "
+                f"({offsets.size} solves, at most {MAX_SPREAD_NODES}); give a smaller spread, or "
+                "coherent = false if its fringes are washed out everywhere")
+        axes.append([(x.name, o, w) for o, w in zip(offsets, weights)])
+    plain = replace(stack, layers=tuple(replace(x, thickness_spread_nm=0.0) for x in stack.layers))
+    d_front = np.atleast_1d(np.asarray(front_thickness_nm, dtype=float))
+    nominal = {x.name: float(d_front[0]) if x.role == "front" else others.get(x.name, x.thickness_nm)
+               for x in spread}
+    total: PhotonBudget | None = None
+    for combo in itertools.product(*axes):
+        offset = {name: o for name, o, _ in combo}
+        weight = math.prod(w for *_, w in combo)
+        moved = {x.name: np.maximum(np.asarray(nominal[x.name], dtype=float) + offset[x.name], 0.1)
+                 for x in spread if x.role != "front"}
+        front = np.maximum(d_front + offset.get(stack.front.name, 0.0), 0.1)
+        b = photon_budget(plain, e, front, {**others, **moved}, temperature_K, depth_points,
+                          angle_deg)
+        # a spread absorber's profile: at the same share of this place's thickness
+        stretch = {name: (np.asarray(nominal[name], dtype=float) + o) / nominal[name]
+                   for name, o in offset.items()}
+        profiles = {name: (z / stretch.get(name, 1.0), weight * g * stretch.get(name, 1.0))
+                    for name, (z, g) in b.profiles.items()}
+        part = PhotonBudget(e, weight * b.front, weight * b.back,
+                            {k: weight * v for k, v in b.parasitic.items()},
+                            weight * b.reflected, weight * b.transmitted, b.thickness_nm, profiles)
+        total = part if total is None else PhotonBudget(
+            e, total.front + part.front, total.back + part.back,
+            {k: total.parasitic[k] + v for k, v in part.parasitic.items()},
+            total.reflected + part.reflected, total.transmitted + part.transmitted,
+            b.thickness_nm, {k: (z, total.profiles[k][1] + g) for k, (z, g) in part.profiles.items()})
+    assert total is not None  # every spread layer has nodes
+    back_d = nominal.get(stack.back.name, others.get(stack.back.name, stack.back.thickness_nm))
+    return replace(total, thickness_nm=(d_front, back_d[:, 0] if np.ndim(back_d) == 2 else back_d))
 
 
 def rear_reflector_name(stack: LayerStack) -> str:
@@ -417,8 +475,6 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
     Interference makes J_front(d) − J_back(d) non-monotonic, so all sign changes on the
     grid are refined (bisection) and reported; the best two-terminal one is the design.
     """
-    import itertools
-
     from tandem.physics.stack import IDEAL
 
     electrical = electrical or IDEAL
@@ -435,6 +491,9 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
         notes.append(f"{stack.layers[-1].name}: textured front: the light enters it randomised; "
                      "the films are taken flat, so the texture does not lower their reflection "
                      "of the sunlight (a conservative limit)")
+    notes += [f"{x.name}: optics averaged over its thickness varying by {x.thickness_spread_nm:g} nm "
+              "across the cell (uniformly; each place coherent)"
+              for x in stack.layers if x.thickness_spread_nm > 0]
     usable = flux.flux * trapezoid_weights(flux.energy) * (
         flux.energy >= usable_from_eV(stack, temperature_K))
     for x in stack.layers:  # tables held constant beyond their ends: said where it matters

@@ -22,7 +22,7 @@ from tandem.optics.wafer import FRONT_TEXTURES
 ROLES = ("front", "back", "parasitic")
 TOP_KEYS = {"title", "description", "ambient_index", "exit_index", "layer", "sources"}
 LAYER_KEYS = {"name", "thickness_nm", "points", "nk", "absorber", "gap_eV", "coherent", "role",
-              "light_trapping", "rear_reflectance", "front_texture"}
+              "light_trapping", "rear_reflectance", "front_texture", "thickness_spread_nm"}
 #: Coherent layers thicker than this are refused: their fringes are finer than any
 #: spectrum's grid and a real film of that size is not coherent (mark it incoherent).
 MAX_COHERENT_NM = 20_000.0
@@ -200,9 +200,21 @@ def _layer(path: Path, i: int, x: dict) -> StackLayer:
     if "front_texture" in x and (role != "back" or coherent):
         _fail(path, f"{where}.front_texture", "is only for an incoherent back absorber (a wafer)",
               "set role = \"back\" and coherent = false, or remove it")
+    spread = x.get("thickness_spread_nm", 0.0)
+    if "thickness_spread_nm" in x:
+        spread = _number(path, f"{where}.thickness_spread_nm", spread, 0.0, 1e5,
+                         "nm, the full width of the thickness variation across the cell")
+        if not coherent:
+            _fail(path, f"{where}.thickness_spread_nm", "is only for a coherent film (an "
+                  "incoherent layer has no fringes to wash out)", "remove it")
+        if spread >= (sweep[0] if sweep else thickness):
+            _fail(path, f"{where}.thickness_spread_nm", f"= {spread:g} nm is not below the "
+                  f"layer's thickness ({sweep[0] if sweep else thickness:g} nm)",
+                  "give a spread smaller than the thinnest thickness")
     fields = dict(name=name, thickness_nm=thickness, sweep_nm=sweep, points=points,
                   coherent=coherent, role=role, light_trapping=trapping,
-                  rear_reflectance=1.0 if rear is None else rear, front_texture=texture)
+                  rear_reflectance=1.0 if rear is None else rear, front_texture=texture,
+                  thickness_spread_nm=spread)
     if "absorber" in x:
         if not isinstance(x["absorber"], str):
             _fail(path, f"{where}.absorber", "must be a name or path", "put it in quotes")
