@@ -377,3 +377,32 @@ def test_a_front_texture_on_a_thin_film_is_refused(tmp_path):
     (tmp_path / "film.toml").write_text(text)
     with pytest.raises(tandem.TandemInputError, match="only for an incoherent back absorber"):
         tandem.load_stack(tmp_path / "film.toml")
+
+
+def test_a_textured_wafer_reaches_the_tiedje_yablonovitch_limit_of_its_escape_cone():
+    """Weak absorption in a bare wafer with a randomising front over a Lambertian rear: every
+    round trip absorbs 4αd (two isotropic passes of mean path 2d) and lets out the escape
+    fraction ε of the light meeting the front, so A → 4αd/(4αd + ε): the Tiedje–Yablonovitch
+    form α/(α + 1/(4n²d)) when ε = 1/n² (a perfect cone; Tiedje et al., IEEE Trans. Electron
+    Devices 31 (1984) 711; Yablonovitch, J. Opt. Soc. Am. 72 (1982) 899). Here ε is the
+    bare interface's own: ∫₀^{1/n²} (1 − R_Fresnel(u)) du, integrated with scipy from the
+    textbook Fresnel formulas (Born & Wolf §1.5), independent of our thin-film solver."""
+    from scipy.integrate import quad
+
+    n = 3.6
+
+    def escape(u):  # unpolarised transmittance from inside at sin²θ = u
+        ci, st = np.sqrt(1 - u), n * np.sqrt(u)
+        ct = np.sqrt(max(0.0, 1 - st * st))
+        rs = ((n * ci - ct) / (n * ci + ct)) ** 2
+        rp = ((ci - n * ct) / (ci + n * ct)) ** 2
+        return 1 - (rs + rp) / 2
+
+    eps = quad(escape, 0.0, 1 / n**2, limit=200)[0]
+    assert 0.6 / n**2 < eps < 1 / n**2  # the cone loses its Fresnel share
+    lam = np.array([1150.0, 1170.0, 1190.0])
+    ad = np.array([1e-5, 3e-6, 1e-6])
+    kappa = ad * lam / (4 * np.pi * 160e3)
+    out = trace_wafer([], 1.0, n + 1j * kappa, 160e3, "lambertian", np.ones(3), lam,
+                      front="lambertian")
+    np.testing.assert_allclose(out.wafer, 4 * ad / (4 * ad + eps), rtol=1e-4)  # measured 2e-5
