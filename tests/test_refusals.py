@@ -207,3 +207,123 @@ def test_a_malformed_stack_file_is_one_line(tmp_path, edits, field, words):
 def test_a_stack_file_of_the_wrong_shape_is_one_line(tmp_path, text, field, words):
     (tmp_path / "s.toml").write_text(text, encoding="utf-8")
     _refused(tandem.load_stack, tmp_path / "s.toml", field, words)
+
+
+# --------------------------------------------------------------------------------------
+# the Python API: each malformed argument is one line naming it
+# --------------------------------------------------------------------------------------
+
+
+def _api_cases():
+    import numpy as np
+
+    from tandem.jobs.inputs import Light, OperatingPoint, Sweep, gap_values, thickness_axis
+    from tandem.physics.spectra import (blackbody_sun, load_spectrum, scaled,
+                                        scaled_to_irradiance, spectrum_from_arrays)
+
+    am15 = tandem.reference_spectrum("am1.5g")
+    wl = np.array([400.0, 500.0, 600.0])
+    return [
+        (lambda: spectrum_from_arrays(["a", "b"], [1.0, 2.0]), "spectrum", "give numbers"),
+        (lambda: spectrum_from_arrays(wl, [1.0, 2.0]), "arrays", "equal length"),
+        (lambda: spectrum_from_arrays(np.arange(1_000_001.0) + 300, np.ones(1_000_001)),
+         "points", "at most 1,000,000"),
+        (lambda: spectrum_from_arrays(wl, [1.0, np.nan, 1.0]), "value", "not finite"),
+        (lambda: spectrum_from_arrays(wl, [1.0, -1.0, 1.0]), "irradiance", "negative"),
+        (lambda: spectrum_from_arrays(wl, [0.0, 0.0, 0.0]), "irradiance", "zero everywhere"),
+        (lambda: scaled(am15, -2.0, "test"), "scaling factor", "positive"),
+        (lambda: scaled_to_irradiance(am15, -5.0), "irradiance target", "positive"),
+        (lambda: load_spectrum("am1.5g", concentration=-1.0), "concentration", "positive"),
+        (lambda: blackbody_sun(-5.0), "sun temperature", "positive temperature"),
+        (lambda: am15.photon_flux().check_gap(-1.0, "front gap"), "front gap -1 eV",
+         "positive energy"),
+        (lambda: Light.from_series(5), "pandas Series", "xarray DataArray"),
+        (lambda: OperatingPoint(terminals=5), "terminals 5", "choose 2"),
+        (lambda: gap_values("abc"), "front gaps", "give gaps in eV"),
+        (lambda: gap_values([[1.5, 1.6], [1.7, 1.8]]), "front gaps", "flat list"),
+        (lambda: gap_values(np.linspace(1.0, 2.0, 20_002)), "20,002 gaps", "at most 20,001"),
+        (lambda: thickness_axis(500, 100, 5), "front thickness range", "empty or reversed"),
+        (lambda: thickness_axis("thick", 100, 5), "front thickness (thinnest)", "give a number"),
+        (lambda: Sweep(front_gaps_eV=np.linspace(1.0, 2.0, 2002)), "2,002 gaps", "coarser step"),
+        (lambda: Sweep(back_thicknesses_nm=[-5.0]), "back thickness -5", "positive"),
+    ]
+
+
+API_IDS = ["array text", "array lengths", "array size", "array nan", "array negative",
+           "array zero", "scale factor", "scale target", "concentration", "sun temperature",
+           "gap sign", "series type", "terminals", "gap text", "gap shape", "gap count",
+           "thickness range", "thickness text", "sweep gaps", "back thickness"]
+
+
+@pytest.mark.parametrize("k", range(len(API_IDS)), ids=API_IDS)
+def test_a_malformed_api_argument_is_one_line(k):
+    call, field, words = _api_cases()[k]
+    _refused(lambda _: call(), None, field, words)
+
+
+def test_a_two_dimensional_spectrum_dataarray_is_refused():
+    xr = pytest.importorskip("xarray")
+    import numpy as np
+
+    from tandem.jobs.inputs import Light
+
+    data = xr.DataArray(np.ones((2, 3)), dims=("time", "wavelength"))
+    _refused(lambda _: Light.from_series(data), None, "DataArray", "one dimension")
+
+
+def test_a_spectrum_file_of_zeros_is_one_line(tmp_path):
+    (tmp_path / "dark.csv").write_text("wavelength_nm,irradiance\n400,0\n500,0\n600,0\n")
+    _refused(tandem.read_spectrum_csv, tmp_path / "dark.csv", "dark.csv", "zero everywhere")
+
+
+# --------------------------------------------------------------------------------------
+# scenario files
+# --------------------------------------------------------------------------------------
+
+SCENARIOS = Path(tandem.core.files.bundled_dir("absorbers")).parent / "scenarios"
+ORGANIC_STUDY = "low-cost-organic-pair.toml"
+
+SCENARIO_CASES = [
+    ([("thickness_points = 80", "thickness_points = 80\nfront_gap_step_eV = 0.9")],
+     "sweep.front_gap_step_eV", "outside (0, 0.5]"),
+    ([("back_thickness_nm = [100, 150, 250, 500, 800]", "back_thickness_nm = [100, -5]")],
+     "sweep.back_thickness_nm", "≤ 0"),
+    ([("tolerance_pct = 0.5", "tolerance_pct = -1.0")], "report.tolerance_pct", "positive"),
+    ([("[report]", "[site]\nlatitude = 95.0\nlongitude = 0.0\n\n[report]")], "site",
+     "is not valid"),
+    ([("question = ", "variants = 5\nquestion = ")], "variants", "list of [[variants]] tables"),
+    ([("[report]", "".join(f'[[variants]]\nname = "v{i}"\ntemperature_K = 300\n' for i in range(9))
+       + "\n[report]")], "variants", "has 9 entries"),
+    ([("[report]", '[[variants]]\nname = "a/b"\n\n[report]')], "variants[1].name",
+     "short name"),
+    ([("[report]", '[[variants]]\nname = "hot"\nsource = "am2"\n\n[report]')],
+     "variants[1].source", "not a reference spectrum"),
+    ([("question = ", "sweep = 5\nquestion = "),
+      ("[sweep]\nthickness_points = 80\nback_thickness_nm = [100, 150, 250, 500, 800]", "")],
+     "sweep", "must be a [section]"),
+    ([('title = "Low-cost organic pair"', "title = 5")], "title", "must be text"),
+    ([('front = ["organic-wide"]', 'front = "organic-wide"')], "candidates.front",
+     "list of names"),
+    ([("back_thickness_nm = [100, 150, 250, 500, 800]", 'back_thickness_nm = ["thin"]')],
+     "sweep.back_thickness_nm", "list of numbers"),
+    ([("[report]", '[electrical]\nrear_emission = "yes"\n\n[report]')],
+     "electrical.rear_emission", "true or false"),
+    ([('title = "Low-cost organic pair"', 'title = "Low-cost organic pair" = 2')],
+     "scenario file", "not valid TOML"),
+]
+
+
+@pytest.mark.parametrize("edits, field, words", SCENARIO_CASES,
+                         ids=[f"{c[1]}:{c[2]}" for c in SCENARIO_CASES])
+def test_a_malformed_scenario_is_one_line(tmp_path, edits, field, words):
+    from tandem.study.sources import load_scenario
+
+    path = _edited(tmp_path, SCENARIOS / ORGANIC_STUDY, edits, name="study.toml")
+    _refused(load_scenario, path, field, words)
+
+
+def test_a_scenario_without_a_site_has_no_site_series():
+    from tandem.study.sources import load_scenario
+
+    scenario = load_scenario(SCENARIOS / ORGANIC_STUDY)
+    _refused(lambda _: scenario.site_series(), None, "has no [site]", "latitude and longitude")
