@@ -177,7 +177,8 @@ def test_public_api_is_written_out():
 
 @pytest.mark.parametrize("module", ["tandem.jobs.inputs", "tandem.jobs.limit", "tandem.jobs.match", "tandem.jobs.stack_match", "tandem.jobs.eqe", "tandem.jobs.gap_map", "tandem.jobs.energy_yield", "tandem.jobs.spread", "tandem.physics.detailed_balance",
                                     "tandem.physics.spectra", "tandem.physics.stack", "tandem.optics.absorbers",
-                                    "tandem.design.sky", "tandem.output.report", "tandem.core.errors",
+                                    "tandem.design.sky", "tandem.design.weather", "tandem.design.series",
+                                    "tandem.output.report", "tandem.core.errors",
                                     "tandem.design.layerstack"])
 def test_docstring_examples_run(module):
     result = doctest.testmod(importlib.import_module(module),

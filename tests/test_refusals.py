@@ -327,3 +327,56 @@ def test_a_scenario_without_a_site_has_no_site_series():
 
     scenario = load_scenario(SCENARIOS / ORGANIC_STUDY)
     _refused(lambda _: scenario.site_series(), None, "has no [site]", "latitude and longitude")
+
+
+# --------------------------------------------------------------------------------------
+# weather as data and folders of measured spectra
+# --------------------------------------------------------------------------------------
+
+
+def _weather(**changes):
+    import pandas as pd
+
+    times = pd.date_range("2026-06-21 06:30", periods=12, freq="h", tz="Etc/GMT-1")
+    data = pd.DataFrame({"ghi": 600.0, "dni": 700.0, "dhi": 100.0, "temp_air": 25.0,
+                         "wind_speed": 2.0}, index=times)
+    for key, value in changes.items():
+        if value is None:
+            data = data.drop(columns=key)
+        else:
+            data[key] = value
+    return data
+
+
+WEATHER_CASES = [
+    (lambda: [1, 2, 3], "weather data", "DatetimeIndex"),
+    (lambda: _weather().tz_localize(None), "weather data", "no time zone"),
+    (lambda: _weather(dhi=None), "columns dhi are missing", "give ghi"),
+    (lambda: _weather(temp_air=float("nan")), "weather data", "no usable irradiance"),
+    (lambda: _weather(ghi=0.0, dni=0.0, dhi=0.0), "weather data", "no daylight irradiance"),
+]
+
+
+@pytest.mark.parametrize("k", range(len(WEATHER_CASES)),
+                         ids=["not a frame", "no zone", "no dhi", "all nan", "dark"])
+def test_malformed_weather_data_is_one_line(k):
+    from tandem.design.sky import Site
+    from tandem.design.weather import weather_frame_series
+
+    make, field, words = WEATHER_CASES[k]
+    site = Site("field", 38.5, -3.0, timezone="Etc/GMT-1")
+    _refused(lambda _: weather_frame_series(site, make()), None, field, words)
+
+
+@pytest.mark.parametrize("names, words", [
+    ((), "has no .csv files"),
+    (("noon.csv",), "has no time stamp"),
+    (("2026-06-21T12-00.csv", "20260621T1200.csv"), "share a time stamp"),
+])
+def test_a_malformed_spectrum_folder_is_one_line(tmp_path, names, words):
+    from tandem.design.sky import Site
+    from tandem.design.weather import folder_series
+
+    for name in names:
+        (tmp_path / name).write_text("wavelength_nm,irradiance\n400,1.0\n800,1.0\n")
+    _refused(lambda _: folder_series(Site(), tmp_path), None, "spectrum folder", words)

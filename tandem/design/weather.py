@@ -77,7 +77,7 @@ def weather_frame_series(site: Site, data: pd.DataFrame, rows: Rows | None = Non
     --------
     >>> import pandas as pd
     >>> from tandem import Site
-    >>> from tandem.design.sky import weather_frame_series
+    >>> from tandem import weather_frame_series
     >>> times = pd.date_range('2026-06-21 06:30', periods=12, freq='h', tz='Etc/GMT-1')
     >>> data = pd.DataFrame({'ghi': 600.0, 'dni': 700.0, 'dhi': 100.0, 'temp_air': 25.0,
     ...                      'wind_speed': 2.0}, index=times)
