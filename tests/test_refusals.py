@@ -380,3 +380,51 @@ def test_a_malformed_spectrum_folder_is_one_line(tmp_path, names, words):
     for name in names:
         (tmp_path / name).write_text("wavelength_nm,irradiance\n400,1.0\n800,1.0\n")
     _refused(lambda _: folder_series(Site(), tmp_path), None, "spectrum folder", words)
+
+
+# --------------------------------------------------------------------------------------
+# design and region functions called directly
+# --------------------------------------------------------------------------------------
+
+
+def _design_cases():
+    from tandem.design.matching import (Conditions, StackDesign, front_gap_grid,
+                                        match_currents)
+    from tandem.jobs.region import grid_sites, region_job
+
+    design = StackDesign(tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon"))
+    cond = Conditions(tandem.reference_spectrum("am1.5g").photon_flux())
+    return [
+        (lambda: match_currents(design, cond, thickness_points=3), "thickness points 3",
+         "between 5 and 5000"),
+        (lambda: match_currents(design, cond, terminals=7), "terminals 7", "choose 2"),
+        (lambda: match_currents(design, cond, front_thickness_range_nm=(900.0, 300.0)),
+         "front thickness range 900-300 nm", "empty or reversed"),
+        (lambda: front_gap_grid(design.front, -0.02), "gap step -0.02 eV", "positive step"),
+        (lambda: region_job(None, None), "FRONT and BACK", "or a layer stack"),
+        (lambda: region_job("perovskite-wide", "silicon", cover_index=5.0), "cover index 5",
+         "from 1 (no cover) to 2.5"),
+        (lambda: grid_sites((-80.0, 80.0, 0.2), (-180.0, 180.0, 0.4)), "the grid has 721,701 sites",
+         "at most 100,000"),
+    ]
+
+
+DESIGN_IDS = ["few points", "terminals", "reversed range", "gap step",
+              "no pair", "cover index", "grid size"]
+
+
+@pytest.mark.parametrize("k", range(len(DESIGN_IDS)), ids=DESIGN_IDS)
+def test_a_malformed_design_or_region_argument_is_one_line(k):
+    call, field, words = _design_cases()[k]
+    _refused(lambda _: call(), None, field, words)
+
+
+def test_a_site_list_past_the_limit_and_an_empty_region_are_one_line(tmp_path):
+    from tandem.jobs.region import read_sites, region_job, run_region
+
+    rows = "".join(f"s{i},10.0,20.0\n" for i in range(100_001))
+    (tmp_path / "sites.csv").write_text("name,latitude,longitude\n" + rows)
+    _refused(read_sites, tmp_path / "sites.csv", "100,001 sites", "at most 100,000")
+    job = region_job("perovskite-wide", "silicon", front_gaps_eV=[1.70], thickness_points=2)
+    _refused(lambda _: run_region([], job, tmp_path / "r"), None, "the region", "no sites")
+    assert not (tmp_path / "r").exists()
