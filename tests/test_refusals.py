@@ -428,3 +428,69 @@ def test_a_site_list_past_the_limit_and_an_empty_region_are_one_line(tmp_path):
     job = region_job("perovskite-wide", "silicon", front_gaps_eV=[1.70], thickness_points=2)
     _refused(lambda _: run_region([], job, tmp_path / "r"), None, "the region", "no sites")
     assert not (tmp_path / "r").exists()
+
+
+# --------------------------------------------------------------------------------------
+# command-line options: one line, exit 2, nothing written
+# --------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("args, words", [
+    (["spread"], "give FRONT and BACK absorbers, or --stack FILE"),
+    (["match", "perovskite-wide", "silicon", "--front-gaps", "1.6:1.7:0.01:5"], "give low:high"),
+    (["limit", "1.7", "1.1", "--plot", "figs/.."], "give a file name"),
+    (["region", "perovskite-wide", "silicon", "--latitudes", "30:40:5", "--longitudes", "0:10:5",
+      "--workers", "0"], "--workers 0: give 1 to 1024"),
+    (["region", "perovskite-wide", "silicon", "--latitudes", "30:40", "--longitudes", "0:10:5"],
+     "give LO:HI:STEP in degrees"),
+], ids=["spread pair", "range", "file name", "workers", "grid axis"])
+def test_a_malformed_option_is_one_line_and_writes_nothing(tmp_path, monkeypatch, args, words):
+    from typer.testing import CliRunner
+
+    from tandem.cli.app import app
+
+    monkeypatch.chdir(tmp_path)
+    run = CliRunner().invoke(app, args)
+    assert run.exit_code == 2, run.output
+    lines = [x for x in run.output.strip().splitlines() if x.strip()]
+    assert len(lines) == 1 and words in lines[0], run.output
+    assert not any(tmp_path.iterdir())
+
+
+# --------------------------------------------------------------------------------------
+# internal contracts: a function handed a value outside its contract says which
+# --------------------------------------------------------------------------------------
+
+
+def test_internal_contracts_name_the_bad_argument():
+    import numpy as np
+
+    from tandem.optics.absorptance import absorptance
+    from tandem.optics.thinfilm import Layer, stack_optics
+    from tandem.optics.wafer import trace_wafer
+
+    lam = np.array([600.0, 800.0])
+    film = [Layer(np.array([2.0 + 0.1j, 2.0 + 0.1j]), 100.0)]
+    with pytest.raises(ValueError, match="pol must be 's' or 'p', not 'x'"):
+        stack_optics(film, 1.0, 1.5, lam, 0.0, "x")
+    with pytest.raises(ValueError, match=r"depth profiles are for coherent layers, not layers \[0\]"):
+        stack_optics([Layer(np.array([1.5, 1.5]), 1e6, False)], 1.0, 1.5, lam, depths={0: [1.0]})
+    with pytest.raises(ValueError, match="rear must be one of"):
+        trace_wafer([], 1.0, 3.6 + 1e-4j, 1e5, "mirror", np.ones(2), lam)
+    with pytest.raises(ValueError, match="front must be one of"):
+        trace_wafer([], 1.0, 3.6 + 1e-4j, 1e5, "lambertian", np.ones(2), lam, front="pyramids")
+    with pytest.raises(ValueError, match="light trapping 'mirror' is not one of"):
+        absorptance(1e3, 1e3, "mirror")
+
+
+def test_absorber_and_stack_calls_outside_their_contract_are_refused():
+    from tandem.design.layerstack import photon_budget
+
+    si = tandem.load_absorber("silicon")
+    with pytest.raises(TandemInputError, match="position 'middle': use 'front', 'back' or 'alone'"):
+        si.layer([1.5, 2.0], position="middle")
+    with pytest.raises(TandemInputError, match="give a positive"):
+        si.check_thickness(-5.0, "back thickness")
+    with pytest.raises(ValueError, match="one design at a time"):
+        photon_budget(tandem.load_stack("organic-pair"), [1.5, 2.0], [100.0, 200.0],
+                      depth_points=5)
