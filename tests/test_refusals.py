@@ -70,6 +70,7 @@ ABSORBER_CASES = [
     (SILICON, [('database = "main/Si/Green-2008"', 'database = "main/Si/Nobody-1900"')],
      "absorption.database", "Nobody-1900"),
     # optics, electrical, thickness, sources
+    (SILICON, [("ere = 0.006 ", "ere = 1e-320 ")], "electrical.ere", "outside 1e-12–1"),
     (ORGANIC, [("refractive_index = 1.9", "refractive_index = 0.5")],
      "optics.refractive_index", "below 1"),
     (ORGANIC, [('light_trapping = "double-pass"', 'light_trapping = "triple-pass"')],
@@ -494,3 +495,52 @@ def test_absorber_and_stack_calls_outside_their_contract_are_refused():
     with pytest.raises(ValueError, match="one design at a time"):
         photon_budget(tandem.load_stack("organic-pair"), [1.5, 2.0], [100.0, 200.0],
                       depth_points=5)
+
+
+def _more_cases():
+    from tandem.design.sky import Site, clear_sky_series, parse_period
+    from tandem.jobs.inputs import OperatingPoint
+    from tandem.optics.database import database_alpha, database_index
+    from tandem.physics.checks import check_ere
+    from tandem.physics.stack import Electrical, by_connection
+
+    coupled = OperatingPoint(electrical=Electrical(coupling=0.5))
+    polar = Site("polar", 85.0, 0.0, timezone="UTC")
+    return [
+        (lambda: database_alpha("main/Si"), "expected", "shelf/book/page"),
+        (lambda: database_alpha("main/Si/Nobody-1900"), "not in the database", "Error"),
+        (lambda: database_index("main-Si-Green"), "is not", "shelf/book/page"),
+        (lambda: parse_period("day:2026-06", "UTC", 60), "a day is written", "YYYY-MM-DD"),
+        (lambda: clear_sky_series(polar, parse_period("day:2026-12-21", "UTC", 60)),
+         "the sun never rises", "over this period"),
+        (lambda: check_ere([0.1, 0.2, 0.3], 2), "ERE has 3 values for 2 subcells", "one per subcell"),
+        (lambda: tandem.limit([1.73, 1.12], operating=coupled).loss_breakdown(),
+         "luminescent coupling", "drop --coupling"),
+        (lambda: tandem.fabrication_spread_stack("organic-pair", thickness_sigma_pct=150.0),
+         "thickness σ 150 %", "0 to 100 %"),
+        (lambda: by_connection(3, 0.40, None, 0.45, "this result"), "this result",
+         "no three-terminal values"),
+    ]
+
+
+MORE_IDS = ["database shape", "database entry", "index shape", "period form", "polar night",
+            "ere count", "breakdown coupling", "thickness sigma", "no 3T"]
+
+
+@pytest.mark.parametrize("k", range(len(MORE_IDS)), ids=MORE_IDS)
+def test_further_malformed_arguments_are_one_line(k):
+    call, field, words = _more_cases()[k]
+    _refused(lambda _: call(), None, field, words)
+
+
+def test_data_files_that_are_not_text_or_not_positive_are_one_line(tmp_path):
+    from tandem.optics.database import NkTableError, read_nk_table
+
+    (tmp_path / "nk.csv").write_text("500,2.0,0.1\n600,two,0.1\n")  # a word among numbers
+    with pytest.raises(NkTableError, match="not three numeric columns"):
+        read_nk_table(tmp_path / "nk.csv")
+    (tmp_path / "binary.csv").write_bytes(b"\xff\xfe\x00\x81" * 50)
+    _refused(tandem.read_spectrum_csv, tmp_path / "binary.csv", "binary.csv", "cannot be read as text")
+    alpha = _table_absorber(tmp_path, 'model = "table"\ntable = "alpha.csv"',
+                            "wavelength_nm,alpha_per_cm\n500,1e5\n600,-5\n700,1e4\n")
+    _refused(tandem.load_absorber, alpha, "alpha", "must be positive")
