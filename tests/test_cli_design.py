@@ -43,7 +43,7 @@ def test_absorber_show_json_and_plot(tmp_path):
      "'optics.colour' is not a known key", "allowed keys"),
     (lambda t: t.replace("urbach_energy_meV", "urbach_energy_mev"),
      "'absorption.urbach_energy_mev' is not a known key", "did you mean 'urbach_energy_meV'"),
-    (lambda t: t.replace("ere = 1.0e-4", "ere = 3"), "'electrical.ere' = 3 is outside (0, 1]", "fraction"),
+    (lambda t: t.replace("ere = 1.0e-4", "ere = 3"), "'electrical.ere' = 3 is outside 1e-12–1", "fraction"),
     (lambda t: t.replace("[sources]", "[sources]\n[extra]"), "'extra' is not a known key", "remove it"),
     (lambda t: t.replace("value_eV = 1.50", "value_eV = 'wide'"), "'gap.value_eV'", "give a number"),
     (lambda t: t.replace('model = "direct"', 'model = "magic"'), "'absorption.model'", "use one of"),

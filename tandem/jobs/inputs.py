@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from tandem.core.errors import TandemInputError
-from tandem.physics.checks import check_front_index, check_ideality, check_temperature
+from tandem.physics.checks import check_ere, check_front_index, check_ideality, check_temperature
 from tandem.physics.spectra import (
     PhotonFlux,
     Spectrum,
@@ -213,13 +213,7 @@ class OperatingPoint:
             if not 1 <= len(values) <= 2:
                 raise TandemInputError(f"ERE has {len(values)} values; give one value, or one per "
                                        "subcell (front, back)")
-            for v in values:
-                if not (math.isfinite(v) and 0 < v <= 1):
-                    raise TandemInputError(f"ERE {v:g} is outside (0, 1]; the external radiative "
-                                           "efficiency is a fraction, 1 in the radiative limit")
-                if v < 1e-30:
-                    raise TandemInputError(f"ERE {v:g} is below 1e-30, where the voltage loss "
-                                           "passes 1.7 V; give a realistic ERE")
+            check_ere(values, len(values))
             object.__setattr__(self, "ere", values)
 
     def step_shares(self) -> tuple[float, float]:

@@ -22,6 +22,7 @@ from tandem.core.units import K_B_EV, T_STC
 from tandem.optics.absorbers import MAX_UNCUT_URBACH_EV, Absorber, GapRelation
 from tandem.optics.absorptance import LIGHT_TRAPPING
 from tandem.optics.edges import EDGE_MODELS
+from tandem.physics.checks import MIN_ERE
 from tandem.physics.recombination import AUGER_MODELS, BulkSpec
 
 # --------------------------------------------------------------------------------------
@@ -189,8 +190,9 @@ def parse_absorber(path: Path) -> Absorber:
                "the gap–voltage offset Eg/q − Voc in V")
     ere, loss, offset = given["ere"], given["nonradiative_voc_loss_V"], given["gap_voltage_offset_V"]
     if ere is not None:
-        if not 0 < ere <= 1:
-            c.fail("electrical.ere", f"= {ere:g} is outside (0, 1]", "give a fraction, 1 = radiative limit")
+        if not MIN_ERE <= ere <= 1:
+            c.fail("electrical.ere", f"= {ere:g} is outside {MIN_ERE:g}–1", "give a fraction, "
+                   f"1 = radiative limit (below {MIN_ERE:g} the non-radiative loss exceeds 0.7 V)")
         origin = "given"
     elif loss is not None:
         if not 0 <= loss < 0.8 * value:

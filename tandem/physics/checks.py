@@ -33,6 +33,11 @@ def check_temperature(temperature_K: float, what: str = "cell temperature") -> N
                            "(298.15K) or Celsius with its unit (25C)")
 
 
+#: Smallest external radiative efficiency accepted: kT·ln(10¹²) = 0.71 V of non-radiative loss
+#: at 298 K, beyond any working cell; smaller values (1e-320) overflow J0,rad/ERE.
+MIN_ERE = 1e-12
+
+
 def check_ere(ere: Sequence[float], n_subcells: int) -> np.ndarray:
     """ERE values, one per subcell; one value serves all. Each must lie in (0, 1]."""
     values = [float(x) for x in ere]
@@ -42,9 +47,10 @@ def check_ere(ere: Sequence[float], n_subcells: int) -> np.ndarray:
         raise TandemInputError(f"ERE has {len(values)} values for {n_subcells} subcells; "
                                "give one value, or one per subcell, front first")
     for v in values:
-        if not (0 < v <= 1):
-            raise TandemInputError(f"ERE {v:g} is outside (0, 1]; the external radiative "
-                                   "efficiency is a fraction, 1 in the radiative limit")
+        if not (MIN_ERE <= v <= 1):
+            raise TandemInputError(f"ERE {v:g} is outside {MIN_ERE:g}–1; the external radiative "
+                                   "efficiency is a fraction, 1 in the radiative limit (below "
+                                   f"{MIN_ERE:g} the non-radiative loss exceeds 0.7 V)")
     return np.array(values)
 
 

@@ -23,6 +23,7 @@ import numpy as np
 
 from tandem.jobs.common import LIMIT_BYTES, MAP_BYTES
 from tandem.jobs.inputs import MAX_GAPS, Light, OperatingPoint, Sweep, gap_range
+from tandem.physics.checks import MIN_ERE
 from tandem.optics.absorbers import Absorber
 from tandem.core.toml_files import Checker
 from tandem.physics.spectra import parse_spectrum_text
@@ -456,8 +457,8 @@ def resolve(path: Path, key: str, text: str, absorber_source, file_source, stack
 
 
 #: What a [[variants]] entry may change, with its range.
-VARIANT_KEYS = {"name": None, "temperature_K": (150.0, 500.0), "ere": (1e-12, 1.0),
-                "ere_front": (1e-12, 1.0), "ere_back": (1e-12, 1.0),
+VARIANT_KEYS = {"name": None, "temperature_K": (150.0, 500.0), "ere": (MIN_ERE, 1.0),
+                "ere_front": (MIN_ERE, 1.0), "ere_back": (MIN_ERE, 1.0),
                 "reflectance": (0.0, 0.99), "front_parasitic": (0.0, 0.99),
                 "interlayer_parasitic": (0.0, 0.99), "ideality": (0.5, 10.0), "source": None}
 
