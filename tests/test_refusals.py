@@ -71,6 +71,10 @@ ABSORBER_CASES = [
      "absorption.database", "Nobody-1900"),
     # optics, electrical, thickness, sources
     (SILICON, [("ere = 0.006 ", "ere = 1e-320 ")], "electrical.ere", "outside 1e-12–1"),
+    (ORGANIC, [('[optics]\nrefractive_index = 1.9\nlight_trapping = "double-pass"\n', "")],
+     "optics", "is missing"),
+    (SILICON, [('auger = "richter-2012"', 'auger = "richter-2099"')], "recombination.auger",
+     "is not known"),
     (ORGANIC, [("refractive_index = 1.9", "refractive_index = 0.5")],
      "optics.refractive_index", "below 1"),
     (ORGANIC, [('light_trapping = "double-pass"', 'light_trapping = "triple-pass"')],
@@ -138,6 +142,8 @@ TABLE_CASES = [
      "energy_eV,alpha_per_cm\n1.8,1e4\n2.0,5e4\n2.0,6e4\n", "absorption.table",
      "repeats a point"),
     ('model = "nk"', "500,2.0,0.1\n600,2.0,0.05\n", "absorption.nk_table", "is missing"),
+    ('model = "table"\ntable = "alpha.csv"\ntable_axis = "energy_eV"', ALPHA_TABLE,
+     "absorption.table", "remove table_axis"),
 ]
 
 
@@ -544,3 +550,75 @@ def test_data_files_that_are_not_text_or_not_positive_are_one_line(tmp_path):
     alpha = _table_absorber(tmp_path, 'model = "table"\ntable = "alpha.csv"',
                             "wavelength_nm,alpha_per_cm\n500,1e5\n600,-5\n700,1e4\n")
     _refused(tandem.load_absorber, alpha, "alpha", "must be positive")
+
+
+
+def test_an_edge_model_registered_with_a_foreign_data_key_is_refused():
+    from tandem.optics.edges import ParametricEdge, register_edge_model
+
+    with pytest.raises(ValueError, match="data_file_key 'table' is not one of its keys"):
+        register_edge_model("test-only", ParametricEdge, lambda c, u, g: None,
+                            {"strength_per_cm": "num"}, data_file_key="table")
+
+
+def test_a_series_without_its_parts_has_no_parts_basis(tmp_path):
+    from tandem.design.sky import Site
+    from tandem.design.weather import folder_series
+
+    (tmp_path / "2026-06-21T12-00.csv").write_text("wavelength_nm,irradiance\n400,1.0\n800,1.0\n")
+    series = folder_series(Site(), tmp_path)  # measured spectra: no direct/diffuse split
+    assert not series.has_parts
+    with pytest.raises(ValueError, match="does not know its direct and diffuse parts"):
+        series.parts_basis()
+
+
+def test_an_unreadable_or_deep_study_input_is_one_line(tmp_path):
+    from tandem.study.scenario import read_text_file
+    from tandem.study.sources import read_manifest
+
+    _refused(lambda p: read_text_file(p, "weather file"), tmp_path / "missing.csv",
+             "weather file", "cannot be read")
+    (tmp_path / "manifest.json").write_text("[" * 100_000 + "]" * 100_000)
+    _refused(read_manifest, tmp_path / "manifest.json", "manifest", "nested too deeply")
+
+
+def test_a_study_whose_pairs_are_all_inverted_is_one_line(tmp_path):
+    from tandem.study.run import run_study
+    from tandem.study.sources import load_scenario
+
+    path = _edited(tmp_path, SCENARIOS / ORGANIC_STUDY,
+                   [('front = ["organic-wide"]', 'front = ["organic-narrow"]'),
+                    ('back = ["organic-narrow", "perovskite-snpb"]', 'back = ["organic-wide"]')],
+                   name="inverted.toml")
+    _refused(lambda p: run_study(load_scenario(p)), path, "no candidate pair", "front gap above")
+
+
+def test_a_reference_spectrum_without_pvlib_is_one_line(monkeypatch):
+    import importlib.util
+
+    from tandem.physics.spectra import astm_g173_table
+
+    real = importlib.util.find_spec
+    monkeypatch.setattr(importlib.util, "find_spec",
+                        lambda name, *a: None if name == "pvlib" else real(name, *a))
+    astm_g173_table.cache_clear()  # read afresh, without pvlib; the next caller reads it again
+    try:
+        _refused(lambda _: astm_g173_table(), None, "comes with pvlib", "install")
+    finally:
+        astm_g173_table.cache_clear()
+
+
+@pytest.mark.parametrize("name, words", [
+    ("nodir/figure.png", "does not exist"),
+    ("x" * 240 + ".png", "give a name under 200 characters"),
+])
+def test_an_output_name_that_cannot_be_written_is_one_line(tmp_path, monkeypatch, name, words):
+    from typer.testing import CliRunner
+
+    from tandem.cli.app import app
+
+    monkeypatch.chdir(tmp_path)
+    run = CliRunner().invoke(app, ["limit", "1.7", "1.1", "--plot", name])
+    assert run.exit_code == 2 and words in run.output, run.output
+    assert len(run.output.strip().splitlines()) == 1
+    assert not any(tmp_path.iterdir())
