@@ -10,6 +10,7 @@ import tandem
 from tandem.cli.options import (escape, progress_callback, emit_json, build_light, build_operating, progress_bar, say,
                                 render_table, check_outputs, err, out)
 from tandem.core.errors import TandemInputError
+from tandem.core.units import length_text
 
 
 def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str | None,
@@ -80,17 +81,13 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str 
          + "".join(f", {k.replace(' [nm]', '')} {s['best_4t'][k]:.0f} nm" for k in swept),
          "optics-lite (no interference, no layer losses) matches at "
          + (f"{lite:.0f} nm" if lite else "no thickness in range"),
-         *[f"generation in {g['layer']}: half of its carriers within {_depth(g['half_depth_nm'])} "
-           f"of its sun side, peak {g['peak_per_cm3_s']:.2e} cm⁻³s⁻¹ at {_depth(g['peak_depth_nm'])}"
+         *[f"generation in {g['layer']}: half of its carriers within {length_text(g['half_depth_nm'])} "
+           f"of its sun side, peak {g['peak_per_cm3_s']:.2e} cm⁻³s⁻¹ at {length_text(g['peak_depth_nm'])}"
            for g in s["generation"] if g["half_depth_nm"] is not None],
          *[f"note: {n}" for n in s["notes"]],
          f"spectrum: {s['spectrum']}, {s['irradiance_W_m2']:.2f} W/m²; cell {s['temperature_K']:g} K")
     err.print(f"wrote {escape(', '.join(s['outputs']))}")
     out.print(f"[dim]{escape(s['caution'])}[/]")
-
-
-def _depth(nm: float) -> str:
-    return f"{nm / 1000:.1f} µm" if nm >= 10_000 else f"{nm:.0f} nm"
 
 
 def list_bundled(json_out: bool) -> None:
@@ -112,8 +109,7 @@ def list_bundled(json_out: bool) -> None:
         ("name", lambda a: a.key), ("description", lambda a: a.name),
         ("gap eV", lambda a: "{:.2f}–{:.2f}".format(*a.gap_range_eV) if a.tunable
          else f"{a.gap_eV:.3f}"), ("edge", lambda a: a.edge_model),
-        ("thickness", lambda a: f"{a.thickness_nm / 1000:g} µm" if a.thickness_nm >= 10_000
-         else f"{a.thickness_nm:g} nm"),
+        ("thickness", lambda a: length_text(a.thickness_nm)),
         ("trapping", lambda a: a.light_trapping), ("ERE", lambda a: f"{a.ere:.1e}")], found))
     out.print(render_table("Bundled layer stacks (tandem match --stack NAME)", [
         ("name", lambda s: s["name"]), ("title", lambda s: s["title"]),

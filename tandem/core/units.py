@@ -27,3 +27,9 @@ BB_FLUX_PREFACTOR = 2 * math.pi * _E**3 / (_H**3 * _C**2)
 SUN_DILUTION = (6.957e8 / _AU) ** 2
 
 MA_CM2_PER_A_M2 = 0.1  #: 1 A/m² = 0.1 mA/cm²
+
+
+def length_text(nm: float) -> str:
+    """A thickness or depth as a reader writes it: whole nm below 10 µm, µm (three significant
+    digits) from there (a wafer's 160 µm, a half-depth of 13.4 µm, a film's 325 nm)."""
+    return f"{nm / 1000:.3g} µm" if nm >= 10_000 else f"{nm:.0f} nm"

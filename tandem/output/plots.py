@@ -16,7 +16,7 @@ from matplotlib.figure import Figure
 
 from tandem.design.matching import MatchResult, stack_light
 from tandem.core.files import write_whole
-from tandem.core.units import HC_EV_NM, MA_CM2_PER_A_M2
+from tandem.core.units import HC_EV_NM, MA_CM2_PER_A_M2, length_text
 
 
 class _Pyplotless:
@@ -128,8 +128,7 @@ def draw_match(result: MatchResult, tolerance=None, ax=None) -> Figure:
     ax1.set_xlabel("front thickness [nm]")
     ax1.set_ylabel("photocurrent [mA/cm²]")
     back_d = sweep.back_thickness_nm
-    back_text = f"{back_d / 1000:g} µm" if back_d >= 10_000 else f"{back_d:.0f} nm"
-    ax1.set_title(f"front gap {sweep.front_gap_eV:.3f} eV, back {back_text}", fontsize=10)
+    ax1.set_title(f"front gap {sweep.front_gap_eV:.3f} eV, back {length_text(back_d)}", fontsize=10)
     ax1.legend(fontsize=8, loc="best", framealpha=0.9)  # where it covers the least
     ax1.grid(alpha=0.3)
     if ax2 is None:

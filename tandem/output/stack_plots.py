@@ -9,7 +9,7 @@ import matplotlib.ticker
 import numpy as np
 from matplotlib.figure import Figure
 
-from tandem.core.units import HC_EV_NM, MA_CM2_PER_A_M2
+from tandem.core.units import HC_EV_NM, MA_CM2_PER_A_M2, length_text
 from tandem.output.plots import BACK_COLOUR, FRONT_COLOUR, LAYER_COLOURS, save_figure
 
 
@@ -98,8 +98,7 @@ def draw_generation(result, ax) -> None:
     for layer, colour in ((m.stack.front, FRONT_COLOUR), (m.stack.back, BACK_COLOUR)):
         z, g = m.best_generation[layer.name]
         thick = z[-1]
-        size = f"{thick / 1000:.0f} µm" if thick >= 10_000 else f"{thick:.0f} nm"
-        ax.plot(z / thick, g, color=colour, lw=1.5, label=f"{layer.name} ({size})")
+        ax.plot(z / thick, g, color=colour, lw=1.5, label=f"{layer.name} ({length_text(thick)})")
         half = profile_figures(z, g)["half_depth_nm"]
         if half is not None:
             ax.plot([half / thick], [np.interp(half, z, g)], "o", color=colour, ms=5, mec="k",
