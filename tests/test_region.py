@@ -100,6 +100,7 @@ def test_outputs_describe_themselves_and_only_tandem_folders_are_used(sites, job
     assert data.longitude.attrs["units"] == "degrees_east"
     assert list(data.latitude.values) == [s.latitude for s in sites[:2]]
     assert data.attrs["Conventions"] == "CF-1.8"
+    assert data.attrs["job_sha256"] == job.job_fingerprint()  # the resume key, for provenance
     data.close()
     assert {p.name for p in paths} == {"region.nc", "region.csv", "region.png"}
     foreign = tmp_path / "mine"
@@ -364,3 +365,15 @@ def test_an_edited_site_record_is_computed_again(sites, tmp_path):
     again = run_region(sites[:2], _day_job(), folder, workers=1)
     assert again.computed == [sites[0].name] and again.reused == [sites[1].name]
     assert again.to_frame()["energy_2t_kWh_m2"].tolist() == first.to_frame()["energy_2t_kWh_m2"].tolist()
+
+
+def test_a_region_names_the_content_of_every_input_file_it_read(tmp_path, job):
+    import hashlib
+
+    (tmp_path / "r.csv").write_text("wavelength_nm,reflectance\n300,0.05\n1300,0.03\n")
+    with_file = replace(job, operating=OperatingPoint(reflectance=str(tmp_path / "r.csv")))
+    digests = with_file.input_digests()
+    assert digests["input_sha256_reflectance"] == hashlib.sha256(
+        (tmp_path / "r.csv").read_bytes()).hexdigest()
+    assert digests["job_sha256"] != job.input_digests()["job_sha256"]
+    assert set(job.input_digests()) == {"job_sha256"}  # no file, no file digest

@@ -85,6 +85,13 @@ class RegionJob:
                            "job": self.job_fingerprint()}, sort_keys=True)
         return hashlib.sha256(text.encode()).hexdigest()
 
+    def input_digests(self) -> dict[str, str]:
+        """What a region dataset says it was computed from, as attributes: the job's
+        fingerprint (its resume key) and the SHA-256 of each input file it names by path."""
+        return {"job_sha256": self.job_fingerprint(),
+                **{f"input_sha256_{k}": v
+                   for k, v in sorted(input_files_sha(self.operating, self.reference).items())}}
+
     def job_fingerprint(self) -> str:
         """SHA-256 of the job's own inputs (the same for every site)."""
         text = json.dumps({"front": self.front.path.read_text(encoding="utf-8"),
@@ -407,7 +414,7 @@ class RegionResult(ResultDisplay):
         if self.job is not None:
             attrs.update(front=self.job.front.key, back=self.job.back.key, period=self.job.period,
                          step_minutes=float(self.job.step_minutes),
-                         bifacial=int(self.job.rows is not None))
+                         bifacial=int(self.job.rows is not None), **self.job.input_digests())
         from tandem.output.datasets import described
 
         return described(xr.Dataset(data, coords=coords, attrs=attrs))
