@@ -622,3 +622,37 @@ def test_an_output_name_that_cannot_be_written_is_one_line(tmp_path, monkeypatch
     assert run.exit_code == 2 and words in run.output, run.output
     assert len(run.output.strip().splitlines()) == 1
     assert not any(tmp_path.iterdir())
+
+
+def _pvlib_tmy3(tmp_path: Path) -> None:
+    import shutil
+
+    import pvlib
+
+    shutil.copy(Path(pvlib.__file__).parent / "data" / "723170TYA.CSV", tmp_path / "w.csv")
+
+
+@pytest.mark.parametrize("block, field, words", [
+    ('[weather]\nfile = "w.csv"\n', "weather", "needs a [site] section"),
+    ('[site]\nlatitude = 35.2\nlongitude = -106.4\n\n[weather]\nfile = "missing.csv"\n',
+     "weather", "names a file that cannot be used"),
+], ids=["weather without a site", "missing weather file"])
+def test_a_scenarios_weather_that_cannot_be_used_is_one_line(tmp_path, block, field, words):
+    from tandem.study.sources import load_scenario
+
+    _pvlib_tmy3(tmp_path)
+    path = _edited(tmp_path, SCENARIOS / ORGANIC_STUDY, [("[report]", block + "\n[report]")],
+                   name="weather.toml")
+    _refused(load_scenario, path, field, words)
+
+
+def test_a_period_for_a_scenario_that_reads_weather_is_one_line(tmp_path):
+    from tandem.study.sources import load_scenario
+
+    _pvlib_tmy3(tmp_path)
+    path = _edited(tmp_path, SCENARIOS / ORGANIC_STUDY, [("[report]", '[site]\nlatitude = 35.2\n'
+                   'longitude = -106.4\ntimezone = "Etc/GMT+7"\n\n[weather]\nfile = "w.csv"\n\n'
+                   "[report]")], name="weather.toml")
+    scenario = load_scenario(path)
+    _refused(lambda _: scenario.site_series("day:2026-06-21"), None, "reads measured weather",
+             "drop the period")
