@@ -54,11 +54,12 @@ def _spread_stack(key, spread):
 @pytest.mark.parametrize("key", ["organic-pair", "wide-gap-on-silicon-wafer"])
 def test_a_stacks_budget_is_the_area_average_and_counts_every_photon(key):
     flux = tandem.reference_spectrum("am1.5g").photon_flux()
-    e = flux.energy[::4]
+    e = flux.energy[::4] if key == "organic-pair" else flux.energy[::24]  # a wafer trace costs
     plain, spread = _spread_stack(key, 60.0)
     d = plain.front.thickness_nm
     ours = photon_budget(spread, e, [d])
-    dense = photon_budget(plain, e, d + (np.arange(401) + 0.5) / 401 * 60.0 - 30.0)
+    n = 401 if key == "organic-pair" else 121  # midpoints: the wafer's fringes are its films'
+    dense = photon_budget(plain, e, d + (np.arange(n) + 0.5) / n * 60.0 - 30.0)
     for got, ref in ((ours.front, dense.front), (ours.back, dense.back),
                      (ours.reflected, dense.reflected)):
         np.testing.assert_allclose(got[0], ref.mean(axis=0), atol=2e-6)
