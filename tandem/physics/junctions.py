@@ -179,7 +179,13 @@ def _chain_maximum(chain_voltage, j_high, r_series: float):
     zero = np.zeros_like(np.asarray(j_high, dtype=float))
     voc = terminal_voltage(zero)
     alive = voc > 0
-    jsc = np.where(alive, _bisect(terminal_voltage, zero, j_high), 0.0)
+    # Where the chain still holds its voltage at j_high (no shunt and no series resistance:
+    # no junction passes its photocurrent), the terminal current cannot rise further and Jsc
+    # is j_high itself; the bisection, 52 evaluations of the chain, is for the rest
+    if np.all(terminal_voltage(j_high) >= 0):
+        jsc = np.where(alive, j_high, 0.0)
+    else:
+        jsc = np.where(alive, _bisect(terminal_voltage, zero, j_high), 0.0)
     # GOLDEN_STEPS leave 0.618³² ≈ 2e-7 of [0, Jsc]; P is flat there to ~1e-13 relative
     j = db.golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc, iterations=GOLDEN_STEPS)
     v = terminal_voltage(j)

@@ -284,10 +284,7 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
     perf = _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, None, *args)
     if emission is None:
         return perf
-    vt = K_B_EV * (np.broadcast_to(t, shape[:-1])[..., None] if t.ndim else t)
-    closest = np.maximum(perf.voc, np.maximum(perf.v_own, perf.v_2t_sub))
-    with np.errstate(over="ignore"):
-        need = np.any(np.exp((closest - emission.gap_eV) / vt) > EXACT_EMISSION_BELOW, axis=-1)
+    need = exact_emission_needed(perf, emission.gap_eV, t)
     if not np.any(need):
         return perf
     if need.ndim == 0 or np.all(need):
@@ -321,6 +318,17 @@ def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality
 #: measures both; at 2e-4 a 0.70 eV back cell at 340 K moved 1.02e-6): the Boltzmann closed
 #: forms are kept there, the exact law solved elsewhere.
 EXACT_EMISSION_BELOW = 1e-4
+
+
+def exact_emission_needed(perf: StackPerformance, gap_eV, temperature_K) -> np.ndarray:
+    """Where a Boltzmann result must be solved again with the exact emission (...): some
+    subcell's voltage comes within EXACT_EMISSION_BELOW of its gap (see there)."""
+    t = np.asarray(temperature_K, dtype=float)
+    shape = np.shape(perf.j_light)
+    vt = K_B_EV * (np.broadcast_to(t, shape[:-1])[..., None] if t.ndim else t)
+    closest = np.maximum(perf.voc, np.maximum(perf.v_own, perf.v_2t_sub))
+    with np.errstate(over="ignore"):
+        return np.any(np.exp((closest - gap_eV) / vt) > EXACT_EMISSION_BELOW, axis=-1)
 
 
 def _rear_factors(m: int, electrical: Electrical, front_index: float) -> np.ndarray:
