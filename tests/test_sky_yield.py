@@ -497,3 +497,31 @@ def test_spread_cli_with_a_stack(tmp_path):
                            (["--gap", "1.8"], "--gap with --stack")):
         res = runner.invoke(app, ["spread", *extra, "--stack", "organic-pair"])
         assert res.exit_code != 0 and message in res.output, res.output
+
+
+def test_a_series_basis_is_built_on_one_blas_thread_wherever_it_is_first_asked(monkeypatch):
+    # a job reads series.energy (the basis's grid) before the yield's own one-thread block:
+    # the QR and SVD then ran on every BLAS thread (27x the CPU on a loaded 2-core machine)
+    threadpoolctl = pytest.importorskip("threadpoolctl")
+    import tandem.design.series as series_module
+    from tandem.design.sky import Site, clear_sky_series, parse_period
+
+    seen = []
+    real = series_module.reduced_basis
+
+    def spy(*args, **kwargs):
+        seen.append([i["num_threads"] for i in threadpoolctl.threadpool_info()
+                     if i["user_api"] == "blas"])
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(series_module, "reduced_basis", spy)
+    site = Site("field", 38.5, -3.0, timezone="Etc/GMT-1")
+    series = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 60))
+    with threadpoolctl.threadpool_limits(limits=2, user_api="blas"):
+        outside = [i["num_threads"] for i in threadpoolctl.threadpool_info()
+                   if i["user_api"] == "blas"]
+        if not outside or max(outside) < 2:
+            pytest.skip("this BLAS runs one thread only")
+        series.energy  # the first ask, outside any yield
+        series.parts_basis()
+    assert len(seen) == 2 and all(n == [1] * len(n) for n in seen), seen

@@ -49,6 +49,15 @@ class FluxBasis:
 BASIS_TOLERANCE = 1e-9
 
 
+def one_blas_thread():
+    """A series' many small matrix products (steps × energies: its basis, a yield's sums) run
+    fastest on one BLAS thread: two threads contend on two busy cores (measured: a basis took
+    2.6 s CPU on two threads of a loaded machine, 0.095 s on one; see DEVELOPERS.md)."""
+    from threadpoolctl import threadpool_limits
+
+    return threadpool_limits(limits=1, user_api="blas")
+
+
 def reduced_basis(energy, coefficients, basis, tolerance: float = BASIS_TOLERANCE) -> FluxBasis:
     """The smallest orthonormal basis whose per-step photocurrent bound is ≤ ``tolerance``.
 
@@ -138,7 +147,8 @@ class SpectralSeries:
         cache = self.__dict__.setdefault("_bases", {})  # the series is frozen: compute once
         if tolerance not in cache:
             energy, rows = self._energy_rows()
-            cache[tolerance] = reduced_basis(energy, self.coefficients, rows, tolerance)
+            with one_blas_thread():  # wherever it is first asked (a job reads .energy early)
+                cache[tolerance] = reduced_basis(energy, self.coefficients, rows, tolerance)
         return cache[tolerance]
 
     @property
@@ -155,7 +165,8 @@ class SpectralSeries:
         if tolerance not in cache:
             energy, rows = self._energy_rows()
             parts = np.concatenate([self.arriving_direct, self.arriving_diffuse])
-            cache[tolerance] = reduced_basis(energy, parts, rows, tolerance)
+            with one_blas_thread():
+                cache[tolerance] = reduced_basis(energy, parts, rows, tolerance)
         return cache[tolerance]
 
     def _energy_rows(self):

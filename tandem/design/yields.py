@@ -26,7 +26,7 @@ from tandem.optics.absorbers import absorbers_bulk
 from tandem.design.matching import (Conditions, StackDesign, design_bulk, evaluate_design,
                                     rear_absorptance, stack_integrands, stack_performance)
 from tandem.core.errors import TandemInputError
-from tandem.design.series import FluxBasis, SpectralSeries
+from tandem.design.series import FluxBasis, SpectralSeries, one_blas_thread
 from tandem.physics.spectra import PhotonFlux, reference_flux_on, trapezoid_weights
 from tandem.physics.stack import IDEAL, Electrical, evaluate_stack
 from tandem.core.units import Q
@@ -295,14 +295,6 @@ def yield_sweep(design: YieldDesign, series: SpectralSeries, gaps, thicknesses,
     with one_blas_thread():
         return _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference,
                             ideality, electrical, bin_K, progress, reference_design or design)
-
-
-def one_blas_thread():
-    """The yield's many small matrix products (steps × energies) run fastest on one BLAS
-    thread: two threads contend on two busy cores (measured: see DEVELOPERS.md)."""
-    from threadpoolctl import threadpool_limits
-
-    return threadpool_limits(limits=1, user_api="blas")
 
 
 def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference, ideality,

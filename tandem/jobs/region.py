@@ -273,7 +273,7 @@ def site_year(spec: SiteSpec, job: RegionJob) -> dict:
     Every BLAS call of a site runs on one thread, in this process or on a worker: the sky
     series' matrix products, too, summed in another order on two threads, moved a design's
     energy in its last bits between a serial and a distributed run."""
-    from tandem.design.yields import one_blas_thread
+    from tandem.design.series import one_blas_thread
 
     with one_blas_thread():
         return _site_year(spec, job)
