@@ -406,3 +406,26 @@ def test_a_textured_wafer_reaches_the_tiedje_yablonovitch_limit_of_its_escape_co
     out = trace_wafer([], 1.0, n + 1j * kappa, 160e3, "lambertian", np.ones(3), lam,
                       front="lambertian")
     np.testing.assert_allclose(out.wafer, 4 * ad / (4 * ad + eps), rtol=1e-4)  # measured 2e-5
+
+
+def test_a_textured_or_spread_stack_says_so_in_match_and_yield_notes(tmp_path):
+    from dataclasses import replace
+    from types import SimpleNamespace
+
+    import tandem
+    from tandem.design.layerstack import stack_model_notes
+    from tandem.design.sky import Site, clear_sky_series, parse_period
+    from tandem.design.yields import StackYield
+    from tandem.output.report import _source_notes
+
+    textured = tandem.load_stack(_wafer_stack(tmp_path, 'front_texture = "lambertian"'))
+    spread = replace(textured, layers=tuple(
+        replace(x, thickness_spread_nm=20.0) if x.role == "front" else x for x in textured.layers))
+    notes = stack_model_notes(spread)
+    assert any("textured front" in n for n in notes)
+    assert any("varying by 20 nm" in n for n in notes)
+    assert stack_model_notes(tandem.load_stack("wide-gap-on-silicon-wafer")) == []
+    site = Site("field", 38.5, -3.0, timezone="Etc/GMT-1")
+    series = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 60))
+    yield_notes = _source_notes(SimpleNamespace(series=series, design=StackYield(spread)))
+    assert set(notes) <= set(yield_notes)

@@ -286,6 +286,19 @@ def _area_average(stack: LayerStack, spread: list, energy, front_thickness_nm, o
     return replace(total, thickness_nm=(d_front, back_d[:, 0] if np.ndim(back_d) == 2 else back_d))
 
 
+def stack_model_notes(stack: LayerStack) -> list[str]:
+    """What a reader must know of the stack's optical model: a textured wafer front, films
+    averaged over a thickness spread (every output of a stack says them)."""
+    notes = []
+    if stack.layers[-1].ends_stack and stack.layers[-1].front_texture == "lambertian":
+        notes.append(f"{stack.layers[-1].name}: textured front: the light enters it randomised; "
+                     "the films are taken flat, so the texture does not lower their reflection "
+                     "of the sunlight (a conservative limit)")
+    return notes + [f"{x.name}: optics averaged over its thickness varying by "
+                    f"{x.thickness_spread_nm:g} nm across the cell (uniformly; each place coherent)"
+                    for x in stack.layers if x.thickness_spread_nm > 0]
+
+
 def rear_reflector_name(stack: LayerStack) -> str:
     """The loss table's name for what a wafer's rear reflector absorbs."""
     names = {x.name for x in stack.layers}
@@ -487,13 +500,7 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
     combos = [dict(c) for c in itertools.product(*axes)] if axes else [{}]
     notes = [n for n in (x.absorber.bulk_note() for x in (stack.front, stack.back)
                          if x.absorber is not None) if n]
-    if stack.layers[-1].ends_stack and stack.layers[-1].front_texture == "lambertian":
-        notes.append(f"{stack.layers[-1].name}: textured front: the light enters it randomised; "
-                     "the films are taken flat, so the texture does not lower their reflection "
-                     "of the sunlight (a conservative limit)")
-    notes += [f"{x.name}: optics averaged over its thickness varying by {x.thickness_spread_nm:g} nm "
-              "across the cell (uniformly; each place coherent)"
-              for x in stack.layers if x.thickness_spread_nm > 0]
+    notes += stack_model_notes(stack)
     usable = flux.flux * trapezoid_weights(flux.energy) * (
         flux.energy >= usable_from_eV(stack, temperature_K))
     for x in stack.layers:  # tables held constant beyond their ends: said where it matters

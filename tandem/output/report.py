@@ -392,9 +392,11 @@ def _source_notes(sweep: YieldSweep) -> list[str]:
     if not isinstance(sweep.design, StackYield):
         return notes
     from tandem.design.cover import is_cover_note
+    from tandem.design.layerstack import stack_model_notes
     from tandem.design.stack_angles import stack_light_note
 
-    return [n for n in notes if not is_cover_note(n)] + [stack_light_note(sweep.series)]
+    return ([n for n in notes if not is_cover_note(n)] + [stack_light_note(sweep.series)]
+            + stack_model_notes(sweep.design.stack))
 
 
 def yield_summary(sweep: YieldSweep, best: HourlyDesign, terminals: int = 2, ratios=()) -> dict:
