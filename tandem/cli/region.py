@@ -140,7 +140,7 @@ def region(
     s["outputs"] = [str(p) for p in written]
     if json_out:
         return emit_json(s)
-    say(*notes)
+    say(*notes, *s["stack_notes"])
     cols = [("site", lambda r: r["name"]), ("lat °", lambda r: f"{r['latitude']:.1f}"),
             ("gap eV", lambda r: f"{r['front_gap_eV']:.3f}"),
             ("front nm", lambda r: f"{r['front_thickness_nm']:.0f}"),

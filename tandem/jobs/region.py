@@ -360,6 +360,7 @@ class RegionResult(ResultDisplay):
     job: RegionJob | None = None
 
     def summary(self) -> dict:
+        from tandem.design.layerstack import stack_model_notes
         from tandem.output.report import CAUTION
 
         keys = [k for k in self.records[0] if not k.endswith("_grid")] if self.records else []
@@ -372,7 +373,9 @@ class RegionResult(ResultDisplay):
                 "stack": self.job.stack.stack.key if self.job and self.job.stack else None,
                 "stack_layers_nm": dict(self.job.stack.others, origin=self.job.stack.origin)
                 if self.job and self.job.stack else None,
-                "bifacial": bool(self.job and self.job.rows), "caution": CAUTION}
+                "bifacial": bool(self.job and self.job.rows),
+                "stack_notes": stack_model_notes(self.job.stack.stack)
+                if self.job and self.job.stack else [], "caution": CAUTION}
 
     def to_frame(self):
         import pandas as pd
