@@ -115,6 +115,21 @@ def ref_step_efficiency(flux, front, back):
     return ref_series_mpp(jl, j0, T_CELL) / flux.irradiance
 
 
+def ref_near_gap(flux, front, back):
+    """Whether a subcell's Boltzmann Voc comes within the tool's threshold of its gap, where
+    the tool solves the exact (Bose–Einstein) emission and this Boltzmann reference is the
+    approximate one."""
+    from tandem.physics.stack import EXACT_EMISSION_BELOW
+
+    e, phi = flux.energy, flux.flux
+    jl = np.array([ref_photocurrent(e, phi, front, e[-1]), ref_photocurrent(e, phi, back, front)])
+    j0_front = ref_dark_current(front, T_CELL)
+    j0 = np.array([j0_front, ref_dark_current(back, T_CELL) - j0_front])
+    vt = db.thermal_voltage(T_CELL)
+    voc = vt * np.log1p(jl / j0)
+    return bool(np.any(np.exp((voc - np.array([front, back])) / vt) > EXACT_EMISSION_BELOW))
+
+
 def ref_optics_efficiency(design, cond, gap, thickness, back_thickness):
     e, phi = cond.photon_flux.energy, cond.photon_flux.flux
     t = cond.temperature_K  # the model moves each edge by its temperature coefficient
@@ -177,12 +192,17 @@ def case_a(flux, n_sample, rng):
     per_point = ref_seconds / n_sample
     ref_total = per_point * len(valid)
     tool_mean = tool_seconds / rounds
-    diff = float(np.max(np.abs(100 * (np.array(ref_values) - tool))))
+    near = np.array([ref_near_gap(flux, fronts[i], backs[j]) for i, j in picks])
+    gaps_off = np.abs(100 * (np.array(ref_values) - tool))
+    diff = float(np.max(gaps_off[~near], initial=0.0))
     ratio = ref_total / tool_mean
     print(f"  interleaved, {rounds} rounds: tool {tool_mean:.4f} s per map; reference "
           f"{per_point * 1e3:.2f} ms per point on {n_sample} random points "
           f"({ref_total:,.0f} s extrapolated to all {len(valid):,} valid pairs)")
-    print(f"  case (a): speed ratio {ratio:,.0f}x; largest efficiency difference {diff:.2e} % abs")
+    print(f"  case (a): speed ratio {ratio:,.0f}x; largest efficiency difference {diff:.2e} % abs "
+          f"on the {int((~near).sum())} pairs far from their gaps; on the {int(near.sum())} near "
+          f"them, where the tool solves the exact emission, the Boltzmann reference is "
+          f"{float(np.max(gaps_off[near], initial=0.0)):.2e} % abs off")
     return ratio, diff
 
 
