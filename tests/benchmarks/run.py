@@ -206,10 +206,14 @@ def case_a(flux, n_sample, rng):
     return ratio, diff
 
 
-def optics_setup():
-    design = StackDesign(tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon"),
-                         0.02, 0.02, 0.01)
-    return design
+def optics_setup(auger: bool = True):
+    """Perovskite over silicon with flat losses; ``auger=False`` drops the silicon's Auger
+    term, for (b) and (c), whose per-point reference is one diode per subcell (J0,rad/ERE)."""
+    from dataclasses import replace
+
+    silicon = tandem.load_absorber("silicon")
+    silicon = silicon if auger else replace(silicon, bulk=None)
+    return StackDesign(tandem.load_absorber("perovskite-wide"), silicon, 0.02, 0.02, 0.01)
 
 
 def optics_sweep(design, cond, gaps, thicknesses):
@@ -220,8 +224,9 @@ def optics_sweep(design, cond, gaps, thicknesses):
 
 
 def case_b(flux, n_sample, rng):
-    print("(b) optics-lite sweep: perovskite-wide front gaps x thicknesses over 160 um silicon")
-    design = optics_setup()
+    print("(b) optics-lite sweep: perovskite-wide front gaps x thicknesses over 160 um silicon "
+          "(no Auger term)")
+    design = optics_setup(auger=False)
     cond = Conditions(flux, T_CELL)
     thicknesses = np.geomspace(100, 1500, 200)
     timings = {}
@@ -245,7 +250,7 @@ def case_c(b_seconds):
     for t_sun in (5000, 5500, 5772, 6000, 6500, 7000, 8000):
         for x in (0.5, 1.0, 10.0):
             spectra.append(tandem.blackbody_sun(t_sun, concentration=x))
-    design = optics_setup()
+    design = optics_setup(auger=False)
     thicknesses = np.geomspace(100, 1500, 200)
     gaps = np.linspace(1.60, 1.92, 100)
     fluxes = [s.photon_flux() for s in spectra]
