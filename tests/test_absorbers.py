@@ -201,11 +201,11 @@ def test_shipped_index_tables_equal_the_database():
     # 2017; Minenkov 2021; Green 2008; Papatryfonos 2021), and every entry a bundled file
     # names has its copy (else each run reads the database: about 2 s)
     import tandem.core.files
-    from tandem.optics.database import (SHIPPED_INDEX_ENTRIES, _CACHED_ENTRIES, database_index,
-                                        read_database_index)
+    from tandem.optics.database import (SHIPPED_INDEX_ENTRIES, database_index,
+                                        read_database_index, shipped_copy)
 
     for entry in SHIPPED_INDEX_ENTRIES:
-        assert (_CACHED_ENTRIES / ("index__" + entry.replace("/", "__") + ".npz")).is_file()
+        assert shipped_copy(entry, "index").is_file()
         cached_wl, cached_n = database_index(entry)
         fresh_wl, fresh_n = read_database_index(entry)
         np.testing.assert_array_equal(cached_wl, fresh_wl)

@@ -259,7 +259,9 @@ def _area_average(stack: LayerStack, spread: list, energy, front_thickness_nm, o
     d_front = np.atleast_1d(np.asarray(front_thickness_nm, dtype=float))
     nominal = {x.name: float(d_front[0]) if x.role == "front" else others.get(x.name, x.thickness_nm)
                for x in spread}
-    total: PhotonBudget | None = None
+    sums: dict = {}  # the weighted sums of the fixed-thickness budgets' arrays
+    parasitic: dict = {}
+    profiles: dict = {}
     for combo in itertools.product(*axes):
         offset = {name: o for name, o, _ in combo}
         weight = math.prod(w for *_, w in combo)
@@ -268,22 +270,18 @@ def _area_average(stack: LayerStack, spread: list, energy, front_thickness_nm, o
         front = np.maximum(d_front + offset.get(stack.front.name, 0.0), 0.1)
         b = photon_budget(plain, e, front, {**others, **moved}, temperature_K, depth_points,
                           angle_deg)
-        # a spread absorber's profile: at the same share of this place's thickness
-        stretch = {name: (np.asarray(nominal[name], dtype=float) + o) / nominal[name]
-                   for name, o in offset.items()}
-        profiles = {name: (z / stretch.get(name, 1.0), weight * g * stretch.get(name, 1.0))
-                    for name, (z, g) in b.profiles.items()}
-        part = PhotonBudget(e, weight * b.front, weight * b.back,
-                            {k: weight * v for k, v in b.parasitic.items()},
-                            weight * b.reflected, weight * b.transmitted, b.thickness_nm, profiles)
-        total = part if total is None else PhotonBudget(
-            e, total.front + part.front, total.back + part.back,
-            {k: total.parasitic[k] + v for k, v in part.parasitic.items()},
-            total.reflected + part.reflected, total.transmitted + part.transmitted,
-            b.thickness_nm, {k: (z, total.profiles[k][1] + g) for k, (z, g) in part.profiles.items()})
-    assert total is not None  # every spread layer has nodes
+        for key in ("front", "back", "reflected", "transmitted"):
+            sums[key] = sums.get(key, 0.0) + weight * getattr(b, key)
+        for name, v in b.parasitic.items():
+            parasitic[name] = parasitic.get(name, 0.0) + weight * v
+        for name, (z, g) in b.profiles.items():
+            # a spread absorber's profile: at the same share of this place's thickness
+            stretch = (nominal[name] + offset[name]) / nominal[name] if name in offset else 1.0
+            profiles[name] = (z / stretch, profiles.get(name, (None, 0.0))[1] + weight * g * stretch)
     back_d = nominal.get(stack.back.name, others.get(stack.back.name, stack.back.thickness_nm))
-    return replace(total, thickness_nm=(d_front, back_d[:, 0] if np.ndim(back_d) == 2 else back_d))
+    return PhotonBudget(e, sums["front"], sums["back"], parasitic, sums["reflected"],
+                        sums["transmitted"],
+                        (d_front, back_d[:, 0] if np.ndim(back_d) == 2 else back_d), profiles)
 
 
 def stack_model_notes(stack: LayerStack) -> list[str]:

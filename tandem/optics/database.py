@@ -19,11 +19,18 @@ from tandem.core.units import HC_EV_NM
 _CACHED_ENTRIES = Path(__file__).resolve().parents[1] / "data"
 
 
+def shipped_copy(entry: str, kind: str) -> Path:
+    """Where the shipped binary copy of a database entry's α (``kind`` 'alpha') or n,k
+    ('index') table lies (it may not exist)."""
+    prefix = {"alpha": "", "index": "index__"}[kind]
+    return _CACHED_ENTRIES / (prefix + entry.replace("/", "__") + ".npz")
+
+
 @functools.lru_cache(maxsize=32)
 def database_alpha(entry: str):
     """α [cm⁻¹] on an ascending energy grid [eV] for a refractive-index database entry: the
     shipped binary copy when there is one, else :func:`read_database_alpha`."""
-    cached = _CACHED_ENTRIES / (entry.replace("/", "__") + ".npz")
+    cached = shipped_copy(entry, "alpha")
     if cached.is_file():
         with np.load(cached) as data:
             return data["energy_eV"].copy(), data["alpha_per_cm"].copy()
@@ -67,7 +74,7 @@ def database_index(entry: str):
     the shipped binary copy when there is one (importing the database package and reading
     its catalogue cost about 2 s for a bundled stack's four entries), else
     :func:`read_database_index`. Cached: callers must not change the arrays."""
-    cached = _CACHED_ENTRIES / ("index__" + entry.replace("/", "__") + ".npz")
+    cached = shipped_copy(entry, "index")
     if cached.is_file():
         with np.load(cached) as data:
             return data["wavelength_nm"].copy(), data["index"].copy()

@@ -39,7 +39,7 @@ MIN_ERE = 1e-12
 
 
 def check_ere(ere: Sequence[float], n_subcells: int) -> np.ndarray:
-    """ERE values, one per subcell; one value serves all. Each must lie in (0, 1]."""
+    """ERE values, one per subcell; one value serves all. Each must lie in [MIN_ERE, 1]."""
     values = [float(x) for x in ere]
     if len(values) == 1:
         values = values * n_subcells

@@ -321,8 +321,9 @@ EXACT_EMISSION_BELOW = 1e-4
 
 
 def exact_emission_needed(perf: StackPerformance, gap_eV, temperature_K) -> np.ndarray:
-    """Where a Boltzmann result must be solved again with the exact emission (...): some
-    subcell's voltage comes within EXACT_EMISSION_BELOW of its gap (see there)."""
+    """Where a Boltzmann result must be solved again with the exact emission, elementwise
+    over the sweep: some subcell's voltage (Voc, its own or its series maximum-power point)
+    leaves e^{−(E_g − qV)/kT} above EXACT_EMISSION_BELOW (see there)."""
     t = np.asarray(temperature_K, dtype=float)
     shape = np.shape(perf.j_light)
     vt = K_B_EV * (np.broadcast_to(t, shape[:-1])[..., None] if t.ndim else t)

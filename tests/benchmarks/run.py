@@ -105,13 +105,18 @@ def ref_series_mpp(jl, j0, temperature):
     return -res.fun
 
 
-def ref_step_efficiency(flux, front, back):
-    """One point: each subcell's photocurrent once and its J0 once (the back cell emits
-    between its gap and the front's, where the front does not absorb its light)."""
+def ref_bands(flux, front, back):
+    """Each subcell's photocurrent once and its J0 once [A/m²] (the back cell emits between
+    its gap and the front's, where the front does not absorb its light)."""
     e, phi = flux.energy, flux.flux
     jl = np.array([ref_photocurrent(e, phi, front, e[-1]), ref_photocurrent(e, phi, back, front)])
     j0_front = ref_dark_current(front, T_CELL)
-    j0 = np.array([j0_front, ref_dark_current(back, T_CELL) - j0_front])
+    return jl, np.array([j0_front, ref_dark_current(back, T_CELL) - j0_front])
+
+
+def ref_step_efficiency(flux, front, back):
+    """One point: the two bands, then the series maximum-power point."""
+    jl, j0 = ref_bands(flux, front, back)
     return ref_series_mpp(jl, j0, T_CELL) / flux.irradiance
 
 
@@ -121,10 +126,7 @@ def ref_near_gap(flux, front, back):
     approximate one."""
     from tandem.physics.stack import EXACT_EMISSION_BELOW
 
-    e, phi = flux.energy, flux.flux
-    jl = np.array([ref_photocurrent(e, phi, front, e[-1]), ref_photocurrent(e, phi, back, front)])
-    j0_front = ref_dark_current(front, T_CELL)
-    j0 = np.array([j0_front, ref_dark_current(back, T_CELL) - j0_front])
+    jl, j0 = ref_bands(flux, front, back)
     vt = db.thermal_voltage(T_CELL)
     voc = vt * np.log1p(jl / j0)
     return bool(np.any(np.exp((voc - np.array([front, back])) / vt) > EXACT_EMISSION_BELOW))
