@@ -1,5 +1,6 @@
 """References the tests and the benchmark share: the radiative limit that bounds every
-efficiency the tool prints, and the yield computed the direct way."""
+efficiency the tool prints, the yield computed the direct way, and the photons of ASTM G173-03
+above a gap integrated on the standard's own wavelength grid."""
 
 import functools
 
@@ -53,3 +54,36 @@ def dense_yield(design, series, gaps, thicknesses, back_thickness_nm):
             perf = evaluate_design(design, jl, j0, t_cell, 1.0, bulk=bulk)
             e2[i] += perf.p_2t @ series.step_hours[idx] / 1000
     return e2
+
+
+def g173_from_pvlib(name: str = "am1.5g"):
+    """ASTM G173-03 (wavelength [nm], irradiance [W m⁻² nm⁻¹]) through pvlib's own reader,
+    ``pvlib.spectrum.get_reference_spectra``, not the tool's."""
+    import pvlib
+
+    table = pvlib.spectrum.get_reference_spectra(standard="ASTM G173-03")
+    column = {"am1.5g": "global", "am1.5d": "direct", "am0": "extraterrestrial"}[name]
+    return table.index.to_numpy(float), table[column].to_numpy(float)
+
+
+def wavelength_side_photons_above(wavelength_nm, irradiance, gap_eV):
+    """Photons above each gap [m⁻² s⁻¹] for a table read as linear in wavelength between its
+    rows (as ASTM G173-03 is integrated): ∫ I(λ)·λ/(hc) dλ below λg, each row interval by the
+    antiderivative of (a + bλ)·λ, the gap's own interval cut at λg. Written here apart from
+    the tool's Simpson rule, its energy grid and its constants (scipy's CODATA values)."""
+    from scipy import constants as c
+
+    hc_ev_nm = c.h * c.c / c.e * 1e9
+    wl, irr = np.asarray(wavelength_nm, float), np.asarray(irradiance, float)
+    b = np.diff(irr) / np.diff(wl)
+    a = irr[:-1] - b * wl[:-1]
+
+    def antiderivative(k, lam):
+        return a[k] * lam**2 / 2 + b[k] * lam**3 / 3
+
+    whole = antiderivative(np.arange(b.size), wl[1:]) - antiderivative(np.arange(b.size), wl[:-1])
+    below = np.concatenate(([0.0], np.cumsum(whole)))  # up to each row
+    lam_g = hc_ev_nm / np.asarray(gap_eV, float)
+    k = np.clip(np.searchsorted(wl, lam_g) - 1, 0, b.size - 1)
+    cut = below[k] + antiderivative(k, lam_g) - antiderivative(k, wl[k])
+    return cut / (hc_ev_nm * c.e)

@@ -84,10 +84,8 @@ def step_gap_map(photon_flux: PhotonFlux, front_gaps, back_gaps, temperature_K=2
     # Photons above a gap and the Bose integral from a gap depend on one gap only: computed once
     # per axis, and each pair's band (front: above its gap; back: between the two) is a
     # difference of them, exactly as step_stack forms it pair by pair.
-    energy, flux = photon_flux.energy, photon_flux.flux
-    cumulative = db.cumulative_flux(energy, flux)
-    above_f = db.flux_above(energy, flux, front_gaps, cumulative)
-    above_b = db.flux_above(energy, flux, back_gaps, cumulative)
+    above_f = photon_flux.count_above(front_gaps)
+    above_b = photon_flux.count_above(back_gaps)
     j0_f = db.step_radiative_dark_current(front_gaps, temperature_K)
     j0_b = db.step_radiative_dark_current(back_gaps, temperature_K)
     share = np.broadcast_to(np.asarray(absorbed_share, dtype=float), (2,))

@@ -100,7 +100,7 @@ def check_receives_light(j_light, photon_flux: PhotonFlux, what: Sequence[str]) 
     ``j_light`` holds the best photocurrent each subcell reaches [A/m²] (subcells on the last
     axis), ``what`` a description of each subcell for the message.
     """
-    total = db.Q * float(db.cumulative_flux(photon_flux.energy, photon_flux.flux)[-1])
+    total = db.Q * float(photon_flux.running_count()[-1])
     best = np.max(np.reshape(j_light, (-1, len(what))), axis=0)
     for j, name in zip(best, what):
         if not j > DARK_SHARE * total:

@@ -104,6 +104,7 @@ def flux_above(energy_eV, flux, gap_eV, cumulative=None):
 
     Exact for the piecewise-linear interpolant of Φ, so a gap between grid points gets
     its partial interval, and the result agrees with the trapezoid rule at grid points.
+    (:meth:`PhotonFlux.count_above` is exact for the spectrum a flux came from.)
 
     Examples
     --------
@@ -124,7 +125,7 @@ def flux_above(energy_eV, flux, gap_eV, cumulative=None):
     return cumulative[-1] - (cumulative[i] + partial)
 
 
-def step_photocurrent(photon_flux, gap_eV, upper_gap_eV=None, cumulative=None):
+def step_photocurrent(photon_flux, gap_eV, upper_gap_eV=None):
     """Photocurrent [A/m²] of a step absorber (a = 1 above the gap, 0 below).
 
     With ``upper_gap_eV`` the absorber sees only photons between the two gaps, as the back
@@ -137,12 +138,9 @@ def step_photocurrent(photon_flux, gap_eV, upper_gap_eV=None, cumulative=None):
     >>> round(float(tandem.step_photocurrent(flux, 1.12)) / 10, 1)  # mA/cm²
     43.8
     """
-    e, phi = photon_flux.energy, photon_flux.flux
-    if cumulative is None:
-        cumulative = cumulative_flux(e, phi)
-    current = flux_above(e, phi, gap_eV, cumulative)
+    current = photon_flux.count_above(gap_eV)
     if upper_gap_eV is not None:
-        current = current - flux_above(e, phi, upper_gap_eV, cumulative)
+        current = current - photon_flux.count_above(upper_gap_eV)
     return Q * current
 
 

@@ -84,10 +84,7 @@ class Spectrum:
         ∫ I(λ)·λ/(hc) dλ: the integrand is quadratic on each interval, so Simpson's rule
         is exact there.
         """
-        wl, irr = self.wavelength_nm, self.irradiance
-        mid = 0.5 * (wl[1:] + wl[:-1])
-        f0, f1, fm = irr[:-1] * wl[:-1], irr[1:] * wl[1:], 0.5 * (irr[1:] + irr[:-1]) * mid
-        return float(np.sum(np.diff(wl) / 6.0 * (f0 + 4.0 * fm + f1)) / (HC_EV_NM * Q))
+        return float(np.sum(interval_photons(self.wavelength_nm, self.irradiance)))
 
     def photon_flux(self, tolerance: float = 5e-7) -> PhotonFlux:
         """The same light as photon flux per energy on an ascending energy grid.
@@ -104,11 +101,16 @@ class Spectrum:
         Φ(E) = I(λ)·λ/(hc)·|dλ/dE| with |dλ/dE| = hc/E².
         """
         wavelength = conserving_grid(self.wavelength_nm, self.irradiance, tolerance)
-        energy, flux = to_energy(wavelength, np.interp(wavelength, self.wavelength_nm,
-                                                        self.irradiance))
+        irradiance = np.interp(wavelength, self.wavelength_nm, self.irradiance)
+        energy, flux = to_energy(wavelength, irradiance)
+        # the grid's points lie on the piecewise-linear spectrum, so each energy interval's
+        # photons are known exactly from the wavelength side
+        cumulative = np.concatenate(([0.0], np.cumsum(interval_photons(wavelength,
+                                                                        irradiance)[::-1])))
         notes = self.notes
         if energy[0] > EMISSION_FLOOR_EV * (1 + 1e-9):
             energy, flux = dark_below(energy, flux)
+            cumulative = np.concatenate((np.zeros(energy.size - cumulative.size), cumulative))
             notes += (f"the spectrum ends at {self.wavelength_nm[-1]:g} nm "
                       f"({HC_EV_NM / self.wavelength_nm[-1]:.3f} eV); its flux is "
                       "taken as zero below that, so a gap there absorbs the whole spectrum",)
@@ -118,7 +120,25 @@ class Spectrum:
             flux=flux,
             irradiance=self.integrated_irradiance,
             notes=notes,
+            cumulative=cumulative,
         )
+
+
+def interval_photons(wavelength_nm, irradiance) -> np.ndarray:
+    """Photons in each interval of a piecewise-linear spectrum, exactly [m⁻² s⁻¹].
+
+    ∫ I(λ)·λ/(hc) dλ: the integrand is quadratic on each interval, so Simpson's rule is
+    exact there.
+    """
+    wl, irr = np.asarray(wavelength_nm, float), np.asarray(irradiance, float)
+    return _simpson_photons(wl[:-1], wl[1:], irr[:-1], irr[1:])
+
+
+def _simpson_photons(lam0, lam1, irr0, irr1):
+    """Photons between λ₀ and λ₁ with the irradiance linear in between [m⁻² s⁻¹]."""
+    f0, f1 = irr0 * lam0, irr1 * lam1
+    fm = 0.5 * (irr0 + irr1) * 0.5 * (lam0 + lam1)
+    return (lam1 - lam0) / 6.0 * (f0 + 4.0 * fm + f1) / (HC_EV_NM * Q)
 
 
 #: Lowest energy every photon-flux grid reaches [eV] (4,000 nm, where ASTM G173-03 ends): the
@@ -217,6 +237,10 @@ class PhotonFlux:
         Incident power used as the efficiency denominator [W/m²].
     notes : tuple of str
         Changes made to the source spectrum (scaling, concentration).
+    cumulative : ndarray or None
+        Photons from the grid's first point up to each point [m⁻² s⁻¹], exact for the
+        piecewise-linear spectrum the flux came from (its wavelength-side integral); None
+        for a flux given only on energies, whose running count is the trapezoid rule's.
 
     Examples
     --------
@@ -231,6 +255,46 @@ class PhotonFlux:
     flux: np.ndarray
     irradiance: float
     notes: tuple[str, ...] = field(default=())
+    cumulative: np.ndarray | None = field(default=None, repr=False)
+
+    def running_count(self) -> np.ndarray:
+        """Photons from the first grid point up to each point [m⁻² s⁻¹] (see ``cumulative``)."""
+        if self.cumulative is not None:
+            return self.cumulative
+        from tandem.physics.detailed_balance import cumulative_flux
+
+        return cumulative_flux(self.energy, self.flux)
+
+    def count_above(self, gap_eV) -> np.ndarray:
+        """Photons above each gap [m⁻² s⁻¹]: a step absorber's photon current.
+
+        For a flux made from a spectrum, exact for that piecewise-linear spectrum: whole
+        intervals from ``cumulative``, the gap's partial interval in closed form on the
+        wavelength side (each interval of the grid lies inside one interval of the spectrum,
+        so the irradiance is linear in wavelength there). Otherwise the trapezoid rule's
+        count (:func:`~tandem.physics.detailed_balance.flux_above`).
+
+        Examples
+        --------
+        >>> import tandem
+        >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
+        >>> f'{float(flux.count_above(1.12)):.4g}'
+        '2.734e+21'
+        """
+        from tandem.physics.detailed_balance import flux_above
+
+        if self.cumulative is None:
+            return flux_above(self.energy, self.flux, gap_eV)
+        e, c = self.energy, self.cumulative
+        gap = np.asarray(gap_eV, dtype=float)
+        i = np.clip(np.searchsorted(e, gap, side="right") - 1, 0, e.size - 2)
+        # the interval's ends on the wavelength side, I = Φ·E³·q/hc (the inverse of to_energy)
+        lam_top, lam_low = HC_EV_NM / e[i + 1], HC_EV_NM / e[i]
+        irr_top, irr_low = (self.flux[j] * e[j] ** 3 * Q / HC_EV_NM for j in (i + 1, i))
+        lam_gap = np.clip(HC_EV_NM / gap, lam_top, lam_low)
+        irr_gap = irr_top + (irr_low - irr_top) * (lam_gap - lam_top) / (lam_low - lam_top)
+        partial = _simpson_photons(lam_gap, lam_low, irr_gap, irr_low)  # from E_i up to the gap
+        return c[-1] - c[i] - np.clip(partial, 0.0, c[i + 1] - c[i])
 
     def check_gap(self, gap_eV, what: str = "gap") -> None:
         """Raise :class:`TandemInputError` unless every gap lies inside the grid."""

@@ -428,12 +428,12 @@ def _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, emission, irradi
 
 def reference_current_above(gap_eV) -> np.ndarray:
     """q∫Φ dE above each gap under AM1.5G at 1 sun, on its own grid (exact for its
-    piecewise-linear flux) [A/m²]: a step absorber's photocurrent where its ERE is stated.
+    piecewise-linear spectrum) [A/m²]: a step absorber's photocurrent where its ERE is stated.
     Zero for a gap at or above the spectrum's top (infinity included)."""
     from tandem.physics.spectra import reference_flux
 
     ref = reference_flux()
-    return db.Q * db.flux_above(ref.energy, ref.flux, np.minimum(gap_eV, ref.energy[-1]))
+    return db.Q * ref.count_above(np.minimum(gap_eV, ref.energy[-1]))
 
 
 def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1.0,
@@ -458,11 +458,10 @@ def step_stack(photon_flux: PhotonFlux, gaps, temperature_K, ere=1.0, ideality=1
     (45.04, 45.05)
     """
     gaps = np.asarray(gaps, dtype=float)
-    cumulative = db.cumulative_flux(photon_flux.energy, photon_flux.flux)
     upper = np.concatenate([np.full(gaps.shape[:-1] + (1,), np.inf), gaps[..., :-1]], axis=-1)
     upper_finite = np.where(np.isinf(upper), photon_flux.energy[-1], upper)
     share = np.asarray(absorbed_share, dtype=float)
-    j_light = db.step_photocurrent(photon_flux, gaps, upper_finite, cumulative) * share
+    j_light = db.step_photocurrent(photon_flux, gaps, upper_finite) * share
     j0_rad = db.step_radiative_dark_current(gaps, temperature_K, upper) * share
     reference = None
     if ideality != 1.0:  # each band's photons under AM1.5G, where the ERE is stated
