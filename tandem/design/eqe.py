@@ -123,8 +123,20 @@ def _merged(flux: PhotonFlux, m: MeasuredEQE) -> np.ndarray:
 
 
 def photocurrent(flux: PhotonFlux, m: MeasuredEQE) -> float:
-    """q∫EQE·Φ dE [A/m²], exact for the piecewise-linear EQE and spectrum (Simpson)."""
+    """q∫EQE·Φ dE [A/m²], exact for the EQE linear in energy between its points (Simpson).
+
+    For a flux made from a spectrum, exact for that spectrum, linear in wavelength between
+    its rows: on each interval EQE = α + β/λ and I = c + dλ, so the photons per nm,
+    EQE·I·λ/hc, are a quadratic in λ and Simpson's rule in wavelength is exact. Otherwise
+    the flux is read as linear in energy and the rule runs in energy.
+    """
     e = _merged(flux, m)
+    if flux.cumulative is not None:
+        lam = HC_EV_NM / e[::-1]
+        mid = 0.5 * (lam[1:] + lam[:-1])
+        f = m.at(HC_EV_NM / lam) * flux.irradiance_at(lam) * lam
+        fm = m.at(HC_EV_NM / mid) * flux.irradiance_at(mid) * mid
+        return float(np.sum(np.diff(lam) / 6.0 * (f[:-1] + 4 * fm + f[1:])) / HC_EV_NM)
     mid = 0.5 * (e[1:] + e[:-1])
     f = m.at(e) * np.interp(e, flux.energy, flux.flux)
     fm = m.at(mid) * np.interp(mid, flux.energy, flux.flux)

@@ -177,6 +177,11 @@ def _front_current_at(result: MatchResult, thickness_nm: float) -> float:
 
 
 def absorber_figure(absorber, path, overwrite: bool = False) -> Path:
+    """Write :func:`draw_absorber` to ``path`` (PNG or SVG), whole or not at all."""
+    return save_figure(draw_absorber(absorber), path, overwrite)
+
+
+def draw_absorber(absorber) -> Figure:
     """Absorption coefficient against wavelength, log scale."""
     wl = np.linspace(300, 1400, 1101)
     fig, ax = plt.subplots(figsize=(6, 4))
@@ -189,7 +194,7 @@ def absorber_figure(absorber, path, overwrite: bool = False) -> Path:
     ax.set_title(absorber.name)
     ax.legend()
     ax.grid(alpha=0.3, which="both")
-    return save_figure(fig, path, overwrite)
+    return fig
 
 
 def draw_map(gap_map, terminals, tolerance_pct=1.0, marks=(), ax=None) -> Figure:

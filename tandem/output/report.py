@@ -69,7 +69,7 @@ def design_summary(result: DesignResult) -> dict:
     >>> flux = tandem.reference_spectrum('am1.5g').photon_flux()
     >>> s = tandem.design_summary(tandem.detailed_balance_limit([1.34], flux, temperature_K=300.0))
     >>> s['efficiency_pct'], s['limiting_subcell']
-    (33.6789, None)
+    (33.6788, None)
     """
     perf = result.performance
     irr = perf.irradiance
