@@ -1,0 +1,166 @@
+"""Does the suite catch a physically meaningful slip? A mutation run past the engine.
+
+Run on demand (not part of the suite; about half an hour on the 2-core machine):
+
+    python tests/benchmarks/mutations.py            # every mutation below
+    python tests/benchmarks/mutations.py sky-step   # the named ones
+
+Each mutation is one edit a careless change could make (a unit, a sign, a factor, an input
+ignored, a bracket on one side), applied to a scratch copy of the checkout (a git worktree of
+HEAD). The tests most likely to see it run first (``-x``, stopping at the first failure); a
+mutation they miss is run against the whole suite before it counts as missed. The list was
+written from the physics before it was run, not from the tests; it prints one line per
+mutation and the share caught.
+"""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+
+#: (name, file, text, replacement, what it breaks, the tests to try first)
+MUTATIONS = [
+    ("sky-step", "tandem/design/sky.py",
+     "(times[1] - times[0]).total_seconds() / 3600", "(times[1] - times[0]).total_seconds() / 60",
+     "clear-sky step length in minutes where hours are meant", "test_sky_yield test_dependences"),
+    ("sky-horizon", "tandem/design/sky.py", 'up = (pos["apparent_zenith"] < 90)',
+     'up = (pos["apparent_zenith"] < 80)', "the sun dropped below 10° elevation",
+     "test_sky_yield test_dependences"),
+    ("sky-wind", "tandem/design/sky.py", "sapm_cell(poa_W_m2, ambient_C, wind_m_s,",
+     "sapm_cell(poa_W_m2, ambient_C, 0 * wind_m_s,", "wind ignored in the cell temperature",
+     "test_sky_yield test_dependences"),
+    ("sky-midstep", "tandem/design/sky.py", "pd.date_range(start + step / 2, end,",
+     "pd.date_range(start, end,", "steps stamped at their start, not their middle",
+     "test_sky_yield test_dependences"),
+    ("rear-bifaciality", "tandem/design/sky.py", "return rows.bifaciality * np.where(",
+     "return np.where(", "the rows' bifaciality dropped from the rear light",
+     "test_region test_sky_yield test_dependences"),
+    ("weather-swap", "tandem/design/weather.py",
+     'data["dni"].to_numpy(), data["ghi"].to_numpy(), data["dhi"].to_numpy(),',
+     'data["dhi"].to_numpy(), data["ghi"].to_numpy(), data["dni"].to_numpy(),',
+     "a weather file's direct and diffuse columns swapped", "test_region test_sky_yield"),
+    ("weather-step", "tandem/design/weather.py",
+     "step_h = float(np.median(_hours_between(times))) if times.size > 1 else 1.0",
+     "step_h = 1.0", "a weather file's step taken as one hour", "test_region test_sky_yield"),
+    ("cover-direct", "tandem/design/cover.py",
+     "direct = np.nan_to_num(pvlib.iam.physical(aoi, n=cover_index), nan=0.0)",
+     "direct = np.ones_like(aoi)", "the cover's angular loss of direct light dropped",
+     "test_sky_yield test_dependences"),
+    ("spread-gap", "tandem/design/scatter.py",
+     "gaps = front_gap + gap_sigma_eV * rng.standard_normal(samples)",
+     "gaps = front_gap + 0.5 * gap_sigma_eV * rng.standard_normal(samples)",
+     "the gap spread halved", "test_dependences test_cli_design test_api"),
+    ("spread-thickness", "tandem/design/scatter.py", "(1 + sigma_pct / 100 * rng",
+     "(1 + sigma_pct / 1000 * rng", "the thickness spread's percent read as per mille",
+     "test_dependences test_cli_design test_api"),
+    ("spread-percentiles", "tandem/design/scatter.py", "np.percentile(eff, [10, 50, 90])",
+     "np.percentile(eff, [5, 50, 95])", "the 10th/90th percentiles reported as 5th/95th",
+     "test_dependences test_cli_design test_figures_content"),
+    ("best-thickness-bracket", "tandem/design/matching.py",
+     "lo, hi = d_grid[max(i - 1, 0)], d_grid[min(i + 1, d_grid.size - 1)]",
+     "lo, hi = d_grid[i], d_grid[min(i + 1, d_grid.size - 1)]",
+     "the best thickness refined on one side of the grid maximum only",
+     "test_dependences test_one_path test_api"),
+    ("matched-root", "tandem/design/matching.py",
+     "root = optimize.brentq(f, d_grid[i - 1], d_grid[i], xtol=1e-6 * d_grid[i], rtol=1e-10)",
+     "root = d_grid[i]", "the matched thickness taken at a grid point, not solved",
+     "test_dependences test_one_path test_api"),
+    ("window-floor", "tandem/design/matching.py", "floor = y[i] - loss",
+     "floor = y[i] - 2 * loss", "the tolerance window at twice the stated loss",
+     "test_dependences test_cli_design test_api"),
+    ("order-verdict", "tandem/design/matching.py",
+     "winner, loser = (f, k) if a >= b else (k, f)", "winner, loser = (k, f) if a >= b else (f, k)",
+     "the order verdict names the worse order", "test_dependences test_cli_design test_api"),
+    ("gap-shift-note", "tandem/design/matching.py",
+     "float(front_gap_eV + front.gap_shift_eV(temperature_K))",
+     "float(front_gap_eV - front.gap_shift_eV(temperature_K))",
+     "the front gap at temperature shifted the wrong way (reported gap)",
+     "test_dependences test_cli_design test_api"),
+    ("carnot", "tandem/design/breakdown.py", "gaps * temperature_K / t_sun * j",
+     "gaps * t_sun / temperature_K * j", "the Carnot factor inverted", "test_breakdown"),
+    ("boltzmann-concentration", "tandem/design/breakdown.py",
+     "np.log(1.0 / (concentration * SUN_DILUTION))", "np.log(1.0 / SUN_DILUTION)",
+     "the Boltzmann loss ignores concentration", "test_breakdown"),
+    ("eqe-tail", "tandem/design/eqe.py", "np.exp(np.minimum(e - low_e, 0.0) / self.urbach_eV)",
+     "np.exp(np.minimum(e - low_e, 0.0) / (2 * self.urbach_eV))",
+     "a measured EQE's tail twice as wide as fitted", "test_eqe"),
+    ("eqe-ere", "tandem/design/eqe.py",
+     "np.exp(-(voc_rad - voc_measured) / (K_B_EV * temperature_K))",
+     "np.exp(-(voc_rad - voc_measured) / (2 * K_B_EV * temperature_K))",
+     "the ERE from a measured Voc with an ideality of 2", "test_eqe"),
+    ("eqe-transmission-unit", "tandem/design/eqe.py",
+     "np.exp(-alpha * (new_thickness_nm - thickness_nm) * 1e-7)",
+     "np.exp(-alpha * (new_thickness_nm - thickness_nm) * 1e-6)",
+     "the front's added thickness in the wrong length unit", "test_eqe"),
+    ("yield-4t", "tandem/design/yields.py", "e4[i] += perf.p_4t @ hours / 1000.0",
+     "e4[i] += perf.p_2t @ hours / 1000.0", "four-terminal energy counted as two-terminal",
+     "test_sky_yield test_dependences"),
+    ("yield-j0-temperature", "tandem/design/yields.py",
+     "return np.where(positive, np.exp(logs @ weights.T), 0.0)",
+     "return np.where(positive, np.exp(logs[..., :1] + 0 * logs @ weights.T), 0.0)",
+     "J0 taken at one temperature node for every step of a bin",
+     "test_sky_yield test_dependences"),
+    ("concentration-ignored", "tandem/physics/spectra.py",
+     'spectrum = scaled(spectrum, concentration, f"concentrated {concentration:g}×")',
+     "spectrum = spectrum", "concentration ignored for reference and file spectra",
+     "test_dependences test_spectra test_cli_limit"),
+    ("celsius", "tandem/jobs/inputs.py", 'kelvin = t + 273.15 if unit == "C" else t',
+     'kelvin = t + 273.0 if unit == "C" else t', "°C converted with 273 instead of 273.15",
+     "test_units test_cli_limit test_api"),
+    ("fingerprint-path", "tandem/jobs/fingerprints.py",
+     "hashlib.sha256(Path(path).read_bytes()).hexdigest()",
+     "hashlib.sha256(str(path).encode()).hexdigest()",
+     "an input file fingerprinted by its path, not its content", "test_region"),
+    ("fingerprint-step", "tandem/jobs/region.py", '"step": self.step_minutes, ', "",
+     "the region fingerprint misses the time step", "test_region"),
+    ("study-variant-temperature", "tandem/study/run.py",
+     'temperature_K=float(variant.get("temperature_K", cond.temperature_K)),',
+     "temperature_K=float(cond.temperature_K),", "a study variant's temperature ignored",
+     "test_study"),
+]
+
+
+def run(paths: list[str], where: Path, stop_first: bool = True) -> int:
+    cmd = [sys.executable, "-m", "pytest", "-q", "-p", "no:cacheprovider", "-p", "no:randomly",
+           "-n", "2", *(["-x"] if stop_first else []), *paths]
+    return subprocess.run(cmd, cwd=where, env={**__import__("os").environ, "PYTHONPATH": str(where)},
+                          stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL).returncode
+
+
+def main(names: list[str]) -> None:
+    chosen = [m for m in MUTATIONS if not names or m[0] in names]
+    caught = 0
+    with tempfile.TemporaryDirectory() as scratch:
+        where = Path(scratch) / "tree"
+        subprocess.run(["git", "worktree", "add", "-q", "--detach", str(where), "HEAD"], cwd=ROOT,
+                       check=True)
+        try:
+            for name, file, text, replacement, what, tests in chosen:
+                path = where / file
+                source = path.read_text(encoding="utf-8")
+                if source.count(text) != 1:
+                    print(f"{name:<28} NOT APPLIED: the text occurs {source.count(text)} times")
+                    continue
+                path.write_text(source.replace(text, replacement), encoding="utf-8")
+                t0 = time.perf_counter()
+                code = run([f"tests/{t}.py" for t in tests.split()], where)
+                how = "first tests"
+                if code == 0:
+                    code, how = run(["tests"], where, stop_first=True), "whole suite"
+                path.write_text(source, encoding="utf-8")
+                verdict = "caught" if code == 1 else "MISSED" if code == 0 else f"exit {code}"
+                caught += code == 1
+                print(f"{name:<28} {verdict:<7} ({how}, {time.perf_counter() - t0:5.0f} s)  {what}",
+                      flush=True)
+        finally:
+            subprocess.run(["git", "worktree", "remove", "--force", str(where)], cwd=ROOT)
+    print(f"caught {caught} of {len(chosen)} ({100 * caught / max(len(chosen), 1):.0f} %)")
+
+
+if __name__ == "__main__":
+    main(sys.argv[1:])
