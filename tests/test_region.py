@@ -278,12 +278,47 @@ def test_a_bad_scheduler_address_is_one_line_and_leaves_nothing(address, sites, 
     assert not (tmp_path / "r").exists()
 
 
+def test_a_client_of_your_own_streams_the_sites_and_stays_open(sites, day_job, tmp_path,
+                                                               monkeypatch):
+    # One site in flight at a time through a cluster the caller opened: every site computed,
+    # the same numbers as the serial run, the job sent once, and the client still usable.
+    from dask.distributed import Client, LocalCluster
+
+    import tandem.jobs.region_cluster as cluster
+
+    sent, submitted, in_flight = [], [], []
+    with LocalCluster(n_workers=1, threads_per_worker=1, processes=False,
+                      dashboard_address=None) as local, Client(local) as client:
+        scatter, submit = client.scatter, client.submit
+
+        def counted_scatter(data, **kw):
+            sent.append(data)
+            return scatter(data, **kw)
+
+        def counted_submit(fn, *args, **kw):
+            in_flight.append(sum(f.status == "pending" for f in submitted))
+            future = submit(fn, *args, **kw)
+            submitted.append(future)
+            return future
+
+        monkeypatch.setattr(client, "scatter", counted_scatter)
+        monkeypatch.setattr(client, "submit", counted_submit)
+        monkeypatch.setattr(cluster, "SITES_IN_FLIGHT_PER_WORKER", 1)
+        streamed = run_region(sites[:3], day_job, tmp_path / "own", scheduler=client)
+        assert client.status == "running"
+        assert client.submit(sum, [1, 2]).result() == 3
+    serial = run_region(sites[:3], day_job, tmp_path / "serial", workers=1)
+    pd.testing.assert_frame_equal(numbers(streamed), numbers(serial))
+    assert len(sent) == 1 and sum(str(f.key).startswith("site_year") for f in submitted) == 3
+    assert max(in_flight) == 0  # each site went out after the one before it came back
+
+
 def test_an_unanswering_scheduler_leaves_no_folder_behind(sites, job, tmp_path, monkeypatch):
     import socket
 
-    import tandem.jobs.region as region
+    import tandem.jobs.region_cluster as cluster
 
-    monkeypatch.setattr(region, "SCHEDULER_TIMEOUT_S", 2)  # the wait, not the refusal, is long
+    monkeypatch.setattr(cluster, "SCHEDULER_TIMEOUT_S", 2)  # the wait, not the refusal, is long
 
     with socket.socket() as s:  # a free port nobody listens on
         s.bind(("127.0.0.1", 0))

@@ -15,7 +15,6 @@ import csv
 import hashlib
 import json
 import math
-import os
 import re
 from dataclasses import asdict, dataclass, field, replace
 from pathlib import Path
@@ -36,7 +35,6 @@ if TYPE_CHECKING:  # for annotations only: no import cost at run time
     from tandem.design.sky import Rows
     from tandem.design.yields import StackYield
 
-SCHEDULER_TIMEOUT_S = 20  #: how long to wait for a scheduler to answer
 SITE_COLUMNS = ("name", "latitude", "longitude", "altitude_m", "timezone", "weather")
 _NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 ._+-]{0,63}$")
 
@@ -430,20 +428,25 @@ class RegionResult(ResultDisplay):
 
 
 def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
-               scheduler: str | None = None, workers: int | None = None,
+               scheduler=None, workers: int | None = None,
                progress: Callable[[int, int], None] | None = None,
                overwrite: bool = False) -> RegionResult:
     """Every site's energy-optimal design, written to ``folder`` as each site finishes.
 
     ``workers`` 1 runs in this process; otherwise a ``dask.distributed`` local cluster of
-    ``workers`` processes (default: the machine's cores), or the cluster at ``scheduler``.
+    ``workers`` processes (default: the machine's cores), or the cluster at ``scheduler``: an
+    address (``tcp://HOST:PORT``), or a ``dask.distributed.Client`` you opened, which is used
+    and left open. Sites go out a few per worker at a time, the job once per worker, so the
+    client and the scheduler hold a bounded number of tasks for any number of sites.
     Finished sites with unchanged inputs are read back from ``folder`` (a resumed run);
     ``overwrite`` replaces what tandem wrote there and recomputes every site.
     """
     folder = Path(folder)
     if not sites:
         raise TandemInputError("the region has no sites")
-    if scheduler is not None:
+    if isinstance(scheduler, str):
+        from tandem.jobs.region_cluster import check_scheduler_address
+
         check_scheduler_address(scheduler)
     reason = region_folder_reason(folder, job, overwrite)
     if reason:
@@ -495,8 +498,10 @@ def _run_locked(sites, job, folder, scheduler, workers, progress, overwrite, cre
         for spec in todo:
             finished(spec, site_year(spec, job))
     elif todo:
+        from tandem.jobs.region_cluster import _run_distributed
+
         try:
-            _run_distributed(todo, job, scheduler, workers, finished)
+            _run_distributed(todo, job, scheduler, workers, finished, site_year)
         except TandemInputError:
             if created and not computed:  # nothing of this run to resume: leave no folder
                 import shutil
@@ -528,49 +533,3 @@ def write_region_outputs(result: RegionResult, grids: bool = False) -> list[Path
         folder / "region.csv": lambda tmp: write_csv(frame, tmp),
         folder / "region.png": lambda tmp: savefig(figure, tmp, "png"),
     }, overwrite=True)
-
-
-def check_scheduler_address(address: str) -> None:
-    """A dask scheduler address as ``tcp://HOST:PORT`` or ``tls://HOST:PORT``, or one line
-    saying so (before any folder is made or connection tried)."""
-    from urllib.parse import urlsplit
-
-    try:
-        parts = urlsplit(str(address))
-        port = parts.port
-    except ValueError:
-        port, parts = None, None
-    if (parts is None or parts.scheme not in ("tcp", "tls") or not parts.hostname
-            or port is None or parts.path not in ("", "/") or parts.query or parts.username):
-        raise TandemInputError(f"--scheduler '{address}': give tcp://HOST:PORT (or tls://HOST:PORT "
-                               "with certificates in dask's configuration), e.g. "
-                               "tcp://10.0.0.5:8786")
-
-
-def _run_distributed(todo, job, scheduler, workers, finished) -> None:
-    import dask
-    from dask.distributed import Client, LocalCluster, as_completed
-
-    if scheduler:
-        try:
-            client = Client(scheduler, timeout=f"{SCHEDULER_TIMEOUT_S}s")
-        except OSError as exc:
-            raise TandemInputError(f"no dask scheduler answers at '{scheduler}' ({exc}); check "
-                                   "the address, e.g. tcp://10.0.0.5:8786") from None
-        cluster = None
-    else:
-        n = workers or os.cpu_count() or 1
-        # dask's workers start with MALLOC_TRIM_THRESHOLD_=65536, which turns every large
-        # numpy allocation into fresh pages: a site-year took 0.72 s instead of 0.46 s
-        with dask.config.set({"distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None}):
-            cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
-                                   dashboard_address=None, silence_logs=40)
-        client = Client(cluster)
-    try:
-        futures = {client.submit(site_year, spec, job, pure=False): spec for spec in todo}
-        for future in as_completed(futures):
-            finished(futures[future], future.result())
-    finally:
-        client.close()
-        if cluster is not None:
-            cluster.close()

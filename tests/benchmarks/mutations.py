@@ -153,8 +153,9 @@ def main(names: list[str]) -> None:
                 if code == 0:
                     code, how = run(["tests"], where, stop_first=True), "whole suite"
                 path.write_text(source, encoding="utf-8")
-                verdict = "caught" if code == 1 else "MISSED" if code == 0 else f"exit {code}"
-                caught += code == 1
+                # 1: a test failed; 2: pytest-xdist stopped the run at that failure (-x)
+                verdict = "caught" if code in (1, 2) else "MISSED" if code == 0 else f"exit {code}"
+                caught += code in (1, 2)
                 print(f"{name:<28} {verdict:<7} ({how}, {time.perf_counter() - t0:5.0f} s)  {what}",
                       flush=True)
         finally:
