@@ -313,6 +313,72 @@ def test_a_client_of_your_own_streams_the_sites_and_stays_open(sites, day_job, t
     assert max(in_flight) == 0  # each site went out after the one before it came back
 
 
+def test_a_cluster_that_goes_away_ends_in_one_line_and_the_run_resumes(sites, day_job, tmp_path):
+    # the scheduler and its worker stop after the first site is stored: one line saying how far
+    # the run got, that site kept, and the same command (here serial) finishing the rest
+    import dask
+    from dask.distributed import Client, LocalCluster
+
+    folder = tmp_path / "r"
+    with dask.config.set({"distributed.comm.timeouts.connect": "2s"}):
+        local = LocalCluster(n_workers=1, threads_per_worker=1, processes=False,
+                             dashboard_address=None)
+        client = Client(local)
+
+        def stop_after_first(done, total):
+            if done == 1:
+                local.close()
+
+        try:
+            with pytest.raises(tandem.TandemInputError,
+                               match=r"stopped answering after 1 of 3 sites .*run the same command again"):
+                run_region(sites[:3], day_job, folder, scheduler=client, progress=stop_after_first)
+        finally:
+            client.close()
+    assert len(list((folder / "sites").glob("*.json"))) == 1
+    resumed = run_region(sites[:3], day_job, folder, workers=1)
+    assert len(resumed.reused) == 1 and len(resumed.computed) == 2
+
+
+def test_a_cluster_without_workers_gives_up_in_one_line(sites, day_job, tmp_path, monkeypatch):
+    from dask.distributed import Client, LocalCluster
+
+    import tandem.jobs.region_cluster as cluster
+
+    monkeypatch.setattr(cluster, "NO_WORKERS_TIMEOUT_S", 1)
+    with LocalCluster(n_workers=0, processes=False, dashboard_address=None) as local, \
+            Client(local) as client:
+        with pytest.raises(tandem.TandemInputError, match="has had no worker for 1 s; start workers"):
+            run_region(sites[:2], day_job, tmp_path / "r", scheduler=client)
+    assert not (tmp_path / "r").exists()  # nothing computed, nothing left behind
+
+
+def test_ctrl_c_on_a_two_worker_region_is_one_line_and_keeps_the_finished_sites(tmp_path):
+    # Ctrl-C reaches the whole process group, the workers too: once each worker printed its own
+    # KeyboardInterrupt traceback, and the command printed nothing of its own
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    (tmp_path / "s.csv").write_text(SITES)
+    run = subprocess.Popen([sys.executable, "-m", "tandem", "region", "perovskite-wide", "silicon",
+                            "--sites", "s.csv", "--period", "month:2026-06", "--workers", "2",
+                            "--out", "r"], cwd=tmp_path, stdout=subprocess.PIPE,
+                           stderr=subprocess.PIPE, start_new_session=True,
+                           env={**os.environ, "PYTHONPATH": str(Path(tandem.__file__).parents[1])})
+    start = time.monotonic()
+    while not list((tmp_path / "r" / "sites").glob("*.json")) and time.monotonic() - start < 240:
+        time.sleep(0.1)
+    os.killpg(run.pid, signal.SIGINT)  # as a terminal does
+    _, err = run.communicate(timeout=120)
+    lines = [line for line in err.decode().replace("\r", "\n").splitlines() if line.strip()]
+    assert run.returncode == 130 and lines[-1:] == ["interrupted"], err.decode()[-3000:]
+    assert "Traceback" not in err.decode()
+    kept = list((tmp_path / "r" / "sites").glob("*.json"))
+    assert 1 <= len(kept) < 5
+
+
 def test_an_unanswering_scheduler_leaves_no_folder_behind(sites, job, tmp_path, monkeypatch):
     import socket
 

@@ -545,8 +545,9 @@ def run_app(app) -> None:
                   soft_wrap=True)
         sys.exit(2)
     except (KeyboardInterrupt, getattr(click.exceptions, "Abort", KeyboardInterrupt)):
+        code = 130
+    if code == 130:  # Ctrl-C: click itself may catch it and hand back 130, silently
         err.print("interrupted")
-        sys.exit(130)
     sys.exit(code if isinstance(code, int) else 0)
 
 

@@ -40,6 +40,25 @@ def _run_distributed(todo, job, scheduler, workers, finished, task) -> None:
     if scheduler is not None and not isinstance(scheduler, str):  # a Client the caller owns
         _stream_sites(scheduler, todo, job, finished, task)
         return
+    # dask logs its own view of a lost scheduler (reconnect tracebacks) before the one line
+    # this run ends with; a cluster tandem connects to or starts reports through that line
+    import logging
+
+    handlers = {h for name, logger in logging.root.manager.loggerDict.items()  # dask's printers
+                if name.split(".")[0] == "distributed" and isinstance(logger, logging.Logger)
+                for h in logger.handlers}
+    levels = [h.level for h in handlers]
+    for h in handlers:
+        h.setLevel(logging.CRITICAL + 1)
+    try:
+        _run_own_client(todo, job, scheduler, workers, finished, task, Client, LocalCluster, dask)
+    finally:
+        for h, level in zip(handlers, levels):
+            h.setLevel(level)
+
+
+def _run_own_client(todo, job, scheduler, workers, finished, task, Client, LocalCluster, dask):
+    """:func:`_run_distributed` on a client this run opens (and closes)."""
     if scheduler:
         try:
             client = Client(scheduler, timeout=f"{SCHEDULER_TIMEOUT_S}s")
@@ -51,9 +70,13 @@ def _run_distributed(todo, job, scheduler, workers, finished, task) -> None:
         n = workers or os.cpu_count() or 1
         # dask's workers start with MALLOC_TRIM_THRESHOLD_=65536, which turns every large
         # numpy allocation into fresh pages: a site-year took 0.72 s instead of 0.46 s
-        with dask.config.set({"distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None}):
+        with dask.config.set({"distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None}), \
+                _workers_ignore_interrupts():
+            # the HTTP endpoints on this machine only, on free ports (None does not switch them
+            # off); the workers silent (a task's error comes back through its result)
             cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
-                                   dashboard_address=None, silence_logs=40)
+                                   silence_logs=60, dashboard_address="127.0.0.1:0",
+                                   worker_dashboard_address="127.0.0.1:0")
         client = Client(cluster)
     try:
         _stream_sites(client, todo, job, finished, task)
@@ -63,37 +86,103 @@ def _run_distributed(todo, job, scheduler, workers, finished, task) -> None:
             cluster.close()
 
 
+class _workers_ignore_interrupts:
+    """Worker processes started inside the block ignore Ctrl-C (an ignored signal stays
+    ignored in a child): the interrupt reaches this process alone, which ends in one line and
+    closes its cluster, instead of each worker printing its own KeyboardInterrupt traceback."""
+
+    def __enter__(self):
+        import signal
+        import threading
+
+        self.previous = None
+        if threading.current_thread() is threading.main_thread():
+            self.previous = signal.signal(signal.SIGINT, signal.SIG_IGN)
+        return self
+
+    def __exit__(self, *exc):
+        import signal
+
+        if self.previous is not None:
+            signal.signal(signal.SIGINT, self.previous)
+
+
 #: Sites in flight per worker: enough to keep each busy while a result travels back, few
 #: enough that client and scheduler hold a bounded number of tasks whatever the region's size.
 SITES_IN_FLIGHT_PER_WORKER = 4
+#: How long a region waits while the cluster has no worker before it gives up [s].
+NO_WORKERS_TIMEOUT_S = 120
+_POLL_S = 2.0  #: how often a waiting region looks at the cluster's workers [s]
 
 
 def _stream_sites(client, todo, job, finished, task, in_flight: int | None = None) -> None:
     """Every site of ``todo`` through ``client``: the job sent to the workers once, sites
     submitted in a bounded window, each result stored (``finished``) and its task released
-    before the next site goes out."""
-    from dask.distributed import as_completed
+    before the next site goes out. A cluster that goes away, or keeps no worker for
+    NO_WORKERS_TIMEOUT_S, ends in one line; the sites stored so far are kept for a rerun."""
+    import asyncio
+    import concurrent.futures
 
+    done_count = [0]
+    try:
+        _stream(client, todo, job, finished, task, in_flight, done_count)
+    except TandemInputError:
+        raise
+    except (OSError, asyncio.CancelledError, concurrent.futures.CancelledError) as exc:
+        raise TandemInputError(
+            f"the dask cluster stopped answering after {done_count[0]} of {len(todo)} sites "
+            f"({type(exc).__name__}); the finished sites are kept: run the same command again "
+            "to resume") from None
+
+
+def _stream(client, todo, job, finished, task, in_flight, done_count) -> None:
+    import time
+
+    _await_workers(client)
     if in_flight is None:
-        workers = max(len(client.scheduler_info().get("workers", {})), 1)
-        in_flight = SITES_IN_FLIGHT_PER_WORKER * workers
+        in_flight = SITES_IN_FLIGHT_PER_WORKER * max(_worker_count(client), 1)
     [shared_job] = client.scatter([job], broadcast=True)  # one copy per worker, not per task
     queue = iter(todo)
-    spec_of: dict = {}
-    running = as_completed()
+    pending: dict = {}
 
     def submit_next() -> None:
         spec = next(queue, None)
         if spec is not None:
-            future = client.submit(task, spec, shared_job, pure=False)
-            spec_of[future.key] = spec
-            running.add(future)
+            pending[client.submit(task, spec, shared_job, pure=False)] = spec
 
     for _ in range(max(int(in_flight), 1)):
         submit_next()
-    for future in running:
-        result = future.result()
-        spec = spec_of.pop(future.key)
-        future.release()  # the scheduler forgets the task and its result
-        finished(spec, result)
-        submit_next()
+    looked = time.monotonic()
+    while pending:
+        done = [f for f in pending if f.done()]  # a cancelled task is done too: its result raises
+        if not done:
+            if client.status in ("closing", "closed", "failed"):
+                raise ConnectionError(f"client {client.status}")
+            if time.monotonic() - looked > _POLL_S:
+                _await_workers(client)
+                looked = time.monotonic()
+            time.sleep(0.02)
+            continue
+        for future in done:
+            spec = pending.pop(future)
+            result = future.result()
+            future.release()  # the scheduler forgets the task and its result
+            finished(spec, result)
+            done_count[0] += 1
+            submit_next()
+
+
+def _worker_count(client) -> int:
+    return len(client.scheduler_info().get("workers", {}))
+
+
+def _await_workers(client) -> None:
+    """Return once the cluster has a worker; one line after NO_WORKERS_TIMEOUT_S without."""
+    if _worker_count(client):
+        return
+    try:
+        client.wait_for_workers(1, timeout=NO_WORKERS_TIMEOUT_S)
+    except TimeoutError:
+        raise TandemInputError(
+            f"the dask cluster has had no worker for {NO_WORKERS_TIMEOUT_S} s; start workers "
+            "(dask worker SCHEDULER-ADDRESS) and run the same command again to resume") from None

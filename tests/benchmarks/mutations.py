@@ -125,11 +125,15 @@ MUTATIONS = [
 ]
 
 
-def run(paths: list[str], where: Path, stop_first: bool = True) -> int:
-    cmd = [sys.executable, "-m", "pytest", "-q", "-p", "no:cacheprovider", "-p", "no:randomly",
-           "-n", "2", *(["-x"] if stop_first else []), *paths]
-    return subprocess.run(cmd, cwd=where, env={**__import__("os").environ, "PYTHONPATH": str(where)},
-                          stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL).returncode
+def run(paths: list[str], where: Path, stop_first: bool = True) -> tuple[int, str]:
+    """pytest's exit code and the first test it reports failed (or its last line)."""
+    cmd = [sys.executable, "-m", "pytest", "-q", "-rf", "-p", "no:cacheprovider", "-p",
+           "no:randomly", "-n", "2", *(["-x"] if stop_first else []), *paths]
+    done = subprocess.run(cmd, cwd=where, env={**__import__("os").environ, "PYTHONPATH": str(where)},
+                          capture_output=True, text=True)
+    lines = done.stdout.splitlines()
+    failed = [line.split()[1] for line in lines if line.startswith(("FAILED ", "ERROR "))]
+    return done.returncode, (failed[0] if failed else (lines[-1] if lines else ""))
 
 
 def main(names: list[str]) -> None:
@@ -148,16 +152,16 @@ def main(names: list[str]) -> None:
                     continue
                 path.write_text(source.replace(text, replacement), encoding="utf-8")
                 t0 = time.perf_counter()
-                code = run([f"tests/{t}.py" for t in tests.split()], where)
+                code, by = run([f"tests/{t}.py" for t in tests.split()], where)
                 how = "first tests"
                 if code == 0:
-                    code, how = run(["tests"], where, stop_first=True), "whole suite"
+                    (code, by), how = run(["tests"], where, stop_first=True), "whole suite"
                 path.write_text(source, encoding="utf-8")
                 # 1: a test failed; 2: pytest-xdist stopped the run at that failure (-x)
                 verdict = "caught" if code in (1, 2) else "MISSED" if code == 0 else f"exit {code}"
                 caught += code in (1, 2)
-                print(f"{name:<28} {verdict:<7} ({how}, {time.perf_counter() - t0:5.0f} s)  {what}",
-                      flush=True)
+                print(f"{name:<28} {verdict:<7} ({how}, {time.perf_counter() - t0:5.0f} s)  {what}"
+                      f"\n{'':<30}{by if code else ''}", flush=True)
         finally:
             subprocess.run(["git", "worktree", "remove", "--force", str(where)], cwd=ROOT)
     print(f"caught {caught} of {len(chosen)} ({100 * caught / max(len(chosen), 1):.0f} %)")
