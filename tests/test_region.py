@@ -93,8 +93,12 @@ def test_outputs_describe_themselves_and_only_tandem_folders_are_used(sites, job
     paths = write_region_outputs(result, grids=True)
     data = xr.open_dataset(tmp_path / "r" / "region.nc", engine="scipy")
     assert list(data["site"].values) == ["Mesa Verdeja", "Porto Brisa"]
-    assert data["energy_2t"].dims == ("site", "front_gap", "front_thickness")
-    assert data["front_gap_eV"].attrs["units"] == "eV"
+    assert data["energy_2t_by_design"].dims == ("site", "design_front_gap", "design_front_thickness")
+    # unit suffixes become units, as in every result's dataset; the grid keeps its own name
+    assert data["front_gap"].attrs["units"] == "eV" and data["energy_2t"].dims == ("site",)
+    assert data["energy_2t"].attrs["units"] == "kWh/m2"
+    best = data["energy_2t_by_design"].max(dim=["design_front_gap", "design_front_thickness"])
+    assert np.allclose(best, data["energy_2t"], rtol=1e-12)  # each site's optimum on its grid
     # CF: a site's position as coordinates with their standard names and units
     assert "latitude" in data.coords and data.latitude.attrs["standard_name"] == "latitude"
     assert data.longitude.attrs["units"] == "degrees_east"

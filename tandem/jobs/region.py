@@ -386,30 +386,40 @@ class RegionResult(ResultDisplay):
         over front gap × thickness at every site as well."""
         import xarray as xr
 
+        from tandem.jobs.common import UNIT_SUFFIXES
+
         frame = self.to_frame()
         data: dict[str, tuple] = {}
-        units = {"_eV": "eV", "_nm": "nm", "_kWh_m2": "kWh/m2", "_deg": "degree", "_m": "m",
-                 "seconds": "s"}
+        # a column's unit suffix becomes its units attribute, as in every other result's
+        # dataset ('energy_2t_kWh_m2' -> 'energy_2t' in kWh/m2)
+        suffixes = {**UNIT_SUFFIXES, "_deg": "degree", "_m": "m"}
         for column in frame.columns:
             if column in ("name",):
                 continue
-            unit = next((u for s, u in units.items() if column.endswith(s)), "")
+            name, unit = column, "s" if column == "seconds" else ""
+            for suffix, u in suffixes.items():
+                if column.endswith(suffix):
+                    name, unit = column[: -len(suffix)], u
+                    break
             values = frame[column].to_numpy()
             if values.dtype == object:
                 values = np.array(["" if v is None else str(v) for v in values])
-            data[column] = ("site", values, {"units": unit} if unit else {})
+            data[name] = ("site", values, {"units": unit} if unit else {})
         coords: dict[str, tuple] = {"site": ("site", frame["name"].to_numpy().astype(str))}
         for axis, unit in (("latitude", "degrees_north"), ("longitude", "degrees_east")):
             if axis in data:  # CF's coordinates of a site, with their standard names
                 coords[axis] = ("site", data.pop(axis)[1].astype(float),
                                 {"units": unit, "standard_name": axis})
         if grids and self.job is not None:
-            coords["front_gap"] = ("front_gap", np.array(self.job.gaps_eV), {"units": "eV"})
-            coords["front_thickness"] = ("front_thickness", np.array(self.job.thicknesses_nm),
-                                         {"units": "nm"})
+            # the designs every site was searched over (front_gap and front_thickness are each
+            # site's energy-optimal one)
+            coords["design_front_gap"] = ("design_front_gap", np.array(self.job.gaps_eV),
+                                          {"units": "eV"})
+            coords["design_front_thickness"] = ("design_front_thickness",
+                                                np.array(self.job.thicknesses_nm), {"units": "nm"})
             for key in [k for k in self.records[0] if k.endswith("_grid")]:
-                data[key.removesuffix("_grid")] = (
-                    ("site", "front_gap", "front_thickness"),
+                data[key.removesuffix("_grid") + "_by_design"] = (
+                    ("site", "design_front_gap", "design_front_thickness"),
                     np.array([r[key] for r in self.records]), {"units": "kWh/m2"})
         attrs: dict[str, Any] = {"written_by": STAMP, "format": REGION_FORMAT}
         if self.job is not None:
