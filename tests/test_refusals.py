@@ -448,9 +448,12 @@ def test_a_site_list_past_the_limit_and_an_empty_region_are_one_line(tmp_path):
     (["limit", "1.7", "1.1", "--plot", "figs/.."], "give a file name"),
     (["region", "perovskite-wide", "silicon", "--latitudes", "30:40:5", "--longitudes", "0:10:5",
       "--workers", "0"], "--workers 0: give 1 to 1024"),
+    # more local workers than cores: each holds a site-year's memory and adds no speed
+    (["region", "perovskite-wide", "silicon", "--latitudes", "30:40:5", "--longitudes", "0:10:5",
+      "--workers", "1024"], "more local workers than cores add only memory (about 350 MiB each)"),
     (["region", "perovskite-wide", "silicon", "--latitudes", "30:40", "--longitudes", "0:10:5"],
      "give LO:HI:STEP in degrees"),
-], ids=["spread pair", "range", "file name", "workers", "grid axis"])
+], ids=["spread pair", "range", "file name", "workers", "workers over cores", "grid axis"])
 def test_a_malformed_option_is_one_line_and_writes_nothing(tmp_path, monkeypatch, args, words):
     from typer.testing import CliRunner
 

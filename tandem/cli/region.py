@@ -124,13 +124,19 @@ def region(
         job = region_job(front, back, build_operating(o), back_thickness_nm=back_d, period=period,
                          step_minutes=step, reference=build_light(o), stack=stack, **sweep)
     folder = Path(out_folder or default)
-    from tandem.jobs.common import check_seconds, region_seconds
+    from tandem.jobs.common import WORKER_BYTES, check_seconds, region_seconds
 
     seconds = region_seconds(job, specs)
     if scheduler is None:  # a local cluster's size is known; a remote one's is its owner's
-        cores = workers or os.cpu_count() or 1
-        check_seconds("region", seconds / cores, f"is {len(specs):,} sites on {cores} local "
-                      f"worker{'s' if cores > 1 else ''}", large)
+        cores = os.cpu_count() or 1
+        n = workers or cores
+        if n > cores and not large:
+            raise TandemInputError(
+                f"--workers {n}: this machine has {cores} core{'s' if cores > 1 else ''}; more "
+                f"local workers than cores add only memory (about {WORKER_BYTES / 2**20:.0f} MiB "
+                f"each); give --workers {cores} or fewer, or pass --large")
+        check_seconds("region", seconds / min(n, cores), f"is {len(specs):,} sites on {n} local "
+                      f"worker{'s' if n > 1 else ''}", large, bytes_needed=n * WORKER_BYTES)
     with progress_bar(quiet or json_out, "sites") as bar:
         result = run_region(specs, job, folder, scheduler, workers, progress_callback(bar), overwrite)
     written = write_region_outputs(result, grids)

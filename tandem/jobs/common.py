@@ -53,6 +53,10 @@ def yield_cost(operating: OperatingPoint, front: Absorber, back: Absorber) -> fl
 #: 0.6–2 s measured for a day, a month and a year in one process, 3.5 s for a day in a fresh
 #: local worker
 SITE_SECONDS = 2.0
+#: Resident memory of one local region worker [bytes]: the peak of a whole `tandem yield`
+#: process over a clear-sky year (337 MiB, docs/performance.md) rounded up; a worker holds one
+#: site-year at a time, so the region's memory is this times the workers, whatever its sites.
+WORKER_BYTES = 350 * 2**20
 
 
 def region_seconds(job, specs) -> float:
