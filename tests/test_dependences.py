@@ -219,6 +219,27 @@ def test_a_flat_loss_file_equals_the_same_flat_fraction_in_yield_and_region(tmp_
     assert records[0]["energy_2t_kWh_m2"] == pytest.approx(records[1]["energy_2t_kWh_m2"], rel=1e-12)
 
 
+# --- fabrication spread ------------------------------------------------------------------------
+
+def test_the_spread_draws_have_the_stated_widths_and_reports_its_own_percentiles():
+    # A normal sample's standard deviation scatters by about σ/√(2n) (standard statistics):
+    # 1.6 % at 2,000 devices, so ±8 % is five of those; a σ halved, or a percentage read as
+    # per mille, lands far outside. The mean scatters by σ/√n.
+    s = tandem.fabrication_spread("perovskite-wide", "silicon", front_gap_eV=1.72,
+                                  front_thickness_nm=800.0, gap_sigma_eV=0.02,
+                                  thickness_sigma_pct=6.0, samples=2000)
+    d, n = s.spread, 2000
+    assert np.std(d.front_gap_eV, ddof=1) == pytest.approx(0.02, rel=0.08)
+    assert abs(np.mean(d.front_gap_eV) - 1.72) < 5 * 0.02 / math.sqrt(n)
+    assert np.std(d.front_thickness_nm / 800.0, ddof=1) == pytest.approx(0.06, rel=0.08)
+    assert abs(np.mean(d.front_thickness_nm) / 800.0 - 1) < 5 * 0.06 / math.sqrt(n)
+    # the p-th percentile is the efficiency p % of the devices fall below (to one device)
+    eff, summary = 100 * d.efficiency_2t, s.summary()
+    for p, key in ((10, "percentile_10_pct"), (50, "median_pct"), (90, "percentile_90_pct")):
+        below = np.mean(eff < summary[key] - 1e-4) * 100
+        assert p - 100 / n - 0.1 <= below <= p + 0.1, (key, below)
+
+
 # --- what --outside-range allows is said, never silent ----------------------------------------
 
 def test_designs_outside_declared_ranges_are_flagged_in_match_spread_and_yield(tmp_path):
