@@ -131,6 +131,7 @@ def run(paths: list[str], where: Path, stop_first: bool = True) -> tuple[int, st
            "no:randomly", "-n", "2", *(["-x"] if stop_first else []), *paths]
     done = subprocess.run(cmd, cwd=where, env={**__import__("os").environ, "PYTHONPATH": str(where)},
                           capture_output=True, text=True)
+    (where.parent / "last-run.txt").write_text(done.stdout + done.stderr)  # to read a failure
     lines = done.stdout.splitlines()
     failed = [line.split()[1] for line in lines if line.startswith(("FAILED ", "ERROR "))]
     return done.returncode, (failed[0] if failed else (lines[-1] if lines else ""))
@@ -139,7 +140,7 @@ def run(paths: list[str], where: Path, stop_first: bool = True) -> tuple[int, st
 def main(names: list[str]) -> None:
     chosen = [m for m in MUTATIONS if not names or m[0] in names]
     caught = 0
-    with tempfile.TemporaryDirectory() as scratch:
+    with tempfile.TemporaryDirectory(prefix="tandem-mutations-") as scratch:
         where = Path(scratch) / "tree"
         subprocess.run(["git", "worktree", "add", "-q", "--detach", str(where), "HEAD"], cwd=ROOT,
                        check=True)
