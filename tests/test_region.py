@@ -375,7 +375,7 @@ def test_ctrl_c_on_a_two_worker_region_is_one_line_and_keeps_the_finished_sites(
     while not list((tmp_path / "r" / "sites").glob("*.json")) and time.monotonic() - start < 240:
         time.sleep(0.1)
     os.killpg(run.pid, signal.SIGINT)  # as a terminal does
-    _, err = run.communicate(timeout=120)
+    _, err = run.communicate(timeout=300)  # a loaded machine closes its cluster slowly
     lines = [line for line in err.decode().replace("\r", "\n").splitlines() if line.strip()]
     assert run.returncode == 130 and lines[-1:] == ["interrupted"], err.decode()[-3000:]
     assert "Traceback" not in err.decode()
