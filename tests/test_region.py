@@ -142,6 +142,26 @@ def test_weather_file_insolation_equals_pvlib_plane_of_array_total():
     assert frame.insolation_kWh_m2 == series.insolation_kWh_m2
 
 
+def test_a_half_hourly_weather_frame_counts_half_hours():
+    """Each step of a weather frame lasts its own spacing: two June days of the same file,
+    every hour's values given twice 30 minutes apart, hold pvlib's plane-of-array sum over
+    those steps times half an hour (a step taken as an hour would double it)."""
+    import pvlib
+
+    site = tandem.Site("weather test", 36.1, -79.9, 270.0, 30.0, 180.0, "Etc/GMT+5")
+    data, _ = pvlib.iotools.read_tmy3(tmy3(), coerce_year=2026, map_variables=True)
+    data.index = data.index - pd.Timedelta(minutes=30)
+    columns = ["ghi", "dni", "dhi", "temp_air", "wind_speed"]
+    half = data[columns].loc["2026-06-20":"2026-06-21"].resample("30min").ffill()
+    series = weather_frame_series(site, half, source="half-hourly test frame")
+    kept = half.loc[series.times]
+    pos = pvlib.solarposition.get_solarposition(kept.index, site.latitude, site.longitude,
+                                                site.altitude_m)
+    poa = pvlib.irradiance.get_total_irradiance(30.0, 180.0, pos["apparent_zenith"], pos["azimuth"],
+                                                kept["dni"], kept["ghi"], kept["dhi"], albedo=0.2)
+    assert series.insolation_kWh_m2 == pytest.approx(poa["poa_global"].sum() * 0.5 / 1000, rel=1e-9)
+
+
 def test_a_pvlib_location_is_a_site():
     from pvlib.location import Location
 
@@ -370,6 +390,8 @@ def test_ctrl_c_on_a_two_worker_region_is_one_line_and_keeps_the_finished_sites(
                             "--sites", "s.csv", "--period", "month:2026-06", "--workers", "2",
                             "--out", "r"], cwd=tmp_path, stdout=subprocess.PIPE,
                            stderr=subprocess.PIPE, start_new_session=True,
+                           # a harness started in the background hands down an ignored SIGINT
+                           preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL),
                            env={**os.environ, "PYTHONPATH": str(Path(tandem.__file__).parents[1])})
     start = time.monotonic()
     while not list((tmp_path / "r" / "sites").glob("*.json")) and time.monotonic() - start < 240:
