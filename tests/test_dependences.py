@@ -219,6 +219,38 @@ def test_a_flat_loss_file_equals_the_same_flat_fraction_in_yield_and_region(tmp_
     assert records[0]["energy_2t_kWh_m2"] == pytest.approx(records[1]["energy_2t_kWh_m2"], rel=1e-12)
 
 
+# --- design refinement ---------------------------------------------------------------------------
+
+@pytest.mark.parametrize("terminals", [2, 4])
+def test_each_refined_thickness_is_the_best_a_dense_search_finds(terminals):
+    # Every configuration's thickness is refined between its grid neighbours; a dense search
+    # over the whole thickness range (4,001 log-spaced points, then scipy's bounded Brent
+    # around the best of them) finds no better design at that gap and back thickness.
+    from scipy.optimize import minimize_scalar
+
+    from tandem.design.matching import stack_performance
+
+    study = tandem.match("perovskite-wide", "silicon",
+                         operating=tandem.OperatingPoint(terminals=terminals),
+                         sweep=tandem.Sweep(front_gaps_eV=[1.64, 1.70, 1.76, 1.82],
+                                            thickness_points=9))
+    r = study.result
+    d_grid = r.best_sweep.front_thickness_nm
+    dense = np.geomspace(d_grid[0], d_grid[-1], 4001)
+    for c in r.configurations:
+        def power(d):
+            perf = stack_performance(r.design, r.conditions, c.front_gap_eV, d, c.back_thickness_nm)
+            return perf.power(terminals)
+
+        p = power(dense)
+        k = int(np.argmax(p))
+        lo, hi = np.log(dense[max(k - 1, 0)]), np.log(dense[min(k + 1, dense.size - 1)])
+        best = minimize_scalar(lambda x: -float(power(np.exp(x))), bounds=(lo, hi),
+                               method="bounded", options={"xatol": 1e-9})
+        top = max(float(p[k]), -best.fun)
+        assert float(power(c.front_thickness_nm)) >= top * (1 - 2e-7), (c.front_gap_eV, terminals)
+
+
 # --- fabrication spread ------------------------------------------------------------------------
 
 def test_the_spread_draws_have_the_stated_widths_and_reports_its_own_percentiles():
