@@ -136,40 +136,39 @@ def _stream_sites(client, todo, job, finished, task, in_flight: int | None = Non
 
 
 def _stream(client, todo, job, finished, task, in_flight, done_count) -> None:
-    import time
+    import queue
 
     _await_workers(client)
     if in_flight is None:
         in_flight = SITES_IN_FLIGHT_PER_WORKER * max(_worker_count(client), 1)
     [shared_job] = client.scatter([job], broadcast=True)  # one copy per worker, not per task
-    queue = iter(todo)
+    sites = iter(todo)
     pending: dict = {}
+    ready: queue.SimpleQueue = queue.SimpleQueue()  # filled by dask as tasks end (or cancel)
 
     def submit_next() -> None:
-        spec = next(queue, None)
+        spec = next(sites, None)
         if spec is not None:
-            pending[client.submit(task, spec, shared_job, pure=False)] = spec
+            future = client.submit(task, spec, shared_job, pure=False)
+            pending[future] = spec
+            future.add_done_callback(ready.put)
 
     for _ in range(max(int(in_flight), 1)):
         submit_next()
-    looked = time.monotonic()
     while pending:
-        done = [f for f in pending if f.done()]  # a cancelled task is done too: its result raises
-        if not done:
+        try:
+            future = ready.get(timeout=_POLL_S)
+        except queue.Empty:  # nothing ended for a while: is there still a cluster to wait for?
             if client.status in ("closing", "closed", "failed"):
-                raise ConnectionError(f"client {client.status}")
-            if time.monotonic() - looked > _POLL_S:
-                _await_workers(client)
-                looked = time.monotonic()
-            time.sleep(0.02)
+                raise ConnectionError(f"client {client.status}") from None
+            _await_workers(client)
             continue
-        for future in done:
-            spec = pending.pop(future)
-            result = future.result()
-            future.release()  # the scheduler forgets the task and its result
-            finished(spec, result)
-            done_count[0] += 1
-            submit_next()
+        spec = pending.pop(future)
+        result = future.result()  # a cancelled task (the cluster gone) raises here
+        future.release()  # the scheduler forgets the task and its result
+        finished(spec, result)
+        done_count[0] += 1
+        submit_next()
 
 
 def _worker_count(client) -> int:
