@@ -251,6 +251,18 @@ def test_each_refined_thickness_is_the_best_a_dense_search_finds(terminals):
         assert float(power(c.front_thickness_nm)) >= top * (1 - 2e-7), (c.front_gap_eV, terminals)
 
 
+def test_a_tolerance_window_ends_where_the_loss_is_reached():
+    # y = y0 − a(x − x0)² falls by `loss` at x0 ± √(loss/a) (closed form); linear interpolation
+    # between grid points of step h is within a·h² of it
+    from tandem.design.matching import tolerance_window
+
+    x = np.linspace(0.0, 10.0, 2001)
+    y = 37.0 - 0.8 * (x - 4.3) ** 2
+    lo, hi = tolerance_window(x, y, 1.0)
+    half = math.sqrt(1.0 / 0.8)
+    assert (lo, hi) == pytest.approx((4.3 - half, 4.3 + half), abs=0.8 * (x[1] - x[0]) ** 2)
+
+
 # --- fabrication spread ------------------------------------------------------------------------
 
 def test_the_spread_draws_have_the_stated_widths_and_reports_its_own_percentiles():
