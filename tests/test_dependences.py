@@ -251,6 +251,21 @@ def test_each_refined_thickness_is_the_best_a_dense_search_finds(terminals):
         assert float(power(c.front_thickness_nm)) >= top * (1 - 2e-7), (c.front_gap_eV, terminals)
 
 
+def test_the_gaps_reported_at_a_hot_cell_move_as_published():
+    # At 338.15 K (40 K above the rating): silicon narrows by Varshni's dEg/dT at 300 K with
+    # Thurmond's parameters, 4.73e-4·T(T + 2·636)/(T + 636)² ≈ 0.255 meV/K (recalled), and a
+    # lead-halide perovskite widens by +0.2 to +0.3 meV/K (recalled, e.g. Milot et al., Adv.
+    # Funct. Mater. 25 (2015) 6218): the reported hot gaps move 40 K times those, each its way.
+    from tandem.design.matching import operating_gaps
+
+    design = tandem.match("perovskite-wide", "silicon", sweep=tandem.Sweep(
+        front_gaps_eV=[1.70], thickness_points=5)).result.design
+    gaps = operating_gaps(design, 1.70, 338.15)
+    varshni = 4.73e-4 * 300 * (300 + 2 * 636) / (300 + 636) ** 2
+    assert gaps["back"][2] - gaps["back"][1] == pytest.approx(-40 * varshni, rel=0.1)
+    assert 40 * 0.2e-3 <= gaps["front"][2] - gaps["front"][1] <= 40 * 0.3e-3
+
+
 def test_a_tolerance_window_ends_where_the_loss_is_reached():
     # y = y0 − a(x − x0)² falls by `loss` at x0 ± √(loss/a) (closed form); linear interpolation
     # between grid points of step h is within a·h² of it
