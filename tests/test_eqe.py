@@ -68,6 +68,9 @@ def test_a_slow_urbach_tail_is_integrated_to_convergence():
     q = np.where(e <= 1.40, 0.08 * np.exp((e - 1.40) / eu), 0.9)
     m = MeasuredEQE.from_arrays("slow edge", e, q, t)
     assert m.urbach_eV == pytest.approx(eu, rel=1e-9)
+    # below the data the EQE is that exponential itself, as the photocurrent and figures use it
+    below = np.array([0.9, 1.2, 1.29])
+    assert m.at(below) == pytest.approx(q[0] * np.exp((below - e[0]) / eu), rel=1e-9)
     bose = lambda x: x * x / np.expm1(x / kt)
     data = quad(lambda x: np.interp(x, e, q) * bose(x), e[0], e[-1], points=e[1:-1],
                 epsrel=1e-13, limit=500)[0]
