@@ -148,6 +148,24 @@ def test_the_thickness_that_would_match(tmp_path, am15g):
     assert photocurrent(am15g, f) == pytest.approx(photocurrent(am15g, b), rel=1e-4)
 
 
+def test_a_thicker_front_dims_the_back_by_beer_lambert():
+    # The back's EQE behind a front of 480 nm, moved to 600 nm, is the back made behind 600 nm
+    # directly: the front's single pass e^{−αd} (Beer–Lambert, α in cm⁻¹ from the absorber file,
+    # 1 nm = 10⁻⁷ cm) with nothing else changed
+    from tandem.design.eqe import transmitted_to_back
+
+    e = HC_EV_NM / np.arange(300, 1201, 5.0)
+    f, s = tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon")
+    silicon = s.layer(e, 160e3).absorptance()
+
+    def back(d):
+        return 0.95 * np.exp(-f.alpha(e, None) * d * 1e-7) * silicon
+
+    moved = transmitted_to_back(MeasuredEQE("back", e[::-1], back(480.0)[::-1], None), f, 480.0, 600.0)
+    lit = back(600.0)[::-1] > 1e-3
+    assert moved.eqe[lit] == pytest.approx(back(600.0)[::-1][lit], rel=1e-12)
+
+
 def test_eqe_command_with_a_site_year(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     demo_files(tmp_path)
