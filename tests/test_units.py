@@ -30,3 +30,12 @@ def test_g173_read_directly_equals_pvlib():
         # rounded) float reader, 8 of 2,002 values differ by 1 ulp (2e-16 relative) there
         np.testing.assert_allclose(ours[column], ref[column].to_numpy(dtype=float), rtol=4.5e-16,
                                    atol=0)
+
+
+@pytest.mark.parametrize("text, kelvin", [("25C", 298.15), ("-40C", 233.15), ("65C", 338.15),
+                                          ("300K", 300.0), ("0C", 273.15)])
+def test_celsius_is_kelvin_minus_273_15(text, kelvin):
+    # SI: T/K = t/°C + 273.15, exactly (BIPM, the SI Brochure, 9th edition, 2019)
+    from tandem.jobs.inputs import parse_temperature
+
+    assert parse_temperature(text) == pytest.approx(kelvin, abs=1e-12)
