@@ -504,3 +504,17 @@ def test_a_region_names_the_content_of_every_input_file_it_read(tmp_path, job):
         (tmp_path / "r.csv").read_bytes()).hexdigest()
     assert digests["job_sha256"] != job.input_digests()["job_sha256"]
     assert set(job.input_digests()) == {"job_sha256"}  # no file, no file digest
+
+
+def test_the_job_fingerprint_changes_with_every_input(job):
+    # a resumed site must share everything its numbers depend on: each field of the job (and
+    # the ERE inside an absorber, the operating point) changed alone gives another fingerprint
+    changed = {"gaps_eV": (1.62, 1.70), "thicknesses_nm": (300.0, 700.0),
+               "back_thickness_nm": 150e3, "period": "month:2026-07", "step_minutes": 30.0,
+               "tilt": "20", "albedo": 0.3, "rows": None, "reference": tandem.Light(source="am1.5d"),
+               "cell_temperature_K": 320.0, "cover_index": 1.0,
+               "operating": OperatingPoint(temperature_K=310.0),
+               "front": replace(job.front, ere=1e-3)}
+    assert set(changed) | {"back", "stack"} == {f.name for f in __import__("dataclasses").fields(job)}
+    prints = {name: replace(job, **{name: value}).job_fingerprint() for name, value in changed.items()}
+    assert len(set(prints.values()) | {job.job_fingerprint()}) == len(changed) + 1
