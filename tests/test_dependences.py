@@ -251,6 +251,24 @@ def test_each_refined_thickness_is_the_best_a_dense_search_finds(terminals):
         assert float(power(c.front_thickness_nm)) >= top * (1 - 2e-7), (c.front_gap_eV, terminals)
 
 
+def test_the_matched_thickness_equalises_the_subcell_currents():
+    # the definition of current matching: at the reported thickness both photocurrents agree
+    # (to the root finder's tolerance), though the grid has no point there
+    from tandem.design.matching import stack_performance
+
+    study = tandem.match("perovskite-wide", "silicon", sweep=tandem.Sweep(
+        front_gaps_eV=[1.66, 1.72, 1.78], thickness_points=7))
+    r = study.result
+    grid = r.best_sweep.front_thickness_nm
+    matched = [c for c in r.configurations if c.matched_front_thickness_nm is not None]
+    assert matched
+    for c in matched:
+        d = c.matched_front_thickness_nm
+        assert not np.any(np.isclose(grid, d, rtol=1e-6))
+        j = stack_performance(r.design, r.conditions, c.front_gap_eV, d, c.back_thickness_nm).j_light
+        assert j[0] == pytest.approx(j[1], rel=1e-7)
+
+
 def test_the_gaps_reported_at_a_hot_cell_move_as_published():
     # At 338.15 K (40 K above the rating): silicon narrows by Varshni's dEg/dT at 300 K with
     # Thurmond's parameters, 4.73e-4·T(T + 2·636)/(T + 636)² ≈ 0.255 meV/K (recalled), and a
