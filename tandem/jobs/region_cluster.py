@@ -8,6 +8,7 @@ The workers and the scheduler must be trusted: dask unpickles what they send bac
 
 from __future__ import annotations
 
+import contextlib
 import os
 
 from tandem.core.errors import TandemInputError
@@ -34,31 +35,37 @@ def check_scheduler_address(address: str) -> None:
 
 def _run_distributed(todo, job, scheduler, workers, finished, task) -> None:
     """``task(spec, job)`` for every site of ``todo`` on a dask cluster (see :func:`run_region`)."""
-    import dask
-    from dask.distributed import Client, LocalCluster
-
     if scheduler is not None and not isinstance(scheduler, str):  # a Client the caller owns
         _stream_sites(scheduler, todo, job, finished, task)
         return
-    # dask logs its own view of a lost scheduler (reconnect tracebacks) before the one line
-    # this run ends with; a cluster tandem connects to or starts reports through that line
+    with _quiet_dask_logs():
+        _run_own_client(todo, job, scheduler, workers, finished, task)
+
+
+@contextlib.contextmanager
+def _quiet_dask_logs():
+    """dask logs its own view of a lost scheduler (reconnect tracebacks) before the one line
+    a run ends with: on a cluster tandem connects to or starts, that line reports alone."""
     import logging
 
     handlers = {h for name, logger in logging.root.manager.loggerDict.items()  # dask's printers
                 if name.split(".")[0] == "distributed" and isinstance(logger, logging.Logger)
                 for h in logger.handlers}
-    levels = [h.level for h in handlers]
+    levels = [(h, h.level) for h in handlers]
     for h in handlers:
         h.setLevel(logging.CRITICAL + 1)
     try:
-        _run_own_client(todo, job, scheduler, workers, finished, task, Client, LocalCluster, dask)
+        yield
     finally:
-        for h, level in zip(handlers, levels):
+        for h, level in levels:
             h.setLevel(level)
 
 
-def _run_own_client(todo, job, scheduler, workers, finished, task, Client, LocalCluster, dask):
+def _run_own_client(todo, job, scheduler, workers, finished, task) -> None:
     """:func:`_run_distributed` on a client this run opens (and closes)."""
+    import dask
+    from dask.distributed import Client, LocalCluster
+
     if scheduler:
         try:
             client = Client(scheduler, timeout=f"{SCHEDULER_TIMEOUT_S}s")
@@ -86,25 +93,22 @@ def _run_own_client(todo, job, scheduler, workers, finished, task, Client, Local
             cluster.close()
 
 
-class _workers_ignore_interrupts:
+@contextlib.contextmanager
+def _workers_ignore_interrupts():
     """Worker processes started inside the block ignore Ctrl-C (an ignored signal stays
     ignored in a child): the interrupt reaches this process alone, which ends in one line and
     closes its cluster, instead of each worker printing its own KeyboardInterrupt traceback."""
+    import signal
+    import threading
 
-    def __enter__(self):
-        import signal
-        import threading
-
-        self.previous = None
-        if threading.current_thread() is threading.main_thread():
-            self.previous = signal.signal(signal.SIGINT, signal.SIG_IGN)
-        return self
-
-    def __exit__(self, *exc):
-        import signal
-
-        if self.previous is not None:
-            signal.signal(signal.SIGINT, self.previous)
+    previous = None
+    if threading.current_thread() is threading.main_thread():
+        previous = signal.signal(signal.SIGINT, signal.SIG_IGN)
+    try:
+        yield
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGINT, previous)
 
 
 #: Sites in flight per worker: enough to keep each busy while a result travels back, few
@@ -115,7 +119,7 @@ NO_WORKERS_TIMEOUT_S = 120
 _POLL_S = 2.0  #: how often a waiting region looks at the cluster's workers [s]
 
 
-def _stream_sites(client, todo, job, finished, task, in_flight: int | None = None) -> None:
+def _stream_sites(client, todo, job, finished, task) -> None:
     """Every site of ``todo`` through ``client``: the job sent to the workers once, sites
     submitted in a bounded window, each result stored (``finished``) and its task released
     before the next site goes out. A cluster that goes away, or keeps no worker for
@@ -123,24 +127,29 @@ def _stream_sites(client, todo, job, finished, task, in_flight: int | None = Non
     import asyncio
     import concurrent.futures
 
-    done_count = [0]
+    stored = 0
+
+    def counted(spec, record) -> None:
+        nonlocal stored
+        finished(spec, record)
+        stored += 1
+
     try:
-        _stream(client, todo, job, finished, task, in_flight, done_count)
+        _stream(client, todo, job, counted, task)
     except TandemInputError:
         raise
     except (OSError, asyncio.CancelledError, concurrent.futures.CancelledError) as exc:
         raise TandemInputError(
-            f"the dask cluster stopped answering after {done_count[0]} of {len(todo)} sites "
+            f"the dask cluster stopped answering after {stored} of {len(todo)} sites "
             f"({type(exc).__name__}); the finished sites are kept: run the same command again "
             "to resume") from None
 
 
-def _stream(client, todo, job, finished, task, in_flight, done_count) -> None:
+def _stream(client, todo, job, finished, task) -> None:
     import queue
 
     _await_workers(client)
-    if in_flight is None:
-        in_flight = SITES_IN_FLIGHT_PER_WORKER * max(_worker_count(client), 1)
+    in_flight = SITES_IN_FLIGHT_PER_WORKER * max(_worker_count(client), 1)
     [shared_job] = client.scatter([job], broadcast=True)  # one copy per worker, not per task
     sites = iter(todo)
     pending: dict = {}
@@ -153,7 +162,7 @@ def _stream(client, todo, job, finished, task, in_flight, done_count) -> None:
             pending[future] = spec
             future.add_done_callback(ready.put)
 
-    for _ in range(max(int(in_flight), 1)):
+    for _ in range(in_flight):
         submit_next()
     while pending:
         try:
@@ -167,7 +176,6 @@ def _stream(client, todo, job, finished, task, in_flight, done_count) -> None:
         result = future.result()  # a cancelled task (the cluster gone) raises here
         future.release()  # the scheduler forgets the task and its result
         finished(spec, result)
-        done_count[0] += 1
         submit_next()
 
 
