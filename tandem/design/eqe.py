@@ -134,7 +134,7 @@ def photocurrent(flux: PhotonFlux, m: MeasuredEQE) -> float:
     if flux.cumulative is not None:
         lam = HC_EV_NM / e[::-1]
         mid = 0.5 * (lam[1:] + lam[:-1])
-        f = m.at(HC_EV_NM / lam) * flux.irradiance_at(lam) * lam
+        f = m.at(e[::-1]) * flux.irradiance_at(lam) * lam
         fm = m.at(HC_EV_NM / mid) * flux.irradiance_at(mid) * mid
         return float(np.sum(np.diff(lam) / 6.0 * (f[:-1] + 4 * fm + f[1:])) / HC_EV_NM)
     mid = 0.5 * (e[1:] + e[:-1])

@@ -18,7 +18,7 @@ from tandem.core.errors import TandemInputError
 from tandem.core.units import BB_FLUX_PREFACTOR, HC_EV_NM, K_B_EV, Q, SUN_DILUTION
 from tandem.physics.columns import MAX_ROWS, parse_two_columns, read_data_text, spectrum_units
 from tandem.physics.spectral_grid import (  # noqa: F401 (re-exported: one place to import from)
-    DARK_STEP_EV, EMISSION_FLOOR_EV, _simpson_photons, conserving_grid, dark_below,
+    DARK_STEP_EV, EMISSION_FLOOR_EV, photons_between, conserving_grid, dark_below,
     interval_photons, to_energy, trapezoid_weights)
 
 #: Names of the bundled reference spectra and the pvlib column of ASTM G173-03 for each.
@@ -194,10 +194,10 @@ class PhotonFlux:
         e, c = self.energy, self.cumulative
         gap = np.asarray(gap_eV, dtype=float)
         i = np.clip(np.searchsorted(e, gap, side="right") - 1, 0, e.size - 2)
-        lam_low = HC_EV_NM / e[i]
+        lam_low = HC_EV_NM / e[i]  # the partial interval runs from E_i up to the gap
         lam_gap = np.clip(HC_EV_NM / gap, HC_EV_NM / e[i + 1], lam_low)
-        partial = _simpson_photons(lam_gap, lam_low, self.irradiance_at(lam_gap),
-                                   self.irradiance_at(lam_low))  # from E_i up to the gap
+        irr_low = self.flux[i] * e[i] ** 3 * Q / HC_EV_NM  # at the point E_i itself
+        partial = photons_between(lam_gap, lam_low, self.irradiance_at(lam_gap), irr_low)
         return c[-1] - c[i] - np.clip(partial, 0.0, c[i + 1] - c[i])
 
     def irradiance_at(self, wavelength_nm) -> np.ndarray:

@@ -23,10 +23,10 @@ def interval_photons(wavelength_nm, irradiance) -> np.ndarray:
     exact there.
     """
     wl, irr = np.asarray(wavelength_nm, float), np.asarray(irradiance, float)
-    return _simpson_photons(wl[:-1], wl[1:], irr[:-1], irr[1:])
+    return photons_between(wl[:-1], wl[1:], irr[:-1], irr[1:])
 
 
-def _simpson_photons(lam0, lam1, irr0, irr1):
+def photons_between(lam0, lam1, irr0, irr1):
     """Photons between λ₀ and λ₁ with the irradiance linear in between [m⁻² s⁻¹]."""
     f0, f1 = irr0 * lam0, irr1 * lam1
     fm = 0.5 * (irr0 + irr1) * 0.5 * (lam0 + lam1)
