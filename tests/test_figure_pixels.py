@@ -124,12 +124,20 @@ KINDS = {"limit": _limit, "breakdown": _breakdown, "match": _match, "absorber": 
 
 
 def render(kind: str, target: Path, scratch: Path) -> None:
+    build = KINDS[kind]
+    with _fonts():
+        _save(build(scratch) if kind == "region" else build(), target)
+
+
+def _fonts():
+    """matplotlib's own font settings for image tests (its bundled DejaVu Sans)."""
     import matplotlib
 
-    with matplotlib.rc_context({"font.family": "DejaVu Sans", "text.hinting": "default"}):
-        build = KINDS[kind]
-        fig = build(scratch) if kind == "region" else build()
-        fig.savefig(target, dpi=DPI, bbox_inches="tight", format="png")
+    return matplotlib.rc_context({"font.family": "DejaVu Sans", "text.hinting": "default"})
+
+
+def _save(fig, target: Path) -> None:
+    fig.savefig(target, dpi=DPI, bbox_inches="tight", format="png")
 
 
 def _drawn_by() -> str:
@@ -166,11 +174,10 @@ def test_a_changed_figure_is_told_apart_from_its_reference(tmp_path):
     # the comparison bites: the limit figure without its legend is not the reference
     from matplotlib.testing.compare import compare_images
 
-    fig = _limit()
-    fig.axes[0].get_legend().remove()
-    with __import__("matplotlib").rc_context({"font.family": "DejaVu Sans",
-                                             "text.hinting": "default"}):
-        fig.savefig(tmp_path / "limit.png", dpi=DPI, bbox_inches="tight", format="png")
+    with _fonts():
+        fig = _limit()
+        fig.axes[0].get_legend().remove()
+        _save(fig, tmp_path / "limit.png")
     from PIL import Image
 
     with Image.open(REFERENCES / "limit.png") as a, Image.open(tmp_path / "limit.png") as b:

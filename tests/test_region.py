@@ -3,7 +3,7 @@ data, bifacial rows."""
 
 import json
 import os
-from dataclasses import replace
+from dataclasses import fields, replace
 from pathlib import Path
 
 import numpy as np
@@ -121,6 +121,18 @@ def tmy3():
     return os.path.join(os.path.dirname(pvlib.__file__), "data", "723170TYA.CSV")
 
 
+def pvlib_poa_global(site, frame):
+    """pvlib's plane-of-array global irradiance [W/m²] at each row of a weather frame (solar
+    position, isotropic sky, albedo 0.2), on the site's own plane."""
+    import pvlib
+
+    pos = pvlib.solarposition.get_solarposition(frame.index, site.latitude, site.longitude,
+                                                site.altitude_m)
+    return pvlib.irradiance.get_total_irradiance(
+        site.tilt_deg, site.azimuth_deg, pos["apparent_zenith"], pos["azimuth"], frame["dni"],
+        frame["ghi"], frame["dhi"], albedo=0.2)["poa_global"]
+
+
 def test_weather_file_insolation_equals_pvlib_plane_of_array_total():
     """The plane-of-array insolation equals pvlib's own total for the same file and steps
     (pvlib.irradiance.get_total_irradiance, isotropic sky), to rounding."""
@@ -130,12 +142,8 @@ def test_weather_file_insolation_equals_pvlib_plane_of_array_total():
     series = weather_series(site, tmy3())
     data, _ = pvlib.iotools.read_tmy3(tmy3(), coerce_year=2026, map_variables=True)
     data.index = data.index - pd.Timedelta(minutes=30)
-    kept = data.loc[series.times]
-    pos = pvlib.solarposition.get_solarposition(kept.index, site.latitude, site.longitude,
-                                                site.altitude_m)
-    poa = pvlib.irradiance.get_total_irradiance(30.0, 180.0, pos["apparent_zenith"], pos["azimuth"],
-                                                kept["dni"], kept["ghi"], kept["dhi"], albedo=0.2)
-    assert series.insolation_kWh_m2 == pytest.approx(poa["poa_global"].sum() / 1000, rel=1e-9)
+    poa = pvlib_poa_global(site, data.loc[series.times])
+    assert series.insolation_kWh_m2 == pytest.approx(poa.sum() / 1000, rel=1e-9)
     # weather as data: the same frame gives the same series
     frame = weather_frame_series(site, data[["ghi", "dni", "dhi", "temp_air", "wind_speed"]],
                                  source="weather file 723170TYA.CSV")
@@ -154,12 +162,8 @@ def test_a_half_hourly_weather_frame_counts_half_hours():
     columns = ["ghi", "dni", "dhi", "temp_air", "wind_speed"]
     half = data[columns].loc["2026-06-20":"2026-06-21"].resample("30min").ffill()
     series = weather_frame_series(site, half, source="half-hourly test frame")
-    kept = half.loc[series.times]
-    pos = pvlib.solarposition.get_solarposition(kept.index, site.latitude, site.longitude,
-                                                site.altitude_m)
-    poa = pvlib.irradiance.get_total_irradiance(30.0, 180.0, pos["apparent_zenith"], pos["azimuth"],
-                                                kept["dni"], kept["ghi"], kept["dhi"], albedo=0.2)
-    assert series.insolation_kWh_m2 == pytest.approx(poa["poa_global"].sum() * 0.5 / 1000, rel=1e-9)
+    poa = pvlib_poa_global(site, half.loc[series.times])
+    assert series.insolation_kWh_m2 == pytest.approx(poa.sum() * 0.5 / 1000, rel=1e-9)
 
 
 def test_a_pvlib_location_is_a_site():
@@ -515,6 +519,6 @@ def test_the_job_fingerprint_changes_with_every_input(job):
                "cell_temperature_K": 320.0, "cover_index": 1.0,
                "operating": OperatingPoint(temperature_K=310.0),
                "front": replace(job.front, ere=1e-3)}
-    assert set(changed) | {"back", "stack"} == {f.name for f in __import__("dataclasses").fields(job)}
+    assert set(changed) | {"back", "stack"} == {f.name for f in fields(job)}
     prints = {name: replace(job, **{name: value}).job_fingerprint() for name, value in changed.items()}
     assert len(set(prints.values()) | {job.job_fingerprint()}) == len(changed) + 1

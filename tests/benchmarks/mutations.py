@@ -15,6 +15,7 @@ mutation and the share caught.
 
 from __future__ import annotations
 
+import os
 import subprocess
 import sys
 import tempfile
@@ -129,7 +130,7 @@ def run(paths: list[str], where: Path, stop_first: bool = True) -> tuple[int, st
     """pytest's exit code and the first test it reports failed (or its last line)."""
     cmd = [sys.executable, "-m", "pytest", "-q", "-rf", "-p", "no:cacheprovider", "-p",
            "no:randomly", "-n", "2", *(["-x"] if stop_first else []), *paths]
-    done = subprocess.run(cmd, cwd=where, env={**__import__("os").environ, "PYTHONPATH": str(where)},
+    done = subprocess.run(cmd, cwd=where, env={**os.environ, "PYTHONPATH": str(where)},
                           capture_output=True, text=True)
     (where.parent / "last-run.txt").write_text(done.stdout + done.stderr)  # to read a failure
     lines = done.stdout.splitlines()
