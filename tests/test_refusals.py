@@ -434,6 +434,12 @@ def test_a_site_list_past_the_limit_and_an_empty_region_are_one_line(tmp_path):
     _refused(read_sites, tmp_path / "sites.csv", "100,001 sites", "at most 100,000")
     job = region_job("perovskite-wide", "silicon", front_gaps_eV=[1.70], thickness_points=2)
     _refused(lambda _: run_region([], job, tmp_path / "r"), None, "the region", "no sites")
+    # a scheduler that is neither an address nor a client (from Python)
+    from tandem.jobs.region import grid_sites
+
+    one = grid_sites((30.0, 30.0, 1.0), (0.0, 0.0, 1.0))
+    _refused(lambda _: run_region(one, job, tmp_path / "r", scheduler=8786), None,
+             "scheduler 8786", "or a dask.distributed.Client")
     assert not (tmp_path / "r").exists()
 
 

@@ -458,6 +458,9 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
         from tandem.jobs.region_cluster import check_scheduler_address
 
         check_scheduler_address(scheduler)
+    elif scheduler is not None and not callable(getattr(scheduler, "submit", None)):
+        raise TandemInputError(f"scheduler {scheduler!r:.60}: give an address (tcp://HOST:PORT) "
+                               "or a dask.distributed.Client")
     reason = region_folder_reason(folder, job, overwrite)
     if reason:
         raise TandemInputError(reason)
