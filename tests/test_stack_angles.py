@@ -216,8 +216,8 @@ def test_the_arriving_light_is_the_same_whatever_cover_the_site_names(source):
 
 
 def test_a_stack_yields_work_estimate_counts_its_angle_solves(monkeypatch):
-    # (temperature bins + 2 × 16 oblique nodes) × thicknesses with the sky's parts known;
-    # bins × thicknesses without them: the count the yield hands to its work check
+    # (temperature bins + 2 × 16 oblique nodes) solves of every thickness with the sky's parts
+    # known; the bins alone without them: the count the yield hands to its work estimate
     import tandem.jobs.energy_yield as job
     from tandem.design.stack_angles import ANGLE_SOLVES
     from tandem.design.yields import bin_count
@@ -225,11 +225,10 @@ def test_a_stack_yields_work_estimate_counts_its_angle_solves(monkeypatch):
     class Counted(Exception):
         pass
 
-    def check_work(name, count, *args, **kw):
-        if name == "yield --stack":
-            raise Counted(count)
+    def stack_work(stack, energies, thicknesses, batches):
+        raise Counted(thicknesses * batches)
 
-    monkeypatch.setattr(job, "check_work", check_work)
+    monkeypatch.setattr(job, "stack_work", stack_work)
     site = tandem.Site("field", latitude=38.5, longitude=-3.0, timezone="Etc/GMT-1")
     series = tandem.site_series(site, period="day:2026-06-21")
     flat = dataclasses.replace(series, arriving_direct=None)

@@ -14,7 +14,8 @@ from tandem.core.units import length_text
 
 
 def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str | None,
-                overwrite: bool, quiet: bool, json_out: bool, wide: bool, unused: dict) -> None:
+                overwrite: bool, quiet: bool, json_out: bool, wide: bool, unused: dict,
+                large: bool = False) -> None:
     """Match the front absorber of a layer stack and report where the photons go."""
     given = [name for name, value in unused.items() if value]
     if given:
@@ -35,7 +36,7 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str 
     check_outputs([budget], overwrite)
     with progress_bar(quiet or json_out, "matching") as bar:
         result = tandem.match_stack(loaded, build_light(o), build_operating(o), points=points,
-                                    progress=progress_callback(bar))
+                                    progress=progress_callback(bar), allow_large=large)
     from tandem.output.stack_plots import stack_figure
 
     s = result.summary()

@@ -109,17 +109,34 @@ def scatter(design: StackDesign, cond: Conditions, front_gap: float, front_thick
                          nominal_3t=float(nominal.efficiency_3t))
 
 
+#: Bytes a device of a stack spread holds per layer and photon energy while its chunk is
+#: solved: every film's thickness differs between devices, so every layer's fields are held
+#: per device (a 67-layer mirror, 200 devices a chunk: 4,808 MiB peak, 4,600 above the
+#: process's own: 152 bytes; tests/benchmarks/estimates.py)
+DEVICE_CELL_BYTES = 152.0
+#: The memory a chunk of stack devices may take; the chunk is sized to it (200 at most)
+CHUNK_BYTES = 256 * 2**20
+
+
+def stack_chunk(layers: int, energies: int) -> int:
+    """Devices of a stack spread solved at once: 200, or fewer where the stack has so many
+    layers × energies that 200 would hold more than :data:`CHUNK_BYTES`."""
+    return int(np.clip(CHUNK_BYTES // (layers * energies * DEVICE_CELL_BYTES), 1, 200))
+
+
 def scatter_stack(stack, flux, temperature_K: float, ideality: float, electrical,
                   front_thickness_nm: float, others: dict, thickness_sigma_pct: float = 5.0,
-                  samples: int = 2000, seed: int = 1, chunk: int = 200,
+                  samples: int = 2000, seed: int = 1, chunk: int | None = None,
                   progress=None) -> ScatterResult:
     """Every thin film of a layer stack (the coherent layers, front absorber included) drawn
     ~ N(d, σ·d) independently around the design: the front absorber at
     ``front_thickness_nm``, the swept layers at ``others`` (name → nm), every other layer at
     its file's thickness; thick incoherent layers (glass, the wafer) keep theirs. Each chunk
-    is one broadcast thin-film solve (:func:`~tandem.design.layerstack.photon_budget`)."""
+    (:func:`stack_chunk` devices unless given) is one broadcast thin-film solve
+    (:func:`~tandem.design.layerstack.photon_budget`)."""
     from tandem.design.layerstack import evaluate_budget, photon_budget
 
+    chunk = chunk or stack_chunk(len(stack.layers), flux.energy.size)
     if not (np.isfinite(thickness_sigma_pct) and 0 <= thickness_sigma_pct <= 100):
         raise TandemInputError(f"thickness σ {thickness_sigma_pct:g} %: give 0 to 100 %")
     _check_draws(samples, seed)

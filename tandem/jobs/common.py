@@ -23,15 +23,24 @@ Progress = Callable[[int, int], None]
 RATES = {"map": 3.0e5, "match": 1.0e4, "spread": 8.0e3,
          # a clear year (4,451 steps × 11 gaps × 16 thicknesses), perovskite over CIGS: 1.9 s,
          # 408,000 a second (the 1e6 used before predated recombination in the bulk, below)
-         "yield": 4.0e5,
-         # a layer stack's yield solves its films and traces its wafer per temperature bin and
-         # front thickness: 25 of them a second for the bundled wafer stack (12 bins × 8
-         # thicknesses of a June day in 3.9 s, measured here)
-         "yield --stack": 20.0}
+         "yield": 4.0e5}
 LIMIT_SECONDS, LIMIT_BYTES = 600.0, 2 * 2**30
+#: Resident memory of a tandem process before its job (numpy, scipy, matplotlib and the tool
+#: imported: `tandem map` of 41 × 21 gaps over absorbers peaked at 185 MiB, the whole tree
+#: sampled by tests/benchmarks/estimates.py); every memory estimate adds its job's to this.
+PROCESS_BYTES = 180 * 2**20
 #: A gap map's memory at its peak, per grid point: the grids, a chunk's arrays, the table and
 #: its files (a 901 × 701 map measured 183 MB above the command's own 199 MB: 290 bytes)
 MAP_BYTES = 300.0
+#: Writing a map's tables (CSV, Parquet) and figures, per gap pair: five times its computing
+#: (801 × 801 took 11.8 s and 1601 × 1201 34.9 s whole, 18 µs a pair, of which 3.3 µs compute)
+MAP_OUTPUT_SECONDS = 15e-6
+
+
+def map_work(pairs: int, per_pair: float = 1.0) -> tuple[float, float]:
+    """Seconds and bytes (above the process's own) of a gap map of ``pairs`` gap pairs written
+    to its tables and figures; ``per_pair``: its optics' cost in step-absorber pairs."""
+    return pairs * (per_pair / RATES["map"] + MAP_OUTPUT_SECONDS), pairs * MAP_BYTES
 
 
 #: A pair whose absorber has bulk recombination (Auger, SRH: the bundled silicon) solves the
@@ -59,6 +68,27 @@ SITE_SECONDS = 2.0
 WORKER_BYTES = 350 * 2**20
 
 
+#: A layer-stack solve's cost: per front thickness (the wafer's trace, the currents) and per
+#: layer, photon energy and front thickness (the films' fields), seconds; and the bytes held
+#: per layer, energy and thickness solved at once. Measured on the bundled wafer stack (770
+#: thickness solves of 7 layers, 26.3 s) and a 64-layer mirror (139 solves, 27.1 s); memory by
+#: tests/benchmarks/estimates.py (mirrors of 67 and 131 layers: 1,398 and 2,526 MiB peak).
+STACK_SOLVE_SECONDS, STACK_CELL_SECONDS, STACK_CELL_BYTES = 0.013, 1.3e-6, 70.0
+#: Solves of one thickness a match adds to its grid per swept combination: the bisection of
+#: each crossing and the four-terminal refinement (8 to 19 counted)
+STACK_REFINE_SOLVES = 20
+
+
+def stack_work(stack, energies: int, thicknesses: int, batches: float) -> tuple[float, float]:
+    """Seconds and bytes (above the process's own) of ``batches`` solves of a layer stack, each
+    at ``thicknesses`` front thicknesses at once on ``energies`` photon energies: both grow
+    with the layers, the energies and the thicknesses of a batch (every layer's fields are
+    held for each)."""
+    layers = len(stack.layers)
+    seconds = batches * thicknesses * (STACK_SOLVE_SECONDS + layers * energies * STACK_CELL_SECONDS)
+    return seconds, layers * energies * thicknesses * STACK_CELL_BYTES
+
+
 def region_seconds(job, specs) -> float:
     """One core's seconds for every site of a region: each site's daylight steps (half of the
     period's, or of a weather file's 8,760 hours) × the designs at the yield's measured rate
@@ -74,7 +104,10 @@ def region_seconds(job, specs) -> float:
         if job.stack is not None:  # films and wafer per temperature bin (about 20 a year)
             from tandem.design.stack_angles import ANGLE_SOLVES  # and per angle, s and p
 
-            return len(job.thicknesses_nm) * (20 + ANGLE_SOLVES) / RATES["yield --stack"]
+            from tandem.design.sky import common_grid
+
+            return stack_work(job.stack.stack, common_grid().size, len(job.thicknesses_nm),
+                              20 + ANGLE_SOLVES)[0]
         designs = len(job.gaps_eV) * len(job.thicknesses_nm)
         return steps * designs * yield_cost(job.operating, job.front, job.back) / RATES["yield"]
 
@@ -111,8 +144,10 @@ def check_seconds(job: str, seconds: float, what: str, allow_large: bool = False
     "is 40 sites on 2 local workers"). ``allow_large`` (``--large``) lifts the limit."""
     from tandem.core.errors import TandemInputError
 
-    if allow_large or (seconds <= LIMIT_SECONDS
-                       and (bytes_needed is None or bytes_needed <= LIMIT_BYTES)):
+    if bytes_needed is not None:
+        bytes_needed += PROCESS_BYTES  # the whole process, as a user sees it
+    log_estimate(job, what, seconds, bytes_needed)
+    if allow_large or not over_limits(seconds, bytes_needed):
         return
     memory, limit = ("", "") if bytes_needed is None else (
         f" and {bytes_needed / 2**20:,.0f} MiB on a 2-core laptop",
@@ -120,6 +155,21 @@ def check_seconds(job: str, seconds: float, what: str, allow_large: bool = False
     raise TandemInputError(f"this {job} {what}: about {seconds:,.0f} s{memory}, over the limit of "
                            f"{LIMIT_SECONDS / 60:.0f} min{limit}; narrow it, or pass --large to "
                            "run it anyway")
+
+
+def log_estimate(job: str, what: str, seconds: float, bytes_needed: float | None) -> None:
+    """Log a run's estimate (logger ``tandem.work``, level INFO: silent unless configured), for
+    tests/benchmarks/estimates.py to set beside the measured run."""
+    import logging
+
+    logging.getLogger("tandem.work").info("%s %s: %.3f s, %.0f bytes", job, what, seconds,
+                                          -1 if bytes_needed is None else bytes_needed)
+
+
+def over_limits(seconds: float, bytes_needed: float | None) -> bool:
+    """Whether a run estimated at ``seconds`` and ``bytes_needed`` (the whole process) needs
+    ``--large``."""
+    return seconds > LIMIT_SECONDS or (bytes_needed is not None and bytes_needed > LIMIT_BYTES)
 
 
 def frame(rows):

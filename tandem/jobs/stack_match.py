@@ -7,8 +7,8 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tandem.jobs.common import (Progress, ResultDisplay, check_connection, check_types, check_work,
-                                frame, with_conditions)
+from tandem.jobs.common import (STACK_REFINE_SOLVES, Progress, ResultDisplay, check_connection,
+                                check_seconds, check_types, frame, stack_work, with_conditions)
 from tandem.jobs.inputs import Light, OperatingPoint, Sweep
 from tandem.jobs.match import match
 
@@ -169,7 +169,8 @@ def swept_thicknesses(stack, others: dict) -> dict:
 
 
 def match_stack(stack, light: Light = Light(), operating: OperatingPoint = OperatingPoint(), *,
-                points: int = 120, progress: Progress | None = None) -> StackMatchResult:
+                points: int = 120, progress: Progress | None = None,
+                allow_large: bool = False) -> StackMatchResult:
     """Current-match the front absorber of a layer stack, thin-film interference included.
 
     Parameters
@@ -181,6 +182,9 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
         losses do not apply: the stack's layers are the losses).
     points : int
         Front-absorber thicknesses on the log-spaced grid (every crossing is then refined).
+    allow_large : bool
+        Run a stack estimated over 10 minutes or 2 GiB (it grows with layers × energies ×
+        thicknesses) instead of refusing it.
 
     Examples
     --------
@@ -205,8 +209,11 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
     if not (isinstance(points, int) and 8 <= points <= 2000):
         raise TandemInputError(f"points {points!r}: give 8 to 2000 front thicknesses")
     combos = int(np.prod([x.points for x in stack.swept])) if stack.swept else 1
-    check_work("match", combos * points * 20, what="layer-stack evaluations")
     flux = light.photon_flux()
+    seconds, _ = stack_work(stack, flux.energy.size, points + STACK_REFINE_SOLVES, combos)
+    check_seconds("match --stack", seconds, f"solves {len(stack.layers)} layers × "
+                  f"{flux.energy.size:,} energies × {points} thicknesses × {combos} combinations",
+                  allow_large, stack_work(stack, flux.energy.size, points, 1)[1])
     result = match_in_stack(stack, flux, operating.temperature_K, points, operating.ideality,
                             operating.electrical, progress)
     front, back = stack.front, stack.back

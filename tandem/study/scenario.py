@@ -21,7 +21,7 @@ from pathlib import Path
 from tandem.core.errors import TandemInputError
 import numpy as np
 
-from tandem.jobs.common import LIMIT_BYTES, MAP_BYTES
+from tandem.jobs.common import PROCESS_BYTES, log_estimate, map_work, over_limits
 from tandem.jobs.inputs import MAX_GAPS, Light, OperatingPoint, Sweep, gap_range
 from tandem.physics.checks import MIN_ERE
 from tandem.optics.absorbers import Absorber
@@ -391,9 +391,12 @@ def resolve(path: Path, key: str, text: str, absorber_source, file_source, stack
                        f"{MAX_GAPS:,} points)")
         f, b = (c.get("map", k) for k in ("front_gap_range_eV", "back_gap_range_eV"))
         points = (int(round((f[1] - f[0]) / f[2])) + 1) * (int(round((b[1] - b[0]) / b[2])) + 1)
-        if points * MAP_BYTES > LIMIT_BYTES:  # the map command's measured memory a grid point
-            c.fail("map", f"has {points:,} gap pairs, about {points * MAP_BYTES / 2**30:.1f} GiB",
-                   "give coarser steps (at most about 7 million pairs)")
+        seconds, bytes_needed = map_work(points)  # as the map command measured
+        log_estimate("study [map]", f"has {points:,} gap pairs", seconds, PROCESS_BYTES + bytes_needed)
+        if over_limits(seconds, PROCESS_BYTES + bytes_needed):
+            c.fail("map", f"has {points:,} gap pairs: about {seconds:,.0f} s and "
+                   f"{(PROCESS_BYTES + bytes_needed) / 2**30:.1f} GiB",
+                   "give coarser steps (at most about 6 million pairs)")
     top = c.get("report", "top")
     if top is not None and not (float(top).is_integer() and 1 <= top <= 10_000):
         c.fail("report.top", f"= {top:g} is not a whole number of rows in 1–10000", "give e.g. 10")
