@@ -148,6 +148,20 @@ def test_the_thickness_that_would_match(tmp_path, am15g):
     assert photocurrent(am15g, f) == pytest.approx(photocurrent(am15g, b), rel=1e-4)
 
 
+def test_an_absorber_given_for_the_subcell_that_does_not_limit_is_checked_and_said(tmp_path):
+    # the front limits here: a back absorber given beside it was once ignored in silence (even
+    # with a thickness outside its range); now it is read, checked and named in a note
+    front, back = demo_files(tmp_path)
+    r = tandem.measured_eqe(front, back, front_absorber="perovskite-wide", front_thickness_nm=480.0,
+                            back_absorber="silicon", back_thickness_nm=160e3)
+    assert r.summary()["matching"]["subcell"] == "front"
+    assert any("back absorber not used: the front subcell limits" in n for n in r.summary()["notes"])
+    with pytest.raises(tandem.TandemInputError, match="back thickness"):
+        tandem.measured_eqe(front, back, back_absorber="silicon", back_thickness_nm=160.0)
+    with pytest.raises(tandem.TandemInputError, match="back absorber's description and its"):
+        tandem.measured_eqe(front, back, back_thickness_nm=160e3)
+
+
 def test_a_thicker_front_dims_the_back_by_beer_lambert():
     # The back's EQE behind a front of 480 nm, moved to 600 nm, is the back made behind 600 nm
     # directly: the front's single pass e^{−αd} (Beer–Lambert, α in cm⁻¹ from the absorber file,

@@ -171,7 +171,7 @@ def match(front: Annotated[Optional[str], typer.Argument(help="Front (sunward) a
         return stack_match(stack, o, points, plot, budget, overwrite, quiet, json_out, wide, {
             "--front-gaps": front_gaps, "--front-thickness": front_thickness,
             "--back-thickness": back_thickness, "--losses": losses,
-            "--top": given("top"), "--tolerance": given("tolerance"), "--large": large})
+            "--top": given("top"), "--tolerance": given("tolerance")}, large)
     if budget:
         raise TandemInputError("--budget needs --stack: the photon budget of FRONT BACK is in "
                                "--plot and --json")
@@ -343,6 +343,8 @@ def study(scenario: Annotated[Optional[str], typer.Argument(
     if list_all:
         return say(*[f"{n}: {load_scenario(n).data['question']}" for n in bundled_scenarios()])
     sc = load_scenario(scenario, accept_edited)
+    if out_dir is not None and not out_dir.strip():
+        raise TandemInputError("--out '': give a folder name, e.g. --out organic")
     folder = Path(out_dir or f"study-{sc.key}")
     check_study_target(folder, overwrite, sc.input_paths)  # refuse before the work, not after
     with progress_bar(quiet or json_out, f"study {sc.key}") as bar:

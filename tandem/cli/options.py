@@ -373,9 +373,11 @@ def parse_gap_option(text, option, default_step=0.02):
 
 
 def progress_bar(quiet: bool, label: str):
+    """A transient progress bar on stderr, drawn only on a real terminal: FORCE_COLOR (common
+    in CI logs) makes rich take any stream for one, and a log would keep every frame."""
     from contextlib import nullcontext
 
-    if quiet:
+    if quiet or not _is_terminal(sys.stderr):
         return nullcontext(None)
     from rich.progress import BarColumn, Progress, TextColumn, TimeRemainingColumn
 

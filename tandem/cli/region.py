@@ -123,6 +123,8 @@ def region(
     else:
         job = region_job(front, back, build_operating(o), back_thickness_nm=back_d, period=period,
                          step_minutes=step, reference=build_light(o), stack=stack, **sweep)
+    if out_folder is not None and not out_folder.strip():
+        raise TandemInputError("--out '': give a folder name, e.g. --out region-south")
     folder = Path(out_folder or default)
     from tandem.jobs.common import WORKER_BYTES, check_seconds, region_seconds
 

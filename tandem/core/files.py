@@ -112,7 +112,10 @@ def write_all_whole(writers: dict, overwrite: bool = False) -> list[Path]:
             fd, name = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=path.suffix, dir=path.parent)
             os.close(fd)
             temps[path] = Path(name)
-            write(temps[path])
+            try:
+                write(temps[path])
+            except OSError as exc:  # a full disk: name the output, not its temporary
+                raise OSError(exc.errno, exc.strerror or str(exc), str(path)) from exc
             publish_mode(temps[path])
         for path, done in temps.items():
             os.replace(done, path)

@@ -167,6 +167,10 @@ def _layer(path: Path, i: int, x: dict) -> StackLayer:
         sweep, thickness = (lo, hi), math.sqrt(lo * hi)
     else:
         thickness, sweep = _number(path, f"{where}.thickness_nm", t, 0.1, 1e8, "nm"), None
+    if "points" in x and (sweep is None or role == "front"):  # nothing would read it
+        _fail(path, f"{where}.points", "is only for a swept layer besides the front absorber "
+              "(whose thicknesses --points sets)", "remove it, or sweep the layer with "
+              "thickness_nm = [thin, thick]")
     points = _number(path, f"{where}.points", x.get("points", 7), 2, 200, "a count")
     if not points.is_integer():  # 7.5 was once taken as 7
         _fail(path, f"{where}.points", f"= {points:g} is not a whole number", "give a count, e.g. 7")

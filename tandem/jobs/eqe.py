@@ -115,26 +115,32 @@ def measured_eqe(front, back, light: Light = Light(), operating: OperatingPoint 
     f, b = (subcell_from_eqe(m, flux, t, v) for m, v in zip(curves, vocs))
     matching = None
     limiting = "front" if f.j_light < b.j_light else "back"
-    absorber = {"front": (front_absorber, front_thickness_nm),
-                "back": (back_absorber, back_thickness_nm)}[limiting]
-    if absorber[0] is not None:
-        a = as_absorber(absorber[0])
-        if absorber[1] is None:
+    given = {}  # every absorber given is read and its thickness checked, limiting or not
+    for side, (name, thickness) in {"front": (front_absorber, front_thickness_nm),
+                                    "back": (back_absorber, back_thickness_nm)}.items():
+        if name is None and thickness is None:
+            continue
+        if name is None or thickness is None:
             from tandem.core.errors import TandemInputError
 
-            raise TandemInputError(f"give the {limiting} absorber's present thickness with its "
-                                   "description")
-        a.check_thickness(absorber[1], f"{limiting} thickness")
-        d = matching_thickness(curves[0], curves[1], flux, limiting, a, absorber[1], t)
+            raise TandemInputError(f"give the {side} absorber's description and its present "
+                                   "thickness together (or neither)")
+        given[side] = (as_absorber(name), float(thickness))
+        given[side][0].check_thickness(float(thickness), f"{side} thickness")
+    extra = tuple(f"{side} absorber not used: the {limiting} subcell limits, so only its "
+                  "thickness can match the currents" for side in given if side != limiting)
+    if limiting in given:
+        a, thickness = given[limiting]
+        d = matching_thickness(curves[0], curves[1], flux, limiting, a, thickness, t)
         matching = {"subcell": limiting, "absorber": a.key,
-                    "thickness_nm": absorber[1], "matched_thickness_nm":
+                    "thickness_nm": thickness, "matched_thickness_nm":
                     None if d is None else round(d, 1),
                     "note": "" if d is not None else f"no thickness in {a.key}'s range "
                     f"{a.thickness_range_nm[0]:g}–{a.thickness_range_nm[1]:g} nm matches"}
     year = None
     if series is not None:
         year = _eqe_year(curves, series)
-    notes = tuple(n for m in curves for n in m.notes)
+    notes = tuple(n for m in curves for n in m.notes) + extra
     return EQEResult(f, b, flux.name, float(t), notes, matching, year, tuple(curves))
 
 

@@ -541,8 +541,14 @@ def write_region_outputs(result: RegionResult, grids: bool = False) -> list[Path
     dataset = result.to_dataset(grids)
     frame = result.to_frame()
     figure = result.plot()
-    return write_all_whole({
-        folder / "region.nc": lambda tmp: dataset.to_netcdf(tmp, engine="scipy"),
-        folder / "region.csv": lambda tmp: write_csv(frame, tmp),
-        folder / "region.png": lambda tmp: savefig(figure, tmp, "png"),
-    }, overwrite=True)
+    try:
+        return write_all_whole({
+            folder / "region.nc": lambda tmp: dataset.to_netcdf(tmp, engine="scipy"),
+            folder / "region.csv": lambda tmp: write_csv(frame, tmp),
+            folder / "region.png": lambda tmp: savefig(figure, tmp, "png"),
+        }, overwrite=True)
+    except OSError as exc:  # a full disk: the sites' records are whole and kept for a rerun
+        raise TandemInputError(
+            f"cannot write '{exc.filename}' ({exc.strerror}); the {len(result.records):,} sites "
+            f"computed are kept in {folder / 'sites'}: free some space and run the same command "
+            "again (it reuses them)") from exc

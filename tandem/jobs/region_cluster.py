@@ -26,8 +26,9 @@ def check_scheduler_address(address: str) -> None:
         port = parts.port
     except ValueError:
         port, parts = None, None
-    if (parts is None or parts.scheme not in ("tcp", "tls") or not parts.hostname
-            or port is None or parts.path not in ("", "/") or parts.query or parts.username):
+    if (parts is None or parts.scheme not in ("tcp", "tls") or not parts.hostname or port is None
+            or parts.username is not None  # and nothing but scheme://host:port (a '#', '?', path)
+            or str(address).rstrip("/") != f"{parts.scheme}://{parts.netloc}"):
         raise TandemInputError(f"--scheduler '{address}': give tcp://HOST:PORT (or tls://HOST:PORT "
                                "with certificates in dask's configuration), e.g. "
                                "tcp://10.0.0.5:8786")
