@@ -419,7 +419,8 @@ def test_an_nk_table_gives_the_alpha_and_index_of_its_data(tmp_path):
 @pytest.mark.parametrize("rows, message", [
     (["500,4.3,0", "900,3.6,0"], "fewer than two rows with k > 0"),
     (["0.5,4.3,0.07", "0.9,3.6,0.0002"], "wavelengths look like µm"),
-    (["500,4.3", "900,3.6"], "three numeric columns|at least two rows"),
+    (["500,4.3", "900,3.6"], "a row of 2 numbers; give exactly three"),
+    (["500,4.3,0.1,7", "900,3.6,0.2,7"], "a row of 4 numbers; give exactly three"),
     (["500,-4.3,0.1", "900,3.6,0.2"], "n ≤ 0 or k < 0")])
 def test_bad_nk_tables_are_one_line(tmp_path, rows, message):
     with pytest.raises(tandem.TandemInputError, match=message):

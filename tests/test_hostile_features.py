@@ -73,6 +73,8 @@ STACK_EDITS = {
     "nk-csv-empty": ("P", "nk = [1.9, 0.05]", 'nk = "empty.csv"'),
     "nk-csv-negative-k": ("P", "nk = [1.9, 0.05]", 'nk = "negative-k.csv"'),
     "nk-csv-outside-light": ("P", "nk = [1.9, 0.05]", 'nk = "far-infrared.csv"'),
+    "nk-csv-four-columns": ("P", "nk = [1.9, 0.05]", 'nk = "four-columns.csv"'),
+    "nk-csv-repeated": ("P", "nk = [1.9, 0.05]", 'nk = "repeated.csv"'),
     "name-number": ("P", 'name = "recombination layer"', "name = 5"),
     "name-empty": ("P", 'name = "recombination layer"', 'name = ""'),
     "absorber-unknown": ("P", 'absorber = "organic-narrow"', 'absorber = "unobtainium"'),
@@ -139,6 +141,7 @@ EQE_FILES = {
     "eqe-nan.csv": "wavelength_nm,eqe\n400,nan\n500,0.8\n600,0.8\n",
     "eqe-inf.csv": "wavelength_nm,eqe\n400,inf\n500,0.8\n600,0.8\n",
     "eqe-conflicting.csv": "wavelength_nm,eqe\n400,0.8\n400,0.2\n500,0.8\n",
+    "eqe-repeated.csv": "wavelength_nm,eqe\n400,0.8\n500,0.8\n500,0.8\n600,0.8\n",
     "eqe-zero-wavelength.csv": "wavelength_nm,eqe\n0,0.8\n500,0.8\n600,0.8\n",
     "eqe-negative-wavelength.csv": "wavelength_nm,eqe\n-400,0.8\n500,0.8\n600,0.8\n",
     "eqe-far-infrared.csv": "wavelength_nm,eqe\n50000,0.8\n60000,0.8\n70000,0.8\n",
@@ -216,6 +219,8 @@ def write_inputs(folder: Path) -> None:
     (folder / "empty.csv").write_text("")
     (folder / "negative-k.csv").write_text("wavelength_nm,n,k\n300,1.9,-0.1\n1200,1.9,-0.1\n")
     (folder / "far-infrared.csv").write_text("wavelength_nm,n,k\n50000,1.9,0\n60000,1.9,0\n")
+    (folder / "four-columns.csv").write_text("wavelength_nm,n,k,x\n300,1.9,0.1,7\n1200,1.9,0.1,7\n")
+    (folder / "repeated.csv").write_text("wavelength_nm,n,k\n300,1.9,0.1\n300,2.0,0.1\n1200,1.9,0\n")
     (folder / "eqe-ok.csv").write_text(EQE_OK)
     for name, text in EQE_FILES.items():
         (folder / name).write_text(text)
@@ -231,6 +236,8 @@ def case_id(args: tuple) -> str:
     return " ".join(a for a in args if a not in ONE and a not in REGION[1:])[:80]
 
 
+# a numpy warning would print lines of its own before the one-line error
+@pytest.mark.filterwarnings("error::RuntimeWarning")
 @pytest.mark.parametrize("args", CASES, ids=[case_id(c) for c in CASES])
 def test_a_hostile_input_to_a_newer_feature_is_one_line(args, tmp_path, monkeypatch, capsys):
     # through the console entry point itself (framework errors are one line there too)

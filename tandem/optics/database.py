@@ -117,19 +117,30 @@ def read_nk_table(file: Path) -> tuple[np.ndarray, np.ndarray]:
     :class:`NkTableError`."""
     import csv
 
-    from tandem.physics.columns import spectrum_units
+    from tandem.physics.columns import MAX_ROWS, spectrum_units
 
-    rows = []
+    rows: list[list[float]] = []
     try:
         text = Path(file).read_text(encoding="utf-8")  # read once: numbers and header
-        for line in csv.reader(text.splitlines()):
+        lines = text.splitlines()
+        if len(lines) > MAX_ROWS:
+            raise NkTableError(f"'{file.name}' has {len(lines):,} lines",
+                               f"give at most {MAX_ROWS:,} rows")
+        for line in csv.reader(lines):
             if not line or line[0].strip().startswith("#"):
                 continue
             try:
-                rows.append([float(v) for v in line[:3]])
+                values = [float(v) for v in line if v.strip()]
             except ValueError:
                 if rows:  # a header is allowed only before the numbers
                     raise
+                continue
+            if len(values) != 3:  # a fourth column was once dropped in silence
+                raise NkTableError(f"'{file.name}' has a row of {len(values)} numbers",
+                                   "give exactly three per row: wavelength nm, n, k")
+            rows.append(values)
+    except NkTableError:
+        raise
     except (ValueError, UnicodeDecodeError, OSError):
         raise NkTableError(f"'{file.name}' is not three numeric columns",
                            "give wavelength nm, n, k per row") from None

@@ -350,9 +350,7 @@ def _read_table(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge:
                         if axis == "wavelength_nm" and x.max() < 20 else
                         "energies in eV? check table_axis" if axis == "energy_eV" else
                         "check the unit")
-    order = np.argsort(energy)
-    if np.any(np.diff(energy[order]) <= 0):
-        c.fail("absorption.table", f"'{path.name}' repeats a point", "remove duplicate rows")
+    order = np.argsort(energy)  # distinct: parse_two_columns refuses a point given twice
     return TabulatedEdge(energy[order], alpha[order], urbach_eV, f"table {rel}")
 
 

@@ -90,7 +90,13 @@ def parse_two_columns(text: str, where: str, x_name: str, y_name: str, rising: b
         rows.append((x, y))
     if len(rows) < 2:
         raise TandemInputError(f"{where}: needs at least two data rows of {x_name} and {y_name}")
-    return np.array(rows)
+    table = np.array(rows)
+    xs = np.sort(table[:, 0])
+    twice = xs[1:][xs[1:] == xs[:-1]]
+    if twice.size:  # an unsorted table may be sorted; one with a point twice cannot be read
+        raise TandemInputError(f"{where}: {named(x_name, float(twice[0]))} appears in more than "
+                               "one row; keep one row for each")
+    return table
 
 
 def header_cells(text: str) -> list[str] | None:
