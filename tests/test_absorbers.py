@@ -438,3 +438,12 @@ def test_an_nk_table_headed_in_um_is_converted(tmp_path):
     np.testing.assert_allclose(a[1], b[1])
     with pytest.raises(Exception, match="look like µm"):
         read_nk_table(tmp_path / "bare.csv")
+
+
+def test_a_description_saved_with_a_byte_order_mark_loads(tmp_path):
+    # Windows editors start UTF-8 files with U+FEFF; it once made any absorber file "not valid
+    # TOML (Invalid statement at line 1)"
+    text = (ROOT_ABSORBERS / "cdte.toml").read_text(encoding="utf-8")
+    path = tmp_path / "cdte-bom.toml"
+    path.write_bytes(b"\xef\xbb\xbf" + text.encode("utf-8"))
+    assert tandem.load_absorber(path).gap_eV == tandem.load_absorber("cdte").gap_eV

@@ -65,6 +65,8 @@ CASES = [
     ("limit", "1.34", "--front-index", "100"), ("limit", "1.34", "--reflectance", "1"),
     ("limit", "1.34", "--reflectance", "-0.1"), ("limit", "1.34", "--reflectance", "r.csv"),
     ("limit", "1.34", "--plot", "out.xyz"), ("limit", "1.34", "--plot", "nodir/out.png"),
+    ("limit", "1.34", "-s", "blinding.csv"), ("limit", "1.34", "-s", "starless.csv"),
+    ("match", "perovskite-wide", "silicon", "--back-thickness", "1e308um", "--front-gaps", "1.7"),
     # absorbers
     ("absorbers", "unobtainium"), ("absorbers", "nowhere.toml"), ("absorbers", "x" * 300),
     ("absorbers", "silicon", "--plot", "a.bmp"),
@@ -221,6 +223,8 @@ def inputs(folder: Path) -> None:
     (folder / "latin1-sites.csv").write_bytes("name,latitude,longitude\nCaf\u00e9,40,0\n".encode("latin-1"))
     (folder / "nan-sites.csv").write_text("name,latitude,longitude\nsite,nan,0\n")
     (folder / "r.csv").write_text("300,0.1\n1000,0.1\n")
+    (folder / "blinding.csv").write_text("wavelength_nm,irradiance\n300,1e300\n1200,1e300\n")
+    (folder / "starless.csv").write_text("wavelength_nm,irradiance\n300,1e-300\n1200,1e-300\n")
     epw = ["LOCATION,Test,,,,0,40,0,0,0"] + ["X"] * 7
     epw += [f"2026,1,1,{h},0,?,0,0,0,0,0,0,0,0,1e300,1e300,1e300,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0,0"
             for h in range(1, 25)]

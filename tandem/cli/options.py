@@ -321,7 +321,9 @@ def parse_thickness(text: str, option: str) -> float:
         value = float(t) * scale
     except ValueError:
         raise TandemInputError(f"{option} '{text}': give a thickness such as 500nm or 160um") from None
-    if not (value > 0 and math.isfinite(value)):
+    if not math.isfinite(value):  # 1e308um is 1e311 nm: once told it "must be positive"
+        raise TandemInputError(f"{option} '{text}': not a finite thickness; give e.g. 500nm or 160um")
+    if not value > 0:
         raise TandemInputError(f"{option} '{text}': a thickness must be positive")
     return value
 

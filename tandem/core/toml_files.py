@@ -101,8 +101,8 @@ def read_toml(path: Path, label: str = "absorber file",
     if not path.is_file():
         raise TandemInputError(f"{label} '{path}' not found; give a path to a .toml file {hint}")
     try:
-        with open(path, "rb") as fh:
-            return tomllib.load(fh)
+        # a byte-order mark (Windows editors write one) is not TOML; it is dropped
+        return tomllib.loads(path.read_bytes().decode("utf-8").removeprefix("\ufeff"))
     except tomllib.TOMLDecodeError as exc:
         raise TandemInputError(f"{label} '{path}': not valid TOML ({exc}); fix the syntax") from None
     except RecursionError:

@@ -357,6 +357,30 @@ def read_spectrum_csv(path: str | Path) -> Spectrum:
     return parse_spectrum_text(text, str(path), path.name)
 
 
+#: The spectral irradiance a spectrum may reach [W m⁻² nm⁻¹]: about 500,000 times the sun's
+#: peak (about 2 in AM0), beyond sunlight concentrated as far as it can be (about 46,000×)
+MAX_SPECTRAL_IRRADIANCE = 1e6
+#: The dimmest spectrum taken [W m⁻²]: a millionth of dim indoor light (about 1 W m⁻²); below
+#: it every current underflows and a limit of 0 % would be printed as if computed
+MIN_IRRADIANCE = 1e-6
+
+
+def _checked_light(spectrum: Spectrum, where: str) -> Spectrum:
+    """``spectrum`` if its light lies between the two limits above, else one line saying so."""
+    top = float(spectrum.irradiance.max())
+    if top > MAX_SPECTRAL_IRRADIANCE:
+        raise TandemInputError(f"{where}: irradiance reaches {top:.3g} W m^-2 nm^-1, above "
+                               f"{MAX_SPECTRAL_IRRADIANCE:g} (about 500,000 suns); check the unit "
+                               "of the second column (W m^-2 nm^-1)")
+    total = spectrum.integrated_irradiance
+    if not total > 0:
+        raise TandemInputError(f"{where}: irradiance is zero everywhere; check the second column")
+    if total < MIN_IRRADIANCE:
+        raise TandemInputError(f"{where}: {total:.3g} W/m² in all, too dim for a cell (at least "
+                               f"{MIN_IRRADIANCE:g} W/m²); check the unit of the second column")
+    return spectrum
+
+
 def parse_spectrum_text(text: str, where_label: str, name: str) -> Spectrum:
     """The two-column spectrum in ``text`` (see :func:`read_spectrum_csv`); ``where_label``
     names its origin in messages, ``name`` becomes the spectrum's name."""
@@ -372,11 +396,8 @@ def parse_spectrum_text(text: str, where_label: str, name: str) -> Spectrum:
     if x_scale != 1.0 and top > 1e5:
         raise TandemInputError(f"{label}: the header says µm but the wavelengths run to "
                                f"{top / 1e3:g} µm; head the column wavelength_nm, or give µm")
-    spectrum = Spectrum(name=name, wavelength_nm=wavelength, irradiance=irradiance)
-    if not spectrum.integrated_irradiance > 0:
-        raise TandemInputError(f"spectrum file '{where_label}': irradiance is zero everywhere; "
-                               "check the second column")
-    return spectrum
+    return _checked_light(Spectrum(name=name, wavelength_nm=wavelength, irradiance=irradiance),
+                          label)
 
 
 def scaled(spectrum: Spectrum, factor: float, why: str) -> Spectrum:
@@ -513,7 +534,5 @@ def spectrum_from_arrays(wavelength_nm, irradiance, name: str = "user spectrum")
                                "them and remove duplicates")
     if (irr < 0).any():
         raise TandemInputError(f"{where}: irradiance is negative somewhere")
-    spectrum = Spectrum(name=name, wavelength_nm=wl.copy(), irradiance=irr.copy())
-    if not spectrum.integrated_irradiance > 0:
-        raise TandemInputError(f"{where}: irradiance is zero everywhere")
-    return spectrum
+    return _checked_light(Spectrum(name=name, wavelength_nm=wl.copy(), irradiance=irr.copy()),
+                          where)
