@@ -525,3 +525,20 @@ def test_a_series_basis_is_built_on_one_blas_thread_wherever_it_is_first_asked(m
         series.energy  # the first ask, outside any yield
         series.parts_basis()
     assert len(seen) == 2 and all(n == [1] * len(n) for n in seen), seen
+
+
+def test_a_weather_file_shorter_than_a_year_says_so(tmp_path):
+    # a typical-year file holds 8,760 hours (TMY3 and EPW, NREL's user manuals); 41 days of
+    # pvlib's TMY3 file were once reported with nothing said of the missing 324
+    import os
+
+    import pvlib
+
+    path = os.path.join(os.path.dirname(pvlib.__file__), "data", "723170TYA.CSV")
+    lines = open(path, encoding="utf-8").read().splitlines()
+    short = tmp_path / "short.csv"
+    short.write_text("\n".join(lines[:2 + 41 * 24]) + "\n")
+    site = Site("weather test", 36.1, -79.9, 270.0, 30.0, 180.0, "Etc/GMT+5")
+    notes = weather_series(site, short).notes
+    assert any("holds 984 hours (41.0 days), not a typical year" in n for n in notes), notes
+    assert not any("typical year" in n for n in weather_series(site, path).notes)

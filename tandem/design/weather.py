@@ -55,7 +55,15 @@ def weather_series(site: Site, path: str | Path, rows: Rows | None = None) -> Sp
         raise TandemInputError(f"weather file '{path}' cannot be read as EPW or TMY3 "
                                f"({type(exc).__name__}); check the format") from None
     data.index = data.index - pd.Timedelta(minutes=30)  # typical-year stamps end their hour
-    return weather_frame_series(site, data, rows, f"weather file {path.name}")
+    series = weather_frame_series(site, data, rows, f"weather file {path.name}")
+    hours = len(data.index)
+    if hours < 8760:  # a typical year has 8,760 hours; a shorter file is not one (said)
+        from dataclasses import replace
+
+        series = replace(series, notes=series.notes + (
+            f"weather file {path.name} holds {hours:,} hours ({hours / 24:.1f} days), not a "
+            "typical year of 8,760: every energy is over those hours",))
+    return series
 
 
 #: Weather columns in pvlib's conventions, with the ranges a value must lie in.
