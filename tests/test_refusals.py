@@ -38,6 +38,9 @@ PEROVSKITE, ORGANIC, SILICON, DYE = "perovskite-wide", "organic-wide", "silicon"
 SOURCES_TAIL = ()  # no edit: the file is cut at [sources]
 
 ABSORBER_CASES = [
+    (PEROVSKITE, [("temperature_coefficient_meV_per_K = 0.25",
+                   "temperature_coefficient_meV_per_K = 1e300")],
+     "gap.temperature_coefficient_meV_per_K", "outside −2 to 2 meV/K"),
     # a gap is either fixed or a relation
     (PEROVSKITE, [("[gap]\n", "[gap]\nvalue_eV = 1.7\n")], "gap.value_eV", "both given"),
     (PEROVSKITE, [('relation = "polynomial"', 'relation = "spline"')], "gap.relation",

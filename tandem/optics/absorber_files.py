@@ -131,6 +131,11 @@ def parse_absorber(path: Path) -> Absorber:
     elif not value > 0:
         c.fail("gap.value_eV", f"= {value:g} must be positive", "give the band gap in eV")
     tc = c.get("gap", "temperature_coefficient_meV_per_K")
+    # measured gap coefficients lie within about ±1 meV/K (silicon −0.27, GaAs −0.45, lead
+    # halide perovskites +0.2 to +0.3: handbook values, recalled); ±2 leaves room, 1e300 none
+    if tc is not None and not -2.0 <= tc <= 2.0:
+        c.fail("gap.temperature_coefficient_meV_per_K", f"= {tc:g} is outside −2 to 2 meV/K",
+               "give the gap's shift per kelvin in meV/K, e.g. -0.27 for silicon")
 
     # --- absorption edge ---------------------------------------------------------------
     name = c.get("absorption", "model")
