@@ -202,7 +202,7 @@ def test_docs_python_api_runs_as_printed(tmp_path, monkeypatch):
     exec(compile(block, "docs/python-api.md", "exec"), namespace)
     assert round(namespace["r"].summary()["efficiency_pct"], 2) == 45.04
     assert (tmp_path / "gap-map.nc").stat().st_size > 10_000
-    assert len(namespace["region"].records) == 2 and (tmp_path / "region-out" / "sites").is_dir()
+    assert len(namespace["region"].records) == 2 and (tmp_path / "region-out" / "sites.sqlite").is_file()
 
 
 def test_one_reader_for_every_two_column_file(tmp_path):

@@ -342,13 +342,15 @@ FULL_DISK = {
     "spread figure": ("spread perovskite-wide silicon --samples 200 --plot s.png -q", ["s.png"]),
     "absorber figure": ("absorbers silicon --plot a.png", ["a.png"]),
     "study folder": ("study low-cost-organic-pair --out s -q", ["s"]),
+    "region folder": ("region perovskite-wide silicon --latitudes 40:40:1 --longitudes 0:0:1 "
+                      "--period day:2026-06-21 --points 4 --out r -q --workers 1", ["r"]),
 }
 
 
-def in_full_disk(args: str, folder: Path):
+def in_full_disk(args: str, folder: Path, kib: int = 2):
     import matplotlib.font_manager  # noqa: F401  (its font cache made here, not under the limit)
 
-    return tandem_in_shell(f"ulimit -f 2; $TANDEM {args}", folder, timeout=300)
+    return tandem_in_shell(f"ulimit -f {kib}; $TANDEM {args}", folder, timeout=300)
 
 
 @pytest.mark.parametrize("name", FULL_DISK)
@@ -372,7 +374,7 @@ def test_a_full_disk_keeps_a_regions_whole_site_records_for_the_rerun(tmp_path):
 
     args = ("region perovskite-wide silicon --latitudes 40:41:1 --longitudes 0:0:1 --period "
             "day:2026-06-21 --points 4 --out r -q --workers 1")
-    done = in_full_disk(args, tmp_path)
+    done = in_full_disk(args, tmp_path, kib=120)  # room for the store, not the 180 KiB figure
     err = done.stderr.decode("utf-8", "replace")
     lines = [line for line in err.strip().splitlines() if line.strip()]
     assert done.returncode == 2 and len(lines) == 1, err
@@ -381,8 +383,12 @@ def test_a_full_disk_keeps_a_regions_whole_site_records_for_the_rerun(tmp_path):
     assert not [p.name for p in folder.iterdir() if p.name.startswith("region.") and
                 p.name != "region.json"], list(folder.iterdir())
     assert not [p for p in folder.rglob(".*") if p.is_file()], "temporary files left behind"
-    for record in (folder / "sites").iterdir():
-        json.loads(record.read_text())  # whole
+    import sqlite3
+    from contextlib import closing
+
+    with closing(sqlite3.connect(folder / "sites.sqlite")) as db:
+        records = [json.loads(text) for (text,) in db.execute("SELECT record FROM site")]
+    assert len(records) == 2  # whole
     again = tandem_in_shell(f"$TANDEM {args} --json", tmp_path)
     assert again.returncode == 0, again.stderr.decode()[-1500:]
     summary = json.loads(again.stdout)

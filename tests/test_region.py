@@ -30,6 +30,7 @@ Dunas Altas,23.5,32.9,200,,
 
 
 @pytest.fixture(scope="module")
+
 def job():
     f, b = tandem.load_absorber("perovskite-wide"), tandem.load_absorber("silicon")
     return RegionJob(f, b, OperatingPoint(), (1.62, 1.70, 1.78, 1.86), (300.0, 700.0, 1500.0),
@@ -72,7 +73,7 @@ def test_an_interrupted_region_resumes_with_only_the_rest(sites, day_job, tmp_pa
 
     with pytest.raises(KeyboardInterrupt):
         run_region(sites, job, folder, workers=1, progress=stop_after_two)
-    assert len(list((folder / "sites").glob("*.json"))) == 2  # written as each site finished
+    assert len(stored(folder)) == 2  # stored as each site finished
     resumed = run_region(sites, job, folder, workers=1)
     assert resumed.reused == [s.name for s in sites[:2]]
     assert resumed.computed == [s.name for s in sites[2:]]
@@ -363,7 +364,7 @@ def test_a_cluster_that_goes_away_ends_in_one_line_and_the_run_resumes(sites, da
                 run_region(sites[:3], day_job, folder, scheduler=client, progress=stop_after_first)
         finally:
             client.close()
-    assert len(list((folder / "sites").glob("*.json"))) == 1
+    assert len(stored(folder)) == 1
     resumed = run_region(sites[:3], day_job, folder, workers=1)
     assert len(resumed.reused) == 1 and len(resumed.computed) == 2
 
@@ -398,15 +399,14 @@ def test_ctrl_c_on_a_two_worker_region_is_one_line_and_keeps_the_finished_sites(
                            preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL),
                            env={**os.environ, "PYTHONPATH": str(Path(tandem.__file__).parents[1])})
     start = time.monotonic()
-    while not list((tmp_path / "r" / "sites").glob("*.json")) and time.monotonic() - start < 240:
+    while not stored(tmp_path / "r") and time.monotonic() - start < 240:
         time.sleep(0.1)
     os.killpg(run.pid, signal.SIGINT)  # as a terminal does
     _, err = run.communicate(timeout=300)  # a loaded machine closes its cluster slowly
     lines = [line for line in err.decode().replace("\r", "\n").splitlines() if line.strip()]
     assert run.returncode == 130 and lines[-1:] == ["interrupted"], err.decode()[-3000:]
     assert "Traceback" not in err.decode()
-    kept = list((tmp_path / "r" / "sites").glob("*.json"))
-    assert 1 <= len(kept) < 5
+    assert 1 <= len(stored(tmp_path / "r")) < 5
 
 
 def test_an_unanswering_scheduler_leaves_no_folder_behind(sites, job, tmp_path, monkeypatch):
@@ -488,11 +488,14 @@ def test_an_edited_site_record_is_computed_again(sites, tmp_path):
 
     folder = tmp_path / "region"
     first = run_region(sites[:2], _day_job(), folder, workers=1)
-    path = folder / "sites" / f"{sites[0].name}.json"
-    record = json.loads(path.read_text())
-    true = record["energy_2t_kWh_m2"]
-    record["energy_2t_kWh_m2"] = 2 * true  # a hand edit (the fingerprint still matches)
-    path.write_text(json.dumps(record))
+    import sqlite3
+    from contextlib import closing
+
+    with closing(sqlite3.connect(folder / "sites.sqlite")) as db, db:
+        (text,) = db.execute("SELECT record FROM site WHERE name = ?", (sites[0].name,)).fetchone()
+        record = json.loads(text)
+        record["energy_2t_kWh_m2"] *= 2  # a hand edit (the fingerprint still matches)
+        db.execute("UPDATE site SET record = ? WHERE name = ?", (json.dumps(record), sites[0].name))
     again = run_region(sites[:2], _day_job(), folder, workers=1)
     assert again.computed == [sites[0].name] and again.reused == [sites[1].name]
     assert again.to_frame()["energy_2t_kWh_m2"].tolist() == first.to_frame()["energy_2t_kWh_m2"].tolist()
@@ -522,3 +525,16 @@ def test_the_job_fingerprint_changes_with_every_input(job):
     assert set(changed) | {"back", "stack"} == {f.name for f in fields(job)}
     prints = {name: replace(job, **{name: value}).job_fingerprint() for name, value in changed.items()}
     assert len(set(prints.values()) | {job.job_fingerprint()}) == len(changed) + 1
+
+
+def stored(folder) -> list[str]:
+    """The names of the sites a region folder's store holds (whole records only: a row is
+    written in one transaction)."""
+    import sqlite3
+    from contextlib import closing
+
+    path = Path(folder) / "sites.sqlite"
+    if not path.exists():
+        return []
+    with closing(sqlite3.connect(f"file:{path}?mode=ro", uri=True)) as db:
+        return [row[0] for row in db.execute("SELECT name FROM site")]

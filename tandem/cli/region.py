@@ -178,7 +178,7 @@ def region(
          f"computed {len(s['computed'])} sites, resumed {len(s['resumed'])}; "
          f"{s['seconds_per_site']:.2f} s per site in a worker (estimated "
          f"{s['work_estimate_core_seconds'] / max(len(specs), 1):.2f})")
-    err.print(f"wrote {escape(str(folder))}/ (sites/, region.nc, region.csv, region.png)")
+    err.print(f"wrote {escape(str(folder))}/ (sites.sqlite, region.nc, region.csv, region.png)")
     out.print(f"[dim]{escape(tandem.CAUTION)} Clear skies have no clouds.[/]")
 
 

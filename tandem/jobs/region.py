@@ -2,8 +2,8 @@
 
 Each site is one task: it builds its own sky (clear or from its weather file) from a few
 numbers, sweeps front gap × thickness over its year (:func:`tandem.design.yields.yield_sweep`) and
-returns a small record. Records are written into the study folder as each site finishes
-(``sites/NAME.json``), so an interrupted run resumes where it stopped: finished sites whose
+returns a small record. Records are stored in the region folder as each site finishes (a row
+of ``sites.sqlite``), so an interrupted run resumes where it stopped: finished sites whose
 inputs are unchanged are read back, not recomputed. Sites run in this process, or on
 ``dask.distributed`` (a local cluster of processes, or an existing scheduler); the numbers
 are identical either way (tested).
@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import csv
 import hashlib
+from contextlib import closing
 import json
 import math
 import re
@@ -26,7 +27,8 @@ from tandem.core.errors import TandemInputError
 from tandem.core.files import STAMP, check_output_folder
 from tandem.jobs.common import ResultDisplay
 from tandem.jobs.region_folder import (REGION_FORMAT, _clear_region_folder, _digest, _read_record,
-                                       _write_json, region_folder_reason)
+                                       _write_json, open_store, region_folder_reason, store_record,
+                                       stored_count)
 from tandem.jobs.fingerprints import file_sha, input_files_sha, stack_text, tandem_version
 from tandem.jobs.inputs import Light, OperatingPoint
 from tandem.optics.absorbers import Absorber
@@ -467,65 +469,62 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
     created = not folder.exists()
     if created:
         check_output_folder(folder)
-        (folder / "sites").mkdir(parents=True, exist_ok=True)
+        folder.mkdir(parents=True, exist_ok=True)
     from tandem.core.files import folder_lock
 
-    with folder_lock(folder, "region folder"):  # one run at a time writes a region folder
-        if (folder / "region.json").exists():  # what another run wrote before this one waited
-            reason = region_folder_reason(folder, job, overwrite)
-            if reason:
-                raise TandemInputError(reason)
-        return _run_locked(sites, job, folder, scheduler, workers, progress, overwrite, created)
+    try:
+        with folder_lock(folder, "region folder"):  # one run at a time writes a region folder
+            if (folder / "region.json").exists():  # what another run wrote before this waited
+                reason = region_folder_reason(folder, job, overwrite)
+                if reason:
+                    raise TandemInputError(reason)
+            return _run_locked(sites, job, folder, scheduler, workers, progress, overwrite)
+    except BaseException:  # a new folder without one stored site is not left behind
+        if created and not stored_count(folder):
+            import shutil
+
+            shutil.rmtree(folder, ignore_errors=True)
+        raise
 
 
-def _run_locked(sites, job, folder, scheduler, workers, progress, overwrite, created):
-    """:func:`run_region` holding the folder's lock."""
+def _run_locked(sites, job, folder, scheduler, workers, progress, overwrite):
+    """:func:`run_region` holding the folder's lock. No record is held while the sites run:
+    each goes to the store as it finishes, and all are read back from it at the end."""
     if overwrite:  # --overwrite always recomputes: nothing of the old run is read back
         _clear_region_folder(folder)
-    (folder / "sites").mkdir(exist_ok=True)
     _write_json(folder / "region.json", {"format": REGION_FORMAT, "written_by": STAMP,
                                          "job": job.job_fingerprint(), "sites": len(sites)})
-    records: dict[str, dict] = {}
-    todo = []
-    for spec in sites:
-        done = _read_record(folder, spec, job)
-        if done is not None:
-            records[spec.name] = done
-        else:
-            todo.append(spec)
-    reused = [s.name for s in sites if s.name in records]
-    computed: list[str] = []
+    with closing(open_store(folder)) as db:
+        todo = [spec for spec in sites if _read_record(db, spec, job) is None]
+        pending = {s.name for s in todo}
+        reused = [s.name for s in sites if s.name not in pending]
+        computed: list[str] = []
 
-    def finished(spec: SiteSpec, record: dict) -> None:
-        record.update(fingerprint=job.fingerprint(spec), written_by=STAMP)
-        record["digest"] = _digest(record)
-        _write_json(folder / "sites" / f"{spec.name}.json", record)
-        records[spec.name] = record
-        computed.append(spec.name)
+        def finished(spec: SiteSpec, record: dict) -> None:
+            record.update(fingerprint=job.fingerprint(spec), written_by=STAMP)
+            record["digest"] = _digest(record)
+            store_record(db, spec.name, record)
+            computed.append(spec.name)
+            if progress:
+                progress(len(reused) + len(computed), len(sites))
+
         if progress:
-            progress(len(records), len(sites))
+            progress(len(reused), len(sites))
+        if todo and (workers == 1 and scheduler is None):
+            for spec in todo:
+                finished(spec, site_year(spec, job))
+        elif todo:
+            from tandem.jobs.region_cluster import _run_distributed
 
-    if progress:
-        progress(len(records), len(sites))
-    if todo and (workers == 1 and scheduler is None):
-        for spec in todo:
-            finished(spec, site_year(spec, job))
-    elif todo:
-        from tandem.jobs.region_cluster import _run_distributed
-
-        try:
             _run_distributed(todo, job, scheduler, workers, finished, site_year)
-        except TandemInputError:
-            if created and not computed:  # nothing of this run to resume: leave no folder
-                import shutil
-
-                shutil.rmtree(folder, ignore_errors=True)
-            raise
-    ordered = [records[s.name] for s in sites]
+        read = [_read_record(db, s, job) for s in sites]
+    ordered = [r for r in read if r is not None]
+    if len(ordered) < len(sites):  # a record stored in this run cannot fail its digest
+        raise TandemInputError(f"region folder '{folder}': its site store changed during the "
+                               "run; run the same command again")
     for r in ordered:
         r.pop("fingerprint", None)
         r.pop("written_by", None)
-        r.pop("digest", None)
     return RegionResult(ordered, computed, reused, folder, job)
 
 
@@ -550,5 +549,5 @@ def write_region_outputs(result: RegionResult, grids: bool = False) -> list[Path
     except OSError as exc:  # a full disk: the sites' records are whole and kept for a rerun
         raise TandemInputError(
             f"cannot write '{exc.filename}' ({exc.strerror}); the {len(result.records):,} sites "
-            f"computed are kept in {folder / 'sites'}: free some space and run the same command "
-            "again (it reuses them)") from exc
+            f"computed are kept in {folder / 'sites.sqlite'}: free some space and run the same "
+            "command again (it reuses them)") from exc
