@@ -538,3 +538,35 @@ def stored(folder) -> list[str]:
         return []
     with closing(sqlite3.connect(f"file:{path}?mode=ro", uri=True)) as db:
         return [row[0] for row in db.execute("SELECT name FROM site")]
+
+
+def test_two_regions_read_back_concatenate_along_their_periods(sites, tmp_path):
+    # the period and the absorbers are scalar coordinates (as attributes, xarray's concat kept
+    # the first run's and dropped the other's in silence): two regions written to NetCDF and
+    # read back stack along the period, each keeping its own energies
+    import dataclasses
+
+    import xarray as xr
+
+    from tandem.jobs.region import write_region_outputs
+
+    summer = _day_job()
+    winter = dataclasses.replace(summer, period="day:2026-12-21")
+    runs = {}
+    for name, job in (("summer", summer), ("winter", winter)):
+        runs[name] = run_region(sites[:2], job, tmp_path / name, workers=1)
+        write_region_outputs(runs[name])
+    read = [xr.open_dataset(tmp_path / name / "region.nc", engine="scipy") for name in runs]
+    try:
+        both = xr.concat(read, dim="period")
+        assert list(both.period.values) == ["day:2026-06-21", "day:2026-12-21"]
+        assert str(both.absorbers.values) == "perovskite-wide over silicon"
+        for name, period in (("summer", "day:2026-06-21"), ("winter", "day:2026-12-21")):
+            np.testing.assert_array_equal(both.energy_2t.sel(period=period).values,
+                                          runs[name].to_frame()["energy_2t_kWh_m2"].to_numpy())
+        assert np.all(both.energy_2t.sel(period="day:2026-12-21").values
+                      != both.energy_2t.sel(period="day:2026-06-21").values)
+    finally:
+        for ds in read:
+            ds.close()
+

@@ -425,12 +425,16 @@ class RegionResult(ResultDisplay):
                     np.array([r[key] for r in self.records]), {"units": "kWh/m2"})
         attrs: dict[str, Any] = {"written_by": STAMP, "format": REGION_FORMAT}
         if self.job is not None:
-            attrs.update(front=self.job.front.key, back=self.job.back.key, period=self.job.period,
+            attrs.update(front=self.job.front.key, back=self.job.back.key,
                          step_minutes=float(self.job.step_minutes),
                          bifacial=int(self.job.rows is not None), **self.job.input_digests())
         from tandem.output.datasets import described
 
-        return described(xr.Dataset(data, coords=coords, attrs=attrs))
+        # the run's conditions as scalar coordinates: two regions concatenate along them
+        conditions = {} if self.job is None else dict(
+            period=self.job.period, absorbers=(self.job.stack.stack.key if self.job.stack else
+                                               f"{self.job.front.key} over {self.job.back.key}"))
+        return described(xr.Dataset(data, coords=coords, attrs=attrs), **conditions)
 
     def plot(self, ax=None):
         from tandem.output.sky_plots import draw_region

@@ -30,6 +30,8 @@ CONDITIONS = {
     "spectrum": {"long_name": "incident spectrum"},
     "temperature": {"units": "K", "long_name": "cell temperature"},
     "terminals": {"long_name": "terminals the efficiency is ranked by"},
+    "period": {"long_name": "period the energies are summed over"},
+    "absorbers": {"long_name": "front absorber over back absorber, or the layer stack"},
 }
 
 
