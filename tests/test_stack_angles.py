@@ -242,3 +242,18 @@ def test_a_stack_yields_work_estimate_counts_its_angle_solves(monkeypatch):
     assert ANGLE_SOLVES == 32
     assert counted(flat) == 3 * bin_count(series)
     assert counted(series) == 3 * (bin_count(series) + ANGLE_SOLVES)
+
+
+def test_a_stack_yield_estimates_its_design_match_before_running_it(tmp_path):
+    # without `others` a stack yield first matches the stack under AM1.5G; for a 400-pair
+    # mirror (803 layers) that match alone needs about 3 GiB (70 bytes a layer, energy and
+    # thickness of its 24), so it is refused before it runs (it once ran unasked, the
+    # estimate coming only after it)
+    from test_hostile_features import mirror
+
+    path = tmp_path / "mirror.toml"
+    path.write_text(mirror(400))
+    site = tandem.Site("field", latitude=38.5, longitude=-3.0, timezone="Etc/GMT-1")
+    series = tandem.site_series(site, period="day:2026-06-21")
+    with pytest.raises(tandem.TandemInputError, match="first matches 803 layers .* pass --large"):
+        tandem.energy_yield_stack(str(path), series)

@@ -287,7 +287,7 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
     from tandem.design.yields import hourly, yield_sweep
 
     design, thick = stack_yield_design(stack, operating, reference, others, front_thicknesses_nm,
-                                       thickness_points, MAX_YIELD_THICKNESSES)
+                                       thickness_points, MAX_YIELD_THICKNESSES, allow_large)
     gaps = np.array([design.front_gap_eV])
     from tandem.design.yields import bin_count
 
@@ -310,7 +310,7 @@ def energy_yield_stack(stack, series, operating: OperatingPoint = OperatingPoint
 
 def stack_yield_design(stack, operating: OperatingPoint, reference: Light, others=None,
                        front_thicknesses_nm=None, thickness_points: int = 16,
-                       most_points: int = MAX_YIELD_THICKNESSES):
+                       most_points: int = MAX_YIELD_THICKNESSES, allow_large: bool = False):
     """A layer stack as a yield design, and the front thicknesses [nm] a yield sweeps.
 
     ``others`` (swept layer → nm) default to the design ``match --stack`` chooses under the
@@ -324,8 +324,15 @@ def stack_yield_design(stack, operating: OperatingPoint, reference: Light, other
     matched = None
     if others is None:  # the design `match --stack` chooses under the reference spectrum
         from tandem.design.layerstack import match_in_stack
+        from tandem.jobs.common import STACK_REFINE_SOLVES
 
-        matched = match_in_stack(stack, reference.photon_flux(), 298.15, 24, operating.ideality,
+        flux = reference.photon_flux()
+        combos = int(np.prod([x.points for x in stack.swept])) if stack.swept else 1
+        seconds, _ = stack_work(stack, flux.energy.size, 24 + STACK_REFINE_SOLVES, combos)
+        check_seconds("yield --stack", seconds, f"first matches {len(stack.layers)} layers × "
+                      f"{flux.energy.size:,} energies under the reference light", allow_large,
+                      stack_work(stack, flux.energy.size, 24, 1)[1])
+        matched = match_in_stack(stack, flux, 298.15, 24, operating.ideality,
                                  operating.electrical).best
         others = matched.others
     design = StackYield(stack, swept_thicknesses(stack, others),

@@ -152,8 +152,9 @@ def region_job(front: Absorber | str | None, back: Absorber | str | None,
                                    "its rear is not modelled; drop them")
         from tandem.jobs.energy_yield import stack_yield_design
 
+        # the region's own estimate (its command) counts the sites, not this design match
         design, thick = stack_yield_design(stack, operating, reference or Light(), others, None,
-                                           thickness_points, most_points=100)
+                                           thickness_points, most_points=100, allow_large=True)
         a_front, a_back = design.front, design.back
         gaps, back_d = np.array([design.front_gap_eV]), design.back_thickness_nm
     else:
