@@ -570,3 +570,19 @@ def test_two_regions_read_back_concatenate_along_their_periods(sites, tmp_path):
         for ds in read:
             ds.close()
 
+
+
+def test_overwrite_clears_the_one_file_a_site_records_of_earlier_releases(sites, tmp_path):
+    # tandem 0.3.0 kept a region's records as sites/NAME.json; --overwrite replaces what tandem
+    # wrote, so those go too (a file of the user's own in sites/ stays)
+    folder = tmp_path / "region"
+    run_region(sites[:1], _day_job(), folder, workers=1)
+    (folder / "sites").mkdir()
+    old = folder / "sites" / "old-site.json"
+    from tandem.core.files import STAMP
+
+    old.write_text(json.dumps({"written_by": STAMP, "energy_2t_kWh_m2": 1.0}))
+    mine = folder / "sites" / "notes.json"
+    mine.write_text('{"mine": true}')
+    run_region(sites[:1], _day_job(), folder, workers=1, overwrite=True)
+    assert not old.exists() and mine.exists()

@@ -51,9 +51,13 @@ def _clear_region_folder(folder: Path) -> None:
     """Remove what tandem wrote in a region folder (and nothing else)."""
     from tandem.core.files import written_by_tandem
 
-    for path in [folder / n for n in REGION_FILES]:
+    # sites/NAME.json: the records of tandem 0.3.0 and before, one file a site
+    legacy = sorted((folder / "sites").glob("*.json")) if (folder / "sites").is_dir() else []
+    for path in [folder / n for n in REGION_FILES] + legacy:
         if written_by_tandem(path):
             path.unlink()
+    if legacy and not any((folder / "sites").iterdir()):
+        (folder / "sites").rmdir()
     store = folder / STORE
     if store_is_ours(store):
         for path in (store, store.with_name(STORE + "-wal"), store.with_name(STORE + "-shm")):
