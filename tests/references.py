@@ -1,6 +1,6 @@
 """References the tests and the benchmark share: the radiative limit that bounds every
-efficiency the tool prints, the yield computed the direct way, and the photons of ASTM G173-03
-above a gap integrated on the standard's own wavelength grid."""
+efficiency the tool prints, the yield computed the direct way, the photons of ASTM G173-03
+above a gap integrated on the standard's own wavelength grid, and a many-layer stack."""
 
 import functools
 
@@ -87,3 +87,19 @@ def wavelength_side_photons_above(wavelength_nm, irradiance, gap_eV):
     k = np.clip(np.searchsorted(wl, lam_g) - 1, 0, b.size - 1)
     cut = below[k] + antiderivative(k, lam_g) - antiderivative(k, wl[k])
     return cut / (hc_ev_nm * c.e)
+
+
+def mirror_stack(pairs: int) -> str:
+    """An invented stack: a perovskite film over a dielectric mirror of ``pairs`` layer pairs
+    over a silicon wafer (a stand-in for a many-layer design, not a device anyone made)."""
+    lines = ['title = "mirror of %d pairs"' % pairs]
+
+    def layer(name, **keys):
+        lines.extend(["", "[[layer]]", f'name = "{name}"', *(f"{k} = {v}" for k, v in keys.items())])
+
+    layer("glass", thickness_nm=1.1e6, nk=1.52, coherent="false")
+    layer("front", absorber='"perovskite-wide"', thickness_nm="[200, 800]", role='"front"')
+    for i in range(2 * pairs):
+        layer(f"mirror {i}", thickness_nm=80 if i % 2 else 110, nk=1.45 if i % 2 else 2.1)
+    layer("back", absorber='"silicon"', thickness_nm=160000, role='"back"', coherent="false")
+    return "\n".join(lines) + "\n"

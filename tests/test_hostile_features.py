@@ -13,6 +13,8 @@ import sys
 from pathlib import Path
 
 import pytest
+
+from references import mirror_stack
 from tandem.cli.app import main
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -21,17 +23,6 @@ WAFER = (ROOT / "stacks" / "wide-gap-on-silicon-wafer.toml").read_text()
 RECOMBINATION = 'name = "recombination layer"\nthickness_nm = 5\nnk = [1.9, 0.05]'
 FRONT = 'thickness_nm = [40, 300]\nrole = "front"'
 WAFER_BACK = 'thickness_nm = 160000\nrole = "back"\ncoherent = false'
-
-
-def mirror(pairs: int) -> str:
-    """An invented stack with a dielectric mirror of ``pairs`` pairs inside (many layers)."""
-    layers = "".join(f'\n[[layer]]\nname = "m{i}"\nthickness_nm = {80 + 30 * (i % 2)}\n'
-                     f"nk = {1.45 if i % 2 else 2.1}\n" for i in range(2 * pairs))
-    return ('title = "mirror"\n[[layer]]\nname = "glass"\nthickness_nm = 1.1e6\nnk = 1.52\n'
-            'coherent = false\n[[layer]]\nname = "front"\nabsorber = "perovskite-wide"\n'
-            'thickness_nm = [200, 800]\nrole = "front"\n' + layers +
-            '\n[[layer]]\nname = "back"\nabsorber = "silicon"\nthickness_nm = 160000\n'
-            'role = "back"\ncoherent = false\n')
 
 
 #: Stack files, each with one thing wrong: name → (base text, old, new); the base is the
@@ -105,7 +96,7 @@ STACK_FILES = {
     "only-title.toml": b'title = "nothing"\n',
     "no-absorbers.toml": b'title = "x"\n[[layer]]\nname = "glass"\nthickness_nm = 1e6\nnk = 1.5\n'
                          b"coherent = false\n",
-    "mirror-100.toml": mirror(100).encode(),  # 203 layers: about 4 GiB, refused without --large
+    "mirror-100.toml": mirror_stack(100).encode(),  # 203 layers: about 4 GiB, refused without --large
 }
 
 

@@ -249,10 +249,10 @@ def test_a_stack_yield_estimates_its_design_match_before_running_it(tmp_path):
     # mirror (803 layers) that match alone needs about 3 GiB (70 bytes a layer, energy and
     # thickness of its 24), so it is refused before it runs (it once ran unasked, the
     # estimate coming only after it)
-    from test_hostile_features import mirror
+    from references import mirror_stack
 
     path = tmp_path / "mirror.toml"
-    path.write_text(mirror(400))
+    path.write_text(mirror_stack(400))
     site = tandem.Site("field", latitude=38.5, longitude=-3.0, timezone="Etc/GMT-1")
     series = tandem.site_series(site, period="day:2026-06-21")
     with pytest.raises(tandem.TandemInputError, match="first matches 803 layers .* pass --large"):

@@ -10,6 +10,7 @@ quantities as dimensions with their units, the conditions as attributes) and ``p
 
 from __future__ import annotations
 
+import math
 from typing import Callable
 
 from tandem.jobs.inputs import OperatingPoint
@@ -87,6 +88,14 @@ def stack_work(stack, energies: int, thicknesses: int, batches: float) -> tuple[
     layers = len(stack.layers)
     seconds = batches * thicknesses * (STACK_SOLVE_SECONDS + layers * energies * STACK_CELL_SECONDS)
     return seconds, layers * energies * thicknesses * STACK_CELL_BYTES
+
+
+def stack_match_work(stack, energies: int, points: int) -> tuple[float, float]:
+    """Seconds and bytes (above the process's own) of current-matching a stack on ``points``
+    front thicknesses: each swept combination's grid solved at once, then its refinements."""
+    combos = math.prod(x.points for x in stack.swept)
+    return (stack_work(stack, energies, points + STACK_REFINE_SOLVES, combos)[0],
+            stack_work(stack, energies, points, 1)[1])
 
 
 def region_seconds(job, specs) -> float:

@@ -324,14 +324,13 @@ def stack_yield_design(stack, operating: OperatingPoint, reference: Light, other
     matched = None
     if others is None:  # the design `match --stack` chooses under the reference spectrum
         from tandem.design.layerstack import match_in_stack
-        from tandem.jobs.common import STACK_REFINE_SOLVES
+        from tandem.jobs.common import stack_match_work
 
         flux = reference.photon_flux()
-        combos = int(np.prod([x.points for x in stack.swept])) if stack.swept else 1
-        seconds, _ = stack_work(stack, flux.energy.size, 24 + STACK_REFINE_SOLVES, combos)
+        seconds, bytes_needed = stack_match_work(stack, flux.energy.size, 24)
         check_seconds("yield --stack", seconds, f"first matches {len(stack.layers)} layers × "
                       f"{flux.energy.size:,} energies under the reference light", allow_large,
-                      stack_work(stack, flux.energy.size, 24, 1)[1])
+                      bytes_needed)
         matched = match_in_stack(stack, flux, 298.15, 24, operating.ideality,
                                  operating.electrical).best
         others = matched.others

@@ -13,10 +13,10 @@ from __future__ import annotations
 
 import csv
 import hashlib
-from contextlib import closing
 import json
 import math
 import re
+from contextlib import closing
 from dataclasses import asdict, dataclass, field, replace
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, Callable

@@ -68,28 +68,28 @@ REGION_FILES = ("region.nc", "region.csv", "region.png", "region.json")
 STORE = "sites.sqlite"
 
 
-def store_is_ours(path: Path) -> bool:
-    """Whether ``path`` is a site store tandem made (its ``meta`` table holds the stamp)."""
+def _peek(path: Path, query: str):
+    """The first row of ``query`` on the store at ``path``, opened read-only; None where there
+    is no such file (or a link) or it cannot answer (not a store, damaged)."""
     if not path.is_file() or path.is_symlink():
-        return False
+        return None
     try:
         with closing(sqlite3.connect(f"file:{path}?mode=ro", uri=True)) as db:
-            row = db.execute("SELECT value FROM meta WHERE key = 'written_by'").fetchone()
+            return db.execute(query).fetchone()
     except sqlite3.Error:
-        return False
+        return None
+
+
+def store_is_ours(path: Path) -> bool:
+    """Whether ``path`` is a site store tandem made (its ``meta`` table holds the stamp)."""
+    row = _peek(path, "SELECT value FROM meta WHERE key = 'written_by'")
     return row is not None and row[0] == STAMP
 
 
 def stored_count(folder: Path) -> int:
     """How many site records the folder's store holds (0 without a readable store)."""
-    path = folder / STORE
-    if not path.is_file():
-        return 0
-    try:
-        with closing(sqlite3.connect(f"file:{path}?mode=ro", uri=True)) as db:
-            return int(db.execute("SELECT count(*) FROM site").fetchone()[0])
-    except sqlite3.Error:
-        return 0
+    row = _peek(folder / STORE, "SELECT count(*) FROM site")
+    return 0 if row is None else int(row[0])
 
 
 def open_store(folder: Path) -> sqlite3.Connection:

@@ -7,8 +7,8 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from tandem.jobs.common import (STACK_REFINE_SOLVES, Progress, ResultDisplay, check_connection,
-                                check_seconds, check_types, frame, stack_work, with_conditions)
+from tandem.jobs.common import (Progress, ResultDisplay, check_connection, check_seconds, check_types,
+                                frame, stack_match_work, with_conditions)
 from tandem.jobs.inputs import Light, OperatingPoint, Sweep
 from tandem.jobs.match import match
 
@@ -210,10 +210,10 @@ def match_stack(stack, light: Light = Light(), operating: OperatingPoint = Opera
         raise TandemInputError(f"points {points!r}: give 8 to 2000 front thicknesses")
     combos = int(np.prod([x.points for x in stack.swept])) if stack.swept else 1
     flux = light.photon_flux()
-    seconds, _ = stack_work(stack, flux.energy.size, points + STACK_REFINE_SOLVES, combos)
+    seconds, bytes_needed = stack_match_work(stack, flux.energy.size, points)
     check_seconds("match --stack", seconds, f"solves {len(stack.layers)} layers × "
                   f"{flux.energy.size:,} energies × {points} thicknesses × {combos} combinations",
-                  allow_large, stack_work(stack, flux.energy.size, points, 1)[1])
+                  allow_large, bytes_needed)
     result = match_in_stack(stack, flux, operating.temperature_K, points, operating.ideality,
                             operating.electrical, progress)
     front, back = stack.front, stack.back

@@ -392,10 +392,11 @@ def resolve(path: Path, key: str, text: str, absorber_source, file_source, stack
         f, b = (c.get("map", k) for k in ("front_gap_range_eV", "back_gap_range_eV"))
         points = (int(round((f[1] - f[0]) / f[2])) + 1) * (int(round((b[1] - b[0]) / b[2])) + 1)
         seconds, bytes_needed = map_work(points)  # as the map command measured
-        log_estimate("study [map]", f"has {points:,} gap pairs", seconds, PROCESS_BYTES + bytes_needed)
-        if over_limits(seconds, PROCESS_BYTES + bytes_needed):
+        whole = PROCESS_BYTES + bytes_needed
+        log_estimate("study [map]", f"has {points:,} gap pairs", seconds, whole)
+        if over_limits(seconds, whole):
             c.fail("map", f"has {points:,} gap pairs: about {seconds:,.0f} s and "
-                   f"{(PROCESS_BYTES + bytes_needed) / 2**30:.1f} GiB",
+                   f"{whole / 2**30:.1f} GiB",
                    "give coarser steps (at most about 6 million pairs)")
     top = c.get("report", "top")
     if top is not None and not (float(top).is_integer() and 1 <= top <= 10_000):

@@ -26,26 +26,13 @@ from pathlib import Path
 import psutil
 
 ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT / "tests"))  # the shared references
+
+from references import mirror_stack  # noqa: E402
 
 RUN = ("import logging, sys; logging.basicConfig(level=logging.INFO, format='%(name)s|%(message)s', "
        "stream=sys.stderr); sys.argv = ['tandem', *sys.argv[1:]]; from tandem.cli.app import main; "
        "main()")
-
-
-def mirror_stack(pairs: int) -> str:
-    """An invented stack: a perovskite film over a dielectric mirror of ``pairs`` layer pairs
-    over a silicon wafer (a stand-in for a many-layer design, not a device anyone made)."""
-    lines = ['title = "mirror of %d pairs"' % pairs]
-
-    def layer(name, **keys):
-        lines.extend(["", "[[layer]]", f'name = "{name}"', *(f"{k} = {v}" for k, v in keys.items())])
-
-    layer("glass", thickness_nm=1.1e6, nk=1.52, coherent="false")
-    layer("front", absorber='"perovskite-wide"', thickness_nm="[200, 800]", role='"front"')
-    for i in range(2 * pairs):
-        layer(f"mirror {i}", thickness_nm=80 if i % 2 else 110, nk=1.45 if i % 2 else 2.1)
-    layer("back", absorber='"silicon"', thickness_nm=160000, role='"back"', coherent="false")
-    return "\n".join(lines) + "\n"
 
 
 def map_scenario(points_per_axis: int) -> str:
