@@ -130,6 +130,43 @@ def test_insolation_does_not_depend_on_the_step_length():
     assert coarse.insolation_kWh_m2 == pytest.approx(fine.insolation_kWh_m2, rel=0.01)
 
 
+
+@pytest.mark.filterwarnings("ignore:DatetimeIndex.dayofyear is deprecated")  # pvlib's own
+def test_a_clear_day_keeps_every_step_the_sun_is_up_and_no_other():
+    # Sunrise and sunset from an independent solar position (pvlib's ephemeris method, not the
+    # SPA the tool uses; they agree to well under 0.5°): every 15-minute step with the sun
+    # more than 0.5° up carries light, low sun included; every one 0.5° below has none
+    import pvlib
+
+    site = Site("invented field", 38.0, -4.0, 600.0, 30.0, 180.0, "Etc/GMT-1")
+    times = parse_period("day:2026-06-21", site.timezone, 15)
+    series = clear_sky_series(site, times)
+    elevation = pvlib.solarposition.get_solarposition(times, site.latitude, site.longitude,
+                                                      method="ephemeris")["apparent_elevation"]
+    kept = times.isin(series.times)
+    assert kept[elevation.to_numpy() > 0.5].all() and not kept[elevation.to_numpy() < -0.5].any()
+    low = (elevation.to_numpy() > 0.5) & (elevation.to_numpy() < 10)
+    assert low.sum() >= 4  # dawn and dusk steps with the sun within 10° of the horizon
+
+
+def test_wind_cools_the_cell_as_the_sapm_model_says():
+    # King et al., Sandia report SAND2004-3535 (2004), SAPM: T = E·e^(a + b·WS) + Ta + E/E0·ΔT
+    # (E0 = 1000 W/m²), open-rack glass/glass a = −3.47, b = −0.0594, ΔT = 3 °C (pvlib's table
+    # of the report's values). From the cell temperature of a step at 1 m/s, E follows; the same
+    # step at 6 m/s must then be the formula's temperature at that wind, a few kelvin cooler.
+    a, b, delta_t = -3.47, -0.0594, 3.0
+    calm = Site("invented field", 38.0, -4.0, 600.0, 30.0, 180.0, "Etc/GMT-1", wind_speed_m_s=1.0)
+    windy = replace(calm, wind_speed_m_s=6.0)
+    times = parse_period("day:2026-06-21", calm.timezone, 60)
+    t_calm = clear_sky_series(calm, times).cell_temperature_K
+    t_windy = clear_sky_series(windy, times).cell_temperature_K
+    ambient = calm.ambient_temperature_C + 273.15
+    poa = (t_calm - ambient) / (math.exp(a + b * 1.0) + delta_t / 1000)
+    expected = poa * math.exp(a + b * 6.0) + ambient + poa / 1000 * delta_t
+    np.testing.assert_allclose(t_windy, expected, rtol=0, atol=1e-9)
+    assert np.max(t_calm - t_windy) > 3.0
+
+
 # --- yield and region -----------------------------------------------------------------------
 
 def test_an_open_rear_emits_even_in_the_dark():

@@ -151,3 +151,14 @@ def test_stack_limit_validation(am15g):
         tandem.detailed_balance_limit([-1, 1.12], am15g)
     with pytest.raises(tandem.TandemInputError, match="outside the spectrum"):
         tandem.detailed_balance_limit([5.0], am15g)
+
+
+def test_a_gap_between_grid_points_gets_its_partial_interval():
+    # Calculus: for Φ(E) = c0 + c1·E, linear on every interval of any grid, the photons above
+    # a gap are c0·(E_max − Eg) + c1·(E_max² − Eg²)/2 exactly, wherever the gap falls
+    energy = np.array([0.5, 0.9, 1.3, 2.0, 3.1, 4.4])
+    c0, c1 = 3e20, 5e20
+    flux = c0 + c1 * energy
+    gaps = np.array([0.5, 0.63, 1.12, 1.3, 1.77, 2.9, 4.4])
+    exact = c0 * (energy[-1] - gaps) + c1 * (energy[-1] ** 2 - gaps**2) / 2
+    np.testing.assert_allclose(tandem.flux_above(energy, flux, gaps), exact, rtol=1e-13, atol=0)
