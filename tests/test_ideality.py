@@ -31,12 +31,14 @@ def test_a_fixed_device_has_its_ideality_slope(ideality):
     assert np.diff(v) == pytest.approx([ideality * DECADE] * 2, rel=2e-3)
 
 
-def test_at_the_reference_light_the_ere_holds_whatever_the_ideality():
-    # Rau 2007: Voc = Voc,rad + kT/q·ln ERE at the light where the ERE is stated
+@pytest.mark.parametrize("ere", [1e-6, 0.3])
+def test_at_the_reference_light_the_ere_holds_whatever_the_ideality(ere):
+    # Rau 2007: Voc = Voc,rad + kT/q·ln ERE at the light where the ERE is stated; a high ERE
+    # checks that the non-radiative diode carries only the other 1 − ERE of the recombination
     radiative = float(voc_at(1.0, 1.0, ere=1.0).design.performance.voc[0])
     for n in (1.0, 2.0, 3.0):
-        v = float(voc_at(1.0, n).design.performance.voc[0])
-        assert v == pytest.approx(radiative + K_B_EV * T * np.log(1e-6), abs=1e-6)
+        v = float(voc_at(1.0, n, ere=ere).design.performance.voc[0])
+        assert v == pytest.approx(radiative + K_B_EV * T * np.log(ere), abs=1e-6)
 
 
 def test_the_map_match_and_limit_fix_the_same_device():
