@@ -175,7 +175,10 @@ def test_table_edge_from_user_csv(tmp_path):
     # log α is interpolated linearly in energy between the 500 and 700 nm rows
     t = (HC_EV_NM / 600 - HC_EV_NM / 700) / (HC_EV_NM / 500 - HC_EV_NM / 700)
     assert alpha_at(film, 600) == pytest.approx(3e4 * (1e5 / 3e4) ** t, rel=1e-9)
-    assert alpha_at(film, 900) < 1e2  # Urbach tail below the table
+    # below the table: Urbach's exponential from the lowest row, α = α_low·e^{(E − E_low)/E_U}
+    # (Urbach, Phys. Rev. 92 (1953) 1324), with the file's E_U = 10 meV
+    below = (HC_EV_NM / 900 - HC_EV_NM / 800) / 0.010
+    assert alpha_at(film, 900) == pytest.approx(1e2 * np.exp(below), rel=1e-9)
 
 
 def test_unknown_name_suggests():
