@@ -175,3 +175,24 @@ def test_the_sun_temperature_gains_are_named_and_closed_forms():
         boltzmann_limit = -kt * np.log((gap**2 + 2 * gap * kts + 2 * kts**2)
                                        / (gap**2 + 2 * gap * kt + 2 * kt**2))
         assert spread == pytest.approx(boltzmann_limit, abs=2e-3)  # Bose terms of the sun
+
+
+def test_the_printed_mismatch_is_the_four_terminal_gain(tmp_path):
+    # The loss table's closing line: the same cells at four terminals give P_4T − P_2T more,
+    # printed in W/m² and as a share of the incident light. The 2T and 4T limits themselves
+    # are checked against scipy's searches (test_electrical); here, their printed difference.
+    import json
+    import re
+
+    from typer.testing import CliRunner
+
+    from tandem.cli.app import app
+
+    runner = CliRunner()
+    out = runner.invoke(app, ["limit", "1.9", "1.12", "--losses", str(tmp_path / "w.png")])
+    assert out.exit_code == 0, out.output
+    watts, share = map(float, re.search(r"give ([\d.]+) W/m² \(([\d.]+) %\) more", out.stdout).groups())
+    numbers = json.loads(runner.invoke(app, ["limit", "1.9", "1.12", "--json"]).stdout)
+    gain_pct = numbers["efficiency_4t_pct"] - numbers["efficiency_2t_pct"]
+    assert share == pytest.approx(gain_pct, abs=0.006) and share > 5  # a badly matched pair
+    assert watts == pytest.approx(gain_pct / 100 * numbers["irradiance_W_m2"], abs=0.006)
