@@ -119,3 +119,19 @@ def test_match_bad_input(args, message):
     res = run(*args)
     assert res.exit_code == 2, res.output
     assert message in res.stderr and len(res.stderr.strip().splitlines()) == 1
+
+
+def test_the_back_thickness_comes_back_in_the_tables_micrometres():
+    # 1 µm = 1000 nm (SI): a back given in nm is 2.5 µm in the JSON, one given in µm is
+    # printed as given in the table's "back µm" column
+    few = ["--front-gaps", "1.70:1.74:0.02", "--points", "12"]  # the column, not the optimum
+    res = runner.invoke(app, ["match", "perovskite-wide", "cigs", "--back-thickness", "2500nm",
+                              "--json", *few])
+    assert res.exit_code == 0, res.output
+    assert {c["back_thickness_um"] for c in json.loads(res.stdout)["configurations"]} == {2.5}
+    table = runner.invoke(app, ["match", "perovskite-wide", "cigs", "--back-thickness", "2.5um",
+                                *few])
+    header = next(line for line in table.stdout.splitlines() if "back µm" in line)
+    column = [c.strip() for c in header.split("┃")].index("back µm")
+    rows = [line.split("│") for line in table.stdout.splitlines() if line.startswith("│ 1 ")]
+    assert rows and rows[0][column].strip() == "2.5"
