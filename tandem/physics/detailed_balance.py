@@ -558,24 +558,51 @@ def two_diode_mpp(j_light, j0_rad, j0_nr, ideality, temperature_K, iterations=60
     return j, v, j * v
 
 
-def golden_maximum(power, lo, hi, iterations=64):
+def golden_maximum(power, lo, hi, iterations=64, parabolic=0):
     """Argument of the maximum of a unimodal function on [lo, hi], elementwise.
 
     A vectorised golden-section search: ``power`` maps an array of arguments (shaped like
     ``lo``) to an array of values; each step keeps the part of every bracket holding the
     maximum. 64 steps shrink the bracket by 0.618⁶⁴ ≈ 4e-14.
+
+    ``parabolic`` steps then follow (successive parabolic interpolation, as in Brent's method:
+    R. P. Brent, Algorithms for Minimization without Derivatives (1973), ch. 5): the vertex of
+    the parabola through the three best points evaluated, kept inside the bracket; near a
+    smooth maximum each step about squares the error, so 18 golden steps (10⁻⁴ of the bracket)
+    and 3 parabolic ones place the maximum as well as 32 golden steps and more, in 21
+    evaluations instead of 34. The best point evaluated is returned then.
     """
     lo = np.array(lo, dtype=float)
     hi = np.array(hi, dtype=float) + 0.0 * lo
+    lo = lo + 0.0 * hi
     ratio = (5.0**0.5 - 1.0) / 2.0
     x1, x2 = hi - ratio * (hi - lo), lo + ratio * (hi - lo)
     p1, p2 = power(x1), power(x2)
+    x3, p3 = x2, p2  # the third point for a parabola: the interior point last dropped
     for _ in range(iterations):
         left = p1 >= p2  # the maximum lies in [lo, x2]
+        x3, p3 = np.where(left, x2, x1), np.where(left, p2, p1)
         hi = np.where(left, x2, hi)
         lo = np.where(left, lo, x1)
         new = np.where(left, hi - ratio * (hi - lo), lo + ratio * (hi - lo))
         p_new = power(new)
         x1, x2, p1, p2 = (np.where(left, new, x2), np.where(left, x1, new),
                           np.where(left, p_new, p2), np.where(left, p1, p_new))
-    return 0.5 * (lo + hi)
+    if not parabolic:
+        return 0.5 * (lo + hi)
+    xs, ps = np.stack([x1, x2, x3]), np.stack([p1, p2, p3])
+    for _ in range(parabolic):
+        a, b, c = xs
+        fa, fb, fc = ps
+        with np.errstate(all="ignore"):
+            num = (b - a) ** 2 * (fb - fc) - (b - c) ** 2 * (fb - fa)
+            den = (b - a) * (fb - fc) - (b - c) * (fb - fa)
+            vertex = b - 0.5 * num / den
+        ok = np.isfinite(vertex) & (den != 0)
+        vertex = np.clip(np.where(ok, vertex, 0.5 * (lo + hi)), lo, hi)
+        p_v = power(vertex)
+        # keep the three best of the four points
+        xs, ps = np.concatenate([xs, vertex[None]]), np.concatenate([ps, p_v[None]])
+        order = np.argsort(np.where(np.isnan(ps), -np.inf, ps), axis=0)[1:]
+        xs, ps = np.take_along_axis(xs, order, 0), np.take_along_axis(ps, order, 0)
+    return xs[-1]

