@@ -516,7 +516,12 @@ def test_absorber_and_stack_calls_outside_their_contract_are_refused():
 
 
 def _more_cases():
+    import matplotlib.pyplot as plt
+
+    from tandem.design.matching import StackDesign
     from tandem.design.sky import Site, clear_sky_series, parse_period
+    from tandem.design.yields import yield_sweep
+    from tandem.output.plots import save_figure
     from tandem.jobs.inputs import OperatingPoint
     from tandem.optics.database import database_alpha, database_index
     from tandem.physics.checks import check_ere
@@ -538,11 +543,20 @@ def _more_cases():
          "thickness σ 150 %", "0 to 100 %"),
         (lambda: by_connection(3, 0.40, None, 0.45, "this result"), "this result",
          "no three-terminal values"),
+        (lambda: yield_sweep(StackDesign(tandem.load_absorber("perovskite-wide"),
+                                         tandem.load_absorber("cigs")),
+                             clear_sky_series(Site("f", 38.0, -4.0, timezone="UTC"),
+                                              parse_period("day:2026-06-21", "UTC", 60)),
+                             [1.7], [-100.0], 2000.0, tandem.Light().photon_flux()),
+         "front thicknesses", "must be positive"),
+        (lambda: save_figure(plt.figure(), "/nonexistent-folder/f.png", False),
+         "output folder '/nonexistent-folder'", "create it first"),
     ]
 
 
 MORE_IDS = ["database shape", "database entry", "index shape", "period form", "polar night",
-            "ere count", "breakdown coupling", "thickness sigma", "no 3T"]
+            "ere count", "breakdown coupling", "thickness sigma", "no 3T", "yield thickness",
+            "figure folder"]
 
 
 @pytest.mark.parametrize("k", range(len(MORE_IDS)), ids=MORE_IDS)
@@ -557,6 +571,11 @@ def test_data_files_that_are_not_text_or_not_positive_are_one_line(tmp_path):
     (tmp_path / "nk.csv").write_text("500,2.0,0.1\n600,two,0.1\n")  # a word among numbers
     with pytest.raises(NkTableError, match="not three numeric columns"):
         read_nk_table(tmp_path / "nk.csv")
+    from tandem.physics.columns import MAX_ROWS
+
+    (tmp_path / "long.csv").write_text("500,2.0,0.1\n" * (MAX_ROWS + 1))
+    with pytest.raises(NkTableError, match="1,000,001 lines"):
+        read_nk_table(tmp_path / "long.csv")
     (tmp_path / "binary.csv").write_bytes(b"\xff\xfe\x00\x81" * 50)
     _refused(tandem.read_spectrum_csv, tmp_path / "binary.csv", "binary.csv", "cannot be read as text")
     alpha = _table_absorber(tmp_path, 'model = "table"\ntable = "alpha.csv"',

@@ -117,6 +117,8 @@ def test_outputs_describe_themselves_and_only_tandem_folders_are_used(sites, rul
     assert data.attrs["job_sha256"] == job.job_fingerprint()  # the resume key, for provenance
     data.close()
     assert {p.name for p in paths} == {"region.nc", "region.csv", "region.png"}
+    with pytest.raises(tandem.TandemInputError, match="has no folder to write into"):
+        write_region_outputs(replace(result, folder=None))
     foreign = tmp_path / "mine"
     foreign.mkdir()
     (foreign / "notes.txt").write_text("keep")

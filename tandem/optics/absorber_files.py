@@ -287,11 +287,7 @@ def _bulk_spec(c: Checker) -> BulkSpec | None:
     """The [recombination] section: an Auger parametrisation and/or SRH lifetime and surface
     velocity, n_i where it was stated, doping."""
     if "recombination" not in c.data:
-        return None
-    for key in ("intrinsic_density_per_cm3", "intrinsic_density_temperature_K"):
-        if c.get("recombination", key) is None:
-            c.fail(f"recombination.{key}", "is missing", "bulk recombination needs "
-                   "intrinsic_density_per_cm3 and intrinsic_density_temperature_K")
+        return None  # its required keys are checked with every section's (Checker.check_keys)
     name = c.get("recombination", "auger")
     if name is not None and name not in AUGER_MODELS:
         c.fail("recombination.auger", f"= {name!r} is not known", f"use one of {', '.join(AUGER_MODELS)}")
