@@ -170,7 +170,7 @@ def test_the_maximum_search_places_a_diodes_maximum_power_point_as_scipy_does():
     from scipy.optimize import minimize_scalar
 
     from tandem.physics import detailed_balance as db
-    from tandem.physics.junctions import GOLDEN_STEPS, PARABOLIC_STEPS
+    from tandem.physics.junctions import GOLDEN_STEPS, PARABOLIC_STEPS, golden_maximum
 
     rng = np.random.default_rng(7)
     n = 300
@@ -182,12 +182,12 @@ def test_the_maximum_search_places_a_diodes_maximum_power_point_as_scipy_does():
         return j * (v - j * r)
 
     voc = db.two_diode_voltage(0.0, jl, a, b, 2.0, vt / tandem.core.units.K_B_EV)
-    found = db.golden_maximum(power, np.zeros(n), voc, GOLDEN_STEPS, PARABOLIC_STEPS)
+    found = golden_maximum(power, np.zeros(n), voc, GOLDEN_STEPS, PARABOLIC_STEPS)
     for i in range(n):
         best = minimize_scalar(lambda v: -power(np.full(n, v))[i], bounds=(0.0, voc[i]),
                                method="bounded", options={"xatol": 1e-12})
         assert power(found)[i] >= -best.fun * (1 - 1e-13)
     # a parabola's vertex is found exactly, wherever it sits in the bracket
     centres = np.array([0.1, 0.37, 0.5, 0.93])
-    x = db.golden_maximum(lambda v: -(v - centres) ** 2, np.zeros(4), np.ones(4), 18, 2)
+    x = golden_maximum(lambda v: -(v - centres) ** 2, np.zeros(4), np.ones(4), 18, 2)
     np.testing.assert_allclose(x, centres, rtol=0, atol=1e-12)

@@ -157,6 +157,56 @@ def junction_voltage(current, j_light, a, b, n, vt, ideal: bool, r_shunt: float 
     return v if shunted else np.where(excess > 0, v, v_open)
 
 
+def golden_maximum(power, lo, hi, iterations=64, parabolic=0):
+    """Argument of the maximum of a unimodal function on [lo, hi], elementwise.
+
+    A vectorised golden-section search: ``power`` maps an array of arguments (shaped like
+    ``lo``) to an array of values; each step keeps the part of every bracket holding the
+    maximum. 64 steps shrink the bracket by 0.618⁶⁴ ≈ 4e-14.
+
+    ``parabolic`` steps then follow (successive parabolic interpolation, as in Brent's method:
+    R. P. Brent, Algorithms for Minimization without Derivatives (1973), ch. 5): the vertex of
+    the parabola through the three best points evaluated, kept inside the bracket; near a
+    smooth maximum each step about squares the error, so 18 golden steps (10⁻⁴ of the bracket)
+    and 2 parabolic ones place the maximum better than 32 golden steps, in 20
+    evaluations instead of 34. The best point evaluated is returned then.
+    """
+    lo = np.array(lo, dtype=float)
+    hi = np.array(hi, dtype=float) + 0.0 * lo
+    lo = lo + 0.0 * hi
+    ratio = (5.0**0.5 - 1.0) / 2.0
+    x1, x2 = hi - ratio * (hi - lo), lo + ratio * (hi - lo)
+    p1, p2 = power(x1), power(x2)
+    x3, p3 = x2, p2  # the third point for a parabola: the interior point last dropped
+    for _ in range(iterations):
+        left = p1 >= p2  # the maximum lies in [lo, x2]
+        x3, p3 = np.where(left, x2, x1), np.where(left, p2, p1)
+        hi = np.where(left, x2, hi)
+        lo = np.where(left, lo, x1)
+        new = np.where(left, hi - ratio * (hi - lo), lo + ratio * (hi - lo))
+        p_new = power(new)
+        x1, x2, p1, p2 = (np.where(left, new, x2), np.where(left, x1, new),
+                          np.where(left, p_new, p2), np.where(left, p1, p_new))
+    if not parabolic:
+        return 0.5 * (lo + hi)
+    xs, ps = np.stack([x1, x2, x3]), np.stack([p1, p2, p3])
+    for _ in range(parabolic):
+        a, b, c = xs
+        fa, fb, fc = ps
+        with np.errstate(all="ignore"):
+            num = (b - a) ** 2 * (fb - fc) - (b - c) ** 2 * (fb - fa)
+            den = (b - a) * (fb - fc) - (b - c) * (fb - fa)
+            vertex = b - 0.5 * num / den
+        ok = np.isfinite(vertex) & (den != 0)
+        vertex = np.clip(np.where(ok, vertex, 0.5 * (lo + hi)), lo, hi)
+        p_v = power(vertex)
+        # keep the three best of the four points
+        xs, ps = np.concatenate([xs, vertex[None]]), np.concatenate([ps, p_v[None]])
+        order = np.argsort(np.where(np.isnan(ps), -np.inf, ps), axis=0)[1:]
+        xs, ps = np.take_along_axis(xs, order, 0), np.take_along_axis(ps, order, 0)
+    return xs[-1]
+
+
 def _bisect(f, lo, hi, iterations: int = 52):
     """Where the decreasing ``f`` crosses zero in [lo, hi] (f(lo) ≥ 0 ≥ f(hi)), elementwise;
     52 halvings leave 2⁻⁵² of the bracket, the resolution of a double."""
@@ -189,8 +239,8 @@ def _chain_maximum(chain_voltage, j_high, r_series: float):
         jsc = np.where(alive, j_high, 0.0)
     else:
         jsc = np.where(alive, _bisect(terminal_voltage, zero, j_high), 0.0)
-    j = db.golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc, iterations=GOLDEN_STEPS,
-                          parabolic=PARABOLIC_STEPS)
+    j = golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc, iterations=GOLDEN_STEPS,
+                       parabolic=PARABOLIC_STEPS)
     v = terminal_voltage(j)
     dead = ~(j * v > 0)
     return (np.maximum(voc, 0.0), jsc, np.where(dead, 0.0, j), np.where(dead, 0.0, v))
@@ -237,8 +287,8 @@ def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
         j = current(v)
         return j * (v - j * r_series)
 
-    v_j = db.golden_maximum(power, v_sc + 0.0 * voc, np.maximum(voc, v_sc), iterations=GOLDEN_STEPS,
-                            parabolic=PARABOLIC_STEPS)
+    v_j = golden_maximum(power, v_sc + 0.0 * voc, np.maximum(voc, v_sc), iterations=GOLDEN_STEPS,
+                         parabolic=PARABOLIC_STEPS)
     j = current(v_j)
     v = v_j - j * r_series
     dead = ~(j * v > 0) | ~alive
@@ -270,8 +320,8 @@ def _coupled_four_terminal(cells: _Cells, r_series_stack: float):
 
     # the front's own terminal limits bound its current (no power outside [0, Jsc])
     _, _, _, voc_f, jsc_f = _own_mpp(front, jl[..., :1], r_series_stack, 2)
-    jf = db.golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0], iterations=GOLDEN_STEPS,
-                           parabolic=PARABOLIC_STEPS)
+    jf = golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0], iterations=GOLDEN_STEPS,
+                        parabolic=PARABOLIC_STEPS)
     v, jb, vb, pb, voc_b, jsc_b = parts(jf)
     dead = ~(jf * v > 0)
     j, v = np.where(dead, 0.0, jf), np.where(dead, 0.0, v)
@@ -339,8 +389,8 @@ def _series_along(cells: _Cells, k: int, j_high, r_series: float):
     voc = terminal(v_open)
     alive = voc > 0
     v_sc = np.where(alive, _bisect(lambda v: -terminal(v), v_short + 0.0 * v_open, v_open), v_open)
-    vk = db.golden_maximum(power, v_sc, v_open + 0.0 * v_sc, iterations=GOLDEN_STEPS,
-                           parabolic=PARABOLIC_STEPS)
+    vk = golden_maximum(power, v_sc, v_open + 0.0 * v_sc, iterations=GOLDEN_STEPS,
+                        parabolic=PARABOLIC_STEPS)
     j = current(vk)
     v = terminal(vk)
     dead = ~(j * v > 0)
