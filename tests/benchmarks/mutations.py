@@ -1,6 +1,6 @@
 """Does the suite catch a physically meaningful slip? A mutation run over the whole tool.
 
-Run on demand (not part of the suite; about half an hour on the 2-core machine):
+Run on demand (not part of the suite; about 40 minutes on the 2-core machine):
 
     python tests/benchmarks/mutations.py            # every mutation below
     python tests/benchmarks/mutations.py sky-step   # the named ones
