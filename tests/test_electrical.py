@@ -170,7 +170,7 @@ def test_the_maximum_search_places_a_diodes_maximum_power_point_as_scipy_does():
     from scipy.optimize import minimize_scalar
 
     from tandem.physics import detailed_balance as db
-    from tandem.physics.junctions import GOLDEN_STEPS, PARABOLIC_STEPS, golden_maximum
+    from tandem.physics.junctions import golden_maximum
 
     rng = np.random.default_rng(7)
     n = 300
@@ -182,7 +182,7 @@ def test_the_maximum_search_places_a_diodes_maximum_power_point_as_scipy_does():
         return j * (v - j * r)
 
     voc = db.two_diode_voltage(0.0, jl, a, b, 2.0, vt / tandem.core.units.K_B_EV)
-    found = golden_maximum(power, np.zeros(n), voc, GOLDEN_STEPS, PARABOLIC_STEPS)
+    found = golden_maximum(power, np.zeros(n), voc)  # the steps every junction search takes
     for i in range(n):
         best = minimize_scalar(lambda v: -power(np.full(n, v))[i], bounds=(0.0, voc[i]),
                                method="bounded", options={"xatol": 1e-12})

@@ -11,8 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from tandem.physics.junctions import (GOLDEN_STEPS, PARABOLIC_STEPS, _Cells, _own_mpp,
-                                      golden_maximum)
+from tandem.physics.junctions import _Cells, _own_mpp, golden_maximum
 
 #: Newton iterations for the three-terminal optimum (it converges in 4–8 from the
 #: four-terminal point; a line search keeps every step an ascent)
@@ -23,8 +22,7 @@ def _bounded_maximum(power, lo, hi):
     """:func:`~tandem.physics.junctions.golden_maximum` that also tries both ends: a
     maximum on the boundary (a junction held at open circuit, where its current is steep in
     its voltage) is then taken exactly, not 2e-7 of the bracket short of it."""
-    x = golden_maximum(power, lo, hi, iterations=GOLDEN_STEPS,
-                       parabolic=PARABOLIC_STEPS)
+    x = golden_maximum(power, lo, hi)
     for end in (lo, hi):
         x = np.where(power(end) > power(x), end, x)
     return x
@@ -240,8 +238,7 @@ def voltage_matched(cells: _Cells, r_series_stack: float, ratio: tuple[int, int]
         return np.where(np.isnan(p), -np.inf, p)  # a back driven past its gap
 
     voc_f = np.maximum(cells.voltage(0, 0.0), 0.0) + zeros
-    vf = golden_maximum(total, zeros, voc_f, iterations=GOLDEN_STEPS,
-                        parabolic=PARABOLIC_STEPS)
+    vf = golden_maximum(total, zeros, voc_f)
     jf, v_front, jb, v_back = operating(vf)
     p = jf * v_front + jb * v_back
     dead = ~(p > 0)

@@ -157,12 +157,12 @@ def junction_voltage(current, j_light, a, b, n, vt, ideal: bool, r_shunt: float 
     return v if shunted else np.where(excess > 0, v, v_open)
 
 
-def golden_maximum(power, lo, hi, iterations=64, parabolic=0):
+def golden_maximum(power, lo, hi, iterations=GOLDEN_STEPS, parabolic=PARABOLIC_STEPS):
     """Argument of the maximum of a unimodal function on [lo, hi], elementwise.
 
     A vectorised golden-section search: ``power`` maps an array of arguments (shaped like
     ``lo``) to an array of values; each step keeps the part of every bracket holding the
-    maximum. 64 steps shrink the bracket by 0.618⁶⁴ ≈ 4e-14.
+    maximum: n steps shrink it by 0.618ⁿ (with ``parabolic=0`` its middle is returned).
 
     ``parabolic`` steps then follow (successive parabolic interpolation, as in Brent's method:
     R. P. Brent, Algorithms for Minimization without Derivatives (1973), ch. 5): the vertex of
@@ -239,8 +239,7 @@ def _chain_maximum(chain_voltage, j_high, r_series: float):
         jsc = np.where(alive, j_high, 0.0)
     else:
         jsc = np.where(alive, _bisect(terminal_voltage, zero, j_high), 0.0)
-    j = golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc, iterations=GOLDEN_STEPS,
-                       parabolic=PARABOLIC_STEPS)
+    j = golden_maximum(lambda x: x * terminal_voltage(x), zero, jsc)
     v = terminal_voltage(j)
     dead = ~(j * v > 0)
     return (np.maximum(voc, 0.0), jsc, np.where(dead, 0.0, j), np.where(dead, 0.0, v))
@@ -287,8 +286,7 @@ def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
         j = current(v)
         return j * (v - j * r_series)
 
-    v_j = golden_maximum(power, v_sc + 0.0 * voc, np.maximum(voc, v_sc), iterations=GOLDEN_STEPS,
-                         parabolic=PARABOLIC_STEPS)
+    v_j = golden_maximum(power, v_sc + 0.0 * voc, np.maximum(voc, v_sc))
     j = current(v_j)
     v = v_j - j * r_series
     dead = ~(j * v > 0) | ~alive
@@ -320,8 +318,7 @@ def _coupled_four_terminal(cells: _Cells, r_series_stack: float):
 
     # the front's own terminal limits bound its current (no power outside [0, Jsc])
     _, _, _, voc_f, jsc_f = _own_mpp(front, jl[..., :1], r_series_stack, 2)
-    jf = golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0], iterations=GOLDEN_STEPS,
-                        parabolic=PARABOLIC_STEPS)
+    jf = golden_maximum(total, np.zeros(jl.shape[:-1]), jsc_f[..., 0])
     v, jb, vb, pb, voc_b, jsc_b = parts(jf)
     dead = ~(jf * v > 0)
     j, v = np.where(dead, 0.0, jf), np.where(dead, 0.0, v)
@@ -389,8 +386,7 @@ def _series_along(cells: _Cells, k: int, j_high, r_series: float):
     voc = terminal(v_open)
     alive = voc > 0
     v_sc = np.where(alive, _bisect(lambda v: -terminal(v), v_short + 0.0 * v_open, v_open), v_open)
-    vk = golden_maximum(power, v_sc, v_open + 0.0 * v_sc, iterations=GOLDEN_STEPS,
-                        parabolic=PARABOLIC_STEPS)
+    vk = golden_maximum(power, v_sc, v_open + 0.0 * v_sc)
     j = current(vk)
     v = terminal(vk)
     dead = ~(j * v > 0)
