@@ -296,8 +296,8 @@ def matched_thickness(design, cond, gap, d_grid, back_d, currents,
     if diff[i] == 0:
         return float(d_grid[i]), "matched"
 
-    def f(d):
-        j = stack_performance(design, cond, gap, d, back_d, back_gap).j_light
+    def f(d):  # the photocurrents alone: no electrical solve inside the root search
+        j = subcell_currents(design, cond, gap, d, back_d, back_gap)[0]
         return float(j[0] - j[1])
 
     from scipy import optimize  # imported where used: a quick command must start fast
