@@ -245,6 +245,27 @@ def _chain_maximum(chain_voltage, j_high, r_series: float):
     return (np.maximum(voc, 0.0), jsc, np.where(dead, 0.0, j), np.where(dead, 0.0, v))
 
 
+def _short_circuit(current, slope, start, r_series: float):
+    """Junction voltage where a circuit with series resistance is shorted: V_j = J(V_j)·R_s.
+
+    f(V_j) = V_j − R_s·J(V_j) rises and is convex (J falls and is concave in V_j), so
+    Newton's method from a point where f ≥ 0 falls monotonically onto the root, quadratically
+    near it (a few steps where bisection takes 52). ``start``: such a point, e.g. the smaller of
+    Voc and R_s·J_L (no junction at V ≥ 0 delivers more than its photocurrent), far below a
+    gap whose steep exact emission would stall the first steps.
+    """
+    v = np.asarray(start, dtype=float)
+    for _ in range(100):
+        with np.errstate(invalid="ignore"):
+            new = np.minimum(v - (v - r_series * current(v)) / (1.0 - r_series * slope(v)), v)
+        new = np.where(np.isfinite(new), new, v)
+        done = np.max(np.abs(new - v) - 1e-12 * np.abs(v), initial=0.0) < 1e-13
+        v = new
+        if done:
+            break
+    return v
+
+
 def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
     """Every subcell alone at its maximum power point, elementwise over (..., m); each
     circuit carries R_s/``circuits`` (``r_series``, the stack's series resistance [Ω·m²],
@@ -271,15 +292,21 @@ def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
         return (jl - cells.a * np.expm1(x) - cells.b * np.expm1(x / cells.n) - v * g_shunt
                 - sum(t.current(v, vt) for t in cells.extra))
 
+    def slope(v):  # dJ/dV_j, in closed form
+        x = v / vt
+        return (-(cells.a * np.exp(x) + cells.b * np.exp(x / cells.n) / cells.n) / vt - g_shunt
+                - sum(t.current_slope(v, vt)[1] for t in cells.extra))
+
     # Parameterised by the junction voltage V_j, the terminal voltage V_j − J(V_j)·R_s rises
     # with V_j, so P = J·(V_j − J·R_s) keeps its single maximum and every step is explicit:
-    # one solve for Voc, a bisection for Jsc (V_j = J·R_s), a golden search for the maximum.
+    # one solve for Voc, Newton's method for Jsc (V_j = J·R_s), a golden search for the maximum.
     voc = junction_voltage(0.0, jl, cells.a, cells.b, cells.n, vt, cells.ideal, cells.r_shunt,
                            cells.extra)
     alive = voc > 0
-    lo = np.minimum(0.0, voc)
-    v_sc = lo if r_series == 0 else _bisect(lambda v: current(v) * r_series - v, lo + 0.0 * voc,
-                                            np.maximum(voc, 0.0))
+    v_sc = np.minimum(0.0, voc)
+    if r_series > 0:
+        v_sc = np.where(alive, _short_circuit(current, slope, np.minimum(voc, r_series * jl),
+                                              r_series), voc)
     jsc = np.where(alive, current(v_sc), 0.0)
 
     def power(v):
@@ -385,12 +412,23 @@ def _series_along(cells: _Cells, k: int, j_high, r_series: float):
     v_short = cells.voltage(k, j_high)  # J = j_high: the chain's terminal voltage ≤ 0 there
     voc = terminal(v_open)
     alive = voc > 0
-    v_sc = np.where(alive, _bisect(lambda v: -terminal(v), v_short + 0.0 * v_open, v_open), v_open)
+    # Where the chain still holds a voltage at j_high (without shunts: no junction carries
+    # more than its photocurrent, so always), J cannot rise further and v_short is the short
+    # circuit; the bisection, 52 evaluations of the chain, is for a crossing inside
+    # (the chain's voltage taken at j_high itself: the current at v_short, solved and
+    # re-evaluated, can pass a limiting photocurrent by a rounding error, where that
+    # junction's voltage falls off its cliff)
+    holds = others(j_high) + v_short - j_high * r_series >= 0
+    v_sc = v_short + 0.0 * v_open
+    if not np.all(holds):
+        v_sc = np.where(holds, v_sc, _bisect(lambda v: -terminal(v), v_sc, v_open))
+    v_sc = np.where(alive, v_sc, v_open)
+    jsc = np.where(alive, np.where(holds, j_high, current(v_sc)), 0.0)
     vk = golden_maximum(power, v_sc, v_open + 0.0 * v_sc)
     j = current(vk)
     v = terminal(vk)
     dead = ~(j * v > 0)
     j, v, vk = np.where(dead, 0.0, j), np.where(dead, 0.0, v), np.where(dead, 0.0, vk)
     v_sub = np.stack([vk if i == k else cells.voltage(i, j) for i in range(m)], axis=-1)
-    return j, v, j * v, v_sub, np.maximum(voc, 0.0), np.where(alive, current(v_sc), 0.0)
+    return j, v, j * v, v_sub, np.maximum(voc, 0.0), jsc
 
