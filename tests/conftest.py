@@ -1,9 +1,19 @@
 import os
 
-import pytest
-from hypothesis import HealthCheck, settings
+# One BLAS thread per test process, as the command line runs (tandem/cli/__init__.py): the
+# suite runs one process per core, where BLAS threads only contend. The variable reaches
+# subprocesses and BLAS libraries loaded later (scipy's); numpy's, loaded already by a
+# plugin, is limited at run time.
+for _variable in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_variable, "1")
 
-import tandem
+import pytest  # noqa: E402
+from hypothesis import HealthCheck, settings  # noqa: E402
+from threadpoolctl import threadpool_limits  # noqa: E402
+
+import tandem  # noqa: E402
+
+threadpool_limits(limits=int(os.environ["OPENBLAS_NUM_THREADS"]), user_api="blas")
 
 # Property tests: a few hundred examples per property in CI; `--hypothesis-profile thorough`
 # runs 10⁴ (the closing notes of physics changes report having run it).

@@ -1,6 +1,8 @@
 """Structure: the modules form layers with no cycle, and the command line stays thin."""
 
 import ast
+import json
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -162,3 +164,19 @@ def test_quick_commands_import_no_heavy_library(tmp_path, args, allowed):
               for line in run.stderr.splitlines() if line.startswith("import time:")}
     assert "tandem" in loaded and "numpy" in loaded  # the reading itself works
     assert not (loaded & (HEAVY - allowed)), sorted(loaded & (HEAVY - allowed))
+
+
+def test_the_command_line_runs_one_blas_thread_unless_told_otherwise():
+    """Each BLAS (numpy's and scipy's, whichever loads) runs one thread under the command line,
+    read back with threadpoolctl; a user's own setting stands."""
+    probe = ("import os, json, tandem.cli, numpy, scipy.linalg, threadpoolctl; "
+             "print(json.dumps([os.environ['OPENBLAS_NUM_THREADS'], sorted({i['num_threads'] "
+             "for i in threadpoolctl.threadpool_info() if i['user_api'] == 'blas'})]))")
+    env = {k: v for k, v in os.environ.items() if k not in ("OPENBLAS_NUM_THREADS",
+                                                            "MKL_NUM_THREADS")}
+    out = subprocess.run([sys.executable, "-c", probe], env=env, capture_output=True,
+                         text=True, timeout=120, cwd=PACKAGE.parent)
+    assert json.loads(out.stdout) == ["1", [1]], out.stderr
+    out = subprocess.run([sys.executable, "-c", probe], env={**env, "OPENBLAS_NUM_THREADS": "2"},
+                         capture_output=True, text=True, timeout=120, cwd=PACKAGE.parent)
+    assert json.loads(out.stdout)[0] == "2", out.stderr
