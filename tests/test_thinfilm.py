@@ -228,7 +228,8 @@ def test_interference_fringes_give_several_crossings(am15g_coarse):
     layers = tuple(replace(x, gap_eV=1.80, sweep_nm=(300.0, 1500.0)) if x.role == "front" else
                    replace(x, sweep_nm=None, thickness_nm=60.0) if x.sweep_nm else x
                    for x in stack.layers)
-    result = match_in_stack(replace(stack, layers=layers), am15g_coarse, points=300)
+    # 120 points find the same three crossings as 300 (to the nm), at 40 % of the cost
+    result = match_in_stack(replace(stack, layers=layers), am15g_coarse, points=120)
     _, j, _, _ = result.grids[0]
     changes = int(np.sum(np.diff(np.sign(j[:, 0] - j[:, 1])) != 0))
     assert changes >= 2 and len(result.crossings) == changes
@@ -324,23 +325,29 @@ def test_no_match_note_names_the_thickness_range_swept(tmp_path):
     assert any("no current match for 150–160 nm" in n for n in result.match.notes)
 
 
-def test_an_optimum_on_the_edge_of_a_layer_sweep_is_flagged():
+@pytest.fixture(scope="module")
+def wafer_stack_match():
+    """The bundled wafer stack matched on a 12-point grid (shared: it is the costly part)."""
+    return tandem.match_stack(load_stack("wide-gap-on-silicon-wafer"), points=12)
+
+
+def test_an_optimum_on_the_edge_of_a_layer_sweep_is_flagged(wafer_stack_match):
     """The bundled wafer stack's electrode is best at its thinnest swept value (60 nm): the
     optimum may lie beyond the range, and the notes say so."""
-    result = tandem.match_stack(load_stack("wide-gap-on-silicon-wafer"), points=12)
+    result = wafer_stack_match
     assert result.match.best.others["ITO electrode"] == pytest.approx(60.0)
     assert any("ITO electrode: the best design sits at the edge of its sweep (60 nm"
                in n for n in result.match.notes)
 
 
-def test_the_four_terminal_optimum_is_refined_off_the_grid(am15g):
+def test_the_four_terminal_optimum_is_refined_off_the_grid(am15g, wafer_stack_match):
     """The best four-terminal point is refined between its grid neighbours: it is at least the
     grid's best and a local maximum in the front thickness (±0.1 % both lower)."""
     from tandem.design.layerstack import _point
     from tandem.physics.stack import IDEAL
 
     stack = load_stack("wide-gap-on-silicon-wafer")
-    m = tandem.match_stack(stack, points=12).match
+    m = wafer_stack_match.match
     best = m.best_4t
     on_grid = max(float(np.nanmax(g[3])) for g in m.grids)
     assert best.efficiency_4t >= on_grid * (1 - 1e-12)
