@@ -113,6 +113,20 @@ def test_overwrite_refuses_a_foreign_folder(study_folder, tmp_path):
     assert (thesis / "chapter1.tex").read_text() == "data"
 
 
+def test_an_overwrite_that_will_be_refused_is_refused_before_the_work(tmp_path):
+    """The reason a folder may not be replaced is told at once, not after the build (minutes
+    for a large study); it is checked again at placement."""
+    target = tmp_path / "out"
+    target.mkdir()
+    built = []
+    with pytest.raises(tandem.TandemInputError, match="not yours to replace"):
+        files.place_folder(target, built.append, overwrite=True,
+                           replaceable=lambda t: "not yours to replace")
+    assert built == [] and target.is_dir()
+    assert files.place_folder(target, built.append, overwrite=True,
+                              replaceable=lambda t: None) == target and len(built) == 1
+
+
 def test_overwrite_refuses_a_study_folder_holding_a_users_file(study_folder):
     path, out = study_folder
     (out / "notes.txt").write_text("mine")

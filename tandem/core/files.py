@@ -305,6 +305,10 @@ def place_folder(target: str | Path, build: Callable[[Path], None], overwrite: b
     """
     target = check_output_folder(target)
     clean_stale(target)
+    if overwrite and replaceable and os.path.lexists(target):
+        reason = replaceable(target)
+        if reason:  # told before the work, not after it (and checked again at placement)
+            raise TandemInputError(reason)
     tmp = target.parent / f".{target.name}{_TMP_TAG}{os.getpid()}-{os.urandom(4).hex()}"
     tmp.mkdir(mode=0o700)
     try:
