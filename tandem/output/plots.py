@@ -41,6 +41,7 @@ LAYER_COLOURS = ("#ff7f0e", "#2ca02c", "#9467bd", "#8c564b", "#e377c2", "#bcbd22
 
 
 DPI = 300  #: print resolution of PNG figures
+PNG_COMPRESSION = 3  #: zlib level of PNG figures (lossless at any level; see savefig)
 
 
 #: while :func:`svg_copies` is active: output file name → the same figure as SVG text
@@ -68,9 +69,14 @@ def savefig(fig, target, fmt: str, name: str | None = None) -> None:
 
     import matplotlib
 
+    # PNG at zlib level 3, not Pillow's 6: the same pixels (lossless), files about a third
+    # larger, encoding about 2.5x faster (measured at 300 dpi: the level-6 encoding was a fifth
+    # of a study's whole run)
+    extra = {"pil_kwargs": {"compress_level": PNG_COMPRESSION}} if fmt == "png" else {}
     with matplotlib.rc_context({"svg.fonttype": "none"}):
         fig.savefig(target, dpi=DPI, bbox_inches="tight", format=fmt,
-                    metadata={"Creator": "tandem"} if fmt in ("svg", "pdf") else {"Software": "tandem"})
+                    metadata={"Creator": "tandem"} if fmt in ("svg", "pdf") else {"Software": "tandem"},
+                    **extra)
         if _SVG_SINK is not None and name is not None:
             text = io.StringIO()
             fig.savefig(text, bbox_inches="tight", format="svg", metadata={"Creator": "tandem"})
