@@ -273,6 +273,13 @@ def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
 
     Returns j, v, p, voc, jsc (terminal values of each subcell's own circuit).
     """
+    m = np.shape(cells.j_light)[-1]
+    if cells.extra and m > 1:
+        # each subcell with its own terms only: one without any (a film beside an
+        # Auger-limited wafer) keeps its closed form, and the searches run on the others alone
+        parts = [_own_mpp(cells.alone(i), np.asarray(j_light)[..., i:i + 1], r_series, circuits)
+                 for i in range(m)]
+        return tuple(np.concatenate(column, axis=-1) for column in zip(*parts))
     vt = np.asarray(cells.vt)[..., None] if np.ndim(cells.vt) else cells.vt
     if r_series == 0 and not math.isfinite(cells.r_shunt) and not cells.extra:
         if cells.ideal:
