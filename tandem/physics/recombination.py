@@ -123,7 +123,7 @@ class BulkRecombination:
         cancellation (n0 + p0) + 2Δn suffers in reverse bias; Δn keeps the sign of V."""
         ni2, s, d2 = self._constants
         drive = ni2 * np.expm1(x)  # n·p − n_i²
-        total = np.sqrt(d2 + 4 * ni2 * np.exp(x))
+        total = np.sqrt(d2 + 4 * (ni2 + drive))  # n·p = n_i² + drive: no second exponential
         return 2 * drive / (s + total), drive, total
 
     def current(self, voltage, vt):
@@ -140,7 +140,7 @@ class BulkRecombination:
         ni2 = self._constants[0]
         with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
             dn, drive, total = self._excess(x)
-            e = ni2 * np.exp(x)  # d(n·p)/dx
+            e = ni2 + drive  # d(n·p)/dx = n·p
             ddn = e / total  # dΔn/dx
             power = np.abs(dn) ** self.exponent
             bracket = self.low + self.injection * power
