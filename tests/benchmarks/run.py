@@ -4,6 +4,7 @@ Run on demand (not part of the test suite):
 
     python tests/benchmarks/run.py            # all cases
     python tests/benchmarks/run.py --quick    # smaller reference samples
+    python tests/benchmarks/run.py --targets  # only the speed targets, each with its ratio
 
 For each case it prints configurations per second and peak memory at two sizes (to show
 that cost grows linearly), and for cases (a) and (b) the speed ratio against a reference
@@ -389,9 +390,11 @@ def case_g():
     timings = {}
     with tempfile.TemporaryDirectory() as folder:
         for workers in (1, 2):
-            t0 = time.perf_counter()
+            t0, c0 = time.perf_counter(), time.process_time()
             result = run_region(sites, job, Path(folder) / f"w{workers}", workers=workers)
             timings[workers] = time.perf_counter() - t0
+            if workers == 1:  # serial: the whole run's CPU is in this process
+                cpu_per_site = (time.process_time() - c0) / len(sites)
         per_site = float(np.mean([r["seconds"] for r in result.records]))
     print(f"  {len(sites)} sites: {timings[1]:.1f} s in one process ({timings[1] / len(sites):.2f} s "
           f"per site-year); {timings[2]:.1f} s on a 2-worker local cluster, start-up included "
@@ -399,6 +402,7 @@ def case_g():
     print(f"  estimate for 1,000 sites: {1000 * timings[1] / len(sites) / 60:.0f} min in one process, "
           f"{1000 * per_site / 2 / 60:.0f} min on 2 workers, "
           f"{1000 * per_site / 32 / 60:.1f} min on 32 workers (from the per-site figure)")
+    return cpu_per_site, timings[1] / timings[2]
 
 
 def whole_process(label: str, args: list[str]) -> None:
@@ -417,8 +421,9 @@ def whole_process(label: str, args: list[str]) -> None:
                        stderr=subprocess.DEVNULL)
         wall = time.perf_counter() - t0
         user, system, kib = report.read_text().split()[-3:]
-    print(f"  {label:<54} {wall:6.2f} s wall {float(user) + float(system):6.2f} s CPU  "
-          f"peak {int(kib) / 1024:5.0f} MiB")
+    cpu = float(user) + float(system)
+    print(f"  {label:<54} {wall:6.2f} s wall {cpu:6.2f} s CPU  peak {int(kib) / 1024:5.0f} MiB")
+    return cpu
 
 
 def case_d():
@@ -434,10 +439,56 @@ def case_d():
                   ["yield", "perovskite-wide", "silicon", *site, "--step", "15", "-q"])
 
 
+#: The speed targets of the project (issue "Speed III"), as (what, limit, unit, larger is better)
+TARGETS = {
+    "map": ("step map 401 x 401, one core", 8e6, "pairs/s", True),
+    "limit": ("tandem limit 1.73 1.12", 0.30, "s CPU", False),
+    "match": ("tandem match perovskite-wide silicon", 0.6, "s CPU", False),
+    "map-cmd": ("tandem map (default grid)", 0.8, "s CPU", False),
+    "stack": ("tandem match --stack wide-gap-on-silicon-wafer", 1.0, "s CPU", False),
+    "absorbers": ("tandem absorbers", 0.4, "s CPU", False),
+    "yield": ("tandem yield, rooftop scenario, 60 min", 1.5, "s CPU", False),
+    "study": ("tandem study (default scenario, figures)", 2.0, "s CPU", False),
+    "region": ("region, CPU per site-year (serial run)", 0.15, "s", False),
+    "workers": ("region, 2 workers against 1, 24 sites", 1.6, "x", True),
+}
+
+TARGET_COMMANDS = {
+    "limit": ["limit", "1.73", "1.12"],
+    "match": ["match", "perovskite-wide", "silicon"],
+    "map-cmd": ["map"],
+    "stack": ["match", "--stack", "wide-gap-on-silicon-wafer"],
+    "absorbers": ["absorbers"],
+    "yield": ["yield", "--scenario", "perovskite-silicon-rooftop"],
+    "study": ["study"],
+}
+
+
+def case_targets(flux, region=None):
+    """Each target measured once more, side by side: value, limit, ratio (value/limit for
+    times, limit/value for rates: 1 or less is met)."""
+    print("(t) the speed targets: measured, limit, ratio (<= 1 is met)")
+    fronts, backs = np.linspace(1.4, 2.3, 401), np.linspace(0.8, 1.5, 401)
+    seconds, _ = measure(lambda: step_gap_map(flux, fronts, backs, T_CELL))
+    measured = {"map": 401 * 401 / seconds}
+    for key, args in TARGET_COMMANDS.items():
+        measured[key] = whole_process(" ".join(["tandem", *args]), args)
+    if region is None:
+        region = case_g()
+    measured["region"], measured["workers"] = region
+    print(f"  {'target':<50} {'measured':>12} {'limit':>10}  ratio")
+    for key, (label, limit, unit, larger) in TARGETS.items():
+        value = measured[key]
+        ratio = limit / value if larger else value / limit
+        print(f"  {label:<50} {value:>12,.3g} {limit:>10,.3g} {unit:<8} {ratio:5.2f} "
+              f"{'met' if ratio <= 1 else 'not met'}")
+
+
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="500-point reference samples only")
     parser.add_argument("--sample", type=int, default=1000, help="reference sample size (>= 500)")
+    parser.add_argument("--targets", action="store_true", help="only the speed targets (t)")
     args = parser.parse_args()
     n_sample = 500 if args.quick else max(500, args.sample)
     rng = np.random.default_rng(2026)
@@ -447,13 +498,17 @@ def main():
     print(f"tandem {tandem.__version__}, numpy {np.__version__}, {os.cpu_count()} cores, "
           f"Python {sys.version.split()[0]}; BLAS: {blas or 'none found'}")
     flux = tandem.reference_spectrum("am1.5g").photon_flux()
+    if args.targets:
+        case_targets(flux)
+        return
     ratio_a, diff_a = case_a(flux, n_sample, rng)
     b_seconds = case_b(flux, n_sample, rng)
     case_c(b_seconds)
     case_e()
     case_f(rng)
-    case_g()
+    region = case_g()
     case_d()
+    case_targets(flux, region)
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(f"process peak resident memory: {rss:,.0f} MiB")
     print(f"speedup: {ratio_a:.0f}x, max difference: {diff_a:.2e} % abs")
