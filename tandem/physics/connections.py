@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from tandem.physics.junctions import _Cells, _own_mpp, golden_maximum
+from tandem.physics.junctions import _Cells, _own_mpp, golden_maximum, terminal_root
 
 #: Newton iterations for the three-terminal optimum (it converges in 4–8 from the
 #: four-terminal point; a line search keeps every step an ascent)
@@ -194,18 +194,7 @@ def _junction_at_terminal(cells: _Cells, i: int, target, r: float, gain=0.0, v_o
     v = np.maximum(target, cells.voltage(i, 0.0, gain) if v_open is None else v_open)
     near = target + r * (cells.j_light[..., i] + gain)
     v = np.where(near >= 0, np.minimum(v, near), v)
-    for _ in range(100):
-        j, dj, _ = _slopes(cells, i, v, gain, second=False)
-        with np.errstate(invalid="ignore"):
-            new = np.minimum(v - (v - r * j - target) / (1.0 - r * dj), v)
-        # a target above the gap (a step absorber's exact emission is infinite there): no
-        # root; v stays, its current is −∞ and the caller's search turns away from it
-        new = np.where(np.isfinite(new), new, v)
-        done = np.max(np.abs(new - v) - 1e-12 * np.abs(v), initial=0.0) < 1e-13
-        v = new
-        if done:
-            break
-    return v
+    return terminal_root(lambda x: _slopes(cells, i, x, gain, second=False)[:2], v, r, target)
 
 
 def voltage_matched(cells: _Cells, r_series_stack: float, ratio: tuple[int, int]):

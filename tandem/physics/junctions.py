@@ -245,19 +245,23 @@ def _chain_maximum(chain_voltage, j_high, r_series: float):
     return (np.maximum(voc, 0.0), jsc, np.where(dead, 0.0, j), np.where(dead, 0.0, v))
 
 
-def _short_circuit(current, slope, start, r_series: float):
-    """Junction voltage where a circuit with series resistance is shorted: V_j = J(V_j)·R_s.
+def terminal_root(current_slope, start, r: float, target=0.0):
+    """Junction voltage where a circuit with series resistance ``r`` has terminal voltage
+    ``target``: V_j − r·J(V_j) = target (``target`` 0: its short circuit).
 
-    f(V_j) = V_j − R_s·J(V_j) rises and is convex (J falls and is concave in V_j), so
+    f(V_j) = V_j − r·J(V_j) − target rises and is convex (J falls and is concave in V_j), so
     Newton's method from a point where f ≥ 0 falls monotonically onto the root, quadratically
-    near it (a few steps where bisection takes 52). ``start``: such a point, e.g. the smaller of
-    Voc and R_s·J_L (no junction at V ≥ 0 delivers more than its photocurrent), far below a
-    gap whose steep exact emission would stall the first steps.
+    near it (a few steps where bisection takes 52). ``current_slope(v)`` gives (J, dJ/dV_j);
+    ``start``: such a point, e.g. the smaller of the open circuit and target + r·J_L (no
+    junction at V ≥ 0 delivers more than its photocurrent), far below a gap whose steep exact
+    emission would stall the first steps. Where f stays above zero (a target beyond a gap,
+    whose exact emission no current pays for) a non-finite step leaves v where it is.
     """
     v = np.asarray(start, dtype=float)
     for _ in range(100):
+        j, dj = current_slope(v)
         with np.errstate(invalid="ignore"):
-            new = np.minimum(v - (v - r_series * current(v)) / (1.0 - r_series * slope(v)), v)
+            new = np.minimum(v - (v - r * j - target) / (1.0 - r * dj), v)
         new = np.where(np.isfinite(new), new, v)
         done = np.max(np.abs(new - v) - 1e-12 * np.abs(v), initial=0.0) < 1e-13
         v = new
@@ -312,8 +316,8 @@ def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
     alive = voc > 0
     v_sc = np.minimum(0.0, voc)
     if r_series > 0:
-        v_sc = np.where(alive, _short_circuit(current, slope, np.minimum(voc, r_series * jl),
-                                              r_series), voc)
+        v_sc = np.where(alive, terminal_root(lambda v: (current(v), slope(v)),
+                                             np.minimum(voc, r_series * jl), r_series), voc)
     jsc = np.where(alive, current(v_sc), 0.0)
 
     def power(v):
