@@ -435,8 +435,10 @@ def evaluate_budget(stack, budget, flux, temperature_K, ideality, electrical):
     return perf, parasitic, reflected, transmitted
 
 
-def _point(stack, flux, others, d, temperature_K, ideality, electrical, matched):
-    budget = photon_budget(stack, flux.energy, [d], others, temperature_K)
+def _point(stack, flux, others, d, temperature_K, ideality, electrical, matched, budget=None):
+    """The stack at front thickness ``d`` (``budget``: its photon budget, if already solved)."""
+    if budget is None:
+        budget = photon_budget(stack, flux.energy, [d], others, temperature_K)
     perf, parasitic, reflected, transmitted = evaluate_budget(stack, budget, flux, temperature_K,
                                                               ideality, electrical)
     return StackPoint(dict(others), float(d), perf.j_light[0], float(perf.efficiency_2t[0]),
@@ -466,17 +468,26 @@ def _refined_4t(stack, flux, others, grid, i, temperature_K, ideality, electrica
     return refined if refined.efficiency_4t > on_grid.efficiency_4t else on_grid
 
 
-def _bisect_match(stack, flux, others, lo, hi, temperature_K):
+def _bisect_match(stack, flux, others, lo, hi, temperature_K, ends):
     """Front thickness where J_front = J_back between lo and hi (a sign change) [nm]: Brent's
-    method on log d (the sweep is geometric) to 10⁻⁷ relative."""
+    method on log d (the sweep is geometric) to 10⁻⁷ relative. ``ends``: J_front − J_back at
+    lo and hi, known from the sweep (Brent's first two evaluations, not solved again).
+    Returns (thickness, its photon budget, or None where the root was not itself solved)."""
     from scipy.optimize import brentq
 
+    known = {math.log(lo): float(ends[0]), math.log(hi): float(ends[1])}
+    budgets = {}
+
     def gap(log_d):
+        if log_d in known:
+            return known[log_d]
         budget = photon_budget(stack, flux.energy, [math.exp(log_d)], others, temperature_K)
+        budgets[log_d] = budget
         j = budget_currents(budget, flux, temperature_K)[0][0]
         return j[0] - j[1]
 
-    return math.exp(brentq(gap, math.log(lo), math.log(hi), xtol=1e-7, rtol=1e-12))
+    root = brentq(gap, math.log(lo), math.log(hi), xtol=1e-7, rtol=1e-12)
+    return math.exp(root), budgets.get(root)
 
 
 def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, points: int = 120,
@@ -522,9 +533,10 @@ def match_in_stack(stack: LayerStack, flux, temperature_K: float = 298.15, point
         grids.append((others, perf.j_light, perf.efficiency_2t, perf.efficiency_4t))
         diff = perf.j_light[:, 0] - perf.j_light[:, 1]
         for i in np.flatnonzero(np.sign(diff[:-1]) * np.sign(diff[1:]) < 0):
-            d = _bisect_match(stack, flux, others, grid[i], grid[i + 1], temperature_K)
+            d, budget = _bisect_match(stack, flux, others, grid[i], grid[i + 1], temperature_K,
+                                      diff[i:i + 2])
             crossings.append(_point(stack, flux, others, d, temperature_K, ideality, electrical,
-                                    True))
+                                    True, budget))
         if progress:
             progress(n, len(combos))
     crossings.sort(key=lambda p: -p.efficiency_2t)
