@@ -290,7 +290,7 @@ def test_each_refined_thickness_is_the_best_a_dense_search_finds(terminals):
 
 def test_the_matched_thickness_equalises_the_subcell_currents():
     # the definition of current matching: at the reported thickness both photocurrents agree
-    # (to the root finder's tolerance), though the grid has no point there
+    # (to the root search's precision), though the grid has no point there
     from tandem.design.matching import stack_performance
 
     study = tandem.match("perovskite-wide", "silicon", sweep=tandem.Sweep(
@@ -303,7 +303,8 @@ def test_the_matched_thickness_equalises_the_subcell_currents():
         d = c.matched_front_thickness_nm
         assert not np.any(np.isclose(grid, d, rtol=1e-6))
         j = stack_performance(r.design, r.conditions, c.front_gap_eV, d, c.back_thickness_nm).j_light
-        assert j[0] == pytest.approx(j[1], rel=1e-7)
+        # the zooms leave 1e-9 in ln d and the secant through it is exact to its square
+        assert j[0] == pytest.approx(j[1], rel=1e-12)
 
 
 def test_the_gaps_reported_at_a_hot_cell_move_as_published():

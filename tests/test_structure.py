@@ -148,7 +148,7 @@ HEAVY = {"matplotlib", "scipy", "pvlib", "xarray", "pandas", "dask", "distribute
 
 @pytest.mark.parametrize("args, allowed", [
     (["limit", "1.73", "1.12"], set()),
-    (["match", "perovskite-wide", "silicon"], {"scipy"}),  # its bounded searches
+    (["match", "perovskite-wide", "silicon"], set()),
     (["absorbers"], set()),
 ])
 def test_quick_commands_import_no_heavy_library(tmp_path, args, allowed):

@@ -68,8 +68,9 @@ MUTATIONS = [
      "the best thickness refined on one side of the grid maximum only",
      "test_dependences test_one_path test_api"),
     ("matched-root", "tandem/design/matching.py",
-     "root = optimize.brentq(f, d_grid[i - 1], d_grid[i], xtol=1e-6 * d_grid[i], rtol=1e-10)",
-     "root = d_grid[i]", "the matched thickness taken at a grid point, not solved",
+     "return _rising_root(f, float(d_grid[i - 1]), float(d_grid[i]), float(diff[i - 1]),\n"
+     "                        float(diff[i])), \"matched\"",
+     "return float(d_grid[i]), \"matched\"", "the matched thickness taken at a grid point, not solved",
      "test_dependences test_one_path test_api"),
     ("window-floor", "tandem/design/matching.py", "floor = y[i] - loss",
      "floor = y[i] - 2 * loss", "the tolerance window at twice the stated loss",
