@@ -364,8 +364,10 @@ def _coupled_four_terminal(cells: _Cells, r_series_stack: float):
             np.stack([voc_f[..., 0], voc_b], -1), np.stack([jsc_f[..., 0], jsc_b], -1))
 
 
-def _series_general(cells: _Cells, r_series: float):
+def _series_general(cells: _Cells, r_series: float, open_circuit=None):
     """Series maximum power of any subcells (two diodes, coupling, resistances).
+    ``open_circuit``: each junction's own voltage at zero current (..., m), if already solved
+    (a subcell's own Voc, :func:`_own_mpp`): not solved again.
 
     The chain's terminal voltage at current J is Σ V_j,i(J) − J·R_s, each junction voltage
     with its own shunt (and the back's extra light from coupling); see :func:`_chain_maximum`.
@@ -385,7 +387,9 @@ def _series_general(cells: _Cells, r_series: float):
 
     with_terms = [i for i in range(jl.shape[-1]) if any(t.active(i) for t in cells.extra)]
     if len(with_terms) == 1 and not cells.coupled:
-        return _series_along(cells, with_terms[0], j_high, r_series)
+        k = with_terms[0]
+        return _series_along(cells, k, j_high, r_series,
+                             None if open_circuit is None else open_circuit[..., k])
 
     def chain_voltage(j):
         return np.sum(cells.series_voltages(j), axis=-1)
@@ -395,7 +399,7 @@ def _series_general(cells: _Cells, r_series: float):
     return j, v, j * v, v_sub, voc, jsc
 
 
-def _series_along(cells: _Cells, k: int, j_high, r_series: float):
+def _series_along(cells: _Cells, k: int, j_high, r_series: float, v_open=None):
     """:func:`_series_general` searched along subcell k's junction voltage, when k alone has
     extra recombination terms (e.g. an Auger-limited silicon back).
 
@@ -419,7 +423,8 @@ def _series_along(cells: _Cells, k: int, j_high, r_series: float):
         j = current(vk)
         return j * (others(j) + vk - j * r_series)
 
-    v_open = cells.voltage(k, 0.0)  # J = 0: the chain's open circuit
+    if v_open is None:  # J = 0: the chain's open circuit
+        v_open = cells.voltage(k, 0.0)
     v_short = cells.voltage(k, j_high)  # J = j_high: the chain's terminal voltage ≤ 0 there
     voc = terminal(v_open)
     alive = voc > 0

@@ -407,7 +407,8 @@ def _evaluate(j_light, j0_rad, t, ere, reference_j_light, bulk, emission, irradi
                   else np.sum(voc, axis=-1))
         jsc_2t = np.min(jl_s, axis=-1)
     else:
-        j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t = _series_general(cells, r_series)
+        j_2t, v_2t, p_2t, v_2t_sub, voc_2t, jsc_2t = _series_general(
+            cells, r_series, None if cells.coupled else voc)
     p_3t = j_3t = v_3t = p_vm = v_vm = None
     if m == 2:
         r_middle = electrical.middle_resistance_ohm_cm2 * OHM_CM2
