@@ -425,7 +425,7 @@ def _series_along(cells: _Cells, k: int, j_high, r_series: float, v_open=None):
 
     if v_open is None:  # J = 0: the chain's open circuit
         v_open = cells.voltage(k, 0.0)
-    v_short = cells.voltage(k, j_high)  # J = j_high: the chain's terminal voltage ≤ 0 there
+    v_short = cells.voltage(k, j_high)  # J = j_high: the largest current the search considers
     voc = terminal(v_open)
     alive = voc > 0
     # Where the chain still holds a voltage at j_high (without shunts: no junction carries
