@@ -1,9 +1,13 @@
 import os
 
+# numpy first, whatever the plugins loaded before us: its BLAS keeps its full thread pool,
+# limited to one thread at run time below, so that a test may still raise it (one checks
+# that a series' basis is built on one thread even where two are allowed)
+import numpy  # noqa: F401
+
 # One BLAS thread per test process, as the command line runs (tandem/cli/__init__.py): the
 # suite runs one process per core, where BLAS threads only contend. The variable reaches
-# subprocesses and BLAS libraries loaded later (scipy's); numpy's, loaded already by a
-# plugin, is limited at run time.
+# subprocesses and BLAS libraries loaded later (scipy's); numpy's is limited at run time.
 for _variable in ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_variable, "1")
 
