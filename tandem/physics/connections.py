@@ -21,7 +21,7 @@ NEWTON_STEPS = 60
 def _bounded_maximum(power, lo, hi):
     """:func:`~tandem.physics.junctions.golden_maximum` that also tries both ends: a
     maximum on the boundary (a junction held at open circuit, where its current is steep in
-    its voltage) is then taken exactly, not 2e-7 of the bracket short of it."""
+    its voltage) is then taken exactly, not a small part of the bracket short of it."""
     x = golden_maximum(power, lo, hi)
     for end in (lo, hi):
         x = np.where(power(end) > power(x), end, x)

@@ -303,10 +303,14 @@ def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
         return (jl - cells.a * np.expm1(x) - cells.b * np.expm1(x / cells.n) - v * g_shunt
                 - sum(t.current(v, vt) for t in cells.extra))
 
-    def slope(v):  # dJ/dV_j, in closed form
+    def current_slope(v):  # (J, dJ/dV_j) from one evaluation of each term, in closed form
         x = v / vt
-        return (-(cells.a * np.exp(x) + cells.b * np.exp(x / cells.n) / cells.n) / vt - g_shunt
-                - sum(t.current_slope(v, vt)[1] for t in cells.extra))
+        j = jl - cells.a * np.expm1(x) - cells.b * np.expm1(x / cells.n) - v * g_shunt
+        dj = -(cells.a * np.exp(x) + cells.b * np.exp(x / cells.n) / cells.n) / vt - g_shunt
+        for t in cells.extra:
+            j_x, slope_x = t.current_slope(v, vt)
+            j, dj = j - j_x, dj - slope_x
+        return j, dj
 
     # Parameterised by the junction voltage V_j, the terminal voltage V_j − J(V_j)·R_s rises
     # with V_j, so P = J·(V_j − J·R_s) keeps its single maximum and every step is explicit:
@@ -316,8 +320,8 @@ def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
     alive = voc > 0
     v_sc = np.minimum(0.0, voc)
     if r_series > 0:
-        v_sc = np.where(alive, terminal_root(lambda v: (current(v), slope(v)),
-                                             np.minimum(voc, r_series * jl), r_series), voc)
+        v_sc = np.where(alive, terminal_root(current_slope, np.minimum(voc, r_series * jl),
+                                             r_series), voc)
     jsc = np.where(alive, current(v_sc), 0.0)
 
     def power(v):
