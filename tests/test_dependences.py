@@ -130,7 +130,6 @@ def test_insolation_does_not_depend_on_the_step_length():
     assert coarse.insolation_kWh_m2 == pytest.approx(fine.insolation_kWh_m2, rel=0.01)
 
 
-
 @pytest.mark.filterwarnings("ignore:DatetimeIndex.dayofyear is deprecated")  # pvlib's own
 def test_a_clear_day_keeps_every_step_the_sun_is_up_and_no_other():
     # Sunrise and sunset from an independent solar position (pvlib's ephemeris method, not the
