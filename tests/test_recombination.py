@@ -323,3 +323,36 @@ def test_srh_keys_are_checked(tmp_path):
         parse(srh.replace("= 2.5", "= -1"))
     with pytest.raises(TandemInputError, match=r"recombination.*states no recombination"):
         parse(si.replace('auger = "richter-2012"', ""))
+
+
+@pytest.mark.parametrize("rs, rsh", [(100.0, math.inf), (0.0, 20.0), (2.0, 200.0)])
+def test_a_chain_over_an_auger_limited_back_is_shorted_where_its_voltage_crosses_zero(rs, rsh):
+    # Jsc of two terminals: the current where V_front(J) + V_back(J) − J·R_s = 0, each junction
+    # voltage from its own current balance (diode, Auger bulk, shunt), all solved here by
+    # scipy's brentq. With these resistances the chain's voltage at the largest photocurrent is
+    # below zero, so the short circuit lies inside the range, not at its end.
+    from tandem.physics.stack import Electrical
+
+    vt = K_B_EV * T_25C
+    jl, j0 = np.array([200.0, 190.0]), np.array([1e-19, 1e-10])
+    bulk = stack_bulk([None, BulkSpec(RICHTER, 1e10, 300.0, 1e15, True)], [500.0, 160e3],
+                      [1.7, 1.12], [1.7, 1.12], T_25C)
+    perf = evaluate_stack(jl[None], j0[None], T_25C, 1000.0,
+                          electrical=Electrical(0.0, rs, rsh), bulk=bulk)
+    g_shunt = 0.0 if math.isinf(rsh) else 1.0 / (rsh * 1e-4)
+    back_terms = bulk.subcell(1)
+
+    def junction(j, i):
+        def balance(v):
+            extra = float(back_terms.current(v, vt)) if i == 1 else 0.0
+            return jl[i] - j0[i] * math.expm1(v / vt) - extra - v * g_shunt - j
+        return optimize.brentq(balance, -50.0, 1.5, xtol=1e-15, rtol=1e-15)
+
+    def terminal(j):
+        return junction(j, 0) + junction(j, 1) - j * rs * 1e-4
+
+    j_high = jl.max() if g_shunt else jl.min()
+    assert terminal(j_high * (1 - 1e-12)) < 0  # the crossing is inside (0, j_high)
+    jsc = optimize.brentq(terminal, 0.0, j_high * (1 - 1e-12), xtol=1e-13, rtol=1e-14)
+    assert float(perf.jsc_2t[0]) == pytest.approx(jsc, rel=1e-9)
+    assert float(perf.voc_2t[0]) == pytest.approx(terminal(0.0), rel=1e-9)

@@ -196,6 +196,11 @@ MUTATIONS = [
      "    v = v_j - j * r_series\n", "    v = v_j\n",
      "the series resistance's voltage drop left out of the terminal voltage",
      "test_electrical"),
+    ("series-jsc-crossing", "tandem/physics/junctions.py",
+     "    holds = others(j_high) + v_short - j_high * r_series >= 0\n",
+     "    holds = np.ones(np.shape(v_short), dtype=bool)\n",
+     "an Auger-limited chain shorted at its largest photocurrent even where its voltage "
+     "crosses zero before (a shunt, a large series resistance)", "test_recombination"),
     ("table-back-um", "tandem/output/report.py", "c.back_thickness_nm / 1000.0, 4",
      "c.back_thickness_nm / 100.0, 4", "the design table's back thickness [µm] off by 10",
      "test_cli_design test_api test_one_path"),
