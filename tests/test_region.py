@@ -551,6 +551,9 @@ def stored(folder) -> list[str]:
     if not path.exists():
         return []
     with closing(sqlite3.connect(f"file:{path}?mode=ro", uri=True)) as db:
+        # polled while the run starts: the file exists a moment before its table does
+        if not db.execute("SELECT 1 FROM sqlite_master WHERE name = 'site'").fetchone():
+            return []
         return [row[0] for row in db.execute("SELECT name FROM site")]
 
 
