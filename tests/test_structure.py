@@ -182,3 +182,23 @@ def test_the_command_line_runs_one_blas_thread_unless_told_otherwise():
     out = subprocess.run([sys.executable, "-c", probe], env={**env, "OPENBLAS_NUM_THREADS": "2"},
                          capture_output=True, text=True, timeout=120, cwd=PACKAGE.parent)
     assert json.loads(out.stdout)[0] == "2", out.stderr
+
+
+def test_a_command_line_builds_only_the_command_it_names():
+    """typer builds the options of every command it holds at each start: the app run holds
+    only the command named (the start-up saving), and the whole app serves help, the version
+    and names it does not know (their listing and suggestions)."""
+    from tandem.cli.app import app
+    from tandem.cli.options import command_asked
+
+    names = [c.name or c.callback.__name__ for c in app.registered_commands]
+    assert len(names) == 9 and "yield" in names
+    for name in names:
+        only = command_asked(app, [name, "--help"])
+        assert [c.name or c.callback.__name__ for c in only.registered_commands] == [name]
+    assert len(app.registered_commands) == 9  # the app itself is untouched
+    for argv in ([], ["--help"], ["--version"], ["limt", "1.7"]):
+        assert command_asked(app, argv) is app
+    out = subprocess.run([sys.executable, "-m", "tandem", "limt", "1.7"], capture_output=True,
+                         text=True, timeout=60, cwd=PACKAGE.parent)
+    assert out.returncode == 2 and "Did you mean 'limit'?" in out.stderr, out.stderr

@@ -180,6 +180,26 @@ def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_th
                            bulk)
 
 
+def gaps_performance(design: StackDesign, cond: Conditions, front_gaps, front_thickness_nm,
+                     back_thickness_nm, check=None) -> StackPerformance:
+    """:func:`stack_performance` for several front gaps (n_g,) at once, thicknesses (n_g, n)
+    a row per gap: the optics gap by gap, the electrical side in one call for all (its cost
+    is per call at these sizes: a 20-gap match made 220 calls of 17 to 120 stacks).
+    ``check(j_light)`` sees the photocurrents (n_g, n, 2) before the electrical solve."""
+    gaps = np.asarray(front_gaps, dtype=float)
+    d = np.broadcast_to(np.asarray(front_thickness_nm, dtype=float),
+                        (gaps.size,) + np.shape(front_thickness_nm)[-1:])
+    parts = [design_currents(design, cond, g, d[i], back_thickness_nm) for i, g in enumerate(gaps)]
+    j_light, j0_rad = np.stack([p[0] for p in parts]), np.stack([p[1] for p in parts])
+    reference = None if parts[0][2] is None else np.stack([p[2] for p in parts])
+    if check is not None:
+        check(j_light)
+    bulk = design_bulk(design, gaps[:, None], d, back_thickness_nm, cond.temperature_K)
+    return evaluate_design(design, j_light, j0_rad, cond.temperature_K,
+                           cond.photon_flux.irradiance, cond.ideality, cond.electrical, reference,
+                           bulk)
+
+
 def design_bulk(design: StackDesign, front_gap, front_thickness_nm, back_thickness_nm,
                 temperature_K) -> BulkRecombination | None:
     """Auger recombination in the subcells' bulk at their thicknesses [nm] (arrays broadcast
@@ -326,28 +346,31 @@ def _rising_root(f, lo, hi, f_lo, f_hi, points: int = 17, rtol: float = 1e-9) ->
     return float(np.exp(a - f_lo * (b - a) / (f_hi - f_lo)))
 
 
-def _best_thickness(design, cond, gap, d_grid, back_d, p, terminals) -> float:
-    """Refine the grid maximum of the chosen power between its grid neighbours.
+def _best_thicknesses(design, cond, gaps, d_grid, back_d, powers: dict) -> dict:
+    """Each gap's grid maximum of each chosen power (``powers``: terminals → (n_g, n) on
+    ``d_grid``), refined between its grid neighbours; every gap and power in one solve a zoom.
 
-    Four vectorised zooms of 17 points in log-thickness each shrink the bracket eightfold
-    (to 1/4096 of the grid's spacing, about 10⁻⁵ in ln d on the default grid); the result is
-    never worse than the grid's best point.
+    Four zooms of 17 points in log-thickness each shrink the bracket eightfold (to 1/4096 of
+    the grid's spacing, about 10⁻⁵ in ln d on the default grid); the result is never worse
+    than the grid's best point. Returns terminals → (n_g,) thicknesses [nm].
     """
-    i = int(np.argmax(p))
-    lo, hi = d_grid[max(i - 1, 0)], d_grid[min(i + 1, d_grid.size - 1)]
-    if lo == hi:
-        return float(d_grid[i])
-    best_d, best_p = float(d_grid[i]), float(p[i])
-    a, b = math.log(lo), math.log(hi)
+    kinds = list(powers)
+    p = np.stack([powers[t] for t in kinds], axis=1)  # (n_g, k, n)
+    i = np.argmax(p, axis=-1)
+    best_d, best_p = d_grid[i], np.take_along_axis(p, i[..., None], -1)[..., 0]
+    a = np.log(d_grid[np.maximum(i - 1, 0)])
+    b = np.log(d_grid[np.minimum(i + 1, d_grid.size - 1)])
     for _ in range(4):
-        x = np.linspace(a, b, 17)
-        perf = stack_performance(design, cond, gap, np.exp(x), back_d)
-        q = perf.power(terminals)
-        k = int(np.argmax(q))
-        if q[k] > best_p:
-            best_d, best_p = float(np.exp(x[k])), float(q[k])
-        a, b = x[max(k - 1, 0)], x[min(k + 1, x.size - 1)]
-    return best_d
+        x = np.linspace(a, b, 17, axis=-1)  # (n_g, k, 17)
+        perf = gaps_performance(design, cond, gaps, np.exp(x).reshape(len(gaps), -1), back_d)
+        q = np.stack([perf.power(t).reshape(x.shape)[:, j] for j, t in enumerate(kinds)], 1)
+        k = np.argmax(q, axis=-1)[..., None]
+        q_k, x_k = np.take_along_axis(q, k, -1)[..., 0], np.take_along_axis(x, k, -1)[..., 0]
+        better = q_k > best_p
+        best_d, best_p = np.where(better, np.exp(x_k), best_d), np.where(better, q_k, best_p)
+        a = np.take_along_axis(x, np.maximum(k - 1, 0), -1)[..., 0]
+        b = np.take_along_axis(x, np.minimum(k + 1, x.shape[-1] - 1), -1)[..., 0]
+    return {t: best_d[:, j] for j, t in enumerate(kinds)}
 
 
 def operating_gaps(design: StackDesign, front_gap_eV: float, temperature_K: float) -> dict:
@@ -412,6 +435,10 @@ def front_gap_grid(front: Absorber, step_eV: float = 0.02) -> np.ndarray:
     return np.linspace(lo, hi, n)
 
 
+#: Stacks (gaps × thicknesses) solved in one call of a match's sweep
+MATCH_CALL_ELEMENTS = 8192
+
+
 def match_currents(
     design: StackDesign,
     cond: Conditions,
@@ -442,29 +469,42 @@ def match_currents(
     sweeps: list[ThicknessSweep] = []
     best4: Configuration | None = None
     total = len(gaps) * len(backs)
-    done = 0
-    for gap in gaps:
-        composition = (front.relation.composition_for_gap(float(gap))
-                       if front.relation is not None else None)
-        for back_d in backs:
-            perf = stack_performance(design, cond, gap, d_grid, back_d)
-            _check_light(design, cond, gap, perf.j_light, lo, hi)
-            sweeps.append(ThicknessSweep(float(gap), float(back_d), d_grid, perf))
-            matched, note = matched_thickness(design, cond, gap, d_grid, back_d, perf.j_light)
-            power = perf.power(terminals)
-            d_best = _best_thickness(design, cond, gap, d_grid, back_d, power, terminals)
-            at_best = stack_performance(design, cond, gap, d_best, back_d)
-            configs.append(Configuration(float(gap), composition, d_best, float(back_d), at_best,
-                                         matched, note))
-            # refined like the table's rows, so the best-4T line and the table agree
-            d4 = _best_thickness(design, cond, gap, d_grid, back_d, perf.p_4t, 4)
-            cand = Configuration(float(gap), composition, d4, float(back_d),
-                                 stack_performance(design, cond, gap, d4, back_d), matched, note)
-            if best4 is None or cand.efficiency_4t > best4.efficiency_4t:
-                best4 = cand
-            done += 1
+    compositions = [front.relation.composition_for_gap(float(g)) if front.relation is not None
+                    else None for g in gaps]
+    found = {}  # (gap index, back index) → (sweep, configuration, its best-4T candidate)
+    # gaps solved together, a few thousand stacks a call (the solver's cost is per call at
+    # these sizes): the sweep, the refinements of its chosen and 4T optima, then both optima
+    # solved again as the table's rows
+    per_call = max(1, MATCH_CALL_ELEMENTS // d_grid.size)
+    for b, back_d in enumerate(backs):
+        for start in range(0, len(gaps), per_call):
+            some = np.arange(start, min(start + per_call, len(gaps)))
+            def lit(j_light):
+                for g in some:
+                    _check_light(design, cond, gaps[g], j_light[g - start], lo, hi)
+
+            perf = gaps_performance(design, cond, gaps[some], d_grid[None, :], back_d, lit)
+            best = _best_thicknesses(design, cond, gaps[some], d_grid, back_d,
+                                     {terminals: perf.power(terminals), 4: perf.p_4t})
+            at = gaps_performance(design, cond, gaps[some],
+                                  np.stack([best[terminals], best[4]], -1), back_d)
+            for g in some:
+                gap, sweep_g = float(gaps[g]), perf.at(g - start)
+                matched, note = matched_thickness(design, cond, gap, d_grid, back_d,
+                                                  sweep_g.j_light)
+                found[g, b] = (ThicknessSweep(gap, float(back_d), d_grid, sweep_g),
+                               *(Configuration(gap, compositions[g], float(best[t][g - start]),
+                                               float(back_d), at.at((g - start, k)), matched,
+                                               note) for k, t in enumerate((terminals, 4))))
             if progress:
-                progress(done, total)
+                progress(b * len(gaps) + some[-1] + 1, total)
+    for key in sorted(found):  # evaluation order as before: gap by gap, each back within
+        sweep, config, cand = found[key]
+        sweeps.append(sweep)
+        configs.append(config)
+        # refined like the table's rows, so the best-4T line and the table agree
+        if best4 is None or cand.efficiency_4t > best4.efficiency_4t:
+            best4 = cand
     order = sorted(range(len(configs)), key=lambda i: configs[i].efficiency(terminals), reverse=True)
     assert best4 is not None  # at least one gap and one back thickness were evaluated
     return MatchResult(design, cond, [configs[i] for i in order], sweeps[order[0]], best4,

@@ -214,6 +214,21 @@ class StackPerformance:
         low = np.min(self.j_light, axis=-1)
         return (np.max(self.j_light, axis=-1) - low) / low
 
+    def at(self, index) -> "StackPerformance":
+        """The stacks at ``index`` of the sweep's leading axes (an integer, a tuple, a mask),
+        as if they had been solved alone: every array indexed, the recombination and emission
+        terms broadcast against the sweep first (their arrays may be smaller)."""
+        shape = np.shape(self.j_light)
+        picked = {}
+        for f in dataclass_fields(self):
+            value = getattr(self, f.name)
+            if isinstance(value, np.ndarray):
+                value = value[index]
+            elif isinstance(value, (BulkRecombination, StepEmission)):
+                value = _take(value, index, shape)
+            picked[f.name] = value
+        return StackPerformance(**picked)
+
 
 def evaluate_stack(j_light, j0_rad, temperature_K, irradiance, ere=1.0, ideality=1.0,
                    electrical: Electrical = IDEAL,
