@@ -471,7 +471,8 @@ def match_currents(
     total = len(gaps) * len(backs)
     compositions = [front.relation.composition_for_gap(float(g)) if front.relation is not None
                     else None for g in gaps]
-    found = {}  # (gap index, back index) → (sweep, configuration, its best-4T candidate)
+    # (gap index, back index) → (sweep, configuration, its best-4T candidate)
+    found: dict[tuple[int, int], tuple[ThicknessSweep, Configuration, Configuration]] = {}
     # gaps solved together, a few thousand stacks a call (the solver's cost is per call at
     # these sizes): the sweep, the refinements of its chosen and 4T optima, then both optima
     # solved again as the table's rows
@@ -492,10 +493,10 @@ def match_currents(
                 gap, sweep_g = float(gaps[g]), perf.at(g - start)
                 matched, note = matched_thickness(design, cond, gap, d_grid, back_d,
                                                   sweep_g.j_light)
-                found[g, b] = (ThicknessSweep(gap, float(back_d), d_grid, sweep_g),
-                               *(Configuration(gap, compositions[g], float(best[t][g - start]),
-                                               float(back_d), at.at((g - start, k)), matched,
-                                               note) for k, t in enumerate((terminals, 4))))
+                chosen, four = (Configuration(gap, compositions[g], float(best[t][g - start]),
+                                              float(back_d), at.at((g - start, k)), matched, note)
+                                for k, t in enumerate((terminals, 4)))
+                found[int(g), b] = (ThicknessSweep(gap, float(back_d), d_grid, sweep_g), chosen, four)
             if progress:
                 progress(b * len(gaps) + some[-1] + 1, total)
     for key in sorted(found):  # evaluation order as before: gap by gap, each back within
