@@ -121,3 +121,29 @@ def test_the_stack_figure_shows_where_each_absorber_makes_its_carriers():
         dots = [d for d in ax.get_lines() if d.get_marker() == "o" and d.get_color() == line.get_color()]
         assert dots[0].get_xdata()[0] == pytest.approx(
             summary[layer.name]["half_depth_nm"] / thickness, rel=1e-4)
+
+
+def test_a_figure_laid_out_once_shows_what_matplotlibs_tight_save_shows(tmp_path):
+    # savefig computes the tight box once and keeps it: the PNG is pixel for pixel
+    # matplotlib's own bbox_inches="tight" save at the same resolution, and the SVG copy
+    # (written after it, with no second layout) covers the same area in points
+    import re
+
+    import numpy as np
+    from PIL import Image
+
+    from tandem.output.plots import DPI, draw_match, savefig, tight_bbox
+
+    result = tandem.match("perovskite-wide", "silicon",
+                          sweep=tandem.Sweep(front_gaps_eV=[1.70, 1.75], thickness_points=9)).result
+    fig = draw_match(result)
+    fig.savefig(tmp_path / "matplotlib.png", dpi=DPI, bbox_inches="tight", format="png")
+    savefig(fig, tmp_path / "ours.png", "png")
+    savefig(fig, tmp_path / "ours.svg", "svg")
+    with Image.open(tmp_path / "matplotlib.png") as a, Image.open(tmp_path / "ours.png") as b:
+        assert a.size == b.size
+        assert np.array_equal(np.asarray(a), np.asarray(b))
+    box = tight_bbox(fig)
+    width, height = (float(x) for x in re.search(r'width="([\d.]+)pt" height="([\d.]+)pt"',
+                                                (tmp_path / "ours.svg").read_text()).groups())
+    assert (width, height) == pytest.approx((72 * box.width, 72 * box.height), abs=1e-3)

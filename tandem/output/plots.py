@@ -73,14 +73,37 @@ def savefig(fig, target, fmt: str, name: str | None = None) -> None:
     # larger, encoding about 2.5x faster (measured at 300 dpi: the level-6 encoding was a fifth
     # of a study's whole run)
     extra = {"pil_kwargs": {"compress_level": PNG_COMPRESSION}} if fmt == "png" else {}
+    bbox = tight_bbox(fig)
     with matplotlib.rc_context({"svg.fonttype": "none"}):
-        fig.savefig(target, dpi=DPI, bbox_inches="tight", format=fmt,
+        fig.savefig(target, dpi=DPI, bbox_inches=bbox, format=fmt,
                     metadata={"Creator": "tandem"} if fmt in ("svg", "pdf") else {"Software": "tandem"},
                     **extra)
         if _SVG_SINK is not None and name is not None:
             text = io.StringIO()
-            fig.savefig(text, bbox_inches="tight", format="svg", metadata={"Creator": "tandem"})
+            fig.savefig(text, bbox_inches=bbox, format="svg", metadata={"Creator": "tandem"})
             _SVG_SINK[name] = text.getvalue()
+
+
+def tight_bbox(fig):
+    """The figure's tight bounding box [in], laid out once, at the PNG resolution.
+
+    ``bbox_inches="tight"`` lays the whole figure out again at every save (each text's
+    extent: a quarter of writing a figure as PNG and SVG); this box is computed once, kept on
+    the figure, and the figure's layout frozen there, so every format shows the same area."""
+    import matplotlib
+
+    bbox = getattr(fig, "_tandem_tight_bbox", None)
+    if bbox is None:
+        dpi = fig.dpi
+        fig.set_dpi(DPI)
+        try:
+            fig.draw_without_rendering()  # runs a layout engine's layout, as savefig would
+            bbox = fig.get_tightbbox().padded(matplotlib.rcParams["savefig.pad_inches"])
+        finally:
+            fig.set_dpi(dpi)
+        fig.set_layout_engine("none")
+        fig._tandem_tight_bbox = bbox
+    return bbox
 
 
 def save_figure(fig, path, overwrite):
