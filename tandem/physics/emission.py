@@ -31,33 +31,55 @@ _BERNOULLI = {0: 1.0, 1: -0.5, 2: 1 / 6, 4: -1 / 30, 6: 1 / 42, 8: -1 / 30, 10: 
 _SERIES = [(n, b / math.factorial(n)) for n, b in _BERNOULLI.items()]
 
 
+#: The small-a series as polynomials for Horner's rule: ∫_0^a s^{m−1}·Σ B_n sⁿ/n! ds
+#: = Σ c_n a^{n+m}/(n+m) = a^m·(c₀/m + c₁·a/(m+1) + a²·Σ_{n even ≥ 2} c_n (a²)^{(n−2)/2}/(n+m))
+_EVEN = [(n, c) for n, c in _SERIES if n >= 2]
+
+
+def _horner(x, coefficients):
+    """Σ coefficients[i]·xⁱ by Horner's rule (two array operations a coefficient)."""
+    total = np.full_like(x, coefficients[-1])
+    for c in coefficients[-2::-1]:
+        total *= x
+        total += c
+    return total
+
+
 def bose_moments(a):
     """(B₀, B₁, B₂)(a) = ∫_a^∞ s^m/(e^s − 1) ds for m = 0, 1, 2; a > 0 (inf gives 0).
 
-    For a ≥ 1 the series Σ_k e^{−ka}·(…) to e^{−ka} < 1e-17 (at most 40 terms); below,
-    ζ(m+1)·m! minus ∫_0^a s^{m−1}·Σ B_n sⁿ/n! ds, whose terms shrink as (a/2π)ⁿ.
+    With z = e^{−a}: B₀ = −ln(1 − z), B₁ = a·B₀ + Li₂(z), B₂ = a²·B₀ + 2a·Li₂(z) + 2·Li₃(z)
+    (the series Σ_k z^k·(a/k + 1/k²) and Σ_k z^k·(a²/k + 2a/k² + 2/k³) term by term), the
+    polylogarithms Li_s(z) = Σ z^k/k^s for a ≥ 1 by Horner's rule to z^k < 1e-17 (at most 40
+    terms); below, ζ(m+1)·m! minus ∫_0^a s^{m−1}·Σ B_n sⁿ/n! ds, whose terms shrink as
+    (a/2π)ⁿ. Every term is positive for a ≥ 1, so neither form cancels.
     """
     a = np.asarray(a, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        # −ln(1 − e^{−a}), each form where it keeps full precision
-        b0 = np.where(a < 0.7, -np.log(-np.expm1(-a)), -np.log1p(-np.exp(-a)))
         finite = np.isfinite(a)
         far = np.where(finite & (a >= 1.0), a, 1e3)  # 1e3: no term (e^{−1000} = 0)
-        b1, b2 = np.zeros_like(far), np.zeros_like(far)
-        decay = np.exp(-far)
-        power = decay.copy()
-        # e^{−k·a} < 1e-17 after 39.2/a terms (a ≥ 1: at most 40)
+        z = np.exp(-np.where(finite, a, 1e3))
+        b0 = -np.log1p(-z)  # −ln(1 − e^{−a}); for small a from expm1, which keeps its digits
+        if np.any(a < 0.7):
+            b0 = np.where(a < 0.7, -np.log(-np.expm1(-a)), b0)
+        # z^k < 1e-17 after 39.2/a terms (a ≥ 1: at most 40)
         terms = 0 if np.all(far >= 1e3) else min(40, int(39.2 / float(np.min(far))) + 2)
-        for k in range(1, terms + 1):
-            b1 += power * (far / k + 1 / k**2)
-            b2 += power * (far * far / k + 2 * far / k**2 + 2 / k**3)
-            power *= decay
+        if terms:
+            zf = np.where(far < 1e3, z, 0.0)
+            li2 = zf * _horner(zf, [1.0 / k**2 for k in range(1, terms + 1)])
+            li3 = zf * _horner(zf, [1.0 / k**3 for k in range(1, terms + 1)])
+            b1 = far * b0 + li2
+            b2 = far * (far * b0 + 2 * li2) + 2 * li3
+        else:
+            b1 = b2 = np.zeros_like(far)
         if np.any(a < 1.0):
             near = np.minimum(a, 1.0)
-            b1n, b2n = np.full_like(near, _ZETA2), np.full_like(near, 2 * _ZETA3)
-            for n, c in _SERIES:
-                b1n -= c * near ** (n + 1) / (n + 1)
-                b2n -= c * near ** (n + 2) / (n + 2)
+            square = near * near
+            c0, c1 = _SERIES[0][1], _SERIES[1][1]
+            b1n = _ZETA2 - near * (c0 + c1 * near / 2 + square * _horner(
+                square, [c / (n + 1) for n, c in _EVEN]))
+            b2n = 2 * _ZETA3 - square * (c0 / 2 + c1 * near / 3 + square * _horner(
+                square, [c / (n + 2) for n, c in _EVEN]))
             b1, b2 = np.where(a >= 1.0, b1, b1n), np.where(a >= 1.0, b2, b2n)
         b1, b2 = np.where(finite, b1, 0.0), np.where(finite, b2, 0.0)
     return np.where(finite, b0, 0.0), b1, b2
