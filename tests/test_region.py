@@ -328,7 +328,7 @@ def test_a_client_of_your_own_streams_the_sites_and_stays_open(sites, rules_job,
 
     import tandem.jobs.region_cluster as cluster
 
-    sent, submitted, in_flight = [], [], []
+    sent, submitted, in_flight, carried = [], [], [], []
     with LocalCluster(n_workers=1, threads_per_worker=1, processes=False,
                       dashboard_address=None) as local, Client(local) as client:
         scatter, submit = client.scatter, client.submit
@@ -339,6 +339,8 @@ def test_a_client_of_your_own_streams_the_sites_and_stays_open(sites, rules_job,
 
         def counted_submit(fn, *args, **kw):
             in_flight.append(sum(f.status == "pending" for f in submitted))
+            if len(args) == 3:  # (task, the sites, the job)
+                carried.append(len(args[1]))
             future = submit(fn, *args, **kw)
             submitted.append(future)
             return future
@@ -351,8 +353,22 @@ def test_a_client_of_your_own_streams_the_sites_and_stays_open(sites, rules_job,
         assert client.submit(sum, [1, 2]).result() == 3
     serial = run_region(sites[:3], rules_job, tmp_path / "serial", workers=1)
     pd.testing.assert_frame_equal(numbers(streamed), numbers(serial))
-    assert len(sent) == 1 and sum(str(f.key).startswith("site_year") for f in submitted) == 3
-    assert max(in_flight) == 0  # each site went out after the one before it came back
+    assert len(sent) == 1
+    assert sum(str(f.key).startswith("sites_task") for f in submitted) == len(carried)
+    # the first task carries one site (its cost unknown), the rest as that cost allows
+    assert carried[0] == 1 and sum(carried) == 3
+    assert max(in_flight) == 0  # each task went out after the one before it came back
+
+
+def test_cheap_sites_travel_several_to_a_task_and_dear_ones_alone():
+    # dask's cost of a task is spread over sites cheaper than TASK_SECONDS; a site dearer than
+    # that (a real site-year: seconds) goes alone, and no task carries more than the maximum
+    from tandem.jobs.region_cluster import MAX_SITES_PER_TASK, TASK_SECONDS, sites_per_task
+
+    assert sites_per_task(TASK_SECONDS / 10) == 10
+    assert sites_per_task(TASK_SECONDS / 10.5) == 10  # whole sites, never beyond the target
+    assert sites_per_task(6.0) == sites_per_task(TASK_SECONDS * 1.01) == 1
+    assert sites_per_task(0.0) == sites_per_task(1e-7) == MAX_SITES_PER_TASK
 
 
 def test_a_cluster_that_goes_away_ends_in_one_line_and_the_run_resumes(sites, rules_job, tmp_path):

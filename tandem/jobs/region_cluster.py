@@ -112,9 +112,14 @@ def _workers_ignore_interrupts():
             signal.signal(signal.SIGINT, previous)
 
 
-#: Sites in flight per worker: enough to keep each busy while a result travels back, few
+#: Tasks in flight per worker: enough to keep each busy while a result travels back, few
 #: enough that client and scheduler hold a bounded number of tasks whatever the region's size.
 SITES_IN_FLIGHT_PER_WORKER = 4
+#: A task's length to aim for [s]: sites cheaper than this travel several to a task, so that
+#: dask's own cost of a task (about 10 ms of CPU on the 2-core machine, shared by client,
+#: scheduler and workers) is spread over them; a site dearer than this travels alone.
+TASK_SECONDS = 0.25
+MAX_SITES_PER_TASK = 256
 #: How long a region waits while the cluster has no worker before it gives up [s].
 NO_WORKERS_TIMEOUT_S = 120
 _POLL_S = 2.0  #: how often a waiting region looks at the cluster's workers [s]
@@ -149,18 +154,21 @@ def _stream_sites(client, todo, job, finished, task) -> None:
 def _stream(client, todo, job, finished, task) -> None:
     import queue
 
+    import itertools
+
     _await_workers(client)
     in_flight = SITES_IN_FLIGHT_PER_WORKER * max(_worker_count(client), 1)
     [shared_job] = client.scatter([job], broadcast=True)  # one copy per worker, not per task
     sites = iter(todo)
     pending: dict = {}
     ready: queue.SimpleQueue = queue.SimpleQueue()  # filled by dask as tasks end (or cancel)
+    batch = 1  # sites a task: one until a task has told what a site costs
 
     def submit_next() -> None:
-        spec = next(sites, None)
-        if spec is not None:
-            future = client.submit(task, spec, shared_job, pure=False)
-            pending[future] = spec
+        specs = list(itertools.islice(sites, batch))
+        if specs:
+            future = client.submit(sites_task, task, specs, shared_job, pure=False)
+            pending[future] = specs
             future.add_done_callback(ready.put)
 
     for _ in range(in_flight):
@@ -173,11 +181,28 @@ def _stream(client, todo, job, finished, task) -> None:
                 raise ConnectionError(f"client {client.status}") from None
             _await_workers(client)
             continue
-        spec = pending.pop(future)
-        result = future.result()  # a cancelled task (the cluster gone) raises here
+        specs = pending.pop(future)
+        records, seconds = future.result()  # a cancelled task (the cluster gone) raises here
         future.release()  # the scheduler forgets the task and its result
-        finished(spec, result)
+        for spec, record in zip(specs, records):
+            finished(spec, record)
+        batch = sites_per_task(seconds / len(specs))
         submit_next()
+
+
+def sites_per_task(site_seconds: float) -> int:
+    """How many sites of this cost [s] make a task of about TASK_SECONDS (1 to the maximum)."""
+    return max(1, min(MAX_SITES_PER_TASK, int(TASK_SECONDS / max(site_seconds, 1e-9))))
+
+
+def sites_task(task, specs, job) -> tuple[list, float]:
+    """``task(spec, job)`` for each site of ``specs``, on a worker: the records, in order, and
+    the seconds they took."""
+    import time
+
+    start = time.perf_counter()
+    records = [task(spec, job) for spec in specs]
+    return records, time.perf_counter() - start
 
 
 def _worker_count(client) -> int:
