@@ -429,3 +429,23 @@ def test_a_textured_or_spread_stack_says_so_in_match_and_yield_notes(tmp_path):
     series = clear_sky_series(site, parse_period("day:2026-06-21", site.timezone, 60))
     yield_notes = _source_notes(SimpleNamespace(series=series, design=StackYield(spread)))
     assert set(notes) <= set(yield_notes)
+
+
+def test_the_node_sums_are_the_node_by_node_sums_of_the_interpolated_values():
+    # the angle sums taken over the nodes first, then interpolated (linear in the values),
+    # equal the sums of each node's values interpolated to the fine energies (numpy's interp
+    # per row as the reference), with batch axes and coarse energies in any order
+    from tandem.optics.wafer import _interpolation, _node_sum, _to_fine
+
+    rng = np.random.default_rng(7)
+    coarse = rng.permutation(np.linspace(1.1, 3.0, 12))
+    fine = np.sort(rng.uniform(1.0, 3.1, 300))[::-1]  # beyond both ends: held at the ends
+    values, weights = rng.normal(size=(9, 2, 3, 12)), rng.normal(size=(9, 300))
+    interval = _interpolation(coarse, fine)
+    order = np.argsort(coarse)
+    reference = sum(weights[i] * np.apply_along_axis(
+        lambda row: np.interp(fine, coarse[order], row[order]), -1, values[i]) for i in range(9))
+    np.testing.assert_allclose(_node_sum(values, weights, interval), reference, rtol=0,
+                               atol=1e-12)
+    np.testing.assert_allclose(_to_fine(values[0], interval), np.apply_along_axis(
+        lambda row: np.interp(fine, coarse[order], row[order]), -1, values[0]), atol=1e-14)

@@ -81,15 +81,44 @@ def _coarse_indices(energy, count):
 
 
 def _interpolation(coarse_energy, fine_energy):
-    """A function taking values on the coarse energies (…, K) to the fine ones (…, n), linearly."""
+    """Linear interpolation from the coarse energies (K,) to the fine ones (n,): each fine
+    energy's coarse neighbours below and above (indices into the coarse arrays) and the
+    upper one's weight, (lo, hi, t), all (n,)."""
     order = np.argsort(coarse_energy)
     xs = coarse_energy[order]
     if xs.size == 1:
-        return lambda values: np.asarray(values)[..., order[[0] * fine_energy.size]]
+        zero = np.zeros(fine_energy.size, dtype=int)
+        return order[zero], order[zero], np.zeros(fine_energy.size)
     j = np.clip(np.searchsorted(xs, fine_energy) - 1, 0, xs.size - 2)
     t = np.clip((fine_energy - xs[j]) / (xs[j + 1] - xs[j]), 0.0, 1.0)
-    lo, hi = order[j], order[j + 1]
-    return lambda values: np.asarray(values)[..., lo] * (1 - t) + np.asarray(values)[..., hi] * t
+    return order[j], order[j + 1], t
+
+
+def _to_fine(values, interval):
+    """``values`` on the coarse energies (…, K) taken to the fine ones (…, n)."""
+    lo, hi, t = interval
+    values = np.asarray(values)
+    return values[..., lo] * (1 - t) + values[..., hi] * t
+
+
+def _node_sum(values, weights, interval):
+    """Σᵢ weights[i]·(values[i] taken to the fine energies): values (nodes, …, K) on the
+    coarse energies, weights (nodes, n) on the fine ones → (…, n).
+
+    The interpolation is linear in the values, so the sum over the nodes comes first: for
+    the fine energies between two coarse ones, two matrix products (values at each coarse
+    end, nodes × …, against the weights, nodes × those energies), then the interpolation of
+    the two sums. Node by node, the same sums cost a gather and an update of (…, n) each."""
+    lo, hi, t = interval
+    values = np.asarray(values)
+    flat = values.reshape(values.shape[0], -1, values.shape[-1])  # (nodes, …, K) → (nodes, M, K)
+    out = np.empty((flat.shape[1], np.shape(weights)[-1]))
+    starts = np.flatnonzero(np.r_[True, lo[1:] != lo[:-1]])  # runs of one coarse interval
+    for start, stop in zip(starts, np.r_[starts[1:], lo.size]):
+        w = weights[:, start:stop]
+        below, above = flat[:, :, lo[start]].T @ w, flat[:, :, hi[start]].T @ w
+        out[:, start:stop] = below * (1 - t[start:stop]) + above * t[start:stop]
+    return out.reshape(values.shape[1:-1] + out.shape[-1:])
 
 
 @dataclass(frozen=True)
@@ -235,35 +264,38 @@ def trace_wafer(films: list[Layer], ambient_index, wafer_index, thickness_nm, re
     film_density = {k: response.profiles[last - k] for k in film_profiles}  # (nz, nodes, …, coarse)
     reflect, escape = response.reflectance, response.transmittance
     absorb = list(response.absorptance)[::-1]  # back to sun-side order
-    to_fine = _interpolation(1 / lam_l[coarse], 1 / lam_l)
+    interval = _interpolation(1 / lam_l[coarse], 1 / lam_l)
     # per unit of light leaving the rear upwards (flat front), or of isotropic light going
     # down from the front (textured): returned to the same place (ρ), and per sink
     shape = np.broadcast_shapes(reflect.shape[1:-1] + (lam_l.size,), entering.shape[:-1] + (1,))
-    returned, in_wafer, out, reached = (np.zeros(shape) for _ in range(4))
-    in_films = [np.zeros(shape) for _ in films]
-    if profile is not None:  # per unit leaving the rear, as in_wafer
-        a_l, d = ad / float(thickness_nm), float(thickness_nm)
+    # every node at once on the fine energies (nodes, n): its weight, sin²θ, one pass's
+    # survival e^{−αd/μ} (the nodes avoid u = 1), the light leaving the rear upwards at it
+    # (per unit of the state) and arriving at the front; a mirror under a textured front
+    # returns each angle as it came down
+    w, u = _to_fine(weights, interval), _to_fine(nodes, interval)
+    up = np.exp(-ad / np.sqrt(1 - u))
+    rising = w * up if textured and rear == "double-pass" else w
+    arriving = rising * up
+    zeros = np.zeros(shape)
+    reached = zeros + np.sum(w * up, axis=0)
+    returned = zeros + _node_sum(reflect, arriving if textured else arriving * up, interval)
+    in_wafer = zeros + np.sum(rising * (1 - up), axis=0)
+    if not textured:
+        in_wafer = in_wafer + _node_sum(reflect, arriving * (1 - up), interval)
+    out = zeros + _node_sum(escape, arriving, interval)
+    in_films = [zeros + _node_sum(a, arriving, interval) for a in absorb]
+    for k, density in film_density.items():  # (nz, nodes, …, coarse): the nodes lead
+        film_profiles[k][..., live] += _node_sum(np.moveaxis(density, 1, 0), arriving, interval)
+    if profile is not None:  # per unit leaving the rear, as in_wafer; depth by depth
+        d = float(thickness_nm)
+        per_nm = ad / d / np.sqrt(1 - u)  # (nodes, n)
         depth_live = np.zeros(z.shape[:1] + shape)
-    for i in range(len(nodes)):
-        w, u = to_fine(weights[i]), to_fine(nodes[i])
-        up = np.exp(-ad / np.sqrt(1 - u))  # one pass at angle θ (the nodes avoid u = 1)
-        r = to_fine(reflect[i])
-        # light leaving the rear upwards at this node (per unit of the state), and arriving
-        # at the front: a mirror under a textured front returns each angle as it came down
-        rising = w * up if textured and rear == "double-pass" else w
-        arriving = rising * up
-        reached += w * up
-        returned += arriving * (r if textured else r * up)
-        in_wafer += rising * (1 - up) + (0 if textured else arriving * r * (1 - up))
-        out += arriving * to_fine(escape[i])
-        for k, a in enumerate(absorb):
-            in_films[k] += arriving * to_fine(a[i])
-        for k, density in film_density.items():
-            film_profiles[k][..., live] += arriving * to_fine(density[:, i])
-        if profile is not None:
-            per_nm = a_l / np.sqrt(1 - u)
-            rise = rising * per_nm * np.exp(-per_nm * (d - z))
-            depth_live += rise if textured else rise + arriving * r * per_nm * np.exp(-per_nm * z)
+        for i in range(len(per_nm)):
+            rise = rising[i] * per_nm[i] * np.exp(-per_nm[i] * (d - z))
+            if not textured:
+                r = _to_fine(reflect[i], interval)
+                rise = rise + arriving[i] * r * per_nm[i] * np.exp(-per_nm[i] * z)
+            depth_live += rise
     # (1 − ρ > 0 unless light could circle forever with no loss and no exit)
     r_b, tiny = float(rear_reflectance), np.finfo(float).tiny
     if textured:
