@@ -164,7 +164,7 @@ def test_series_stack_with_a_shunt_across_each_junction(am15g, rs, rsh):
 
 
 def test_the_maximum_search_places_a_diodes_maximum_power_point_as_scipy_does():
-    # golden_maximum's 18 golden + 2 parabolic steps (Brent 1973, successive parabolic
+    # golden_maximum's 8 golden + 6 parabolic steps (Brent 1973, successive parabolic
     # interpolation) against scipy's bounded Brent search to its tightest tolerance, on 300
     # two-diode cells with series resistance: the power agrees to 1e-13 relative
     from scipy.optimize import minimize_scalar
@@ -189,5 +189,5 @@ def test_the_maximum_search_places_a_diodes_maximum_power_point_as_scipy_does():
         assert power(found)[i] >= -best.fun * (1 - 1e-13)
     # a parabola's vertex is found exactly, wherever it sits in the bracket
     centres = np.array([0.1, 0.37, 0.5, 0.93])
-    x = golden_maximum(lambda v: -(v - centres) ** 2, np.zeros(4), np.ones(4), 18, 2)
+    x = golden_maximum(lambda v: -(v - centres) ** 2, np.zeros(4), np.ones(4), 8, 6)
     np.testing.assert_allclose(x, centres, rtol=0, atol=1e-12)
