@@ -294,10 +294,13 @@ def test_each_refined_thickness_is_the_best_a_dense_search_finds(terminals):
         # included (the gaps share one call of the solver)
         alone = stack_performance(r.design, r.conditions, c.front_gap_eV, c.front_thickness_nm,
                                   c.back_thickness_nm)
-        for name in ("j_light", "j0_radiative", "voc", "jsc", "p_own", "p_2t", "voc_2t", "jsc_2t",
-                     "v_2t_sub"):
+        for name in ("j_light", "j0_radiative", "voc", "jsc", "p_own", "p_2t", "voc_2t", "jsc_2t"):
             np.testing.assert_allclose(getattr(c.performance, name), getattr(alone, name),
                                        rtol=1e-9, atol=1e-12, err_msg=name)
+        # where on its flat top the series maximum lies: a power exact to ~1e-14 places it to
+        # ~1e-7 (the square root), and the searches of the batch and of the design alone start
+        # from brackets a rounding apart
+        np.testing.assert_allclose(c.performance.v_2t_sub, alone.v_2t_sub, rtol=1e-7)
         vt = 0.025693
         assert c.performance.bulk is not None and alone.bulk is not None
         assert float(c.performance.bulk.subcell(1).current(0.70, vt)) == pytest.approx(
