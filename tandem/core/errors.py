@@ -14,3 +14,8 @@ class TandemInputError(ValueError):
     ...
     tandem.core.errors.TandemInputError: gap -1 eV: a band gap must be a positive energy in eV
     """
+
+
+class MissingExtra(TandemInputError):
+    """An optional part of tandem that is not installed: the message names the extra
+    (``pip install 'tandemcell[region]'``); passed on whole, never wrapped in a field's message."""

@@ -10,7 +10,7 @@ import math
 from pathlib import Path
 
 
-from tandem.core.errors import TandemInputError
+from tandem.core.errors import MissingExtra, TandemInputError
 from tandem.core.files import bundled_dir
 from tandem.core.toml_files import read_toml
 from tandem.design.layerstack import LayerStack, StackLayer
@@ -253,6 +253,8 @@ def _optical_constants(path: Path, where: str, nk) -> dict:
         entry = nk.removeprefix("database:")
         try:
             wl, index = database_index(entry)
+        except MissingExtra:
+            raise
         except TandemInputError as exc:
             _fail(path, f"{where}.nk", f"entry '{entry}' {exc}", "give shelf/book/page as on "
                   "refractiveindex.info, e.g. database:main/ZnO/Stelling")

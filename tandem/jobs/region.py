@@ -23,7 +23,7 @@ from typing import TYPE_CHECKING, Any, Callable
 
 import numpy as np
 
-from tandem.core.errors import TandemInputError
+from tandem.core.errors import MissingExtra, TandemInputError
 from tandem.core.files import STAMP, check_output_folder
 from tandem.jobs.common import ResultDisplay
 from tandem.jobs.region_folder import (REGION_FORMAT, _clear_region_folder, _digest, _read_record,
@@ -444,6 +444,17 @@ class RegionResult(ResultDisplay):
 
 
 
+def require_dask() -> None:
+    """dask.distributed, which a region on more than one process needs: one line naming the
+    extra that brings it when it is missing."""
+    try:
+        import distributed  # noqa: F401  (its import is the check)
+    except ImportError:
+        raise MissingExtra("a region on more than one process needs dask.distributed: pip "
+                           "install 'tandemcell[region]', or give --workers 1 to run it in "
+                           "this process") from None
+
+
 def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
                scheduler=None, workers: int | None = None,
                progress: Callable[[int, int], None] | None = None,
@@ -468,6 +479,8 @@ def run_region(sites: list[SiteSpec], job: RegionJob, folder: str | Path,
     elif scheduler is not None and not callable(getattr(scheduler, "submit", None)):
         raise TandemInputError(f"scheduler {scheduler!r:.60}: give an address (tcp://HOST:PORT) "
                                "or a dask.distributed.Client")
+    if isinstance(scheduler, str) or (scheduler is None and workers != 1):
+        require_dask()  # before the folder: a refused run leaves nothing behind
     reason = region_folder_reason(folder, job, overwrite)
     if reason:
         raise TandemInputError(reason)

