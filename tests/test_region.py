@@ -643,3 +643,35 @@ def test_a_region_on_several_processes_without_dask_names_the_extra(sites, rules
                           str(tmp_path / "cli")], capture_output=True, text=True, timeout=120)
     assert out.returncode == 2 and "tandemcell[region]" in out.stderr, out.stderr
     assert len(out.stderr.strip().splitlines()) == 1 and not (tmp_path / "cli").exists()
+
+
+@pytest.mark.parametrize("configured", [True, False])
+def test_the_shipped_dask_config_spares_hand_started_workers_the_allocator_setting(
+        configured, tmp_path):
+    # examples/dask-workers.yaml, as docs/commands.md tells a user to install it: a worker
+    # started by hand (`dask worker`, through its nanny) runs without dask's
+    # MALLOC_TRIM_THRESHOLD_=65536; without the file it has it (so the check can fail)
+    from dask.distributed import Client, LocalCluster
+
+    config = tmp_path / "dask"
+    config.mkdir()
+    if configured:
+        config.joinpath("dask-workers.yaml").write_text(
+            (Path(__file__).resolve().parents[1] / "examples" / "dask-workers.yaml").read_text())
+    env = {**os.environ, "DASK_CONFIG": str(config), "HOME": str(tmp_path)}
+    with LocalCluster(n_workers=0, processes=False, protocol="tcp", host="127.0.0.1",
+                      dashboard_address="127.0.0.1:0") as cluster, \
+            Client(cluster) as client:
+        worker = subprocess.Popen([str(Path(sys.executable).parent / "dask"), "worker",
+                                   cluster.scheduler_address, "--nworkers", "1", "--nthreads",
+                                   "1", "--no-dashboard"], env=env, stdout=subprocess.DEVNULL,
+                                  stderr=subprocess.DEVNULL, start_new_session=True)
+        try:
+            client.wait_for_workers(1, timeout=60)
+            # a lambda, so the worker reads its own environment (a bound os.environ.get would
+            # travel with this process's copy)
+            seen = set(client.run(lambda: os.environ.get("MALLOC_TRIM_THRESHOLD_")).values())
+        finally:
+            worker.terminate()
+            worker.wait(timeout=60)
+    assert seen == ({None} if configured else {"65536"})

@@ -14,6 +14,7 @@ with `--workers 1` and once with `--scheduler`, prints both wall times, and comp
 from __future__ import annotations
 
 import argparse
+import os
 import random
 import subprocess
 import sys
@@ -57,8 +58,11 @@ def main() -> None:
                                       "--port", str(args.port), "--no-dashboard"],
                                      stdout=log, stderr=log)
         time.sleep(4)
+        # the workers as docs/commands.md sets them up: examples/dask-workers.yaml read
+        examples = Path(__file__).resolve().parents[2] / "examples"
         workers = subprocess.Popen([str(BIN / "dask"), "worker", address, "--nthreads", "1",
-                                    "--nworkers", "2", "--no-dashboard"], stdout=log, stderr=log)
+                                    "--nworkers", "2", "--no-dashboard"], stdout=log, stderr=log,
+                                   env={**os.environ, "DASK_CONFIG": str(examples)})
         time.sleep(8)
         try:
             serial = region(where, "serial", "--workers", "1")
