@@ -152,9 +152,8 @@ def _stream_sites(client, todo, job, finished, task) -> None:
 
 
 def _stream(client, todo, job, finished, task) -> None:
-    import queue
-
     import itertools
+    import queue
 
     _await_workers(client)
     in_flight = SITES_IN_FLIGHT_PER_WORKER * max(_worker_count(client), 1)
