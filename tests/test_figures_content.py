@@ -84,6 +84,16 @@ def test_the_pair_comparison_shows_each_pairs_best_design():
         assert float(star.get_ydata()[0]) == pytest.approx(100 * best.efficiency_2t, rel=1e-12)
         peak = float(np.max(curve.get_ydata()))
         assert 100 * best.efficiency_2t - 0.05 < peak <= 100 * best.efficiency_2t * (1 + 1e-9)
+    # a circle for each pair with a current-matched thickness, and the title's key for circles
+    # only where one is drawn (the organic pair matches; a set of pairs that never do says so)
+    matched = [r for r in study.results.values()
+               if r.configurations[0].matched_front_thickness_nm is not None]
+    circles = [line for line in ax.get_lines() if line.get_marker() == "o"]
+    assert len(circles) == len(matched) == 1
+    assert "circle: current-matched thickness" in ax.get_title()
+    unmatched = {k: r for k, r in study.results.items() if r not in matched}
+    title = draw_pair_comparison(unmatched).axes[0].get_title()
+    assert "circle" not in title and "no pair current-matches" in title
 
 
 def test_a_design_outside_the_declared_ranges_says_so_on_its_figure():

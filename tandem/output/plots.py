@@ -415,6 +415,7 @@ def draw_pair_comparison(results: dict, terminals: int = 2, ax=None) -> Figure:
     the best design with a star."""
     fig, ax = plt.subplots(figsize=(7.5, 4.6)) if ax is None else (ax.figure, ax)
     colours = (FRONT_COLOUR, BACK_COLOUR) + LAYER_COLOURS
+    circles = 0
     for k, r in enumerate(results.values()):
         sweep, best = r.best_sweep, r.configurations[0]
         eff = 100 * sweep.performance.efficiency(terminals)
@@ -428,12 +429,16 @@ def draw_pair_comparison(results: dict, terminals: int = 2, ax=None) -> Figure:
             ax.plot([best.matched_front_thickness_nm],
                     [np.interp(best.matched_front_thickness_nm, sweep.front_thickness_nm, eff)],
                     "o", mfc="white", mec=colour, ms=6, zorder=5)
+            circles += 1
     ax.set_xscale("log")
     ax.xaxis.set_major_formatter(matplotlib.ticker.FuncFormatter(lambda v, _: f"{v:g}"))
     ax.set_xlabel("front thickness [nm]")
     ax.set_ylabel(f"{terminals}-terminal efficiency [%]")
-    ax.set_title("candidate pairs at their best front gap — star: best design; circle: "
-                 "current-matched thickness", fontsize=9)
+    # the circles' key only where one is drawn: a pair limited by one subcell at every
+    # thickness in its range has no current-matched thickness to mark
+    ax.set_title("candidate pairs at their best front gap — star: best design; "
+                 + ("circle: current-matched thickness" if circles else
+                    "no pair current-matches within its thickness range"), fontsize=9)
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7, loc="best")
     fig.text(0.99, 0.005, "Modelling limits, not measurements", ha="right", fontsize=7,

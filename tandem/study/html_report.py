@@ -38,7 +38,7 @@ code { background: #f3f3f3; padding: 0 0.25rem; overflow-wrap: anywhere; }
 #: figure file name prefixes → what the figure shows, in the order the report shows them
 _CAPTIONS = (("compare-pairs", "The candidate pairs side by side: efficiency against front "
                                "thickness at each pair's best front gap (star: best design; "
-                               "circle: current-matched thickness)"),
+                               "circle, where one exists: current-matched thickness)"),
              ("match-", "Current matching: subcell currents against front thickness, and the "
                         "subcells' absorptance over the spectrum"),
              ("losses-", "Where the incident power goes (loss waterfall at the operating point)"),
