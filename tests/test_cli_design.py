@@ -87,6 +87,25 @@ def test_match_json_keys(pvk_si_json):
     assert all(c["efficiency_4t_pct"] >= c["efficiency_2t_pct"] - 1e-6 for c in data["configurations"])
 
 
+def test_a_design_with_a_dark_subcell_shows_no_mismatch_or_2t_voc_and_ff():
+    # silicon in front of the perovskite at its four-terminal best (300 um): the back gets
+    # photons at 1e-14 of the front's, so the 2T stack gives nothing; its mismatch (10^15 %),
+    # 2T Voc and FF (noise of the solver's rounding) are shown as none, not as numbers, while
+    # a lit design keeps them
+    from tandem.output.report import DARK_SHARE
+
+    res = run("match", "perovskite-wide", "silicon", "-t", "4", "--front-gaps", "1.78:1.82:0.04",
+              "--points", "20", "--json")
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.stdout)
+    dark = data["swapped"]["configurations"][0]
+    assert dark["jsc_back_mA_cm2"] < DARK_SHARE * dark["jsc_front_mA_cm2"]
+    assert dark["efficiency_2t_pct"] == 0.0 and dark["efficiency_4t_pct"] > 20
+    assert dark["mismatch_pct"] is None and dark["voc_2t_V"] is None and dark["ff_2t_pct"] is None
+    lit = data["configurations"][0]
+    assert all(isinstance(lit[k], float) for k in ("mismatch_pct", "voc_2t_V", "ff_2t_pct"))
+
+
 def test_match_inverted_order_shows_both(tmp_path):
     res = run("match", "silicon", "perovskite-wide", "--points", "20", "--front-thickness", "50um:200um")
     assert res.exit_code == 0, res.output

@@ -137,6 +137,19 @@ def _limiting(c):
     return subcell_name(int(c.performance.limiting_index))
 
 
+#: A subcell whose photocurrent is below this share of the other's carries no current worth
+#: matching (a back left in the dark by a front that absorbs its light): no mismatch, 2T Voc
+#: or 2T fill factor is shown for it, where they printed 10¹⁵ % and numbers that moved with
+#: the solver's rounding (a 2T FF of 88 or 80 % for a stack giving 0.00 %).
+DARK_SHARE = 1e-9
+
+
+def _lit(c, value):
+    """``value`` for a design whose subcells both carry current, else None (see DARK_SHARE)."""
+    j = c.performance.j_light
+    return value if float(min(j)) > DARK_SHARE * float(max(j)) else None
+
+
 DESIGN_COLUMNS = [
     Column("front_gap_eV", "front gap [eV]", "gap eV", "{:.3f}", lambda c: _r(c.front_gap_eV)),
     Column("front_composition", "front composition", "x", "{:.3f}",
@@ -152,10 +165,12 @@ DESIGN_COLUMNS = [
     Column("jsc_back_mA_cm2", "Jsc back [mA/cm²]", "Jsc back", "{:.2f}",
            lambda c: _r(c.performance.j_light[1] * MA_CM2_PER_A_M2)),
     Column("mismatch_pct", "mismatch [%]", "mismatch %", "{:.2f}",
-           lambda c: _r(100 * c.performance.mismatch, 3), compact=False),
+           lambda c: _r(_lit(c, 100 * c.performance.mismatch), 3), compact=False),
     Column("limiting_subcell", "limiting", "limiting", "{}", _limiting),
-    Column("voc_2t_V", "Voc 2T [V]", "Voc 2T V", "{:.3f}", lambda c: _r(c.performance.voc_2t), compact=False),
-    Column("ff_2t_pct", "FF 2T [%]", "FF 2T %", "{:.1f}", lambda c: _r(100 * c.performance.ff_2t, 3), compact=False),
+    Column("voc_2t_V", "Voc 2T [V]", "Voc 2T V", "{:.3f}",
+           lambda c: _r(_lit(c, c.performance.voc_2t)), compact=False),
+    Column("ff_2t_pct", "FF 2T [%]", "FF 2T %", "{:.1f}",
+           lambda c: _r(_lit(c, 100 * c.performance.ff_2t), 3), compact=False),
     Column("efficiency_2t_pct", "2T [%]", "2T %", "{:.2f}",
            lambda c: _r(100 * c.performance.efficiency_2t)),
     Column("efficiency_3t_pct", "3T [%]", "3T %", "{:.2f}",
