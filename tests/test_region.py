@@ -675,3 +675,33 @@ def test_the_shipped_dask_config_spares_hand_started_workers_the_allocator_setti
             worker.terminate()
             worker.wait(timeout=60)
     assert seen == ({None} if configured else {"65536"})
+
+
+def _echo_site(spec, job):
+    """A stand-in site: its record names it (what the batching must keep in step)."""
+    return {"name": spec, "job": job}
+
+
+def test_cheap_sites_go_several_to_a_task_and_each_record_reaches_its_own_site(monkeypatch):
+    # sites far cheaper than TASK_SECONDS: after the first task (one site) the tasks carry
+    # many, and every record comes back to the site it was computed for, each site once
+    from dask.distributed import Client, LocalCluster
+
+    from tandem.jobs.region_cluster import MAX_SITES_PER_TASK, _stream_sites
+
+    sites = [f"site-{i:04d}" for i in range(1500)]
+    seen, carried = {}, []
+    with LocalCluster(n_workers=1, threads_per_worker=1, processes=False,
+                      dashboard_address="127.0.0.1:0") as cluster, Client(cluster) as client:
+        submit = client.submit
+
+        def counted(fn, *args, **kw):
+            carried.append(len(args[1]))
+            return submit(fn, *args, **kw)
+
+        monkeypatch.setattr(client, "submit", counted)
+        _stream_sites(client, sites, "the job", lambda s, r: seen.setdefault(s, []).append(r),
+                      _echo_site)
+    assert carried[0] == 1 and max(carried) > 1 and max(carried) <= MAX_SITES_PER_TASK
+    assert sum(carried) == len(sites) == len(seen)
+    assert all(r == [{"name": s, "job": "the job"}] for s, r in seen.items())
