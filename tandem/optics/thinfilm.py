@@ -138,7 +138,8 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s", depths=
         delta = 2 * np.pi * q[j] * np.asarray(thicknesses_nm[j - 1], dtype=float) / lam
         delta = np.where(delta.imag > MAX_IMAG_PHASE, delta.real + 1j * MAX_IMAG_PHASE, delta)
         r, t = fresnel(n[j], n[j + 1], q[j], q[j + 1], pol)
-        back, fwd = np.exp(-1j * delta) / t, np.exp(1j * delta) / t
+        phase = np.exp(-1j * delta)  # e^{iδ} is its reciprocal: one complex exponential
+        back, fwd = phase / t, 1 / (phase * t)
         mat = (back, back * r, fwd * r, fwd)
         mats.append(mat)
         m00, m01, m10, m11 = (m00 * mat[0] + m01 * mat[2], m00 * mat[1] + m01 * mat[3],
@@ -147,17 +148,29 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s", depths=
     t = 1 / m00
     transmittance = np.abs(t) ** 2 * np.real(_flux_factor(n[-1], q[-1], pol)) / incident
     entering = _flux(n[0], q[0], 1, r, pol) / incident
-    # amplitudes at the start of each layer, from the exit backwards: vw_j = M_j · vw_{j+1}
+    # amplitudes at the start of each layer, from the exit backwards: vw_j = M_j · vw_{j+1}.
+    # Past the last layer whose thickness is an array (a sweep's axis), vw_j = t·(α_j, β_j)
+    # with (α, β) = M_j…M_L·(1, 0) free of that axis: formed on the smaller arrays, and the
+    # layer's absorption, quadratic in (v, w), is |t|² times that of (α, β)
+    swept = [j for j in range(1, layers + 1) if np.size(thicknesses_nm[j - 1]) > 1]
+    last_swept = max(swept, default=0)
     absorbed, density = [], []
-    v, w = t, np.zeros_like(t)
+    v, w = 1.0 + 0j, 0j  # (α, β) at the exit
+    gain = np.abs(t) ** 2
     for j in range(layers, 0, -1):
         a, b, c, d = mats[j - 1]
+        if j == last_swept:  # from here on the amplitudes themselves, with every axis
+            v, w = t * v, t * w
         v, w = a * v + b * w, c * v + d * w
-        absorbed.append(_absorbed_in_layer(n[j], q[j], incident, v, w, thicknesses_nm[j - 1],
-                                           lam, pol))
+        per, scale = (1.0, 1.0) if j <= last_swept else (gain, t)
+        absorbed.append(per * _absorbed_in_layer(n[j], q[j], incident, v, w,
+                                                 thicknesses_nm[j - 1], lam, pol))
         z = None if depths is None else depths[j - 1]
+        # a profile (the best design only) from the amplitudes themselves: its depth axis
+        # leads, so it takes every other axis from them
         density.append(None if z is None else
-                       _absorbed_at_depth(n[j], q[j], incident, v, w, z, lam, pol))
+                       _absorbed_at_depth(n[j], q[j], incident, scale * v, scale * w, z, lam,
+                                          pol))
     return {"R": np.abs(r) ** 2, "T": transmittance, "entering": entering, "A": absorbed[::-1],
             "G": density[::-1]}
 
@@ -204,8 +217,10 @@ def _absorbed_in_layer(n, q, incident, v, w, thickness_nm, wavelength_nm, pol="s
     two_k2d = np.minimum(2 * k2 * d, 2 * MAX_IMAG_PHASE)
     with np.errstate(divide="ignore", invalid="ignore"):
         safe = np.where(k2 > 0, 2 * k2, 1.0)
-        forward = np.where(k2 > 0, -np.expm1(-two_k2d) / safe, d)
-        backward = np.where(k2 > 0, np.expm1(two_k2d) / safe, d)
+        # 1 − e^{−x} = (e^x − 1)/e^x: one expm1 for both, each to full relative precision
+        grown = np.expm1(two_k2d)
+        backward = np.where(k2 > 0, grown / safe, d)
+        forward = np.where(k2 > 0, grown / (1 + grown) / safe, d)
         # (e^{ix} − 1)/(ix)·d with x = 2k'd; an evanescent wave has k' → 0, where the series
         # 1 + ix/2 − x²/6 holds to 10⁻¹⁶ (|x| < 10⁻⁴)
         x = 2 * k1 * d

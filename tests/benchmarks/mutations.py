@@ -214,6 +214,11 @@ MUTATIONS = [
      "        for spec, record in zip(specs, records):",
      "        for spec, record in zip(specs, records[::-1]):",
      "a batch of sites stored each with another site's record", "test_region"),
+    ("film-suffix-gain", "tandem/optics/thinfilm.py",
+     "per, scale = (1.0, 1.0) if j <= last_swept else (gain, t)",
+     "per, scale = (1.0, 1.0) if j <= last_swept else (1.0, t)",
+     "the films behind a swept layer given absorption per unit of transmitted amplitude, "
+     "not times |t|²", "test_thinfilm"),
     ("table-back-um", "tandem/output/report.py", "c.back_thickness_nm / 1000.0, 4",
      "c.back_thickness_nm / 100.0, 4", "the design table's back thickness [µm] off by 10",
      "test_cli_design test_api test_one_path"),
