@@ -162,3 +162,18 @@ def test_a_gap_between_grid_points_gets_its_partial_interval():
     gaps = np.array([0.5, 0.63, 1.12, 1.3, 1.77, 2.9, 4.4])
     exact = c0 * (energy[-1] - gaps) + c1 * (energy[-1] ** 2 - gaps**2) / 2
     np.testing.assert_allclose(tandem.flux_above(energy, flux, gaps), exact, rtol=1e-13, atol=0)
+
+
+def test_exp_expm1_keeps_expm1s_digits_where_subtraction_would_cancel():
+    # numpy's exp and expm1 as the reference: e^x − 1 from the exponential is used only where
+    # it keeps its digits (|x| ≥ 0.5, at most a few ulp off); below, numpy's expm1 itself.
+    from tandem.physics.detailed_balance import exp_expm1
+
+    x = np.concatenate([np.geomspace(1e-300, 700, 4000), -np.geomspace(1e-300, 700, 4000),
+                        [0.0, 0.5, -0.5, 0.4999999999, np.inf, -np.inf]])
+    e, em1 = exp_expm1(x)
+    np.testing.assert_array_equal(e, np.exp(x))
+    np.testing.assert_allclose(em1, np.expm1(x), rtol=4e-16, atol=0)
+    small = np.abs(x) < 0.5
+    np.testing.assert_array_equal(em1[small], np.expm1(x[small]))
+    assert exp_expm1(np.float64(1e-12))[1] == np.expm1(1e-12)  # one value

@@ -191,3 +191,26 @@ def test_the_maximum_search_places_a_diodes_maximum_power_point_as_scipy_does():
     centres = np.array([0.1, 0.37, 0.5, 0.93])
     x = golden_maximum(lambda v: -(v - centres) ** 2, np.zeros(4), np.ones(4), 8, 6)
     np.testing.assert_allclose(x, centres, rtol=0, atol=1e-12)
+
+
+def test_the_parabolic_steps_keep_the_three_best_points_as_a_stable_sort_does():
+    # The elementwise bookkeeping of golden_maximum's parabolic steps against numpy's stable
+    # argsort of the four points (the new one last), dropping the lowest: ties (rounded
+    # powers) and NaN (ranked below every number) included.
+    from tandem.physics.junctions import _best_three, _rank, _sorted_three
+
+    rng = np.random.default_rng(3)
+    n = 4000
+    p = np.round(rng.normal(size=(4, n)), 1)  # many ties
+    p[rng.random((4, n)) < 0.05] = np.nan
+    x = rng.random((4, n))
+    points = _sorted_three([(x[i], p[i], _rank(p[i])) for i in range(3)])
+    kept = _best_three(points, (x[3], p[3], _rank(p[3])))
+    order = np.argsort(_rank(p), axis=0, kind="stable")[1:]
+    for i in range(3):
+        np.testing.assert_array_equal(kept[i][0], np.take_along_axis(x, order, 0)[i])
+        np.testing.assert_array_equal(kept[i][1], np.take_along_axis(p, order, 0)[i])
+    # and three alone, before any new point, come out in the stable order of the three
+    order3 = np.argsort(_rank(p[:3]), axis=0, kind="stable")
+    for i in range(3):
+        np.testing.assert_array_equal(points[i][0], np.take_along_axis(x[:3], order3, 0)[i])

@@ -63,10 +63,13 @@ class _Cells:
     def current(self, i: int, v, extra=0.0):
         """Current out of subcell i's junction at junction voltage ``v`` (its diodes, shunt and
         extra terms, with ``extra`` photocurrent), explicit in ``v`` [A/m²]."""
-        x = v / self.vt
-        return (self.j_light[..., i] + extra - self.a[..., i] * np.expm1(x)
-                - self.b[..., i] * np.expm1(x / self.n) - v / self.r_shunt
-                - sum(t.current(v, self.vt) for t in self._terms[i]))
+        j = self.j_light[..., i] + extra - _diodes(self.a[..., i], self.b[..., i], self.n,
+                                                   v / self.vt, self.ideal)[1]
+        if math.isfinite(self.r_shunt):
+            j = j - v / self.r_shunt
+        for t in self._terms[i]:
+            j = j - t.current(v, self.vt)
+        return j
 
     def alone(self, i: int) -> "_Cells":
         """Subcell i as a one-cell chain (no coupling)."""
@@ -84,6 +87,17 @@ class _Cells:
         for i in range(1, self.j_light.shape[-1]):
             v.append(self.voltage(i, current, self.back_gain(v[0]) if i == 1 else 0.0))
         return np.stack(v, axis=-1)
+
+
+def _diodes(a, b, n, x, ideal: bool):
+    """(a·eˣ + b·e^{x/n}/n, a·(eˣ − 1) + b·(e^{x/n} − 1)) at reduced voltage x = qV/kT: the
+    diodes' slope (× kT/q) and their recombination current [A/m²]; ``ideal`` (b = 0): the
+    n = 1 diode alone."""
+    e, em1 = db.exp_expm1(x)
+    if ideal:
+        return a * e, a * em1
+    e_n, em1_n = db.exp_expm1(x / n)
+    return a * e + b * e_n / n, a * em1 + b * em1_n
 
 
 def _cell_voltage(current, j_light, a, b, n, vt, ideal: bool):
@@ -130,10 +144,9 @@ def junction_voltage(current, j_light, a, b, n, vt, ideal: bool, r_shunt: float 
     v = hi.copy()
     log_excess = np.log(np.where(excess > 0, excess, 1.0))
     for _ in range(200):
-        x = v / vt
-        ea, eb = a * np.exp(x), b * np.exp(x / n)
-        recombination = a * np.expm1(x) + b * np.expm1(x / n) + v * g_shunt
-        slope = (ea + eb / n) / vt + g_shunt
+        slope, recombination = _diodes(a, b, n, v / vt, ideal)
+        recombination = recombination + v * g_shunt
+        slope = slope / vt + g_shunt
         for term in extra:
             current_x, slope_x = term.current_slope(v, vt)
             recombination = recombination + current_x
@@ -191,10 +204,9 @@ def golden_maximum(power, lo, hi, iterations=GOLDEN_STEPS, parabolic=PARABOLIC_S
                           np.where(left, p_new, p2), np.where(left, p1, p_new))
     if not parabolic:
         return 0.5 * (lo + hi)
-    xs, ps = np.stack([x1, x2, x3]), np.stack([p1, p2, p3])
-    for _ in range(parabolic):
-        a, b, c = xs
-        fa, fb, fc = ps
+    points = [(x1, p1, _rank(p1)), (x2, p2, _rank(p2)), (x3, p3, _rank(p3))]
+    for step in range(parabolic):
+        (a, fa, _), (b, fb, _), (c, fc, _) = points
         with np.errstate(all="ignore"):
             num = (b - a) ** 2 * (fb - fc) - (b - c) ** 2 * (fb - fa)
             den = (b - a) * (fb - fc) - (b - c) * (fb - fa)
@@ -202,11 +214,39 @@ def golden_maximum(power, lo, hi, iterations=GOLDEN_STEPS, parabolic=PARABOLIC_S
         ok = np.isfinite(vertex) & (den != 0)
         vertex = np.clip(np.where(ok, vertex, 0.5 * (lo + hi)), lo, hi)
         p_v = power(vertex)
-        # keep the three best of the four points
-        xs, ps = np.concatenate([xs, vertex[None]]), np.concatenate([ps, p_v[None]])
-        order = np.argsort(np.where(np.isnan(ps), -np.inf, ps), axis=0)[1:]
-        xs, ps = np.take_along_axis(xs, order, 0), np.take_along_axis(ps, order, 0)
-    return xs[-1]
+        if step == 0:  # from here on the three are kept in ascending order of power
+            points = _sorted_three(points)
+        points = _best_three(points, (vertex, p_v, _rank(p_v)))
+    return points[2][0]
+
+
+def _rank(p):
+    """A power as the parabolic steps rank it: NaN (no power there) below every number."""
+    return np.where(np.isnan(p), -np.inf, p)
+
+
+def _sorted_three(points):
+    """Three (x, p, rank) points in ascending rank, elementwise, ties in their given order
+    (three compare-exchanges of neighbours, as a stable sort does them)."""
+    points = list(points)
+    for i in (0, 1, 0):
+        swap = points[i][2] > points[i + 1][2]
+        first, second = points[i], points[i + 1]
+        points[i] = tuple(np.where(swap, s, f) for f, s in zip(first, second))
+        points[i + 1] = tuple(np.where(swap, f, s) for f, s in zip(first, second))
+    return points
+
+
+def _best_three(points, new):
+    """The three best of three points in ascending rank and a new one, again in ascending
+    rank, elementwise: what a stable sort of the four (the new one last) keeps when its
+    lowest is dropped (the new point goes after every point of equal rank)."""
+    a, b, c = points
+    rank = new[2]
+    past_a, past_b, past_c = a[2] <= rank, b[2] <= rank, c[2] <= rank
+    return [tuple(np.where(past_a, np.where(past_b, vb, vn), va) for va, vb, vn in zip(a, b, new)),
+            tuple(np.where(past_b, np.where(past_c, vc, vn), vb) for vb, vc, vn in zip(b, c, new)),
+            tuple(np.where(past_c, vn, vc) for vc, vn in zip(c, new))]
 
 
 def _bisect(f, lo, hi, iterations: int = 52):
@@ -301,15 +341,18 @@ def _own_mpp(cells: _Cells, j_light, r_series: float, circuits: int):
     r_series = r_series / circuits
 
     def current(v):  # terminal current at junction voltage v: explicit
-        x = v / vt
-        return (jl - cells.a * np.expm1(x) - cells.b * np.expm1(x / cells.n) - v * g_shunt
-                - sum(t.current(v, vt) for t in cells.extra))
+        return current_slope(v, slope=False)[0]
 
-    def current_slope(v):  # (J, dJ/dV_j) from one evaluation of each term, in closed form
-        x = v / vt
-        j = jl - cells.a * np.expm1(x) - cells.b * np.expm1(x / cells.n) - v * g_shunt
-        dj = -(cells.a * np.exp(x) + cells.b * np.exp(x / cells.n) / cells.n) / vt - g_shunt
+    def current_slope(v, slope=True):  # (J, dJ/dV_j) from one evaluation of each term
+        dj, recombination = _diodes(cells.a, cells.b, cells.n, v / vt, cells.ideal)
+        j = jl - recombination
+        dj = -dj / vt - g_shunt
+        if g_shunt:
+            j = j - v * g_shunt
         for t in cells.extra:
+            if not slope:
+                j = j - t.current(v, vt)
+                continue
             j_x, slope_x = t.current_slope(v, vt)
             j, dj = j - j_x, dj - slope_x
         return j, dj
@@ -392,7 +435,7 @@ def _series_general(cells: _Cells, r_series: float, open_circuit=None):
     j_high = stacked.max(axis=-1) if math.isfinite(cells.r_shunt) else stacked.min(axis=-1)
 
     with_terms = [i for i in range(jl.shape[-1]) if any(t.active(i) for t in cells.extra)]
-    if len(with_terms) == 1 and not cells.coupled:
+    if with_terms and not cells.coupled:  # along the first: one voltage solve fewer a step
         k = with_terms[0]
         return _series_along(cells, k, j_high, r_series,
                              None if open_circuit is None else open_circuit[..., k])

@@ -37,6 +37,7 @@ from dataclasses import dataclass, fields
 import numpy as np
 
 from tandem.core.units import K_B_EV, Q
+from tandem.physics.detailed_balance import exp_expm1
 
 CM2_PER_M2 = 1e4  #: A/cm² → A/m²
 
@@ -122,7 +123,7 @@ class BulkRecombination:
         n + p = √((n0 − p0)² + 4n_i²e^x) (from (n0 + Δn)(p0 + Δn) = n_i²e^x), free of the
         cancellation (n0 + p0) + 2Δn suffers in reverse bias; Δn keeps the sign of V."""
         ni2, s, d2 = self._constants
-        drive = ni2 * np.expm1(x)  # n·p − n_i²
+        drive = ni2 * exp_expm1(x)[1]  # n·p − n_i²
         total = np.sqrt(d2 + 4 * (ni2 + drive))  # n·p = n_i² + drive: no second exponential
         return 2 * drive / (s + total), drive, total
 
@@ -130,9 +131,15 @@ class BulkRecombination:
         """J = q·W·R_Auger + J_SRH at junction voltage ``voltage`` and thermal voltage ``vt``
         [A/m²]."""
         dn, drive, total = self._excess(np.asarray(voltage) / vt)
-        rate = drive * (self.low + self.injection * np.abs(dn) ** self.exponent)
-        srh = self.srh_velocity * drive / (total + 2 * self.n_i)
-        return (Q * CM2_PER_M2) * (self.width_cm * rate + srh)  # no term where both are 0
+        current = self.width_cm * drive * (self.low + self.injection * np.abs(dn) ** self.exponent)
+        if self._srh:
+            current = current + self.srh_velocity * drive / (total + 2 * self.n_i)
+        return (Q * CM2_PER_M2) * current  # no term where both are 0
+
+    @functools.cached_property
+    def _srh(self) -> bool:
+        """Whether any subcell has a defect term (skipped otherwise: the Auger-limited case)."""
+        return bool(np.any(self.srh_velocity != 0))
 
     def current_slope(self, voltage, vt):
         """(J, dJ/dV) from one evaluation of the densities, for Newton steps."""
