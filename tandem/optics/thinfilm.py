@@ -33,6 +33,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from tandem.physics.detailed_balance import exp_expm1
+
 #: Largest single-pass attenuation kept in a coherent layer (|e^{iδ}| ≥ e^{−35}).
 MAX_IMAG_PHASE = 35.0
 #: Smallest single-pass intensity transmittance kept in an incoherent layer.
@@ -133,7 +135,12 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s", depths=
     # characteristic matrices M_j = (1/t_j,j+1)·diag(e^{−iδ}, e^{iδ})·[[1, r], [r, 1]]
     r01, t01 = fresnel(n[0], n[1], q[0], q[1], pol)
     m00, m01, m10, m11 = 1 / t01, r01 / t01, r01 / t01, 1 / t01
-    mats = []
+    # Past the last layer whose thickness is an array (a sweep's axis), every matrix is free
+    # of that axis: their product is formed on the smaller arrays and applied once
+    last_swept = max((j for j in range(1, layers + 1) if np.size(thicknesses_nm[j - 1]) > 1),
+                     default=0)
+    mats: list[tuple] = []
+    prefix, suffix = (m00, m01, m10, m11), None
     for j in range(1, layers + 1):
         delta = 2 * np.pi * q[j] * np.asarray(thicknesses_nm[j - 1], dtype=float) / lam
         delta = np.where(delta.imag > MAX_IMAG_PHASE, delta.real + 1j * MAX_IMAG_PHASE, delta)
@@ -142,35 +149,54 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s", depths=
         back, fwd = phase / t, 1 / (phase * t)
         mat = (back, back * r, fwd * r, fwd)
         mats.append(mat)
-        m00, m01, m10, m11 = (m00 * mat[0] + m01 * mat[2], m00 * mat[1] + m01 * mat[3],
-                              m10 * mat[0] + m11 * mat[2], m10 * mat[1] + m11 * mat[3])
+        if j <= last_swept:
+            prefix = _product(prefix, mat)
+        else:
+            suffix = mat if suffix is None else _product(suffix, mat)
+    m00, m01, m10, m11 = prefix if suffix is None else _product(prefix, suffix)
     r = m10 / m00
     t = 1 / m00
     transmittance = np.abs(t) ** 2 * np.real(_flux_factor(n[-1], q[-1], pol)) / incident
     entering = _flux(n[0], q[0], 1, r, pol) / incident
     # amplitudes at the start of each layer, from the exit backwards: vw_j = M_j · vw_{j+1}.
-    # Past the last layer whose thickness is an array (a sweep's axis), vw_j = t·(α_j, β_j)
-    # with (α, β) = M_j…M_L·(1, 0) free of that axis: formed on the smaller arrays, and the
-    # layer's absorption, quadratic in (v, w), is |t|² times that of (α, β)
-    last_swept = max((j for j in range(1, layers + 1) if np.size(thicknesses_nm[j - 1]) > 1),
-                     default=0)
-    absorbed, density = [], []
+    # Absorption is quadratic in them, so the sweep's axis enters only where it must:
+    # behind the last swept layer s, vw_j = t·(α_j, β_j) with (α, β) = M_j…M_L·(1, 0) free of
+    # that axis, and the layer absorbs |t|² times what (α, β) gives; in front of it,
+    # vw_j = P_j·vw_s with P_j = M_j…M_{s−1} free of it, and the layer's absorption is a
+    # Hermitian form in vw_s (:func:`_in_front`): three of its products, shared by those layers
+    absorbed: list = []
+    density: list = []
     v, w = 1.0 + 0j, 0j  # (α, β) at the exit
     gain = np.abs(t) ** 2
+    at_swept: tuple = ()  # |v_s|², |w_s|², v_s·w̄_s
+    ahead: tuple | None = None  # P_j
     for j in range(layers, 0, -1):
-        a, b, c, d = mats[j - 1]
-        if j == last_swept:  # from here on the amplitudes themselves, with every axis
-            v, w = t * v, t * w
-        v, w = a * v + b * w, c * v + d * w
-        per, scale = (1.0, 1.0) if j <= last_swept else (gain, t)
-        absorbed.append(per * _absorbed_in_layer(n[j], q[j], incident, v, w,
-                                                 thicknesses_nm[j - 1], lam, pol))
+        mat = mats[j - 1]
+        weights = _layer_weights(n[j], q[j], thicknesses_nm[j - 1], lam, pol)
+        if j < last_swept:
+            ahead = mat if ahead is None else _product(mat, ahead)
+            p00, p01, p10, p11 = ahead
+            absorbed.append(_form(_in_front(weights, ahead), *at_swept) / incident)
+        else:
+            if j == last_swept:  # the amplitudes themselves, with every axis
+                v, w = t * v, t * w
+            v, w = mat[0] * v + mat[1] * w, mat[2] * v + mat[3] * w
+            square = (np.abs(v) ** 2, np.abs(w) ** 2, v * np.conj(w))
+            if j == last_swept:
+                at_swept = square
+            absorbed.append((1.0 if j <= last_swept else gain) * _form(weights, *square)
+                            / incident)
         z = None if depths is None else depths[j - 1]
+        if z is None:
+            density.append(None)
+            continue
         # a profile (the best design only) from the amplitudes themselves: its depth axis
         # leads, so it takes every other axis from them
-        density.append(None if z is None else
-                       _absorbed_at_depth(n[j], q[j], incident, scale * v, scale * w, z, lam,
-                                          pol))
+        if j < last_swept:
+            vj, wj = p00 * v + p01 * w, p10 * v + p11 * w
+        else:
+            vj, wj = (v, w) if j <= last_swept else (t * v, t * w)
+        density.append(_absorbed_at_depth(n[j], q[j], incident, vj, wj, z, lam, pol))
     return {"R": np.abs(r) ** 2, "T": transmittance, "entering": entering, "A": absorbed[::-1],
             "G": density[::-1]}
 
@@ -187,7 +213,7 @@ def _absorption_factors(n, q, kz, pol):
 
 
 def _absorbed_at_depth(n, q, incident, v, w, depth_nm, wavelength_nm, pol="s"):
-    """The integrand of :func:`_absorbed_in_layer`: the fraction of the incident flux absorbed
+    """The integrand of :func:`_layer_weights`: the fraction of the incident flux absorbed
     per nm at each depth z (nz,) → (nz, …, nE): c·(|v|²e^{−2k''z} + |w|²e^{2k''z}) +
     2Re(c_x v w̄ e^{2ik'z}) (Byrnes, arXiv:1603.02720, absorption at a depth)."""
     kz = 2 * np.pi * q / wavelength_nm
@@ -200,9 +226,41 @@ def _absorbed_at_depth(n, q, incident, v, w, depth_nm, wavelength_nm, pol="s"):
     return local / incident
 
 
-def _absorbed_in_layer(n, q, incident, v, w, thickness_nm, wavelength_nm, pol="s"):
-    """The divergence of the normal Poynting flux integrated over the layer, for the field
-    E = v·e^{ik_z z} + w·e^{−ik_z z} (k_z = 2πq/λ = k' + ik'').
+def _product(m, k):
+    """The 2×2 product m·k of matrices given as (00, 01, 10, 11) arrays."""
+    return (m[0] * k[0] + m[1] * k[2], m[0] * k[1] + m[1] * k[3],
+            m[2] * k[0] + m[3] * k[2], m[2] * k[1] + m[3] * k[3])
+
+
+def _form(weights, vv, ww, vw):
+    """f·|v|² + b·|w|² + 2Re(x·v·w̄) for a layer's :func:`_layer_weights` (f, b, x), from
+    |v|², |w|² and v·w̄."""
+    f, b, x = weights
+    return f * vv + b * ww + 2 * (np.real(x) * vw.real - np.imag(x) * vw.imag)
+
+
+def _in_front(weights, p):
+    """The weights (h_v, h_w, h_x) with which a layer whose amplitudes are P·(v, w) absorbs,
+    in terms of (v, w): :func:`_form` of |v|², |w|², v·w̄.
+
+    With v' = P₀₀v + P₀₁w, w' = P₁₀v + P₁₁w the form f|v'|² + b|w'|² + 2Re(x v' w̄') is
+    h_v|v|² + h_w|w|² + 2Re(h_x v w̄), h_v = f|P₀₀|² + b|P₁₀|² + 2Re(x P₀₀P̄₁₀),
+    h_w = f|P₀₁|² + b|P₁₁|² + 2Re(x P₀₁P̄₁₁), h_x = f P₀₀P̄₀₁ + b P₁₀P̄₁₁ + x P₀₀P̄₁₁ + x̄ P₁₀P̄₀₁
+    (expand and collect; Re(z·conj(X)) = Re(z̄·X))."""
+    f, b, x = weights
+    p00, p01, p10, p11 = p
+    h_v = f * np.abs(p00) ** 2 + b * np.abs(p10) ** 2 + 2 * np.real(x * p00 * np.conj(p10))
+    h_w = f * np.abs(p01) ** 2 + b * np.abs(p11) ** 2 + 2 * np.real(x * p01 * np.conj(p11))
+    h_x = (f * p00 * np.conj(p01) + b * p10 * np.conj(p11) + x * p00 * np.conj(p11)
+           + np.conj(x) * p10 * np.conj(p01))
+    return h_v, h_w, h_x
+
+
+def _layer_weights(n, q, thickness_nm, wavelength_nm, pol="s"):
+    """The weights (f, b, x) of a layer's absorption f·|v|² + b·|w|² + 2Re(x·v·w̄) (divided
+    by the incident flux: :func:`_form`): the divergence of the normal Poynting flux
+    integrated over the layer, for the field E = v·e^{ik_z z} + w·e^{−ik_z z}
+    (k_z = 2πq/λ = k' + ik'').
 
     The integral in closed form, with expm1 so that a weakly absorbing layer keeps its full
     relative precision (its absorptance, not 1 minus the rest, feeds the radiative J0):
@@ -217,20 +275,24 @@ def _absorbed_in_layer(n, q, incident, v, w, thickness_nm, wavelength_nm, pol="s
     two_k2d = np.minimum(2 * k2 * d, 2 * MAX_IMAG_PHASE)
     with np.errstate(divide="ignore", invalid="ignore"):
         safe = np.where(k2 > 0, 2 * k2, 1.0)
-        # 1 − e^{−x} = (e^x − 1)/e^x: one expm1 for both, each to full relative precision
-        grown = np.expm1(two_k2d)
+        # 1 − e^{−x} = (e^x − 1)/e^x: one e^x − 1 for both, each to full relative precision
+        grown = exp_expm1(two_k2d)[1]
         backward = np.where(k2 > 0, grown / safe, d)
         forward = np.where(k2 > 0, grown / (1 + grown) / safe, d)
-        # (e^{ix} − 1)/(ix)·d with x = 2k'd; an evanescent wave has k' → 0, where the series
+        # (e^{ix} − 1)/(ix)·d with x = 2k'd (real): sin x/x + i·2sin²(x/2)/x, two real sines
+        # where a complex expm1 costs several; an evanescent wave has k' → 0, where the series
         # 1 + ix/2 − x²/6 holds to 10⁻¹⁶ (|x| < 10⁻⁴)
         x = 2 * k1 * d
         small = np.abs(x) < 1e-4
-        oscillating = d * np.where(small, 1 + 0.5j * x - x * x / 6,
-                                   np.expm1(1j * x) / np.where(small, 1.0, 1j * x))
+        x_safe = np.where(small, 1.0, x)
+        half = np.sin(0.5 * x)
+        real = d * np.where(small, 1 - x * x / 6, np.sin(x) / x_safe)
+        imag = d * np.where(small, 0.5 * x, 2 * half * half / x_safe)
     c, c_x = _absorption_factors(n, q, kz, pol)
+    oscillating = np.empty(np.broadcast_shapes(real.shape, np.shape(c_x)), dtype=complex)
+    oscillating.real, oscillating.imag = c_x * real, c_x * imag
     # the opaque cap: beyond e^{-35} the backward wave's growth is the cap's, as in δ
-    integral = c * (np.abs(v) ** 2 * forward + np.abs(w) ** 2 * backward)
-    return (integral + 2 * np.real(c_x * v * np.conj(w) * oscillating)) / incident
+    return c * forward, c * backward, oscillating
 
 
 def stack_optics(layers: list[Layer], ambient_index, exit_index, wavelength_nm, kappa=0.0,
