@@ -136,24 +136,37 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s", depths=
     r01, t01 = fresnel(n[0], n[1], q[0], q[1], pol)
     m00, m01, m10, m11 = 1 / t01, r01 / t01, r01 / t01, 1 / t01
     # Past the last layer whose thickness is an array (a sweep's axis), every matrix is free
-    # of that axis: their product is formed on the smaller arrays and applied once
+    # of that axis: their product is formed on the smaller arrays and applied once; that
+    # layer's own matrix is never formed (its two phase factors enter the product directly)
     last_swept = max((j for j in range(1, layers + 1) if np.size(thicknesses_nm[j - 1]) > 1),
                      default=0)
-    mats: list[tuple] = []
+    mats: list[tuple] = []  # M_j's entries, or for the swept layer (e^{−iδ}, e^{iδ}, r, t)
     prefix, suffix = (m00, m01, m10, m11), None
     for j in range(1, layers + 1):
         delta = 2 * np.pi * q[j] * np.asarray(thicknesses_nm[j - 1], dtype=float) / lam
         delta = np.where(delta.imag > MAX_IMAG_PHASE, delta.real + 1j * MAX_IMAG_PHASE, delta)
         r, t = fresnel(n[j], n[j + 1], q[j], q[j + 1], pol)
         phase = np.exp(-1j * delta)  # e^{iδ} is its reciprocal: one complex exponential
+        if j == last_swept:
+            mats.append((phase, 1 / phase, r, t))
+            continue
         back, fwd = phase / t, 1 / (phase * t)
         mat = (back, back * r, fwd * r, fwd)
         mats.append(mat)
-        if j <= last_swept:
+        if j < last_swept:
             prefix = _product(prefix, mat)
         else:
             suffix = mat if suffix is None else _product(suffix, mat)
-    m00, m01, m10, m11 = prefix if suffix is None else _product(prefix, suffix)
+    if last_swept:
+        # M = P·(1/t_s)·diag(e^{−iδ}, e^{iδ})·U with U = [[1, r_s], [r_s, 1]]·(the suffix):
+        # its first column, all that r and t need, is P_a0·U₀₀/t_s·e^{−iδ} + P_a1·U₁₀/t_s·e^{iδ}
+        ahead_phase, behind_phase, r_s, t_s = mats[last_swept - 1]
+        s00, s10 = (1.0, 0.0) if suffix is None else (suffix[0], suffix[2])
+        u00, u10 = (s00 + r_s * s10) / t_s, (r_s * s00 + s10) / t_s
+        m00 = prefix[0] * u00 * ahead_phase + prefix[1] * u10 * behind_phase
+        m10 = prefix[2] * u00 * ahead_phase + prefix[3] * u10 * behind_phase
+    else:
+        m00, m01, m10, m11 = prefix if suffix is None else _product(prefix, suffix)
     r = m10 / m00
     t = 1 / m00
     transmittance = np.abs(t) ** 2 * np.real(_flux_factor(n[-1], q[-1], pol)) / incident
@@ -178,9 +191,12 @@ def coherent(indices, thicknesses_nm, wavelength_nm, kappa=0.0, pol="s", depths=
             p00, p01, p10, p11 = ahead
             absorbed.append(_form(_in_front(weights, ahead), *at_swept) / incident)
         else:
-            if j == last_swept:  # the amplitudes themselves, with every axis
-                v, w = t * v, t * w
-            v, w = mat[0] * v + mat[1] * w, mat[2] * v + mat[3] * w
+            if j == last_swept:  # the amplitudes themselves, with every axis: t·M_s·(α, β)
+                ahead_phase, behind_phase, r_s, t_s = mat
+                v, w = ((t * ahead_phase) * ((v + r_s * w) / t_s),
+                        (t * behind_phase) * ((r_s * v + w) / t_s))
+            else:
+                v, w = mat[0] * v + mat[1] * w, mat[2] * v + mat[3] * w
             square = (np.abs(v) ** 2, np.abs(w) ** 2, v * np.conj(w))
             if j == last_swept:
                 at_swept = square
@@ -272,23 +288,32 @@ def _layer_weights(n, q, thickness_nm, wavelength_nm, pol="s"):
     kz = 2 * np.pi * q / wavelength_nm
     k1, k2 = np.real(kz), np.imag(kz)
     d = np.asarray(thickness_nm, dtype=float)
+    c, c_x = _absorption_factors(n, q, kz, pol)
     two_k2d = np.minimum(2 * k2 * d, 2 * MAX_IMAG_PHASE)
+    x = 2 * k1 * d
+    half = np.sin(0.5 * x)
+    if np.all(k2 > 0) and 2 * np.min(np.abs(k1)) * np.min(d) >= 1e-4:
+        # every wave decays and none is near evanescent (the usual case, and a sweep's whole
+        # size): the factors of the layer folded into c/2k'' and c_x/2k' on the smaller arrays
+        # 1 − e^{−x} = (e^x − 1)/e^x: one e^x − 1 for both, each to full relative precision
+        backward = exp_expm1(two_k2d)[1]
+        forward = backward / (1 + backward)
+        scale, scale_x = c / (2 * k2), c_x / (2 * k1)
+        oscillating = np.empty(np.broadcast_shapes(x.shape, np.shape(scale_x)), dtype=complex)
+        oscillating.real, oscillating.imag = np.sin(x) * scale_x, half * half * (2 * scale_x)
+        return forward * scale, backward * scale, oscillating
     with np.errstate(divide="ignore", invalid="ignore"):
         safe = np.where(k2 > 0, 2 * k2, 1.0)
-        # 1 − e^{−x} = (e^x − 1)/e^x: one e^x − 1 for both, each to full relative precision
         grown = exp_expm1(two_k2d)[1]
         backward = np.where(k2 > 0, grown / safe, d)
         forward = np.where(k2 > 0, grown / (1 + grown) / safe, d)
         # (e^{ix} − 1)/(ix)·d with x = 2k'd (real): sin x/x + i·2sin²(x/2)/x, two real sines
         # where a complex expm1 costs several; an evanescent wave has k' → 0, where the series
         # 1 + ix/2 − x²/6 holds to 10⁻¹⁶ (|x| < 10⁻⁴)
-        x = 2 * k1 * d
         small = np.abs(x) < 1e-4
         x_safe = np.where(small, 1.0, x)
-        half = np.sin(0.5 * x)
         real = d * np.where(small, 1 - x * x / 6, np.sin(x) / x_safe)
         imag = d * np.where(small, 0.5 * x, 2 * half * half / x_safe)
-    c, c_x = _absorption_factors(n, q, kz, pol)
     oscillating = np.empty(np.broadcast_shapes(real.shape, np.shape(c_x)), dtype=complex)
     oscillating.real, oscillating.imag = c_x * real, c_x * imag
     # the opaque cap: beyond e^{-35} the backward wave's growth is the cap's, as in δ
