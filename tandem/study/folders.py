@@ -99,11 +99,13 @@ def write_study(study: StudyResult, folder: str | Path, overwrite: bool = False,
         breakdowns.to_csv(tmp / "loss-breakdown.csv", index=False, float_format="%.6g")
         (tmp / "design-table.md").write_text(markdown_table(study), encoding="utf-8")
         (tmp / "design-table.tex").write_text(latex_table(study), encoding="utf-8")
-        from tandem.output.plots import svg_copies
         from tandem.study.html_report import html_report
 
-        with svg_copies() as svgs:  # the report inlines the figures as drawn for the folder
-            if figures:
+        svgs: dict = {}
+        if figures:  # matplotlib only then (half a second of imports)
+            from tandem.output.plots import svg_copies
+
+            with svg_copies() as svgs:  # the report inlines the figures as drawn for the folder
                 _write_figures(study, tmp / "figures")
         written = sorted(p.name for p in (tmp / "figures").iterdir()) if figures else []
         record = manifest(study, figures, written)

@@ -234,12 +234,12 @@ class Scenario:
     def series(self, period: str | None = None, step_minutes: float | None = None):
         """The spectral series of the scenario's [site] and [weather], or None; ``period`` and
         ``step_minutes`` replace the scenario's (clear skies only)."""
+        site = self.site()
+        if site is None:  # before the sky's modules: pandas and pvlib for nothing
+            return None
         from tandem.design.sky import clear_sky_series, parse_period
         from tandem.design.weather import folder_series, weather_series
 
-        site = self.site()
-        if site is None:
-            return None
         w = self.data.get("weather", {})
         files = self.files or {}
         if files.get("weather") or files.get("spectra_folder"):
