@@ -153,6 +153,8 @@ HEAVY = {"matplotlib", "scipy", "pvlib", "xarray", "pandas", "dask", "distribute
     (["limit", "1.73", "1.12"], set()),
     (["match", "perovskite-wide", "silicon"], set()),
     (["absorbers"], set()),
+    # a study's tables go through pandas; without figures no matplotlib, without a site no pvlib
+    (["study", "--no-figures", "-q", "--out", "s"], {"pandas"}),
 ])
 def test_quick_commands_import_no_heavy_library(tmp_path, args, allowed):
     """A quick command must start fast: the heavy libraries load only where they are used
