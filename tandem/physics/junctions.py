@@ -449,12 +449,15 @@ def _series_general(cells: _Cells, r_series: float, open_circuit=None):
 
 
 def _series_along(cells: _Cells, k: int, j_high, r_series: float, v_open=None):
-    """:func:`_series_general` searched along subcell k's junction voltage, when k alone has
-    extra recombination terms (e.g. an Auger-limited silicon back).
+    """:func:`_series_general` searched along subcell k's junction voltage, k the first
+    subcell with extra recombination terms (e.g. an Auger-limited silicon back, or a step
+    absorber's exact emission in every subcell).
 
-    Its current J(V_k) is explicit, the other junctions' voltages at that current closed-form,
-    so no step solves for k's voltage; J falls as V_k rises, so the terminal voltage rises
-    and the power keeps its single maximum along V_k. Same results as the current search.
+    Its current J(V_k) is explicit, so no step solves for k's voltage: the others' voltages at
+    that current are closed forms where they have no terms of their own, one solve each where
+    they have (where the current search solved every junction); J falls as V_k rises, so the
+    terminal voltage rises and the power keeps its single maximum along V_k. Same results as
+    the current search.
     """
     m = cells.j_light.shape[-1]
 
