@@ -7,6 +7,7 @@ progress to stderr. The light and operating options are declared once (``cli_opt
 
 from __future__ import annotations
 
+import sys
 from pathlib import Path
 from typing import Annotated, Optional
 
@@ -465,4 +466,18 @@ app.command("region")(friendly(shared(region)))
 
 def main() -> None:
     """Console entry point (``tandem``): framework errors, too, are one line and exit 2."""
+    if sys.argv[1:2] != ["region"]:
+        hide_dask()
     run_app(app)
+
+
+def hide_dask() -> None:
+    """Make dask look uninstalled to this process (unless it is already imported).
+
+    xarray imports dask.array when it builds its first dataset (0.6 s of CPU) and
+    dask.distributed when it writes netCDF (0.2 s) whenever dask is installed, though tandem's
+    datasets hold numpy arrays; only ``tandem region`` uses dask, so a command line's process
+    running anything else hides it, as if not installed. A Python session is left alone (its
+    own xarray work may want dask)."""
+    if "dask" not in sys.modules:
+        sys.modules["dask"] = None  # type: ignore[assignment]  # import dask → ImportError

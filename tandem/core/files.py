@@ -6,7 +6,6 @@ import contextlib
 import json
 import os
 import shutil
-import sys
 import tempfile
 from pathlib import Path
 from typing import Any, Callable
@@ -365,24 +364,8 @@ def write_parquet(frame, path) -> None:
 
 
 def write_netcdf(dataset, path) -> None:
-    """An xarray Dataset as netCDF-3 (scipy's writer: no netCDF library needed).
-
-    xarray asks dask for a write lock whenever dask is installed, importing dask.distributed
-    to ask (0.2 s of a yield's CPU) though tandem's datasets hold numpy arrays; where no
-    cluster can be in use (dask.distributed not imported), dask is hidden for the call, as if
-    it were not installed, and the file is the same."""
-    if "distributed" in sys.modules:
-        dataset.to_netcdf(path, engine="scipy")
-        return
-    hidden = sys.modules.get("dask")
-    sys.modules["dask"] = None  # type: ignore[assignment]  # import dask → ImportError
-    try:
-        dataset.to_netcdf(path, engine="scipy")
-    finally:
-        if hidden is None:
-            del sys.modules["dask"]
-        else:
-            sys.modules["dask"] = hidden
+    """An xarray Dataset as netCDF-3 (scipy's writer: no netCDF library needed)."""
+    dataset.to_netcdf(path, engine="scipy")
 
 
 def write_csv(frame, path) -> None:
