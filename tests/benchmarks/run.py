@@ -458,27 +458,39 @@ def case_d():
                   ["yield", "perovskite-wide", "silicon", *site, "--step", "15", "-q"])
 
 
+def _importable(name: str) -> bool:
+    """A real package, not a pseudo-module (Cython's ``cython_runtime`` has no spec)."""
+    import importlib.util
+
+    try:
+        return importlib.util.find_spec(name) is not None
+    except ValueError:
+        return False
+
+
 def import_floor(args: list[str], repeats: int = 3) -> tuple[float, list[str]]:
-    """The CPU of importing, alone, the libraries ``tandem ARGS`` loads (read from
-    ``python -X importtime``; the standard library and tandem itself left out): what the
-    command cannot go below while it needs them. Least of ``repeats`` runs, interpreter start
-    included, as in :func:`whole_process`."""
+    """The CPU of importing, alone, the libraries ``tandem ARGS`` loads (the modules it holds
+    when it ends, through the console entry point; the standard library and tandem itself
+    left out): what the command cannot go below while it needs them. Least of ``repeats``
+    runs, interpreter start included, as in :func:`whole_process`."""
+    import json
     import shutil
     import subprocess
     import tempfile
 
     env = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
+    probe = ("import sys, json; sys.argv = ['tandem'] + sys.argv[1:]; from tandem.cli import main\n"
+             "try:\n    main()\nexcept SystemExit:\n    pass\n"
+             "print(json.dumps(sorted({n.split('.')[0] for n, m in list(sys.modules.items()) "
+             "if m is not None})))")
     with tempfile.TemporaryDirectory() as folder:
-        run = subprocess.run([sys.executable, "-X", "importtime", "-m", "tandem", *args],
-                             cwd=folder, capture_output=True, text=True, env=env, check=True)
-    loaded = {line.rsplit("|", 1)[-1].strip().split(".")[0]
-              for line in run.stderr.splitlines() if line.startswith("import time:")}
-    import importlib.util
-
-    libraries = sorted(n for n in loaded if n.isidentifier() and not n.startswith("_")
-                       and n not in sys.stdlib_module_names
-                       and n not in ("tandem", "sitecustomize", "usercustomize")
-                       and importlib.util.find_spec(n) is not None)  # tried, absent: skipped
+        run = subprocess.run([sys.executable, "-c", probe, *args], cwd=folder,
+                             capture_output=True, text=True, env=env, check=True)
+    loaded = json.loads(run.stdout.strip().splitlines()[-1])
+    libraries = [n for n in loaded if n.isidentifier() and not n.startswith("_")
+                 and n not in sys.stdlib_module_names
+                 and n not in ("tandem", "sitecustomize", "usercustomize")
+                 and _importable(n)]
     timer = shutil.which("time") or "/usr/bin/time"
     best = math.inf
     for _ in range(repeats):
