@@ -466,18 +466,24 @@ app.command("region")(friendly(shared(region)))
 
 def main() -> None:
     """Console entry point (``tandem``): framework errors, too, are one line and exit 2."""
-    if sys.argv[1:2] != ["region"]:
-        hide_dask()
-    run_app(app)
+    hidden = sys.argv[1:2] != ["region"] and hide_dask()
+    try:
+        run_app(app)
+    finally:  # called in a Python process that goes on (a test), dask is back afterwards
+        if hidden and "dask" in sys.modules and sys.modules["dask"] is None:
+            del sys.modules["dask"]
 
 
-def hide_dask() -> None:
-    """Make dask look uninstalled to this process (unless it is already imported).
+def hide_dask() -> bool:
+    """Make dask look uninstalled to this process (unless it is already imported); whether
+    it did.
 
     xarray imports dask.array when it builds its first dataset (0.6 s of CPU) and
     dask.distributed when it writes netCDF (0.2 s) whenever dask is installed, though tandem's
     datasets hold numpy arrays; only ``tandem region`` uses dask, so a command line's process
-    running anything else hides it, as if not installed. A Python session is left alone (its
-    own xarray work may want dask)."""
-    if "dask" not in sys.modules:
-        sys.modules["dask"] = None  # type: ignore[assignment]  # import dask → ImportError
+    running anything else hides it, as if not installed. The library never does (a Python
+    session's own xarray work may want dask, and xarray keeps the answer)."""
+    if "dask" in sys.modules:
+        return False
+    sys.modules["dask"] = None  # type: ignore[assignment]  # import dask → ImportError
+    return True
