@@ -241,3 +241,19 @@ def test_the_command_line_keeps_dask_out_of_every_command_but_region(tmp_path):
     run = subprocess.run([sys.executable, "-c", probe_region, "region", "--help"],
                          capture_output=True, text=True, timeout=300, cwd=tmp_path)
     assert run.returncode == 0 and run.stdout.split("\n")[-2].startswith("0 "), run.stderr[-2000:]
+
+
+def test_the_console_entry_point_gives_dask_back_to_a_process_that_goes_on(monkeypatch, capsys):
+    # main() called in a Python process (as the hostile-input tests do): dask is hidden while
+    # the command runs and importable again afterwards
+    pytest.importorskip("dask")
+    from tandem.cli.app import main
+
+    monkeypatch.delitem(sys.modules, "dask", raising=False)
+    monkeypatch.setattr(sys, "argv", ["tandem", "limit", "1.73", "1.12", "--json"])
+    with pytest.raises(SystemExit) as ended:
+        main()
+    assert ended.value.code == 0 and '"efficiency_2t_pct"' in capsys.readouterr().out
+    import dask  # noqa: F401
+
+    assert sys.modules["dask"] is not None
