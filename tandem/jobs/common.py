@@ -21,10 +21,11 @@ Progress = Callable[[int, int], None]
 
 #: Measured throughput on the 2-core reference machine (tests/benchmarks/run.py; rounded down):
 #: configurations per second for each job, and the limits beyond which a run must be asked for.
-RATES = {"map": 3.0e5, "match": 1.0e4, "spread": 8.0e3,
-         # a clear year (4,451 steps × 11 gaps × 16 thicknesses), perovskite over CIGS: 1.9 s,
-         # 408,000 a second (the 1e6 used before predated recombination in the bulk, below)
-         "yield": 4.0e5}
+RATES = {"map": 4.0e5, "match": 1.0e4, "spread": 8.0e3,
+         # a clear year (4,451 steps × 11 gaps × 16 thicknesses), perovskite over CIGS: 0.81–0.89
+         # s, 880,000–970,000 a second in a slow hour of the 2-core machine (1.9 s, 408,000,
+         # before the searches' bookkeeping became elementwise, 2026-12-04)
+         "yield": 8.0e5}
 LIMIT_SECONDS, LIMIT_BYTES = 600.0, 2 * 2**30
 #: Resident memory of a tandem process before its job (numpy, scipy, matplotlib and the tool
 #: imported: `tandem map` of 41 × 21 gaps over absorbers peaked at 185 MiB, the whole tree
@@ -33,9 +34,10 @@ PROCESS_BYTES = 180 * 2**20
 #: A gap map's memory at its peak, per grid point: the grids, a chunk's arrays, the table and
 #: its files (a 901 × 701 map measured 183 MB above the command's own 199 MB: 290 bytes)
 MAP_BYTES = 300.0
-#: Writing a map's tables (CSV, Parquet) and figures, per gap pair: five times its computing
-#: (801 × 801 took 11.8 s and 1601 × 1201 34.9 s whole, 18 µs a pair, of which 3.3 µs compute)
-MAP_OUTPUT_SECONDS = 15e-6
+#: Writing a map's tables (CSV, Parquet) and figures, per gap pair: about twice its computing
+#: (801 × 801 took 6.8 s and 1601 × 1201 13.9 s whole on 2026-12-04, 7.2 µs a pair, of which
+#: 2.4 µs compute; 18 µs a pair before the tables went through pyarrow)
+MAP_OUTPUT_SECONDS = 6e-6
 
 
 def map_work(pairs: int, per_pair: float = 1.0) -> tuple[float, float]:
@@ -45,10 +47,11 @@ def map_work(pairs: int, per_pair: float = 1.0) -> tuple[float, float]:
 
 
 #: A pair whose absorber has bulk recombination (Auger, SRH: the bundled silicon) solves the
-#: full balance at every step: the same year over silicon took 17.4 s, 45,000 a second (9×)
-BULK_COST = 9.0
-#: Series or shunt resistance (the general search): the silicon year 16.9 → 23.5 s (1.4×)
-RESISTIVE_COST = 1.4
+#: full balance at every step: the same year over silicon took 3.54 s, 221,000 a second (4.0×;
+#: 9× before the second round of 2026-12-04)
+BULK_COST = 4.0
+#: Series or shunt resistance (the general search): the silicon year 3.58 → 4.38 s (1.22×)
+RESISTIVE_COST = 1.25
 
 
 def yield_cost(operating: OperatingPoint, front: Absorber, back: Absorber) -> float:
@@ -71,10 +74,11 @@ WORKER_BYTES = 350 * 2**20
 
 #: A layer-stack solve's cost: per front thickness (the wafer's trace, the currents) and per
 #: layer, photon energy and front thickness (the films' fields), seconds; and the bytes held
-#: per layer, energy and thickness solved at once. Measured on the bundled wafer stack (770
-#: thickness solves of 7 layers, 26.3 s) and a 64-layer mirror (139 solves, 27.1 s); memory by
-#: tests/benchmarks/estimates.py (mirrors of 67 and 131 layers: 1,398 and 2,526 MiB peak).
-STACK_SOLVE_SECONDS, STACK_CELL_SECONDS, STACK_CELL_BYTES = 0.013, 1.3e-6, 70.0
+#: per layer, energy and thickness solved at once. Set from tests/benchmarks/estimates.py on
+#: 2026-12-04 after the films' second round: the bundled wafer stack's match (770 thickness
+#: solves of 7 layers) 9.8 s whole, mirrors of 67 and 131 layers 12.9 and 23.9 s (0.013 s
+#: and 1.3e-6 s before it); memory: mirrors of 67 and 131 layers 1,255 and 2,333 MiB peak.
+STACK_SOLVE_SECONDS, STACK_CELL_SECONDS, STACK_CELL_BYTES = 0.006, 0.6e-6, 70.0
 #: Solves of one thickness a match adds to its grid per swept combination: the bisection of
 #: each crossing and the four-terminal refinement (8 to 19 counted)
 STACK_REFINE_SOLVES = 20
