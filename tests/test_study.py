@@ -160,7 +160,7 @@ BAD = [
     # a map beyond memory (about 300 bytes a pair, as the map command measures it)
     ("front_gap_range_eV = [1.5, 2.0, 0.05]\nback_gap_range_eV = [0.9, 1.3, 0.05]",
      "front_gap_range_eV = [1.4, 2.3, 0.0002]\nback_gap_range_eV = [0.8, 1.5, 0.0002]",
-     "'map' has 15,758,001 gap pairs: about 289 s and 4.6 GiB"),
+     "'map' has 15,758,001 gap pairs: about 134 s and 4.6 GiB"),
     # the middle contact belongs to three terminals; layer stacks rank by two or four
     ("[report]", "[electrical]\nmiddle_resistance_ohm_cm2 = 2\n[report]",
      "'electrical.middle_resistance_ohm_cm2' applies to three terminals"),
