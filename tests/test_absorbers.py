@@ -246,6 +246,17 @@ def test_the_bundled_files_need_no_database_and_another_entry_names_the_extra(tm
     with pytest.raises(MissingExtra, match=r"main/Au/Johnson.*pip install 'tandemcell\[stacks\]'"):
         load_stack(str(other))
     database_index.cache_clear()
+    # an absorber file's α from an entry tandem does not ship: the same line, not a field's
+    from tandem.optics.database import database_alpha
+
+    silicon = (tandem.core.files.bundled_dir("absorbers") / "silicon.toml").read_text()
+    assert 'database = "main/Si/Green-2008"' in silicon
+    other = tmp_path / "silicon-elsewhere.toml"
+    other.write_text(silicon.replace("main/Si/Green-2008", "main/Si/Aspnes"))
+    database_alpha.cache_clear()
+    with pytest.raises(MissingExtra, match=r"main/Si/Aspnes.*pip install 'tandemcell\[stacks\]'"):
+        tandem.load_absorber(str(other))
+    database_alpha.cache_clear()
 
 
 # --- the edge-model registry ----------------------------------------------------------------

