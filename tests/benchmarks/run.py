@@ -19,7 +19,6 @@ from __future__ import annotations
 
 import argparse
 import gc
-import math
 import os
 import resource
 import sys
@@ -413,33 +412,37 @@ def compiled_once() -> None:
     compileall.compile_dir(str(Path(tandem.__file__).parent), quiet=1)
 
 
-def whole_process(label: str, args: list[str], repeats: int = 1) -> float:
-    """Run ``tandem ARGS`` as a user would, in a scratch folder: wall time, CPU and peak memory
-    (through /usr/bin/time, so the memory is the command's own, not this script's); the run
-    of least CPU of ``repeats`` (a sub-second command moves by a third with the machine's
-    load)."""
+def _least_cpu(command: list[str], repeats: int) -> tuple[float, float, int]:
+    """Run ``command`` ``repeats`` times, each in a scratch folder through /usr/bin/time (so the
+    figures are the command's own, not this script's), with the bytecode written as on a
+    user's machine from the second run on (an environment with PYTHONDONTWRITEBYTECODE compiled
+    27 of the tool's modules at every start, 70-80 ms of each command's CPU): the run of least
+    CPU, as (CPU s, wall s, peak KiB)."""
     import shutil
     import subprocess
     import tempfile
 
     timer = shutil.which("time") or "/usr/bin/time"
-    compiled_once()
-    # as on a user's machine from the second run on: the bytecode read, not compiled again
-    # (an environment with PYTHONDONTWRITEBYTECODE compiled 27 of the tool's modules at every
-    # start, 70-80 ms of each command's CPU)
     env = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
     runs = []
     for _ in range(repeats):
         with tempfile.TemporaryDirectory() as folder:
             report = Path(folder) / "time.txt"
             t0 = time.perf_counter()
-            subprocess.run([timer, "-f", "%U %S %M", "-o", str(report), sys.executable, "-m",
-                            "tandem", *args], cwd=folder, check=True, stdout=subprocess.DEVNULL,
-                           stderr=subprocess.DEVNULL, env=env)
+            subprocess.run([timer, "-f", "%U %S %M", "-o", str(report), *command], cwd=folder,
+                           check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
+                           env=env)
             wall = time.perf_counter() - t0
             user, system, kib = report.read_text().split()[-3:]
         runs.append((float(user) + float(system), wall, int(kib)))
-    cpu, wall, kib = min(runs)
+    return min(runs)
+
+
+def whole_process(label: str, args: list[str], repeats: int = 1) -> float:
+    """Run ``tandem ARGS`` as a user would: wall time, CPU and peak memory of the run of least
+    CPU of ``repeats`` (a sub-second command moves by a third with the machine's load)."""
+    compiled_once()
+    cpu, wall, kib = _least_cpu([sys.executable, "-m", "tandem", *args], repeats)
     best = f" (least of {repeats})" if repeats > 1 else ""
     print(f"  {label:<54} {wall:6.2f} s wall {cpu:6.2f} s CPU  peak {kib / 1024:5.0f} MiB{best}")
     return cpu
@@ -474,7 +477,6 @@ def import_floor(args: list[str], repeats: int = 3) -> tuple[float, list[str]]:
     left out): what the command cannot go below while it needs them. Least of ``repeats``
     runs, interpreter start included, as in :func:`whole_process`."""
     import json
-    import shutil
     import subprocess
     import tempfile
 
@@ -491,15 +493,7 @@ def import_floor(args: list[str], repeats: int = 3) -> tuple[float, list[str]]:
                  and n not in sys.stdlib_module_names
                  and n not in ("tandem", "sitecustomize", "usercustomize")
                  and _importable(n)]
-    timer = shutil.which("time") or "/usr/bin/time"
-    best = math.inf
-    for _ in range(repeats):
-        with tempfile.TemporaryDirectory() as folder:
-            report = Path(folder) / "time.txt"
-            subprocess.run([timer, "-f", "%U %S", "-o", str(report), sys.executable, "-c",
-                            "import " + ", ".join(libraries)], cwd=folder, check=True, env=env)
-            user, system = report.read_text().split()[-2:]
-        best = min(best, float(user) + float(system))
+    best = _least_cpu([sys.executable, "-c", "import " + ", ".join(libraries)], repeats)[0]
     return best, libraries
 
 
