@@ -289,22 +289,20 @@ def _layer_weights(n, q, thickness_nm, wavelength_nm, pol="s"):
     k1, k2 = np.real(kz), np.imag(kz)
     d = np.asarray(thickness_nm, dtype=float)
     c, c_x = _absorption_factors(n, q, kz, pol)
-    two_k2d = np.minimum(2 * k2 * d, 2 * MAX_IMAG_PHASE)
+    # 1 − e^{−x} = (e^x − 1)/e^x: one e^x − 1 for both waves, each to full relative precision
+    # (the opaque cap: beyond e^{-35} the backward wave's growth is the cap's, as in δ)
+    grown = exp_expm1(np.minimum(2 * k2 * d, 2 * MAX_IMAG_PHASE))[1]
     x = 2 * k1 * d
     half = np.sin(0.5 * x)
     if np.all(k2 > 0) and 2 * np.min(np.abs(k1)) * np.min(d) >= 1e-4:
         # every wave decays and none is near evanescent (the usual case, and a sweep's whole
         # size): the factors of the layer folded into c/2k'' and c_x/2k' on the smaller arrays
-        # 1 − e^{−x} = (e^x − 1)/e^x: one e^x − 1 for both, each to full relative precision
-        backward = exp_expm1(two_k2d)[1]
-        forward = backward / (1 + backward)
         scale, scale_x = c / (2 * k2), c_x / (2 * k1)
         oscillating = np.empty(np.broadcast_shapes(x.shape, np.shape(scale_x)), dtype=complex)
         oscillating.real, oscillating.imag = np.sin(x) * scale_x, half * half * (2 * scale_x)
-        return forward * scale, backward * scale, oscillating
+        return grown / (1 + grown) * scale, grown * scale, oscillating
     with np.errstate(divide="ignore", invalid="ignore"):
         safe = np.where(k2 > 0, 2 * k2, 1.0)
-        grown = exp_expm1(two_k2d)[1]
         backward = np.where(k2 > 0, grown / safe, d)
         forward = np.where(k2 > 0, grown / (1 + grown) / safe, d)
         # (e^{ix} − 1)/(ix)·d with x = 2k'd (real): sin x/x + i·2sin²(x/2)/x, two real sines
@@ -316,7 +314,6 @@ def _layer_weights(n, q, thickness_nm, wavelength_nm, pol="s"):
         imag = d * np.where(small, 0.5 * x, 2 * half * half / x_safe)
     oscillating = np.empty(np.broadcast_shapes(real.shape, np.shape(c_x)), dtype=complex)
     oscillating.real, oscillating.imag = c_x * real, c_x * imag
-    # the opaque cap: beyond e^{-35} the backward wave's growth is the cap's, as in δ
     return c * forward, c * backward, oscillating
 
 

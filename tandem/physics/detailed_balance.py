@@ -25,8 +25,8 @@ from tandem.core.units import BB_FLUX_PREFACTOR, K_B_EV, Q
 def exp_expm1(x):
     """(eˣ, eˣ − 1) elementwise: eˣ − 1 by subtraction where |x| ≥ 0.5 (the exponential's
     relative error times e^x/(e^x − 1) ≤ 2.6 there), by ``np.expm1`` below, where the
-    subtraction would cancel. numpy's expm1 costs twice its exp (88 against 42 µs on 5,000 values, no
-    vectorised kernel), and the maximum-power searches evaluate it at every step."""
+    subtraction would cancel. numpy's expm1 costs twice its exp (88 against 42 µs on 5,000
+    values: no vectorised kernel), and the maximum-power searches evaluate it at every step."""
     x = np.asarray(x, dtype=float)
     e = np.exp(x)
     if x.ndim == 0:
