@@ -533,6 +533,9 @@ def _more_cases():
         (lambda: database_alpha("main/Si"), "expected", "shelf/book/page"),
         (lambda: database_alpha("main/Si/Nobody-1900"), "not in the database", "Error"),
         (lambda: database_index("main-Si-Green"), "is not", "shelf/book/page"),
+        # a name too long for the file system to look up a shipped copy by
+        (lambda: database_alpha("main/" + "a" * 300 + "/p"), "not in the database", "Error"),
+        (lambda: database_index("main/" + "a" * 300 + "/p"), "is not in the database", "Error"),
         (lambda: parse_period("day:2026-06", "UTC", 60), "a day is written", "YYYY-MM-DD"),
         (lambda: clear_sky_series(polar, parse_period("day:2026-12-21", "UTC", 60)),
          "the sun never rises", "over this period"),

@@ -26,12 +26,23 @@ def shipped_copy(entry: str, kind: str) -> Path:
     return _CACHED_ENTRIES / (prefix + entry.replace("/", "__") + ".npz")
 
 
+def _shipped(entry: str, kind: str) -> Path | None:
+    """:func:`shipped_copy` where it exists, else None; a name the file system refuses (one
+    too long to look up) is no shipped entry either, and goes on to the database's own
+    one-line refusal."""
+    path = shipped_copy(entry, kind)
+    try:
+        return path if path.is_file() else None
+    except OSError:
+        return None
+
+
 @functools.lru_cache(maxsize=32)
 def database_alpha(entry: str):
     """α [cm⁻¹] on an ascending energy grid [eV] for a refractive-index database entry: the
     shipped binary copy when there is one, else :func:`read_database_alpha`."""
-    cached = shipped_copy(entry, "alpha")
-    if cached.is_file():
+    cached = _shipped(entry, "alpha")
+    if cached is not None:
         with np.load(cached) as data:
             return data["energy_eV"].copy(), data["alpha_per_cm"].copy()
     return read_database_alpha(entry)
@@ -90,8 +101,8 @@ def database_index(entry: str):
     the shipped binary copy when there is one (importing the database package and reading
     its catalogue cost about 2 s for a bundled stack's four entries), else
     :func:`read_database_index`. Cached: callers must not change the arrays."""
-    cached = shipped_copy(entry, "index")
-    if cached.is_file():
+    cached = _shipped(entry, "index")
+    if cached is not None:
         with np.load(cached) as data:
             return data["wavelength_nm"].copy(), data["index"].copy()
     return read_database_index(entry)
