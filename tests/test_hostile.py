@@ -1,6 +1,7 @@
 """Hostile inputs across every command: one clear line, exit code 2, no traceback, nothing
 written (consistency tests of the door; each case is a finding or a neighbour of one)."""
 
+import errno
 import subprocess
 import sys
 from pathlib import Path
@@ -346,3 +347,28 @@ def test_two_outputs_of_one_command_may_not_share_a_file(tmp_path, monkeypatch):
     res = CliRunner().invoke(app, ["limit", "1.34", "--plot", "same.png", "--losses", "./same.png"])
     assert res.exit_code == 2 and "are the same file" in res.output
     assert not list(tmp_path.iterdir())
+
+
+@pytest.mark.parametrize("args", [("match", "perovskite-wide", "x" * 300),
+                                  ("match", "--stack", "x" * 300),
+                                  ("yield", "--scenario", "x" * 300),
+                                  ("study", "x" * 300)])
+def test_a_name_too_long_to_look_up_is_one_line_that_says_so(args, tmp_path, monkeypatch):
+    # the file system refuses a 300-character name (ENAMETOOLONG) while the tool only looks it
+    # up: one line saying it cannot be used (not 'cannot write': nothing was being written)
+    monkeypatch.chdir(tmp_path)
+    res = runner.invoke(app, list(args))
+    assert res.exit_code == 2, res.output[-600:]
+    lines = [line for line in res.stderr.strip().splitlines() if line.strip()]
+    assert len(lines) == 1 and lines[0].startswith("error:"), res.stderr
+    assert "cannot write" not in res.stderr
+    assert not list(tmp_path.iterdir())
+
+
+def test_a_full_disk_is_still_a_failed_write():
+    from tandem.core.errors import os_error_line
+
+    assert os_error_line(OSError(errno.ENOSPC, "No space left on device", "t.csv")) == \
+        "cannot write 't.csv': No space left on device"
+    assert os_error_line(OSError(errno.ENAMETOOLONG, "File name too long", "x")).startswith(
+        "cannot use 'x'")

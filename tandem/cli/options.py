@@ -21,7 +21,7 @@ from rich.markup import escape as _markup_escape
 from rich.table import Table
 
 import tandem
-from tandem.core.errors import TandemInputError
+from tandem.core.errors import TandemInputError, os_error_line
 
 #: control characters (ESC, BEL, ...) in names and file content: shown as \xNN, never sent
 _CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f]")
@@ -525,11 +525,10 @@ def friendly(command):
             return command(*args, **kwargs)
         except TandemInputError as exc:
             err.print(f"[bold red]error:[/] {escape(str(exc))}", highlight=False, soft_wrap=True)
-        except OSError as exc:  # a full disk, a read-only place, a file-size limit, a closed pipe
-            where = f" '{exc.filename}'" if getattr(exc, "filename", None) else ""
+        except OSError as exc:  # a full disk, a read-only place, a name too long to look up
             try:
-                err.print(f"[bold red]error:[/] cannot write{escape(where)}: "
-                          f"{escape(exc.strerror or str(exc))}", highlight=False, soft_wrap=True)
+                err.print(f"[bold red]error:[/] {escape(os_error_line(exc))}", highlight=False,
+                          soft_wrap=True)
             except OSError:
                 pass
         raise typer.Exit(2)
